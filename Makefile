@@ -1,0 +1,110 @@
+# eigenlog build. `make` builds the library and program; `make test` installs
+# what is missing, builds, runs every test, then runs them again under
+# AddressSanitizer + UndefinedBehaviorSanitizer. See DEVELOPERS.md.
+
+CC      ?= cc
+PKGS    := lapacke openblas fftw3
+# Debian packages the build and the tests need (make deps installs the missing).
+DEB_PKGS := build-essential pkg-config liblapacke-dev libopenblas-dev \
+            libfftw3-dev libcmocka-dev
+
+PKG_CFLAGS := $(shell pkg-config --cflags $(PKGS) 2>/dev/null)
+PKG_LIBS   := $(shell pkg-config --libs $(PKGS) 2>/dev/null || echo -llapacke -lopenblas -lfftw3)
+CMOCKA_CFLAGS := $(shell pkg-config --cflags cmocka 2>/dev/null)
+CMOCKA_LIBS   := $(shell pkg-config --libs cmocka 2>/dev/null || echo -lcmocka)
+
+WARN    := -Wall -Wextra -Wpedantic -Werror -Wshadow -Wstrict-prototypes \
+           -Wmissing-prototypes -Wformat=2
+BASE_CFLAGS := -std=c11 -D_POSIX_C_SOURCE=200809L $(WARN) $(PKG_CFLAGS) -Isrc -MMD -MP
+OPT_CFLAGS  ?= -O2 -g
+SAN_CFLAGS  := -O1 -g -fno-omit-frame-pointer -fsanitize=address,undefined \
+               -fno-sanitize-recover=all
+LDLIBS_ALL  = $(PKG_LIBS) -lpthread -lm
+
+LIB_SRC  := $(sort $(wildcard src/el_*.c))
+CLI_SRC  := src/main.c $(sort $(wildcard src/cli_*.c))
+TEST_SRC := $(sort $(wildcard tests/test_*.c))
+TOOL_SRC := $(sort $(wildcard bench/*.c))
+
+# Two build flavours share one rule set: rel (optimised) and san (sanitizers).
+define FLAVOUR
+$(1)_DIR    := build/$(1)
+$(1)_LIB    := build/$(1)/libeigenlog.a
+$(1)_BIN    := build/$(1)/eigenlog
+$(1)_OBJ    := $$(patsubst src/%.c,build/$(1)/obj/%.o,$$(LIB_SRC))
+$(1)_CLIOBJ := $$(patsubst src/%.c,build/$(1)/obj/%.o,$$(CLI_SRC))
+$(1)_TESTS  := $$(patsubst tests/%.c,build/$(1)/tests/%,$$(TEST_SRC))
+$(1)_TOOLS  := $$(patsubst bench/%.c,build/$(1)/bench/%,$$(TOOL_SRC))
+
+build/$(1)/obj/%.o: src/%.c
+	@mkdir -p $$(dir $$@)
+	$$(CC) $$(BASE_CFLAGS) $(2) -c $$< -o $$@
+
+$$($(1)_LIB): $$($(1)_OBJ)
+	@rm -f $$@
+	$$(AR) rcs $$@ $$^
+
+$$($(1)_BIN): $$($(1)_CLIOBJ) $$($(1)_LIB)
+	$$(CC) $(2) $$($(1)_CLIOBJ) $$($(1)_LIB) $$(LDLIBS_ALL) -o $$@
+
+build/$(1)/tests/%: tests/%.c tests/el_test.h $$($(1)_LIB)
+	@mkdir -p $$(dir $$@)
+	$$(CC) $$(BASE_CFLAGS) $$(CMOCKA_CFLAGS) $(2) -Itests $$< $$($(1)_LIB) \
+	    $$(CMOCKA_LIBS) $$(LDLIBS_ALL) -o $$@
+
+build/$(1)/bench/%: bench/%.c $$($(1)_LIB)
+	@mkdir -p $$(dir $$@)
+	$$(CC) $$(BASE_CFLAGS) $(2) $$< $$($(1)_LIB) $$(LDLIBS_ALL) -o $$@
+
+-include $$($(1)_OBJ:.o=.d) $$($(1)_CLIOBJ:.o=.d)
+endef
+
+$(eval $(call FLAVOUR,rel,$(OPT_CFLAGS)))
+$(eval $(call FLAVOUR,san,$(SAN_CFLAGS)))
+
+.PHONY: all deps demo test check check-rel check-san bench calibrate clean fixtures
+.DEFAULT_GOAL := all
+
+all: $(rel_BIN) $(rel_LIB)
+
+# Installs the Debian packages that are missing: with apt-get when root,
+# otherwise prints the exact command to run.
+deps:
+	@missing=""; for p in $(DEB_PKGS); do \
+	  dpkg-query -W -f='$${Status}' $$p 2>/dev/null | grep -q 'install ok installed' || missing="$$missing $$p"; \
+	done; \
+	if [ -z "$$missing" ]; then echo "deps: all present"; \
+	elif [ "$$(id -u)" = 0 ]; then \
+	  echo "deps: installing$$missing"; \
+	  apt-get update -qq && DEBIAN_FRONTEND=noninteractive apt-get install -y -qq --no-install-recommends $$missing; \
+	else \
+	  echo "deps: missing$$missing; run:"; \
+	  echo "  sudo apt-get install -y$$missing"; exit 1; \
+	fi
+
+demo: deps
+	@$(MAKE) --no-print-directory all
+	./build/rel/eigenlog assess datasets/booster_pump.csv
+
+test: deps
+	@$(MAKE) --no-print-directory check
+
+check: check-rel check-san
+
+check-rel: $(rel_BIN) $(rel_TESTS)
+	@sh tests/run.sh rel
+
+check-san: $(san_BIN) $(san_TESTS)
+	@ASAN_OPTIONS=detect_leaks=1:abort_on_error=0 UBSAN_OPTIONS=print_stacktrace=1 \
+	  sh tests/run.sh san
+
+bench: deps
+	@$(MAKE) --no-print-directory $(rel_BIN) $(rel_TOOLS)
+	@sh bench/run.sh
+
+# Regenerates the numpy fixtures (needs python3-numpy; not part of make test).
+fixtures:
+	python3 tests/data/make_fixtures.py
+
+clean:
+	rm -rf build

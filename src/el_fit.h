@@ -1,0 +1,84 @@
+/* el_fit: the local linear model z[k+1] = Ad z[k] + c fitted to snapshot
+ * pairs of a uniform series (affine least squares, exact DMD with rank
+ * truncation), its fixed point, and one-step fit statistics. */
+#ifndef EL_FIT_H
+#define EL_FIT_H
+
+#include <stddef.h>
+
+#include "el_error.h"
+#include "el_timebase.h"
+
+typedef enum {
+    EL_METHOD_LS = 0          /* affine least squares / exact DMD */
+} el_method;
+
+#define EL_RANK_FULL 0L
+#define EL_RANK_AUTO (-1L)
+
+typedef struct {
+    size_t lags;              /* K delay copies: state z[k] = [x[k]; x[k-1]; ...; x[k-K]] */
+    long rank;                /* r > 0, EL_RANK_FULL or EL_RANK_AUTO (Gavish & Donoho 2014) */
+    el_method method;
+} el_fit_options;
+
+/* Fills opt with the defaults: no lags, full rank, least squares. */
+void el_fit_defaults(el_fit_options *opt);
+
+/* The fitted model. Coordinates: channel c is scaled as
+ * s_c = (x_c - channel_mean[c]) / channel_scale[c] (equal variance for the
+ * fit); the state stacks the scaled channels at lags 0..K (state index
+ * j*n_channels + c is channel c at lag j). All matrices column-major. */
+typedef struct {
+    size_t n_channels;
+    size_t lags;
+    size_t state_dim;         /* n_channels * (lags + 1) */
+    size_t n_pairs;           /* snapshot pairs used */
+    size_t rank;              /* rank used (== state_dim for a full-rank fit) */
+    int rank_was_auto;        /* 1: rank chosen by the optimal hard threshold */
+    el_method method;
+    double dt;                /* sample interval, table time units */
+    double *channel_mean;     /* n_channels, physical units */
+    double *channel_scale;    /* n_channels, physical units (standard deviation) */
+    double *singular_values;  /* state_dim: of the centred, scaled snapshot matrix X */
+    double *basis;            /* state_dim x rank: leading left singular vectors U_r of X */
+    double *a_reduced;        /* rank x rank: U_r' Ad_s U_r (eigenvalues = the model's mu) */
+    double *lift;             /* state_dim x rank: Yc V_r S_r^-1 (exact DMD modes = lift * W) */
+    double *ad_scaled;        /* state_dim x state_dim: Ad in scaled coordinates */
+    double *offset_scaled;    /* state_dim: c in scaled coordinates */
+    double *ad;               /* state_dim x state_dim: Ad in physical units */
+    double *offset;           /* state_dim: c in physical units */
+    double *operating_point;  /* state_dim: z* = (I - Ad)^-1 c, physical units */
+    int operating_point_ok;   /* 0 when I - Ad is singular to working precision */
+    double rcond_i_minus_a;   /* reciprocal condition number of I - Ad (scaled) */
+    double fit_r2;            /* one-step R^2 over all channels (scaled coordinates) */
+    double *channel_r2;       /* n_channels: one-step R^2 per channel */
+    double *residual_rms;     /* n_channels: one-step residual RMS, physical units */
+} el_model;
+
+/* Fits the model to the series. Centres X (z[k], k = K..N-2) and Y (z[k+1])
+ * by their means (affine least squares == regression of centred Y on
+ * centred X), takes the thin SVD of the centred scaled X by LAPACK (an
+ * orthogonal method, never normal equations), truncates to the rank asked
+ * for (or the Gavish-Donoho threshold), and sets Ad = Yc V S^-1 U', c =
+ * mean(Y) - Ad mean(X), z* = (I - Ad)^-1 c. Adds warnings for: I - Ad
+ * near singular (an eigenvalue near 1), rank truncated, few pairs per
+ * parameter. Errors: EL_ERR_DATA when a channel is constant (names it;
+ * hint: leave it out with --channels) or there are fewer snapshot pairs
+ * than 2 * (state_dim + 1) (hint: longer window, fewer lags);
+ * EL_ERR_USAGE when rank > state_dim; EL_ERR_NUMERIC when LAPACK fails.
+ * *model must be zero-initialised or freed; on error it is left empty. */
+el_status el_fit(const el_series *series, const el_fit_options *opt,
+                 el_model *model, el_warnings *warnings, el_error *err);
+
+/* Frees everything the model owns and zeroes it. NULL is a no-op. */
+void el_model_free(el_model *model);
+
+/* Optimal hard threshold rank (Gavish & Donoho 2014, unknown noise level):
+ * tau = omega(beta) * median(sv), beta = rows/cols (<= 1) of the matrix the
+ * singular values sv[0..n) (descending) came from; returns the number of
+ * singular values above tau (at least 1). */
+size_t el_fit_hard_threshold_rank(const double *sv, size_t n, size_t rows,
+                                  size_t cols);
+
+#endif
