@@ -6,7 +6,7 @@ CC      ?= cc
 PKGS    := lapacke openblas fftw3
 # Debian packages the build and the tests need (make deps installs the missing).
 DEB_PKGS := build-essential pkg-config liblapacke-dev libopenblas-dev \
-            libfftw3-dev libcmocka-dev
+            libfftw3-dev libcmocka-dev chromium fonts-dejavu-core
 
 PKG_CFLAGS := $(shell pkg-config --cflags $(PKGS) 2>/dev/null)
 PKG_LIBS   := $(shell pkg-config --libs $(PKGS) 2>/dev/null || echo -llapacke -lopenblas -lfftw3)
@@ -15,7 +15,7 @@ CMOCKA_LIBS   := $(shell pkg-config --libs cmocka 2>/dev/null || echo -lcmocka)
 
 WARN    := -Wall -Wextra -Wpedantic -Werror -Wshadow -Wstrict-prototypes \
            -Wmissing-prototypes -Wformat=2
-BASE_CFLAGS := -std=c11 -D_POSIX_C_SOURCE=200809L $(WARN) $(PKG_CFLAGS) -Isrc -MMD -MP
+BASE_CFLAGS := -std=c11 -D_POSIX_C_SOURCE=200809L -D_XOPEN_SOURCE=700 $(WARN) $(PKG_CFLAGS) -Isrc -MMD -MP
 OPT_CFLAGS  ?= -O2 -g
 SAN_CFLAGS  := -O1 -g -fno-omit-frame-pointer -fsanitize=address,undefined \
                -fno-sanitize-recover=all

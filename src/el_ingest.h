@@ -39,15 +39,23 @@ typedef struct {
  * zero-initialised or freed). Rules: RFC 4180 quoting; first non-comment
  * row is the header, each name optionally followed by a unit written
  * "name [unit]"; delimiter detected among comma, semicolon and tab from
- * the header row; lines starting with '#' are comments; CRLF and LF; a
- * UTF-8 byte-order mark is skipped; no line-length limit. Empty, NA and
- * NaN cells are missing; any other cell must be a finite number in full
- * (or, in the time column, an ISO 8601 date-time with optional fraction
- * and zone offset), else EL_ERR_DATA with file, line and column set and
- * a hint. Also EL_ERR_DATA: empty file, header only, ragged row, duplicate
- * column name, unknown time column, missing time cell, binary content.
- * EL_ERR_IO when the file cannot be opened or read. On error *table is
- * left empty (nothing to free, but el_table_free is harmless). */
+ * the header row; lines whose first non-blank character is '#' are
+ * comments and blank lines are skipped, anywhere; CRLF and LF; a UTF-8
+ * byte-order mark is skipped; no line-length limit. Empty, NA and NaN
+ * cells (any case, blanks trimmed) are missing; any other cell must be a
+ * finite plain decimal number in full (no inf, hex or trailing text), or,
+ * in the time column, an ISO 8601 date-time
+ * YYYY-MM-DD(T| )HH:MM[:SS[.fff]][Z|+HH:MM|-HH:MM|+HHMM] (no zone = UTC);
+ * the first data row decides which kind the time column holds. Errors
+ * are EL_ERR_DATA with file, line and column (1-based character column
+ * where the offending cell starts) set and a hint: empty file, header
+ * only, ragged row, duplicate or empty column name, a header row made of
+ * numbers only (missing header), missing time cell, mixed time kinds,
+ * invalid date, binary content, unterminated quote, bad cell.
+ * EL_ERR_USAGE with option "--time" and the column list in the hint when
+ * opt->time_column names no column. EL_ERR_IO when the file cannot be
+ * opened or read; EL_ERR_NOMEM. On error *table is left empty (nothing
+ * to free, but el_table_free is harmless). opt may be NULL. */
 el_status el_table_read(const char *path, const el_ingest_options *opt,
                         el_table *table, el_error *err);
 
@@ -65,13 +73,17 @@ long el_table_find(const el_table *table, const char *name);
 
 /* Parses a time as written on the command line (--from/--to) in the
  * table's time units: a plain number (seconds, or the file's own unit),
- * or for an ISO table also an ISO 8601 date-time. EL_ERR_USAGE with a hint
- * when it is neither. */
+ * or for an ISO table also an ISO 8601 date-time (as in the file, or a
+ * date alone = midnight); a date-time without zone is read in the zone of
+ * the file's first row. EL_ERR_USAGE with a hint when it is neither (the
+ * caller sets the option name). */
 el_status el_table_parse_time(const el_table *table, const char *text,
                               double *time_out, el_error *err);
 
 /* Writes the table time t as text into buf: ISO 8601 with milliseconds and
- * the file's zone offset for ISO tables, else "%.9g". Returns buf. */
+ * the zone offset of the file's first row for ISO tables
+ * ("2026-03-14T08:00:00.250+01:00"; "+00:00" for UTC or no zone), else
+ * "%.9g" (also for a non-finite t). Returns buf, always NUL-terminated. */
 char *el_table_format_time(const el_table *table, double t, char *buf, size_t size);
 
 /* Per-column summary for `eigenlog scan`. */
@@ -89,12 +101,16 @@ typedef struct {
     double dt_min, dt_max;
     double jitter;                  /* max |step - dt_median| / dt_median */
     size_t long_steps;              /* steps > 1.5 * dt_median (gaps in time) */
+    size_t nonpositive_steps;       /* steps <= 0 (time repeats or goes back) */
     el_column_stats *columns;       /* n_columns, owned */
 } el_scan;
 
 /* Fills *scan (zero-initialised) from the table: time span, median step
- * and its jitter, per-column missing count and min/mean/std/max.
- * EL_ERR_DATA when the table has fewer than 2 rows. */
+ * (median of the sorted steps) and its jitter, per-column (time column
+ * included) present/missing counts and min/mean/std/max. EL_ERR_DATA
+ * when the table has fewer than 2 rows, or when the median step is not
+ * positive (the time column does not increase; line of the first such
+ * step). The caller frees with el_scan_free; on error nothing to free. */
 el_status el_scan_table(const el_table *table, el_scan *scan, el_error *err);
 
 /* Frees what el_scan_table allocated. NULL is a no-op. */

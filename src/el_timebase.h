@@ -14,7 +14,8 @@ typedef struct {
     double jitter_limit;      /* relative step variation that triggers resampling (0.01) */
 } el_timebase_options;
 
-/* Fills opt with the defaults: open window, max_gap 5, jitter_limit 0.01. */
+/* Fills opt with the defaults: open window, max_gap 5, jitter_limit 0.01.
+ * opt must not be NULL. Can't fail. */
 void el_timebase_defaults(el_timebase_options *opt);
 
 /* Uniformly sampled channels. Column-major: sample k of channel c is
@@ -32,22 +33,55 @@ typedef struct {
     size_t rows_used;         /* table rows inside the window */
     size_t filled_cells;      /* cells filled by linear interpolation */
     int resampled;            /* 1: rows were put on a uniform grid by interpolation */
-    double jitter;            /* max |step - dt| / dt among rows in the window */
+    double jitter;            /* max |step - m dt| / dt among rows in the window,
+                                 m = the whole number of intervals the step spans
+                                 (1 for an ordinary step; a time gap of m - 1
+                                 missing rows is not jitter) */
 } el_series;
 
-/* Builds *series (zero-initialised) from the table columns listed in
- * channels[0..n_channels) (table column indices, never the time column).
- * Steps: select rows with from <= t <= to; time must increase strictly
- * (else EL_ERR_DATA at the offending line, hint); dt = median step; if any
- * step differs from dt by more than jitter_limit*dt, interpolate linearly
- * onto the grid t0 + k*dt (and add a warning saying so); runs of up to
- * max_gap missing samples per channel (missing cells, or time steps longer
- * than dt that leave grid points without rows) are filled by linear
- * interpolation and counted; a longer run is EL_ERR_DATA naming its time
- * range (formatted with el_table_format_time) and suggesting --from/--to
- * or --max-gap. Missing cells at the very start or end of the window cannot
- * be interpolated: EL_ERR_DATA with a hint to move the window. Fewer than
- * 3 samples in the window: EL_ERR_DATA. */
+/* Builds *series from the table columns listed in channels[0..n_channels)
+ * (table column indices, never the time column; n_channels >= 1). Whatever
+ * *series held is overwritten, not freed. opt NULL means the defaults.
+ *
+ * Steps, in this order:
+ * 1. Time must be finite and increase strictly over the whole table (a
+ *    disordered log makes window selection by value meaningless): else
+ *    EL_ERR_DATA "time goes backwards" / "time repeats" at the offending
+ *    row's source line, column time_column + 1, with a hint.
+ * 2. Rows with from <= t <= to are selected (both ends inclusive). None:
+ *    EL_ERR_USAGE with option "--from" or "--to" and a hint giving the
+ *    log's time span. from > to or NaN: EL_ERR_USAGE. Fewer than 3 rows:
+ *    EL_ERR_DATA.
+ * 3. dt = median step in the window. A step spanning m whole intervals
+ *    with m - 1 > max_gap (rounded to the nearest whole number) is a time
+ *    gap too long to fill: EL_ERR_DATA naming its time range. If every step
+ *    is within jitter_limit * dt of a whole multiple m >= 1 of dt, the rows
+ *    are the grid: t0 = first row time, values kept as they are, a step of
+ *    m > 1 intervals inserts m - 1 missing samples, and dt is refined to
+ *    (last time - t0) / (n_samples - 1) so rounding of the written time
+ *    stamps averages out. Otherwise every channel is interpolated linearly
+ *    onto t0 + k dt (t0 = first row time, last grid point <= last row
+ *    time), resampled = 1, and a warning says by how much the interval
+ *    varies.
+ * 4. Per channel, a run of missing samples (missing cells, rows lacking
+ *    because of a time gap; after resampling: round(span / dt) - 1 between
+ *    two rows with values, or the missing cells between them if more) of
+ *    length <= max_gap is filled by linear interpolation between the
+ *    neighbouring values and counted in filled_cells (one warning sums them
+ *    up). A longer run: EL_ERR_DATA naming the channel, the run length in
+ *    samples and its time range (the times of the values around it, with
+ *    el_table_format_time), located at the first missing cell (or at the row
+ *    after a time gap), hint --from/--to or --max-gap. A channel without a
+ *    value at the first or last sample of the window: EL_ERR_DATA located at
+ *    that cell, hint to move --from or --to. A channel with no value in the
+ *    window at all: EL_ERR_DATA.
+ * Fewer than 3 samples: EL_ERR_DATA. Bad arguments (NULL pointers, channel
+ * out of range or the time column, jitter_limit < 0): EL_ERR_INTERNAL. Out
+ * of memory: EL_ERR_NOMEM. On any error *series is left zeroed (nothing to
+ * free) and no warning is added; on success the caller frees it with
+ * el_series_free. Warnings go to *warnings (may be NULL: dropped).
+ * Cost: linear in rows and samples; the output is allocated once, plus one
+ * scratch array of the window's steps (for the median). */
 el_status el_series_build(const el_table *table, const size_t *channels,
                           size_t n_channels, const el_timebase_options *opt,
                           el_series *series, el_warnings *warnings,

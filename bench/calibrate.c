@@ -1,0 +1,467 @@
+/* calibrate: Monte Carlo check of the bootstrap bounds and verdicts on
+ * simulated logs of known linear systems (coverage of the nominal bounds
+ * of the least-damped mode, rate of confident wrong stability verdicts).
+ *
+ * Usage: calibrate [--quick] [--logs N] [--boot N] [--threads N]
+ *                  [--case NAME] [--resample blocks|model] [--block L]
+ * Full run (no arguments): 300 logs per case and length, 1000 replicates
+ * each, about 5-8 minutes on two cores. --quick: 40 logs, 400 replicates. */
+#include <lapacke.h>
+#include <math.h>
+#include <pthread.h>
+#include <stdatomic.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <time.h>
+#include <unistd.h>
+
+#include "el_fit.h"
+#include "el_modes.h"
+#include "el_resample.h"
+#include "el_rng.h"
+
+#define MAX_STATES 4
+#define CAL_PI 3.14159265358979323846
+
+/* One 2x2 block of the true continuous system. */
+typedef enum { BLOCK_PAIR, BLOCK_REALS, BLOCK_JORDAN } block_kind;
+
+typedef struct {
+    block_kind kind;
+    double a, b;         /* PAIR: a +- i b; REALS: a and b; JORDAN: a twice */
+    int a_grows;         /* 1: a is set from the growth over the log */
+} true_block;
+
+typedef struct {
+    const char *name;
+    const char *region;
+    size_t n_blocks;     /* 1 -> 2 states, 2 -> 4 states */
+    true_block blocks[2];
+    double dt;
+    double sensor_noise; /* measurement noise sd relative to the channel sd */
+} cal_case;
+
+/* Unstable cases are transient: the growing eigenvalue is set so that the
+ * log grows by about e^GROWTH over its length, whatever the length. */
+#define GROWTH 6.0
+
+static const cal_case cases[] = {
+    { "sink", "sink", 1, { { BLOCK_REALS, -0.5, -2.0, 0 } }, 0.1, 0.0 },
+    { "spiral-sink", "spiral sink", 1, { { BLOCK_PAIR, -0.3, 2.0, 0 } }, 0.1, 0.0 },
+    { "light-spiral", "spiral sink (zeta 0.03)", 1, { { BLOCK_PAIR, -0.05, 1.5, 0 } }, 0.1, 0.0 },
+    { "degenerate", "degenerate node", 1, { { BLOCK_JORDAN, -0.8, 0.0, 0 } }, 0.1, 0.0 },
+    { "saddle", "saddle", 1, { { BLOCK_REALS, 0.0, -1.0, 1 } }, 0.1, 0.0 },
+    { "source", "source", 1, { { BLOCK_REALS, 0.0, 0.0, 1 } }, 0.1, 0.0 },
+    { "spiral-source", "spiral source", 1, { { BLOCK_PAIR, 0.0, 1.5, 1 } }, 0.1, 0.0 },
+    { "4-state", "two modes, zeta 0.04 and 0.24", 2,
+      { { BLOCK_PAIR, -0.05, 1.2, 0 }, { BLOCK_PAIR, -1.0, 4.0, 0 } }, 0.05, 0.0 },
+    { "sensor-noise", "spiral sink + 30% sensor noise", 1, { { BLOCK_PAIR, -0.3, 2.0, 0 } },
+      0.1, 0.3 },
+};
+#define N_CASES (sizeof cases / sizeof cases[0])
+
+static const size_t lengths[] = { 500, 2000, 5000, 20000 };
+#define N_LENGTHS (sizeof lengths / sizeof lengths[0])
+
+typedef struct {
+    size_t logs, boot, threads, block;
+    el_resample_kind kind;
+    const char *only;
+} cal_options;
+
+/* Result of one simulated log. */
+typedef struct {
+    int ok, cover_re, cover_zeta, oscillatory, confident_wrong, confident;
+    double p_stable, width_re;
+    size_t block;
+} log_result;
+
+/* The true continuous eigenvalues of a case at a given log duration. */
+typedef struct {
+    size_t n;
+    double re[MAX_STATES], im[MAX_STATES];
+    double ad[MAX_STATES * MAX_STATES];
+} truth;
+
+static double grow_rate(double duration_s)
+{
+    return GROWTH / duration_s;
+}
+
+/* Builds Ad = T B T^-1 with B block-diagonal (exact discretisation of each
+ * 2x2 block in closed form) and a fixed, well-conditioned mixing T. */
+static int build_truth(const cal_case *c, size_t n_samples, truth *t)
+{
+    size_t n = 2 * c->n_blocks;
+    double dt = c->dt, dur = (double)n_samples * dt;
+    double bm[MAX_STATES * MAX_STATES] = { 0 };
+    t->n = n;
+    for (size_t k = 0; k < c->n_blocks; k++) {
+        true_block b = c->blocks[k];
+        if (b.a_grows) {
+            if (b.kind == BLOCK_REALS && b.b == 0.0) {
+                b.a = grow_rate(dur);
+                b.b = 0.5 * b.a; /* a source: two growing reals */
+            } else {
+                b.a = grow_rate(dur);
+            }
+        }
+        size_t o = 2 * k;
+        double *p00 = &bm[o + o * n], *p10 = &bm[o + 1 + o * n];
+        double *p01 = &bm[o + (o + 1) * n], *p11 = &bm[o + 1 + (o + 1) * n];
+        if (b.kind == BLOCK_PAIR) {
+            double g = exp(b.a * dt);
+            *p00 = g * cos(b.b * dt);
+            *p10 = g * sin(b.b * dt);
+            *p01 = -*p10;
+            *p11 = *p00;
+            t->re[o] = t->re[o + 1] = b.a;
+            t->im[o] = b.b;
+            t->im[o + 1] = -b.b;
+        } else if (b.kind == BLOCK_REALS) {
+            *p00 = exp(b.a * dt);
+            *p11 = exp(b.b * dt);
+            t->re[o] = b.a;
+            t->re[o + 1] = b.b;
+            t->im[o] = t->im[o + 1] = 0.0;
+        } else {
+            double g = exp(b.a * dt);
+            *p00 = g;
+            *p11 = g;
+            *p01 = g * dt; /* exp of [[a, 1], [0, a]] dt */
+            t->re[o] = t->re[o + 1] = b.a;
+            t->im[o] = t->im[o + 1] = 0.0;
+        }
+    }
+    double tm[MAX_STATES * MAX_STATES], tb[MAX_STATES * MAX_STATES];
+    for (size_t j = 0; j < n; j++)
+        for (size_t i = 0; i < n; i++)
+            tm[i + j * n] = (i == j ? 1.0 : 0.35 * sin(1.0 + (double)(3 * i + 7 * j)));
+    for (size_t j = 0; j < n; j++)
+        for (size_t i = 0; i < n; i++) {
+            double s = 0.0;
+            for (size_t k = 0; k < n; k++)
+                s += tm[i + k * n] * bm[k + j * n];
+            tb[i + j * n] = s;
+        }
+    /* Ad T = T B: solve T' Ad' = (T B)'. */
+    double tt[MAX_STATES * MAX_STATES], rhs[MAX_STATES * MAX_STATES];
+    lapack_int ipiv[MAX_STATES];
+    for (size_t j = 0; j < n; j++)
+        for (size_t i = 0; i < n; i++) {
+            tt[i + j * n] = tm[j + i * n];
+            rhs[i + j * n] = tb[j + i * n];
+        }
+    if (LAPACKE_dgesv(LAPACK_COL_MAJOR, (lapack_int)n, (lapack_int)n, tt, (lapack_int)n,
+                      ipiv, rhs, (lapack_int)n) != 0)
+        return 1;
+    for (size_t j = 0; j < n; j++)
+        for (size_t i = 0; i < n; i++)
+            t->ad[i + j * n] = rhs[j + i * n];
+    return 0;
+}
+
+static void simulate(const cal_case *c, const truth *t, size_t n_samples, el_rng *rng,
+                     double *values)
+{
+    size_t n = t->n;
+    double x[MAX_STATES] = { 0 }, y[MAX_STATES];
+    int stable = 1;
+    for (size_t i = 0; i < n; i++)
+        if (t->re[i] >= 0.0)
+            stable = 0;
+    size_t burn = stable ? 3000 : 0;
+    for (size_t k = 0; k < burn + n_samples; k++) {
+        if (k >= burn)
+            for (size_t i = 0; i < n; i++)
+                values[i * n_samples + (k - burn)] = x[i];
+        for (size_t i = 0; i < n; i++) {
+            double s = el_rng_normal(rng);
+            for (size_t j = 0; j < n; j++)
+                s += t->ad[i + j * n] * x[j];
+            y[i] = s;
+        }
+        memcpy(x, y, n * sizeof(double));
+    }
+    if (c->sensor_noise > 0.0)
+        for (size_t i = 0; i < n; i++) {
+            double *v = values + i * n_samples, mean = 0.0, ss = 0.0;
+            for (size_t k = 0; k < n_samples; k++)
+                mean += v[k];
+            mean /= (double)n_samples;
+            for (size_t k = 0; k < n_samples; k++)
+                ss += (v[k] - mean) * (v[k] - mean);
+            double sd = sqrt(ss / (double)n_samples) * c->sensor_noise;
+            for (size_t k = 0; k < n_samples; k++)
+                v[k] += sd * el_rng_normal(rng);
+        }
+}
+
+static const char *const chan_names[] = { "x0", "x1", "x2", "x3" };
+static const char *const chan_units[] = { "", "", "", "" };
+
+/* Index of the true least-damped eigenvalue (largest Re; Im >= 0). */
+static size_t least_damped(const truth *t)
+{
+    size_t best = 0;
+    for (size_t i = 1; i < t->n; i++)
+        if (t->re[i] > t->re[best] || (t->re[i] == t->re[best] && t->im[i] > t->im[best]))
+            best = i;
+    return best;
+}
+
+static void one_log(const cal_case *c, size_t n_samples, size_t rep, const cal_options *o,
+                    log_result *out)
+{
+    memset(out, 0, sizeof *out);
+    truth t;
+    if (build_truth(c, n_samples, &t))
+        return;
+    double *values = malloc(t.n * n_samples * sizeof(double));
+    if (values == NULL)
+        return;
+    el_rng rng;
+    el_rng_seed(&rng, 20240601u + 1000003u * (uint64_t)(c - cases) + n_samples, rep);
+    simulate(c, &t, n_samples, &rng, values);
+    el_series s;
+    memset(&s, 0, sizeof s);
+    s.n_samples = n_samples;
+    s.n_channels = t.n;
+    s.dt = c->dt;
+    s.values = values;
+    s.names = (char **)chan_names;
+    s.units = (char **)chan_units;
+    s.rows_used = n_samples;
+    el_fit_options fo;
+    el_fit_defaults(&fo);
+    el_model model;
+    memset(&model, 0, sizeof model);
+    el_modes modes;
+    memset(&modes, 0, sizeof modes);
+    el_boot_result br;
+    memset(&br, 0, sizeof br);
+    el_boot_options bo;
+    el_boot_defaults(&bo);
+    bo.replicates = o->boot;
+    bo.threads = 1;
+    bo.kind = o->kind;
+    bo.block_length = o->block;
+    bo.seed = 1 + rep;
+    el_error err;
+    el_error_clear(&err);
+    if (el_fit(&s, &fo, &model, NULL, &err) != EL_OK
+        || el_modes_compute(&model, &modes, NULL, &err) != EL_OK
+        || el_boot_run(&s, &fo, &model, &modes, &bo, &br, NULL, &err) != EL_OK)
+        goto done;
+    size_t ti = least_damped(&t);
+    double tre = t.re[ti], tim = fabs(t.im[ti]);
+    size_t best = 0;
+    double bd = HUGE_VAL;
+    for (size_t q = 0; q < modes.n_modes; q++) {
+        double dd = hypot(modes.modes[q].lambda_re - tre, fabs(modes.modes[q].lambda_im) - tim);
+        if (dd < bd) {
+            bd = dd;
+            best = q;
+        }
+    }
+    const el_mode_bounds *b = &br.bounds[best];
+    double tz = -tre / hypot(tre, tim);
+    out->ok = 1;
+    out->cover_re = b->re.lo <= tre && tre <= b->re.hi;
+    out->oscillatory = tim > 0.0;
+    out->cover_zeta = b->damping_ratio.lo <= tz && tz <= b->damping_ratio.hi;
+    out->width_re = b->re.hi - b->re.lo;
+    out->p_stable = br.p_stable;
+    out->block = br.block_length;
+    int truly_stable = tre < 0.0;
+    out->confident = br.p_stable >= 0.95 || br.p_stable <= 0.05;
+    out->confident_wrong = truly_stable ? br.p_stable <= 0.05 : br.p_stable >= 0.95;
+done:
+    el_boot_free(&br);
+    el_modes_free(&modes);
+    el_model_free(&model);
+    free(values);
+}
+
+/* Work queue over (case, length, log). */
+typedef struct {
+    const cal_options *o;
+    size_t n_jobs;
+    size_t *job_case, *job_len;
+    log_result *res;
+    atomic_size_t next;
+} queue;
+
+static void *worker(void *arg)
+{
+    queue *q = arg;
+    for (;;) {
+        size_t j = atomic_fetch_add(&q->next, 1);
+        if (j >= q->n_jobs)
+            break;
+        size_t rep = j % q->o->logs;
+        one_log(&cases[q->job_case[j]], lengths[q->job_len[j]], rep, q->o, &q->res[j]);
+    }
+    return NULL;
+}
+
+static int parse_args(int argc, char **argv, cal_options *o)
+{
+    o->logs = 300;
+    o->boot = 1000;
+    o->threads = 0;
+    o->block = 0;
+    o->kind = EL_RESAMPLE_BLOCKS;
+    o->only = NULL;
+    for (int i = 1; i < argc; i++) {
+        const char *a = argv[i], *v = i + 1 < argc ? argv[i + 1] : NULL;
+        if (strcmp(a, "--quick") == 0) {
+            o->logs = 40;
+            o->boot = 400;
+        } else if (strcmp(a, "--logs") == 0 && v) {
+            o->logs = (size_t)strtoul(v, NULL, 10);
+            i++;
+        } else if (strcmp(a, "--boot") == 0 && v) {
+            o->boot = (size_t)strtoul(v, NULL, 10);
+            i++;
+        } else if (strcmp(a, "--threads") == 0 && v) {
+            o->threads = (size_t)strtoul(v, NULL, 10);
+            i++;
+        } else if (strcmp(a, "--block") == 0 && v) {
+            o->block = (size_t)strtoul(v, NULL, 10);
+            i++;
+        } else if (strcmp(a, "--case") == 0 && v) {
+            o->only = v;
+            i++;
+        } else if (strcmp(a, "--resample") == 0 && v) {
+            o->kind = strcmp(v, "model") == 0 ? EL_RESAMPLE_MODEL : EL_RESAMPLE_BLOCKS;
+            i++;
+        } else {
+            fprintf(stderr,
+                    "usage: calibrate [--quick] [--logs N] [--boot N] [--threads N]\n"
+                    "                 [--case NAME] [--resample blocks|model] [--block L]\n");
+            return 1;
+        }
+    }
+    if (o->logs < 2 || o->boot < 10) {
+        fprintf(stderr, "calibrate: need --logs >= 2 and --boot >= 10\n");
+        return 1;
+    }
+    return 0;
+}
+
+typedef struct {
+    size_t n, re, zeta, osc, wrong, confident;
+} tally;
+
+static void tally_add(tally *t, const log_result *r)
+{
+    if (!r->ok)
+        return;
+    t->n++;
+    t->re += (size_t)r->cover_re;
+    if (r->oscillatory) {
+        t->osc++;
+        t->zeta += (size_t)r->cover_zeta;
+    }
+    t->wrong += (size_t)r->confident_wrong;
+    t->confident += (size_t)r->confident;
+}
+
+int main(int argc, char **argv)
+{
+    cal_options o;
+    if (parse_args(argc, argv, &o))
+        return 1;
+    size_t nt = o.threads;
+    if (nt == 0) {
+        long c = sysconf(_SC_NPROCESSORS_ONLN);
+        nt = c > 0 ? (size_t)c : 1;
+    }
+    queue q;
+    memset(&q, 0, sizeof q);
+    q.o = &o;
+    size_t max_jobs = N_CASES * N_LENGTHS * o.logs;
+    q.job_case = malloc(max_jobs * sizeof(size_t));
+    q.job_len = malloc(max_jobs * sizeof(size_t));
+    q.res = calloc(max_jobs, sizeof(log_result));
+    if (!q.job_case || !q.job_len || !q.res)
+        return 4;
+    for (size_t c = 0; c < N_CASES; c++) {
+        if (o.only && strcmp(o.only, cases[c].name) != 0)
+            continue;
+        for (size_t l = 0; l < N_LENGTHS; l++)
+            for (size_t r = 0; r < o.logs; r++) {
+                q.job_case[q.n_jobs] = c;
+                q.job_len[q.n_jobs] = l;
+                q.n_jobs++;
+            }
+    }
+    atomic_init(&q.next, 0);
+    struct timespec t0, t1;
+    clock_gettime(CLOCK_MONOTONIC, &t0);
+    pthread_t *tid = calloc(nt, sizeof(pthread_t));
+    size_t started = 0;
+    for (size_t i = 0; i < nt; i++)
+        if (pthread_create(&tid[i], NULL, worker, &q) == 0)
+            started++;
+    if (started == 0)
+        worker(&q);
+    for (size_t i = 0; i < started; i++)
+        pthread_join(tid[i], NULL);
+    clock_gettime(CLOCK_MONOTONIC, &t1);
+    double secs = (double)(t1.tv_sec - t0.tv_sec) + 1e-9 * (double)(t1.tv_nsec - t0.tv_nsec);
+
+    printf("eigenlog bootstrap calibration: %zu logs per case and length, %zu replicates, "
+           "resample %s, block %s, %zu threads, %.1f s\n",
+           o.logs, o.boot, o.kind == EL_RESAMPLE_MODEL ? "model" : "blocks",
+           o.block ? "given" : "auto", started, secs);
+    printf("coverage of the nominal 95%% bounds of the least-damped mode; wrong = p >= 0.95 "
+           "for the wrong class\n\n");
+    printf("%-14s %6s %5s %7s %7s %7s %7s %6s %9s\n", "case", "n", "ok", "cov_re", "cov_zeta",
+           "p_stab", "wrong", "conf", "block");
+    tally all_long = { 0 }, all = { 0 }, unstable = { 0 };
+    for (size_t j0 = 0; j0 < q.n_jobs; j0 += o.logs) {
+        const cal_case *c = &cases[q.job_case[j0]];
+        size_t len = lengths[q.job_len[j0]];
+        tally t = { 0 };
+        double ps = 0.0, blk = 0.0;
+        for (size_t j = j0; j < j0 + o.logs; j++) {
+            tally_add(&t, &q.res[j]);
+            tally_add(&all, &q.res[j]);
+            if (len >= 2000)
+                tally_add(&all_long, &q.res[j]);
+            if (c->blocks[0].a_grows)
+                tally_add(&unstable, &q.res[j]);
+            if (q.res[j].ok) {
+                ps += q.res[j].p_stable;
+                blk += (double)q.res[j].block;
+            }
+        }
+        double n = t.n > 0 ? (double)t.n : 1.0;
+        char zeta[16];
+        if (t.osc > 0)
+            snprintf(zeta, sizeof zeta, "%.3f", (double)t.zeta / (double)t.osc);
+        else
+            snprintf(zeta, sizeof zeta, "n/a");
+        printf("%-14s %6zu %5zu %7.3f %7s %7.3f %7.3f %6.3f %9.1f\n", c->name, len, t.n,
+               (double)t.re / n, zeta, ps / n, (double)t.wrong / n, (double)t.confident / n,
+               blk / n);
+    }
+    printf("\noverall (logs >= 2000 samples): coverage Re %.3f (%zu logs), zeta %.3f (%zu "
+           "oscillatory)\n",
+           all_long.n ? (double)all_long.re / (double)all_long.n : NAN, all_long.n,
+           all_long.osc ? (double)all_long.zeta / (double)all_long.osc : NAN, all_long.osc);
+    printf("confident wrong verdicts: %.4f overall (%zu of %zu logs), %zu in unstable cases "
+           "(%zu logs)\n",
+           all.n ? (double)all.wrong / (double)all.n : NAN, all.wrong, all.n, unstable.wrong,
+           unstable.n);
+    printf("targets: coverage 0.92-0.98 at >= 2000 samples; wrong <= 0.01 overall, 0 when "
+           "unstable\n");
+    free(tid);
+    free(q.job_case);
+    free(q.job_len);
+    free(q.res);
+    return 0;
+}

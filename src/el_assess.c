@@ -1,0 +1,165 @@
+/* el_assess: the main job as one library call. */
+#include "el_assess.h"
+
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+void el_assess_defaults(el_assess_options *opt)
+{
+    memset(opt, 0, sizeof *opt);
+    opt->max_gap = 5;
+    el_fit_defaults(&opt->fit);
+    el_boot_defaults(&opt->boot);
+}
+
+const char *el_assess_caution(void)
+{
+    return "This is a statistical, local, linear estimate from logged data: it "
+           "describes small motions near the operating point seen in this "
+           "window only. It is not a substitute for the equipment maker's "
+           "limits, local codes and licensed engineering judgement.";
+}
+
+/* Appends the table's column names except the time column to buf. */
+static void list_columns(const el_table *table, char *buf, size_t size)
+{
+    size_t used = 0;
+    buf[0] = '\0';
+    for (size_t c = 0; c < table->n_columns && used < size; c++) {
+        if (c == table->time_column)
+            continue;
+        int n = snprintf(buf + used, size - used, "%s%s", used ? ", " : "",
+                         table->names[c]);
+        if (n < 0)
+            break;
+        used += (size_t)n;
+    }
+}
+
+static el_status channel_error(el_error *err, const el_table *table,
+                               const char *fmt_name, const char *why)
+{
+    char names[EL_ERROR_TEXT_MAX - 32];
+    list_columns(table, names, sizeof names);
+    el_error_set(err, EL_ERR_USAGE, "channel '%s' %s", fmt_name, why);
+    el_error_option(err, "--channels");
+    el_error_hint(err, "channels in this log: %s", names);
+    return EL_ERR_USAGE;
+}
+
+el_status el_assess_select_channels(const el_table *table, const char *list,
+                                    size_t *out, size_t *n_out, el_error *err)
+{
+    *n_out = 0;
+    if (list == NULL || list[0] == '\0') {
+        for (size_t c = 0; c < table->n_columns; c++)
+            if (c != table->time_column)
+                out[(*n_out)++] = c;
+        if (*n_out == 0) {
+            el_error_set(err, EL_ERR_DATA, "the log has a time column only");
+            el_error_at(err, table->source, 0, 0);
+            el_error_hint(err, "a log needs at least one channel besides time");
+            return EL_ERR_DATA;
+        }
+        return EL_OK;
+    }
+    const char *p = list;
+    while (*p != '\0') {
+        const char *end = strchr(p, ',');
+        size_t len = end ? (size_t)(end - p) : strlen(p);
+        char name[256];
+        snprintf(name, sizeof name, "%.*s", (int)(len < 255 ? len : 255), p);
+        long idx = el_table_find(table, name);
+        if (idx < 0)
+            return channel_error(err, table, name, "is not in the log");
+        if ((size_t)idx == table->time_column)
+            return channel_error(err, table, name, "is the time column");
+        for (size_t i = 0; i < *n_out; i++)
+            if (out[i] == (size_t)idx)
+                return channel_error(err, table, name, "is listed twice");
+        if (*n_out >= table->n_columns)
+            return channel_error(err, table, name, "is one too many");
+        out[(*n_out)++] = (size_t)idx;
+        p += len;
+        if (*p == ',')
+            p++;
+    }
+    if (*n_out == 0)
+        return channel_error(err, table, "", "list is empty");
+    return EL_OK;
+}
+
+static el_status build_series(const el_assess_options *opt, el_assessment *r,
+                              el_error *err)
+{
+    el_timebase_options tb;
+    el_timebase_defaults(&tb);
+    tb.max_gap = opt->max_gap;
+    el_status st;
+    if (opt->from_text != NULL &&
+        (st = el_table_parse_time(&r->table, opt->from_text, &tb.from, err)) != EL_OK) {
+        el_error_option(err, "--from");
+        return st;
+    }
+    if (opt->to_text != NULL &&
+        (st = el_table_parse_time(&r->table, opt->to_text, &tb.to, err)) != EL_OK) {
+        el_error_option(err, "--to");
+        return st;
+    }
+    if (tb.from > tb.to) {
+        el_error_set(err, EL_ERR_USAGE, "the window starts after it ends");
+        el_error_option(err, "--from");
+        el_error_hint(err, "give --from earlier than --to");
+        return EL_ERR_USAGE;
+    }
+    size_t *channels = malloc(r->table.n_columns * sizeof *channels);
+    if (channels == NULL)
+        return el_error_set(err, EL_ERR_NOMEM, "out of memory");
+    size_t n_channels = 0;
+    st = el_assess_select_channels(&r->table, opt->channels, channels, &n_channels, err);
+    if (st == EL_OK)
+        st = el_series_build(&r->table, channels, n_channels, &tb, &r->series,
+                             &r->input_warnings, err);
+    free(channels);
+    return st;
+}
+
+el_status el_assess_run(const el_assess_options *opt, el_assessment *r,
+                        el_error *err)
+{
+    el_ingest_options in = {.time_column = opt->time_column};
+    el_status st = el_table_read(opt->path, &in, &r->table, err);
+    if (st == EL_OK)
+        st = build_series(opt, r, err);
+    if (st == EL_OK)
+        st = el_fit(&r->series, &opt->fit, &r->model, &r->warnings, err);
+    if (st == EL_OK)
+        st = el_modes_compute(&r->model, &r->modes, &r->warnings, err);
+    if (st == EL_OK && opt->boot.replicates > 0)
+        st = el_boot_run(&r->series, &opt->fit, &r->model, &r->modes, &opt->boot,
+                         &r->boot, &r->warnings, err);
+    if (st == EL_OK)
+        st = el_verdict_compute(&r->modes, &r->model,
+                                opt->boot.replicates > 0 ? &r->boot : NULL,
+                                opt->boot.level, &r->verdict, &r->warnings, err);
+    /* Problems found after ingest (constant channel, too short a window)
+     * are still about this file: name it when the stage could not. */
+    if (st != EL_OK && err != NULL && err->file[0] == '\0' && err->option[0] == '\0')
+        el_error_at(err, r->table.source[0] ? r->table.source : opt->path, 0, 0);
+    return st;
+}
+
+void el_assessment_free(el_assessment *r)
+{
+    if (r == NULL)
+        return;
+    el_table_free(&r->table);
+    el_series_free(&r->series);
+    el_model_free(&r->model);
+    el_modes_free(&r->modes);
+    el_boot_free(&r->boot);
+    el_warnings_free(&r->input_warnings);
+    el_warnings_free(&r->warnings);
+    memset(r, 0, sizeof *r);
+}

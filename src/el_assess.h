@@ -1,0 +1,64 @@
+/* el_assess: the main job as one library call: read a log, build the time
+ * base, fit the local linear model, compute modes, bootstrap them and
+ * classify the operating point. The CLI and the tests both use it. */
+#ifndef EL_ASSESS_H
+#define EL_ASSESS_H
+
+#include <stddef.h>
+
+#include "el_error.h"
+#include "el_fit.h"
+#include "el_ingest.h"
+#include "el_modes.h"
+#include "el_resample.h"
+#include "el_timebase.h"
+#include "el_verdict.h"
+
+typedef struct {
+    const char *path;             /* CSV file, "-" = stdin */
+    const char *time_column;      /* NULL = first column */
+    const char *channels;         /* comma-separated names; NULL = all but time */
+    const char *from_text;        /* window start as written (number or ISO), NULL = open */
+    const char *to_text;
+    size_t max_gap;               /* default 5 */
+    el_fit_options fit;
+    el_boot_options boot;         /* boot.replicates == 0: no bootstrap */
+} el_assess_options;
+
+/* Fills opt with the defaults (all channels, open window, max_gap 5, the
+ * fit and bootstrap defaults). */
+void el_assess_defaults(el_assess_options *opt);
+
+/* Everything a report needs. Zero-initialise before el_assess_run. */
+typedef struct {
+    el_table table;
+    el_series series;
+    el_model model;
+    el_modes modes;
+    el_boot_result boot;          /* boot.replicates == 0 when not run */
+    el_verdict verdict;
+    el_warnings input_warnings;   /* about the data: resampling, filled gaps */
+    el_warnings warnings;         /* about the model and the verdict */
+} el_assessment;
+
+/* Parses a comma-separated list of channel names against the table into
+ * table column indices (out must hold table->n_columns entries). NULL or
+ * "" selects every column but the time column. EL_ERR_USAGE (option
+ * "--channels", hint listing the columns) for an unknown, repeated or time
+ * column name. */
+el_status el_assess_select_channels(const el_table *table, const char *list,
+                                    size_t *out, size_t *n_out, el_error *err);
+
+/* Runs the whole pipeline. On success every part of *result is filled;
+ * on error the parts done so far stay in *result (free it either way with
+ * el_assessment_free) and err says what went wrong and where. */
+el_status el_assess_run(const el_assess_options *opt, el_assessment *result,
+                        el_error *err);
+
+/* Frees everything the result owns and zeroes it. NULL is a no-op. */
+void el_assessment_free(el_assessment *result);
+
+/* The caution that goes with every report. Static text. */
+const char *el_assess_caution(void);
+
+#endif

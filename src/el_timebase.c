@@ -1,0 +1,673 @@
+/* el_timebase: window selection, uniform grid, gap fill and resampling. */
+#include "el_timebase.h"
+
+#include <math.h>
+#include <stdint.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+/* Room for an ISO 8601 time with milliseconds and zone, or "%.9g". */
+#define TIME_TEXT 64
+
+/* Everything decided about the window before any channel is touched. */
+typedef struct {
+    const el_table *table;
+    const double *time;       /* the table's time column */
+    size_t first, last;       /* window rows, inclusive */
+    size_t max_gap;
+    double dt_step;           /* median step: judges how many intervals a step spans */
+    double dt;                /* grid interval */
+    double t0;
+    size_t n_samples;
+    int resample;
+    double jitter;
+    /* Filled in by the channel passes, for the summary warning. */
+    size_t filled;
+    size_t channels_filled;
+    size_t longest_run;
+} timebase_plan;
+
+void el_timebase_defaults(el_timebase_options *opt)
+{
+    opt->from = -INFINITY;
+    opt->to = INFINITY;
+    opt->max_gap = 5;
+    opt->jitter_limit = 0.01;
+}
+
+void el_series_free(el_series *series)
+{
+    if (series == NULL)
+        return;
+    for (size_t c = 0; c < series->n_channels; c++) {
+        if (series->names != NULL)
+            free(series->names[c]);
+        if (series->units != NULL)
+            free(series->units[c]);
+    }
+    free(series->names);
+    free(series->units);
+    free(series->values);
+    free(series->source_column);
+    memset(series, 0, sizeof *series);
+}
+
+/* ---- small helpers ------------------------------------------------------ */
+
+static long row_line(const el_table *table, size_t row)
+{
+    return table->source_line != NULL ? table->source_line[row] : 0;
+}
+
+static const char *column_name(const el_table *table, size_t col)
+{
+    if (table->names == NULL || table->names[col] == NULL)
+        return "?";
+    return table->names[col];
+}
+
+/* Open window ends are infinite and have no calendar form. */
+static char *format_time(const el_table *table, double t, char *buf, size_t size)
+{
+    if (isinf(t)) {
+        snprintf(buf, size, "%s", t < 0 ? "the start" : "the end");
+        return buf;
+    }
+    return el_table_format_time(table, t, buf, size);
+}
+
+/* Points the error at a cell of the table (0-based row and column). */
+static void locate(el_error *err, const el_table *table, size_t row, size_t col)
+{
+    el_error_at(err, table->source, row_line(table, row), (long)col + 1);
+}
+
+static char *copy_text(const char *text)
+{
+    if (text == NULL)
+        text = "";
+    size_t n = strlen(text) + 1;
+    char *copy = malloc(n);
+    if (copy != NULL)
+        memcpy(copy, text, n);
+    return copy;
+}
+
+/* " s", " ms" ... after a dt in a message, so the number has its unit. */
+static const char *time_unit_suffix(const el_table *table, char *buf, size_t size)
+{
+    const char *unit = "";
+    if (table->time_is_iso)
+        unit = "s";
+    else if (table->units != NULL && table->units[table->time_column] != NULL)
+        unit = table->units[table->time_column];
+    snprintf(buf, size, "%s%s", unit[0] != '\0' ? " " : "", unit);
+    return buf;
+}
+
+/* ---- median in linear expected time ------------------------------------ */
+
+static void swap_double(double *a, double *b)
+{
+    double t = *a;
+    *a = *b;
+    *b = t;
+}
+
+static int compare_double(const void *pa, const void *pb)
+{
+    double a = *(const double *)pa, b = *(const double *)pb;
+    return (a > b) - (a < b);
+}
+
+static double median_of_three(double a, double b, double c)
+{
+    if (a > b)
+        swap_double(&a, &b);
+    if (b > c)
+        swap_double(&b, &c);
+    return a > b ? a : b;
+}
+
+/* Quickselect with a three-way partition (runs of equal steps, the usual
+ * case in a clean log, cost one pass). A pivot sequence that keeps failing
+ * to shrink the range falls back to sorting it, so the worst case is
+ * n log n instead of n^2. Leaves a[0..k) <= a[k] <= a[k+1..n). */
+static double select_kth(double *a, size_t n, size_t k)
+{
+    size_t lo = 0, hi = n;
+    unsigned budget = 16;
+    for (size_t m = n; m > 1; m >>= 1)
+        budget += 2;
+    while (hi - lo > 1) {
+        if (budget-- == 0) {
+            qsort(a + lo, hi - lo, sizeof *a, compare_double);
+            return a[k];
+        }
+        double pivot = median_of_three(a[lo], a[lo + (hi - lo) / 2], a[hi - 1]);
+        size_t lt = lo, i = lo, gt = hi;
+        while (i < gt) {
+            if (a[i] < pivot)
+                swap_double(&a[lt++], &a[i++]);
+            else if (a[i] > pivot)
+                swap_double(&a[i], &a[--gt]);
+            else
+                i++;
+        }
+        if (k < lt)
+            hi = lt;
+        else if (k >= gt)
+            lo = gt;
+        else
+            return a[k];
+    }
+    return a[k];
+}
+
+/* Median of a[0..n), n >= 1; reorders a. */
+static double median(double *a, size_t n)
+{
+    size_t k = n / 2;
+    double upper = select_kth(a, n, k);
+    if (n % 2 == 1)
+        return upper;
+    double lower = a[0];
+    for (size_t i = 1; i < k; i++)
+        if (a[i] > lower)
+            lower = a[i];
+    return lower + (upper - lower) / 2;
+}
+
+/* ---- checks before any allocation -------------------------------------- */
+
+static el_status check_arguments(const el_table *table, const size_t *channels,
+                                 size_t n_channels, const el_timebase_options *opt,
+                                 el_error *err)
+{
+    if (table == NULL || (channels == NULL && n_channels > 0))
+        return el_error_set(err, EL_ERR_INTERNAL, "el_series_build: NULL table or channel list");
+    if (n_channels == 0)
+        return el_error_set(err, EL_ERR_INTERNAL, "el_series_build: no channels chosen");
+    if (table->time_column >= table->n_columns)
+        return el_error_set(err, EL_ERR_INTERNAL,
+                            "el_series_build: time column %zu outside a table of %zu columns",
+                            table->time_column, table->n_columns);
+    if (table->n_rows > 0 && table->values == NULL)
+        return el_error_set(err, EL_ERR_INTERNAL, "el_series_build: table without values");
+    for (size_t c = 0; c < n_channels; c++) {
+        if (channels[c] >= table->n_columns)
+            return el_error_set(err, EL_ERR_INTERNAL,
+                                "el_series_build: channel column %zu outside a table of %zu columns",
+                                channels[c], table->n_columns);
+        if (channels[c] == table->time_column)
+            return el_error_set(err, EL_ERR_INTERNAL,
+                                "el_series_build: the time column '%s' cannot be a channel",
+                                column_name(table, channels[c]));
+    }
+    if (!(opt->jitter_limit >= 0) || isinf(opt->jitter_limit))
+        return el_error_set(err, EL_ERR_INTERNAL,
+                            "el_series_build: jitter limit %g is not a finite number >= 0",
+                            opt->jitter_limit);
+    if (isnan(opt->from) || isnan(opt->to)) {
+        el_error_option(err, isnan(opt->from) ? "--from" : "--to");
+        el_error_hint(err, "give the window ends as numbers in the log's time units");
+        return el_error_set(err, EL_ERR_USAGE, "the window end is not a number");
+    }
+    if (opt->from > opt->to) {
+        char a[TIME_TEXT], b[TIME_TEXT];
+        el_error_option(err, "--from");
+        el_error_hint(err, "give a --from that is earlier than --to");
+        return el_error_set(err, EL_ERR_USAGE, "the window starts (%s) after it ends (%s)",
+                            format_time(table, opt->from, a, sizeof a),
+                            format_time(table, opt->to, b, sizeof b));
+    }
+    return EL_OK;
+}
+
+/* The whole table, not just the window: rows out of order would make a
+ * window chosen by time value pick an arbitrary set of rows. */
+static el_status check_time_order(const el_table *table, el_error *err)
+{
+    if (table->n_rows == 0)
+        return EL_OK;
+    const double *time = table->values + table->time_column * table->n_rows;
+    char a[TIME_TEXT], b[TIME_TEXT];
+    for (size_t r = 0; r < table->n_rows; r++) {
+        if (!isfinite(time[r])) {
+            locate(err, table, r, table->time_column);
+            el_error_hint(err, "every row needs a time; remove the rows without one");
+            return el_error_set(err, EL_ERR_DATA, "time is missing");
+        }
+        if (r == 0 || time[r] > time[r - 1])
+            continue;
+        locate(err, table, r, table->time_column);
+        if (time[r] == time[r - 1]) {
+            el_error_hint(err, "remove the duplicated rows (each time may appear once)");
+            return el_error_set(err, EL_ERR_DATA, "time repeats: %s again (as on line %ld)",
+                                format_time(table, time[r], a, sizeof a),
+                                row_line(table, r - 1));
+        }
+        el_error_hint(err, "sort the log by time, or split it into parts that are each in time order");
+        return el_error_set(err, EL_ERR_DATA, "time goes backwards: %s after %s (line %ld)",
+                            format_time(table, time[r], a, sizeof a),
+                            format_time(table, time[r - 1], b, sizeof b),
+                            row_line(table, r - 1));
+    }
+    return EL_OK;
+}
+
+/* First index in the increasing time[0..n) with time >= t (or > t when
+ * strictly is set); n when there is none. */
+static size_t bound(const double *time, size_t n, double t, int strictly)
+{
+    size_t lo = 0, hi = n;
+    while (lo < hi) {
+        size_t mid = lo + (hi - lo) / 2;
+        if (time[mid] < t || (strictly && time[mid] == t))
+            lo = mid + 1;
+        else
+            hi = mid;
+    }
+    return lo;
+}
+
+static el_status select_window(const el_table *table, const el_timebase_options *opt,
+                               timebase_plan *plan, el_error *err)
+{
+    const double *time = plan->time;
+    size_t n = table->n_rows;
+    if (n == 0)
+        return el_error_set(err, EL_ERR_DATA, "the log has no rows");
+    size_t first = bound(time, n, opt->from, 0);
+    size_t end = bound(time, n, opt->to, 1);
+    if (end <= first) {
+        char a[TIME_TEXT], b[TIME_TEXT], c[TIME_TEXT], d[TIME_TEXT];
+        el_error_option(err, opt->to < time[0] ? "--to" : "--from");
+        el_error_hint(err, "the log spans %s to %s; choose --from and --to inside it",
+                      format_time(table, time[0], a, sizeof a),
+                      format_time(table, time[n - 1], b, sizeof b));
+        return el_error_set(err, EL_ERR_USAGE, "the window from %s to %s holds no rows",
+                            format_time(table, opt->from, c, sizeof c),
+                            format_time(table, opt->to, d, sizeof d));
+    }
+    plan->first = first;
+    plan->last = end - 1;
+    if (end - first < 3) {
+        char a[TIME_TEXT], b[TIME_TEXT];
+        locate(err, table, first, table->time_column);
+        el_error_hint(err, "widen the window with --from/--to; a model needs at least 3 samples "
+                           "(and many more for a useful fit)");
+        return el_error_set(err, EL_ERR_DATA,
+                            "the window holds only %zu sample%s (%s to %s); at least 3 are needed",
+                            end - first, end - first == 1 ? "" : "s",
+                            format_time(table, time[first], a, sizeof a),
+                            format_time(table, time[end - 1], b, sizeof b));
+    }
+    return EL_OK;
+}
+
+/* Whole number of grid intervals a step spans (>= 0), as a double so a
+ * step of any length can be judged without integer overflow. */
+static double intervals_of(double step, double dt)
+{
+    return floor(step / dt + 0.5);
+}
+
+static el_status time_gap_error(const timebase_plan *plan, size_t row, double missing,
+                                el_error *err)
+{
+    const el_table *table = plan->table;
+    char a[TIME_TEXT], b[TIME_TEXT];
+    locate(err, table, row, table->time_column);
+    el_error_hint(err, "choose a window that avoids it with --from/--to, or allow gaps of "
+                       "%.0f samples with --max-gap %.0f", missing, missing);
+    return el_error_set(err, EL_ERR_DATA,
+                        "the log has no rows for %.0f samples in a row, between %s (line %ld) "
+                        "and %s (line %ld); --max-gap is %zu",
+                        missing, format_time(table, plan->time[row - 1], a, sizeof a),
+                        row_line(table, row - 1), format_time(table, plan->time[row], b, sizeof b),
+                        row_line(table, row), plan->max_gap);
+}
+
+/* Decides dt, grid or resampling, the number of samples and the jitter.
+ * steps is scratch for last - first doubles. */
+static el_status plan_grid(timebase_plan *plan, double jitter_limit, double *steps,
+                           el_error *err)
+{
+    const double *time = plan->time;
+    size_t n_steps = plan->last - plan->first;
+    for (size_t i = 0; i < n_steps; i++)
+        steps[i] = time[plan->first + i + 1] - time[plan->first + i];
+    double dt = median(steps, n_steps);
+    plan->dt_step = dt;
+    plan->dt = dt;
+    plan->t0 = time[plan->first];
+
+    double intervals = 0, jitter = 0;
+    int on_grid = 1;
+    for (size_t r = plan->first + 1; r <= plan->last; r++) {
+        double step = time[r] - time[r - 1];
+        double m = intervals_of(step, dt);
+        if (m - 1 > (double)plan->max_gap)
+            return time_gap_error(plan, r, m - 1, err);
+        double deviation = fabs(step - (m >= 1 ? m : 1) * dt) / dt;
+        if (deviation > jitter)
+            jitter = deviation;
+        if (m < 1 || deviation > jitter_limit)
+            on_grid = 0;
+        intervals += m;
+    }
+    plan->jitter = jitter;
+    plan->resample = !on_grid;
+    if (on_grid) {
+        plan->n_samples = (size_t)intervals + 1;
+        plan->dt = (time[plan->last] - plan->t0) / intervals;
+    } else {
+        /* The allowance keeps a grid point that lands on the last row but
+         * for rounding in the division; the loop drops it again if, as
+         * computed, it lies past the last row (no extrapolation). */
+        double t_end = time[plan->last];
+        size_t n = (size_t)floor((t_end - plan->t0) / dt + 1e-9) + 1;
+        while (n > 1 && plan->t0 + (double)(n - 1) * dt > t_end)
+            n--;
+        plan->n_samples = n;
+    }
+    if (plan->n_samples < 3) {
+        /* Three rows can leave two grid points once the one past the end is
+         * dropped (rounding). */
+        locate(err, plan->table, plan->first, plan->table->time_column);
+        el_error_hint(err, "widen the window with --from/--to");
+        return el_error_set(err, EL_ERR_DATA,
+                            "the window holds only %zu samples on a uniform grid; at least 3 "
+                            "are needed", plan->n_samples);
+    }
+    return EL_OK;
+}
+
+/* ---- per-channel passes ------------------------------------------------- */
+
+static el_status no_values_error(const timebase_plan *plan, size_t col, el_error *err)
+{
+    const el_table *table = plan->table;
+    char a[TIME_TEXT], b[TIME_TEXT];
+    locate(err, table, plan->first, col);
+    el_error_hint(err, "choose another channel or another window with --from/--to");
+    return el_error_set(err, EL_ERR_DATA, "channel '%s' has no values between %s and %s",
+                        column_name(table, col),
+                        format_time(table, plan->time[plan->first], a, sizeof a),
+                        format_time(table, plan->time[plan->last], b, sizeof b));
+}
+
+/* The channel's first value (row) comes after the window's first sample. */
+static el_status start_error(const timebase_plan *plan, size_t col, size_t row,
+                             el_error *err)
+{
+    const el_table *table = plan->table;
+    char a[TIME_TEXT], b[TIME_TEXT];
+    locate(err, table, plan->first, col);
+    el_error_hint(err, "move the window start with --from %s (or later); a missing value "
+                       "at the edge of the window has no neighbour to interpolate from",
+                  format_time(table, plan->time[row], a, sizeof a));
+    return el_error_set(err, EL_ERR_DATA,
+                        "channel '%s' has no value at the start of the window (%s); its "
+                        "first value is at %s (line %ld)",
+                        column_name(table, col),
+                        format_time(table, plan->t0, b, sizeof b),
+                        format_time(table, plan->time[row], a, sizeof a), row_line(table, row));
+}
+
+/* The channel's last value (row) comes before the window's last sample. */
+static el_status end_error(const timebase_plan *plan, size_t col, size_t row,
+                           el_error *err)
+{
+    const el_table *table = plan->table;
+    char a[TIME_TEXT], b[TIME_TEXT];
+    locate(err, table, row + 1 <= plan->last ? row + 1 : row, col);
+    el_error_hint(err, "move the window end with --to %s (or earlier); a missing value "
+                       "at the edge of the window has no neighbour to interpolate from",
+                  format_time(table, plan->time[row], a, sizeof a));
+    return el_error_set(err, EL_ERR_DATA,
+                        "channel '%s' has no value at the end of the window (%s); its "
+                        "last value is at %s (line %ld)",
+                        column_name(table, col),
+                        format_time(table, plan->time[plan->last], b, sizeof b),
+                        format_time(table, plan->time[row], a, sizeof a), row_line(table, row));
+}
+
+/* A run of `missing` samples between the values at rows before and after. */
+static el_status gap_error(const timebase_plan *plan, size_t col, size_t before,
+                           size_t after, size_t missing, el_error *err)
+{
+    const el_table *table = plan->table;
+    char a[TIME_TEXT], b[TIME_TEXT];
+    if (before + 1 < after)
+        locate(err, table, before + 1, col);
+    else
+        locate(err, table, after, table->time_column);
+    el_error_hint(err, "choose a window that avoids it with --from/--to, or allow gaps of "
+                       "%zu samples with --max-gap %zu", missing, missing);
+    return el_error_set(err, EL_ERR_DATA,
+                        "channel '%s' is missing for %zu samples in a row, between %s "
+                        "(line %ld) and %s (line %ld); --max-gap is %zu",
+                        column_name(table, col), missing,
+                        format_time(table, plan->time[before], a, sizeof a),
+                        row_line(table, before),
+                        format_time(table, plan->time[after], b, sizeof b),
+                        row_line(table, after), plan->max_gap);
+}
+
+static void note_run(timebase_plan *plan, size_t run, size_t *channel_filled)
+{
+    *channel_filled += run;
+    if (run > plan->longest_run)
+        plan->longest_run = run;
+}
+
+/* Rows are the grid: copy values to their grid index and fill short runs of
+ * missing samples (missing cells and rows absent in a time gap). */
+static el_status fill_on_grid(timebase_plan *plan, size_t col, double *out,
+                              size_t *channel_filled, el_error *err)
+{
+    const el_table *table = plan->table;
+    const double *time = plan->time;
+    const double *x = table->values + col * table->n_rows;
+    size_t g = 0, g_prev = 0, r_prev = 0;
+    int have_prev = 0;
+    for (size_t r = plan->first; r <= plan->last; r++) {
+        if (r > plan->first)
+            g += (size_t)intervals_of(time[r] - time[r - 1], plan->dt_step);
+        if (isnan(x[r]))
+            continue;
+        if (!have_prev && g > 0)
+            return start_error(plan, col, r, err);
+        if (have_prev && g > g_prev + 1) {
+            size_t run = g - g_prev - 1;
+            if (run > plan->max_gap)
+                return gap_error(plan, col, r_prev, r, run, err);
+            double x0 = out[g_prev], x1 = x[r], span = (double)(g - g_prev);
+            for (size_t j = 1; j <= run; j++)
+                out[g_prev + j] = x0 + (x1 - x0) * ((double)j / span);
+            note_run(plan, run, channel_filled);
+        }
+        out[g] = x[r];
+        have_prev = 1;
+        g_prev = g;
+        r_prev = r;
+    }
+    if (!have_prev)
+        return no_values_error(plan, col, err);
+    if (g_prev + 1 < plan->n_samples)
+        return end_error(plan, col, r_prev, err);
+    return EL_OK;
+}
+
+/* Rows are irregular: interpolate linearly between consecutive rows that
+ * have a value onto t0 + k dt; a stretch between two values longer than
+ * max_gap + 1 intervals (or holding more than max_gap missing cells) is a
+ * gap too long to bridge. */
+static el_status fill_resampled(timebase_plan *plan, size_t col, double *out,
+                                size_t *channel_filled, el_error *err)
+{
+    const el_table *table = plan->table;
+    const double *time = plan->time;
+    const double *x = table->values + col * table->n_rows;
+    size_t p = plan->first;
+    while (p <= plan->last && isnan(x[p]))
+        p++;
+    if (p > plan->last)
+        return no_values_error(plan, col, err);
+    if (p > plan->first)
+        return start_error(plan, col, p, err);
+    size_t k = 0;
+    for (size_t q = p + 1; q <= plan->last; q++) {
+        if (isnan(x[q]))
+            continue;
+        double tp = time[p], tq = time[q];
+        double by_time = intervals_of(tq - tp, plan->dt_step) - 1;
+        size_t missing = q - p - 1;
+        if (by_time > (double)missing)
+            missing = (size_t)by_time;
+        if (missing > plan->max_gap)
+            return gap_error(plan, col, p, q, missing, err);
+        if (missing > 0)
+            note_run(plan, missing, channel_filled);
+        for (; k < plan->n_samples; k++) {
+            double t = plan->t0 + (double)k * plan->dt;
+            if (t > tq)
+                break;
+            double w = (t - tp) / (tq - tp);
+            out[k] = x[p] + (x[q] - x[p]) * w;
+        }
+        p = q;
+    }
+    if (k < plan->n_samples)
+        return end_error(plan, col, p, err);
+    return EL_OK;
+}
+
+/* ---- assembly ----------------------------------------------------------- */
+
+static el_status allocate_series(const el_table *table, const size_t *channels,
+                                 size_t n_channels, size_t n_samples, el_series *s,
+                                 el_error *err)
+{
+    if (n_samples > SIZE_MAX / sizeof(double) / n_channels)
+        return el_error_set(err, EL_ERR_NOMEM, "a series of %zu samples x %zu channels is too large",
+                            n_samples, n_channels);
+    s->n_channels = n_channels;
+    s->n_samples = n_samples;
+    s->values = malloc(n_samples * n_channels * sizeof *s->values);
+    s->names = calloc(n_channels, sizeof *s->names);
+    s->units = calloc(n_channels, sizeof *s->units);
+    s->source_column = malloc(n_channels * sizeof *s->source_column);
+    int ok = s->values != NULL && s->names != NULL && s->units != NULL
+             && s->source_column != NULL;
+    for (size_t c = 0; ok && c < n_channels; c++) {
+        size_t col = channels[c];
+        s->source_column[c] = col;
+        s->names[c] = copy_text(table->names != NULL ? table->names[col] : NULL);
+        s->units[c] = copy_text(table->units != NULL ? table->units[col] : NULL);
+        ok = s->names[c] != NULL && s->units[c] != NULL;
+    }
+    if (!ok)
+        return el_error_set(err, EL_ERR_NOMEM, "out of memory for a series of %zu samples x %zu channels",
+                            n_samples, n_channels);
+    return EL_OK;
+}
+
+/* Adds both warnings or neither. */
+static el_status add_warnings(const timebase_plan *plan, double jitter_limit,
+                              el_warnings *warnings, el_error *err)
+{
+    size_t count_before = warnings != NULL ? warnings->count : 0;
+    el_status st = EL_OK;
+    if (plan->resample) {
+        char unit[80];
+        st = el_warnings_add(warnings,
+                             "sample interval varies by up to %.3g%% (more than %.3g%%): "
+                             "resampled onto a uniform grid of dt = %.9g%s by linear interpolation",
+                             100 * plan->jitter, 100 * jitter_limit, plan->dt,
+                             time_unit_suffix(plan->table, unit, sizeof unit));
+    }
+    if (st == EL_OK && plan->filled > 0)
+        st = el_warnings_add(warnings,
+                             "filled %zu missing sample%s in %zu channel%s by linear "
+                             "interpolation (longest run %zu sample%s; --max-gap is %zu)",
+                             plan->filled, plan->filled == 1 ? "" : "s",
+                             plan->channels_filled, plan->channels_filled == 1 ? "" : "s",
+                             plan->longest_run, plan->longest_run == 1 ? "" : "s",
+                             plan->max_gap);
+    if (st != EL_OK) {
+        while (warnings->count > count_before)
+            free(warnings->items[--warnings->count]);
+        return el_error_set(err, st, "out of memory for a warning");
+    }
+    return EL_OK;
+}
+
+static el_status build(const el_table *table, const size_t *channels, size_t n_channels,
+                       const el_timebase_options *opt, el_series *series,
+                       el_warnings *warnings, el_error *err)
+{
+    el_status st = check_arguments(table, channels, n_channels, opt, err);
+    if (st == EL_OK)
+        st = check_time_order(table, err);
+    if (st != EL_OK)
+        return st;
+    timebase_plan plan = {
+        .table = table,
+        .time = table->values != NULL ? table->values + table->time_column * table->n_rows : NULL,
+        .max_gap = opt->max_gap,
+    };
+    st = select_window(table, opt, &plan, err);
+    if (st != EL_OK)
+        return st;
+
+    double *steps = malloc((plan.last - plan.first) * sizeof *steps);
+    if (steps == NULL)
+        return el_error_set(err, EL_ERR_NOMEM, "out of memory for %zu time steps",
+                            plan.last - plan.first);
+    st = plan_grid(&plan, opt->jitter_limit, steps, err);
+    free(steps);
+    if (st != EL_OK)
+        return st;
+
+    st = allocate_series(table, channels, n_channels, plan.n_samples, series, err);
+    for (size_t c = 0; st == EL_OK && c < n_channels; c++) {
+        double *out = series->values + c * plan.n_samples;
+        size_t channel_filled = 0;
+        st = plan.resample ? fill_resampled(&plan, channels[c], out, &channel_filled, err)
+                           : fill_on_grid(&plan, channels[c], out, &channel_filled, err);
+        plan.filled += channel_filled;
+        plan.channels_filled += channel_filled > 0;
+    }
+    if (st != EL_OK)
+        return st;
+    series->dt = plan.dt;
+    series->t0 = plan.t0;
+    series->rows_used = plan.last - plan.first + 1;
+    series->filled_cells = plan.filled;
+    series->resampled = plan.resample;
+    series->jitter = plan.jitter;
+    return add_warnings(&plan, opt->jitter_limit, warnings, err);
+}
+
+el_status el_series_build(const el_table *table, const size_t *channels,
+                          size_t n_channels, const el_timebase_options *opt,
+                          el_series *series, el_warnings *warnings,
+                          el_error *err)
+{
+    if (series == NULL)
+        return el_error_set(err, EL_ERR_INTERNAL, "el_series_build: NULL series");
+    memset(series, 0, sizeof *series);
+    el_timebase_options defaults;
+    if (opt == NULL) {
+        el_timebase_defaults(&defaults);
+        opt = &defaults;
+    }
+    el_status st = build(table, channels, n_channels, opt, series, warnings, err);
+    if (st != EL_OK)
+        el_series_free(series);
+    return st;
+}

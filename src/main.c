@@ -1,0 +1,54 @@
+/* eigenlog: command-line entry point; dispatches to the subcommands. */
+#include <stdio.h>
+#include <string.h>
+
+#include "cli.h"
+#include "el_report.h"
+
+typedef struct {
+    const char *name;
+    int (*run)(int argc, char **argv);
+    const char *summary;
+} subcommand;
+
+static const subcommand SUBCOMMANDS[] = {
+    {"assess", cli_assess, "the main job: model, modes, type and stability of one operating window"},
+    {"scan", cli_scan, "channels, units, rows, time span, sample interval and ranges of a log"},
+    {"spectrum", cli_spectrum, "power spectral density per channel (Welch) and its peaks"},
+    {"demo", cli_demo, "write the invented demo logs"},
+};
+static const size_t N_SUBCOMMANDS = sizeof SUBCOMMANDS / sizeof SUBCOMMANDS[0];
+
+static void print_main_help(void)
+{
+    printf("eigenlog %s: is this operating point stable, with what margin, and how sure?\n\n",
+           EL_VERSION);
+    printf("usage: eigenlog SUBCOMMAND [FILE] [options]   (FILE may be - for stdin)\n\n");
+    printf("subcommands:\n");
+    for (size_t i = 0; i < N_SUBCOMMANDS; i++)
+        printf("  %-10s %s\n", SUBCOMMANDS[i].name, SUBCOMMANDS[i].summary);
+    printf("\n'eigenlog SUBCOMMAND --help' lists the options of one subcommand.\n");
+    printf("Exit status: 0 done, 1 usage error, 2 bad input data, 3 numerical failure,\n"
+           "4 input/output error, 5 verdict matched --fail-on.\n");
+}
+
+int main(int argc, char **argv)
+{
+    if (argc < 2 || strcmp(argv[1], "--help") == 0 || strcmp(argv[1], "-h") == 0 ||
+        strcmp(argv[1], "help") == 0) {
+        print_main_help();
+        return argc < 2 ? 1 : 0;
+    }
+    if (strcmp(argv[1], "--version") == 0) {
+        printf("eigenlog %s\n", EL_VERSION);
+        return 0;
+    }
+    for (size_t i = 0; i < N_SUBCOMMANDS; i++)
+        if (strcmp(argv[1], SUBCOMMANDS[i].name) == 0)
+            return SUBCOMMANDS[i].run(argc - 2, argv + 2);
+    fprintf(stderr, "eigenlog: unknown subcommand '%s'\n  hint: one of", argv[1]);
+    for (size_t i = 0; i < N_SUBCOMMANDS; i++)
+        fprintf(stderr, " %s", SUBCOMMANDS[i].name);
+    fprintf(stderr, "; see eigenlog --help\n");
+    return 1;
+}

@@ -1,0 +1,786 @@
+/* test_ingest: CSV reading (quoting, delimiters, comments, CRLF, BOM, long
+ * lines, stdin), strict cells, ISO 8601 time, errors with locations, time
+ * parsing and formatting, and the scan summary. */
+#include "el_test.h"
+
+#include <stdlib.h>
+#include <string.h>
+
+#include "el_ingest.h"
+
+/* Tolerance policy. Cells are decimal text; ingest must return the
+ * correctly rounded double of that text, which is what glibc's strtod
+ * (an independent, correctly rounding implementation) returns for the same
+ * text: those comparisons are exact (tolerance 0). ISO times and scan
+ * statistics are compared with the tolerances stated beside them. */
+
+/* Reads len bytes of text (may hold NUL) through a temporary stream. */
+static el_status read_bytes(const char *text, size_t len, const char *time_col,
+                            el_table *t, el_error *e)
+{
+    FILE *fp = tmpfile();
+    assert_non_null(fp);
+    assert_int_equal(fwrite(text, 1, len, fp), len);
+    rewind(fp);
+    el_ingest_options opt = {time_col};
+    el_status st = el_table_read_stream(fp, "test.csv", &opt, t, e);
+    fclose(fp);
+    return st;
+}
+
+static el_status read_text(const char *text, el_table *t, el_error *e)
+{
+    return read_bytes(text, strlen(text), NULL, t, e);
+}
+
+static double cell(const el_table *t, size_t row, size_t col)
+{
+    return t->values[col * t->n_rows + row];
+}
+
+/* Checks an error: status, line, column, file, and that a hint is given. */
+static void expect_error(const char *text, el_status status, long line, long column)
+{
+    el_table t = {0};
+    el_error e;
+    el_status st = read_text(text, &t, &e);
+    if (st != status || e.line != line || e.column != column) {
+        char buf[1200];
+        print_error("input:\n%s\ngot status %d line %ld column %ld: %s\n", text, (int)st,
+                    e.line, e.column, el_error_format(&e, buf, sizeof buf));
+    }
+    assert_int_equal(st, status);
+    assert_int_equal(e.line, line);
+    assert_int_equal(e.column, column);
+    assert_string_equal(e.file, "test.csv");
+    assert_true(strlen(e.hint) > 0);
+    assert_int_equal(t.n_rows, 0);
+    assert_null(t.values);
+    el_table_free(&t);
+}
+
+/* As expect_error, and the hint must contain word. */
+static void expect_error_hint(const char *text, long line, long column, const char *word)
+{
+    el_table t = {0};
+    el_error e;
+    assert_int_equal(read_text(text, &t, &e), EL_ERR_DATA);
+    assert_int_equal(e.line, line);
+    assert_int_equal(e.column, column);
+    if (strstr(e.hint, word) == NULL)
+        fail_msg("hint \"%s\" lacks \"%s\"", e.hint, word);
+    el_table_free(&t);
+}
+
+/* ------------------------------------------------------------------ */
+/* Features                                                           */
+
+static void test_basic_table(void **state)
+{
+    (void)state;
+    const char *csv = "# exported by a logger\n"
+                      "time [s], pressure  [ bar ] ,flow\n"
+                      "\n"
+                      "0.0,1.5,10\n"
+                      "# a comment between rows\n"
+                      "   # an indented comment with a stray \" quote\n"
+                      "0.5, 2.25 ,NA\n"
+                      "1.0,,nan\n"
+                      "1.5,  NaN  ,-3e2\n"
+                      "2.0,na,\n";
+    el_table t = {0};
+    el_error e;
+    assert_int_equal(read_text(csv, &t, &e), EL_OK);
+    assert_int_equal(t.n_rows, 5);
+    assert_int_equal(t.n_columns, 3);
+    assert_int_equal(t.delimiter, ',');
+    assert_int_equal(t.time_column, 0);
+    assert_int_equal(t.time_is_iso, 0);
+    assert_string_equal(t.source, "test.csv");
+    assert_string_equal(t.names[0], "time");
+    assert_string_equal(t.units[0], "s");
+    assert_string_equal(t.names[1], "pressure");
+    assert_string_equal(t.units[1], "bar");
+    assert_string_equal(t.names[2], "flow");
+    assert_string_equal(t.units[2], "");
+    const long lines[] = {4, 7, 8, 9, 10};
+    for (size_t r = 0; r < 5; r++) {
+        assert_int_equal(t.source_line[r], lines[r]);
+        assert_close(cell(&t, r, 0), 0.5 * (double)r, 0, 0); /* exact decimal */
+    }
+    assert_close(cell(&t, 0, 1), 1.5, 0, 0);
+    assert_close(cell(&t, 1, 1), 2.25, 0, 0);
+    assert_true(isnan(cell(&t, 2, 1)) && isnan(cell(&t, 3, 1)) && isnan(cell(&t, 4, 1)));
+    assert_close(cell(&t, 0, 2), 10.0, 0, 0);
+    assert_true(isnan(cell(&t, 1, 2)) && isnan(cell(&t, 2, 2)) && isnan(cell(&t, 4, 2)));
+    assert_close(cell(&t, 3, 2), -300.0, 0, 0);
+    assert_int_equal(t.missing[0], 0);
+    assert_int_equal(t.missing[1], 3);
+    assert_int_equal(t.missing[2], 3);
+    assert_int_equal(el_table_find(&t, "flow"), 2);
+    assert_int_equal(el_table_find(&t, "pressure"), 1);
+    assert_int_equal(el_table_find(&t, "pressure [bar]"), -1);
+    assert_int_equal(el_table_find(&t, "Flow"), -1);
+    el_table_free(&t);
+    assert_null(t.names);
+    el_table_free(&t); /* harmless twice */
+    el_table_free(NULL);
+}
+
+static void test_semicolon_and_tab(void **state)
+{
+    (void)state;
+    el_table t = {0};
+    el_error e;
+    assert_int_equal(read_text("t;x [m,s];y\n1;2.5;-1\n2;3.5;NA\n", &t, &e), EL_OK);
+    assert_int_equal(t.delimiter, ';');
+    assert_int_equal(t.n_columns, 3);
+    assert_string_equal(t.units[1], "m,s");
+    assert_close(cell(&t, 1, 1), 3.5, 0, 0);
+    assert_int_equal(t.missing[2], 1);
+    el_table_free(&t);
+    /* One comma (inside the unit) ties with one semicolon: ';' wins. */
+    assert_int_equal(read_text("t;x [m,s]\n1;2.5\n", &t, &e), EL_OK);
+    assert_int_equal(t.delimiter, ';');
+    assert_int_equal(t.n_columns, 2);
+    el_table_free(&t);
+    /* A tab ties with a comma: the tab wins. */
+    assert_int_equal(read_text("t\tx, y\n1\t2\n", &t, &e), EL_OK);
+    assert_int_equal(t.delimiter, '\t');
+    el_table_free(&t);
+
+    assert_int_equal(read_text("t\tx, y [V]\tz\n1\t 2 \t3\n", &t, &e), EL_OK);
+    assert_int_equal(t.delimiter, '\t');
+    assert_string_equal(t.names[1], "x, y");
+    assert_string_equal(t.units[1], "V");
+    assert_close(cell(&t, 0, 1), 2.0, 0, 0);
+    assert_close(cell(&t, 0, 2), 3.0, 0, 0);
+    el_table_free(&t);
+
+    /* Quoted delimiters do not count in the detection. */
+    assert_int_equal(read_text("\"a;b;c\",x\n1,2\n", &t, &e), EL_OK);
+    assert_int_equal(t.delimiter, ',');
+    assert_string_equal(t.names[0], "a;b;c");
+    el_table_free(&t);
+
+    /* One column: no delimiter at all. */
+    assert_int_equal(read_text("t\n1\n2\n", &t, &e), EL_OK);
+    assert_int_equal(t.n_columns, 1);
+    assert_int_equal(t.n_rows, 2);
+    el_table_free(&t);
+}
+
+static void test_quoted_fields(void **state)
+{
+    (void)state;
+    const char *csv = "time,\"flow, inlet [l/s]\",\"two\nline \"\"name\"\"\"\r\n"
+                      "0,\"1.5\", \"2\" \r\n"
+                      "1,\"\",\"NA\"\r\n"
+                      "2,3,4";                       /* no final newline */
+    el_table t = {0};
+    el_error e;
+    assert_int_equal(read_text(csv, &t, &e), EL_OK);
+    assert_int_equal(t.n_rows, 3);
+    assert_string_equal(t.names[1], "flow, inlet");
+    assert_string_equal(t.units[1], "l/s");
+    assert_string_equal(t.names[2], "two\nline \"name\"");
+    /* The header spans lines 1-2, so the rows are on lines 3, 4 and 5. */
+    assert_int_equal(t.source_line[0], 3);
+    assert_int_equal(t.source_line[1], 4);
+    assert_int_equal(t.source_line[2], 5);
+    assert_close(cell(&t, 0, 1), 1.5, 0, 0);
+    assert_close(cell(&t, 0, 2), 2.0, 0, 0);
+    assert_true(isnan(cell(&t, 1, 1)) && isnan(cell(&t, 1, 2)));
+    assert_close(cell(&t, 2, 2), 4.0, 0, 0);
+    el_table_free(&t);
+}
+
+/* CRLF line ends and a UTF-8 byte-order mark, read from a file path. */
+static void test_file_crlf_bom(void **state)
+{
+    (void)state;
+    char path[] = "/tmp/test_ingest_XXXXXX";
+    int fd = mkstemp(path);
+    assert_true(fd >= 0);
+    FILE *fp = fdopen(fd, "wb");
+    assert_non_null(fp);
+    fputs("\xEF\xBB\xBFt [s];w\xC3\xA4rme [\xC2\xB0" "C]\r\n# c\r\n0;20.5\r\n\r\n1;21\r\n", fp);
+    fclose(fp);
+    el_table t = {0};
+    el_error e;
+    assert_int_equal(el_table_read(path, NULL, &t, &e), EL_OK);
+    assert_string_equal(t.source, path);
+    assert_string_equal(t.names[0], "t"); /* the mark is not part of the name */
+    assert_string_equal(t.names[1], "w\xC3\xA4rme");
+    assert_string_equal(t.units[1], "\xC2\xB0" "C");
+    assert_int_equal(t.n_rows, 2);
+    assert_int_equal(t.source_line[1], 5);
+    assert_close(cell(&t, 1, 1), 21.0, 0, 0);
+    el_table_free(&t);
+
+    /* The same file as standard input through "-". */
+    assert_non_null(freopen(path, "rb", stdin));
+    assert_int_equal(el_table_read("-", NULL, &t, &e), EL_OK);
+    assert_string_equal(t.source, "<stdin>");
+    assert_int_equal(t.n_rows, 2);
+    el_table_free(&t);
+    remove(path);
+}
+
+/* A stream in memory, as a pipe into stdin would give it. */
+static void test_stream_fmemopen(void **state)
+{
+    (void)state;
+    char text[] = "t,x\n0,1\n1,2\n";
+    FILE *fp = fmemopen(text, strlen(text), "r");
+    assert_non_null(fp);
+    el_table t = {0};
+    el_error e;
+    assert_int_equal(el_table_read_stream(fp, "<stdin>", NULL, &t, &e), EL_OK);
+    fclose(fp);
+    assert_string_equal(t.source, "<stdin>");
+    assert_close(cell(&t, 1, 1), 2.0, 0, 0);
+    el_table_free(&t);
+}
+
+/* Records far longer than the 64 KiB read chunk: a 1.5 MB comment, a
+ * 1.2 MB header name in quotes holding a newline and a doubled quote,
+ * and a cell padded with 1.1 MB of blanks. */
+static void test_long_lines(void **state)
+{
+    (void)state;
+    const size_t comment = 1500000, name = 1200000, pad = 1100000;
+    size_t cap = comment + name + pad + 200, n = 0;
+    char *text = malloc(cap);
+    assert_non_null(text);
+    text[n++] = '#';
+    memset(text + n, 'c', comment);
+    n += comment;
+    n += (size_t)sprintf(text + n, "\nt,\"");
+    memset(text + n, 'a', name);
+    text[n + name / 2] = '\n';
+    text[n + name / 3] = '"'; /* written twice: one quote in the name */
+    text[n + name / 3 + 1] = '"';
+    n += name;
+    n += (size_t)sprintf(text + n, " [u]\"\n0,");
+    memset(text + n, ' ', pad);
+    n += pad;
+    n += (size_t)sprintf(text + n, "7.25\n1,8\n");
+    el_table t = {0};
+    el_error e;
+    assert_int_equal(read_bytes(text, n, NULL, &t, &e), EL_OK);
+    assert_int_equal(t.n_rows, 2);
+    assert_int_equal(strlen(t.names[1]), name - 1);
+    assert_string_equal(t.units[1], "u");
+    assert_int_equal(t.source_line[0], 4); /* comment, header over lines 2-3 */
+    assert_int_equal(t.source_line[1], 5);
+    assert_close(cell(&t, 0, 1), 7.25, 0, 0);
+    el_table_free(&t);
+
+    /* A long bad cell is quoted cut short in the message. */
+    memset(text, 'x', pad);
+    memcpy(text, "t,x\n0,", 6);
+    text[pad] = '\0';
+    assert_int_equal(read_text(text, &t, &e), EL_ERR_DATA);
+    assert_int_equal(e.line, 2);
+    assert_int_equal(e.column, 3);
+    assert_non_null(strstr(e.message, "..."));
+    assert_true(strlen(e.message) < 200);
+    free(text);
+}
+
+/* Many rows across several read chunks, with quoted numbers, compared
+ * bitwise with strtod of the same text. Formats cover Clinger's fast path
+ * (<= 15 digits) and the strtod fallback (17 digits, big exponents). */
+static void test_numbers_match_strtod(void **state)
+{
+    (void)state;
+    static const char *fixed[] = {
+        "0",       "-0",        "+3",          ".5",        "5.",          "1e-5",
+        "1E+5",    "-2.5e-3",   "0.1",         "0.30000000000000004",
+        "1.7976931348623157e308", "4.9e-324",  "2.2250738585072014e-308",
+        "123456789012345678901234567890",      "0.000000000000000000000000012345",
+        "9007199254740993",       "9007199254740992", "1e22", "1e23", "1e-22",
+        "1e-999",  "00012.50",  "-.75",        "1e0400000000000000000000000000"};
+    size_t nfixed = sizeof fixed / sizeof fixed[0] - 1; /* last is an overflow */
+    const size_t nrand = 30000;
+    size_t cap = 64 * (nfixed + nrand) + 64, n = 0;
+    char *text = malloc(cap);
+    char(*cells)[48] = malloc((nfixed + nrand) * sizeof *cells);
+    assert_non_null(text);
+    assert_non_null(cells);
+    n += (size_t)sprintf(text + n, "t,x\n");
+    uint64_t s = 88172645463325252u; /* xorshift64 (Marsaglia 2003) */
+    for (size_t i = 0; i < nfixed + nrand; i++) {
+        if (i < nfixed) {
+            snprintf(cells[i], sizeof cells[i], "%s", fixed[i]);
+        } else {
+            s ^= s << 13;
+            s ^= s >> 7;
+            s ^= s << 17;
+            double u = (double)(s >> 11) / 9007199254740992.0 - 0.5;
+            double v = u * pow(10.0, (double)((int)(s % 41) - 20));
+            switch (i % 5) {
+            case 0: snprintf(cells[i], sizeof cells[i], "%.17g", v); break;
+            case 1: snprintf(cells[i], sizeof cells[i], "%.6f", v); break;
+            case 2: snprintf(cells[i], sizeof cells[i], "%.3e", v); break;
+            case 3: snprintf(cells[i], sizeof cells[i], "%.15g", v); break;
+            default: snprintf(cells[i], sizeof cells[i], "%.9g", v); break;
+            }
+        }
+        const char *q = i % 7 == 0 ? "\"" : "";
+        n += (size_t)sprintf(text + n, "%zu,%s%s%s\n", i, q, cells[i], q);
+    }
+    el_table t = {0};
+    el_error e;
+    assert_int_equal(read_bytes(text, n, NULL, &t, &e), EL_OK);
+    assert_int_equal(t.n_rows, nfixed + nrand);
+    for (size_t i = 0; i < t.n_rows; i++) {
+        double want = strtod(cells[i], NULL);
+        double got = cell(&t, i, 1);
+        if (memcmp(&got, &want, sizeof got) != 0)
+            fail_msg("cell \"%s\": got %.17g, strtod %.17g", cells[i], got, want);
+    }
+    el_table_free(&t);
+    free(cells);
+    free(text);
+    /* The last fixed entry overflows: refused as out of range. */
+    char bad[128];
+    snprintf(bad, sizeof bad, "t,x\n0,%s\n", fixed[nfixed]);
+    assert_int_equal(read_text(bad, &t, &e), EL_ERR_DATA);
+    assert_non_null(strstr(e.message, "out of range"));
+}
+
+static void test_time_column_by_name(void **state)
+{
+    (void)state;
+    el_table t = {0};
+    el_error e;
+    assert_int_equal(read_bytes("x,t2,y\n1,-5,2\n,-4.5,3\n", 22, "t2", &t, &e), EL_OK);
+    assert_int_equal(t.time_column, 1);
+    assert_close(cell(&t, 1, 1), -4.5, 0, 0);
+    assert_int_equal(t.missing[0], 1);
+    el_table_free(&t);
+}
+
+/* Expected values from Python 3.11:
+ *   d = datetime.fromisoformat(s)  (naive d gets tzinfo=timezone.utc)
+ *   origin = math.floor(d0.timestamp())
+ *   rel = (d - datetime(1970,1,1,tzinfo=timezone.utc)
+ *          - timedelta(seconds=origin)) / timedelta(seconds=1)
+ * which gave origin 1709144999 and the rel values below. */
+static void test_iso_times(void **state)
+{
+    (void)state;
+    const char *csv = "time,x\n"
+                      "2024-02-28T23:59:59.125+05:30,1\n"
+                      "2024-02-29T00:00:00.5+05:30,2\n"   /* leap day */
+                      "2024-02-29T12:34:56.789-08:00,3\n"
+                      "2024-03-01T00:00:00Z,4\n"
+                      "2024-03-01 01:02:03.000001+0100,5\n"
+                      "2024-03-01T02:00:00,6\n";          /* no zone: UTC */
+    static const double rel[] = {0.125, 1.5, 93897.789, 106201.0, 106324.000001, 113401.0};
+    el_table t = {0};
+    el_error e;
+    assert_int_equal(read_text(csv, &t, &e), EL_OK);
+    assert_int_equal(t.time_is_iso, 1);
+    assert_int_equal(t.time_origin_unix_s, 1709144999);
+    assert_int_equal(t.time_zone_minutes, 330);
+    /* 1e-9 s: the inputs have microsecond resolution and the doubles near
+     * 1e5 s have a spacing of 1.5e-11 s, so any conversion error shows. */
+    assert_close_array(t.values, rel, 6, 0, 1e-9);
+    el_table_free(&t);
+}
+
+/* Calendar edges: Python 3.11 int(datetime.fromisoformat(s).timestamp())
+ * for each s below (all with Z), e.g. 2100 is not a leap year, 2000 is. */
+static void test_iso_calendar(void **state)
+{
+    (void)state;
+    const char *csv = "time,x\n"
+                      "1970-01-01T00:00:00Z,0\n"
+                      "1900-03-01T00:00:00Z,0\n"
+                      "2000-02-29T00:00:00Z,0\n"
+                      "2100-02-28T23:59:59Z,0\n"
+                      "2100-03-01T00:00:00Z,0\n"
+                      "1600-02-29T00:00:00Z,0\n"
+                      "9999-12-31T23:59:59Z,0\n"
+                      "0001-01-01T00:00:00Z,0\n"
+                      "1969-12-31T23:59:59Z,0\n";
+    static const double unix_s[] = {0.0, -2203891200.0, 951782400.0, 4107542399.0,
+                                    4107542400.0, -11670998400.0, 253402300799.0,
+                                    -62135596800.0, -1.0};
+    el_table t = {0};
+    el_error e;
+    assert_int_equal(read_text(csv, &t, &e), EL_OK);
+    assert_int_equal(t.time_origin_unix_s, 0);
+    /* Whole seconds below 2^53: exact. */
+    assert_close_array(t.values, unix_s, 9, 0, 0);
+    el_table_free(&t);
+
+    /* Before 1970 with a fraction: Python gives -0.5 for
+     * 1969-12-31T23:59:59.5Z; the origin is the whole second below it. */
+    assert_int_equal(read_text("time,x\n1969-12-31T23:59:59.5Z,1\n", &t, &e), EL_OK);
+    assert_int_equal(t.time_origin_unix_s, -1);
+    assert_close(cell(&t, 0, 0), 0.5, 0, 0);
+    el_table_free(&t);
+}
+
+static void test_parse_time(void **state)
+{
+    (void)state;
+    el_table t = {0};
+    el_error e;
+    double v;
+    assert_int_equal(read_text("time,x\n2024-02-28T23:59:59.125+05:30,1\n"
+                               "2024-02-29T00:00:01+05:30,2\n", &t, &e), EL_OK);
+    assert_int_equal(el_table_parse_time(&t, " 12.5 ", &v, &e), EL_OK);
+    assert_close(v, 12.5, 0, 0);
+    /* 2024-02-29T00:00:00.125+05:30 written in UTC: 1 s after the origin
+     * second plus 0.125 s; exact in binary, so tolerance 0. */
+    assert_int_equal(el_table_parse_time(&t, "2024-02-28T18:30:00.125Z", &v, &e), EL_OK);
+    assert_close(v, 1.125, 0, 0);
+    /* No zone: read on the clock of the first row (+05:30). */
+    assert_int_equal(el_table_parse_time(&t, "2024-02-29T00:00:00", &v, &e), EL_OK);
+    assert_close(v, 1.0, 0, 0);
+    /* A date alone is midnight in that zone: 24 h before the previous. */
+    assert_int_equal(el_table_parse_time(&t, "2024-02-28", &v, &e), EL_OK);
+    assert_close(v, 1.0 - 86400.0, 0, 0);
+    el_error_clear(&e);
+    assert_int_equal(el_table_parse_time(&t, "yesterday", &v, &e), EL_ERR_USAGE);
+    assert_true(strlen(e.hint) > 0);
+    assert_int_equal(el_table_parse_time(&t, "2024-02-30T00:00:00", &v, &e), EL_ERR_USAGE);
+    assert_non_null(strstr(e.message, "day"));
+    assert_int_equal(el_table_parse_time(&t, "inf", &v, &e), EL_ERR_USAGE);
+    el_table_free(&t);
+
+    assert_int_equal(read_text("t,x\n0,1\n", &t, &e), EL_OK);
+    assert_int_equal(el_table_parse_time(&t, "-3e-3", &v, &e), EL_OK);
+    assert_close(v, -3e-3, 0, 0);
+    assert_int_equal(el_table_parse_time(&t, "2024-02-28T00:00:00", &v, &e), EL_ERR_USAGE);
+    assert_non_null(strstr(e.hint, "not a date-time"));
+    el_table_free(&t);
+}
+
+static void test_format_time(void **state)
+{
+    (void)state;
+    el_table t = {0};
+    el_error e;
+    char buf[64];
+    assert_int_equal(read_text("time,x\n2024-02-28T23:59:59.125+05:30,1\n", &t, &e), EL_OK);
+    assert_string_equal(el_table_format_time(&t, 0.125, buf, sizeof buf),
+                        "2024-02-28T23:59:59.125+05:30");
+    /* 0.875 s later crosses into the leap day. */
+    assert_string_equal(el_table_format_time(&t, 1.0, buf, sizeof buf),
+                        "2024-02-29T00:00:00.000+05:30");
+    assert_string_equal(el_table_format_time(&t, -0.5, buf, sizeof buf),
+                        "2024-02-28T23:59:58.500+05:30");
+    /* Milliseconds are rounded to nearest, not truncated. */
+    assert_string_equal(el_table_format_time(&t, 0.1256, buf, sizeof buf),
+                        "2024-02-28T23:59:59.126+05:30");
+    assert_string_equal(el_table_format_time(&t, 0.9996, buf, sizeof buf),
+                        "2024-02-29T00:00:00.000+05:30");
+    assert_string_equal(el_table_format_time(&t, -0.0004, buf, sizeof buf),
+                        "2024-02-28T23:59:59.000+05:30");
+    /* Round trip through the parser (to the millisecond printed). */
+    double v;
+    el_table_format_time(&t, 93897.789, buf, sizeof buf);
+    assert_int_equal(el_table_parse_time(&t, buf, &v, &e), EL_OK);
+    assert_close(v, 93897.789, 0, 1e-9);
+    el_table_free(&t);
+
+    assert_int_equal(read_text("time,x\n1969-12-31T16:00:00-08:00,1\n", &t, &e), EL_OK);
+    assert_string_equal(el_table_format_time(&t, 0.0, buf, sizeof buf),
+                        "1969-12-31T16:00:00.000-08:00");
+    el_table_free(&t);
+
+    assert_int_equal(read_text("t,x\n0,1\n", &t, &e), EL_OK);
+    assert_string_equal(el_table_format_time(&t, 0.1, buf, sizeof buf), "0.1");
+    assert_string_equal(el_table_format_time(&t, 1234567.891, buf, sizeof buf), "1234567.89");
+    el_table_free(&t);
+}
+
+/* Expected numbers from numpy 1.24 on the same text (saved as scan.csv):
+ *   d = np.genfromtxt('scan.csv', delimiter=',', skip_header=1,
+ *                     missing_values=['NA','NaN',''], filling_values=np.nan)
+ *   s = np.diff(d[:,0]); m = np.median(s)
+ *   jitter = np.max(np.abs(s - m)) / m; long = np.sum(s > 1.5*m)
+ *   per column v = d[~np.isnan(d[:,c]), c]: len, min, mean, std(ddof=1), max */
+static void test_scan(void **state)
+{
+    (void)state;
+    const char *csv = "t [s],a [V],b\n"
+                      "0.0,1.5,10\n0.1,NA,20\n0.2,2.5,\n0.35,-1.0,40\n0.45,3.25,50\n"
+                      "0.55,0.5,NaN\n0.85,2.0,70\n0.95,,80\n1.05,4.75,-5\n";
+    el_table t = {0};
+    el_error e;
+    el_scan s = {0};
+    assert_int_equal(read_text(csv, &t, &e), EL_OK);
+    assert_int_equal(el_scan_table(&t, &s, &e), EL_OK);
+    /* 1e-12 relative: sums of a few doubles of unit size; numpy and this
+     * code may add in a different order (rounding ~1e-16 per step). */
+    const double rtol = 1e-12;
+    assert_int_equal(s.n_rows, 9);
+    assert_close(s.time_first, 0.0, 0, 0);
+    assert_close(s.time_last, 1.05, 0, 0);
+    assert_close(s.dt_median, 0.10000000000000003, rtol, 0);
+    assert_close(s.dt_min, 0.09999999999999998, rtol, 0);
+    assert_close(s.dt_max, 0.29999999999999993, rtol, 0);
+    assert_close(s.jitter, 1.9999999999999984, rtol, 0);
+    assert_int_equal(s.long_steps, 1);
+    assert_int_equal(s.nonpositive_steps, 0);
+    static const size_t present[] = {9, 7, 7};
+    static const double lo[] = {0.0, -1.0, -5.0}, hi[] = {1.05, 4.75, 80.0};
+    static const double mean[] = {0.5, 1.9285714285714286, 37.857142857142854};
+    static const double std[] = {0.3799671038392666, 1.8636561608071072, 31.339158526400436};
+    for (size_t c = 0; c < 3; c++) {
+        assert_int_equal(s.columns[c].present, present[c]);
+        assert_int_equal(s.columns[c].missing, 9 - present[c]);
+        assert_close(s.columns[c].min, lo[c], 0, 0);
+        assert_close(s.columns[c].max, hi[c], 0, 0);
+        assert_close(s.columns[c].mean, mean[c], rtol, 0);
+        assert_close(s.columns[c].std, std[c], rtol, 0);
+    }
+    el_scan_free(&s);
+    el_scan_free(&s);
+    el_scan_free(NULL);
+    el_table_free(&t);
+
+    /* Even number of steps with distinct middle pair (closed form): steps
+     * 1, 2, 3, 4 -> median (2 + 3) / 2 = 2.5, jitter |1 - 2.5| / 2.5 = 0.6,
+     * one step (4) above 1.5 * 2.5 = 3.75. Small integers and halves:
+     * exact in binary, but the jitter divides: 1 ulp (rtol 1e-15). */
+    assert_int_equal(read_text("t,x\n0,1\n1,1\n3,1\n6,1\n10,1\n", &t, &e), EL_OK);
+    assert_int_equal(el_scan_table(&t, &s, &e), EL_OK);
+    assert_close(s.dt_median, 2.5, 0, 0);
+    assert_close(s.jitter, 0.6, 1e-15, 0);
+    assert_int_equal(s.long_steps, 1);
+    el_scan_free(&s);
+    el_table_free(&t);
+
+    /* All missing: zeros, no NaN; one value: std 0 (n-1 undefined). */
+    assert_int_equal(read_text("t,a,b\n0,NA,5\n1,,NA\n", &t, &e), EL_OK);
+    assert_int_equal(el_scan_table(&t, &s, &e), EL_OK);
+    assert_int_equal(s.columns[1].present, 0);
+    assert_true(s.columns[1].mean == 0.0 && s.columns[1].std == 0.0 &&
+                s.columns[1].min == 0.0 && s.columns[1].max == 0.0);
+    assert_close(s.columns[2].mean, 5.0, 0, 0);
+    assert_close(s.columns[2].std, 0.0, 0, 0);
+    el_scan_free(&s);
+    el_table_free(&t);
+}
+
+static void test_scan_errors(void **state)
+{
+    (void)state;
+    el_table t = {0};
+    el_error e;
+    el_scan s = {0};
+    assert_int_equal(read_text("t,x\n0,1\n", &t, &e), EL_OK);
+    assert_int_equal(el_scan_table(&t, &s, &e), EL_ERR_DATA);
+    assert_true(strlen(e.hint) > 0);
+    assert_null(s.columns);
+    el_table_free(&t);
+    /* Steps 0, 0, 1: median 0, the time does not increase. */
+    assert_int_equal(read_text("t,x\n0,1\n0,1\n0,1\n1,1\n", &t, &e), EL_OK);
+    assert_int_equal(el_scan_table(&t, &s, &e), EL_ERR_DATA);
+    assert_int_equal(e.line, 3);
+    assert_true(strlen(e.hint) > 0);
+    el_table_free(&t);
+    /* One step back among increasing ones is counted, not refused. */
+    assert_int_equal(read_text("t,x\n0,1\n1,1\n0.5,1\n2,1\n3,1\n", &t, &e), EL_OK);
+    assert_int_equal(el_scan_table(&t, &s, &e), EL_OK);
+    assert_int_equal(s.nonpositive_steps, 1);
+    el_scan_free(&s);
+    el_table_free(&t);
+}
+
+/* ------------------------------------------------------------------ */
+/* Errors                                                             */
+
+static void test_error_missing_file(void **state)
+{
+    (void)state;
+    el_table t = {0};
+    el_error e;
+    assert_int_equal(el_table_read("/nonexistent/dir/log.csv", NULL, &t, &e), EL_ERR_IO);
+    assert_string_equal(e.file, "/nonexistent/dir/log.csv");
+    assert_int_equal(e.line, 0);
+    assert_non_null(strstr(e.hint, "path"));
+    /* A folder opens but cannot be read. */
+    assert_int_equal(el_table_read("/tmp", NULL, &t, &e), EL_ERR_IO);
+    assert_true(strlen(e.hint) > 0);
+}
+
+static void test_error_empty_and_header_only(void **state)
+{
+    (void)state;
+    expect_error("", EL_ERR_DATA, 1, 1);
+    expect_error("# only\n# comments\n\n", EL_ERR_DATA, 4, 1);
+    expect_error("\xEF\xBB\xBF", EL_ERR_DATA, 1, 1);
+    expect_error("t,x\n", EL_ERR_DATA, 1, 1);
+    expect_error("# c\nt,x\r\n# no data\r\n\r\n", EL_ERR_DATA, 2, 1);
+    /* A first row of numbers is data, not a header. */
+    expect_error("0,1\n1,2\n", EL_ERR_DATA, 1, 1);
+}
+
+static void test_error_ragged(void **state)
+{
+    (void)state;
+    expect_error("t,x\n0,1\n1,1,5\n", EL_ERR_DATA, 3, 5);
+    expect_error("t,x,y\n0,1\n", EL_ERR_DATA, 2, 4);
+    /* A decimal comma in a comma file makes an extra field. */
+    expect_error_hint("t,x\n0,1,5\n", 2, 5, "decimal comma");
+    el_table t = {0};
+    el_error e;
+    assert_int_equal(read_text("t,x\n0,1,5\n", &t, &e), EL_ERR_DATA);
+    assert_non_null(strstr(e.message, "3 fields, expected 2"));
+}
+
+static void test_error_names(void **state)
+{
+    (void)state;
+    expect_error("t,x,x\n0,1,2\n", EL_ERR_DATA, 1, 5);
+    expect_error("t, x [m] ,x\n0,1,2\n", EL_ERR_DATA, 1, 11);
+    expect_error("t,,y\n0,1,2\n", EL_ERR_DATA, 1, 3);
+    expect_error("t,x,\n0,1,\n", EL_ERR_DATA, 1, 5);
+    expect_error("t,[V]\n0,1\n", EL_ERR_DATA, 1, 3);
+    /* Columns count characters, not bytes: "wärme [°C]" is 10 characters
+     * (12 bytes), so the duplicate starts at character 14. */
+    expect_error("t,w\xC3\xA4rme [\xC2\xB0" "C],w\xC3\xA4rme\n0,1,2\n", EL_ERR_DATA, 1, 14);
+}
+
+static void test_error_unknown_time_column(void **state)
+{
+    (void)state;
+    el_table t = {0};
+    el_error e;
+    assert_int_equal(read_bytes("time,x\n0,1\n", 11, "Time", &t, &e), EL_ERR_USAGE);
+    assert_string_equal(e.option, "--time");
+    assert_string_equal(e.file, "test.csv");
+    assert_int_equal(e.line, 1);
+    assert_non_null(strstr(e.hint, "\"time\", \"x\""));
+    assert_null(t.names);
+}
+
+static void test_error_binary(void **state)
+{
+    (void)state;
+    el_table t = {0};
+    el_error e;
+    assert_int_equal(read_bytes("t,x\n0,\0\x01\x02", 9, NULL, &t, &e), EL_ERR_DATA);
+    assert_int_equal(e.line, 2);
+    assert_int_equal(e.column, 3);
+    assert_non_null(strstr(e.hint, "CSV text"));
+    /* "t" in UTF-16LE with its byte-order mark. */
+    assert_int_equal(read_bytes("\xFF\xFEt\0,\0x\0", 8, NULL, &t, &e), EL_ERR_DATA);
+    assert_int_equal(e.line, 1);
+    assert_int_equal(e.column, 4); /* FF FE are two (invalid) characters */
+    assert_non_null(strstr(e.hint, "UTF-16"));
+    expect_error("t,x\n0,1\x1b[0m\n", EL_ERR_DATA, 2, 4);
+}
+
+static void test_error_bad_cells(void **state)
+{
+    (void)state;
+    expect_error_hint("t,x\n0,3.2x\n", 2, 3, "remove the text");
+    expect_error_hint("t,x\n0,  abc\n", 2, 5, "NA");
+    expect_error_hint("t;x\n0;1,5\n", 2, 3, "decimal separator");
+    expect_error_hint("t,x\n0,inf\n", 2, 3, "infinite");
+    expect_error_hint("t,x\n0,-Infinity\n", 2, 3, "infinite");
+    expect_error_hint("t,x\n0,1e999\n", 2, 3, "range");
+    expect_error_hint("t,x\n0,0x1p3\n", 2, 3, "hexadecimal");
+    expect_error_hint("t,x\n0,-nan\n", 2, 3, "NA");
+    expect_error_hint("t,x\n0,N/A\n", 2, 3, "NA");
+    expect_error_hint("t,x,y\n0,1,\"1.5\"x\n", 2, 10, "quote");
+    /* A stray quote: at the end of the file, and with a later quote that
+     * closes the quoted stretch the reader sees. */
+    expect_error_hint("t,x\n0,1\"2\n", 2, 4, "quote");
+    expect_error_hint("t,x\n0,1\"2\n3,4\n5,\"6\n", 2, 4, "quote");
+    el_table t = {0};
+    el_error e;
+    assert_int_equal(read_text("t,x\n0,1\"2\n", &t, &e), EL_ERR_DATA);
+    assert_non_null(strstr(e.message, "unquoted field"));
+    /* The message quotes the cell. */
+    assert_int_equal(read_text("t,speed\n0,12 km/h\n", &t, &e), EL_ERR_DATA);
+    assert_non_null(strstr(e.message, "\"12 km/h\""));
+    assert_non_null(strstr(e.message, "speed"));
+    assert_non_null(strstr(e.message, "not a number"));
+    /* After a quoted field holding a newline, locations count from that
+     * newline: the empty name starts on line 2, character 4. */
+    expect_error("t,\"x\ny\",,z\n0,1,2,3\n", EL_ERR_DATA, 2, 4);
+}
+
+static void test_error_time_cells(void **state)
+{
+    (void)state;
+    expect_error_hint("t,x\n,1\n", 2, 1, "time");
+    expect_error_hint("t,x\n0,1\n  NA  ,1\n", 3, 3, "time");
+    /* Mixed kinds, decided by the first row. */
+    expect_error_hint("t,x\n0,1\n2024-01-01T00:00:00,1\n", 3, 1, "first row");
+    expect_error_hint("t,x\n2024-01-01T00:00:00,1\n5,1\n", 3, 1, "first row");
+    expect_error_hint("t,x\nnoon,1\n", 2, 1, "ISO 8601");
+    /* Calendar and clock ranges. */
+    static const char *bad[] = {
+        "2023-02-29T00:00:00", "2100-02-29T00:00:00", "2024-04-31T00:00:00",
+        "2024-13-01T00:00:00", "2024-00-10T00:00:00", "2024-01-01T24:00:00",
+        "2024-01-01T00:60:00", "2024-01-01T00:00:61", "2024-01-01T00:00:00+24:00",
+        "2024-01-01T00:00:00.Z", "2024-01-01T00:00:00 UTC", "2024-1-01T00:00:00"};
+    for (size_t i = 0; i < sizeof bad / sizeof bad[0]; i++) {
+        char csv[128];
+        snprintf(csv, sizeof csv, "t,x\n2024-01-01T00:00:00Z,1\n %s,2\n", bad[i]);
+        expect_error(csv, EL_ERR_DATA, 3, 2);
+    }
+    /* Second 60 is a leap second: accepted, equal to the next minute. */
+    el_table t = {0};
+    el_error e;
+    assert_int_equal(read_text("t,x\n2016-12-31T23:59:59Z,1\n2016-12-31T23:59:60Z,2\n"
+                               "2017-01-01T00:00:00Z,3\n", &t, &e), EL_OK);
+    assert_close(cell(&t, 1, 0), 1.0, 0, 0);
+    assert_close(cell(&t, 2, 0), 1.0, 0, 0);
+    el_table_free(&t);
+}
+
+static void test_error_unterminated_quote(void **state)
+{
+    (void)state;
+    expect_error("t,x\n0,\"1\n2,3\n", EL_ERR_DATA, 2, 3);
+    el_table t = {0};
+    el_error e;
+    assert_int_equal(read_text("t,x\n0, \"1\n2,3\n", &t, &e), EL_ERR_DATA);
+    assert_non_null(strstr(e.message, "not closed"));
+    assert_int_equal(e.column, 4);
+    /* The opening quote is found past an escaped pair. */
+    expect_error("t,\"a\"\"b\n0,1\n", EL_ERR_DATA, 1, 3);
+}
+
+int main(void)
+{
+    const struct CMUnitTest tests[] = {
+        cmocka_unit_test(test_basic_table),
+        cmocka_unit_test(test_semicolon_and_tab),
+        cmocka_unit_test(test_quoted_fields),
+        cmocka_unit_test(test_file_crlf_bom),
+        cmocka_unit_test(test_stream_fmemopen),
+        cmocka_unit_test(test_long_lines),
+        cmocka_unit_test(test_numbers_match_strtod),
+        cmocka_unit_test(test_time_column_by_name),
+        cmocka_unit_test(test_iso_times),
+        cmocka_unit_test(test_iso_calendar),
+        cmocka_unit_test(test_parse_time),
+        cmocka_unit_test(test_format_time),
+        cmocka_unit_test(test_scan),
+        cmocka_unit_test(test_scan_errors),
+        cmocka_unit_test(test_error_missing_file),
+        cmocka_unit_test(test_error_empty_and_header_only),
+        cmocka_unit_test(test_error_ragged),
+        cmocka_unit_test(test_error_names),
+        cmocka_unit_test(test_error_unknown_time_column),
+        cmocka_unit_test(test_error_binary),
+        cmocka_unit_test(test_error_bad_cells),
+        cmocka_unit_test(test_error_time_cells),
+        cmocka_unit_test(test_error_unterminated_quote),
+    };
+    return cmocka_run_group_tests_name("ingest", tests, NULL, NULL);
+}

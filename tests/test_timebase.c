@@ -1,0 +1,960 @@
+/* test_timebase: window selection, uniform grid, gap fill and resampling,
+ * on tables built in memory (independent of the CSV reader).
+ *
+ * External references used here:
+ * - Linear interpolation reproduces a straight line exactly (closed form:
+ *   the interpolant of a degree-1 polynomial is that polynomial).
+ * - Error of linear interpolation between nodes h apart:
+ *   |f(t) - p1(t)| = |f''(xi)/2 (t - t0)(t - t1)| <= h^2/8 max|f''|
+ *   (Lagrange interpolation error theorem, e.g. Burden & Faires,
+ *   "Numerical Analysis", section 3.1; section number recalled from memory).
+ * - The median of the steps is recomputed here by sorting (qsort), a second
+ *   method independent of the selection algorithm in el_timebase.c. */
+#include "el_test.h"
+
+#include <stdlib.h>
+#include <string.h>
+
+#include "el_timebase.h"
+
+/* Rounding in a handful of flops on values of size `scale` stays within a
+ * few ulp (~1e-15 relative); 1e-12 leaves room for that and nothing more. */
+#define LINE_RTOL 1e-12
+
+/* ---- tables built by hand ----------------------------------------------- */
+
+enum { COL_A = 0, COL_TIME = 1, COL_B = 2, COL_C = 3, N_COLS = 4 };
+
+static char *dup_text(const char *s)
+{
+    size_t n = strlen(s) + 1;
+    char *d = malloc(n);
+    assert_non_null(d);
+    memcpy(d, s, n);
+    return d;
+}
+
+/* A table with columns a [V], time [s], b, c [degC]; every value NaN until
+ * set; row r sits on line 3 + 2 r (a header and comments between rows), so
+ * a row index is never mistaken for a line number. */
+static el_table make_table(size_t n_rows)
+{
+    el_table t;
+    memset(&t, 0, sizeof t);
+    static const char *names[N_COLS] = {"a", "time", "b", "c"};
+    static const char *units[N_COLS] = {"V", "s", "", "degC"};
+    t.n_rows = n_rows;
+    t.n_columns = N_COLS;
+    t.time_column = COL_TIME;
+    t.names = malloc(N_COLS * sizeof *t.names);
+    t.units = malloc(N_COLS * sizeof *t.units);
+    t.values = malloc(n_rows * N_COLS * sizeof *t.values);
+    t.source_line = malloc(n_rows * sizeof *t.source_line);
+    t.missing = calloc(N_COLS, sizeof *t.missing);
+    assert_true(t.names && t.units && t.values && t.source_line && t.missing);
+    for (size_t c = 0; c < N_COLS; c++) {
+        t.names[c] = dup_text(names[c]);
+        t.units[c] = dup_text(units[c]);
+    }
+    for (size_t i = 0; i < n_rows * N_COLS; i++)
+        t.values[i] = NAN;
+    for (size_t r = 0; r < n_rows; r++)
+        t.source_line[r] = 3 + 2 * (long)r;
+    t.delimiter = ',';
+    snprintf(t.source, sizeof t.source, "%s", "hand.csv");
+    return t;
+}
+
+static void free_table(el_table *t)
+{
+    for (size_t c = 0; c < t->n_columns; c++) {
+        free(t->names[c]);
+        free(t->units[c]);
+    }
+    free(t->names);
+    free(t->units);
+    free(t->values);
+    free(t->source_line);
+    free(t->missing);
+    memset(t, 0, sizeof *t);
+}
+
+static double *cell(el_table *t, size_t row, size_t col)
+{
+    return &t->values[col * t->n_rows + row];
+}
+
+static double time_of(const el_table *t, size_t row)
+{
+    return t->values[t->time_column * t->n_rows + row];
+}
+
+/* splitmix64 (Steele, Lea & Flood 2014): a fixed-seed source of test data. */
+static uint64_t next_random(uint64_t *state)
+{
+    uint64_t z = (*state += 0x9e3779b97f4a7c15u);
+    z = (z ^ (z >> 30)) * 0xbf58476d1ce4e5b9u;
+    z = (z ^ (z >> 27)) * 0x94d049bb133111ebu;
+    return z ^ (z >> 31);
+}
+
+/* Uniform in [-1, 1). */
+static double random_signed(uint64_t *state)
+{
+    return 2.0 * ((double)(next_random(state) >> 11) * 0x1.0p-53) - 1.0;
+}
+
+static double line_a(double t) { return 2.5 - 1.75 * t; }
+static double line_b(double t) { return 100.0 + 3.0 * t; }
+
+/* Uniform rows t = t0 + r dt, a and b straight lines, c random. */
+static el_table uniform_table(size_t n, double t0, double dt)
+{
+    el_table t = make_table(n);
+    uint64_t seed = 42;
+    for (size_t r = 0; r < n; r++) {
+        double tr = t0 + (double)r * dt;
+        *cell(&t, r, COL_TIME) = tr;
+        *cell(&t, r, COL_A) = line_a(tr);
+        *cell(&t, r, COL_B) = line_b(tr);
+        *cell(&t, r, COL_C) = random_signed(&seed);
+    }
+    return t;
+}
+
+/* Rows at t0 + r dt + jitter * dt * u, u uniform in [-1, 1): every step
+ * differs from dt by up to 2 jitter. */
+static el_table jittered_table(size_t n, double t0, double dt, double jitter, uint64_t seed)
+{
+    el_table t = make_table(n);
+    for (size_t r = 0; r < n; r++) {
+        double tr = t0 + (double)r * dt + jitter * dt * random_signed(&seed);
+        *cell(&t, r, COL_TIME) = tr;
+        *cell(&t, r, COL_A) = line_a(tr);
+        *cell(&t, r, COL_B) = line_b(tr);
+        *cell(&t, r, COL_C) = random_signed(&seed);
+    }
+    return t;
+}
+
+/* The same table without rows [from, from + count). */
+static el_table drop_rows(const el_table *src, size_t from, size_t count)
+{
+    el_table t = make_table(src->n_rows - count);
+    for (size_t r = 0, w = 0; r < src->n_rows; r++) {
+        if (r >= from && r < from + count)
+            continue;
+        for (size_t c = 0; c < N_COLS; c++)
+            *cell(&t, w, c) = src->values[c * src->n_rows + r];
+        t.source_line[w] = src->source_line[r];
+        w++;
+    }
+    return t;
+}
+
+static int compare_doubles(const void *pa, const void *pb)
+{
+    double a = *(const double *)pa, b = *(const double *)pb;
+    return (a > b) - (a < b);
+}
+
+/* Median step of rows [first, last] by sorting: the reference for dt. */
+static double median_step(const el_table *t, size_t first, size_t last)
+{
+    size_t n = last - first;
+    double *s = malloc(n * sizeof *s);
+    assert_non_null(s);
+    for (size_t i = 0; i < n; i++)
+        s[i] = time_of(t, first + i + 1) - time_of(t, first + i);
+    qsort(s, n, sizeof *s, compare_doubles);
+    double m = n % 2 ? s[n / 2] : s[n / 2 - 1] + (s[n / 2] - s[n / 2 - 1]) / 2;
+    free(s);
+    return m;
+}
+
+#define assert_contains(text, part) el_test_assert_contains((text), (part), __FILE__, __LINE__)
+
+static void el_test_assert_contains(const char *text, const char *part, const char *file,
+                                    int line)
+{
+    if (strstr(text, part) == NULL) {
+        print_error("%s:%d: \"%s\" does not contain \"%s\"\n", file, line, text, part);
+        _fail(file, line);
+    }
+}
+
+static void assert_series_empty(const el_series *s)
+{
+    assert_null(s->values);
+    assert_null(s->names);
+    assert_int_equal(s->n_samples, 0);
+    assert_int_equal(s->n_channels, 0);
+}
+
+static char *fmt_time(const el_table *t, double time, char *buf)
+{
+    return el_table_format_time(t, time, buf, 64);
+}
+
+/* ---- tests --------------------------------------------------------------- */
+
+static void test_defaults(void **state)
+{
+    (void)state;
+    el_timebase_options o;
+    el_timebase_defaults(&o);
+    assert_true(isinf(o.from) && o.from < 0);
+    assert_true(isinf(o.to) && o.to > 0);
+    assert_int_equal(o.max_gap, 5);
+    assert_true(o.jitter_limit == 0.01);
+}
+
+/* A uniform log is its own grid: values pass through bit for bit. */
+static void test_uniform_passthrough(void **state)
+{
+    (void)state;
+    size_t n = 200;
+    el_table t = uniform_table(n, 10.0, 0.25);   /* 0.25 and every time exact in binary */
+    size_t channels[3] = {COL_C, COL_A, COL_B};
+    el_series s;
+    el_warnings w = {0};
+    el_error err;
+    el_error_clear(&err);
+    assert_int_equal(el_series_build(&t, channels, 3, NULL, &s, &w, &err), EL_OK);
+    assert_int_equal(s.n_samples, n);
+    assert_int_equal(s.n_channels, 3);
+    assert_int_equal(s.rows_used, n);
+    assert_true(s.t0 == 10.0);
+    /* dt = span / intervals = 49.75 / 199: both exact, quotient 0.25 exact. */
+    assert_true(s.dt == 0.25);
+    assert_int_equal(s.resampled, 0);
+    assert_int_equal(s.filled_cells, 0);
+    assert_true(s.jitter == 0.0);
+    assert_int_equal(w.count, 0);
+    for (size_t c = 0; c < 3; c++) {
+        assert_int_equal(s.source_column[c], channels[c]);
+        assert_string_equal(s.names[c], t.names[channels[c]]);
+        assert_string_equal(s.units[c], t.units[channels[c]]);
+        assert_ptr_not_equal(s.names[c], t.names[channels[c]]);
+        assert_memory_equal(s.values + c * n, cell(&t, 0, channels[c]), n * sizeof(double));
+    }
+    el_series_free(&s);
+    assert_series_empty(&s);
+    el_series_free(&s);   /* twice is harmless */
+    el_series_free(NULL);
+    free_table(&t);
+}
+
+/* Times like r * 0.1 are not exact in binary: steps differ by an ulp or so.
+ * Still the grid, values unchanged, dt = span / intervals. */
+static void test_uniform_inexact_times(void **state)
+{
+    (void)state;
+    size_t n = 1001;
+    el_table t = uniform_table(n, 0.0, 0.1);
+    size_t ch = COL_C;
+    el_series s;
+    el_error err;
+    assert_int_equal(el_series_build(&t, &ch, 1, NULL, &s, NULL, &err), EL_OK);
+    assert_int_equal(s.resampled, 0);
+    assert_int_equal(s.n_samples, n);
+    /* t[1000] = 1000 * 0.1 rounds to within 1 ulp of 100; relative error of
+     * span / 1000 is then ~1e-16; 1e-14 is a generous margin. */
+    assert_close(s.dt, 0.1, 1e-14, 0);
+    /* Step rounding: |step - dt| / dt ~ ulp(100) / 0.1 ~ 1.4e-13. */
+    assert_true(s.jitter < 1e-11);
+    assert_memory_equal(s.values, cell(&t, 0, COL_C), n * sizeof(double));
+    el_series_free(&s);
+    free_table(&t);
+}
+
+/* Steps within the 1% limit keep the rows as they are (no resampling). */
+static void test_small_jitter_keeps_rows(void **state)
+{
+    (void)state;
+    size_t n = 300;
+    el_table t = jittered_table(n, 1.0, 0.5, 0.002, 7);   /* steps vary by <= 0.4% */
+    size_t ch[2] = {COL_A, COL_B};
+    el_series s;
+    el_warnings w = {0};
+    el_error err;
+    assert_int_equal(el_series_build(&t, ch, 2, NULL, &s, &w, &err), EL_OK);
+    assert_int_equal(s.resampled, 0);
+    assert_int_equal(w.count, 0);
+    assert_int_equal(s.n_samples, n);
+    assert_true(s.t0 == time_of(&t, 0));
+    assert_memory_equal(s.values, cell(&t, 0, COL_A), n * sizeof(double));
+    assert_memory_equal(s.values + n, cell(&t, 0, COL_B), n * sizeof(double));
+    /* Reference jitter: max |step - median| / median, median by sorting. */
+    double med = median_step(&t, 0, n - 1), jit = 0;
+    for (size_t r = 1; r < n; r++) {
+        double d = fabs(time_of(&t, r) - time_of(&t, r - 1) - med) / med;
+        jit = d > jit ? d : jit;
+    }
+    /* Same few flops in both computations: agreement to rounding. */
+    assert_close(s.jitter, jit, 1e-12, 0);
+    assert_true(s.jitter > 0 && s.jitter <= 0.004 + 1e-12);
+    /* dt is the mean step over the window (span / intervals). */
+    assert_close(s.dt, (time_of(&t, n - 1) - time_of(&t, 0)) / (double)(n - 1), 1e-15, 0);
+    el_series_free(&s);
+    el_warnings_free(&w);
+    free_table(&t);
+}
+
+static void test_window_inclusive(void **state)
+{
+    (void)state;
+    size_t n = 100;
+    el_table t = uniform_table(n, 0.0, 0.25);
+    size_t ch = COL_C;
+    el_timebase_options o;
+    el_timebase_defaults(&o);
+    el_series s;
+    el_error err;
+
+    /* Ends exactly on rows 20 and 60: both rows are in. */
+    o.from = time_of(&t, 20);
+    o.to = time_of(&t, 60);
+    assert_int_equal(el_series_build(&t, &ch, 1, &o, &s, NULL, &err), EL_OK);
+    assert_int_equal(s.n_samples, 41);
+    assert_int_equal(s.rows_used, 41);
+    assert_true(s.t0 == time_of(&t, 20));
+    assert_memory_equal(s.values, cell(&t, 20, COL_C), 41 * sizeof(double));
+    el_series_free(&s);
+
+    /* Ends between rows: rows 21..59. */
+    o.from = time_of(&t, 20) + 0.1;
+    o.to = time_of(&t, 60) - 0.1;
+    assert_int_equal(el_series_build(&t, &ch, 1, &o, &s, NULL, &err), EL_OK);
+    assert_int_equal(s.n_samples, 39);
+    assert_true(s.t0 == time_of(&t, 21));
+    assert_memory_equal(s.values, cell(&t, 21, COL_C), 39 * sizeof(double));
+    el_series_free(&s);
+
+    /* Only a start: to the end of the log. */
+    o.from = time_of(&t, 90);
+    o.to = INFINITY;
+    assert_int_equal(el_series_build(&t, &ch, 1, &o, &s, NULL, &err), EL_OK);
+    assert_int_equal(s.n_samples, 10);
+    assert_memory_equal(s.values, cell(&t, 90, COL_C), 10 * sizeof(double));
+    el_series_free(&s);
+    free_table(&t);
+}
+
+/* Checks the grid of a resampled series against the rows of t: t0 is the
+ * first row, dt the median step (by sorting), and the last grid point is
+ * the last one inside the log. */
+static void check_resampled_grid(const el_series *s, const el_table *t)
+{
+    size_t n = t->n_rows;
+    assert_int_equal(s->resampled, 1);
+    assert_true(s->t0 == time_of(t, 0));
+    /* Same arithmetic on the same two middle steps: agreement to 1 ulp. */
+    assert_close(s->dt, median_step(t, 0, n - 1), 2.3e-16, 0);
+    double t_end = time_of(t, n - 1);
+    double last_grid = s->t0 + (double)(s->n_samples - 1) * s->dt;
+    assert_true(last_grid <= t_end);   /* no extrapolation, not even by rounding */
+    assert_true(s->t0 + (double)s->n_samples * s->dt > t_end);
+}
+
+/* +/-3% timing jitter: resampled; a straight line comes out exact. */
+static void test_resample_linear_exact(void **state)
+{
+    (void)state;
+    size_t n = 400;   /* 399 steps: odd count, median is one step */
+    el_table t = jittered_table(n, 5.0, 0.02, 0.03, 1234);
+    size_t ch[2] = {COL_A, COL_B};
+    el_series s;
+    el_warnings w = {0};
+    el_error err;
+    assert_int_equal(el_series_build(&t, ch, 2, NULL, &s, &w, &err), EL_OK);
+    check_resampled_grid(&s, &t);
+    assert_int_equal(s.filled_cells, 0);
+    assert_int_equal(s.rows_used, n);
+    for (size_t k = 0; k < s.n_samples; k++) {
+        double tk = s.t0 + (double)k * s.dt;
+        /* Interpolating a line is exact; LINE_RTOL covers rounding only. */
+        assert_close(s.values[k], line_a(tk), LINE_RTOL, LINE_RTOL * 20);
+        assert_close(s.values[s.n_samples + k], line_b(tk), LINE_RTOL, 0);
+    }
+    /* Reference jitter over the window, median by sorting. */
+    double med = median_step(&t, 0, n - 1), jit = 0;
+    for (size_t r = 1; r < n; r++) {
+        double d = fabs(time_of(&t, r) - time_of(&t, r - 1) - med) / med;
+        jit = d > jit ? d : jit;
+    }
+    assert_close(s.jitter, jit, 1e-12, 0);
+    assert_true(jit > 0.01);   /* else this test would not exercise resampling */
+    assert_int_equal(w.count, 1);
+    assert_contains(w.items[0], "sample interval varies by up to");
+    assert_contains(w.items[0], "(more than 1%)");
+    assert_contains(w.items[0], "resampled onto a uniform grid of dt = ");
+    assert_contains(w.items[0], " s by linear interpolation");
+    el_series_free(&s);
+    el_warnings_free(&w);
+    free_table(&t);
+}
+
+/* A jittered table whose last row is at t0 + k_end med - hair med (as
+ * computed in floating point), med being the median step. Returns k_end. */
+static double table_ending_near_grid_point(el_table *t, uint64_t seed, double hair)
+{
+    size_t n = 101;
+    *t = jittered_table(n, 0.3, 0.1, 0.03, seed);   /* steps in [0.094, 0.106] */
+    double t0 = time_of(t, 0);
+    /* A last step longer than every other keeps the median where it is
+     * whatever its exact length. */
+    *cell(t, n - 1, COL_TIME) = time_of(t, n - 2) + 0.12;
+    double med = median_step(t, 0, n - 1);
+    double k_end = floor((time_of(t, n - 1) - t0) / med) + 1;
+    double t_end = t0 + k_end * med - hair * med;
+    *cell(t, n - 1, COL_TIME) = t_end;
+    *cell(t, n - 1, COL_A) = line_a(t_end);
+    *cell(t, n - 1, COL_B) = line_b(t_end);
+    assert_true(median_step(t, 0, n - 1) == med);
+    return k_end;
+}
+
+/* The grid ends at the last grid point that is not past the last row:
+ * one exactly on it is kept (even when the division span / dt rounds to
+ * just below a whole number), one a hair (1e-10 dt) after it is dropped
+ * rather than extrapolated. */
+static void test_resample_grid_end(void **state)
+{
+    (void)state;
+    size_t ch[2] = {COL_A, COL_B};
+    el_series s;
+    el_error err;
+    int rounded_below = 0;
+    for (uint64_t seed = 1; seed <= 200; seed++) {
+        for (int hair = 0; hair <= 1; hair++) {
+            el_table t;
+            double k_end = table_ending_near_grid_point(&t, seed, hair ? 1e-10 : 0.0);
+            double t0 = time_of(&t, 0), t_end = time_of(&t, t.n_rows - 1);
+            double med = median_step(&t, 0, t.n_rows - 1);
+            if (!hair && (t_end - t0) / med < k_end)
+                rounded_below = 1;
+            assert_int_equal(el_series_build(&t, ch, 2, NULL, &s, NULL, &err), EL_OK);
+            check_resampled_grid(&s, &t);
+            /* Grid points 0 .. k_end, or 0 .. k_end - 1 with the hair. */
+            assert_int_equal(s.n_samples, (size_t)k_end + (hair ? 0 : 1));
+            size_t k = s.n_samples - 1;
+            assert_close(s.values[s.n_samples + k], line_b(s.t0 + (double)k * s.dt), LINE_RTOL, 0);
+            el_series_free(&s);
+            free_table(&t);
+        }
+    }
+    assert_true(rounded_below);   /* the rounding case was met at least once */
+}
+
+/* A slow sine (50 samples per period) resampled from jittered rows is
+ * within the linear interpolation error bound h^2/8 max|x''|. */
+static void test_resample_sine_bound(void **state)
+{
+    (void)state;
+    size_t n = 301;   /* 300 steps: even count, median between two steps */
+    double dt = 0.01, omega = 2 * acos(-1.0) / (50 * dt);
+    el_table t = jittered_table(n, 0.0, dt, 0.03, 99);
+    double h = 0;
+    for (size_t r = 0; r < n; r++) {
+        *cell(&t, r, COL_A) = sin(omega * time_of(&t, r));
+        if (r > 0 && time_of(&t, r) - time_of(&t, r - 1) > h)
+            h = time_of(&t, r) - time_of(&t, r - 1);
+    }
+    size_t ch = COL_A;
+    el_series s;
+    el_error err;
+    assert_int_equal(el_series_build(&t, &ch, 1, NULL, &s, NULL, &err), EL_OK);
+    check_resampled_grid(&s, &t);
+    /* max|x''| = omega^2; h = longest row step (<= 1.06 dt): bound ~2e-3,
+     * while a grid off by one sample would be off by ~omega dt = 0.13. */
+    double bound = h * h / 8 * omega * omega;
+    double worst = 0;
+    for (size_t k = 0; k < s.n_samples; k++) {
+        double e = fabs(s.values[k] - sin(omega * (s.t0 + (double)k * s.dt)));
+        worst = e > worst ? e : worst;
+    }
+    if (worst > bound + 1e-12) {
+        print_error("interpolation error %.17g exceeds h^2/8 max|x''| = %.17g\n", worst, bound);
+        fail();
+    }
+    el_series_free(&s);
+    free_table(&t);
+}
+
+/* A run of exactly max_gap missing cells is filled; a line exactly. */
+static void test_fill_max_gap(void **state)
+{
+    (void)state;
+    size_t n = 100;
+    el_table t = uniform_table(n, 2.0, 0.125);
+    for (size_t r = 40; r < 45; r++)   /* 5 = default max_gap */
+        *cell(&t, r, COL_A) = NAN;
+    *cell(&t, 70, COL_B) = NAN;
+    *cell(&t, 71, COL_B) = NAN;
+    size_t ch[3] = {COL_A, COL_B, COL_C};
+    el_series s;
+    el_warnings w = {0};
+    el_error err;
+    assert_int_equal(el_series_build(&t, ch, 3, NULL, &s, &w, &err), EL_OK);
+    assert_int_equal(s.filled_cells, 7);
+    assert_int_equal(s.resampled, 0);
+    for (size_t k = 0; k < n; k++) {
+        double tk = time_of(&t, k);
+        assert_close(s.values[k], line_a(tk), LINE_RTOL, LINE_RTOL * 20);
+        assert_close(s.values[n + k], line_b(tk), LINE_RTOL, 0);
+        if (k < 40 || k >= 45)   /* present cells are copied, not recomputed */
+            assert_true(s.values[k] == *cell(&t, k, COL_A));
+    }
+    assert_memory_equal(s.values + 2 * n, cell(&t, 0, COL_C), n * sizeof(double));
+    assert_int_equal(w.count, 1);
+    assert_contains(w.items[0], "filled 7 missing samples in 2 channels");
+    assert_contains(w.items[0], "longest run 5 samples");
+    el_series_free(&s);
+    el_warnings_free(&w);
+
+    /* A smaller --max-gap: the run of 2 in b is still filled... */
+    el_timebase_options o;
+    el_timebase_defaults(&o);
+    o.max_gap = 2;
+    assert_int_equal(el_series_build(&t, &ch[1], 1, &o, &s, NULL, &err), EL_OK);
+    assert_int_equal(s.filled_cells, 2);
+    el_series_free(&s);
+    /* ...and the run of 5 in a is refused. */
+    assert_int_equal(el_series_build(&t, &ch[0], 1, &o, &s, NULL, &err), EL_ERR_DATA);
+    assert_contains(err.message, "5 samples");
+    free_table(&t);
+}
+
+static void test_gap_too_long(void **state)
+{
+    (void)state;
+    size_t n = 100;
+    el_table t = uniform_table(n, 2.0, 0.125);
+    for (size_t r = 40; r < 46; r++)   /* 6 = max_gap + 1 */
+        *cell(&t, r, COL_A) = NAN;
+    size_t ch[2] = {COL_B, COL_A};
+    el_series s;
+    el_warnings w = {0};
+    el_error err;
+    el_error_clear(&err);
+    assert_int_equal(el_series_build(&t, ch, 2, NULL, &s, &w, &err), EL_ERR_DATA);
+    assert_series_empty(&s);
+    assert_int_equal(w.count, 0);
+    char before[64], after[64];
+    assert_contains(err.message, "channel 'a'");
+    assert_contains(err.message, "6 samples");
+    assert_contains(err.message, fmt_time(&t, time_of(&t, 39), before));
+    assert_contains(err.message, fmt_time(&t, time_of(&t, 46), after));
+    assert_contains(err.hint, "--from/--to");
+    assert_contains(err.hint, "--max-gap 6");
+    assert_string_equal(err.file, "hand.csv");
+    assert_int_equal(err.line, t.source_line[40]);
+    assert_int_equal(err.column, COL_A + 1);
+    free_table(&t);
+}
+
+/* Rows missing from the log (a step of m dt) are missing samples too. */
+static void test_time_gap(void **state)
+{
+    (void)state;
+    size_t n = 120;
+    el_table full = uniform_table(n, 0.0, 0.5);
+    el_table t = drop_rows(&full, 50, 5);   /* 5 = max_gap rows absent */
+    size_t ch[2] = {COL_A, COL_B};
+    el_series s;
+    el_warnings w = {0};
+    el_error err;
+    assert_int_equal(el_series_build(&t, ch, 2, NULL, &s, &w, &err), EL_OK);
+    assert_int_equal(s.resampled, 0);
+    assert_int_equal(s.n_samples, n);
+    assert_int_equal(s.rows_used, n - 5);
+    assert_int_equal(s.filled_cells, 10);
+    assert_true(s.dt == 0.5);   /* 59.5 / 119: exact */
+    for (size_t k = 0; k < n; k++) {
+        double tk = time_of(&full, k);
+        assert_close(s.values[k], line_a(tk), LINE_RTOL, LINE_RTOL * 20);
+        assert_close(s.values[n + k], line_b(tk), LINE_RTOL, 0);
+    }
+    assert_int_equal(w.count, 1);
+    assert_contains(w.items[0], "filled 10 missing samples in 2 channels");
+    el_series_free(&s);
+    el_warnings_free(&w);
+    free_table(&t);
+
+    /* A missing cell next to the time gap makes the run one longer. */
+    t = drop_rows(&full, 50, 5);
+    *cell(&t, 49, COL_A) = NAN;
+    assert_int_equal(el_series_build(&t, ch, 2, NULL, &s, NULL, &err), EL_ERR_DATA);
+    assert_contains(err.message, "channel 'a' is missing for 6 samples");
+    assert_int_equal(err.line, t.source_line[49]);   /* the first missing cell */
+    assert_int_equal(err.column, COL_A + 1);
+    free_table(&t);
+
+    /* max_gap + 1 rows absent: refused, pointing at the row after the gap. */
+    t = drop_rows(&full, 50, 6);
+    el_error_clear(&err);
+    assert_int_equal(el_series_build(&t, ch, 2, NULL, &s, NULL, &err), EL_ERR_DATA);
+    assert_series_empty(&s);
+    char before[64], after[64];
+    assert_contains(err.message, "the log has no rows for 6 samples");
+    assert_contains(err.message, fmt_time(&t, time_of(&t, 49), before));
+    assert_contains(err.message, fmt_time(&t, time_of(&t, 50), after));
+    assert_contains(err.hint, "--max-gap 6");
+    assert_int_equal(err.line, t.source_line[50]);
+    assert_int_equal(err.column, COL_TIME + 1);
+    free_table(&t);
+    free_table(&full);
+
+    /* A step of 1e12 + 1 intervals (1e12 missing samples) is refused
+     * before anything of that size is allocated. */
+    t = uniform_table(40, 0.0, 1.0);
+    for (size_t r = 20; r < 40; r++)
+        *cell(&t, r, COL_TIME) += 1e12;
+    el_error_clear(&err);
+    assert_int_equal(el_series_build(&t, ch, 2, NULL, &s, NULL, &err), EL_ERR_DATA);
+    assert_contains(err.message, "the log has no rows for 1000000000000 samples");
+    free_table(&t);
+}
+
+/* Gaps in a jittered (resampled) log: counted and filled the same way. */
+static void test_gap_when_resampled(void **state)
+{
+    (void)state;
+    size_t n = 200;
+    el_table full = jittered_table(n, 0.0, 0.1, 0.03, 5);
+    el_table t = drop_rows(&full, 80, 3);
+    *cell(&t, 120, COL_B) = NAN;
+    *cell(&t, 121, COL_B) = NAN;
+    size_t ch[2] = {COL_A, COL_B};
+    el_series s;
+    el_warnings w = {0};
+    el_error err;
+    assert_int_equal(el_series_build(&t, ch, 2, NULL, &s, &w, &err), EL_OK);
+    assert_int_equal(s.resampled, 1);
+    assert_int_equal(s.filled_cells, 3 + 3 + 2);
+    for (size_t k = 0; k < s.n_samples; k++) {
+        double tk = s.t0 + (double)k * s.dt;
+        assert_close(s.values[k], line_a(tk), LINE_RTOL, LINE_RTOL * 20);
+        assert_close(s.values[s.n_samples + k], line_b(tk), LINE_RTOL, 0);
+    }
+    assert_int_equal(w.count, 2);
+    assert_contains(w.items[0], "resampled");
+    assert_contains(w.items[1], "filled 8 missing samples in 2 channels");
+    el_series_free(&s);
+    el_warnings_free(&w);
+
+    /* Six missing cells in a row in b: refused with the range. */
+    for (size_t r = 120; r < 126; r++)
+        *cell(&t, r, COL_B) = NAN;
+    el_error_clear(&err);
+    assert_int_equal(el_series_build(&t, ch, 2, NULL, &s, &w, &err), EL_ERR_DATA);
+    assert_int_equal(w.count, 0);
+    char before[64], after[64];
+    assert_contains(err.message, "channel 'b' is missing for 6 samples");
+    assert_contains(err.message, fmt_time(&t, time_of(&t, 119), before));
+    assert_contains(err.message, fmt_time(&t, time_of(&t, 126), after));
+    assert_int_equal(err.line, t.source_line[120]);
+    assert_int_equal(err.column, COL_B + 1);
+    free_table(&t);
+    free_table(&full);
+}
+
+static void test_time_backwards(void **state)
+{
+    (void)state;
+    el_table t = uniform_table(50, 0.0, 1.0);
+    *cell(&t, 7, COL_TIME) = 5.5;   /* row 6 is at 6 */
+    size_t ch = COL_A;
+    el_series s;
+    el_error err;
+    el_error_clear(&err);
+    assert_int_equal(el_series_build(&t, &ch, 1, NULL, &s, NULL, &err), EL_ERR_DATA);
+    assert_series_empty(&s);
+    assert_contains(err.message, "time goes backwards");
+    assert_contains(err.hint, "sort");
+    assert_int_equal(err.line, t.source_line[7]);
+    assert_int_equal(err.column, COL_TIME + 1);
+
+    /* Checked over the whole log, also outside the window. */
+    el_timebase_options o;
+    el_timebase_defaults(&o);
+    o.from = 20;
+    el_error_clear(&err);
+    assert_int_equal(el_series_build(&t, &ch, 1, &o, &s, NULL, &err), EL_ERR_DATA);
+    assert_int_equal(err.line, t.source_line[7]);
+    free_table(&t);
+}
+
+static void test_time_repeats(void **state)
+{
+    (void)state;
+    el_table t = uniform_table(50, 0.0, 1.0);
+    *cell(&t, 31, COL_TIME) = time_of(&t, 30);
+    size_t ch = COL_A;
+    el_series s;
+    el_error err;
+    el_error_clear(&err);
+    assert_int_equal(el_series_build(&t, &ch, 1, NULL, &s, NULL, &err), EL_ERR_DATA);
+    assert_contains(err.message, "time repeats");
+    assert_contains(err.hint, "duplicated rows");
+    assert_int_equal(err.line, t.source_line[31]);
+    assert_int_equal(err.column, COL_TIME + 1);
+    free_table(&t);
+}
+
+static void check_edge(el_table *t, size_t row, const char *option_in_hint,
+                       const el_timebase_options *opt)
+{
+    size_t ch[2] = {COL_A, COL_B};
+    el_series s;
+    el_error err;
+    el_error_clear(&err);
+    assert_int_equal(el_series_build(t, ch, 2, opt, &s, NULL, &err), EL_ERR_DATA);
+    assert_series_empty(&s);
+    assert_contains(err.message, "channel 'b'");
+    assert_contains(err.hint, option_in_hint);
+    assert_int_equal(err.line, t->source_line[row]);
+    assert_int_equal(err.column, COL_B + 1);
+}
+
+/* A missing value at either end of the window has one neighbour only. */
+static void test_missing_at_edges(void **state)
+{
+    (void)state;
+    size_t n = 60;
+    el_timebase_options o;
+    el_timebase_defaults(&o);
+    el_table t[2] = {uniform_table(n, 0.0, 1.0), jittered_table(n, 0.0, 1.0, 0.03, 3)};
+    for (int i = 0; i < 2; i++) {
+        el_series s;
+        el_error err;
+        size_t ch[2] = {COL_A, COL_B};
+        el_timebase_defaults(&o);
+        *cell(&t[i], 0, COL_B) = NAN;
+        check_edge(&t[i], 0, "--from", &o);
+        o.from = time_of(&t[i], 1);   /* moving the window past it helps */
+        assert_int_equal(el_series_build(&t[i], ch, 2, &o, &s, NULL, &err), EL_OK);
+        el_series_free(&s);
+
+        el_timebase_defaults(&o);
+        o.from = time_of(&t[i], 1);
+        *cell(&t[i], n - 1, COL_B) = NAN;
+        *cell(&t[i], n - 2, COL_B) = NAN;
+        check_edge(&t[i], n - 2, "--to", &o);
+        o.to = time_of(&t[i], n - 3);
+        assert_int_equal(el_series_build(&t[i], ch, 2, &o, &s, NULL, &err), EL_OK);
+        assert_int_equal(s.filled_cells, 0);
+        el_series_free(&s);
+
+        /* A window starting at a missing cell inside the log: same. */
+        el_timebase_defaults(&o);
+        *cell(&t[i], 30, COL_B) = NAN;
+        o.from = time_of(&t[i], 30);
+        o.to = time_of(&t[i], 40);
+        check_edge(&t[i], 30, "--from", &o);
+        free_table(&t[i]);
+    }
+}
+
+static void test_channel_all_missing(void **state)
+{
+    (void)state;
+    el_table t = uniform_table(20, 0.0, 1.0);
+    for (size_t r = 0; r < 20; r++)
+        *cell(&t, r, COL_C) = NAN;
+    size_t ch = COL_C;
+    el_series s;
+    el_error err;
+    assert_int_equal(el_series_build(&t, &ch, 1, NULL, &s, NULL, &err), EL_ERR_DATA);
+    assert_contains(err.message, "channel 'c' has no values");
+    free_table(&t);
+}
+
+static void test_too_few_samples(void **state)
+{
+    (void)state;
+    el_table t = uniform_table(20, 0.0, 1.0);
+    size_t ch = COL_A;
+    el_timebase_options o;
+    el_timebase_defaults(&o);
+    el_series s;
+    el_error err;
+    for (int rows = 1; rows <= 2; rows++) {
+        o.from = 5;
+        o.to = 5 + rows - 1;
+        el_error_clear(&err);
+        assert_int_equal(el_series_build(&t, &ch, 1, &o, &s, NULL, &err), EL_ERR_DATA);
+        assert_series_empty(&s);
+        assert_contains(err.message, "at least 3");
+        assert_contains(err.hint, "--from/--to");
+    }
+    o.to = 7;   /* three rows: enough */
+    assert_int_equal(el_series_build(&t, &ch, 1, &o, &s, NULL, &err), EL_OK);
+    assert_int_equal(s.n_samples, 3);
+    el_series_free(&s);
+    free_table(&t);
+}
+
+static void test_empty_window(void **state)
+{
+    (void)state;
+    el_table t = uniform_table(20, 100.0, 1.0);   /* spans 100 to 119 */
+    size_t ch = COL_A;
+    el_timebase_options o;
+    el_series s;
+    el_error err;
+    char first[64], last[64];
+    fmt_time(&t, 100.0, first);
+    fmt_time(&t, 119.0, last);
+
+    el_timebase_defaults(&o);
+    o.from = 200;
+    el_error_clear(&err);
+    assert_int_equal(el_series_build(&t, &ch, 1, &o, &s, NULL, &err), EL_ERR_USAGE);
+    assert_series_empty(&s);
+    assert_string_equal(err.option, "--from");
+    assert_contains(err.hint, first);
+    assert_contains(err.hint, last);
+
+    el_timebase_defaults(&o);
+    o.to = 50;
+    el_error_clear(&err);
+    assert_int_equal(el_series_build(&t, &ch, 1, &o, &s, NULL, &err), EL_ERR_USAGE);
+    assert_string_equal(err.option, "--to");
+    assert_contains(err.hint, first);
+
+    /* Between two rows. */
+    o.from = 105.25;
+    o.to = 105.75;
+    el_error_clear(&err);
+    assert_int_equal(el_series_build(&t, &ch, 1, &o, &s, NULL, &err), EL_ERR_USAGE);
+    assert_contains(err.message, "holds no rows");
+    free_table(&t);
+}
+
+static void test_bad_arguments(void **state)
+{
+    (void)state;
+    el_table t = uniform_table(20, 0.0, 1.0);
+    el_timebase_options o;
+    el_timebase_defaults(&o);
+    el_series s;
+    el_error err;
+    size_t time_ch = COL_TIME, outside = N_COLS, ok = COL_A;
+    assert_int_equal(el_series_build(&t, &time_ch, 1, NULL, &s, NULL, &err), EL_ERR_INTERNAL);
+    assert_int_equal(el_series_build(&t, &outside, 1, NULL, &s, NULL, &err), EL_ERR_INTERNAL);
+    assert_int_equal(el_series_build(&t, &ok, 0, NULL, &s, NULL, &err), EL_ERR_INTERNAL);
+    assert_int_equal(el_series_build(NULL, &ok, 1, NULL, &s, NULL, &err), EL_ERR_INTERNAL);
+    assert_int_equal(el_series_build(&t, &ok, 1, NULL, NULL, NULL, &err), EL_ERR_INTERNAL);
+    o.from = 10;
+    o.to = 5;
+    el_error_clear(&err);
+    assert_int_equal(el_series_build(&t, &ok, 1, &o, &s, NULL, &err), EL_ERR_USAGE);
+    assert_string_equal(err.option, "--from");
+    el_timebase_defaults(&o);
+    o.to = NAN;
+    el_error_clear(&err);
+    assert_int_equal(el_series_build(&t, &ok, 1, &o, &s, NULL, &err), EL_ERR_USAGE);
+    assert_string_equal(err.option, "--to");
+    free_table(&t);
+}
+
+/* With ISO time stamps the messages carry calendar times from the table's
+ * own formatter. */
+static void test_iso_times_in_messages(void **state)
+{
+    (void)state;
+    el_table t = uniform_table(40, 0.0, 1.0);
+    t.time_is_iso = 1;
+    t.time_origin_unix_s = 1700000000;   /* 2023-11-14T22:13:20Z (Python datetime) */
+    for (size_t r = 10; r < 16; r++)
+        *cell(&t, r, COL_A) = NAN;
+    size_t ch = COL_A;
+    el_series s;
+    el_error err;
+    assert_int_equal(el_series_build(&t, &ch, 1, NULL, &s, NULL, &err), EL_ERR_DATA);
+    char before[64], after[64];
+    fmt_time(&t, 9.0, before);
+    fmt_time(&t, 16.0, after);
+    assert_contains(before, "2023-11-14T22:13:29");   /* the formatter gave a calendar time */
+    assert_contains(err.message, before);
+    assert_contains(err.message, after);
+    free_table(&t);
+}
+
+/* 1,000,000 rows x 8 channels, jittered (the costlier resampling path):
+ * must finish quickly, which a quadratic step would not. */
+static void test_large_log(void **state)
+{
+    (void)state;
+    size_t n = 1000000, n_ch = 8, n_cols = n_ch + 1;
+    el_table t;
+    memset(&t, 0, sizeof t);
+    t.n_rows = n;
+    t.n_columns = n_cols;
+    t.time_column = 0;
+    t.names = malloc(n_cols * sizeof *t.names);
+    t.units = malloc(n_cols * sizeof *t.units);
+    t.values = malloc(n * n_cols * sizeof *t.values);
+    t.source_line = malloc(n * sizeof *t.source_line);
+    t.missing = calloc(n_cols, sizeof *t.missing);
+    assert_true(t.names && t.units && t.values && t.source_line && t.missing);
+    uint64_t seed = 11;
+    for (size_t c = 0; c < n_cols; c++) {
+        char name[16];
+        snprintf(name, sizeof name, "x%zu", c);
+        t.names[c] = dup_text(name);
+        t.units[c] = dup_text("");
+    }
+    for (size_t r = 0; r < n; r++) {
+        double tr = (double)r * 1e-3 + 3e-5 * random_signed(&seed);
+        t.values[r] = tr;
+        t.source_line[r] = (long)r + 2;
+        for (size_t c = 1; c < n_cols; c++)
+            t.values[c * n + r] = (double)c * tr;
+    }
+    size_t ch[8];
+    for (size_t c = 0; c < n_ch; c++)
+        ch[c] = c + 1;
+    el_series s;
+    el_error err;
+    assert_int_equal(el_series_build(&t, ch, n_ch, NULL, &s, NULL, &err), EL_OK);
+    assert_int_equal(s.resampled, 1);
+    assert_int_equal(s.n_channels, n_ch);
+    /* dt against the median by sorting 999,999 steps (second method). */
+    assert_close(s.dt, median_step(&t, 0, n - 1), 2.3e-16, 0);
+    /* Spot check: channel c is c t, exact under interpolation. */
+    size_t k = s.n_samples / 2;
+    assert_close(s.values[7 * s.n_samples + k], 8 * (s.t0 + (double)k * s.dt), LINE_RTOL, 0);
+    el_series_free(&s);
+    free_table(&t);
+}
+
+int main(void)
+{
+    const struct CMUnitTest tests[] = {
+        cmocka_unit_test(test_defaults),
+        cmocka_unit_test(test_uniform_passthrough),
+        cmocka_unit_test(test_uniform_inexact_times),
+        cmocka_unit_test(test_small_jitter_keeps_rows),
+        cmocka_unit_test(test_window_inclusive),
+        cmocka_unit_test(test_resample_linear_exact),
+        cmocka_unit_test(test_resample_grid_end),
+        cmocka_unit_test(test_resample_sine_bound),
+        cmocka_unit_test(test_fill_max_gap),
+        cmocka_unit_test(test_gap_too_long),
+        cmocka_unit_test(test_time_gap),
+        cmocka_unit_test(test_gap_when_resampled),
+        cmocka_unit_test(test_time_backwards),
+        cmocka_unit_test(test_time_repeats),
+        cmocka_unit_test(test_missing_at_edges),
+        cmocka_unit_test(test_channel_all_missing),
+        cmocka_unit_test(test_too_few_samples),
+        cmocka_unit_test(test_empty_window),
+        cmocka_unit_test(test_bad_arguments),
+        cmocka_unit_test(test_iso_times_in_messages),
+        cmocka_unit_test(test_large_log),
+    };
+    return cmocka_run_group_tests_name("timebase", tests, NULL, NULL);
+}
