@@ -64,7 +64,9 @@ static el_status parse_choice(const char *option, const char *text,
             return EL_OK;
         }
     el_error_set(err, EL_ERR_USAGE, "'%s' is not one of the choices", text);
-    el_error_option(err, option);
+    char dashed[64];
+    snprintf(dashed, sizeof dashed, "--%s", option);
+    el_error_option(err, dashed);
     el_error_hint(err, "choose %s%s%s", choices[0], n > 1 ? " or " : "",
                   n > 1 ? choices[1] : "");
     return EL_ERR_USAGE;

@@ -8,6 +8,14 @@
 #include <stdlib.h>
 #include <string.h>
 
+/* Records option name (given without dashes) as "--name". */
+static void set_option(el_error *err, const char *name)
+{
+    char dashed[64];
+    snprintf(dashed, sizeof dashed, "--%s", name);
+    el_error_option(err, dashed);
+}
+
 size_t cli_index(const cli_option *table, size_t n_options, const char *name)
 {
     for (size_t i = 0; i < n_options; i++)
@@ -71,7 +79,7 @@ el_status cli_parse(int argc, char **argv, const cli_option *table, size_t n_opt
         if (o->value_name == NULL) {
             if (eq != NULL) {
                 el_error_set(err, EL_ERR_USAGE, "takes no value");
-                el_error_option(err, o->name);
+                set_option(err, o->name);
                 el_error_hint(err, "write it alone, as --%s", o->name);
                 return EL_ERR_USAGE;
             }
@@ -100,7 +108,7 @@ el_status cli_size(const char *option, const char *text, size_t min, size_t max,
         v < min || v > max) {
         el_error_set(err, EL_ERR_USAGE, "'%s' is not a whole number from %zu to %zu",
                      text, min, max);
-        el_error_option(err, option);
+        set_option(err, option);
         el_error_hint(err, "give a whole number, e.g. --%s %zu", option, min);
         return EL_ERR_USAGE;
     }
@@ -118,7 +126,7 @@ el_status cli_double(const char *option, const char *text, double min, double ma
         v > max) {
         el_error_set(err, EL_ERR_USAGE, "'%s' is not a number from %g to %g", text,
                      min, max);
-        el_error_option(err, option);
+        set_option(err, option);
         el_error_hint(err, "give a plain decimal number, e.g. --%s %g", option, min);
         return EL_ERR_USAGE;
     }

@@ -125,17 +125,53 @@ static el_status build_series(const el_assess_options *opt, el_assessment *r,
     return st;
 }
 
-el_status el_assess_run(const el_assess_options *opt, el_assessment *r,
-                        el_error *err)
+el_status el_assess_load(const el_assess_options *opt, el_assessment *r,
+                         el_error *err)
 {
     el_ingest_options in = {.time_column = opt->time_column};
     el_status st = el_table_read(opt->path, &in, &r->table, err);
     if (st == EL_OK)
         st = build_series(opt, r, err);
+    return st;
+}
+
+/* Welch spectra of the window and the mode/peak cross-check. A window too
+ * short for a spectrum is not an error for assess: the cross-check is then
+ * skipped and the report says so. */
+static el_status crosscheck_spectra(el_assessment *r, el_error *err)
+{
+    el_error local;
+    el_error_clear(&local);
+    el_status st = el_spectrum_compute(&r->series, NULL, &r->spectra, &r->peaks,
+                                       NULL, &local);
+    if (st == EL_ERR_DATA || st == EL_ERR_USAGE)
+        return el_warnings_add(&r->warnings,
+                               "spectral cross-check skipped: %s", local.message);
+    if (st != EL_OK) {
+        *err = local;
+        return st;
+    }
+    r->has_spectra = 1;
+    size_t n_slots = r->peaks.n_channels * r->peaks.max_per_channel;
+    r->mode_checks = calloc(r->modes.n_modes + 1, sizeof *r->mode_checks);
+    r->peak_checks = calloc(n_slots + 1, sizeof *r->peak_checks);
+    if (r->mode_checks == NULL || r->peak_checks == NULL)
+        return el_error_set(err, EL_ERR_NOMEM, "out of memory");
+    return el_spectrum_crosscheck(&r->modes, &r->spectra, &r->peaks,
+                                  (const char *const *)r->series.names, NULL,
+                                  r->mode_checks, r->peak_checks, &r->warnings, err);
+}
+
+el_status el_assess_run(const el_assess_options *opt, el_assessment *r,
+                        el_error *err)
+{
+    el_status st = el_assess_load(opt, r, err);
     if (st == EL_OK)
         st = el_fit(&r->series, &opt->fit, &r->model, &r->warnings, err);
     if (st == EL_OK)
         st = el_modes_compute(&r->model, &r->modes, &r->warnings, err);
+    if (st == EL_OK)
+        st = crosscheck_spectra(r, err);
     if (st == EL_OK && opt->boot.replicates > 0)
         st = el_boot_run(&r->series, &opt->fit, &r->model, &r->modes, &opt->boot,
                          &r->boot, &r->warnings, err);
@@ -159,6 +195,10 @@ void el_assessment_free(el_assessment *r)
     el_model_free(&r->model);
     el_modes_free(&r->modes);
     el_boot_free(&r->boot);
+    el_spectra_free(&r->spectra);
+    el_peaks_free(&r->peaks);
+    free(r->mode_checks);
+    free(r->peak_checks);
     el_warnings_free(&r->input_warnings);
     el_warnings_free(&r->warnings);
     memset(r, 0, sizeof *r);

@@ -11,6 +11,7 @@
 #include "el_ingest.h"
 #include "el_modes.h"
 #include "el_resample.h"
+#include "el_spectrum.h"
 #include "el_timebase.h"
 #include "el_verdict.h"
 
@@ -37,6 +38,11 @@ typedef struct {
     el_modes modes;
     el_boot_result boot;          /* boot.replicates == 0 when not run */
     el_verdict verdict;
+    int has_spectra;              /* 1: spectra and peaks below are filled */
+    el_spectra spectra;           /* Welch spectra of the window (cross-check, report) */
+    el_peaks peaks;
+    el_spectrum_mode_check *mode_checks;   /* modes.n_modes, owned (NULL without spectra) */
+    el_spectrum_peak_check *peak_checks;   /* per peak slot, owned */
     el_warnings input_warnings;   /* about the data: resampling, filled gaps */
     el_warnings warnings;         /* about the model and the verdict */
 } el_assessment;
@@ -48,6 +54,14 @@ typedef struct {
  * column name. */
 el_status el_assess_select_channels(const el_table *table, const char *list,
                                     size_t *out, size_t *n_out, el_error *err);
+
+/* The first two stages only: reads the log and builds the uniform series
+ * of the chosen channels over the window (result->table, result->series,
+ * result->input_warnings). Used by subcommands that need the data but no
+ * model. Errors as el_table_read and el_series_build, plus EL_ERR_USAGE
+ * for --from/--to/--channels. */
+el_status el_assess_load(const el_assess_options *opt, el_assessment *result,
+                         el_error *err);
 
 /* Runs the whole pipeline. On success every part of *result is filled;
  * on error the parts done so far stay in *result (free it either way with

@@ -28,7 +28,15 @@ void el_fit_defaults(el_fit_options *opt);
 /* The fitted model. Coordinates: channel c is scaled as
  * s_c = (x_c - channel_mean[c]) / channel_scale[c] (equal variance for the
  * fit); the state stacks the scaled channels at lags 0..K (state index
- * j*n_channels + c is channel c at lag j). All matrices column-major. */
+ * j*n_channels + c is channel c at lag j). All matrices column-major.
+ * channel_mean and channel_scale are the mean and the population standard
+ * deviation (divisor n_samples) over the whole window. Snapshot pair p
+ * (p = 0..n_pairs-1) is X column p = z[K + p], Y column p = z[K + p + 1].
+ * Storage: every array is allocated for the largest rank (state_dim), so a
+ * model can be refilled by el_fit_plan_execute without allocating; the
+ * rank-dependent matrices use their leading part (basis and lift are
+ * state_dim x rank with leading dimension state_dim, a_reduced is rank x
+ * rank with leading dimension rank). */
 typedef struct {
     size_t n_channels;
     size_t lags;
@@ -51,8 +59,10 @@ typedef struct {
     double *operating_point;  /* state_dim: z* = (I - Ad)^-1 c, physical units */
     int operating_point_ok;   /* 0 when I - Ad is singular to working precision */
     double rcond_i_minus_a;   /* reciprocal condition number of I - Ad (scaled) */
-    double fit_r2;            /* one-step R^2 over all channels (scaled coordinates) */
-    double *channel_r2;       /* n_channels: one-step R^2 per channel */
+    double fit_r2;            /* one-step R^2 over all channels (lag-0 rows, scaled
+                                 coordinates): 1 - sum SS_res / sum SS_tot */
+    double *channel_r2;       /* n_channels: one-step R^2 per channel; NaN (null) when
+                                 the channel does not vary over the fitted pairs */
     double *residual_rms;     /* n_channels: one-step residual RMS, physical units */
 } el_model;
 
@@ -61,24 +71,68 @@ typedef struct {
  * centred X), takes the thin SVD of the centred scaled X by LAPACK (an
  * orthogonal method, never normal equations), truncates to the rank asked
  * for (or the Gavish-Donoho threshold), and sets Ad = Yc V S^-1 U', c =
- * mean(Y) - Ad mean(X), z* = (I - Ad)^-1 c. Adds warnings for: I - Ad
- * near singular (an eigenvalue near 1), rank truncated, few pairs per
- * parameter. Errors: EL_ERR_DATA when a channel is constant (names it;
- * hint: leave it out with --channels) or there are fewer snapshot pairs
- * than 2 * (state_dim + 1) (hint: longer window, fewer lags);
- * EL_ERR_USAGE when rank > state_dim; EL_ERR_NUMERIC when LAPACK fails.
- * *model must be zero-initialised or freed; on error it is left empty. */
+ * mean(Y) - Ad mean(X), z* = (I - Ad)^-1 c. Singular values at or below
+ * max(n_pairs, state_dim) * DBL_EPSILON * the largest (the numpy lstsq
+ * cut-off) are never inverted: the rank is lowered to the numerical rank
+ * with a warning (linearly dependent channels or lags), so a full-rank fit
+ * is the minimum-norm least-squares solution. Adds warnings for: I - Ad
+ * near singular (rcond < 1e-8: an eigenvalue near 1), rank truncated, few
+ * pairs per parameter (< 10 per coefficient of a row, common practice).
+ * The operating point is not reported (operating_point_ok = 0, values 0)
+ * when I - Ad is singular to working precision: rcond below 1e3 * state_dim
+ * * DBL_EPSILON * cond(X_r), where rounding alone can move z* by more than
+ * 0.1%. Errors: EL_ERR_DATA when a channel is constant (std == 0 or std <=
+ * 1e-12 |mean|; names it; hint: leave it out with --channels) or not finite,
+ * or there are fewer snapshot pairs than 2 * (state_dim + 1) (hint: longer
+ * window, fewer lags); EL_ERR_USAGE (option "--rank", "--lags" or
+ * "--method") when rank > state_dim, rank < -1 or the method is unknown;
+ * EL_ERR_NUMERIC when LAPACK fails; EL_ERR_NOMEM. *model must be
+ * zero-initialised or freed; on error it is left empty. */
 el_status el_fit(const el_series *series, const el_fit_options *opt,
                  el_model *model, el_warnings *warnings, el_error *err);
 
 /* Frees everything the model owns and zeroes it. NULL is a no-op. */
 void el_model_free(el_model *model);
 
+/* Plan for fitting many series of the same size with the same options
+ * (tracking windows): sizes, checks and every LAPACK workspace (queried
+ * with lwork = -1) are fixed at creation; execute allocates nothing when
+ * it refills a model it filled before. Opaque. A plan may be used by one
+ * thread at a time; separate plans are independent. */
+typedef struct el_fit_plan el_fit_plan;
+
+/* Creates a plan for series of n_samples x n_channels fitted with opt
+ * (NULL = defaults) and stores it in *plan (NULL on error). Errors as
+ * el_fit for the sizes and options: EL_ERR_DATA for too few snapshot pairs,
+ * EL_ERR_USAGE for a bad rank or method, EL_ERR_DATA when the sizes exceed
+ * LAPACK's integer range, EL_ERR_NOMEM. Free with el_fit_plan_destroy. */
+el_status el_fit_plan_create(size_t n_samples, size_t n_channels,
+                             const el_fit_options *opt, el_fit_plan **plan,
+                             el_error *err);
+
+/* Fits series (which must have the plan's n_samples and n_channels, else
+ * EL_ERR_INTERNAL) into *model: a zero-initialised model is allocated, a
+ * model filled before by this plan or another of the same sizes is
+ * overwritten in place without allocating. Same results, warnings and
+ * errors as el_fit. On error the model keeps its allocation with
+ * unspecified contents (refill or free it). */
+el_status el_fit_plan_execute(el_fit_plan *plan, const el_series *series,
+                              el_model *model, el_warnings *warnings,
+                              el_error *err);
+
+/* Frees the plan. NULL is a no-op. */
+void el_fit_plan_destroy(el_fit_plan *plan);
+
 /* Optimal hard threshold rank (Gavish & Donoho 2014, unknown noise level):
  * tau = omega(beta) * median(sv), beta = rows/cols (<= 1) of the matrix the
  * singular values sv[0..n) (descending) came from; returns the number of
- * singular values above tau (at least 1). */
+ * singular values above tau (at least 1; 0 only when n == 0). */
 size_t el_fit_hard_threshold_rank(const double *sv, size_t n, size_t rows,
                                   size_t cols);
+
+/* The paper's cubic approximation of the threshold coefficient for an
+ * unknown noise level, omega(beta) = 0.56 beta^3 - 0.95 beta^2 + 1.82 beta
+ * + 1.43, with beta = min/max of the matrix dimensions in (0, 1]. */
+double el_fit_hard_threshold_omega(double beta);
 
 #endif

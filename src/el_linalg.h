@@ -1,5 +1,6 @@
 /* el_linalg: small dense helpers on column-major matrices shared by the
- * stages (matrix exponential, products), built on BLAS/LAPACK. */
+ * stages (matrix exponential, products, exact discretisation), built on
+ * BLAS/LAPACK. */
 #ifndef EL_LINALG_H
 #define EL_LINALG_H
 
@@ -7,16 +8,48 @@
 
 #include "el_error.h"
 
-/* C = A * B with A m x k, B k x n, C m x n (column-major, C must not alias
- * A or B). Can't fail. */
+/* C = A * B with A m x k, B k x n, C m x n (column-major, leading
+ * dimensions m, k, m; C must not alias A or B). Sizes of 0 are allowed
+ * (C is then zeroed, or left alone when it is empty). Can't fail. */
 void el_matmul(size_t m, size_t k, size_t n, const double *a, const double *b,
                double *c);
 
-/* Matrix exponential E = exp(A) of an n x n matrix by scaling and squaring
- * with a [13/13] Pade approximant (Higham 2005). work must hold 6*n*n
- * doubles, ipiv n ints. EL_ERR_NUMERIC when the Pade denominator is
- * singular (cannot happen for finite A in exact arithmetic). */
+/* Matrix exponential E = exp(A) of an n x n matrix (column-major) by
+ * scaling and squaring with diagonal Pade approximants (Higham 2005, SIAM
+ * J. Matrix Anal. Appl. 26(4), Algorithm 2.3): degree 3, 5, 7 or 9 when
+ * the 1-norm of A is small enough for it, otherwise [13/13] on A / 2^s.
+ * Inputs: n >= 1, a (n*n, not modified). Outputs: e (n*n, must not alias
+ * a). Workspace: work holds 6*n*n doubles, ipiv n ints (caller-owned, no
+ * allocation here). Errors: EL_ERR_NUMERIC when A has a non-finite entry,
+ * the Pade denominator is singular (cannot happen for finite A in exact
+ * arithmetic) or the result overflows; EL_ERR_INTERNAL for n == 0 or a NULL
+ * pointer. */
 el_status el_expm(size_t n, const double *a, double *e, double *work, int *ipiv,
                   el_error *err);
+
+/* Doubles of workspace el_discretise needs for n states: 32*n*n + 2*n. */
+size_t el_discretise_work_size(size_t n);
+
+/* Exact zero-order discretisation of dx/dt = A x + w(t), w white noise of
+ * intensity Q (E[w(t) w(s)'] = Q delta(t - s)), over a step dt_s:
+ *   Ad = exp(A dt),  Qd = integral_0^dt exp(A s) Q exp(A' s) ds,
+ * both from one exponential of the 2n x 2n matrix [[-A, Q], [0, A']] dt
+ * (Van Loan 1978, IEEE Trans. Automatic Control 23(3), "Computing
+ * integrals involving the matrix exponential"): its top-right block is
+ * Ad^-1 Qd and its bottom-right block Ad'. Qd is returned exactly
+ * symmetric. Inputs: n >= 1, a and q (n*n column-major; q symmetric
+ * positive semi-definite), dt_s > 0 finite. Outputs: ad, qd (n*n), and
+ * qd_factor (n*n, may be NULL): G with G G' = Qd from a Cholesky
+ * factorisation with symmetric pivoting (LAPACK dpstrf), so it works for
+ * a semi-definite Qd; G is lower triangular up to a row permutation, and
+ * columns past the numerical rank are zero. x[k+1] = Ad x[k] + G z[k] with
+ * z[k] ~ N(0, I) then simulates the system exactly at the sample times.
+ * Workspace: work holds el_discretise_work_size(n) doubles, iwork 2*n ints.
+ * Errors: EL_ERR_INTERNAL for a NULL pointer, n == 0, dt_s not positive and
+ * finite, or q not symmetric; EL_ERR_NUMERIC when the exponential fails
+ * (non-finite entries, overflow). */
+el_status el_discretise(size_t n, const double *a, const double *q, double dt_s,
+                        double *ad, double *qd, double *qd_factor,
+                        double *work, int *iwork, el_error *err);
 
 #endif

@@ -9,6 +9,14 @@
 #include "el_error.h"
 #include "el_fit.h"
 
+/* Values that do not exist are NaN (the JSON writer prints null):
+ * - at_nyquist: frequency_hz and damping_ratio are NaN (the true frequency
+ *   is any alias (2n+1)/(2 dt); |mu|, hence Re lambda, decay_rate and
+ *   time_constant_s, is measured correctly whatever the alias);
+ * - instantaneous (mu == 0): lambda_re = -INFINITY, decay_rate NaN,
+ *   time_constant_s 0 (gone within one sample), damping_ratio 1, frequency 0;
+ * - lambda == 0 exactly: damping_ratio NaN; Re lambda == 0: time_constant_s
+ *   NaN. */
 typedef struct {
     double mu_re, mu_im;          /* discrete-time eigenvalue */
     double lambda_re, lambda_im;  /* continuous, 1/time unit; im >= 0 for a pair */
@@ -33,16 +41,25 @@ typedef struct {
 } el_modes;
 
 /* Continuous eigenvalue of a discrete one: lambda = ln(mu)/dt (principal
- * branch). Sets *at_nyquist when mu lies on the negative real axis within
- * a relative 1e-12, and returns re = -INFINITY for mu == 0. */
+ * branch). Sets *at_nyquist (may be NULL) when mu lies on the negative real
+ * axis within a relative 1e-12 (|Im mu| <= 1e-12 |mu| and Re mu < 0); then
+ * lambda_im = +pi/dt whatever the sign of Im mu. Returns re = -INFINITY,
+ * im = 0 for mu == 0. Can't fail. */
 void el_modes_lambda(double mu_re, double mu_im, double dt, double *lambda_re,
                      double *lambda_im, int *at_nyquist);
 
 /* Computes the modes of the model (eigenvalues of a_reduced by LAPACK
- * dgeev; shapes from the exact DMD modes lift * W, taken at lag 0, in
- * physical units). *modes must be zero-initialised or freed. Adds a
- * warning for each mode at the Nyquist limit. EL_ERR_NUMERIC when the
- * eigenvalue solver fails. */
+ * dgeev; shapes from the exact DMD modes lift * W (Tu et al. 2014), taken
+ * at lag 0, times channel_scale, in physical units). Where the exact mode
+ * vanishes (mu == 0, or lift * w below rounding) the projected mode
+ * basis * w is used instead. Modes are sorted by Re lambda, largest first;
+ * ties by frequency, lowest first (NaN last), then by LAPACK's order. A
+ * conjugate pair is one mode (Im lambda > 0 shown); a pair whose mu lies on
+ * the negative real axis within 1e-12 is flagged at_nyquist as well.
+ * *modes must be zero-initialised or freed. Adds a warning for each mode
+ * at the Nyquist limit. EL_ERR_NUMERIC when the eigenvalue solver fails;
+ * EL_ERR_INTERNAL for a model without a fit; EL_ERR_NOMEM. On error *modes
+ * is left empty. */
 el_status el_modes_compute(const el_model *model, el_modes *modes,
                            el_warnings *warnings, el_error *err);
 

@@ -69,9 +69,8 @@ static void text_model(const el_assessment *r, el_buf *out)
     const el_series *s = &r->series;
     el_buf_printf(out, "Model  z[k+1] = Ad z[k] + c  (affine least squares%s)\n",
                   m->rank < m->state_dim ? ", exact DMD" : "");
-    el_buf_printf(out, "  states       %zu (%zu channel%s x %zu lag%s + current)\n",
-                  m->state_dim, m->n_channels, m->n_channels == 1 ? "" : "s",
-                  m->lags, m->lags == 1 ? "" : "s");
+    el_buf_printf(out, "  states       %zu (%zu channel%s, each at lags 0..%zu)\n",
+                  m->state_dim, m->n_channels, m->n_channels == 1 ? "" : "s", m->lags);
     el_buf_printf(out, "  rank         %zu%s\n", m->rank,
                   m->rank_was_auto ? " (optimal hard threshold)" : "");
     el_buf_printf(out, "  pairs        %zu\n", m->n_pairs);
@@ -180,6 +179,31 @@ static void text_warnings(const el_assessment *r, el_buf *out)
     el_buf_printf(out, "\n");
 }
 
+/* Appends prefix + text, wrapped at 78 columns with a hanging indent. */
+static void text_wrapped(el_buf *out, const char *prefix, const char *text)
+{
+    size_t indent = strlen(prefix), column = indent;
+    el_buf_printf(out, "%s", prefix);
+    const char *p = text;
+    while (*p != '\0') {
+        const char *end = strchr(p, ' ');
+        size_t len = end ? (size_t)(end - p) : strlen(p);
+        if (column > indent && column + 1 + len > 78) {
+            el_buf_printf(out, "\n%*s", (int)indent, "");
+            column = indent;
+        } else if (column > indent) {
+            el_buf_printf(out, " ");
+            column++;
+        }
+        el_buf_printf(out, "%.*s", (int)len, p);
+        column += len;
+        p += len;
+        while (*p == ' ')
+            p++;
+    }
+    el_buf_printf(out, "\n");
+}
+
 el_status el_report_text(const el_assessment *r, const el_assess_options *opt,
                          el_buf *out)
 {
@@ -189,7 +213,7 @@ el_status el_report_text(const el_assessment *r, const el_assess_options *opt,
     text_modes(r, out);
     text_verdict(r, out);
     text_warnings(r, out);
-    el_buf_printf(out, "Caution: %s\n", el_assess_caution());
+    text_wrapped(out, "Caution: ", el_assess_caution());
     return out->failed ? EL_ERR_NOMEM : EL_OK;
 }
 

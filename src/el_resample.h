@@ -10,6 +10,7 @@
 #include "el_error.h"
 #include "el_fit.h"
 #include "el_modes.h"
+#include "el_rng.h"
 #include "el_timebase.h"
 #include "el_verdict.h"
 
@@ -73,5 +74,168 @@ el_status el_boot_run(const el_series *series, const el_fit_options *opt_fit,
 
 /* Frees what the result owns and zeroes it. NULL is a no-op. */
 void el_boot_free(el_boot_result *result);
+
+/* ---------------------------------------------------------------------
+ * The replicate engine. Everything below is used by el_boot_run and is
+ * public so that the tests (and later estimators) can reach it.
+ *
+ * Reduced coordinates. For a model with basis U_r (state_dim x r), the
+ * reduced state of sample k is w[k] = sqrt(m) L^-1 U_r' (z[k] - mean(X)),
+ * where G = L L' is the Cholesky factor of sum_k p[k] p[k]' over the m
+ * snapshot pairs and p[k] = U_r' (z[k] - mean(X)). Over the full sample
+ * sum w w' = m I, so w is O(1) per pair, and the eigenvalues of a matrix
+ * fitted in w equal those fitted in U_r coordinates (a similarity by L).
+ * ------------------------------------------------------------------- */
+
+/* A statistics provider: turns the reduced state sequence (n_states states
+ * of r doubles, contiguous) into one additive feature vector per snapshot
+ * pair, and a sum of such vectors over any multiset of pairs into the
+ * reduced system matrix. Because features add, a bootstrap replicate of
+ * any estimator that is a function of lagged cross-products (least squares
+ * uses sum X X', Y X', X, Y and the count; instrumental variables,
+ * forward-backward, total least squares and covariance-driven subspace
+ * identification add Y Y' or products at further lags, span > 2) is
+ * assembled from per-block sums without touching the data again.
+ *   span:        pair k reads states k .. k+span-1 (2 for one-step models)
+ *   n_features:  feature vector length for dimension r
+ *   work_doubles: scratch doubles solve() needs for dimension r
+ *   features:    writes the features of one pair; states points at its
+ *                span consecutive states
+ *   solve:       from the summed features writes a (r x r, column-major)
+ *                and, when offset != NULL, the intercept (r); returns 0,
+ *                or 1 when the system is singular (the replicate fails).
+ * Providers hold no state: they are safe to share between threads. */
+typedef struct {
+    const char *name;
+    size_t span;
+    size_t (*n_features)(size_t r);
+    size_t (*work_doubles)(size_t r);
+    void (*features)(size_t r, const double *states, double *out);
+    int (*solve)(size_t r, const double *sum, double *a, double *offset,
+                 double *work);
+} el_boot_provider;
+
+/* Affine least squares in reduced coordinates: features
+ * [1, w_k, w_k+1, lower triangle of w_k w_k', w_k+1 w_k'] and
+ * A = Syx Sxx^-1 from the centred cross-products, solved by an r x r
+ * Cholesky factorisation. Never NULL. */
+const el_boot_provider *el_boot_provider_ls(void);
+
+/* A block of consecutive snapshot pairs [start, start + length). */
+typedef struct {
+    size_t start, length;
+} el_boot_block;
+
+/* Number of blocks of a moving-block replicate: ceil(n_pairs / length).
+ * Returns 0 when either argument is 0. */
+size_t el_boot_block_count(size_t n_pairs, size_t block_length);
+
+/* Draws one moving-block replicate (Kunsch 1989): el_boot_block_count
+ * blocks whose starts are uniform over the n_pairs - block_length + 1
+ * possible starts; the last block is cut so that the lengths add up to
+ * n_pairs exactly. blocks must hold el_boot_block_count(...) entries.
+ * Requires 1 <= block_length <= n_pairs. Returns the number of blocks. */
+size_t el_boot_draw_blocks(el_rng *rng, size_t n_pairs, size_t block_length,
+                           el_boot_block *blocks);
+
+typedef struct el_boot_engine el_boot_engine;
+
+/* Plans the engine for one reduced state sequence: one pass over the
+ * pairs computes the mean feature vector and prefix sums of the centred
+ * features (compensated summation), kept at every stride-th pair, where
+ * stride is the smallest that keeps the prefix table under max_bytes
+ * (0 = 256 MiB); between two kept prefixes the engine re-adds at most
+ * stride - 1 pairs from its copy of the states. Any block's sums are then
+ * a difference of two prefixes, O(stride * n_features) work, whatever the
+ * log length. Centring first keeps the prefixes a random walk of size
+ * O(sqrt(n_pairs)) instead of O(n_pairs), so their difference loses about
+ * eps * sqrt(n_pairs) rather than eps * n_pairs. *engine receives the new
+ * engine (free with el_boot_engine_destroy). Errors: EL_ERR_INTERNAL for a
+ * NULL argument, r == 0 or fewer than span states; EL_ERR_NOMEM. */
+el_status el_boot_engine_create(const el_boot_provider *provider,
+                                const double *states, size_t n_states,
+                                size_t r, size_t max_bytes,
+                                el_boot_engine **engine, el_error *err);
+
+/* Frees the engine. NULL is a no-op. */
+void el_boot_engine_destroy(el_boot_engine *engine);
+
+/* Number of snapshot pairs (n_states - span + 1), prefix stride, feature
+ * length, and the doubles of scratch el_boot_engine_assemble needs. */
+size_t el_boot_engine_pairs(const el_boot_engine *engine);
+size_t el_boot_engine_stride(const el_boot_engine *engine);
+size_t el_boot_engine_features(const el_boot_engine *engine);
+size_t el_boot_engine_work_doubles(const el_boot_engine *engine);
+
+/* Sum of the features over the blocks (a pair drawn twice counts twice)
+ * into sum (el_boot_engine_features doubles); work needs 2 * features
+ * doubles. Blocks must lie inside [0, pairs). Reads the engine only, so
+ * several threads may call it at once with their own buffers. */
+void el_boot_engine_sum(const el_boot_engine *engine,
+                        const el_boot_block *blocks, size_t n_blocks,
+                        double *sum, double *work);
+
+/* Sum over the blocks, then the provider's solve: a (r x r) and, when
+ * offset != NULL, the intercept (r). work holds el_boot_engine_work_doubles
+ * doubles. Returns 0, or 1 when the replicate's system is singular. */
+int el_boot_engine_assemble(const el_boot_engine *engine,
+                            const el_boot_block *blocks, size_t n_blocks,
+                            double *a, double *offset, double *work);
+
+/* Optimal block length for the moving/circular block bootstrap of the
+ * series x[0..n) (Politis & White 2004 with the correction of Patton,
+ * Politis & White 2009): b = (2 G^2 / D)^(1/3) n^(1/3) with
+ * G = sum_k lambda(k/M) |k| R(k), D = (4/3) g^2, g = sum_k lambda(k/M) R(k),
+ * R the sample autocovariance, lambda the flat-top (trapezoid) window and
+ * M = 2 m_hat from the first lag after which K_N = max(5, sqrt(log10 n))
+ * autocorrelations stay below 2 sqrt(log10(n) / n). b is capped at
+ * min(3 sqrt(n), n / 3) and is 1 for a series too short (n < 8), constant
+ * or with g <= 0. *b_out is the real-valued b. EL_ERR_NOMEM. */
+el_status el_boot_pw_block_length(const double *x, size_t n, double *b_out,
+                                  el_error *err);
+
+/* Matching replicate eigenvalues to the point estimate's modes. */
+typedef struct el_boot_matcher el_boot_matcher;
+
+/* Plans a matcher for the point estimate (its lambdas and which modes are
+ * pairs). Each mode stands for one eigenvalue slot, a pair for two; a
+ * replicate's eigenvalues are folded to Im >= 0 (a conjugate pair gives two
+ * equal slots) and assigned to the slots by the Hungarian algorithm on the
+ * distance in the lambda plane, so a pair that splits into two real
+ * eigenvalues (or two reals that merge into a pair) is still matched. The
+ * matcher holds scratch space: one per thread. Errors: EL_ERR_INTERNAL
+ * for an empty point estimate; EL_ERR_NOMEM. */
+el_status el_boot_matcher_create(const el_modes *point,
+                                 el_boot_matcher **matcher, el_error *err);
+
+/* Frees the matcher. NULL is a no-op. */
+void el_boot_matcher_destroy(el_boot_matcher *matcher);
+
+/* Matches the n_eig eigenvalues lambda_re/im (both members of each pair,
+ * in any order; finite) to the point modes. mode_re/mode_im (n_modes)
+ * receive, for each point mode, the mean of the folded replicate
+ * eigenvalues assigned to its slots (Im >= 0). *ambiguous is set to 1 when
+ * the second-best assignment (best among those that take away one of the
+ * best assignment's mode-to-mode links) costs at most 10% more than the
+ * best (C2 <= 1.1 C1): the replicate could as well be read with two modes
+ * swapped. Returns 0, or -1 when n_eig differs from the point estimate's
+ * number of eigenvalues. */
+int el_boot_match(el_boot_matcher *matcher, const double *lambda_re,
+                  const double *lambda_im, size_t n_eig, double *mode_re,
+                  double *mode_im, int *ambiguous);
+
+/* Quantile p in [0, 1] of sorted[0..n) (ascending, n >= 1) by linear
+ * interpolation between order statistics (Hyndman & Fan 1996, type 7:
+ * h = (n - 1) p, x[floor h] + (h - floor h) (x[floor h + 1] - x[floor h])). */
+double el_boot_quantile(const double *sorted, size_t n, double p);
+
+/* Builds the reduced state sequence of el_boot_run (see above) for the
+ * model fitted to series: states receives (model->n_pairs + 1) * rank
+ * doubles (allocated, owned by the caller, free()). EL_ERR_INTERNAL when
+ * the series does not fit the model; EL_ERR_NUMERIC when the projected
+ * snapshots are rank-deficient; EL_ERR_NOMEM. */
+el_status el_boot_reduced_states(const el_series *series,
+                                 const el_model *model, double **states,
+                                 el_error *err);
 
 #endif

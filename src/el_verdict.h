@@ -34,13 +34,31 @@ const char *el_region_name(el_region region);
 /* Region of the trace-determinant plane of a real 2x2 continuous-time
  * matrix. tol is the absolute tolerance under which det, the discriminant
  * trace^2 - 4 det, and the trace count as zero (boundary cases); pass a
- * scale-aware value (el_verdict_compute uses 1e-9 * max(1, lambda scale^2)).
+ * scale-aware value (see el_verdict_plane_tolerances).
  * det < -tol: saddle; |det| <= tol: non-isolated; |disc| <= tol:
  * degenerate node (a star or improper node; sign of trace says sink or
  * source, and |trace| <= tol as well means the zero matrix, non-isolated);
  * disc < 0: |trace| <= tol center, trace < 0 spiral sink, else spiral
  * source; disc > 0: trace < 0 sink, else source. Can't fail. */
 el_region el_verdict_plane_region(double trace, double det, double tol);
+
+/* The same with separate tolerances: tol_trace (1/time unit) for the
+ * trace, tol_quad (1/time unit^2) for det and the discriminant. Use it
+ * with el_verdict_plane_tolerances so that the region agrees with the
+ * stability class of the same eigenvalues. Can't fail. */
+el_region el_verdict_plane_region_tols(double trace, double det, double tol_trace,
+                                       double tol_quad);
+
+/* Tolerances for the plane that match a marginal tolerance delta on each
+ * eigenvalue (el_verdict_compute: delta = 1e-9/dt) for eigenvalues of
+ * modulus up to lambda_scale: perturbing lambda_1, lambda_2 by up to delta
+ * moves the trace by 2 delta, det = lambda_1 lambda_2 by up to
+ * 2 L delta + delta^2 and the discriminant (lambda_1 - lambda_2)^2 by up
+ * to 8 L delta + 4 delta^2 (L = lambda_scale); *tol_trace = 2 delta,
+ * *tol_quad = 8 L delta + 4 delta^2. Then a center is exactly a pair with
+ * |Re lambda| <= delta. Can't fail. */
+void el_verdict_plane_tolerances(double delta, double lambda_scale,
+                                 double *tol_trace, double *tol_quad);
 
 typedef struct {
     el_stability stability;
@@ -65,13 +83,28 @@ typedef struct {
  * a mode is marginal when |Re lambda| <= marginal_tolerance = 1e-9 / dt
  * (numerical tolerance), stability follows from the least damped mode, and
  * a warning says bounds are not computed. With a bootstrap: stable or
- * unstable only when that class holds with probability >= level, otherwise
- * ambiguous with warnings naming the boundary the bounds straddle and what
- * would resolve it. Type: for state_dim 2 the plane region; for n states
+ * unstable only when that class holds with probability >= level
+ * (p_stable = boot->p_stable), otherwise marginal and ambiguous with
+ * warnings naming the boundary the bounds straddle and what would resolve
+ * it; each mode counts as stable/unstable when the fraction of its matched
+ * replicates (boot->lambda_re, or else its bounds) on that side is >= level,
+ * else marginal. For two states the region is the point estimate's; when
+ * the bootstrap gives it a probability below level the result is ambiguous
+ * with a warning naming the plane boundary (det = 0, the discriminant line
+ * or trace = 0). A warning also flags a mode whose bounds are too wide to
+ * determine it (damping ratio interval wider than 0.5, or a frequency
+ * interval wider than the frequency). Type: for state_dim 2 (two
+ * eigenvalues, none at the Nyquist limit or instantaneous) the plane region
+ * from the continuous eigenvalues (trace = sum, det = product) with
+ * el_verdict_plane_tolerances(marginal_tolerance, max |lambda|); else
  * "sink"/"spiral sink" (all stable, without/with oscillatory modes),
- * "source"/"spiral source", "saddle" (both sides), or "marginal". Modes at
- * the Nyquist limit add a warning and make the result ambiguous. Returns
- * EL_OK, or EL_ERR_NOMEM when a warning cannot be stored. */
+ * "source"/"spiral source", "saddle" (both sides), or "marginal". A mode at
+ * the Nyquist limit counts as oscillatory; its modes add a warning and make
+ * the result ambiguous. trace, determinant, discriminant are NaN without a
+ * plane. Returns EL_OK; EL_ERR_USAGE (option "--level") for a level
+ * outside (0.5, 1) when a bootstrap is given; EL_ERR_INTERNAL for missing
+ * arguments, a model without modes or a bootstrap of another model;
+ * EL_ERR_NOMEM when a warning cannot be stored. */
 el_status el_verdict_compute(const el_modes *modes, const el_model *model,
                              const struct el_boot_result *boot, double level,
                              el_verdict *verdict, el_warnings *warnings,

@@ -19,7 +19,7 @@ expect() {
     got=$?
     problem=""
     [ "$got" -eq "$want" ] || problem="exit status $got, want $want"
-    grep -q -E "$where" "$tmp/stderr" || problem="$problem; no location matching '$where'"
+    grep -q -E -e "$where" "$tmp/stderr" || problem="$problem; no location matching '$where'"
     grep -q "hint:" "$tmp/stderr" || problem="$problem; no hint"
     [ -e "$tmp/out.json" ] && problem="$problem; output file left behind"
     ls "$tmp" | grep -q 'out.json.tmp' && problem="$problem; temporary file left behind"

@@ -1,0 +1,221 @@
+/* cli_spectrum: `eigenlog spectrum FILE`: Welch power spectra and peaks. */
+#include <stdio.h>
+#include <string.h>
+
+#include "cli.h"
+#include "el_assess.h"
+#include "el_io.h"
+#include "el_json.h"
+#include "el_report.h"
+#include "el_spectrum.h"
+
+static const cli_option OPTIONS[] = {
+    {"time", "COL", "time column (default: the first column)"},
+    {"channels", "A,B,..", "channels (default: every column but time)"},
+    {"from", "T", "window start, in the time column's units or ISO 8601"},
+    {"to", "T", "window end, likewise"},
+    {"max-gap", "N", "longest run of missing samples to fill (default 5)"},
+    {"segment", "N", "samples per Welch segment (default: largest power of two <= n/4, >= 64)"},
+    {"peaks", "N", "at most N peaks per channel (default 5)"},
+    {"json", "FILE", "write spectra and peaks as JSON (- = standard output)"},
+    {"csv", "FILE", "write the spectra as CSV, one column per channel (- = standard output)"},
+    {"quiet", NULL, "print nothing but errors"},
+};
+#define N_OPTIONS (sizeof OPTIONS / sizeof OPTIONS[0])
+
+static const char *val(const cli_args *a, const char *name)
+{
+    return a->value[cli_index(OPTIONS, N_OPTIONS, name)];
+}
+
+static void print_table(const el_assessment *r, const el_spectra *s, const el_peaks *p)
+{
+    printf("%s: Welch spectra, %zu segments of %zu samples (50%% overlap, Hann),\n"
+           "  resolution %.4g Hz, %.3g degrees of freedom per bin\n\n",
+           r->table.source, s->n_segments, s->segment_length, s->df_hz, s->dof);
+    for (size_t c = 0; c < s->n_channels; c++) {
+        const char *unit = r->series.units[c];
+        printf("%s%s%s%s: total power %.4g %s%s\n", r->series.names[c], unit[0] ? " [" : "",
+               unit, unit[0] ? "]" : "", s->total_power[c], unit[0] ? unit : "", unit[0] ? "^2" : "");
+        if (p->count[c] == 0) {
+            printf("  no peak stands out (%.0fx the median level and above the estimator noise)\n\n",
+                   10.0);
+            continue;
+        }
+        printf("  %10s %12s %10s %12s\n", "freq Hz", "height/Hz", "x median", "width Hz");
+        for (size_t i = 0; i < p->count[c]; i++) {
+            const el_peak *pk = &p->items[c * p->max_per_channel + i];
+            char width[32];
+            if (pk->width_ok)
+                snprintf(width, sizeof width, "%.4g", pk->width_hz);
+            else
+                snprintf(width, sizeof width, "n/a");
+            printf("  %10.4g %12.4g %10.3g %12s\n", pk->frequency_hz, pk->height,
+                   pk->ratio_to_median, width);
+        }
+        printf("\n");
+    }
+}
+
+static el_status spectra_json(const el_assessment *r, const el_spectra *s,
+                              const el_peaks *p, el_buf *out)
+{
+    el_json j;
+    el_json_init(&j, out);
+    el_json_object_begin(&j, NULL);
+    el_json_string(&j, "eigenlog", EL_VERSION);
+    el_json_string(&j, "file", r->table.source);
+    el_json_number(&j, "dt", s->dt);
+    el_json_int(&j, "segment_length", (long long)s->segment_length);
+    el_json_int(&j, "segments", (long long)s->n_segments);
+    el_json_number(&j, "df_hz", s->df_hz);
+    el_json_number(&j, "dof", s->dof);
+    el_json_array_begin(&j, "frequency_hz");
+    for (size_t k = 0; k < s->n_bins; k++)
+        el_json_number(&j, NULL, s->frequency_hz[k]);
+    el_json_array_end(&j);
+    el_json_array_begin(&j, "channels");
+    for (size_t c = 0; c < s->n_channels; c++) {
+        el_json_object_begin(&j, NULL);
+        el_json_string(&j, "name", r->series.names[c]);
+        el_json_string(&j, "unit", r->series.units[c]);
+        el_json_number(&j, "total_power", s->total_power[c]);
+        el_json_array_begin(&j, "psd");
+        for (size_t k = 0; k < s->n_bins; k++)
+            el_json_number(&j, NULL, s->psd[c * s->n_bins + k]);
+        el_json_array_end(&j);
+        el_json_array_begin(&j, "peaks");
+        for (size_t i = 0; i < p->count[c]; i++) {
+            const el_peak *pk = &p->items[c * p->max_per_channel + i];
+            el_json_object_begin(&j, NULL);
+            el_json_number(&j, "frequency_hz", pk->frequency_hz);
+            el_json_number(&j, "height", pk->height);
+            el_json_number(&j, "ratio_to_median", pk->ratio_to_median);
+            el_json_number(&j, "prominence", pk->prominence);
+            if (pk->width_ok)
+                el_json_number(&j, "width_hz", pk->width_hz);
+            else
+                el_json_null(&j, "width_hz");
+            el_json_object_end(&j);
+        }
+        el_json_array_end(&j);
+        el_json_object_end(&j);
+    }
+    el_json_array_end(&j);
+    el_json_object_end(&j);
+    return el_json_finish(&j);
+}
+
+static el_status spectra_csv(const el_assessment *r, const el_spectra *s, el_buf *out)
+{
+    el_buf_printf(out, "frequency_hz");
+    for (size_t c = 0; c < s->n_channels; c++) {
+        const char *u = r->series.units[c];
+        if (u[0] != '\0')
+            el_buf_printf(out, ",\"%s [%s^2/Hz]\"", r->series.names[c], u);
+        else
+            el_buf_printf(out, ",\"%s [1/Hz]\"", r->series.names[c]);
+    }
+    el_buf_printf(out, "\n");
+    for (size_t k = 0; k < s->n_bins; k++) {
+        el_buf_printf(out, "%.10g", s->frequency_hz[k]);
+        for (size_t c = 0; c < s->n_channels; c++)
+            el_buf_printf(out, ",%.10g", s->psd[c * s->n_bins + k]);
+        el_buf_printf(out, "\n");
+    }
+    return out->failed ? EL_ERR_NOMEM : EL_OK;
+}
+
+static el_status parse(const cli_args *a, el_assess_options *o,
+                       el_spectrum_options *so, el_error *err)
+{
+    el_assess_defaults(o);
+    el_spectrum_defaults(so);
+    if (a->n_positional != 1) {
+        el_error_set(err, EL_ERR_USAGE, "give exactly one log file");
+        el_error_hint(err, "eigenlog spectrum FILE [options]; FILE may be - for stdin");
+        return EL_ERR_USAGE;
+    }
+    o->path = a->positional[0];
+    o->time_column = val(a, "time");
+    o->channels = val(a, "channels");
+    o->from_text = val(a, "from");
+    o->to_text = val(a, "to");
+    const char *v;
+    el_status st = EL_OK;
+    if ((v = val(a, "max-gap")) && (st = cli_size("max-gap", v, 0, 1000000, &o->max_gap, err)))
+        return st;
+    if ((v = val(a, "segment")) && (st = cli_size("segment", v, 1, (size_t)1 << 30, &so->segment_length, err)))
+        return st;
+    if ((v = val(a, "peaks")) && (st = cli_size("peaks", v, 1, 100, &so->max_peaks, err)))
+        return st;
+    if ((st = el_check_writable(val(a, "json"), err)))
+        return st;
+    return el_check_writable(val(a, "csv"), err);
+}
+
+static el_status write_file(const char *path, el_status built, el_buf *b, el_error *err)
+{
+    if (built != EL_OK)
+        return el_error_set(err, built, "could not build the output");
+    return el_write_file_atomic(path, b->data, b->length, err);
+}
+
+static el_status run(const cli_args *a, el_error *err)
+{
+    el_assess_options o;
+    el_spectrum_options so;
+    el_status st = parse(a, &o, &so, err);
+    if (st != EL_OK)
+        return st;
+    el_assessment r;
+    memset(&r, 0, sizeof r);
+    el_spectra s;
+    el_peaks p;
+    memset(&s, 0, sizeof s);
+    memset(&p, 0, sizeof p);
+    st = el_assess_load(&o, &r, err);
+    if (st == EL_OK)
+        st = el_spectrum_compute(&r.series, &so, &s, &p, &r.warnings, err);
+    const char *json = val(a, "json"), *csv = val(a, "csv");
+    el_buf jb = {0}, cb = {0};
+    if (st == EL_OK && json != NULL)
+        st = write_file(json, spectra_json(&r, &s, &p, &jb), &jb, err);
+    if (st == EL_OK && csv != NULL)
+        st = write_file(csv, spectra_csv(&r, &s, &cb), &cb, err);
+    int to_stdout = (json && strcmp(json, "-") == 0) || (csv && strcmp(csv, "-") == 0);
+    if (st == EL_OK && val(a, "quiet") == NULL && !to_stdout) {
+        print_table(&r, &s, &p);
+        for (size_t i = 0; i < r.input_warnings.count; i++)
+            printf("! %s\n", r.input_warnings.items[i]);
+        for (size_t i = 0; i < r.warnings.count; i++)
+            printf("! %s\n", r.warnings.items[i]);
+    }
+    el_buf_free(&jb);
+    el_buf_free(&cb);
+    el_spectra_free(&s);
+    el_peaks_free(&p);
+    el_assessment_free(&r);
+    return st;
+}
+
+int cli_spectrum(int argc, char **argv)
+{
+    cli_args a;
+    el_error err;
+    el_error_clear(&err);
+    el_status st = cli_parse(argc, argv, OPTIONS, N_OPTIONS, &a, &err);
+    if (st == EL_OK && a.help) {
+        cli_print_help("eigenlog spectrum FILE [options]",
+                       "Welch power spectral density of each channel (Hann window, 50% overlap,\n"
+                       "segments averaged; density scaled so it integrates to the variance)\n"
+                       "and its peaks: frequency, height, width at half height.",
+                       OPTIONS, N_OPTIONS);
+        return 0;
+    }
+    if (st == EL_OK)
+        st = run(&a, &err);
+    if (st != EL_OK)
+        cli_print_error(&err);
+    return el_exit_code(st);
+}

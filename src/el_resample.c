@@ -1,0 +1,1445 @@
+/* el_resample: bootstrap replicates of the fit assembled from additive
+ * per-block statistics, eigenvalue matching and the bounds they give. */
+#include "el_resample.h"
+
+#include <float.h>
+#include <lapacke.h>
+#include <math.h>
+#include <pthread.h>
+#include <stdatomic.h>
+#include <stdlib.h>
+#include <string.h>
+#include <unistd.h>
+
+#define BOOT_DEFAULT_MAX_BYTES ((size_t)256 << 20)
+#define BOOT_MATCH_FORBIDDEN 1e30
+#define BOOT_AMBIGUITY_RATIO 1.10
+#define BOOT_PI 3.14159265358979323846
+
+void el_boot_defaults(el_boot_options *opt)
+{
+    memset(opt, 0, sizeof *opt);
+    opt->replicates = 1000;
+    opt->kind = EL_RESAMPLE_BLOCKS;
+    opt->block_length = 0;
+    opt->level = 0.95;
+    opt->seed = 1;
+    opt->threads = 0;
+}
+
+void el_boot_free(el_boot_result *result)
+{
+    if (result == NULL)
+        return;
+    free(result->bounds);
+    free(result->lambda_re);
+    free(result->lambda_im);
+    free(result->trace_samples);
+    free(result->det_samples);
+    memset(result, 0, sizeof *result);
+}
+
+/* ------------------------------------------------------------------ */
+/* Small dense kernels (r is small; no LAPACK so that nothing allocates
+ * and every thread runs the same instruction sequence). */
+
+/* In-place lower Cholesky of the n x n column-major s (upper part is left
+ * as it was). Returns 1 when a pivot is not above rel_tol times the largest
+ * diagonal entry: the matrix is singular to the precision that matters. */
+static int cholesky_lower(size_t n, double *s, double rel_tol)
+{
+    double dmax = 0.0;
+    for (size_t j = 0; j < n; j++)
+        if (s[j + j * n] > dmax)
+            dmax = s[j + j * n];
+    if (!(dmax > 0.0) || !isfinite(dmax))
+        return 1;
+    for (size_t j = 0; j < n; j++) {
+        double d = s[j + j * n];
+        for (size_t k = 0; k < j; k++)
+            d -= s[j + k * n] * s[j + k * n];
+        if (!(d > rel_tol * dmax))
+            return 1;
+        d = sqrt(d);
+        s[j + j * n] = d;
+        for (size_t i = j + 1; i < n; i++) {
+            double v = s[i + j * n];
+            for (size_t k = 0; k < j; k++)
+                v -= s[i + k * n] * s[j + k * n];
+            s[i + j * n] = v / d;
+        }
+    }
+    return 0;
+}
+
+/* Solves L x = b in place (L lower, from cholesky_lower). */
+static void forward_subst(size_t n, const double *l, double *x)
+{
+    for (size_t i = 0; i < n; i++) {
+        double v = x[i];
+        for (size_t k = 0; k < i; k++)
+            v -= l[i + k * n] * x[k];
+        x[i] = v / l[i + i * n];
+    }
+}
+
+/* Solves L' x = b in place. */
+static void backward_subst(size_t n, const double *l, double *x)
+{
+    for (size_t ii = n; ii-- > 0;) {
+        double v = x[ii];
+        for (size_t k = ii + 1; k < n; k++)
+            v -= l[k + ii * n] * x[k];
+        x[ii] = v / l[ii + ii * n];
+    }
+}
+
+/* ------------------------------------------------------------------ */
+/* Least-squares statistics provider. */
+
+static size_t ls_n_features(size_t r)
+{
+    return 1 + 2 * r + r * (r + 1) / 2 + r * r;
+}
+
+static size_t ls_work_doubles(size_t r)
+{
+    return 2 * r * r + 3 * r;
+}
+
+static void ls_features(size_t r, const double *states, double *out)
+{
+    const double *w = states, *v = states + r;
+    size_t idx = 1 + 2 * r;
+    out[0] = 1.0;
+    for (size_t i = 0; i < r; i++) {
+        out[1 + i] = w[i];
+        out[1 + r + i] = v[i];
+    }
+    for (size_t j = 0; j < r; j++)
+        for (size_t i = j; i < r; i++)
+            out[idx++] = w[i] * w[j];
+    for (size_t j = 0; j < r; j++)
+        for (size_t i = 0; i < r; i++)
+            out[idx++] = v[i] * w[j];
+}
+
+/* A = Syx Sxx^-1 with the centred cross-products. In the reduced
+ * coordinates Sxx of the full sample is m I (orthonormal projection, then
+ * whitening), and a replicate's Sxx is a resampled version of it, so its
+ * condition number stays near 1 and an r x r Cholesky loses nothing that a
+ * QR of the weighted regression would keep; the pivot test only catches a
+ * replicate that really lost a direction. */
+static int ls_solve(size_t r, const double *sum, double *a, double *offset,
+                    double *work)
+{
+    double n = sum[0];
+    if (!(n >= (double)(r + 2)))
+        return 1;
+    double *wbar = work, *vbar = work + r, *x = work + 2 * r;
+    double *sxx = work + 3 * r, *syx = sxx + r * r;
+    for (size_t i = 0; i < r; i++) {
+        wbar[i] = sum[1 + i] / n;
+        vbar[i] = sum[1 + r + i] / n;
+    }
+    size_t idx = 1 + 2 * r;
+    for (size_t j = 0; j < r; j++)
+        for (size_t i = j; i < r; i++) {
+            double v = sum[idx++] - n * wbar[i] * wbar[j];
+            sxx[i + j * r] = v;
+            sxx[j + i * r] = v;
+        }
+    for (size_t j = 0; j < r; j++)
+        for (size_t i = 0; i < r; i++)
+            syx[i + j * r] = sum[idx++] - n * vbar[i] * wbar[j];
+    if (cholesky_lower(r, sxx, 1e-12))
+        return 1;
+    /* Row i of A solves Sxx a_i' = (row i of Syx)'. */
+    for (size_t i = 0; i < r; i++) {
+        for (size_t j = 0; j < r; j++)
+            x[j] = syx[i + j * r];
+        forward_subst(r, sxx, x);
+        backward_subst(r, sxx, x);
+        for (size_t j = 0; j < r; j++) {
+            if (!isfinite(x[j]))
+                return 1;
+            a[i + j * r] = x[j];
+        }
+    }
+    if (offset != NULL)
+        for (size_t i = 0; i < r; i++) {
+            double v = vbar[i];
+            for (size_t j = 0; j < r; j++)
+                v -= a[i + j * r] * wbar[j];
+            offset[i] = v;
+        }
+    return 0;
+}
+
+static const el_boot_provider ls_provider = {
+    "least squares", 2, ls_n_features, ls_work_doubles, ls_features, ls_solve
+};
+
+const el_boot_provider *el_boot_provider_ls(void)
+{
+    return &ls_provider;
+}
+
+/* ------------------------------------------------------------------ */
+/* Moving blocks. */
+
+size_t el_boot_block_count(size_t n_pairs, size_t block_length)
+{
+    if (n_pairs == 0 || block_length == 0)
+        return 0;
+    return (n_pairs + block_length - 1) / block_length;
+}
+
+size_t el_boot_draw_blocks(el_rng *rng, size_t n_pairs, size_t block_length,
+                           el_boot_block *blocks)
+{
+    size_t nb = el_boot_block_count(n_pairs, block_length);
+    size_t n_starts = n_pairs - block_length + 1;
+    size_t left = n_pairs;
+    for (size_t b = 0; b < nb; b++) {
+        blocks[b].start = (size_t)el_rng_below(rng, (uint64_t)n_starts);
+        blocks[b].length = left < block_length ? left : block_length;
+        left -= blocks[b].length;
+    }
+    return nb;
+}
+
+/* ------------------------------------------------------------------ */
+/* Engine. */
+
+struct el_boot_engine {
+    const el_boot_provider *prov;
+    size_t r, n_states, n_pairs, d, stride, n_chk;
+    double *states;   /* n_states * r */
+    double *gbar;     /* d: mean feature vector */
+    double *prefix;   /* n_chk * d: prefix sums of centred features at j = q * stride */
+};
+
+/* Neumaier's compensated addition of y into (s, c). */
+static void kahan_add(double *s, double *c, double y)
+{
+    double t = *s + y;
+    if (fabs(*s) >= fabs(y))
+        *c += (*s - t) + y;
+    else
+        *c += (y - t) + *s;
+    *s = t;
+}
+
+el_status el_boot_engine_create(const el_boot_provider *provider,
+                                const double *states, size_t n_states,
+                                size_t r, size_t max_bytes,
+                                el_boot_engine **engine, el_error *err)
+{
+    if (engine == NULL)
+        return el_error_set(err, EL_ERR_INTERNAL, "el_boot_engine_create: engine is NULL");
+    *engine = NULL;
+    if (provider == NULL || states == NULL || r == 0 || n_states < provider->span
+        || provider->span < 1)
+        return el_error_set(err, EL_ERR_INTERNAL,
+                            "el_boot_engine_create: bad arguments (r %zu, %zu states)",
+                            r, n_states);
+    if (max_bytes == 0)
+        max_bytes = BOOT_DEFAULT_MAX_BYTES;
+    el_boot_engine *e = calloc(1, sizeof *e);
+    if (e == NULL)
+        return el_error_set(err, EL_ERR_NOMEM, "out of memory (bootstrap engine)");
+    e->prov = provider;
+    e->r = r;
+    e->n_states = n_states;
+    e->n_pairs = n_states - provider->span + 1;
+    e->d = provider->n_features(r);
+    double table_bytes = (double)(e->n_pairs + 1) * (double)e->d * sizeof(double);
+    e->stride = (size_t)ceil(table_bytes / (double)max_bytes);
+    if (e->stride < 1)
+        e->stride = 1;
+    e->n_chk = e->n_pairs / e->stride + 1;
+    e->states = malloc(n_states * r * sizeof(double));
+    e->gbar = calloc(e->d, sizeof(double));
+    e->prefix = malloc(e->n_chk * e->d * sizeof(double));
+    double *s = calloc(2 * e->d, sizeof(double));
+    double *g = malloc(e->d * sizeof(double));
+    if (e->states == NULL || e->gbar == NULL || e->prefix == NULL || s == NULL
+        || g == NULL) {
+        free(s);
+        free(g);
+        el_boot_engine_destroy(e);
+        return el_error_set(err, EL_ERR_NOMEM, "out of memory (bootstrap engine, %zu pairs)",
+                            n_states);
+    }
+    memcpy(e->states, states, n_states * r * sizeof(double));
+    size_t d = e->d;
+    double *c = s + d;
+    for (size_t k = 0; k < e->n_pairs; k++) {
+        provider->features(r, e->states + k * r, g);
+        for (size_t f = 0; f < d; f++)
+            kahan_add(&s[f], &c[f], g[f]);
+    }
+    for (size_t f = 0; f < d; f++)
+        e->gbar[f] = (s[f] + c[f]) / (double)e->n_pairs;
+    memset(s, 0, 2 * d * sizeof(double));
+    memset(e->prefix, 0, d * sizeof(double));
+    for (size_t k = 0; k < e->n_pairs; k++) {
+        provider->features(r, e->states + k * r, g);
+        for (size_t f = 0; f < d; f++)
+            kahan_add(&s[f], &c[f], g[f] - e->gbar[f]);
+        if ((k + 1) % e->stride == 0) {
+            double *p = e->prefix + ((k + 1) / e->stride) * d;
+            for (size_t f = 0; f < d; f++)
+                p[f] = s[f] + c[f];
+        }
+    }
+    free(s);
+    free(g);
+    *engine = e;
+    return EL_OK;
+}
+
+void el_boot_engine_destroy(el_boot_engine *engine)
+{
+    if (engine == NULL)
+        return;
+    free(engine->states);
+    free(engine->gbar);
+    free(engine->prefix);
+    free(engine);
+}
+
+size_t el_boot_engine_pairs(const el_boot_engine *engine) { return engine->n_pairs; }
+size_t el_boot_engine_stride(const el_boot_engine *engine) { return engine->stride; }
+size_t el_boot_engine_features(const el_boot_engine *engine) { return engine->d; }
+
+size_t el_boot_engine_work_doubles(const el_boot_engine *engine)
+{
+    return 3 * engine->d + engine->prov->work_doubles(engine->r);
+}
+
+/* acc += sign * P(j), the prefix sum of centred features over pairs [0, j). */
+static void add_prefix(const el_boot_engine *e, size_t j, double sign,
+                       double *acc, double *tmp)
+{
+    size_t d = e->d, q = j / e->stride;
+    const double *p = e->prefix + q * d;
+    for (size_t f = 0; f < d; f++)
+        acc[f] += sign * p[f];
+    for (size_t k = q * e->stride; k < j; k++) {
+        e->prov->features(e->r, e->states + k * e->r, tmp);
+        for (size_t f = 0; f < d; f++)
+            acc[f] += sign * (tmp[f] - e->gbar[f]);
+    }
+}
+
+void el_boot_engine_sum(const el_boot_engine *engine,
+                        const el_boot_block *blocks, size_t n_blocks,
+                        double *sum, double *work)
+{
+    const el_boot_engine *e = engine;
+    size_t d = e->d, total = 0;
+    memset(sum, 0, d * sizeof(double));
+    for (size_t b = 0; b < n_blocks; b++) {
+        size_t a0 = blocks[b].start, a1 = blocks[b].start + blocks[b].length;
+        total += blocks[b].length;
+        if (e->stride == 1) {
+            const double *restrict p1 = e->prefix + a1 * d;
+            const double *restrict p0 = e->prefix + a0 * d;
+            double *restrict acc = sum;
+            for (size_t f = 0; f < d; f++)
+                acc[f] += p1[f] - p0[f];
+        } else {
+            add_prefix(e, a1, 1.0, sum, work);
+            add_prefix(e, a0, -1.0, sum, work);
+        }
+    }
+    for (size_t f = 0; f < d; f++)
+        sum[f] += (double)total * e->gbar[f];
+}
+
+int el_boot_engine_assemble(const el_boot_engine *engine,
+                            const el_boot_block *blocks, size_t n_blocks,
+                            double *a, double *offset, double *work)
+{
+    double *sum = work, *rest = work + engine->d;
+    el_boot_engine_sum(engine, blocks, n_blocks, sum, rest);
+    return engine->prov->solve(engine->r, sum, a, offset, rest);
+}
+
+/* ------------------------------------------------------------------ */
+/* Politis & White block length. */
+
+/* Sample autocovariance at lag k of the demeaned x (divisor n). */
+static double autocov(const double *x, size_t n, size_t k)
+{
+    double s = 0.0;
+    for (size_t t = 0; t + k < n; t++)
+        s += x[t] * x[t + k];
+    return s / (double)n;
+}
+
+/* Flat-top (trapezoid) lag window of Politis & Romano. */
+static double flat_top(double t)
+{
+    t = fabs(t);
+    if (t <= 0.5)
+        return 1.0;
+    if (t <= 1.0)
+        return 2.0 * (1.0 - t);
+    return 0.0;
+}
+
+el_status el_boot_pw_block_length(const double *x, size_t n, double *b_out,
+                                  el_error *err)
+{
+    *b_out = 1.0;
+    if (n < 8)
+        return EL_OK;
+    double *y = malloc(n * sizeof(double));
+    size_t kn = (size_t)ceil(sqrt(log10((double)n)));
+    if (kn < 5)
+        kn = 5;
+    size_t m_max = (size_t)ceil(sqrt((double)n)) + kn;
+    if (m_max + kn >= n)
+        m_max = n > kn + 1 ? n - kn - 1 : 0;
+    double *acv = malloc((m_max + kn + 1) * sizeof(double));
+    if (y == NULL || acv == NULL) {
+        free(y);
+        free(acv);
+        return el_error_set(err, EL_ERR_NOMEM, "out of memory (block length)");
+    }
+    double mean = 0.0;
+    for (size_t t = 0; t < n; t++)
+        mean += x[t];
+    mean /= (double)n;
+    for (size_t t = 0; t < n; t++)
+        y[t] = x[t] - mean;
+    size_t have = 0; /* acv[0..have) computed; autocovariances are costly, so lazily */
+    acv[have++] = autocov(y, n, 0);
+    if (!(acv[0] > 0.0)) {
+        free(y);
+        free(acv);
+        return EL_OK;
+    }
+    double crit = 2.0 * sqrt(log10((double)n) / (double)n);
+    size_t m_hat = m_max, run = 0;
+    for (size_t k = 1; k <= m_max + kn; k++) {
+        if (k >= have) {
+            acv[k] = autocov(y, n, k);
+            have = k + 1;
+        }
+        if (fabs(acv[k] / acv[0]) < crit) {
+            if (++run == kn) {
+                m_hat = k - kn;
+                break;
+            }
+        } else {
+            run = 0;
+        }
+    }
+    size_t big_m = 2 * m_hat;
+    if (big_m > m_max)
+        big_m = m_max;
+    for (; have <= big_m; have++)
+        acv[have] = autocov(y, n, have);
+    double g_sum = acv[0], big_g = 0.0;
+    for (size_t k = 1; k <= big_m; k++) {
+        double lam = flat_top((double)k / (double)big_m);
+        g_sum += 2.0 * lam * acv[k];
+        big_g += 2.0 * lam * (double)k * acv[k];
+    }
+    free(y);
+    free(acv);
+    if (!(g_sum > 0.0))
+        return EL_OK;
+    double d_cb = 4.0 / 3.0 * g_sum * g_sum;
+    double b = cbrt(2.0 * big_g * big_g / d_cb) * cbrt((double)n);
+    double b_max = ceil(fmin(3.0 * sqrt((double)n), (double)n / 3.0));
+    if (b > b_max)
+        b = b_max;
+    *b_out = b;
+    return EL_OK;
+}
+
+/* ------------------------------------------------------------------ */
+/* Matching by the Hungarian algorithm. */
+
+struct el_boot_matcher {
+    size_t n_modes, n;            /* point modes, eigenvalue slots */
+    size_t *slot_mode;            /* n: point mode of each row slot */
+    double *pre, *pim;            /* n: folded point lambda per slot */
+    double *fre, *fim;            /* n: folded replicate lambda per column */
+    size_t *group;                /* n: replicate mode (conjugate group) of each column */
+    double *cost, *cwork;         /* n * n, [row + col * n] */
+    double *u, *v, *minv;         /* n + 1 */
+    size_t *p, *way;              /* n + 1 */
+    unsigned char *used;          /* n + 1 */
+    size_t *assign, *best;        /* n: column of each row */
+};
+
+void el_boot_matcher_destroy(el_boot_matcher *m)
+{
+    if (m == NULL)
+        return;
+    free(m->slot_mode);
+    free(m->pre);
+    free(m->pim);
+    free(m->fre);
+    free(m->fim);
+    free(m->group);
+    free(m->cost);
+    free(m->cwork);
+    free(m->u);
+    free(m->v);
+    free(m->minv);
+    free(m->p);
+    free(m->way);
+    free(m->used);
+    free(m->assign);
+    free(m->best);
+    free(m);
+}
+
+el_status el_boot_matcher_create(const el_modes *point, el_boot_matcher **matcher,
+                                 el_error *err)
+{
+    *matcher = NULL;
+    if (point == NULL || point->n_modes == 0 || point->modes == NULL)
+        return el_error_set(err, EL_ERR_INTERNAL, "el_boot_matcher_create: no point modes");
+    size_t n = 0;
+    for (size_t i = 0; i < point->n_modes; i++)
+        n += point->modes[i].pair ? 2 : 1;
+    el_boot_matcher *m = calloc(1, sizeof *m);
+    if (m == NULL)
+        return el_error_set(err, EL_ERR_NOMEM, "out of memory (matcher)");
+    m->n_modes = point->n_modes;
+    m->n = n;
+    m->slot_mode = malloc(n * sizeof(size_t));
+    m->pre = malloc(n * sizeof(double));
+    m->pim = malloc(n * sizeof(double));
+    m->fre = malloc(n * sizeof(double));
+    m->fim = malloc(n * sizeof(double));
+    m->group = malloc(n * sizeof(size_t));
+    m->cost = malloc(n * n * sizeof(double));
+    m->cwork = malloc(n * n * sizeof(double));
+    m->u = malloc((n + 1) * sizeof(double));
+    m->v = malloc((n + 1) * sizeof(double));
+    m->minv = malloc((n + 1) * sizeof(double));
+    m->p = malloc((n + 1) * sizeof(size_t));
+    m->way = malloc((n + 1) * sizeof(size_t));
+    m->used = malloc(n + 1);
+    m->assign = malloc(n * sizeof(size_t));
+    m->best = malloc(n * sizeof(size_t));
+    if (!m->slot_mode || !m->pre || !m->pim || !m->fre || !m->fim || !m->group
+        || !m->cost || !m->cwork || !m->u || !m->v || !m->minv || !m->p || !m->way
+        || !m->used || !m->assign || !m->best) {
+        el_boot_matcher_destroy(m);
+        return el_error_set(err, EL_ERR_NOMEM, "out of memory (matcher)");
+    }
+    size_t s = 0;
+    for (size_t i = 0; i < point->n_modes; i++) {
+        const el_mode *md = &point->modes[i];
+        /* An instantaneous mode (mu = 0) has Re = -inf; a floor keeps the
+         * costs finite and it still attracts the most negative replicate. */
+        double re = isfinite(md->lambda_re) ? md->lambda_re : -DBL_MAX / 4;
+        for (int k = 0; k < (md->pair ? 2 : 1); k++) {
+            m->slot_mode[s] = i;
+            m->pre[s] = re;
+            m->pim[s] = fabs(md->lambda_im);
+            s++;
+        }
+    }
+    *matcher = m;
+    return EL_OK;
+}
+
+/* Minimum-cost perfect assignment of rows to columns of the n x n cost
+ * (potentials form of the Hungarian algorithm, O(n^3)). assign[row] =
+ * column. Returns the total cost. */
+static double hungarian(el_boot_matcher *m, const double *cost, size_t *assign)
+{
+    size_t n = m->n;
+    double *u = m->u, *v = m->v, *minv = m->minv;
+    size_t *p = m->p, *way = m->way;
+    unsigned char *used = m->used;
+    for (size_t j = 0; j <= n; j++) {
+        u[j] = 0.0;
+        v[j] = 0.0;
+        p[j] = 0;
+        way[j] = 0;
+    }
+    for (size_t i = 1; i <= n; i++) {
+        p[0] = i;
+        size_t j0 = 0;
+        for (size_t j = 0; j <= n; j++) {
+            minv[j] = HUGE_VAL;
+            used[j] = 0;
+        }
+        do {
+            used[j0] = 1;
+            size_t i0 = p[j0], j1 = 0;
+            double delta = HUGE_VAL;
+            for (size_t j = 1; j <= n; j++) {
+                if (used[j])
+                    continue;
+                double cur = cost[(i0 - 1) + (j - 1) * n] - u[i0] - v[j];
+                if (cur < minv[j]) {
+                    minv[j] = cur;
+                    way[j] = j0;
+                }
+                if (minv[j] < delta) {
+                    delta = minv[j];
+                    j1 = j;
+                }
+            }
+            for (size_t j = 0; j <= n; j++) {
+                if (used[j]) {
+                    u[p[j]] += delta;
+                    v[j] -= delta;
+                } else {
+                    minv[j] -= delta;
+                }
+            }
+            j0 = j1;
+        } while (p[j0] != 0);
+        do {
+            size_t j1 = way[j0];
+            p[j0] = p[j1];
+            j0 = j1;
+        } while (j0 != 0);
+    }
+    double total = 0.0;
+    for (size_t j = 1; j <= n; j++) {
+        assign[p[j] - 1] = j - 1;
+        total += cost[(p[j] - 1) + (j - 1) * n];
+    }
+    return total;
+}
+
+/* Groups the replicate columns into modes: the two members of a conjugate
+ * pair fold onto the same point and form one mode. */
+static void group_columns(el_boot_matcher *m, const double *im)
+{
+    size_t n = m->n;
+    for (size_t j = 0; j < n; j++) {
+        m->group[j] = j;
+        if (im[j] == 0.0)
+            continue;
+        for (size_t k = 0; k < j; k++) {
+            if (m->group[k] == k && m->fre[k] == m->fre[j] && m->fim[k] == m->fim[j]
+                && im[k] == -im[j]) {
+                int taken = 0;
+                for (size_t q = k + 1; q < j; q++)
+                    if (m->group[q] == k)
+                        taken = 1;
+                if (!taken) {
+                    m->group[j] = k;
+                    break;
+                }
+            }
+        }
+    }
+}
+
+/* Cost of the best assignment that never links point mode pm to the
+ * replicate mode (group) g. */
+static double cost_without_link(el_boot_matcher *m, size_t pm, size_t g)
+{
+    size_t n = m->n;
+    memcpy(m->cwork, m->cost, n * n * sizeof(double));
+    for (size_t i = 0; i < n; i++) {
+        if (m->slot_mode[i] != pm)
+            continue;
+        for (size_t j = 0; j < n; j++)
+            if (m->group[j] == g)
+                m->cwork[i + j * n] = BOOT_MATCH_FORBIDDEN;
+    }
+    double c = hungarian(m, m->cwork, m->assign);
+    return c >= BOOT_MATCH_FORBIDDEN / 2 ? HUGE_VAL : c;
+}
+
+int el_boot_match(el_boot_matcher *m, const double *lambda_re,
+                  const double *lambda_im, size_t n_eig, double *mode_re,
+                  double *mode_im, int *ambiguous)
+{
+    size_t n = m->n;
+    if (n_eig != n)
+        return -1;
+    for (size_t j = 0; j < n; j++) {
+        m->fre[j] = lambda_re[j];
+        m->fim[j] = fabs(lambda_im[j]);
+    }
+    group_columns(m, lambda_im);
+    for (size_t j = 0; j < n; j++)
+        for (size_t i = 0; i < n; i++)
+            m->cost[i + j * n] = hypot(m->pre[i] - m->fre[j], m->pim[i] - m->fim[j]);
+    double c1 = hungarian(m, m->cost, m->best);
+    for (size_t q = 0; q < m->n_modes; q++) {
+        mode_re[q] = 0.0;
+        mode_im[q] = 0.0;
+    }
+    for (size_t i = 0; i < n; i++) {
+        size_t q = m->slot_mode[i], j = m->best[i];
+        double w = (i + 1 < n && m->slot_mode[i + 1] == q)
+                           || (i > 0 && m->slot_mode[i - 1] == q)
+                       ? 0.5
+                       : 1.0;
+        mode_re[q] += w * m->fre[j];
+        mode_im[q] += w * m->fim[j];
+    }
+    /* Second best: take away one mode-to-mode link of the best assignment
+     * at a time (a Murty-style partition restricted to the links that
+     * matter; swapping the two equal slots of a pair is no alternative). */
+    double c2 = HUGE_VAL;
+    for (size_t i = 0; i < n; i++) {
+        size_t pm = m->slot_mode[i], g = m->group[m->best[i]];
+        int seen = 0;
+        for (size_t k = 0; k < i; k++)
+            if (m->slot_mode[k] == pm && m->group[m->best[k]] == g)
+                seen = 1;
+        if (seen)
+            continue;
+        double c = cost_without_link(m, pm, g);
+        if (c < c2)
+            c2 = c;
+    }
+    *ambiguous = isfinite(c2) && c2 <= BOOT_AMBIGUITY_RATIO * c1;
+    return 0;
+}
+
+/* ------------------------------------------------------------------ */
+/* Percentiles. */
+
+double el_boot_quantile(const double *sorted, size_t n, double p)
+{
+    if (n == 1)
+        return sorted[0];
+    if (p <= 0.0)
+        return sorted[0];
+    if (p >= 1.0)
+        return sorted[n - 1];
+    double h = (double)(n - 1) * p;
+    size_t lo = (size_t)floor(h);
+    if (lo >= n - 1)
+        return sorted[n - 1];
+    double frac = h - (double)lo;
+    return sorted[lo] + frac * (sorted[lo + 1] - sorted[lo]);
+}
+
+static int cmp_double(const void *a, const void *b)
+{
+    double x = *(const double *)a, y = *(const double *)b;
+    return (x > y) - (x < y);
+}
+
+/* Percentile interval of the finite values among v[0..n) (reordered in
+ * place); NaN bounds when there are none. */
+static el_interval percentile_interval(double *v, size_t n, double level)
+{
+    size_t k = 0;
+    for (size_t i = 0; i < n; i++)
+        if (isfinite(v[i]))
+            v[k++] = v[i];
+    el_interval out = { NAN, NAN };
+    if (k == 0)
+        return out;
+    qsort(v, k, sizeof(double), cmp_double);
+    out.lo = el_boot_quantile(v, k, 0.5 * (1.0 - level));
+    out.hi = el_boot_quantile(v, k, 0.5 * (1.0 + level));
+    return out;
+}
+
+/* ------------------------------------------------------------------ */
+/* Reduced states. */
+
+el_status el_boot_reduced_states(const el_series *series, const el_model *model,
+                                 double **states, el_error *err)
+{
+    *states = NULL;
+    size_t nn = series->n_samples, nc = model->n_channels, lags = model->lags;
+    size_t sd = model->state_dim, r = model->rank;
+    if (series->n_channels != nc || sd != nc * (lags + 1) || nn < lags + 3 || r == 0
+        || r > sd || model->basis == NULL || model->channel_mean == NULL
+        || model->channel_scale == NULL || nn - 1 - lags != model->n_pairs)
+        return el_error_set(err, EL_ERR_INTERNAL,
+                            "bootstrap: the series (%zu samples, %zu channels) does "
+                            "not fit the model (%zu pairs, state %zu, rank %zu)",
+                            nn, series->n_channels, model->n_pairs, sd, r);
+    size_t m = model->n_pairs;
+    double *zbar = calloc(sd, sizeof(double));
+    double *z = malloc(sd * sizeof(double));
+    double *g = calloc(r * r, sizeof(double));
+    double *w = malloc((m + 1) * r * sizeof(double));
+    if (zbar == NULL || z == NULL || g == NULL || w == NULL) {
+        free(zbar);
+        free(z);
+        free(g);
+        free(w);
+        return el_error_set(err, EL_ERR_NOMEM, "out of memory (bootstrap states)");
+    }
+    const double *x = series->values;
+    for (size_t j = 0; j <= lags; j++)
+        for (size_t c = 0; c < nc; c++) {
+            double s = 0.0;
+            for (size_t k = lags; k + 1 < nn; k++)
+                s += (x[c * nn + k - j] - model->channel_mean[c]) / model->channel_scale[c];
+            zbar[j * nc + c] = s / (double)m;
+        }
+    for (size_t t = 0; t <= m; t++) {
+        size_t k = lags + t;
+        for (size_t j = 0; j <= lags; j++)
+            for (size_t c = 0; c < nc; c++)
+                z[j * nc + c] = (x[c * nn + k - j] - model->channel_mean[c])
+                                    / model->channel_scale[c]
+                                - zbar[j * nc + c];
+        double *p = w + t * r;
+        for (size_t q = 0; q < r; q++) {
+            double s = 0.0;
+            for (size_t i = 0; i < sd; i++)
+                s += model->basis[i + q * sd] * z[i];
+            p[q] = s;
+        }
+        if (t < m)
+            for (size_t b = 0; b < r; b++)
+                for (size_t a = b; a < r; a++)
+                    g[a + b * r] += p[a] * p[b];
+    }
+    free(zbar);
+    free(z);
+    if (cholesky_lower(r, g, 1e-14)) {
+        free(g);
+        free(w);
+        el_error_set(err, EL_ERR_NUMERIC,
+                     "bootstrap: the snapshots have no spread along a basis direction");
+        el_error_hint(err, "use a lower --rank");
+        return EL_ERR_NUMERIC;
+    }
+    double root_m = sqrt((double)m);
+    for (size_t t = 0; t <= m; t++) {
+        forward_subst(r, g, w + t * r);
+        for (size_t q = 0; q < r; q++)
+            w[t * r + q] *= root_m;
+    }
+    free(g);
+    *states = w;
+    return EL_OK;
+}
+
+/* ------------------------------------------------------------------ */
+/* The run. */
+
+typedef struct {
+    /* read-only during the run */
+    const el_boot_engine *engine;
+    const el_boot_provider *prov;
+    const double *w0;             /* r: first reduced state (model kind) */
+    const double *resid;          /* m * r centred residuals (model kind) */
+    const double *a0, *c0;        /* point fit in reduced coordinates */
+    size_t r, m, block, n_modes, total;
+    el_resample_kind kind;
+    uint64_t seed;
+    double dt;
+    int has_plane;
+    /* per replicate, written by exactly one thread */
+    unsigned char *ok, *amb, *stable;
+    double *mode_re, *mode_im, *trace, *det;
+    atomic_size_t next, done;
+} boot_shared;
+
+typedef struct {
+    boot_shared *sh;
+    el_boot_matcher *matcher;
+    el_boot_block *blocks;
+    double *work, *sum, *feat, *st;
+    double *a, *ageev, *wr, *wi, *lre, *lim, *geev;
+    lapack_int lwork;
+    const el_boot_options *opt;  /* progress callback: main worker only */
+    size_t reported;
+} boot_worker;
+
+static void worker_free(boot_worker *w)
+{
+    el_boot_matcher_destroy(w->matcher);
+    free(w->blocks);
+    free(w->work);
+    free(w->sum);
+    free(w->feat);
+    free(w->st);
+    free(w->a);
+    free(w->ageev);
+    free(w->wr);
+    free(w->wi);
+    free(w->lre);
+    free(w->lim);
+    free(w->geev);
+    memset(w, 0, sizeof *w);
+}
+
+/* Everything a replicate needs, allocated once per thread. */
+static el_status worker_init(boot_worker *w, boot_shared *sh, const el_modes *point,
+                             el_error *err)
+{
+    memset(w, 0, sizeof *w);
+    w->sh = sh;
+    size_t r = sh->r, d = el_boot_engine_features(sh->engine);
+    el_status st = el_boot_matcher_create(point, &w->matcher, err);
+    if (st != EL_OK)
+        return st;
+    w->blocks = malloc(el_boot_block_count(sh->m, sh->block) * sizeof(el_boot_block));
+    w->work = malloc(el_boot_engine_work_doubles(sh->engine) * sizeof(double));
+    w->sum = malloc(d * sizeof(double));
+    w->feat = malloc(d * sizeof(double));
+    w->st = malloc(2 * r * sizeof(double));
+    w->a = malloc(r * r * sizeof(double));
+    w->ageev = malloc(r * r * sizeof(double));
+    w->wr = malloc(r * sizeof(double));
+    w->wi = malloc(r * sizeof(double));
+    w->lre = malloc(r * sizeof(double));
+    w->lim = malloc(r * sizeof(double));
+    if (!w->blocks || !w->work || !w->sum || !w->feat || !w->st || !w->a || !w->ageev
+        || !w->wr || !w->wi || !w->lre || !w->lim) {
+        worker_free(w);
+        return el_error_set(err, EL_ERR_NOMEM, "out of memory (bootstrap workspace)");
+    }
+    double q = 0.0;
+    memset(w->ageev, 0, r * r * sizeof(double));
+    lapack_int info = LAPACKE_dgeev_work(LAPACK_COL_MAJOR, 'N', 'N', (lapack_int)r,
+                                         w->ageev, (lapack_int)r, w->wr, w->wi, NULL, 1,
+                                         NULL, 1, &q, -1);
+    w->lwork = info == 0 && q >= 1.0 ? (lapack_int)q : (lapack_int)(4 * r + 8);
+    w->geev = malloc((size_t)w->lwork * sizeof(double));
+    if (w->geev == NULL) {
+        worker_free(w);
+        return el_error_set(err, EL_ERR_NOMEM, "out of memory (bootstrap workspace)");
+    }
+    return EL_OK;
+}
+
+/* Residual bootstrap: regenerate the reduced series through the point
+ * model with moving blocks of centred residuals and sum its features. */
+static int model_replicate(boot_worker *w, el_rng *rng)
+{
+    boot_shared *sh = w->sh;
+    size_t r = sh->r, d = el_boot_engine_features(sh->engine);
+    size_t nb = el_boot_draw_blocks(rng, sh->m, sh->block, w->blocks);
+    double *prev = w->st, *next = w->st + r;
+    memcpy(prev, sh->w0, r * sizeof(double));
+    memset(w->sum, 0, d * sizeof(double));
+    for (size_t b = 0; b < nb; b++)
+        for (size_t t = 0; t < w->blocks[b].length; t++) {
+            const double *e = sh->resid + (w->blocks[b].start + t) * r;
+            for (size_t i = 0; i < r; i++) {
+                double v = sh->c0[i] + e[i];
+                for (size_t j = 0; j < r; j++)
+                    v += sh->a0[i + j * r] * prev[j];
+                next[i] = v;
+            }
+            sh->prov->features(r, w->st, w->feat);
+            for (size_t f = 0; f < d; f++)
+                w->sum[f] += w->feat[f];
+            memcpy(prev, next, r * sizeof(double));
+        }
+    for (size_t f = 0; f < d; f++)
+        if (!isfinite(w->sum[f]))
+            return 1;
+    return sh->prov->solve(r, w->sum, w->a, NULL, w->work);
+}
+
+/* Continuous eigenvalues of the r x r reduced matrix a. Returns 0 or 1. */
+static int eigen_lambda(boot_worker *w, const double *a, size_t r, double dt)
+{
+    memcpy(w->ageev, a, r * r * sizeof(double));
+    lapack_int info = LAPACKE_dgeev_work(LAPACK_COL_MAJOR, 'N', 'N', (lapack_int)r,
+                                         w->ageev, (lapack_int)r, w->wr, w->wi, NULL, 1,
+                                         NULL, 1, w->geev, w->lwork);
+    if (info != 0)
+        return 1;
+    for (size_t i = 0; i < r; i++) {
+        int nyq = 0;
+        el_modes_lambda(w->wr[i], w->wi[i], dt, &w->lre[i], &w->lim[i], &nyq);
+        /* mu == 0 gives -inf: keep it finite at the smallest positive
+         * |mu| so that sums and distances stay defined. */
+        if (!isfinite(w->lre[i]))
+            w->lre[i] = log(DBL_MIN) / dt;
+        if (!isfinite(w->lim[i]))
+            return 1;
+    }
+    return 0;
+}
+
+static void run_replicate(boot_worker *w, size_t rep)
+{
+    boot_shared *sh = w->sh;
+    size_t r = sh->r, nm = sh->n_modes;
+    el_rng rng;
+    el_rng_seed(&rng, sh->seed, (uint64_t)rep);
+    int fail;
+    if (sh->kind == EL_RESAMPLE_BLOCKS) {
+        size_t nb = el_boot_draw_blocks(&rng, sh->m, sh->block, w->blocks);
+        fail = el_boot_engine_assemble(sh->engine, w->blocks, nb, w->a, NULL, w->work);
+    } else {
+        fail = model_replicate(w, &rng);
+    }
+    if (!fail)
+        fail = eigen_lambda(w, w->a, r, sh->dt);
+    int amb = 0;
+    if (!fail)
+        fail = el_boot_match(w->matcher, w->lre, w->lim, r, sh->mode_re + rep * nm,
+                             sh->mode_im + rep * nm, &amb) != 0;
+    sh->ok[rep] = (unsigned char)!fail;
+    if (fail)
+        return;
+    sh->amb[rep] = (unsigned char)amb;
+    double max_re = -HUGE_VAL;
+    for (size_t i = 0; i < r; i++)
+        if (w->lre[i] > max_re)
+            max_re = w->lre[i];
+    sh->stable[rep] = (unsigned char)(max_re < 0.0);
+    if (sh->has_plane) {
+        sh->trace[rep] = w->lre[0] + w->lre[1];
+        sh->det[rep] = w->lre[0] * w->lre[1] - w->lim[0] * w->lim[1];
+    }
+}
+
+static void report_progress(boot_worker *w, int final)
+{
+    const el_boot_options *opt = w->opt;
+    if (opt == NULL || opt->progress == NULL)
+        return;
+    size_t done = atomic_load(&w->sh->done), total = w->sh->total;
+    size_t step = total / 100 > 0 ? total / 100 : 1;
+    if (final || done >= w->reported + step) {
+        w->reported = done;
+        opt->progress(opt->progress_ctx, done, total);
+    }
+}
+
+static void worker_loop(boot_worker *w)
+{
+    boot_shared *sh = w->sh;
+    for (;;) {
+        size_t rep = atomic_fetch_add(&sh->next, 1);
+        if (rep >= sh->total)
+            break;
+        run_replicate(w, rep);
+        atomic_fetch_add(&sh->done, 1);
+        report_progress(w, 0);
+    }
+}
+
+static void *worker_thread(void *arg)
+{
+    worker_loop(arg);
+    return NULL;
+}
+
+static size_t thread_count(size_t asked, size_t replicates)
+{
+    size_t t = asked;
+    if (t == 0) {
+        long c = sysconf(_SC_NPROCESSORS_ONLN);
+        t = c > 0 ? (size_t)c : 1;
+    }
+    if (t > replicates)
+        t = replicates;
+    if (t > 256)
+        t = 256;
+    return t < 1 ? 1 : t;
+}
+
+/* Residuals of the point fit in reduced coordinates, centred. */
+static void reduced_residuals(const double *states, size_t m, size_t r, const double *a,
+                              const double *c, double *res)
+{
+    double *mean = res + m * r; /* caller gives r spare doubles */
+    memset(mean, 0, r * sizeof(double));
+    for (size_t k = 0; k < m; k++) {
+        const double *x = states + k * r, *y = x + r;
+        for (size_t i = 0; i < r; i++) {
+            double v = y[i] - c[i];
+            for (size_t j = 0; j < r; j++)
+                v -= a[i + j * r] * x[j];
+            res[k * r + i] = v;
+            mean[i] += v;
+        }
+    }
+    for (size_t i = 0; i < r; i++)
+        mean[i] /= (double)m;
+    for (size_t k = 0; k < m; k++)
+        for (size_t i = 0; i < r; i++)
+            res[k * r + i] -= mean[i];
+}
+
+/* Politis-White on each reduced residual component; the largest wins, so
+ * the component with the longest memory sets the block. */
+static el_status auto_block(const double *res, size_t m, size_t r, size_t *block,
+                            el_error *err)
+{
+    double *x = malloc(m * sizeof(double));
+    if (x == NULL)
+        return el_error_set(err, EL_ERR_NOMEM, "out of memory (block length)");
+    double best = 1.0;
+    for (size_t i = 0; i < r; i++) {
+        for (size_t k = 0; k < m; k++)
+            x[k] = res[k * r + i];
+        double b = 1.0;
+        el_status st = el_boot_pw_block_length(x, m, &b, err);
+        if (st != EL_OK) {
+            free(x);
+            return st;
+        }
+        if (b > best)
+            best = b;
+    }
+    free(x);
+    size_t l = (size_t)llround(best);
+    *block = l < 1 ? 1 : (l > m ? m : l);
+    return EL_OK;
+}
+
+static el_status check_options(const el_boot_options *opt, el_error *err)
+{
+    if (!(opt->level > 0.0 && opt->level < 1.0)) {
+        el_error_set(err, EL_ERR_USAGE, "level %g is not between 0 and 1", opt->level);
+        el_error_option(err, "--level");
+        el_error_hint(err, "give the two-sided level as a fraction, e.g. --level 0.95");
+        return EL_ERR_USAGE;
+    }
+    if (opt->kind != EL_RESAMPLE_BLOCKS && opt->kind != EL_RESAMPLE_MODEL) {
+        el_error_set(err, EL_ERR_USAGE, "unknown resampling kind");
+        el_error_option(err, "--resample");
+        el_error_hint(err, "use --resample blocks or --resample model");
+        return EL_ERR_USAGE;
+    }
+    return EL_OK;
+}
+
+/* Fills the result from the per-replicate records (in replicate order, so
+ * the thread count cannot change anything). */
+static el_status aggregate(const boot_shared *sh, const el_modes *point,
+                           const el_boot_options *opt, el_boot_result *res,
+                           el_error *err)
+{
+    size_t nm = sh->n_modes, total = sh->total, n_ok = 0, n_stable = 0, n_amb = 0;
+    for (size_t i = 0; i < total; i++)
+        if (sh->ok[i]) {
+            n_ok++;
+            n_stable += sh->stable[i];
+            n_amb += sh->amb[i];
+        }
+    res->replicates = n_ok;
+    res->failed_replicates = total - n_ok;
+    res->ambiguous_matches = n_amb;
+    if (n_ok == 0 || 2 * n_ok < total) {
+        el_error_set(err, EL_ERR_NUMERIC,
+                     "only %zu of %zu bootstrap replicates gave a model", n_ok, total);
+        el_error_hint(err, "use a longer window, fewer --lags or a lower --rank");
+        return EL_ERR_NUMERIC;
+    }
+    res->p_stable = (double)n_stable / (double)n_ok;
+    res->bounds = calloc(nm, sizeof(el_mode_bounds));
+    res->lambda_re = malloc(n_ok * nm * sizeof(double));
+    res->lambda_im = malloc(n_ok * nm * sizeof(double));
+    double *v = malloc(n_ok * sizeof(double));
+    if (sh->has_plane) {
+        res->trace_samples = malloc(n_ok * sizeof(double));
+        res->det_samples = malloc(n_ok * sizeof(double));
+    }
+    if (!res->bounds || !res->lambda_re || !res->lambda_im || !v
+        || (sh->has_plane && (!res->trace_samples || !res->det_samples))) {
+        free(v);
+        return el_error_set(err, EL_ERR_NOMEM, "out of memory (bootstrap result)");
+    }
+    size_t k = 0;
+    for (size_t i = 0; i < total; i++) {
+        if (!sh->ok[i])
+            continue;
+        memcpy(res->lambda_re + k * nm, sh->mode_re + i * nm, nm * sizeof(double));
+        memcpy(res->lambda_im + k * nm, sh->mode_im + i * nm, nm * sizeof(double));
+        if (sh->has_plane) {
+            res->trace_samples[k] = sh->trace[i];
+            res->det_samples[k] = sh->det[i];
+        }
+        k++;
+    }
+    double level = opt->level;
+    for (size_t q = 0; q < nm; q++) {
+        const el_mode *md = &point->modes[q];
+        el_mode_bounds *b = &res->bounds[q];
+        const double *re = res->lambda_re, *im = res->lambda_im;
+        for (size_t i = 0; i < n_ok; i++)
+            v[i] = re[i * nm + q];
+        b->re = percentile_interval(v, n_ok, level);
+        for (size_t i = 0; i < n_ok; i++)
+            v[i] = im[i * nm + q];
+        b->im = percentile_interval(v, n_ok, level);
+        for (size_t i = 0; i < n_ok; i++)
+            v[i] = im[i * nm + q] / (2.0 * BOOT_PI);
+        b->frequency_hz = percentile_interval(v, n_ok, level);
+        for (size_t i = 0; i < n_ok; i++) {
+            double mag = hypot(re[i * nm + q], im[i * nm + q]);
+            v[i] = mag > 0.0 ? -re[i * nm + q] / mag : NAN;
+        }
+        b->damping_ratio = percentile_interval(v, n_ok, level);
+        for (size_t i = 0; i < n_ok; i++)
+            v[i] = -re[i * nm + q];
+        b->decay_rate = percentile_interval(v, n_ok, level);
+        /* Quantities the point estimate itself does not have stay flagged. */
+        el_interval none = { NAN, NAN };
+        if (md->at_nyquist)
+            b->frequency_hz = none;
+        if (md->instantaneous) {
+            b->re = none;
+            b->damping_ratio = none;
+            b->decay_rate = none;
+        }
+    }
+    if (sh->has_plane) {
+        double scale = 0.0;
+        for (size_t q = 0; q < nm; q++) {
+            double mag = hypot(point->modes[q].lambda_re, point->modes[q].lambda_im);
+            if (isfinite(mag) && mag > scale)
+                scale = mag;
+        }
+        double tol = 1e-9 * fmax(1.0, scale * scale);
+        size_t counts[EL_REGION_COUNT] = { 0 };
+        for (size_t i = 0; i < n_ok; i++) {
+            el_region rg = el_verdict_plane_region(res->trace_samples[i],
+                                                   res->det_samples[i], tol);
+            if (rg < EL_REGION_COUNT)
+                counts[rg]++;
+        }
+        for (size_t g = 0; g < EL_REGION_COUNT; g++)
+            res->region_probability[g] = (double)counts[g] / (double)n_ok;
+        memcpy(v, res->trace_samples, n_ok * sizeof(double));
+        res->trace = percentile_interval(v, n_ok, level);
+        memcpy(v, res->det_samples, n_ok * sizeof(double));
+        res->determinant = percentile_interval(v, n_ok, level);
+        for (size_t i = 0; i < n_ok; i++)
+            v[i] = res->trace_samples[i] * res->trace_samples[i]
+                   - 4.0 * res->det_samples[i];
+        res->discriminant = percentile_interval(v, n_ok, level);
+    }
+    free(v);
+    return EL_OK;
+}
+
+/* Largest distance between the engine's own full-sample eigenvalues and
+ * the point estimate's, or -1 when they cannot be compared. */
+static double point_mismatch(boot_worker *w, const boot_shared *sh, const el_modes *point)
+{
+    if (eigen_lambda(w, sh->a0, sh->r, sh->dt))
+        return -1.0;
+    double *re = w->feat, *im = w->feat + sh->n_modes; /* feat holds >= 2 r doubles */
+    int amb = 0;
+    if (el_boot_match(w->matcher, w->lre, w->lim, sh->r, re, im, &amb) != 0)
+        return -1.0;
+    double worst = 0.0;
+    for (size_t q = 0; q < sh->n_modes; q++) {
+        const el_mode *md = &point->modes[q];
+        if (!isfinite(md->lambda_re))
+            continue;
+        double dist = hypot(re[q] - md->lambda_re, im[q] - fabs(md->lambda_im));
+        double scale = hypot(md->lambda_re, md->lambda_im) + 1.0 / sh->dt;
+        if (dist / scale > worst)
+            worst = dist / scale;
+    }
+    return worst;
+}
+
+typedef struct {
+    double *states, *resid, *a0, *c0, *pwork;
+    el_boot_engine *engine;
+    boot_worker *workers;
+    size_t n_workers;
+    unsigned char *flags;
+    double *rec;
+} boot_buffers;
+
+static void buffers_free(boot_buffers *b)
+{
+    for (size_t i = 0; i < b->n_workers; i++)
+        worker_free(&b->workers[i]);
+    free(b->workers);
+    free(b->states);
+    free(b->resid);
+    free(b->a0);
+    free(b->c0);
+    free(b->pwork);
+    el_boot_engine_destroy(b->engine);
+    free(b->flags);
+    free(b->rec);
+}
+
+/* Sets up the engine, the point fit, the residuals and the block length. */
+static el_status prepare(const el_series *series, const el_model *model,
+                         const el_boot_options *opt, boot_shared *sh, boot_buffers *bf,
+                         int *block_auto, el_error *err)
+{
+    el_status st = el_boot_reduced_states(series, model, &bf->states, err);
+    if (st != EL_OK)
+        return st;
+    size_t r = model->rank, m = model->n_pairs;
+    const el_boot_provider *prov = el_boot_provider_ls();
+    st = el_boot_engine_create(prov, bf->states, m + 1, r, 0, &bf->engine, err);
+    if (st != EL_OK)
+        return st;
+    bf->a0 = malloc(r * r * sizeof(double));
+    bf->c0 = malloc(r * sizeof(double));
+    bf->pwork = malloc(el_boot_engine_work_doubles(bf->engine) * sizeof(double));
+    bf->resid = malloc((m + 1) * r * sizeof(double));
+    if (!bf->a0 || !bf->c0 || !bf->pwork || !bf->resid)
+        return el_error_set(err, EL_ERR_NOMEM, "out of memory (bootstrap)");
+    el_boot_block all = { 0, m };
+    if (el_boot_engine_assemble(bf->engine, &all, 1, bf->a0, bf->c0, bf->pwork)) {
+        el_error_set(err, EL_ERR_NUMERIC, "bootstrap: the full-sample refit is singular");
+        el_error_hint(err, "use a lower --rank");
+        return EL_ERR_NUMERIC;
+    }
+    reduced_residuals(bf->states, m, r, bf->a0, bf->c0, bf->resid);
+    *block_auto = opt->block_length == 0;
+    if (*block_auto) {
+        st = auto_block(bf->resid, m, r, &sh->block, err);
+        if (st != EL_OK)
+            return st;
+    } else {
+        if (opt->block_length > m) {
+            el_error_set(err, EL_ERR_USAGE,
+                         "block length %zu is longer than the %zu snapshot pairs",
+                         opt->block_length, m);
+            el_error_option(err, "--block");
+            el_error_hint(err, "give a block length below %zu, or --block auto", m / 3 + 1);
+            return EL_ERR_USAGE;
+        }
+        sh->block = opt->block_length;
+    }
+    sh->engine = bf->engine;
+    sh->prov = prov;
+    sh->w0 = bf->states;
+    sh->resid = bf->resid;
+    sh->a0 = bf->a0;
+    sh->c0 = bf->c0;
+    sh->r = r;
+    sh->m = m;
+    return EL_OK;
+}
+
+static el_status add_run_warnings(const boot_shared *sh, const el_model *model,
+                                  double mismatch, el_boot_result *res,
+                                  el_warnings *warnings)
+{
+    el_status st = EL_OK;
+    if (model->rank < model->state_dim)
+        st = el_warnings_add(warnings,
+                             "bootstrap refits keep the rank-%zu basis of the point fit "
+                             "fixed: the uncertainty of the basis itself is not in the bounds",
+                             model->rank);
+    if (st == EL_OK && res->failed_replicates > 0)
+        st = el_warnings_add(warnings,
+                             "%zu of %zu bootstrap replicates gave a singular refit and "
+                             "were left out",
+                             res->failed_replicates, sh->total);
+    if (st == EL_OK && res->ambiguous_matches * 10 > res->replicates)
+        st = el_warnings_add(warnings,
+                             "modes could swap in %zu of %zu replicates (eigenvalues "
+                             "close together): their separate bounds mix them",
+                             res->ambiguous_matches, res->replicates);
+    if (st == EL_OK && (mismatch < 0.0 || mismatch > 1e-6))
+        st = el_warnings_add(warnings,
+                             "the bootstrap refit does not reproduce the point estimate's "
+                             "eigenvalues exactly: the bounds describe least squares in "
+                             "the model's reduced coordinates");
+    return st;
+}
+
+el_status el_boot_run(const el_series *series, const el_fit_options *opt_fit,
+                      const el_model *model, const el_modes *modes,
+                      const el_boot_options *opt, el_boot_result *result,
+                      el_warnings *warnings, el_error *err)
+{
+    (void)opt_fit; /* the model records lags, rank and method; the refit reuses them */
+    if (series == NULL || model == NULL || modes == NULL || opt == NULL || result == NULL)
+        return el_error_set(err, EL_ERR_INTERNAL, "el_boot_run: NULL argument");
+    memset(result, 0, sizeof *result);
+    el_status st = check_options(opt, err);
+    if (st != EL_OK)
+        return st;
+    result->kind = opt->kind;
+    result->level = opt->level;
+    result->seed = opt->seed;
+    result->n_modes = modes->n_modes;
+    if (opt->replicates == 0)
+        return EL_OK;
+    if (modes->n_modes == 0 || modes->n_eigenvalues != model->rank)
+        return el_error_set(err, EL_ERR_INTERNAL,
+                            "el_boot_run: %zu eigenvalues for a rank-%zu model",
+                            modes->n_eigenvalues, model->rank);
+    boot_shared sh;
+    memset(&sh, 0, sizeof sh);
+    boot_buffers bf;
+    memset(&bf, 0, sizeof bf);
+    int block_auto = 0;
+    st = prepare(series, model, opt, &sh, &bf, &block_auto, err);
+    size_t total = opt->replicates, nm = modes->n_modes;
+    sh.n_modes = nm;
+    sh.total = total;
+    sh.kind = opt->kind;
+    sh.seed = opt->seed;
+    sh.dt = model->dt;
+    sh.has_plane = model->state_dim == 2 && model->rank == 2;
+    atomic_init(&sh.next, 0);
+    atomic_init(&sh.done, 0);
+    if (st == EL_OK) {
+        bf.flags = calloc(3 * total, 1);
+        bf.rec = malloc((2 * nm + 2) * total * sizeof(double));
+        size_t nt = thread_count(opt->threads, total);
+        bf.workers = calloc(nt, sizeof(boot_worker));
+        if (!bf.flags || !bf.rec || !bf.workers) {
+            st = el_error_set(err, EL_ERR_NOMEM, "out of memory (bootstrap)");
+        } else {
+            sh.ok = bf.flags;
+            sh.amb = bf.flags + total;
+            sh.stable = bf.flags + 2 * total;
+            sh.mode_re = bf.rec;
+            sh.mode_im = bf.rec + nm * total;
+            sh.trace = bf.rec + 2 * nm * total;
+            sh.det = sh.trace + total;
+            for (size_t i = 0; i < nt && st == EL_OK; i++) {
+                st = worker_init(&bf.workers[i], &sh, modes, err);
+                if (st == EL_OK)
+                    bf.n_workers++;
+            }
+        }
+    }
+    double mismatch = -1.0;
+    if (st == EL_OK) {
+        mismatch = point_mismatch(&bf.workers[0], &sh, modes);
+        bf.workers[0].opt = opt;
+        pthread_t *tid = calloc(bf.n_workers, sizeof(pthread_t));
+        size_t started = 1;
+        if (tid != NULL)
+            for (size_t i = 1; i < bf.n_workers; i++) {
+                if (pthread_create(&tid[i], NULL, worker_thread, &bf.workers[i]) != 0)
+                    break;
+                started++;
+            }
+        worker_loop(&bf.workers[0]);
+        for (size_t i = 1; i < started; i++)
+            pthread_join(tid[i], NULL);
+        free(tid);
+        report_progress(&bf.workers[0], 1);
+        result->threads_used = started;
+        result->block_length = sh.block;
+        result->block_was_auto = block_auto;
+        result->has_plane = sh.has_plane;
+        st = aggregate(&sh, modes, opt, result, err);
+    }
+    if (st == EL_OK)
+        st = add_run_warnings(&sh, model, mismatch, result, warnings);
+    buffers_free(&bf);
+    if (st != EL_OK)
+        el_boot_free(result);
+    return st;
+}
