@@ -102,9 +102,10 @@ bench: deps
 	@$(MAKE) --no-print-directory $(rel_BIN) $(rel_TOOLS)
 	@sh bench/run.sh
 
-# Regenerates the numpy fixtures (needs python3-numpy; not part of make test).
+# Regenerates the numpy/scipy fixtures (needs Debian's python3-numpy and
+# python3-scipy; not part of make test). Each script writes its own file.
 fixtures:
-	python3 tests/data/make_fixtures.py
+	for s in tests/data/make_*.py; do /usr/bin/python3 $$s || exit 1; done
 
 clean:
 	rm -rf build

@@ -168,8 +168,9 @@ void el_peaks_free(el_peaks *peaks);
  * least opt->threshold_ratio times the channel's median PSD and at least
  * 1e-12 times its largest value (below that is FFT rounding), and that
  * stand out from the estimator's noise: P[k] >= q * base, base the higher
- * of the two prominence bases, q = max(2, exp(2 z / sqrt(dof))),
- * z = opt->significance. Keeps the opt->max_peaks tallest (by interpolated
+ * of the two prominence bases taken on three-bin means of the PSD,
+ * q = max(2, exp(2 z / sqrt(dof))), z = opt->significance (calibrated by
+ * tests/data/spectrum_peak_calibration.py). Keeps the opt->max_peaks tallest (by interpolated
  * height), capped at peaks->max_per_channel. Allocates nothing. Errors:
  * EL_ERR_INTERNAL when the sizes of spectra and peaks differ or an option
  * is out of range (threshold_ratio < 0, significance < 0). */

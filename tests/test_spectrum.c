@@ -550,10 +550,12 @@ static void test_lightly_damped_mode_matches(void **state)
     assert_true(mc->oscillatory && mc->has_peak && mc->matched);
     /* Half-power width of the mode decay_rate / pi = 0.1 Hz (closed form). */
     assert_close(mc->predicted_width_hz, mode.decay_rate / 3.14159265358979323846, 1e-12, 0.0);
-    /* The peak of the AR(2) spectrum lies within zeta^2 f (~0.3 %) of the
-     * damped frequency; the Welch estimate adds about half a bin of
-     * scatter: within 2 bins. */
-    assert_close(mc->peak_frequency_hz, 1.0, 0.0, 2.0 * run.sp.df_hz);
+    /* The top of the AR(2) spectrum lies within zeta^2 f (~0.3 %) of the
+     * damped frequency; the noisy estimate's maximum can fall wherever the
+     * true PSD 1 / (1 + (d / gamma)^2) is within 3 standard deviations
+     * (3 sqrt(2 / nu) = 0.8 at nu = 28) of the top, i.e. d <= 2 gamma =
+     * the half-power width. */
+    assert_close(mc->peak_frequency_hz, 1.0, 0.0, mc->predicted_width_hz);
     const el_spectrum_peak_check *c = &run.peak_check[mc->peak_index];
     assert_true(c->has_mode);
     assert_true(c->implied_width_hz >= 9.0 * run.sp.df_hz);

@@ -16,8 +16,15 @@ rng = np.random.default_rng(7)
 DT = 0.05
 
 
+def mean3(P, j):
+    """Mean of bins j-1, j, j+1 within 1..len(P)-1 (as mean3 in the C code)."""
+    lo, hi = max(1, j - 1), min(len(P) - 1, j + 1)
+    return P[lo:hi + 1].mean()
+
+
 def peaks(P, nu, z, threshold_ratio=10.0):
-    """The rule of el_spectrum_find_peaks (bins 2..nb-2, bases over 1..)."""
+    """The rule of el_spectrum_find_peaks (bins 2..nb-2; bases over 1.. on
+    three-bin means)."""
     med = np.median(P[1:])
     floor = 1e-12 * P[1:].max()
     thr = max(threshold_ratio * med, floor)
@@ -28,11 +35,11 @@ def peaks(P, nu, z, threshold_ratio=10.0):
             continue
         j, left = k - 1, P[k]
         while j >= 1 and P[j] <= P[k]:
-            left = min(left, P[j])
+            left = min(left, mean3(P, j))
             j -= 1
         j, right = k + 1, P[k]
         while j < len(P) and P[j] <= P[k]:
-            right = min(right, P[j])
+            right = min(right, mean3(P, j))
             j += 1
         if P[k] >= q * max(left, right):
             found.append(k)
