@@ -6,6 +6,7 @@
 
 #include "cli.h"
 #include "el_assess.h"
+#include "el_html.h"
 #include "el_io.h"
 #include "el_report.h"
 
@@ -25,6 +26,7 @@ static const cli_option OPTIONS[] = {
     {"seed", "S", "random seed (default 1): same seed, same numbers"},
     {"threads", "N", "worker threads (default: all cores)"},
     {"json", "FILE", "write the full result as JSON (- = standard output)"},
+    {"html", "FILE", "write a self-contained HTML report with plots"},
     {"replicates", "FILE", "write every replicate's matched eigenvalues as CSV"},
     {"fail-on", "unstable|ambiguous", "exit with status 5 when the verdict matches"},
     {"quiet", NULL, "print nothing but errors"},
@@ -76,6 +78,7 @@ static el_status parse_choice(const char *option, const char *text,
 typedef struct {
     el_assess_options assess;
     const char *json_path;
+    const char *html_path;
     const char *replicates_path;
     int fail_on;
     int quiet;
@@ -152,6 +155,7 @@ static el_status parse_assess(const cli_args *a, assess_cli *c, el_error *err)
     c->assess.from_text = opt_value(a, "from");
     c->assess.to_text = opt_value(a, "to");
     c->json_path = opt_value(a, "json");
+    c->html_path = opt_value(a, "html");
     c->replicates_path = opt_value(a, "replicates");
     c->quiet = opt_value(a, "quiet") != NULL;
     el_status st = parse_numbers(a, c, err);
@@ -175,26 +179,28 @@ static void show_progress(void *ctx, size_t done, size_t total)
     fflush(stderr);
 }
 
+/* Builds every requested output in memory first, then writes each file
+ * whole (temp file + rename), so a failure while building leaves none. */
 static el_status write_outputs(const assess_cli *c, const el_assessment *r,
                                el_error *err)
 {
+    el_buf json = {0}, html = {0}, csv = {0};
     el_status st = EL_OK;
-    if (c->json_path != NULL) {
-        el_buf json = {0};
-        st = el_report_json(r, &c->assess, &json);
-        if (st != EL_OK)
-            el_error_set(err, st, "could not build the JSON report");
-        else
-            st = el_write_file_atomic(c->json_path, json.data, json.length, err);
-        el_buf_free(&json);
-    }
-    if (st == EL_OK && c->replicates_path != NULL) {
-        el_buf csv = {0};
+    if (c->json_path != NULL && (st = el_report_json(r, &c->assess, &json)) != EL_OK)
+        el_error_set(err, st, "could not build the JSON report");
+    if (st == EL_OK && c->html_path != NULL)
+        st = el_html_report(r, &c->assess, r->has_spectra ? &r->spectra : NULL, &html, err);
+    if (st == EL_OK && c->replicates_path != NULL)
         st = el_report_replicates_csv(r, &csv, err);
-        if (st == EL_OK)
-            st = el_write_file_atomic(c->replicates_path, csv.data, csv.length, err);
-        el_buf_free(&csv);
-    }
+    if (st == EL_OK && c->json_path != NULL)
+        st = el_write_file_atomic(c->json_path, json.data, json.length, err);
+    if (st == EL_OK && c->html_path != NULL)
+        st = el_write_file_atomic(c->html_path, html.data, html.length, err);
+    if (st == EL_OK && c->replicates_path != NULL)
+        st = el_write_file_atomic(c->replicates_path, csv.data, csv.length, err);
+    el_buf_free(&json);
+    el_buf_free(&html);
+    el_buf_free(&csv);
     return st;
 }
 
@@ -229,6 +235,8 @@ int cli_assess(int argc, char **argv)
         st = el_check_writable(c.json_path, &err);
     if (st == EL_OK)
         st = el_check_writable(c.replicates_path, &err);
+    if (st == EL_OK)
+        st = el_check_writable(c.html_path, &err);
     if (st != EL_OK) {
         cli_print_error(&err);
         return el_exit_code(st);
