@@ -202,16 +202,16 @@ static const char *const CSS[] = {
     ".plot .stop{fill:var(--free)}\n",
     "table.modes{border-collapse:collapse;width:100%;font-size:13.5px}\n",
     "table.modes th{text-align:left;font-weight:600;color:var(--muted);font-size:12px;"
-    "white-space:normal;"
-    "letter-spacing:.04em;border-bottom:1.5px solid var(--ink);padding:4px 8px;vertical-align:bottom}\n",
-    "table.modes td{border-bottom:1px solid var(--rule);padding:7px 8px;vertical-align:top}\n",
+    "white-space:nowrap;"
+    "letter-spacing:.04em;border-bottom:1.5px solid var(--ink);padding:4px 6px;vertical-align:bottom}\n",
+    "table.modes td{border-bottom:1px solid var(--rule);padding:7px 6px;vertical-align:top}\n",
     "table.modes td.n{font-variant-numeric:tabular-nums;white-space:nowrap}\n",
     ".swatch{display:inline-block;width:11px;height:11px;border-radius:50%;margin-right:6px;"
     "vertical-align:-1px}\n",
     ".iv{color:var(--muted);font-size:12px;line-height:1.35}\n",
     "table.shape{border-collapse:collapse}\n",
     "table.shape td{border:0;padding:1px 6px 1px 0;vertical-align:middle;font-size:12.5px}\n",
-    "table.shape td.ch{max-width:170px;overflow:hidden;text-overflow:ellipsis;white-space:nowrap}\n",
+    "table.shape td.ch{max-width:150px;overflow:hidden;text-overflow:ellipsis;white-space:nowrap}\n",
     "svg.bar,svg.dial{display:block}\n",
     "table.details{border-collapse:collapse;font-size:13.5px;width:100%}\n",
     "table.details th{text-align:left;font-weight:600;width:210px;color:var(--muted);"
@@ -226,6 +226,8 @@ static const char *const CSS[] = {
     "page-break-inside:avoid}"
     "figure,.verdict{border-color:#bbb}"
     "h2.section{break-after:avoid;page-break-after:avoid}"
+    "table.modes{font-size:9pt}table.modes th{white-space:normal}"
+    "table.shape td{font-size:8.5pt}table.shape td.ch{max-width:90px}"
     "*{-webkit-print-color-adjust:exact;print-color-adjust:exact}}\n",
 };
 #define N_CSS (sizeof CSS / sizeof CSS[0])
@@ -454,16 +456,17 @@ static void tick_text(char *buf, size_t size, double v, double step)
         snprintf(buf, size, "%.*f", decimals, v);
 }
 
-static void svg_begin(ctx *c, const char *id_suffix, double w, double h, const char *label)
+/* Opens a figure's SVG; label (escaped) is its accessible name. */
+static void svg_begin(ctx *c, double w, double h, const char *label)
 {
     el_buf_printf(c->o, "<svg class=\"plot\" viewBox=\"0 0 %.0f %.0f\" role=\"img\" "
                   "aria-label=\"", w, h);
     esc(c, label);
     put(c, "\">");
-    /* The clip path keeps lines that leave the view inside the frame. */
-    (void)id_suffix;
 }
 
+/* A clip path of the plot area: lines and clouds that leave the view
+ * stay inside the frame. */
 static void clip_def(ctx *c, const char *id, const frame *f)
 {
     el_buf_printf(c->o, "<defs><clipPath id=\"%s\"><rect x=\"%.1f\" y=\"%.1f\" width=\"%.1f\" "
@@ -473,7 +476,9 @@ static void clip_def(ctx *c, const char *id, const frame *f)
 
 static void x_ticks(ctx *c, const frame *f)
 {
-    double step = nice_step(f->xhi - f->xlo, 8);
+    /* About one label per 105 px, so a narrow panel stays legible. */
+    int target = (int)(f->width / 105.0);
+    double step = nice_step(f->xhi - f->xlo, target < 3 ? 3 : target);
     for (double t = ceil(f->xlo / step) * step; t <= f->xhi + step * 1e-9; t += step) {
         double x = fx(f, t);
         char b[32];
@@ -734,7 +739,7 @@ static void fig_eigenvalues(ctx *c, double *scratch)
     frame f = {.left = 84, .top = 34, .width = 852, .height = 360, .xlo = v.xlo, .xhi = v.xhi,
                .ylo = -v.ymax, .yhi = v.ymax};
     put(c, "<figure id=\"fig-eigenvalues\">");
-    svg_begin(c, "eig", 960, 450, "eigenvalues in the complex plane");
+    svg_begin(c, 960, 450, "eigenvalues in the complex plane");
     clip_def(c, "clip-eig", &f);
     el_buf_printf(c->o, "<rect class=\"stable-side\" x=\"%.1f\" y=\"%.1f\" width=\"%.1f\" "
                   "height=\"%.1f\"/>", f.left, f.top, fx(&f, 0.0) - f.left, f.height);
@@ -1005,7 +1010,7 @@ static void fig_plane(ctx *c, double *scratch)
     plane_bounds(t, d, &f);
     zoom_bounds(t, d, &f, &z);
     put(c, "<figure id=\"fig-plane\">");
-    svg_begin(c, "plane", 960, 450, "trace-determinant plane");
+    svg_begin(c, 960, 450, "trace-determinant plane");
     clip_def(c, "clip-plane", &f);
     clip_def(c, "clip-zoom", &z);
     plane_background(c, &f, "clip-plane");
@@ -1030,6 +1035,10 @@ static void fig_plane(ctx *c, double *scratch)
     plane_estimate(c, &z, 0);
     el_buf_printf(c->o, "<text class=\"note\" x=\"%.1f\" y=\"%.1f\">close-up</text>", z.left,
                   z.top - 8);
+    if (z.xlo < 0 && z.xhi > 0)
+        el_buf_printf(c->o, "<text class=\"note\" x=\"%.1f\" y=\"%.1f\" text-anchor=\"end\" "
+                      "transform=\"rotate(-90 %.1f %.1f)\">&tau; = 0</text>", fx(&z, 0) - 5,
+                      z.top + 6, fx(&z, 0) - 5, z.top + 6);
     frame_box(c, &z);
     plane_titles(c, &z, 0);
     put(c, "</svg>\n");
@@ -1265,7 +1274,7 @@ static void fig_timeseries(ctx *c, size_t ch, const el_prediction *p)
     frame f = {.left = 84, .top = 34, .width = 852, .height = 190};
     frame z = {.left = 84, .top = 290, .width = 852, .height = 150};
     el_buf_printf(c->o, "<figure id=\"fig-timeseries-%zu\">", ch);
-    svg_begin(c, "ts", 960, detail ? 496 : 280, s->names[ch]);
+    svg_begin(c, 960, detail ? 496 : 280, s->names[ch]);
     char clip[48];
     snprintf(clip, sizeof clip, "clip-ts-%zu", ch);
     sample_range all = {0, s->n_samples};
@@ -1317,7 +1326,7 @@ static void spectrum_panel(ctx *c, const el_spectra *sp, size_t ch)
         f.ylo = f.yhi - 1;
     char clip[32];
     snprintf(clip, sizeof clip, "clip-psd-%zu", ch);
-    svg_begin(c, "psd", 960, 246, c->r->series.names[ch]);
+    svg_begin(c, 960, 246, c->r->series.names[ch]);
     clip_def(c, clip, &f);
     x_ticks(c, &f);
     y_ticks(c, &f);
@@ -1380,9 +1389,9 @@ static void fig_spectrum(ctx *c, const el_spectra *sp)
 
 static void shape_bar(ctx *c, double mag, const char *colour)
 {
-    double w = isfinite(mag) ? fmax(0, fmin(1, mag)) * 90 : 0;
-    el_buf_printf(c->o, "<svg class=\"bar\" width=\"90\" height=\"12\" viewBox=\"0 0 90 12\">"
-                  "<rect x=\"0\" y=\"2\" width=\"90\" height=\"8\" rx=\"2\" fill=\"#ebe7de\"/>"
+    double w = isfinite(mag) ? fmax(0, fmin(1, mag)) * 64 : 0;
+    el_buf_printf(c->o, "<svg class=\"bar\" width=\"64\" height=\"12\" viewBox=\"0 0 64 12\">"
+                  "<rect x=\"0\" y=\"2\" width=\"64\" height=\"8\" rx=\"2\" fill=\"#ebe7de\"/>"
                   "<rect x=\"0\" y=\"2\" width=\"%.1f\" height=\"8\" rx=\"2\" fill=\"%s\"/></svg>",
                   w, colour);
 }
@@ -1502,7 +1511,7 @@ static void fig_modes(ctx *c)
     esc(c, c->rate_unit);
     put(c, "]</th><th>frequency [");
     esc(c, c->freq_unit);
-    put(c, "]</th><th>damping ratio &zeta;</th><th>decay rate [");
+    put(c, "]</th><th>damping &zeta;</th><th>decay rate [");
     esc(c, c->rate_unit);
     put(c, "]</th><th>time constant [");
     esc(c, c->time_unit);

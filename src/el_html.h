@@ -29,23 +29,31 @@
 /* Appends the HTML report of the assessment r to out: verdict, P(stable)
  * and warnings at the top; the caution (el_assess_caution); the figures,
  * each a <figure> with an id: "fig-eigenvalues" (continuous eigenvalues
- * with their bootstrap clouds and the stability boundary Re = 0),
- * "fig-plane" (trace-determinant plane; only when r->verdict.has_plane),
- * "fig-timeseries-<c>" for channel c = 0.. (measured, one-step and free
- * run of the model, computed here with el_prediction), "fig-spectrum"
- * (only when spectra != NULL; Welch PSD with the modes' frequencies
- * marked) and "fig-modes" (mode table with shapes); then the model and
- * resampling details. Every bootstrap cloud is one SVG <path> of class
- * "cloud" whose points are the "M" commands of its d attribute (count
- * also in data-points); lines are <path class="line ..."> with
- * data-points. All text is HTML-escaped; values that do not exist show as
- * "n/a"; the output is the same bytes for the same input (no date, no
- * randomness). opt supplies the bounds level and seed shown (NULL: the
- * level stored in r->boot, seed not shown). spectra must have one
- * spectrum per series channel (NULL: no spectrum figure). Errors:
- * EL_ERR_INTERNAL when r is NULL or incomplete (no series, model or
- * modes; spectra of another channel count); EL_ERR_NOMEM (out is then
- * marked failed). Reads r only. */
+ * with their bootstrap clouds, the stable half-plane shaded and the
+ * boundary Re = 0), "fig-plane" (trace-determinant plane with the
+ * parabola det = trace^2/4, region names and a close-up of the cloud;
+ * only when r->verdict.has_plane), "fig-timeseries-<c>" for channel
+ * c = 0.. (measured, one-step and free run of the model, computed here
+ * with el_prediction; logs longer than EL_HTML_MAX_LINE_POINTS get a
+ * full-resolution detail panel of their first twelfth, >= 200 samples),
+ * "fig-spectrum" (only when spectra != NULL; Welch PSD per channel, log
+ * scale, the oscillatory modes' frequencies as vertical lines) and
+ * "fig-modes" (mode table with bounds and shapes); then the data, model
+ * and resampling details. Machine-checkable structure: each mode's
+ * bootstrap cloud is one <path class="cloud" data-mode="m"> whose dots
+ * are the "M" commands of its d attribute (count also in data-points;
+ * the conjugate mirror is class "cloud-mirror", the plane's close-up
+ * "cloud-zoom", neither counted); lines are <path class="line KIND">
+ * (KIND measured, one-step, free-run, psd) with data-points = the
+ * coordinate pairs of d. All text is HTML-escaped; values that do not
+ * exist show as "n/a"; the output is the same bytes for the same input
+ * (no date, no thread count, no randomness). opt supplies the bounds
+ * level shown (NULL: r->boot.level). spectra: one spectrum per series
+ * channel, normally r->has_spectra ? &r->spectra : NULL (NULL: no
+ * spectrum figure). Errors: EL_ERR_INTERNAL when r is NULL or incomplete
+ * (no series, model or modes; spectra of another channel count);
+ * EL_ERR_NOMEM (out is then marked failed); errors of
+ * el_prediction_create/run. Reads r only; out receives the whole page. */
 el_status el_html_report(const el_assessment *r, const el_assess_options *opt,
                          const el_spectra *spectra, el_buf *out, el_error *err);
 

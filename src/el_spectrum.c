@@ -531,7 +531,7 @@ static size_t channel_peaks(const el_spectra *sp, const el_spectrum_options *opt
         pk->channel = c;
         pk->bin = k;
         pk->frequency_hz = ((double)k + offset) * sp->df_hz;
-        pk->ratio_to_median = median > 0.0 ? pk->height / median : HUGE_VAL;
+        pk->ratio_to_median = pk->height / fmax(median, floor_psd);
         pk->prominence = P[k] - base;
         pk->width_ok = half_height_width(P, nb, k, pk->height, &width_bins);
         pk->width_hz = pk->width_ok ? width_bins * sp->df_hz : 0.0;

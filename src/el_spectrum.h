@@ -127,7 +127,9 @@ typedef struct {
     double frequency_hz;          /* refined by a parabola through the log PSD
                                      of bins bin-1, bin, bin+1 */
     double height;                /* PSD at the parabola's vertex, units^2/Hz */
-    double ratio_to_median;       /* height / median PSD of the channel */
+    double ratio_to_median;       /* height / median PSD of the channel (the
+                                     median raised to 1e-12 of the largest
+                                     PSD value when below it: always finite) */
     double prominence;            /* PSD[bin] minus the higher of its two bases
                                      (topographic prominence), units^2/Hz */
     double width_hz;              /* full width at half height (linear
@@ -170,8 +172,8 @@ void el_peaks_free(el_peaks *peaks);
  * stand out from the estimator's noise: P[k] >= q * base, base the higher
  * of the two prominence bases taken on three-bin means of the PSD,
  * q = max(2, exp(2 z / sqrt(dof))), z = opt->significance (calibrated by
- * tests/data/spectrum_peak_calibration.py). Keeps the opt->max_peaks tallest (by interpolated
- * height), capped at peaks->max_per_channel. Allocates nothing. Errors:
+ * tests/data/spectrum_peak_calibration.py). Keeps the opt->max_peaks
+ * tallest (by interpolated height), capped at peaks->max_per_channel. Allocates nothing. Errors:
  * EL_ERR_INTERNAL when the sizes of spectra and peaks differ or an option
  * is out of range (threshold_ratio < 0, significance < 0). */
 el_status el_spectrum_find_peaks(const el_spectra *spectra,
@@ -211,7 +213,8 @@ typedef struct {
     int oscillatory;              /* 1: a complex pair with 0 < f < Nyquist;
                                      otherwise nothing else is set */
     int has_peak;                 /* 1: some channel has a peak; else the
-                                     nearest_* fields are 0 (report null) */
+                                     peak_* fields and relative_distance are
+                                     0 (report null) */
     size_t peak_index;            /* nearest peak: index into peaks->items */
     size_t peak_channel;
     double peak_frequency_hz;     /* nearest peak's frequency */
@@ -225,7 +228,7 @@ typedef struct {
 /* Result of the cross-check for one peak (same indexing as peaks->items). */
 typedef struct {
     int has_mode;                 /* 1: an oscillatory mode within its tolerance */
-    size_t mode_index;            /* the least damped such mode */
+    size_t mode_index;            /* the least damped such mode (when has_mode) */
     int strong;                   /* ratio_to_median >= strong_ratio */
     int no_mode;                  /* strong && !has_mode: warned */
     int narrow;                   /* narrower than the damping allows: warned */
@@ -270,8 +273,9 @@ el_status el_spectrum_crosscheck(const el_modes *modes,
  * defaults; errors as el_spectrum_choose_segment), creates a plan, fills
  * *spectra and *peaks (both zero-initialised or freed; the caller frees
  * them), destroys the plan. Planner rule: not thread-safe (see
- * el_spectrum_plan_create). Adds a warning when fewer than 8 segments are
- * averaged (a noisy estimate). On error both outputs are left empty. */
+ * el_spectrum_plan_create). Adds a warning when fewer than 7 segments are
+ * averaged (a noisy estimate; the default segment length gives >= 7 from
+ * 256 samples on). On error both outputs are left empty. */
 el_status el_spectrum_compute(const el_series *series,
                               const el_spectrum_options *opt,
                               el_spectra *spectra, el_peaks *peaks,

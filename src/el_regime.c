@@ -1,0 +1,441 @@
+/* el_regime: transient / stationary / driven classification by trends of
+ * the amplitude envelope and level, tested against the stationary Gaussian
+ * null built from the signal's own autocorrelation; the growth veto. */
+#include "el_regime.h"
+
+#include <fftw3.h>
+#include <float.h>
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+/* Fewest segments the trend tests accept: below this a slope from so few
+ * points says little and the normal reference of z is poor. */
+#define MIN_SEGMENTS 6
+#define MIN_SEGMENT_SAMPLES 8
+
+struct el_regime_work {
+    size_t fft_length;        /* >= 2 N - 1: linear, not circular, correlation */
+    double *buffer;           /* fftw_malloc'ed, fft_length */
+    fftw_complex *spectrum;   /* fftw_malloc'ed, fft_length / 2 + 1 */
+    fftw_plan forward, inverse;
+    double *rho;              /* N: autocorrelation at lags 0..N-1 */
+    double *y, *m;            /* M: log-amplitude and level per segment */
+    double *cov_y, *cov_m;    /* M: null covariance at segment lag k */
+    double *weight;           /* M: least-squares slope weights */
+};
+
+const char *el_regime_name(el_regime_class regime)
+{
+    switch (regime) {
+    case EL_REGIME_STATIONARY: return "stationary";
+    case EL_REGIME_TRANSIENT: return "transient";
+    case EL_REGIME_DRIVEN: return "driven";
+    case EL_REGIME_UNDETERMINED: return "undetermined";
+    }
+    return "unknown";
+}
+
+void el_regime_defaults(el_regime_options *opt)
+{
+    opt->level = 0.01;
+    opt->segments = 16;
+    opt->min_growth_factor = 1.25;
+    opt->driven = 0;
+}
+
+/* Smallest 2^a 3^b 5^c 7^d >= n: FFTW's fast sizes. */
+static size_t smooth_size(size_t n)
+{
+    for (size_t m = n;; m++) {
+        size_t r = m;
+        static const size_t primes[] = { 2, 3, 5, 7 };
+        for (size_t i = 0; i < 4; i++)
+            while (r % primes[i] == 0)
+                r /= primes[i];
+        if (r == 1)
+            return m;
+    }
+}
+
+static void work_free(struct el_regime_work *w)
+{
+    if (w == NULL)
+        return;
+    if (w->forward)
+        fftw_destroy_plan(w->forward);
+    if (w->inverse)
+        fftw_destroy_plan(w->inverse);
+    fftw_free(w->buffer);
+    fftw_free(w->spectrum);
+    free(w->rho);
+    free(w->y);
+    free(w->m);
+    free(w->cov_y);
+    free(w->cov_m);
+    free(w->weight);
+    free(w);
+}
+
+void el_regime_destroy(el_regime *r)
+{
+    if (r == NULL)
+        return;
+    work_free(r->work);
+    free(r->tested);
+    free(r->envelope_rate);
+    free(r->envelope_factor);
+    free(r->envelope_z);
+    free(r->envelope_p_growth);
+    free(r->envelope_p_trend);
+    free(r->level_rate);
+    free(r->level_z);
+    free(r->level_p_trend);
+    free(r);
+}
+
+static el_status work_create(size_t n, struct el_regime_work **out, el_error *err)
+{
+    struct el_regime_work *w = calloc(1, sizeof *w);
+    if (w == NULL)
+        return el_error_set(err, EL_ERR_NOMEM, "out of memory");
+    size_t max_segments = n / MIN_SEGMENT_SAMPLES + 1;
+    w->fft_length = smooth_size(2 * n - 1);
+    w->buffer = fftw_malloc(w->fft_length * sizeof *w->buffer);
+    w->spectrum = fftw_malloc((w->fft_length / 2 + 1) * sizeof *w->spectrum);
+    w->rho = malloc(n * sizeof *w->rho);
+    w->y = malloc(max_segments * sizeof *w->y);
+    w->m = malloc(max_segments * sizeof *w->m);
+    w->cov_y = malloc(max_segments * sizeof *w->cov_y);
+    w->cov_m = malloc(max_segments * sizeof *w->cov_m);
+    w->weight = malloc(max_segments * sizeof *w->weight);
+    if (!w->buffer || !w->spectrum || !w->rho || !w->y || !w->m || !w->cov_y || !w->cov_m
+        || !w->weight) {
+        work_free(w);
+        return el_error_set(err, EL_ERR_NOMEM, "out of memory");
+    }
+    w->forward = fftw_plan_dft_r2c_1d((int)w->fft_length, w->buffer, w->spectrum,
+                                      FFTW_ESTIMATE);
+    w->inverse = fftw_plan_dft_c2r_1d((int)w->fft_length, w->spectrum, w->buffer,
+                                      FFTW_ESTIMATE);
+    if (w->forward == NULL || w->inverse == NULL) {
+        work_free(w);
+        return el_error_set(err, EL_ERR_NUMERIC, "FFTW could not plan a transform of %zu "
+                            "samples", n);
+    }
+    *out = w;
+    return EL_OK;
+}
+
+el_status el_regime_create(size_t n_samples, size_t n_channels, el_regime **out,
+                           el_error *err)
+{
+    if (out == NULL || n_samples < 3 || n_channels == 0)
+        return el_error_set(err, EL_ERR_INTERNAL, "el_regime_create: bad arguments");
+    *out = NULL;
+    if (n_samples > (size_t)(0x7fffffff / 4))
+        return el_error_set(err, EL_ERR_DATA, "%zu samples are too many for the regime "
+                            "test's transform", n_samples);
+    el_regime *r = calloc(1, sizeof *r);
+    if (r == NULL)
+        return el_error_set(err, EL_ERR_NOMEM, "out of memory");
+    r->n_samples = n_samples;
+    r->n_channels = n_channels;
+    size_t nc = n_channels;
+    r->tested = malloc(nc * sizeof *r->tested);
+    r->envelope_rate = malloc(nc * sizeof(double));
+    r->envelope_factor = malloc(nc * sizeof(double));
+    r->envelope_z = malloc(nc * sizeof(double));
+    r->envelope_p_growth = malloc(nc * sizeof(double));
+    r->envelope_p_trend = malloc(nc * sizeof(double));
+    r->level_rate = malloc(nc * sizeof(double));
+    r->level_z = malloc(nc * sizeof(double));
+    r->level_p_trend = malloc(nc * sizeof(double));
+    if (!r->tested || !r->envelope_rate || !r->envelope_factor || !r->envelope_z
+        || !r->envelope_p_growth || !r->envelope_p_trend || !r->level_rate || !r->level_z
+        || !r->level_p_trend) {
+        el_regime_destroy(r);
+        return el_error_set(err, EL_ERR_NOMEM, "out of memory");
+    }
+    el_status st = work_create(n_samples, &r->work, err);
+    if (st != EL_OK) {
+        el_regime_destroy(r);
+        return st;
+    }
+    *out = r;
+    return EL_OK;
+}
+
+/* Upper tail of the standard normal distribution. */
+static double normal_sf(double z)
+{
+    return 0.5 * erfc(z / M_SQRT2);
+}
+
+/* Sample autocorrelation rho[0..n) of d (already mean-removed) with the
+ * divisor-n autocovariance (positive semi-definite, and damped at long
+ * lags where it is noisy), by zero-padded FFT. Returns gamma(0). */
+static double autocorrelation(struct el_regime_work *w, const double *d, size_t n)
+{
+    memcpy(w->buffer, d, n * sizeof *d);
+    memset(w->buffer + n, 0, (w->fft_length - n) * sizeof *w->buffer);
+    fftw_execute(w->forward);
+    for (size_t k = 0; k < w->fft_length / 2 + 1; k++) {
+        double re = w->spectrum[k][0], im = w->spectrum[k][1];
+        w->spectrum[k][0] = re * re + im * im;
+        w->spectrum[k][1] = 0.0;
+    }
+    fftw_execute(w->inverse);
+    double gamma0 = w->buffer[0];
+    for (size_t k = 0; k < n; k++)
+        w->rho[k] = gamma0 > 0.0 ? w->buffer[k] / gamma0 : 0.0;
+    return gamma0 / ((double)w->fft_length * (double)n);
+}
+
+/* Null covariances of segment log-amplitudes and levels at segment lags
+ * k = 0..M-1 (see the contract in el_regime.h). */
+static void null_covariances(struct el_regime_work *w, size_t segments, size_t len)
+{
+    double l2 = (double)len * (double)len;
+    for (size_t k = 0; k < segments; k++) {
+        double sy = 0.0, sm = 0.0;
+        for (size_t a = 0; a + 1 < 2 * len; a++) {
+            /* u = a - (len - 1) runs over -(len - 1) .. len - 1 */
+            double weight = (double)(len - (a < len ? len - 1 - a : a - (len - 1)));
+            long lag = (long)(k * len) + (long)a - (long)(len - 1);
+            double rho = w->rho[lag < 0 ? -lag : lag];
+            sy += weight * rho * rho;
+            sm += weight * rho;
+        }
+        w->cov_y[k] = sy / (2.0 * l2);
+        w->cov_m[k] = sm / l2;
+    }
+}
+
+/* w' C w for the Toeplitz C with first column cov. */
+static double quadratic_form(const double *weight, const double *cov, size_t m)
+{
+    double q = 0.0;
+    for (size_t a = 0; a < m; a++)
+        for (size_t b = 0; b < m; b++)
+            q += weight[a] * weight[b] * cov[a > b ? a - b : b - a];
+    return q;
+}
+
+static double slope(const double *weight, const double *v, size_t m)
+{
+    double s = 0.0;
+    for (size_t a = 0; a < m; a++)
+        s += weight[a] * v[a];
+    return s;
+}
+
+/* Tests one channel; returns 0 when it does not vary. */
+static int test_channel(el_regime *r, const double *x, double dt, size_t c)
+{
+    struct el_regime_work *w = r->work;
+    size_t n = r->n_samples, segs = r->segments, len = r->segment_length;
+    size_t start = (n - segs * len) / 2;
+    double mean = 0.0;
+    for (size_t k = 0; k < n; k++)
+        mean += x[k];
+    mean /= (double)n;
+    /* rho's buffer doubles as the mean-removed copy before the transform */
+    for (size_t k = 0; k < n; k++)
+        w->rho[k] = x[k] - mean;
+    double gamma0 = autocorrelation(w, w->rho, n);
+    if (!(gamma0 > 0.0) || !isfinite(gamma0))
+        return 0;
+    double sd = sqrt(gamma0);
+    for (size_t a = 0; a < segs; a++) {
+        const double *seg = x + start + a * len;
+        double ms = 0.0, lev = 0.0;
+        for (size_t k = 0; k < len; k++) {
+            double d = seg[k] - mean;
+            ms += d * d;
+            lev += d;
+        }
+        ms /= (double)len;
+        /* a segment with no motion at all would give ln 0: floor it at
+         * rounding level of the window's variance */
+        w->y[a] = 0.5 * log(fmax(ms, DBL_EPSILON * gamma0));
+        w->m[a] = lev / ((double)len * sd);
+    }
+    null_covariances(w, segs, len);
+    double env_rate = slope(w->weight, w->y, segs);
+    double lev_rate = slope(w->weight, w->m, segs);
+    double var_env = quadratic_form(w->weight, w->cov_y, segs);
+    double var_lev = quadratic_form(w->weight, w->cov_m, segs);
+    double span = (double)((segs - 1) * len) * dt;
+    r->envelope_rate[c] = env_rate;
+    r->envelope_factor[c] = exp(env_rate * span);
+    r->level_rate[c] = lev_rate;
+    /* the null variance is a quadratic form of a positive semi-definite
+     * matrix; exactly zero only when the window has no randomness to test */
+    double ze = var_env > 0.0 ? env_rate / sqrt(var_env) : NAN;
+    double zl = var_lev > 0.0 ? lev_rate / sqrt(var_lev) : NAN;
+    r->envelope_z[c] = ze;
+    r->envelope_p_growth[c] = isnan(ze) ? NAN : normal_sf(ze);
+    r->envelope_p_trend[c] = isnan(ze) ? NAN : 2.0 * normal_sf(fabs(ze));
+    r->level_z[c] = zl;
+    r->level_p_trend[c] = isnan(zl) ? NAN : 2.0 * normal_sf(fabs(zl));
+    return !isnan(ze) || !isnan(zl);
+}
+
+static void set_untested(el_regime *r, size_t c)
+{
+    r->tested[c] = 0;
+    r->envelope_rate[c] = r->envelope_factor[c] = r->envelope_z[c] = NAN;
+    r->envelope_p_growth[c] = r->envelope_p_trend[c] = NAN;
+    r->level_rate[c] = r->level_z[c] = r->level_p_trend[c] = NAN;
+}
+
+/* Least-squares slope weights of M equally spaced points L dt apart. */
+static void slope_weights(double *weight, size_t segs, double step)
+{
+    double centre = 0.5 * (double)(segs - 1), sxx = 0.0;
+    for (size_t a = 0; a < segs; a++)
+        sxx += ((double)a - centre) * ((double)a - centre);
+    for (size_t a = 0; a < segs; a++)
+        weight[a] = ((double)a - centre) / (sxx * step);
+}
+
+static void decide(el_regime *r, const el_regime_options *opt)
+{
+    size_t tested = 0;
+    double best_trend = INFINITY, best_growth = INFINITY;
+    int trend_from_envelope = 0;
+    double trend_z = 0.0;
+    for (size_t c = 0; c < r->n_channels; c++) {
+        if (!r->tested[c])
+            continue;
+        tested++;
+        if (r->envelope_p_trend[c] < best_trend) {
+            best_trend = r->envelope_p_trend[c];
+            trend_from_envelope = 1;
+            trend_z = r->envelope_z[c];
+        }
+        if (r->level_p_trend[c] < best_trend) {
+            best_trend = r->level_p_trend[c];
+            trend_from_envelope = 0;
+        }
+        if (r->envelope_p_growth[c] < best_growth) {
+            best_growth = r->envelope_p_growth[c];
+            r->growth_channel = c;
+        }
+    }
+    if (tested == 0) {
+        r->regime = EL_REGIME_UNDETERMINED;
+        return;
+    }
+    r->trend_p = isfinite(best_trend) ? fmin(1.0, 2.0 * (double)tested * best_trend) : NAN;
+    r->growth_p = isfinite(best_growth) ? fmin(1.0, (double)tested * best_growth) : NAN;
+    r->growth_factor = isfinite(best_growth) ? r->envelope_factor[r->growth_channel] : NAN;
+    r->growth = r->growth_p < opt->level && r->growth_factor >= opt->min_growth_factor;
+    int transient = r->trend_p < opt->level;
+    r->regime = transient ? EL_REGIME_TRANSIENT : EL_REGIME_STATIONARY;
+    r->direction = transient && trend_from_envelope ? (trend_z > 0.0 ? 1 : -1) : 0;
+}
+
+el_status el_regime_run(el_regime *r, const el_series *series,
+                        const el_regime_options *opt, el_warnings *warnings,
+                        el_error *err)
+{
+    el_regime_options defaults;
+    if (opt == NULL) {
+        el_regime_defaults(&defaults);
+        opt = &defaults;
+    }
+    if (r == NULL || series == NULL || series->values == NULL
+        || series->n_samples != r->n_samples || series->n_channels != r->n_channels
+        || !(series->dt > 0.0) || opt->segments < MIN_SEGMENTS)
+        return el_error_set(err, EL_ERR_INTERNAL, "el_regime_run: bad arguments or a series "
+                            "that does not match the plan");
+    if (!(opt->level > 0.0 && opt->level < 0.5)) {
+        el_error_set(err, EL_ERR_USAGE, "significance level %g is outside (0, 0.5)",
+                     opt->level);
+        el_error_option(err, "--level");
+        el_error_hint(err, "use a small level such as 0.01");
+        return EL_ERR_USAGE;
+    }
+    size_t n = r->n_samples;
+    size_t segs = opt->segments;
+    if (segs > n / MIN_SEGMENT_SAMPLES)
+        segs = n / MIN_SEGMENT_SAMPLES;
+    r->regime = EL_REGIME_UNDETERMINED;
+    r->direction = 0;
+    r->trend_p = r->growth_p = r->growth_factor = NAN;
+    r->growth = 0;
+    r->growth_channel = 0;
+    r->segments = segs >= MIN_SEGMENTS ? segs : 0;
+    r->segment_length = r->segments ? n / segs : 0;
+    for (size_t c = 0; c < r->n_channels; c++)
+        set_untested(r, c);
+    el_status st = EL_OK;
+    if (r->segments == 0) {
+        st = el_warnings_add(warnings, "the window has %zu samples, too few to tell a "
+                             "transient from stationary motion (the regime test needs %d)",
+                             n, MIN_SEGMENTS * MIN_SEGMENT_SAMPLES);
+    } else {
+        slope_weights(r->work->weight, segs, (double)r->segment_length * series->dt);
+        for (size_t c = 0; c < r->n_channels; c++) {
+            if (test_channel(r, series->values + c * n, series->dt, c))
+                r->tested[c] = 1;
+            else
+                set_untested(r, c);
+        }
+        decide(r, opt);
+        if (r->regime == EL_REGIME_UNDETERMINED)
+            st = el_warnings_add(warnings, "no channel varies over the window: its regime "
+                                 "cannot be determined");
+    }
+    if (opt->driven)
+        r->regime = EL_REGIME_DRIVEN;
+    r->regime_name = el_regime_name(r->regime);
+    if (st != EL_OK)
+        return el_error_set(err, st, "out of memory");
+    return EL_OK;
+}
+
+int el_regime_growth_veto(const el_regime *r, double *factor, double *p_value,
+                          size_t *channel)
+{
+    if (factor != NULL)
+        *factor = r ? r->growth_factor : NAN;
+    if (p_value != NULL)
+        *p_value = r ? r->growth_p : NAN;
+    if (channel != NULL)
+        *channel = r ? r->growth_channel : 0;
+    return r != NULL && r->growth;
+}
+
+el_status el_regime_growth_warning(const el_regime *r, const el_series *series,
+                                   el_warnings *warnings, el_error *err)
+{
+    if (r == NULL || series == NULL)
+        return el_error_set(err, EL_ERR_INTERNAL, "el_regime_growth_warning: missing argument");
+    if (!r->growth)
+        return EL_OK;
+    char buf[32];
+    const char *name = buf;
+    if (series->names != NULL && series->names[r->growth_channel] != NULL)
+        name = series->names[r->growth_channel];
+    else
+        snprintf(buf, sizeof buf, "%zu", r->growth_channel + 1);
+    el_status st;
+    /* below 1e-16 a tail probability means no more than "zero" */
+    if (r->growth_p < 1e-16)
+        st = el_warnings_add(warnings, "the amplitude of channel %s grows by a factor %.3g "
+                             "over the window (p < 1e-16, model-free envelope test): the "
+                             "operating point cannot be called stable", name,
+                             r->growth_factor);
+    else
+        st = el_warnings_add(warnings, "the amplitude of channel %s grows by a factor %.3g "
+                             "over the window (p = %.2g, model-free envelope test): the "
+                             "operating point cannot be called stable", name,
+                             r->growth_factor, r->growth_p);
+    if (st != EL_OK)
+        return el_error_set(err, st, "out of memory");
+    return EL_OK;
+}

@@ -1,0 +1,158 @@
+/* el_regime: which regime the window is in (a transient after a
+ * disturbance, a stationary motion driven by unmeasured random
+ * disturbances, or driven by measured inputs), from the data alone, and the
+ * model-free cross-check that an amplitude envelope growing by a significant
+ * factor can never be reported as a stable operating point. */
+#ifndef EL_REGIME_H
+#define EL_REGIME_H
+
+#include <stddef.h>
+
+#include "el_error.h"
+#include "el_timebase.h"
+
+typedef enum {
+    EL_REGIME_STATIONARY = 0, /* no significant trend of amplitude or level */
+    EL_REGIME_TRANSIENT,      /* amplitude or level changes significantly: a free
+                                 decay or growth after a disturbance */
+    EL_REGIME_DRIVEN,         /* the caller said measured inputs drive the system */
+    EL_REGIME_UNDETERMINED    /* window too short, or no channel varies */
+} el_regime_class;
+
+/* "stationary", "transient", "driven", "undetermined"; "unknown" else.
+ * Static text. */
+const char *el_regime_name(el_regime_class regime);
+
+typedef struct {
+    double level;             /* family-wise false-alarm level of each decision
+                                 (transient, growth) under the stationary null */
+    size_t segments;          /* M: segments of the envelope (>= 6) */
+    double min_growth_factor; /* a significant growth below this factor over the
+                                 window does not veto (convention) */
+    int driven;               /* 1: measured inputs were given (set by the caller) */
+} el_regime_options;
+
+/* Fills opt with the defaults: level 0.01, 16 segments, min_growth_factor
+ * 1.25 (growth of less than 25% over the window is too small to overrule a
+ * model: it can come from a slowly changing disturbance intensity), not
+ * driven. Can't fail. */
+void el_regime_defaults(el_regime_options *opt);
+
+/* Plan and result in one. Per-channel arrays have n_channels entries; a
+ * value that does not exist is NaN (JSON null) with tested[c] == 0.
+ *
+ * The method, per channel x (N samples, interval dt):
+ * 1. Envelope and level: the window is cut into M segments of L = N / M
+ *    samples (M = min(segments, N / 8): at least 8 samples each; the
+ *    N - M L samples left over are split between both ends). Segment a has
+ *    mean-square ms_a = mean over the segment of (x - xbar)^2, with xbar
+ *    the mean over the whole window, log-amplitude y_a = ln(ms_a) / 2, and
+ *    standardised level m_a = mean over the segment of (x - xbar) / s, s^2
+ *    the window variance.
+ * 2. Trends: least-squares slopes of y and of m against the segment centre
+ *    times t_a: envelope_rate (1/time unit: the growth rate of the
+ *    amplitude, comparable to Re lambda of a dominant mode) and level_rate
+ *    (standard deviations per time unit). envelope_factor =
+ *    exp(envelope_rate (t_last - t_first)): the fitted amplitude ratio
+ *    between the last and the first segment centre.
+ * 3. Significance against the stationary Gaussian null: if x were a
+ *    stationary Gaussian process with autocorrelation rho, then by
+ *    Isserlis' theorem (Isserlis 1918, Biometrika 12) cov(x_i^2, x_j^2) =
+ *    2 gamma(i - j)^2, so cov(y_a, y_{a+k}) = (1 / (2 L^2)) sum_{|u| < L}
+ *    (L - |u|) rho(k L + u)^2 to first order (delta method), and
+ *    cov(m_a, m_{a+k}) = (1 / L^2) sum_{|u| < L} (L - |u|) rho(k L + u)
+ *    (the large-sample moments of Bartlett 1946, J. R. Statist. Soc.
+ *    Suppl. 8). rho is the sample autocorrelation of the whole window
+ *    (divisor N, by FFT). The variance of each slope under the null is
+ *    w' C w with w the least-squares slope weights; z = slope / sqrt(w' C
+ *    w) is referred to the standard normal distribution. Because C comes
+ *    from the signal's own correlation, slow envelope fluctuations of a
+ *    lightly damped random motion (envelope correlation time 1/(zeta
+ *    omega)) widen the null exactly as much as they should, and a
+ *    deterministic decay or growth, whose envelope moves far more than a
+ *    stationary process with the same correlation could, is significant.
+ *    A constant offset in the noise of C cancels because the weights sum
+ *    to zero.
+ * 4. Decisions, over the tested channels (m of them): transient when the
+ *    smallest two-sided p-value of the 2 m trend tests (envelope and level)
+ *    times 2 m (Bonferroni) is below level; growth when the smallest
+ *    one-sided envelope growth p-value times m is below level and that
+ *    channel's envelope_factor >= min_growth_factor. Under the null each
+ *    decision raises a false alarm with probability <= level (up to the
+ *    normal approximation; measured in tests/test_regime.c).
+ * Why not the residuals of the envelope fit: an autocorrelation estimated
+ * from 16 segment residuals cannot tell an exponential decay into a noise
+ * floor (an L-shaped envelope whose residuals are strongly correlated) from
+ * slow random fluctuations; prototypes with a lag-1 adjusted t-test (as in
+ * Santer et al. 2000, J. Geophys. Res. 105) missed clear ring-downs at
+ * 20 dB SNR. */
+typedef struct {
+    size_t n_samples, n_channels;
+    size_t segments;            /* M used in the last run (0: not testable) */
+    size_t segment_length;      /* L */
+    el_regime_class regime;
+    const char *regime_name;    /* static */
+    int direction;              /* +1 amplitude grows, -1 decays, 0 none or only the
+                                   level moves (the most significant test decides) */
+    double trend_p;             /* Bonferroni-adjusted p of "no trend" (NaN: untested) */
+    int growth;                 /* 1: the envelope grows significantly (veto) */
+    double growth_p;            /* Bonferroni-adjusted one-sided p of the growth test */
+    double growth_factor;       /* envelope_factor of growth_channel */
+    size_t growth_channel;      /* channel with the smallest growth p */
+    int *tested;                /* 0: channel constant (nothing to test) */
+    double *envelope_rate;      /* 1/time unit */
+    double *envelope_factor;
+    double *envelope_z;
+    double *envelope_p_growth;  /* one-sided, per channel, unadjusted */
+    double *envelope_p_trend;   /* two-sided, per channel, unadjusted */
+    double *level_rate;         /* standard deviations per time unit */
+    double *level_z;
+    double *level_p_trend;      /* two-sided, per channel, unadjusted */
+    struct el_regime_work *work;/* FFT plans and scratch */
+} el_regime;
+
+/* Plans regime detection for series of exactly n_samples x n_channels: the
+ * FFTW plans of the autocorrelation (length >= 2 N - 1, FFTW_ESTIMATE) and
+ * every output are allocated once; el_regime_run allocates nothing.
+ * *out receives the plan (NULL on error). Errors: EL_ERR_INTERNAL for a
+ * NULL out, n_samples < 3 or n_channels == 0; EL_ERR_DATA when n_samples
+ * is beyond FFTW's int sizes; EL_ERR_NUMERIC when FFTW returns no plan;
+ * EL_ERR_NOMEM. NOT thread-safe: FFTW's planner keeps global state, so
+ * create and destroy plans from one thread at a time. */
+el_status el_regime_create(size_t n_samples, size_t n_channels, el_regime **out,
+                           el_error *err);
+
+/* Classifies series (the prepared series the model will be fitted to; its
+ * sizes must be the plan's, else EL_ERR_INTERNAL) with opt (NULL =
+ * defaults); fills every field of *r (see el_regime). regime is DRIVEN when
+ * opt->driven, whatever the tests say (they are still computed, and growth
+ * is still reported); UNDETERMINED when fewer than 6 segments of 8 samples
+ * fit (N < 48) or no channel varies, with a warning saying why. Errors:
+ * EL_ERR_USAGE (option "--level") for a level outside (0, 0.5);
+ * EL_ERR_INTERNAL for bad arguments or segments < 6; EL_ERR_NOMEM when a
+ * warning cannot be stored. One thread per plan at a time. */
+el_status el_regime_run(el_regime *r, const el_series *series,
+                        const el_regime_options *opt, el_warnings *warnings,
+                        el_error *err);
+
+/* The model-free veto: returns 1 when the last run found the amplitude
+ * envelope growing significantly (r->growth), else 0. factor, p_value and
+ * channel (each may be NULL) receive growth_factor, growth_p and
+ * growth_channel (NaN, NaN, 0 when nothing was tested). The verdict stage
+ * must not report "stable" when this returns 1. Can't fail. */
+int el_regime_growth_veto(const el_regime *r, double *factor, double *p_value,
+                          size_t *channel);
+
+/* Adds the veto's sentence when el_regime_growth_veto is 1: "the amplitude
+ * of channel X grows by a factor F over the window (p = P, model-free
+ * envelope test): the operating point cannot be called stable". Does
+ * nothing otherwise. EL_ERR_NOMEM when the warning cannot be stored;
+ * EL_ERR_INTERNAL for NULL r or series. */
+el_status el_regime_growth_warning(const el_regime *r, const el_series *series,
+                                   el_warnings *warnings, el_error *err);
+
+/* Frees the plan and its outputs (FFTW planner call: same thread rule as
+ * creation). NULL is a no-op. */
+void el_regime_destroy(el_regime *r);
+
+#endif

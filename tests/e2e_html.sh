@@ -1,0 +1,146 @@
+#!/bin/sh
+# End-to-end: `eigenlog assess --html` writes a page that headless Chromium
+# (Debian's `chromium`, installed by `make deps`) loads without a console
+# message, whose DOM holds every figure with data, and which renders to a
+# screenshot. Run by tests/run.sh with EIGENLOG set to the program under
+# test. EL_SAVE_SCREENSHOT=1 saves the screenshot as docs/report.png (the
+# README shows it); otherwise it stays in the temporary folder.
+set -u
+bin=${EIGENLOG:-build/rel/eigenlog}
+log=datasets/booster_pump.csv
+tmp=$(mktemp -d)
+trap 'rm -rf "$tmp"' EXIT
+passed=0
+failed=0
+
+ok() { passed=$((passed + 1)); }
+bad() { failed=$((failed + 1)); echo "FAIL $1"; }
+check() { if eval "$2"; then ok; else bad "$1"; fi; }
+finish() {
+    echo "e2e_html: $passed passed, $failed failed"
+    [ "$failed" -eq 0 ]
+    exit
+}
+
+browser=$(command -v chromium || true)
+if [ -z "$browser" ]; then
+    bad "chromium is not installed: this test needs Debian's chromium package (run: make deps, or apt-get install -y chromium)"
+    finish
+fi
+
+# 1. The report itself.
+"$bin" assess "$log" --html "$tmp/report.html" --boot 200 --quiet >"$tmp/stdout" 2>"$tmp/stderr"
+status=$?
+if [ "$status" -ne 0 ]; then
+    bad "eigenlog assess --html failed (exit $status)"
+    sed 's/^/    stderr: /' "$tmp/stderr"
+    finish
+fi
+html=$tmp/report.html
+check "report written" '[ -s "$html" ]'
+# Small enough: a 12,000-sample log stays well under a megabyte because
+# long lines are downsampled (el_html.h).
+size=$(wc -c <"$html")
+check "report under 1 MB ($size bytes)" '[ "$size" -lt 1000000 ]'
+# Same input, same bytes (no date, no randomness, threads do not matter).
+"$bin" assess "$log" --html "$tmp/again.html" --boot 200 --quiet >/dev/null 2>&1
+check "same bytes on a second run" 'cmp -s "$html" "$tmp/again.html"'
+check "no script in the report" '! grep -q "<script" "$html"'
+check "no reference outside the file" '! grep -q -E "(src|href)=|url\\((http|file|//)|https?:" "$html"'
+
+# 2. Chromium: a fresh profile each run; no network features. The log
+# goes to stderr at verbosity 0.
+run_browser() {
+    profile=$(mktemp -d "$tmp/profile.XXXXXX")
+    timeout 60 "$browser" --headless --no-sandbox --disable-gpu --disable-quic --no-first-run \
+        --disable-background-networking --disable-component-update --disable-sync \
+        --user-data-dir="$profile" --enable-logging=stderr --v=0 "$@"
+}
+run_browser --dump-dom "file://$(cd "$tmp" && pwd)/report.html" >"$tmp/dom.html" 2>"$tmp/dom.log"
+check "chromium dumped the DOM" '[ -s "$tmp/dom.html" ] && grep -q "</html>" "$tmp/dom.html"'
+
+# Console messages: Chromium writes every message a page sends to the
+# console (script errors, and its own complaints about the page such as
+# "Error: <path> attribute d: Expected number") as a log line tagged
+# ":CONSOLE" (e.g. "[pid:tid:date:INFO:CONSOLE:1] "Error: ...", source: file://...").
+# The report has no script, so any such line is a fault of the page. Other
+# log lines (D-Bus, GPU sandbox) are about the headless machine, not the page.
+if grep -q ":CONSOLE" "$tmp/dom.log"; then
+    bad "console messages while loading the page:"
+    grep ":CONSOLE" "$tmp/dom.log" | sed 's/^/    /' | head -n 10
+else
+    ok
+fi
+
+# 3. Every figure in the parsed DOM, each with data. figure_text ID prints
+# the DOM from the figure's opening tag to its </figure>.
+figure_text() {
+    awk -v id="id=\"$1\"" 'index($0, id) { on = 1 } on { print } on && /<\/figure>/ { exit }' \
+        "$tmp/dom.html"
+}
+# Points of the first <path class="CLS" ...> in a figure: cloud dots are
+# "M" commands of its d attribute.
+cloud_points() {
+    figure_text "$1" | tr '>' '\n' | grep -m 1 "<path class=\"$2\"" |
+        sed 's/.* d="\([^"]*\)".*/\1/' | tr -cd 'M' | wc -c
+}
+# Coordinate pairs of the first line path of class CLS in a figure.
+line_points() {
+    figure_text "$1" | tr '>' '\n' | grep -m 1 "<path class=\"line $2\"" |
+        sed 's/.* d="\([^"]*\)".*/\1/' | tr 'M' ' ' | wc -w | awk '{ print int($1 / 2) }'
+}
+
+for id in fig-eigenvalues fig-plane fig-timeseries-0 fig-timeseries-1 fig-spectrum fig-modes; do
+    check "figure $id in the DOM" 'figure_text "$id" | grep -q .'
+done
+check "no third channel figure" '! grep -q "fig-timeseries-2" "$tmp/dom.html"'
+check "verdict before the figures" \
+    'awk "/id=\"verdict\"/ { v = NR } /id=\"fig-eigenvalues\"/ { f = NR } END { exit !(v && f && v <= f) }" "$tmp/dom.html"'
+
+# Booster pump: 2 channels, one oscillatory mode, 200 replicates. Cloud
+# rule: 200 x 1 <= 4000, so every replicate is a dot (a replicate whose
+# eigenvalue is not finite would be left out; none is expected here).
+n=$(cloud_points fig-eigenvalues cloud)
+check "eigenvalue cloud has 200 dots (got $n)" '[ "$n" -eq 200 ]'
+n=$(cloud_points fig-plane cloud)
+check "plane cloud has 200 dots (got $n)" '[ "$n" -eq 200 ]'
+check "stability boundary drawn" 'figure_text fig-eigenvalues | grep -q "class=\"boundary\""'
+check "stable side shaded" 'figure_text fig-eigenvalues | grep -q "class=\"stable-side\""'
+check "discriminant parabola drawn" 'figure_text fig-plane | grep -q "class=\"parabola\""'
+# 12,000 samples: 750 runs x (min, max) = at most 1500 points per line.
+for c in 0 1; do
+    for cls in measured one-step free-run; do
+        n=$(line_points "fig-timeseries-$c" "$cls")
+        check "channel $c $cls line has 2..1500 points (got $n)" '[ "$n" -ge 2 ] && [ "$n" -le 1500 ]'
+    done
+done
+n=$(line_points fig-spectrum psd)
+check "spectrum line has points (got $n)" '[ "$n" -ge 2 ] && [ "$n" -le 1500 ]'
+check "mode frequency marked on the spectrum" 'figure_text fig-spectrum | grep -q "class=\"modeline\""'
+check "mode table has mode 1" 'figure_text fig-modes | grep -q "id=\"mode-1\""'
+check "no non-finite number in the page" \
+    '! grep -q -i -w -E "nan|inf|infinity" "$tmp/dom.html"'
+
+# 4. Screenshot.
+if [ "${EL_SAVE_SCREENSHOT:-0}" = 1 ]; then
+    mkdir -p docs
+    png=$(pwd)/docs/report.png
+else
+    png=$tmp/report.png
+fi
+rm -f "$png"
+run_browser --screenshot="$png" --window-size=1280,4200 --hide-scrollbars \
+    "file://$(cd "$tmp" && pwd)/report.html" >"$tmp/shot.out" 2>"$tmp/shot.log"
+check "screenshot written" '[ -s "$png" ]'
+# A PNG of 1280 x 4200: signature, then the IHDR width and height.
+sig=$(od -A n -t x1 -N 8 "$png" 2>/dev/null | tr -d ' \n')
+check "screenshot is a PNG" '[ "$sig" = "89504e470d0a1a0a" ]'
+dims=$(od -A n -t u1 -j 16 -N 8 "$png" 2>/dev/null |
+    awk '{ print $1 * 16777216 + $2 * 65536 + $3 * 256 + $4 "x" $5 * 16777216 + $6 * 65536 + $7 * 256 + $8 }')
+check "screenshot is 1280x4200 (got $dims)" '[ "$dims" = "1280x4200" ]'
+# A blank page compresses to a few kilobytes; the figures make it large.
+psize=$(wc -c <"$png")
+check "screenshot is not blank ($psize bytes)" '[ "$psize" -gt 100000 ]'
+check "no console messages while rendering" '! grep -q ":CONSOLE" "$tmp/shot.log"'
+
+finish
