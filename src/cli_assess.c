@@ -16,6 +16,8 @@ static const cli_option OPTIONS[] = {
     {"from", "T", "window start, in the time column's units or ISO 8601"},
     {"to", "T", "window end, likewise"},
     {"max-gap", "N", "longest run of missing samples to fill (default 5)"},
+    {"detrend", "none|mean|linear", "remove each channel's mean or straight-line drift first (default none)"},
+    {"band", "LO:HI", "zero-phase band limit in Hz (per time unit) before the fit"},
     {"lags", "K", "delay copies of every channel in the state (default 0)"},
     {"rank", "R|auto|full", "DMD rank: a number, auto (optimal hard threshold) or full (default)"},
     {"method", "ls", "estimator: ls = affine least squares / exact DMD (default)"},
@@ -121,6 +123,8 @@ static el_status parse_choices(const cli_args *a, assess_cli *c, el_error *err)
     const char *v;
     int choice = 0;
     el_status st;
+    if ((v = opt_value(a, "detrend")) && (st = el_prep_parse_detrend(v, &c->assess.detrend, err)))
+        return st;
     if ((v = opt_value(a, "method"))) {
         if ((st = parse_choice("method", v, methods, 1, &choice, err)))
             return st;
@@ -154,6 +158,7 @@ static el_status parse_assess(const cli_args *a, assess_cli *c, el_error *err)
     c->assess.channels = opt_value(a, "channels");
     c->assess.from_text = opt_value(a, "from");
     c->assess.to_text = opt_value(a, "to");
+    c->assess.band_text = opt_value(a, "band");
     c->json_path = opt_value(a, "json");
     c->html_path = opt_value(a, "html");
     c->replicates_path = opt_value(a, "replicates");

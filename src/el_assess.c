@@ -162,14 +162,106 @@ static el_status crosscheck_spectra(el_assessment *r, el_error *err)
                                   r->mode_checks, r->peak_checks, &r->warnings, err);
 }
 
+/* Detrend and band limit, in place on the series, before anything looks at
+ * its dynamics. The band edges are checked against the series' Nyquist
+ * frequency, so --band is parsed here, once dt is known. */
+static el_status prepare(const el_assess_options *opt, el_assessment *r,
+                         el_error *err)
+{
+    size_t n = r->series.n_channels;
+    r->detrend_level = calloc(n, sizeof *r->detrend_level);
+    r->detrend_slope = calloc(n, sizeof *r->detrend_slope);
+    r->operating_point = calloc(n, sizeof *r->operating_point);
+    if (r->detrend_level == NULL || r->detrend_slope == NULL || r->operating_point == NULL)
+        return el_error_set(err, EL_ERR_NOMEM, "out of memory");
+    el_status st = el_prep_detrend(&r->series, opt->detrend, r->detrend_level,
+                                   r->detrend_slope, err);
+    if (st != EL_OK || opt->band_text == NULL)
+        return st;
+    double lo = 0, hi = 0;
+    st = el_prep_parse_band(opt->band_text, r->series.dt, &lo, &hi, err);
+    el_prep_band_plan *plan = NULL;
+    if (st == EL_OK)
+        st = el_prep_band_plan_create(r->series.n_samples, r->series.dt, lo, hi, &plan,
+                                      &r->input_warnings, err);
+    if (st == EL_OK)
+        st = el_prep_band_apply(plan, &r->series, err);
+    if (st == EL_OK) {
+        r->band = el_prep_band_plan_band(plan);
+        r->has_band = 1;
+    }
+    el_prep_band_plan_destroy(plan);
+    return st;
+}
+
+static el_status detect_regime(const el_assess_options *opt, el_assessment *r,
+                               el_error *err)
+{
+    el_regime_options ro;
+    el_regime_defaults(&ro);
+    ro.driven = 0;
+    (void)opt;
+    el_status st = el_regime_create(r->series.n_samples, r->series.n_channels,
+                                    &r->regime, err);
+    if (st == EL_OK)
+        st = el_regime_run(r->regime, &r->series, &ro, &r->warnings, err);
+    return st;
+}
+
+/* The operating point in physical units: the model's fixed point (lag-0
+ * block) plus the level that detrending removed. */
+static void operating_point(el_assessment *r)
+{
+    r->operating_point_ok = r->model.operating_point_ok;
+    for (size_t c = 0; c < r->series.n_channels; c++)
+        r->operating_point[c] = r->model.operating_point_ok
+                                    ? r->model.operating_point[c] + r->detrend_level[c]
+                                    : NAN;
+}
+
+/* Model-free cross-check: an envelope that grows significantly over the
+ * window can never be reported as a stable operating point, whatever the
+ * fitted model says (a model can be biased; the envelope is not a model). */
+static el_status veto_growth(el_assessment *r, el_error *err)
+{
+    double factor = 0, p = 1;
+    size_t channel = 0;
+    if (!el_regime_growth_veto(r->regime, &factor, &p, &channel) ||
+        r->verdict.stability != EL_STABLE)
+        return EL_OK;
+    r->growth_veto = 1;
+    r->verdict.stability = EL_MARGINAL;
+    r->verdict.stability_name = "marginal";
+    r->verdict.ambiguous = 1;
+    return el_regime_growth_warning(r->regime, &r->series, &r->warnings, err);
+}
+
+static el_status validate(el_assessment *r, el_error *err)
+{
+    el_status st = el_validation_create(r->series.n_channels, r->model.lags,
+                                        r->series.n_samples, &r->validation, err);
+    if (st == EL_OK)
+        st = el_validation_run(r->validation, &r->model, &r->series,
+                               &r->verdict.stability, &r->warnings, err);
+    return st;
+}
+
 el_status el_assess_run(const el_assess_options *opt, el_assessment *r,
                         el_error *err)
 {
     el_status st = el_assess_load(opt, r, err);
     if (st == EL_OK)
+        st = prepare(opt, r, err);
+    if (st == EL_OK)
+        st = detect_regime(opt, r, err);
+    if (st == EL_OK)
         st = el_fit(&r->series, &opt->fit, &r->model, &r->warnings, err);
     if (st == EL_OK)
+        operating_point(r);
+    if (st == EL_OK)
         st = el_modes_compute(&r->model, &r->modes, &r->warnings, err);
+    if (st == EL_OK && r->has_band)
+        st = el_prep_band_check_modes(&r->band, &r->modes, &r->warnings, NULL, err);
     if (st == EL_OK)
         st = crosscheck_spectra(r, err);
     if (st == EL_OK && opt->boot.replicates > 0)
@@ -179,6 +271,10 @@ el_status el_assess_run(const el_assess_options *opt, el_assessment *r,
         st = el_verdict_compute(&r->modes, &r->model,
                                 opt->boot.replicates > 0 ? &r->boot : NULL,
                                 opt->boot.level, &r->verdict, &r->warnings, err);
+    if (st == EL_OK)
+        st = veto_growth(r, err);
+    if (st == EL_OK)
+        st = validate(r, err);
     /* Problems found after ingest (constant channel, too short a window)
      * are still about this file: name it when the stage could not. */
     if (st != EL_OK && err != NULL && err->file[0] == '\0' && err->option[0] == '\0')
@@ -199,6 +295,11 @@ void el_assessment_free(el_assessment *r)
     el_peaks_free(&r->peaks);
     free(r->mode_checks);
     free(r->peak_checks);
+    free(r->detrend_level);
+    free(r->detrend_slope);
+    free(r->operating_point);
+    el_regime_destroy(r->regime);
+    el_validation_destroy(r->validation);
     el_warnings_free(&r->input_warnings);
     el_warnings_free(&r->warnings);
     memset(r, 0, sizeof *r);

@@ -10,9 +10,12 @@
 #include "el_fit.h"
 #include "el_ingest.h"
 #include "el_modes.h"
+#include "el_prep.h"
+#include "el_regime.h"
 #include "el_resample.h"
 #include "el_spectrum.h"
 #include "el_timebase.h"
+#include "el_validate.h"
 #include "el_verdict.h"
 
 typedef struct {
@@ -22,6 +25,8 @@ typedef struct {
     const char *from_text;        /* window start as written (number or ISO), NULL = open */
     const char *to_text;
     size_t max_gap;               /* default 5 */
+    el_detrend detrend;           /* --detrend (default none) */
+    const char *band_text;        /* --band LO:HI as written; NULL = no band limit */
     el_fit_options fit;
     el_boot_options boot;         /* boot.replicates == 0: no bootstrap */
 } el_assess_options;
@@ -38,6 +43,15 @@ typedef struct {
     el_modes modes;
     el_boot_result boot;          /* boot.replicates == 0 when not run */
     el_verdict verdict;
+    double *detrend_level;        /* n_channels: removed level (0 without detrend) */
+    double *detrend_slope;        /* n_channels: removed drift per time unit */
+    int has_band;                 /* 1: the series was band-limited to band */
+    el_prep_band band;
+    double *operating_point;      /* n_channels, physical units (detrend level added back) */
+    int operating_point_ok;       /* 0: I - Ad singular: no operating point */
+    el_regime *regime;            /* data regime of the prepared window (owned) */
+    int growth_veto;              /* 1: the envelope grows: "stable" was withheld */
+    el_validation *validation;    /* one-step, free run, Ljung-Box (owned) */
     int has_spectra;              /* 1: spectra and peaks below are filled */
     el_spectra spectra;           /* Welch spectra of the window (cross-check, report) */
     el_peaks peaks;

@@ -1573,7 +1573,7 @@ static void details_section(ctx *c)
         put(c, ch ? "; " : "");
         esc(c, s->names[ch]);
         put(c, " ");
-        put_num(c, m->operating_point_ok && m->operating_point ? m->operating_point[ch] : NAN, 6);
+        put_num(c, r->operating_point_ok && r->operating_point ? r->operating_point[ch] : NAN, 6);
         put(c, " ");
         esc(c, channel_unit(c, ch));
     }

@@ -85,7 +85,8 @@ struct el_prep_band_plan {
     double dt;
     double *buffer;        /* fftw_malloc'ed, L */
     fftw_complex *spectrum;/* fftw_malloc'ed, n_bins */
-    double *mask;          /* n_bins */
+    double *high_pass;     /* n_bins: mask of the low edge (NULL: no low edge) */
+    double *low_pass;      /* n_bins: mask of the high edge (NULL: no high edge) */
     double *taper;         /* P: weight of padding sample k + 1 away from the data */
     fftw_plan forward, inverse;
 };
@@ -189,14 +190,15 @@ void el_prep_band_plan_destroy(el_prep_band_plan *plan)
         fftw_destroy_plan(plan->inverse);
     fftw_free(plan->buffer);
     fftw_free(plan->spectrum);
-    free(plan->mask);
+    free(plan->high_pass);
+    free(plan->low_pass);
     free(plan->taper);
     free(plan);
 }
 
 el_status el_prep_band_plan_create(size_t n_samples, double dt, double lo_hz,
                                    double hi_hz, el_prep_band_plan **plan,
-                                   el_error *err)
+                                   el_warnings *warnings, el_error *err)
 {
     if (plan == NULL)
         return el_error_set(err, EL_ERR_INTERNAL, "el_prep_band_plan_create: no output");
@@ -210,9 +212,10 @@ el_status el_prep_band_plan_create(size_t n_samples, double dt, double lo_hz,
     if (n_samples > (size_t)(0x7fffffff / 4))
         return el_error_set(err, EL_ERR_DATA, "%zu samples are too many for the band "
                             "limit's transform", n_samples);
-    el_prep_band band = { lo_hz, hi_hz, 0.0, nyquist };
-    double df = 1.0 / ((double)n_samples * dt);
-    band.transition_hz = fmax(4.0 * df, 0.1 * (hi_hz - lo_hz));
+    el_prep_band band = { lo_hz, hi_hz, 0.0, nyquist, 0.0 };
+    double window = (double)n_samples * dt;
+    band.transition_hz = fmax(4.0 / window, 0.1 * (hi_hz - lo_hz));
+    band.settle = 2.0 / band.transition_hz;
     double flat_lo = lo_hz > 0.0 ? lo_hz + 0.5 * band.transition_hz : 0.0;
     double flat_hi = hi_hz < nyquist ? hi_hz - 0.5 * band.transition_hz : nyquist;
     if (flat_lo > flat_hi) {
@@ -220,7 +223,7 @@ el_status el_prep_band_plan_create(size_t n_samples, double dt, double lo_hz,
                      "resolve (its edges are %g wide)", lo_hz, hi_hz, band.transition_hz);
         el_error_option(err, "--band");
         el_error_hint(err, "widen the band to at least %g, or analyse a longer window "
-                      "(the resolution is 1/(window length))", band.transition_hz * 
+                      "(the resolution is 1/(window length))", band.transition_hz *
                       (lo_hz > 0.0 && hi_hz < nyquist ? 1.0 : 0.5));
         return EL_ERR_USAGE;
     }
@@ -236,14 +239,22 @@ el_status el_prep_band_plan_create(size_t n_samples, double dt, double lo_hz,
     p->dt = dt;
     p->buffer = fftw_malloc(p->length * sizeof *p->buffer);
     p->spectrum = fftw_malloc(p->n_bins * sizeof *p->spectrum);
-    p->mask = malloc(p->n_bins * sizeof *p->mask);
+    int has_lo = lo_hz > 0.0, has_hi = hi_hz < nyquist;
+    p->high_pass = has_lo ? malloc(p->n_bins * sizeof *p->high_pass) : NULL;
+    p->low_pass = has_hi ? malloc(p->n_bins * sizeof *p->low_pass) : NULL;
     p->taper = malloc(p->pad * sizeof *p->taper);
-    if (!p->buffer || !p->spectrum || !p->mask || !p->taper) {
+    if (!p->buffer || !p->spectrum || (has_lo && !p->high_pass) || (has_hi && !p->low_pass)
+        || !p->taper) {
         el_prep_band_plan_destroy(p);
         return el_error_set(err, EL_ERR_NOMEM, "out of memory");
     }
-    for (size_t k = 0; k < p->n_bins; k++)
-        p->mask[k] = el_prep_band_gain(&band, (double)k / ((double)p->length * dt));
+    for (size_t k = 0; k < p->n_bins; k++) {
+        double f = (double)k / ((double)p->length * dt);
+        if (has_lo)
+            p->high_pass[k] = rising_edge(f, lo_hz, band.transition_hz);
+        if (has_hi)
+            p->low_pass[k] = 1.0 - rising_edge(f, hi_hz, band.transition_hz);
+    }
     /* inner half of the padding kept whole (the filter's response near the
      * data sees the reflection), outer half brought down to zero */
     size_t inner = p->pad / 2, outer = p->pad - inner;
@@ -257,25 +268,60 @@ el_status el_prep_band_plan_create(size_t n_samples, double dt, double lo_hz,
         return el_error_set(err, EL_ERR_NUMERIC, "FFTW could not plan a transform of %zu "
                             "samples", n_samples);
     }
+    if (2.0 * band.settle > 0.2 * window
+        && el_warnings_add(warnings, "--band %g:%g: its edge transients last about %.3g at "
+                           "each end of the %.3g-long window; widen the band or analyse a "
+                           "longer window", lo_hz, hi_hz, band.settle, window) != EL_OK) {
+        el_prep_band_plan_destroy(p);
+        return el_error_set(err, EL_ERR_NOMEM, "out of memory");
+    }
     *plan = p;
     return EL_OK;
 }
 
-/* Fills the transform buffer: padding, mean-removed data, padding, zeros. */
-static void fill_padded(el_prep_band_plan *p, const double *x, double mean)
+typedef enum { REFLECT_EVEN, REFLECT_ODD } reflection;
+
+/* Fills the transform buffer: padding, data, padding, zeros. Even
+ * reflection x[-k] = x[k] keeps the local level continuous; odd reflection
+ * x[-k] = 2 x[0] - x[k] keeps the value and the slope continuous. */
+static void fill_padded(el_prep_band_plan *p, const double *x, reflection kind)
 {
     size_t n = p->n_samples, pad = p->pad;
     double *data = p->buffer + pad;
-    for (size_t k = 0; k < n; k++)
-        data[k] = x[k] - mean;
-    double first = data[0], last = data[n - 1];
+    memcpy(data, x, n * sizeof *x);
+    double first = kind == REFLECT_ODD ? 2.0 * x[0] : 0.0;
+    double last = kind == REFLECT_ODD ? 2.0 * x[n - 1] : 0.0;
+    double sign = kind == REFLECT_ODD ? -1.0 : 1.0;
     for (size_t k = 1; k <= pad; k++) {
         double w = p->taper[k - 1];
-        data[-(ptrdiff_t)k] = w * (2.0 * first - data[k]);
-        data[n - 1 + k] = w * (2.0 * last - data[n - 1 - k]);
+        data[-(ptrdiff_t)k] = w * (first + sign * x[k]);
+        data[n - 1 + k] = w * (last + sign * x[n - 1 - k]);
     }
     for (size_t k = n + 2 * pad; k < p->length; k++)
         p->buffer[k] = 0.0;
+}
+
+/* One zero-phase stage: x (n samples, in place) times mask in frequency. */
+static void filter_stage(el_prep_band_plan *p, double *x, const double *mask,
+                         reflection kind)
+{
+    double scale = 1.0 / (double)p->length;   /* FFTW transforms are unnormalised */
+    fill_padded(p, x, kind);
+    fftw_execute(p->forward);
+    for (size_t k = 0; k < p->n_bins; k++) {
+        p->spectrum[k][0] *= mask[k] * scale;
+        p->spectrum[k][1] *= mask[k] * scale;
+    }
+    fftw_execute(p->inverse);
+    memcpy(x, p->buffer + p->pad, p->n_samples * sizeof *x);
+}
+
+static double mean_of(const double *x, size_t n)
+{
+    double m = 0.0;
+    for (size_t k = 0; k < n; k++)
+        m += x[k];
+    return m / (double)n;
 }
 
 el_status el_prep_band_apply(el_prep_band_plan *plan, el_series *series, el_error *err)
@@ -285,27 +331,26 @@ el_status el_prep_band_apply(el_prep_band_plan *plan, el_series *series, el_erro
         return el_error_set(err, EL_ERR_INTERNAL,
                             "el_prep_band_apply: series does not match the plan");
     size_t n = plan->n_samples;
-    double scale = 1.0 / (double)plan->length;   /* FFTW transforms are unnormalised */
     for (size_t c = 0; c < series->n_channels; c++) {
         double *x = series->values + c * n;
-        double mean = 0.0;
+        double mean = mean_of(x, n);
         for (size_t k = 0; k < n; k++)
-            mean += x[k];
-        mean /= (double)n;
-        fill_padded(plan, x, mean);
-        fftw_execute(plan->forward);
-        for (size_t k = 0; k < plan->n_bins; k++) {
-            plan->spectrum[k][0] *= plan->mask[k] * scale;
-            plan->spectrum[k][1] *= plan->mask[k] * scale;
-        }
-        fftw_execute(plan->inverse);
-        const double *y = plan->buffer + plan->pad;
-        double out_mean = 0.0;
+            x[k] -= mean;
+        /* The two edges are applied as two stages, each with the padding
+         * whose edge error falls where its mask does not look: removing
+         * slow motion needs the local level continuous at the ends (even
+         * reflection: odd reflection would put a step of level 2 x[0]
+         * there, which a high-pass turns into a transient as large as the
+         * signal); removing fast motion needs value and slope continuous
+         * (odd reflection: an even reflection's kink spreads over every
+         * frequency). The product of the two masks is the band's mask. */
+        if (plan->high_pass != NULL)
+            filter_stage(plan, x, plan->high_pass, REFLECT_EVEN);
+        if (plan->low_pass != NULL)
+            filter_stage(plan, x, plan->low_pass, REFLECT_ODD);
+        double out_mean = mean_of(x, n);
         for (size_t k = 0; k < n; k++)
-            out_mean += y[k];
-        out_mean /= (double)n;
-        for (size_t k = 0; k < n; k++)
-            x[k] = y[k] - out_mean + mean;
+            x[k] += mean - out_mean;
     }
     return EL_OK;
 }

@@ -62,6 +62,7 @@ typedef struct {
     double lo_hz, hi_hz;
     double transition_hz;
     double nyquist_hz;
+    double settle;            /* 2 / transition_hz: length of the edge transients */
 } el_prep_band;
 
 /* Parses the --band argument "LO:HI" (two numbers, strtod consuming each
@@ -82,24 +83,33 @@ typedef struct el_prep_band_plan el_prep_band_plan;
 
 /* Creates the plan for the band [lo_hz, hi_hz] (as parsed by
  * el_prep_parse_band) and stores it in *plan (NULL on error).
- * Method, per channel: subtract the channel mean; extend the signal at both
- * ends by odd (point) reflection about the end samples over N - 1 samples,
- * x[-k] = 2 x[0] - x[k] (so the value and the slope are continuous where
- * data meet padding and the circular transform sees no jump at the data's
- * ends), the outer half of each extension tapered to zero by a half cosine
- * (so the wrap-around of the circular transform is continuous too); FFT;
- * multiply by the real mask; inverse FFT; keep the data part; add the mean
- * back. A real, non-negative mask changes amplitudes only: zero phase, no
- * delay. The channel mean always passes unchanged (it is the operating
+ * Mask: 1 inside, 0 outside, with raised-cosine edges of full width W
+ * centred on each edge: r(f) = 0.5 (1 - cos(pi (f - LO + W/2) / W)) rising
+ * through LO, 1 - r(f) with HI in place of LO falling through HI (gain 1/2
+ * at an edge), W = max(4 / (N dt), 0.1 (HI - LO)): a smooth
+ * edge keeps the time-domain ringing short (about 1/W) where a brick wall
+ * would ring over the whole window; four frequency bins of the window at
+ * least, the resolution the window has.
+ * Method, per channel: subtract the channel mean; then one zero-phase stage
+ * per edge that exists, each: extend the signal at both ends by reflection
+ * over N - 1 samples, the outer half of each extension tapered to zero by
+ * a half cosine (so the wrap-around of the circular transform is
+ * continuous), FFT, multiply by that edge's real mask, inverse FFT, keep
+ * the data part. The low edge (removing slow motion) uses even reflection
+ * x[-k] = x[k], which keeps the local level continuous at the ends; the
+ * high edge (removing fast motion) uses odd reflection x[-k] = 2 x[0] -
+ * x[k], which keeps value and slope continuous. Each reflection puts its
+ * own defect (a slope kink, a level step) where its mask passes it
+ * unchanged. The product of the two real masks is the band's: zero phase,
+ * no delay. The channel mean always passes unchanged (it is the operating
  * point, not dynamics), whatever LO: the output's mean over the window is
  * set to the input's exactly.
- * Mask: 1 inside, 0 outside, with raised-cosine edges
- * 0.5 (1 + cos(pi (f - f_edge + W/2) / W)) of full width W centred on each
- * edge (gain 1/2 at the edge), W = max(4 / (N dt), 0.1 (HI - LO)): four
- * frequency bins of the window at least, so the filter's impulse response
- * (about 1/W long) stays within the N - 1 samples of padding; a smooth edge
- * keeps its time-domain ringing short where a brick wall would ring over the
- * whole window.
+ * Edge transients: within about settle = 2/W (time units) of each end of
+ * the window the result departs from the ideal band-limited signal (by up
+ * to tens of percent of an in-band component's amplitude at the very end;
+ * beyond settle by a few percent, see tests/test_prep.c). A warning (to
+ * *warnings, may be NULL) says so when the two ends' settle times cover
+ * more than 20% of the window: widen the band or analyse a longer window.
  * Errors: EL_ERR_USAGE (option "--band", hint) when the mask would have no
  * frequency at full gain: LO + W/2 > HI - W/2 (edges that do not exist
  * count as 0 and Nyquist), i.e. the band is narrower than about four
@@ -110,7 +120,7 @@ typedef struct el_prep_band_plan el_prep_band_plan;
  * (execution of distinct plans may run in parallel). */
 el_status el_prep_band_plan_create(size_t n_samples, double dt, double lo_hz,
                                    double hi_hz, el_prep_band_plan **plan,
-                                   el_error *err);
+                                   el_warnings *warnings, el_error *err);
 
 /* The band the plan applies (with its transition width). Can't fail. */
 el_prep_band el_prep_band_plan_band(const el_prep_band_plan *plan);

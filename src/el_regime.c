@@ -14,6 +14,9 @@
  * points says little and the normal reference of z is poor. */
 #define MIN_SEGMENTS 6
 #define MIN_SEGMENT_SAMPLES 8
+/* The least-squares slope and the step contrasts "first s segments against
+ * the rest" for s in {1, 2, M/4, M/2, 3M/4, M-2, M-1}. */
+#define MAX_CONTRASTS 8
 
 struct el_regime_work {
     size_t fft_length;        /* >= 2 N - 1: linear, not circular, correlation */
@@ -24,6 +27,8 @@ struct el_regime_work {
     double *y, *m;            /* M: log-amplitude and level per segment */
     double *cov_y, *cov_m;    /* M: null covariance at segment lag k */
     double *weight;           /* M: least-squares slope weights */
+    double *contrast;         /* MAX_CONTRASTS x M: contrast 0 = weight, then steps */
+    size_t n_contrasts;
 };
 
 const char *el_regime_name(el_regime_class regime)
@@ -75,6 +80,7 @@ static void work_free(struct el_regime_work *w)
     free(w->cov_y);
     free(w->cov_m);
     free(w->weight);
+    free(w->contrast);
     free(w);
 }
 
@@ -88,10 +94,10 @@ void el_regime_destroy(el_regime *r)
     free(r->envelope_factor);
     free(r->envelope_z);
     free(r->envelope_p_growth);
-    free(r->envelope_p_trend);
     free(r->level_rate);
     free(r->level_z);
-    free(r->level_p_trend);
+    free(r->change_p);
+    free(r->change_direction);
     free(r);
 }
 
@@ -110,8 +116,9 @@ static el_status work_create(size_t n, struct el_regime_work **out, el_error *er
     w->cov_y = malloc(max_segments * sizeof *w->cov_y);
     w->cov_m = malloc(max_segments * sizeof *w->cov_m);
     w->weight = malloc(max_segments * sizeof *w->weight);
+    w->contrast = malloc(MAX_CONTRASTS * max_segments * sizeof *w->contrast);
     if (!w->buffer || !w->spectrum || !w->rho || !w->y || !w->m || !w->cov_y || !w->cov_m
-        || !w->weight) {
+        || !w->weight || !w->contrast) {
         work_free(w);
         return el_error_set(err, EL_ERR_NOMEM, "out of memory");
     }
@@ -148,13 +155,13 @@ el_status el_regime_create(size_t n_samples, size_t n_channels, el_regime **out,
     r->envelope_factor = malloc(nc * sizeof(double));
     r->envelope_z = malloc(nc * sizeof(double));
     r->envelope_p_growth = malloc(nc * sizeof(double));
-    r->envelope_p_trend = malloc(nc * sizeof(double));
     r->level_rate = malloc(nc * sizeof(double));
     r->level_z = malloc(nc * sizeof(double));
-    r->level_p_trend = malloc(nc * sizeof(double));
+    r->change_p = malloc(nc * sizeof(double));
+    r->change_direction = malloc(nc * sizeof *r->change_direction);
     if (!r->tested || !r->envelope_rate || !r->envelope_factor || !r->envelope_z
-        || !r->envelope_p_growth || !r->envelope_p_trend || !r->level_rate || !r->level_z
-        || !r->level_p_trend) {
+        || !r->envelope_p_growth || !r->level_rate || !r->level_z || !r->change_p
+        || !r->change_direction) {
         el_regime_destroy(r);
         return el_error_set(err, EL_ERR_NOMEM, "out of memory");
     }
@@ -263,62 +270,98 @@ static int test_channel(el_regime *r, const double *x, double dt, size_t c)
         w->m[a] = lev / ((double)len * sd);
     }
     null_covariances(w, segs, len);
-    double env_rate = slope(w->weight, w->y, segs);
-    double lev_rate = slope(w->weight, w->m, segs);
     double var_env = quadratic_form(w->weight, w->cov_y, segs);
     double var_lev = quadratic_form(w->weight, w->cov_m, segs);
+    /* the null variances are quadratic forms of positive semi-definite
+     * matrices; exactly zero only when the window has no randomness */
+    if (!(var_env > 0.0) || !(var_lev > 0.0))
+        return 0;
+    double env_rate = slope(w->weight, w->y, segs);
+    double lev_rate = slope(w->weight, w->m, segs);
     double span = (double)((segs - 1) * len) * dt;
+    double ze = env_rate / sqrt(var_env);
     r->envelope_rate[c] = env_rate;
     r->envelope_factor[c] = exp(env_rate * span);
-    r->level_rate[c] = lev_rate;
-    /* the null variance is a quadratic form of a positive semi-definite
-     * matrix; exactly zero only when the window has no randomness to test */
-    double ze = var_env > 0.0 ? env_rate / sqrt(var_env) : NAN;
-    double zl = var_lev > 0.0 ? lev_rate / sqrt(var_lev) : NAN;
     r->envelope_z[c] = ze;
-    r->envelope_p_growth[c] = isnan(ze) ? NAN : normal_sf(ze);
-    r->envelope_p_trend[c] = isnan(ze) ? NAN : 2.0 * normal_sf(fabs(ze));
-    r->level_z[c] = zl;
-    r->level_p_trend[c] = isnan(zl) ? NAN : 2.0 * normal_sf(fabs(zl));
-    return !isnan(ze) || !isnan(zl);
+    r->envelope_p_growth[c] = normal_sf(ze);
+    r->level_rate[c] = lev_rate;
+    r->level_z[c] = lev_rate / sqrt(var_lev);
+    /* every contrast on both series: the smallest two-sided p-value,
+     * Bonferroni over the 2 K tests */
+    double best = INFINITY;
+    int direction = 0;
+    for (size_t j = 0; j < w->n_contrasts; j++) {
+        const double *con = w->contrast + j * segs;
+        double vy = quadratic_form(con, w->cov_y, segs);
+        double vm = quadratic_form(con, w->cov_m, segs);
+        double zy = vy > 0.0 ? slope(con, w->y, segs) / sqrt(vy) : 0.0;
+        double zm = vm > 0.0 ? slope(con, w->m, segs) / sqrt(vm) : 0.0;
+        double py = 2.0 * normal_sf(fabs(zy)), pm = 2.0 * normal_sf(fabs(zm));
+        if (py < best) {
+            best = py;
+            /* contrast 0 rises with time; a step contrast is early minus late */
+            direction = (zy > 0.0) == (j == 0) ? 1 : -1;
+        }
+        if (pm < best) {
+            best = pm;
+            direction = 0;
+        }
+    }
+    r->change_p[c] = fmin(1.0, best * 2.0 * (double)w->n_contrasts);
+    r->change_direction[c] = direction;
+    return 1;
 }
 
 static void set_untested(el_regime *r, size_t c)
 {
     r->tested[c] = 0;
     r->envelope_rate[c] = r->envelope_factor[c] = r->envelope_z[c] = NAN;
-    r->envelope_p_growth[c] = r->envelope_p_trend[c] = NAN;
-    r->level_rate[c] = r->level_z[c] = r->level_p_trend[c] = NAN;
+    r->envelope_p_growth[c] = r->change_p[c] = NAN;
+    r->level_rate[c] = r->level_z[c] = NAN;
+    r->change_direction[c] = 0;
 }
 
-/* Least-squares slope weights of M equally spaced points L dt apart. */
-static void slope_weights(double *weight, size_t segs, double step)
+/* Least-squares slope weights of M equally spaced points L dt apart, and
+ * the contrasts: 0 the slope, then "mean of the first s segments minus
+ * mean of the rest" for each distinct s of {1, 2, M/4, M/2, 3M/4, M-2,
+ * M-1}. A slope is the best linear test of a steady trend; the steps catch
+ * a transient that is over early (a fast decay into the noise floor, an
+ * L-shaped envelope) or starts late, which a slope dilutes. */
+static void make_contrasts(struct el_regime_work *w, size_t segs, double step)
 {
     double centre = 0.5 * (double)(segs - 1), sxx = 0.0;
     for (size_t a = 0; a < segs; a++)
         sxx += ((double)a - centre) * ((double)a - centre);
     for (size_t a = 0; a < segs; a++)
-        weight[a] = ((double)a - centre) / (sxx * step);
+        w->weight[a] = ((double)a - centre) / (sxx * step);
+    memcpy(w->contrast, w->weight, segs * sizeof *w->weight);
+    size_t splits[MAX_CONTRASTS - 1] = { 1, 2, segs / 4, segs / 2, 3 * segs / 4,
+                                         segs - 2, segs - 1 };
+    w->n_contrasts = 1;
+    size_t last = 0;
+    for (size_t i = 0; i < MAX_CONTRASTS - 1; i++) {
+        size_t s = splits[i];
+        if (s <= last || s >= segs)
+            continue;
+        last = s;
+        double *con = w->contrast + w->n_contrasts * segs;
+        for (size_t a = 0; a < segs; a++)
+            con[a] = a < s ? 1.0 / (double)s : -1.0 / (double)(segs - s);
+        w->n_contrasts++;
+    }
 }
 
 static void decide(el_regime *r, const el_regime_options *opt)
 {
-    size_t tested = 0;
-    double best_trend = INFINITY, best_growth = INFINITY;
-    int trend_from_envelope = 0;
-    double trend_z = 0.0;
+    size_t tested = 0, change_channel = 0;
+    double best_change = INFINITY, best_growth = INFINITY;
     for (size_t c = 0; c < r->n_channels; c++) {
         if (!r->tested[c])
             continue;
         tested++;
-        if (r->envelope_p_trend[c] < best_trend) {
-            best_trend = r->envelope_p_trend[c];
-            trend_from_envelope = 1;
-            trend_z = r->envelope_z[c];
-        }
-        if (r->level_p_trend[c] < best_trend) {
-            best_trend = r->level_p_trend[c];
-            trend_from_envelope = 0;
+        if (r->change_p[c] < best_change) {
+            best_change = r->change_p[c];
+            change_channel = c;
         }
         if (r->envelope_p_growth[c] < best_growth) {
             best_growth = r->envelope_p_growth[c];
@@ -329,13 +372,15 @@ static void decide(el_regime *r, const el_regime_options *opt)
         r->regime = EL_REGIME_UNDETERMINED;
         return;
     }
-    r->trend_p = isfinite(best_trend) ? fmin(1.0, 2.0 * (double)tested * best_trend) : NAN;
-    r->growth_p = isfinite(best_growth) ? fmin(1.0, (double)tested * best_growth) : NAN;
-    r->growth_factor = isfinite(best_growth) ? r->envelope_factor[r->growth_channel] : NAN;
+    r->trend_p = fmin(1.0, (double)tested * best_change);
+    r->growth_p = fmin(1.0, (double)tested * best_growth);
+    r->growth_factor = r->envelope_factor[r->growth_channel];
     r->growth = r->growth_p < opt->level && r->growth_factor >= opt->min_growth_factor;
-    int transient = r->trend_p < opt->level;
-    r->regime = transient ? EL_REGIME_TRANSIENT : EL_REGIME_STATIONARY;
-    r->direction = transient && trend_from_envelope ? (trend_z > 0.0 ? 1 : -1) : 0;
+    /* a significant growth is a change too: the window is never called
+     * stationary while its growth vetoes a stable verdict */
+    int changed = r->trend_p < opt->level;
+    r->regime = changed || r->growth ? EL_REGIME_TRANSIENT : EL_REGIME_STATIONARY;
+    r->direction = changed ? r->change_direction[change_channel] : r->growth ? 1 : 0;
 }
 
 el_status el_regime_run(el_regime *r, const el_series *series,
@@ -378,7 +423,7 @@ el_status el_regime_run(el_regime *r, const el_series *series,
                              "transient from stationary motion (the regime test needs %d)",
                              n, MIN_SEGMENTS * MIN_SEGMENT_SAMPLES);
     } else {
-        slope_weights(r->work->weight, segs, (double)r->segment_length * series->dt);
+        make_contrasts(r->work, segs, (double)r->segment_length * series->dt);
         for (size_t c = 0; c < r->n_channels; c++) {
             if (test_channel(r, series->values + c * n, series->dt, c))
                 r->tested[c] = 1;

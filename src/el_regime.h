@@ -73,19 +73,41 @@ void el_regime_defaults(el_regime_options *opt);
  *    stationary process with the same correlation could, is significant.
  *    A constant offset in the noise of C cancels because the weights sum
  *    to zero.
- * 4. Decisions, over the tested channels (m of them): transient when the
- *    smallest two-sided p-value of the 2 m trend tests (envelope and level)
- *    times 2 m (Bonferroni) is below level; growth when the smallest
- *    one-sided envelope growth p-value times m is below level and that
- *    channel's envelope_factor >= min_growth_factor. Under the null each
- *    decision raises a false alarm with probability <= level (up to the
- *    normal approximation; measured in tests/test_regime.c).
+ * 4. Contrasts: besides the slope (contrast 0), "mean of the first s
+ *    segments minus mean of the rest" for s in {1, 2, M/4, M/2, 3M/4,
+ *    M-2, M-1} (K = 8 contrasts for M = 16), each applied to y and to m
+ *    and tested the same way (z = c'v / sqrt(c' C c)). The slope is the
+ *    most powerful linear test of a steady exponential trend; the steps
+ *    catch a transient that is over early (a fast decay into the noise
+ *    floor: an L-shaped envelope, which a slope dilutes) or starts late.
+ *    change_p[c] = smallest two-sided p of the channel's 2 K tests times
+ *    2 K (Bonferroni).
+ * 5. Decisions, over the m tested channels: growth (the veto) when
+ *    growth_p = m min_c envelope_p_growth[c] (the one-sided slope test
+ *    alone: growth must be steady, and a single test keeps its power)
+ *    < level and that channel's envelope_factor >= min_growth_factor;
+ *    transient when trend_p = m min_c change_p[c] < level, or growth (a
+ *    window whose growth vetoes "stable" is never called stationary).
+ *    Under the null the growth decision raises a false alarm with
+ *    probability <= level and the transient decision <= 2 level (union
+ *    bound), up to the normal approximation; measured in
+ *    tests/test_regime.c (about 1% each at level 0.01).
+ * Limits: these are second-order tests of one window. A change slower
+ *    than about a quarter of the window (a non-oscillatory return with a
+ *    time constant of T/4 or more, a growth by less than about 5x over a
+ *    lightly damped oscillation's window) looks like the slow wandering of
+ *    a stationary process with long correlation, whose sample
+ *    autocorrelation it shares: then the window is called stationary and
+ *    growth is not significant. A longer window resolves it.
  * Why not the residuals of the envelope fit: an autocorrelation estimated
  * from 16 segment residuals cannot tell an exponential decay into a noise
- * floor (an L-shaped envelope whose residuals are strongly correlated) from
- * slow random fluctuations; prototypes with a lag-1 adjusted t-test (as in
+ * floor (whose residuals about a line are strongly correlated) from slow
+ * random fluctuations; a prototype with a lag-1 adjusted t-test (as in
  * Santer et al. 2000, J. Geophys. Res. 105) missed clear ring-downs at
- * 20 dB SNR. */
+ * 20 dB SNR. And the autocorrelation is not taken after removing a line:
+ * that removes exactly the slow power that makes slopes of a long-memory
+ * stationary process large, and the level test then raised false alarms
+ * on 10-40% of stationary windows in the prototype. */
 typedef struct {
     size_t n_samples, n_channels;
     size_t segments;            /* M used in the last run (0: not testable) */
@@ -94,7 +116,7 @@ typedef struct {
     const char *regime_name;    /* static */
     int direction;              /* +1 amplitude grows, -1 decays, 0 none or only the
                                    level moves (the most significant test decides) */
-    double trend_p;             /* Bonferroni-adjusted p of "no trend" (NaN: untested) */
+    double trend_p;             /* Bonferroni-adjusted p of "no change" (NaN: untested) */
     int growth;                 /* 1: the envelope grows significantly (veto) */
     double growth_p;            /* Bonferroni-adjusted one-sided p of the growth test */
     double growth_factor;       /* envelope_factor of growth_channel */
@@ -104,10 +126,12 @@ typedef struct {
     double *envelope_factor;
     double *envelope_z;
     double *envelope_p_growth;  /* one-sided, per channel, unadjusted */
-    double *envelope_p_trend;   /* two-sided, per channel, unadjusted */
     double *level_rate;         /* standard deviations per time unit */
     double *level_z;
-    double *level_p_trend;      /* two-sided, per channel, unadjusted */
+    double *change_p;           /* per channel: smallest two-sided p of all its
+                                   contrasts, times their count (Bonferroni) */
+    int *change_direction;      /* per channel: sign of that test (+1 grows,
+                                   -1 decays, 0 the level moved) */
     struct el_regime_work *work;/* FFT plans and scratch */
 } el_regime;
 

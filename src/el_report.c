@@ -80,11 +80,15 @@ static void text_model(const el_assessment *r, el_buf *out)
                       c + 1 < s->n_channels ? "," : "");
     el_buf_printf(out, "\n\nOperating point\n");
     for (size_t c = 0; c < s->n_channels; c++) {
-        if (m->operating_point_ok)
-            el_buf_printf(out, "  %-20s %12.6g %s\n", s->names[c],
-                          m->operating_point[c], unit_of(s, c));
+        if (r->operating_point_ok)
+            el_buf_printf(out, "  %-20s %12.6g %s", s->names[c], r->operating_point[c],
+                          unit_of(s, c));
         else
-            el_buf_printf(out, "  %-20s %12s (I - Ad is singular)\n", s->names[c], "n/a");
+            el_buf_printf(out, "  %-20s %12s (I - Ad is singular)", s->names[c], "n/a");
+        if (r->detrend_slope[c] != 0.0)
+            el_buf_printf(out, "  (at the window centre; drift %.4g %s per time unit removed)",
+                          r->detrend_slope[c], unit_of(s, c));
+        el_buf_printf(out, "\n");
     }
     el_buf_printf(out, "\n");
 }
@@ -179,6 +183,33 @@ static void text_warnings(const el_assessment *r, el_buf *out)
     el_buf_printf(out, "\n");
 }
 
+static void text_checks(const el_assessment *r, el_buf *out)
+{
+    const el_regime *g = r->regime;
+    const el_validation *v = r->validation;
+    char a[32];
+    if (g != NULL) {
+        el_buf_printf(out, "Regime        %s", g->regime_name);
+        if (g->regime == EL_REGIME_TRANSIENT)
+            el_buf_printf(out, " (amplitude %s)", g->direction > 0 ? "grows"
+                                                 : g->direction < 0 ? "decays" : "level moves");
+        if (isfinite(g->trend_p))
+            el_buf_printf(out, "; p of no change %s", num(a, 32, g->trend_p));
+        el_buf_printf(out, "\n");
+    }
+    if (v != NULL) {
+        el_buf_printf(out, "Validation    free-run error");
+        for (size_t c = 0; c < v->n_channels; c++)
+            el_buf_printf(out, " %s %s%s", r->series.names[c], num(a, 32, v->free_nrmse[c]),
+                          c + 1 < v->n_channels ? "," : "");
+        el_buf_printf(out, " (x std)\n              residuals %s",
+                      !v->lb_tested ? "not tested for whiteness"
+                      : v->residuals_white ? "white (Ljung-Box)" : "correlated (Ljung-Box)");
+        el_buf_printf(out, "%s\n", v->free_diverges ? "; free run diverges" : "");
+    }
+    el_buf_printf(out, "\n");
+}
+
 /* Appends prefix + text, wrapped at 78 columns with a hanging indent. */
 static void text_wrapped(el_buf *out, const char *prefix, const char *text)
 {
@@ -212,6 +243,7 @@ el_status el_report_text(const el_assessment *r, const el_assess_options *opt,
     text_model(r, out);
     text_modes(r, out);
     text_verdict(r, out);
+    text_checks(r, out);
     text_warnings(r, out);
     text_wrapped(out, "Caution: ", el_assess_caution());
     return out->failed ? EL_ERR_NOMEM : EL_OK;
@@ -283,12 +315,8 @@ static void json_model(el_json *j, const el_assessment *r)
     el_json_object_end(j);
 
     el_json_array_begin(j, "operating_point");
-    for (size_t c = 0; c < m->n_channels; c++) {
-        if (m->operating_point_ok)
-            el_json_number(j, NULL, m->operating_point[c]);
-        else
-            el_json_null(j, NULL);
-    }
+    for (size_t c = 0; c < m->n_channels; c++)
+        el_json_number(j, NULL, r->operating_point_ok ? r->operating_point[c] : NAN);
     el_json_array_end(j);
 }
 
@@ -404,6 +432,81 @@ static void json_verdict(el_json *j, const el_assessment *r)
     el_json_object_end(j);
 }
 
+static void json_prep(el_json *j, const el_assessment *r, const el_assess_options *opt)
+{
+    size_t n = r->series.n_channels;
+    el_json_object_begin(j, "prep");
+    el_json_string(j, "detrend", el_prep_detrend_name(opt->detrend));
+    json_numbers(j, "level", r->detrend_level, n);
+    json_numbers(j, "slope", r->detrend_slope, n);
+    if (r->has_band) {
+        el_json_pair(j, "band", r->band.lo_hz, r->band.hi_hz);
+        el_json_number(j, "transition_hz", r->band.transition_hz);
+        el_json_number(j, "settle", r->band.settle);
+    } else {
+        el_json_null(j, "band");
+    }
+    el_json_object_end(j);
+}
+
+static void json_regime(el_json *j, const el_assessment *r)
+{
+    const el_regime *g = r->regime;
+    if (g == NULL) {
+        el_json_null(j, "regime");
+        return;
+    }
+    size_t n = g->n_channels;
+    el_json_object_begin(j, "regime");
+    el_json_string(j, "class", g->regime_name);
+    el_json_int(j, "direction", g->direction);
+    el_json_number(j, "trend_p", g->trend_p);
+    el_json_bool(j, "growth", g->growth);
+    el_json_number(j, "growth_factor", g->growth ? g->growth_factor : NAN);
+    el_json_number(j, "growth_p", g->growth_p);
+    if (g->growth)
+        el_json_string(j, "growth_channel", r->series.names[g->growth_channel]);
+    else
+        el_json_null(j, "growth_channel");
+    el_json_bool(j, "vetoed_stable", r->growth_veto);
+    el_json_int(j, "segments", (long long)g->segments);
+    json_numbers(j, "envelope_rate", g->envelope_rate, n);
+    json_numbers(j, "envelope_factor", g->envelope_factor, n);
+    json_numbers(j, "envelope_z", g->envelope_z, n);
+    json_numbers(j, "level_rate", g->level_rate, n);
+    json_numbers(j, "change_p", g->change_p, n);
+    el_json_object_end(j);
+}
+
+static void json_validation(el_json *j, const el_assessment *r)
+{
+    const el_validation *v = r->validation;
+    if (v == NULL) {
+        el_json_null(j, "validation");
+        return;
+    }
+    size_t n = v->n_channels;
+    el_json_object_begin(j, "validation");
+    json_numbers(j, "r2_one_step", v->r2_one_step, n);
+    json_numbers(j, "free_nrmse", v->free_nrmse, n);
+    el_json_bool(j, "free_diverges", v->free_diverges);
+    json_numbers(j, "residual_ratio", v->residual_ratio, n);
+    if (v->lb_tested) {
+        el_json_object_begin(j, "ljung_box");
+        el_json_int(j, "lags", (long long)v->lb_lags);
+        el_json_int(j, "params", (long long)v->lb_params);
+        el_json_int(j, "dof", (long long)v->lb_dof);
+        json_numbers(j, "q", v->ljung_box_q, n);
+        json_numbers(j, "p", v->ljung_box_p, n);
+        el_json_object_end(j);
+    } else {
+        el_json_null(j, "ljung_box");
+    }
+    el_json_bool(j, "residuals_white", v->residuals_white);
+    el_json_bool(j, "explains_little", v->explains_little);
+    el_json_object_end(j);
+}
+
 static void json_resampling(el_json *j, const el_assessment *r,
                             const el_assess_options *opt)
 {
@@ -437,6 +540,9 @@ el_status el_report_json(const el_assessment *r, const el_assess_options *opt,
     json_plane(&j, r);
     json_verdict(&j, r);
     json_resampling(&j, r, opt);
+    json_prep(&j, r, opt);
+    json_regime(&j, r);
+    json_validation(&j, r);
     el_json_object_end(&j);
     return el_json_finish(&j);
 }
