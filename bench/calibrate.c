@@ -70,6 +70,7 @@ typedef struct {
     size_t logs, boot, threads, block;
     el_resample_kind kind;
     const char *only;
+    int verbose;
 } cal_options;
 
 /* Result of one simulated log. */
@@ -279,6 +280,14 @@ static void one_log(const cal_case *c, size_t n_samples, size_t rep, const cal_o
     int truly_stable = tre < 0.0;
     out->confident = br.p_stable >= 0.95 || br.p_stable <= 0.05;
     out->confident_wrong = truly_stable ? br.p_stable <= 0.05 : br.p_stable >= 0.95;
+    if (out->confident_wrong && o->verbose) {
+        fprintf(stderr, "wrong: %s n %zu log %zu p_stable %.3f truth %.4f%+.4fi; modes:",
+                c->name, n_samples, rep, br.p_stable, tre, tim);
+        for (size_t qm = 0; qm < modes.n_modes; qm++)
+            fprintf(stderr, " %.4f%+.4fi [%.4f, %.4f]", modes.modes[qm].lambda_re,
+                    modes.modes[qm].lambda_im, br.bounds[qm].re.lo, br.bounds[qm].re.hi);
+        fprintf(stderr, "\n");
+    }
 done:
     el_boot_free(&br);
     el_modes_free(&modes);
@@ -316,11 +325,14 @@ static int parse_args(int argc, char **argv, cal_options *o)
     o->block = 0;
     o->kind = EL_RESAMPLE_BLOCKS;
     o->only = NULL;
+    o->verbose = 0;
     for (int i = 1; i < argc; i++) {
         const char *a = argv[i], *v = i + 1 < argc ? argv[i + 1] : NULL;
         if (strcmp(a, "--quick") == 0) {
             o->logs = 30;
             o->boot = 200;
+        } else if (strcmp(a, "--verbose") == 0) {
+            o->verbose = 1;
         } else if (strcmp(a, "--logs") == 0 && v) {
             o->logs = (size_t)strtoul(v, NULL, 10);
             i++;

@@ -7,14 +7,6 @@
 
 #include "el_json.h"
 
-static const char *method_name(el_method m)
-{
-    switch (m) {
-    case EL_METHOD_LS: return "ls";
-    }
-    return "unknown";
-}
-
 static const char *resample_name(el_resample_kind k)
 {
     return k == EL_RESAMPLE_MODEL ? "model" : "blocks";
@@ -301,7 +293,7 @@ static void json_model(el_json *j, const el_assessment *r)
 {
     const el_model *m = &r->model;
     el_json_object_begin(j, "model");
-    el_json_string(j, "method", method_name(m->method));
+    el_json_string(j, "method", el_method_name(m->method));
     el_json_int(j, "lags", (long long)m->lags);
     el_json_int(j, "rank", (long long)m->rank);
     el_json_bool(j, "rank_auto", m->rank_was_auto);
