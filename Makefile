@@ -102,6 +102,11 @@ bench: deps
 	@$(MAKE) --no-print-directory $(rel_BIN) $(rel_TOOLS)
 	@sh bench/run.sh
 
+# Monte Carlo coverage study of the bootstrap bounds (docs/uncertainty.md).
+calibrate: deps
+	@$(MAKE) --no-print-directory build/rel/bench/calibrate
+	./build/rel/bench/calibrate
+
 # Regenerates the numpy/scipy fixtures (needs Debian's python3-numpy and
 # python3-scipy; not part of make test). Each script writes its own file.
 fixtures:

@@ -18,9 +18,11 @@ static const cli_option OPTIONS[] = {
     {"max-gap", "N", "longest run of missing samples to fill (default 5)"},
     {"detrend", "none|mean|linear", "remove each channel's mean or straight-line drift first (default none)"},
     {"band", "LO:HI", "zero-phase band limit in Hz (per time unit) before the fit"},
-    {"lags", "K", "delay copies of every channel in the state (default 0)"},
+    {"input", "COL,..", "measured input columns: excitation, not state (z[k+1] = Ad z + B u + c)"},
+    {"lags", "K|auto", "delay copies of every channel in the state (default 0; auto: by BIC)"},
     {"rank", "R|auto|full", "DMD rank: a number, auto (optimal hard threshold) or full (default)"},
-    {"method", "ls", "estimator: ls = affine least squares / exact DMD (default)"},
+    {"method", "ls|fb|tls|iv|ssi", "estimator: least squares (default), forward-backward, total least squares, instrumental variables, subspace"},
+    {"depth", "N", "iv/ssi: block rows of past measurements (default lags + 1)"},
     {"boot", "N", "bootstrap replicates (default 1000; 0 turns bounds off)"},
     {"resample", "blocks|model", "bootstrap scheme (default blocks)"},
     {"block", "L|auto", "block length of the bootstrap (default auto)"},
@@ -93,7 +95,11 @@ static el_status parse_numbers(const cli_args *a, assess_cli *c, el_error *err)
     el_status st = EL_OK;
     if ((v = opt_value(a, "max-gap")) && (st = cli_size("max-gap", v, 0, 1000000, &o->max_gap, err)))
         return st;
-    if ((v = opt_value(a, "lags")) && (st = cli_size("lags", v, 0, 1000, &o->fit.lags, err)))
+    if ((v = opt_value(a, "lags")) && strcmp(v, "auto") == 0)
+        o->lags_auto = 1;
+    else if (v && (st = cli_size("lags", v, 0, 1000, &o->fit.lags, err)))
+        return st;
+    if ((v = opt_value(a, "depth")) && (st = cli_size("depth", v, 1, 10000, &o->fit.depth, err)))
         return st;
     if ((st = parse_rank(opt_value(a, "rank"), &o->fit.rank, err)))
         return st;
@@ -117,7 +123,6 @@ static el_status parse_numbers(const cli_args *a, assess_cli *c, el_error *err)
 
 static el_status parse_choices(const cli_args *a, assess_cli *c, el_error *err)
 {
-    static const char *const methods[] = {"ls"};
     static const char *const kinds[] = {"blocks", "model"};
     static const char *const fails[] = {"unstable", "ambiguous"};
     const char *v;
@@ -125,11 +130,8 @@ static el_status parse_choices(const cli_args *a, assess_cli *c, el_error *err)
     el_status st;
     if ((v = opt_value(a, "detrend")) && (st = el_prep_parse_detrend(v, &c->assess.detrend, err)))
         return st;
-    if ((v = opt_value(a, "method"))) {
-        if ((st = parse_choice("method", v, methods, 1, &choice, err)))
-            return st;
-        c->assess.fit.method = (el_method)choice;
-    }
+    if ((v = opt_value(a, "method")) && (st = el_method_parse(v, &c->assess.fit.method, err)))
+        return st;
     if ((v = opt_value(a, "resample"))) {
         if ((st = parse_choice("resample", v, kinds, 2, &choice, err)))
             return st;
@@ -159,6 +161,7 @@ static el_status parse_assess(const cli_args *a, assess_cli *c, el_error *err)
     c->assess.from_text = opt_value(a, "from");
     c->assess.to_text = opt_value(a, "to");
     c->assess.band_text = opt_value(a, "band");
+    c->assess.inputs = opt_value(a, "input");
     c->json_path = opt_value(a, "json");
     c->html_path = opt_value(a, "html");
     c->replicates_path = opt_value(a, "replicates");

@@ -38,23 +38,40 @@ static void list_columns(const el_table *table, char *buf, size_t size)
 }
 
 static el_status channel_error(el_error *err, const el_table *table,
-                               const char *fmt_name, const char *why)
+                               const char *option, const char *fmt_name,
+                               const char *why)
 {
     char names[EL_ERROR_TEXT_MAX - 32];
     list_columns(table, names, sizeof names);
-    el_error_set(err, EL_ERR_USAGE, "channel '%s' %s", fmt_name, why);
-    el_error_option(err, "--channels");
+    el_error_set(err, EL_ERR_USAGE, "column '%s' %s", fmt_name, why);
+    el_error_option(err, option);
     el_error_hint(err, "channels in this log: %s", names);
     return EL_ERR_USAGE;
+}
+
+static int listed(const size_t *set, size_t n, size_t c)
+{
+    for (size_t i = 0; i < n; i++)
+        if (set[i] == c)
+            return 1;
+    return 0;
 }
 
 el_status el_assess_select_channels(const el_table *table, const char *list,
                                     size_t *out, size_t *n_out, el_error *err)
 {
+    return el_assess_select_columns(table, list, "--channels", NULL, 0, out, n_out, err);
+}
+
+el_status el_assess_select_columns(const el_table *table, const char *list,
+                                   const char *option, const size_t *exclude,
+                                   size_t n_exclude, size_t *out, size_t *n_out,
+                                   el_error *err)
+{
     *n_out = 0;
     if (list == NULL || list[0] == '\0') {
         for (size_t c = 0; c < table->n_columns; c++)
-            if (c != table->time_column)
+            if (c != table->time_column && !listed(exclude, n_exclude, c))
                 out[(*n_out)++] = c;
         if (*n_out == 0) {
             el_error_set(err, EL_ERR_DATA, "the log has a time column only");
@@ -72,21 +89,23 @@ el_status el_assess_select_channels(const el_table *table, const char *list,
         snprintf(name, sizeof name, "%.*s", (int)(len < 255 ? len : 255), p);
         long idx = el_table_find(table, name);
         if (idx < 0)
-            return channel_error(err, table, name, "is not in the log");
+            return channel_error(err, table, option, name, "is not in the log");
         if ((size_t)idx == table->time_column)
-            return channel_error(err, table, name, "is the time column");
-        for (size_t i = 0; i < *n_out; i++)
-            if (out[i] == (size_t)idx)
-                return channel_error(err, table, name, "is listed twice");
+            return channel_error(err, table, option, name, "is the time column");
+        if (listed(out, *n_out, (size_t)idx))
+            return channel_error(err, table, option, name, "is listed twice");
+        if (listed(exclude, n_exclude, (size_t)idx))
+            return channel_error(err, table, option, name,
+                                 "is both a state channel and a measured input");
         if (*n_out >= table->n_columns)
-            return channel_error(err, table, name, "is one too many");
+            return channel_error(err, table, option, name, "is one too many");
         out[(*n_out)++] = (size_t)idx;
         p += len;
         if (*p == ',')
             p++;
     }
     if (*n_out == 0)
-        return channel_error(err, table, "", "list is empty");
+        return channel_error(err, table, option, "", "list is empty");
     return EL_OK;
 }
 
@@ -113,14 +132,27 @@ static el_status build_series(const el_assess_options *opt, el_assessment *r,
         el_error_hint(err, "give --from earlier than --to");
         return EL_ERR_USAGE;
     }
-    size_t *channels = malloc(r->table.n_columns * sizeof *channels);
+    size_t n_cols = r->table.n_columns;
+    size_t *channels = malloc(2 * n_cols * sizeof *channels);
     if (channels == NULL)
         return el_error_set(err, EL_ERR_NOMEM, "out of memory");
-    size_t n_channels = 0;
-    st = el_assess_select_channels(&r->table, opt->channels, channels, &n_channels, err);
+    size_t *inputs = channels + n_cols;
+    size_t n_channels = 0, n_inputs = 0;
+    st = EL_OK;
+    if (opt->inputs != NULL)
+        st = el_assess_select_columns(&r->table, opt->inputs, "--input", NULL, 0, inputs,
+                                      &n_inputs, err);
+    if (st == EL_OK)
+        st = el_assess_select_columns(&r->table, opt->channels, "--channels", inputs,
+                                      n_inputs, channels, &n_channels, err);
     if (st == EL_OK)
         st = el_series_build(&r->table, channels, n_channels, &tb, &r->series,
                              &r->input_warnings, err);
+    /* The inputs share the time column, hence the grid, of the channels. */
+    if (st == EL_OK && n_inputs > 0) {
+        st = el_series_build(&r->table, inputs, n_inputs, &tb, &r->inputs, NULL, err);
+        r->has_inputs = st == EL_OK;
+    }
     free(channels);
     return st;
 }
@@ -176,6 +208,10 @@ static el_status prepare(const el_assess_options *opt, el_assessment *r,
         return el_error_set(err, EL_ERR_NOMEM, "out of memory");
     el_status st = el_prep_detrend(&r->series, opt->detrend, r->detrend_level,
                                    r->detrend_slope, err);
+    /* Inputs get the same detrend so a drift in an input is not read as
+     * the system's response to it; their removed levels are not needed. */
+    if (st == EL_OK && r->has_inputs)
+        st = el_prep_detrend(&r->inputs, opt->detrend, NULL, NULL, err);
     if (st != EL_OK || opt->band_text == NULL)
         return st;
     double lo = 0, hi = 0;
@@ -186,6 +222,10 @@ static el_status prepare(const el_assess_options *opt, el_assessment *r,
                                       &r->input_warnings, err);
     if (st == EL_OK)
         st = el_prep_band_apply(plan, &r->series, err);
+    /* The same band on the inputs: a model relating a filtered output to an
+     * unfiltered input would attribute the filter to the system. */
+    if (st == EL_OK && r->has_inputs)
+        st = el_prep_band_apply(plan, &r->inputs, err);
     if (st == EL_OK) {
         r->band = el_prep_band_plan_band(plan);
         r->has_band = 1;
@@ -199,8 +239,7 @@ static el_status detect_regime(const el_assess_options *opt, el_assessment *r,
 {
     el_regime_options ro;
     el_regime_defaults(&ro);
-    ro.driven = 0;
-    (void)opt;
+    ro.driven = opt->inputs != NULL;
     el_status st = el_regime_create(r->series.n_samples, r->series.n_channels,
                                     &r->regime, err);
     if (st == EL_OK)
@@ -241,6 +280,8 @@ static el_status validate(el_assessment *r, el_error *err)
     el_status st = el_validation_create(r->series.n_channels, r->model.lags,
                                         r->series.n_samples, &r->validation, err);
     if (st == EL_OK)
+        el_validation_set_inputs(r->validation, r->has_inputs ? &r->inputs : NULL);
+    if (st == EL_OK)
         st = el_validation_run(r->validation, &r->model, &r->series,
                                &r->verdict.stability, &r->warnings, err);
     return st;
@@ -254,8 +295,17 @@ el_status el_assess_run(const el_assess_options *opt, el_assessment *r,
         st = prepare(opt, r, err);
     if (st == EL_OK)
         st = detect_regime(opt, r, err);
+    el_fit_options fit = opt->fit;
+    fit.inputs = r->has_inputs ? &r->inputs : NULL;
+    if (st == EL_OK && opt->lags_auto) {
+        st = el_lags_auto(&r->series, fit.inputs, 0, &r->lags_choice, err);
+        if (st == EL_OK) {
+            r->lags_were_auto = 1;
+            fit.lags = r->lags_choice.lags;
+        }
+    }
     if (st == EL_OK)
-        st = el_fit(&r->series, &opt->fit, &r->model, &r->warnings, err);
+        st = el_fit(&r->series, &fit, &r->model, &r->warnings, err);
     if (st == EL_OK)
         operating_point(r);
     if (st == EL_OK)
@@ -265,7 +315,7 @@ el_status el_assess_run(const el_assess_options *opt, el_assessment *r,
     if (st == EL_OK)
         st = crosscheck_spectra(r, err);
     if (st == EL_OK && opt->boot.replicates > 0)
-        st = el_boot_run(&r->series, &opt->fit, &r->model, &r->modes, &opt->boot,
+        st = el_boot_run(&r->series, &fit, &r->model, &r->modes, &opt->boot,
                          &r->boot, &r->warnings, err);
     if (st == EL_OK)
         st = el_verdict_compute(&r->modes, &r->model,
@@ -288,6 +338,7 @@ void el_assessment_free(el_assessment *r)
         return;
     el_table_free(&r->table);
     el_series_free(&r->series);
+    el_series_free(&r->inputs);
     el_model_free(&r->model);
     el_modes_free(&r->modes);
     el_boot_free(&r->boot);

@@ -7,6 +7,7 @@
 #include <stddef.h>
 
 #include "el_error.h"
+#include "el_estimators.h"
 #include "el_fit.h"
 #include "el_ingest.h"
 #include "el_modes.h"
@@ -21,7 +22,9 @@
 typedef struct {
     const char *path;             /* CSV file, "-" = stdin */
     const char *time_column;      /* NULL = first column */
-    const char *channels;         /* comma-separated names; NULL = all but time */
+    const char *channels;         /* comma-separated names; NULL = all but time and inputs */
+    const char *inputs;           /* --input: comma-separated measured input columns, NULL = none */
+    int lags_auto;                /* 1: --lags auto (BIC), fit.lags is then chosen */
     const char *from_text;        /* window start as written (number or ISO), NULL = open */
     const char *to_text;
     size_t max_gap;               /* default 5 */
@@ -39,6 +42,10 @@ void el_assess_defaults(el_assess_options *opt);
 typedef struct {
     el_table table;
     el_series series;
+    el_series inputs;             /* measured inputs on the same grid (has_inputs) */
+    int has_inputs;
+    int lags_were_auto;           /* 1: lags_choice says how --lags auto chose */
+    el_lags_choice lags_choice;
     el_model model;
     el_modes modes;
     el_boot_result boot;          /* boot.replicates == 0 when not run */
@@ -68,6 +75,14 @@ typedef struct {
  * column name. */
 el_status el_assess_select_channels(const el_table *table, const char *list,
                                     size_t *out, size_t *n_out, el_error *err);
+
+/* As el_assess_select_channels for a list given with option (e.g.
+ * "--input"); the default (NULL or "") selects every column but the time
+ * column and the exclude[0..n_exclude) columns. */
+el_status el_assess_select_columns(const el_table *table, const char *list,
+                                   const char *option, const size_t *exclude,
+                                   size_t n_exclude, size_t *out, size_t *n_out,
+                                   el_error *err);
 
 /* The first two stages only: reads the log and builds the uniform series
  * of the chosen channels over the window (result->table, result->series,

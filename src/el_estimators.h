@@ -10,8 +10,9 @@
  *     centred snapshot matrix X (el_fit); iv and ssi take the leading left
  *     singular vectors of the cross-covariance of the state z[k] with the
  *     past measurements pi[k] = [x[k-K-1]; ...; x[k-K-depth]] weighted by
- *     Cov(pi)^-1/2, with r from Bartlett's test of the canonical
- *     correlations (el_est_instrument_basis);
+ *     Cov(pi)^-1/2, with r from a sequential test of the canonical
+ *     correlations (el_est_instrument_basis; fb and tls use the same test
+ *     for --rank auto);
  *  2. the r x r system matrix from the reduced state sequence
  *     w[t] = T U_r' (z[K+t] - mean(X)), t = 0..n_pairs, through the
  *     statistics provider of the method: per-window feature vectors
@@ -139,8 +140,10 @@ typedef struct el_est_plan el_est_plan;
  * iv or ssi) needs for series of n_samples x n_channels with n_inputs
  * inputs, so that the two steps below allocate nothing. Checks the depth
  * and, for iv and ssi, that there are at least 2 (state_dim + 1)
- * instrument windows and rows (EL_ERR_DATA, hint: longer window or fewer
- * lags) and that depth leaves room (EL_ERR_USAGE, option "--depth").
+ * instrument windows and 2 (state_dim + past dimension + 1) rows
+ * (EL_ERR_DATA, hint: longer window or fewer lags) and that depth leaves
+ * room (EL_ERR_USAGE, option "--depth"); fb and tls with --rank auto get
+ * step 1 when the record is long enough for it.
  * *out is NULL on error. EL_ERR_NOMEM. */
 el_status el_est_plan_create(const el_fit_options *opt, size_t n_samples,
                              size_t n_channels, size_t n_inputs,
@@ -151,9 +154,11 @@ void el_est_plan_destroy(el_est_plan *plan);
 
 /* Step 1 for iv and ssi: the canonical correlations of z[k] with the past
  * pi[k] over k = K+depth .. N-1 (centred), the rank (rank_opt > 0: as
- * given, capped at the numerical rank; otherwise Bartlett's (1938)
- * sequential test at level 0.001 with the Wilson-Hilferty (1931)
- * chi-square quantile) and the basis into model->basis, model->rank,
+ * given, capped at the numerical rank; otherwise the sequential test of
+ * s1_from_gram in el_estimators.c: Bartlett's (1938) statistic with the
+ * Wilson-Hilferty (1931) chi-square quantile, or a largest-root bound,
+ * each at level 0.001, on an effective number of rows corrected for the
+ * overlap of lagged states) and the basis into model->basis, model->rank,
  * model->rank_was_auto, model->canonical_corr, model->n_canonical,
  * model->depth. model->channel_mean/scale must be set. Warns when the rank
  * is lowered below the state dimension or a given rank exceeds what the
@@ -162,6 +167,17 @@ void el_est_plan_destroy(el_est_plan *plan);
 el_status el_est_instrument_basis(el_est_plan *plan, const el_series *series,
                                   long rank_opt, el_model *model,
                                   el_warnings *warnings, el_error *err);
+
+/* --rank auto for fb and tls: the rank of step 1's test (the number of
+ * state directions the past measurements predict), because the hard
+ * threshold reads the median singular value as noise and undercounts when
+ * most directions carry signal. *rank = 0 when the plan has no step 1 (the
+ * record is too short for it, or the rank is not auto): the caller falls
+ * back to the hard threshold. Fills model->canonical_corr, n_canonical and
+ * depth; overwrites model->basis (scratch). Errors as
+ * el_est_instrument_basis. */
+el_status el_est_predictable_rank(el_est_plan *plan, const el_series *series,
+                                  el_model *model, size_t *rank, el_error *err);
 
 /* Step 2 for fb, tls, iv and ssi: from model->basis and model->rank (and
  * the channel and input scaling in model), the reduced states, the window

@@ -1,6 +1,9 @@
-/* el_fit: affine least-squares / exact DMD fit of z[k+1] = Ad z[k] + c with
- * SVD rank truncation, the fixed point and one-step fit statistics. */
+/* el_fit: affine least-squares / exact DMD fit of z[k+1] = Ad z[k] + B u[k]
+ * + c with SVD rank truncation (and the other estimators through
+ * el_estimators), the fixed point and one-step fit statistics. */
 #include "el_fit.h"
+
+#include "el_estimators.h"
 
 #include <cblas.h>
 #include <float.h>
@@ -21,9 +24,18 @@
 #define EL_FIT_PAIRS_PER_PARAM_WARN 10
 
 struct el_fit_plan {
-    size_t n_samples, n_channels, lags, state_dim, n_pairs;
+    size_t n_samples, n_channels, lags, state_dim, n_pairs, n_inputs;
     long rank_opt;
     el_method method;
+    const el_series *inputs;   /* from the options (el_fit_plan_execute) */
+    el_est_plan *est;          /* fb, tls, iv, ssi */
+    double *uc;        /* n_pairs x n_inputs: centred scaled inputs u[k], k = K..N-2 */
+    double *umean;     /* n_inputs: their means over the pairs */
+    double *uperp;     /* n_pairs x n_inputs: uc minus its part in span(V_r) (ls) */
+    double *ybuf;      /* n_pairs x d: right-hand sides of the input regression (ls) */
+    double *bred;      /* d x n_inputs: B in basis coordinates (iv) */
+    double *gels_work;
+    lapack_int gels_lwork;
     double *xt;        /* n_pairs x d: centred scaled X', destroyed by the SVD */
     double *ytc;       /* n_pairs x d: centred scaled Y' */
     double *svd_u;     /* n_pairs x d: left singular vectors of X' = V of X */
@@ -46,6 +58,28 @@ void el_fit_defaults(el_fit_options *opt)
     opt->lags = 0;
     opt->rank = EL_RANK_FULL;
     opt->method = EL_METHOD_LS;
+    opt->depth = 0;
+    opt->inputs = NULL;
+}
+
+static const char *const method_names[EL_METHOD_COUNT] = {"ls", "fb", "tls", "iv", "ssi"};
+
+const char *el_method_name(el_method m)
+{
+    return (unsigned)m < EL_METHOD_COUNT ? method_names[m] : "?";
+}
+
+el_status el_method_parse(const char *text, el_method *m, el_error *err)
+{
+    for (unsigned i = 0; text != NULL && i < EL_METHOD_COUNT; i++)
+        if (strcmp(text, method_names[i]) == 0) {
+            *m = (el_method)i;
+            return EL_OK;
+        }
+    el_error_set(err, EL_ERR_USAGE, "unknown method '%s'", text != NULL ? text : "");
+    el_error_option(err, "--method");
+    el_error_hint(err, "use one of ls, fb, tls, iv, ssi");
+    return EL_ERR_USAGE;
 }
 
 double el_fit_hard_threshold_omega(double beta)
@@ -78,11 +112,30 @@ size_t el_fit_hard_threshold_rank(const double *sv, size_t n, size_t rows,
 static el_status check_options(size_t n_samples, size_t n_channels,
                                const el_fit_options *opt, el_error *err)
 {
-    if (opt->method != EL_METHOD_LS) {
+    if ((unsigned)opt->method >= EL_METHOD_COUNT) {
         el_error_set(err, EL_ERR_USAGE, "unknown fit method %d", (int)opt->method);
         el_error_option(err, "--method");
-        el_error_hint(err, "use --method ls");
+        el_error_hint(err, "use one of ls, fb, tls, iv, ssi");
         return EL_ERR_USAGE;
+    }
+    if (opt->inputs != NULL) {
+        const el_series *u = opt->inputs;
+        if (u->n_channels == 0 || u->values == NULL || u->n_samples != n_samples) {
+            el_error_set(err, EL_ERR_USAGE,
+                         "the inputs (%zu samples, %zu channels) do not match the "
+                         "series (%zu samples)", u->n_samples, u->n_channels, n_samples);
+            el_error_option(err, "--input");
+            el_error_hint(err, "take the inputs from the same log and window");
+            return EL_ERR_USAGE;
+        }
+        if (opt->method != EL_METHOD_LS && opt->method != EL_METHOD_IV) {
+            el_error_set(err, EL_ERR_USAGE, "--method %s does not take measured inputs",
+                         el_method_name(opt->method));
+            el_error_option(err, "--input");
+            el_error_hint(err, "use --method ls (DMD with control) or --method iv with "
+                               "--input, or leave --input out");
+            return EL_ERR_USAGE;
+        }
     }
     if (n_channels == 0) {
         return el_error_set(err, EL_ERR_INTERNAL, "el_fit: a series with no channel");
@@ -94,6 +147,7 @@ static el_status check_options(size_t n_samples, size_t n_channels,
         return EL_ERR_USAGE;
     }
     size_t d = n_channels * (opt->lags + 1);
+    size_t nu = opt->inputs != NULL ? opt->inputs->n_channels : 0;
     if (opt->rank < EL_RANK_AUTO) {
         el_error_set(err, EL_ERR_USAGE, "rank %ld is not valid", opt->rank);
         el_error_option(err, "--rank");
@@ -113,12 +167,12 @@ static el_status check_options(size_t n_samples, size_t n_channels,
     }
     /* Pairs k = K..N-2 exist only when N >= K + 2. */
     size_t pairs = n_samples >= opt->lags + 2 ? n_samples - opt->lags - 1 : 0;
-    if (pairs < 2 * (d + 1)) {
+    if (pairs < 2 * (d + nu + 1)) {
         el_error_set(err, EL_ERR_DATA,
                      "%zu snapshot pair%s for a state of dimension %zu: at "
                      "least %zu are needed (twice the %zu coefficients of "
-                     "each row of [Ad c])",
-                     pairs, pairs == 1 ? "" : "s", d, 2 * (d + 1), d + 1);
+                     "each row of [Ad B c])",
+                     pairs, pairs == 1 ? "" : "s", d, 2 * (d + nu + 1), d + nu + 1);
         el_error_hint(err, "use a longer window (--from/--to) or fewer lags "
                            "(--lags) or fewer channels (--channels)");
         return EL_ERR_DATA;
@@ -179,7 +233,28 @@ void el_fit_plan_destroy(el_fit_plan *plan)
     free(plan->ipiv);
     free(plan->iwork);
     free(plan->work);
+    free(plan->uc);
+    free(plan->umean);
+    free(plan->uperp);
+    free(plan->ybuf);
+    free(plan->bred);
+    free(plan->gels_work);
+    el_est_plan_destroy(plan->est);
     free(plan);
+}
+
+/* Workspace of dgels for the input regression (ls with inputs). */
+static el_status query_gels_work(lapack_int p, lapack_int nu, lapack_int d,
+                                 lapack_int *lwork, el_error *err)
+{
+    double q = 0.0, dummy = 0.0;
+    lapack_int info = LAPACKE_dgels_work(LAPACK_COL_MAJOR, 'N', p, nu, d, &dummy, p,
+                                         &dummy, p, &q, -1);
+    if (info != 0)
+        return el_error_set(err, EL_ERR_INTERNAL,
+                            "dgels workspace query failed (info %d)", (int)info);
+    *lwork = (lapack_int)ceil(q) + 1;
+    return EL_OK;
 }
 
 el_status el_fit_plan_create(size_t n_samples, size_t n_channels,
@@ -199,14 +274,28 @@ el_status el_fit_plan_create(size_t n_samples, size_t n_channels,
         return st;
     size_t d = n_channels * (opt->lags + 1);
     size_t p = n_samples - opt->lags - 1;
-    lapack_int lwork = 0;
+    size_t nu = opt->inputs != NULL ? opt->inputs->n_channels : 0;
+    lapack_int lwork = 0, gels_lwork = 0;
     st = query_svd_work((lapack_int)p, (lapack_int)d, &lwork, err);
+    if (st == EL_OK && nu > 0 && opt->method == EL_METHOD_LS)
+        st = query_gels_work((lapack_int)p, (lapack_int)nu, (lapack_int)d, &gels_lwork,
+                             err);
     if (st != EL_OK)
+        return st;
+    el_est_plan *est = NULL;
+    if (opt->method != EL_METHOD_LS &&
+        (st = el_est_plan_create(opt, n_samples, n_channels, nu, &est, err)) != EL_OK)
         return st;
 
     el_fit_plan *plan = calloc(1, sizeof *plan);
-    if (plan == NULL)
+    if (plan == NULL) {
+        el_est_plan_destroy(est);
         return el_error_set(err, EL_ERR_NOMEM, "out of memory");
+    }
+    plan->est = est;
+    plan->n_inputs = nu;
+    plan->inputs = opt->inputs;
+    plan->gels_lwork = gels_lwork;
     plan->n_samples = n_samples;
     plan->n_channels = n_channels;
     plan->lags = opt->lags;
@@ -229,7 +318,20 @@ el_status el_fit_plan_create(size_t n_samples, size_t n_channels,
     plan->ipiv = malloc(d * sizeof(lapack_int));
     plan->iwork = malloc(8 * d * sizeof(lapack_int));
     plan->work = malloc((size_t)lwork * sizeof(double));
-    if (!plan->xt || !plan->ytc || !plan->svd_u || !plan->svd_vt || !plan->yv ||
+    int ok = 1;
+    if (nu > 0) {
+        plan->uc = malloc(p * nu * sizeof(double));
+        plan->umean = malloc(nu * sizeof(double));
+        plan->bred = malloc(d * nu * sizeof(double));
+        ok = plan->uc && plan->umean && plan->bred;
+        if (opt->method == EL_METHOD_LS) {
+            plan->uperp = malloc(p * nu * sizeof(double));
+            plan->ybuf = malloc(p * d * sizeof(double));
+            plan->gels_work = malloc((size_t)gels_lwork * sizeof(double));
+            ok = ok && plan->uperp && plan->ybuf && plan->gels_work;
+        }
+    }
+    if (!ok || !plan->xt || !plan->ytc || !plan->svd_u || !plan->svd_vt || !plan->yv ||
         !plan->resid || !plan->xmean || !plan->ymean || !plan->lu || !plan->rhs ||
         !plan->con_work || !plan->ipiv || !plan->iwork || !plan->work) {
         el_fit_plan_destroy(plan);
@@ -259,16 +361,21 @@ void el_model_free(el_model *model)
     free(model->operating_point);
     free(model->channel_r2);
     free(model->residual_rms);
+    free(model->canonical_corr);
+    free(model->input_mean);
+    free(model->input_scale);
+    free(model->input_b_scaled);
+    free(model->input_b);
     memset(model, 0, sizeof *model);
 }
 
 /* Allocates every array for rank up to d, or checks that an earlier fill
  * left arrays of the right size. */
-static el_status model_storage(el_model *m, size_t n_channels, size_t d,
+static el_status model_storage(el_model *m, size_t n_channels, size_t d, size_t nu,
                                el_error *err)
 {
     if (m->channel_mean != NULL) {
-        if (m->n_channels == n_channels && m->state_dim == d)
+        if (m->n_channels == n_channels && m->state_dim == d && m->n_inputs == nu)
             return EL_OK;
         return el_error_set(err, EL_ERR_INTERNAL,
                             "el_fit: the model holds a fit of another size; "
@@ -288,14 +395,25 @@ static el_status model_storage(el_model *m, size_t n_channels, size_t d,
     m->operating_point = calloc(d, sizeof(double));
     m->channel_r2 = calloc(n_channels, sizeof(double));
     m->residual_rms = calloc(n_channels, sizeof(double));
-    if (!m->channel_mean || !m->channel_scale || !m->singular_values || !m->basis ||
-        !m->a_reduced || !m->lift || !m->ad_scaled || !m->offset_scaled || !m->ad ||
-        !m->offset || !m->operating_point || !m->channel_r2 || !m->residual_rms) {
+    m->canonical_corr = calloc(d, sizeof(double));
+    int ok = 1;
+    if (nu > 0) {
+        m->input_mean = calloc(nu, sizeof(double));
+        m->input_scale = calloc(nu, sizeof(double));
+        m->input_b_scaled = calloc(d * nu, sizeof(double));
+        m->input_b = calloc(d * nu, sizeof(double));
+        ok = m->input_mean && m->input_scale && m->input_b_scaled && m->input_b;
+    }
+    if (!ok || !m->channel_mean || !m->channel_scale || !m->singular_values ||
+        !m->basis || !m->a_reduced || !m->lift || !m->ad_scaled || !m->offset_scaled ||
+        !m->ad || !m->offset || !m->operating_point || !m->channel_r2 ||
+        !m->residual_rms || !m->canonical_corr) {
         el_model_free(m);
         return el_error_set(err, EL_ERR_NOMEM, "out of memory for the model");
     }
     m->n_channels = n_channels;
     m->state_dim = d;
+    m->n_inputs = nu;
     return EL_OK;
 }
 
@@ -304,7 +422,8 @@ static el_status model_storage(el_model *m, size_t n_channels, size_t d,
 /* Mean and population standard deviation of every channel (two passes:
  * the one-pass formula loses digits when the mean dwarfs the spread, which
  * is the usual case for a sensor sitting at its operating point). */
-static el_status channel_scaling(const el_series *s, el_model *m, el_error *err)
+static el_status series_scaling(const el_series *s, double *mean_out,
+                                double *scale_out, const char *kind, el_error *err)
 {
     size_t n = s->n_samples;
     for (size_t c = 0; c < s->n_channels; c++) {
@@ -320,8 +439,8 @@ static el_status channel_scaling(const el_series *s, el_model *m, el_error *err)
         const char *name = s->names != NULL && s->names[c] != NULL ? s->names[c] : "?";
         if (!isfinite(mean) || !isfinite(sd)) {
             el_error_set(err, EL_ERR_DATA,
-                         "channel '%s' has values that are not finite or too "
-                         "large to fit (its mean or spread overflows)", name);
+                         "%s '%s' has values that are not finite or too "
+                         "large to fit (its mean or spread overflows)", kind, name);
             el_error_hint(err, "rescale the channel, or leave it out with --channels");
             return EL_ERR_DATA;
         }
@@ -330,16 +449,21 @@ static el_status channel_scaling(const el_series *s, el_model *m, el_error *err)
          * per value, grown by summation), so it carries no dynamics. */
         if (sd == 0.0 || sd <= 1e-12 * fabs(mean)) {
             el_error_set(err, EL_ERR_DATA,
-                         "channel '%s' is constant over the window "
-                         "(value %.9g): it has no dynamics to fit", name, mean);
+                         "%s '%s' is constant over the window "
+                         "(value %.9g): it has no dynamics to fit", kind, name, mean);
             el_error_hint(err, "leave it out with --channels, or choose a "
                                "window where it moves");
             return EL_ERR_DATA;
         }
-        m->channel_mean[c] = mean;
-        m->channel_scale[c] = sd;
+        mean_out[c] = mean;
+        scale_out[c] = sd;
     }
     return EL_OK;
+}
+
+static el_status channel_scaling(const el_series *s, el_model *m, el_error *err)
+{
+    return series_scaling(s, m->channel_mean, m->channel_scale, "channel", err);
 }
 
 /* Fills plan->xt and plan->ytc with the centred, scaled X' and Y' (pairs
@@ -492,20 +616,222 @@ static void exact_dmd(el_fit_plan *plan, el_model *m)
                 plan->xmean, 1, 1.0, m->offset_scaled, 1);
 }
 
-/* Physical units: z = m + D s with D = diag(scale) per lag block, so
- * Ad = D Ad_s D^-1 and c = D c_s + (I - Ad) m. */
+
+/* Scaled inputs over the pairs (u[k], k = K..N-2, the sample of X),
+ * centred by their means; model->input_mean/scale set first. */
+static void build_input_snapshots(el_fit_plan *plan, const el_series *u,
+                                  const el_model *m)
+{
+    size_t n = plan->n_samples, p = plan->n_pairs;
+    for (size_t j = 0; j < plan->n_inputs; j++) {
+        const double *x = u->values + j * n;
+        double mean = m->input_mean[j], inv = 1.0 / m->input_scale[j];
+        double *col = plan->uc + j * p, acc = 0.0;
+        for (size_t q = 0; q < p; q++) {
+            col[q] = (x[plan->lags + q] - mean) * inv;
+            acc += col[q];
+        }
+        acc /= (double)p;
+        for (size_t q = 0; q < p; q++)
+            col[q] -= acc;
+        plan->umean[j] = acc;
+    }
+}
+
+/* DMD with control (Proctor, Brunton & Kutz 2016) on the exact-DMD basis:
+ * Y' = V_r G1 + Uc B_s' + residual, solved as two orthogonal steps (V_r is
+ * orthonormal): B_s' = Uperp^+ Y' with Uperp = Uc - V_r V_r' Uc (Householder
+ * QR, dgels), then G1 = V_r' (Y' - Uc B_s'); lift = G1' S_r^-1. Without
+ * truncation this is the least-squares [Ad B] of Y on [X; U]. */
+static el_status exact_dmd_inputs(el_fit_plan *plan, el_model *m, el_error *err)
+{
+    int p = (int)plan->n_pairs, d = (int)plan->state_dim, r = (int)m->rank;
+    int nu = (int)plan->n_inputs;
+    /* uperp = uc - V_r (V_r' uc); bred (r x nu) holds V_r' uc for now. */
+    memcpy(plan->uperp, plan->uc, (size_t)p * (size_t)nu * sizeof(double));
+    cblas_dgemm(CblasColMajor, CblasTrans, CblasNoTrans, r, nu, p, 1.0, plan->svd_u, p,
+                plan->uc, p, 0.0, plan->bred, r);
+    cblas_dgemm(CblasColMajor, CblasNoTrans, CblasNoTrans, p, nu, r, -1.0, plan->svd_u,
+                p, plan->bred, r, 1.0, plan->uperp, p);
+    memcpy(plan->ybuf, plan->ytc, (size_t)p * (size_t)d * sizeof(double));
+    lapack_int info = LAPACKE_dgels_work(LAPACK_COL_MAJOR, 'N', p, nu, d, plan->uperp, p,
+                                         plan->ybuf, p, plan->gels_work,
+                                         plan->gels_lwork);
+    int collinear = info > 0;
+    /* R of the QR of Uperp sits in its upper triangle: a diagonal at
+     * 1e-10 of the input's own spread means that input is (nearly) a
+     * combination of the state and the other inputs. */
+    for (int j = 0; j < nu && !collinear; j++) {
+        double ref = cblas_dnrm2(p, plan->uc + (size_t)p * j, 1);
+        if (!(fabs(plan->uperp[j + (size_t)p * j]) > 1e-10 * ref))
+            collinear = 1;
+    }
+    if (info < 0)
+        return el_error_set(err, EL_ERR_INTERNAL, "dgels called wrongly (info %d)",
+                            (int)info);
+    if (collinear) {
+        el_error_set(err, EL_ERR_DATA,
+                     "an input is (nearly) a linear combination of the state channels "
+                     "and the other inputs over the window: its effect B cannot be "
+                     "told apart from the dynamics");
+        el_error_option(err, "--input");
+        el_error_hint(err, "leave that input out, or do not list a state channel as "
+                           "an input");
+        return EL_ERR_DATA;
+    }
+    /* ybuf rows 0..nu-1 hold B_s' (nu x d). */
+    for (int j = 0; j < nu; j++)
+        for (int i = 0; i < d; i++)
+            m->input_b_scaled[i + (size_t)d * j] = plan->ybuf[j + (size_t)p * i];
+    /* Y' - Uc B_s' into ybuf, then yv = (Y - B_s Uc) V_r. */
+    memcpy(plan->ybuf, plan->ytc, (size_t)p * (size_t)d * sizeof(double));
+    cblas_dgemm(CblasColMajor, CblasNoTrans, CblasTrans, p, d, nu, -1.0, plan->uc, p,
+                m->input_b_scaled, d, 1.0, plan->ybuf, p);
+    cblas_dgemm(CblasColMajor, CblasTrans, CblasNoTrans, d, r, p, 1.0, plan->ybuf, p,
+                plan->svd_u, p, 0.0, plan->yv, d);
+    for (int q = 0; q < r; q++) {
+        double inv = 1.0 / m->singular_values[q];
+        for (int i = 0; i < d; i++) {
+            m->lift[i + (size_t)d * q] = plan->yv[i + (size_t)d * q] * inv;
+            m->basis[i + (size_t)d * q] = plan->svd_vt[q + (size_t)d * i];
+        }
+    }
+    cblas_dgemm(CblasColMajor, CblasTrans, CblasNoTrans, r, r, d, 1.0, m->basis, d,
+                m->lift, d, 0.0, m->a_reduced, r);
+    cblas_dgemm(CblasColMajor, CblasNoTrans, CblasTrans, d, d, r, 1.0, m->lift, d,
+                m->basis, d, 0.0, m->ad_scaled, d);
+    memcpy(m->offset_scaled, plan->ymean, (size_t)d * sizeof(double));
+    cblas_dgemv(CblasColMajor, CblasNoTrans, d, d, -1.0, m->ad_scaled, d, plan->xmean, 1,
+                1.0, m->offset_scaled, 1);
+    cblas_dgemv(CblasColMajor, CblasNoTrans, d, nu, -1.0, m->input_b_scaled, d,
+                plan->umean, 1, 1.0, m->offset_scaled, 1);
+    return EL_OK;
+}
+
+/* The basis of the SVD of X (fb, tls use it as ls does). */
+static void svd_basis(el_fit_plan *plan, el_model *m)
+{
+    size_t d = plan->state_dim;
+    for (size_t q = 0; q < m->rank; q++)
+        for (size_t i = 0; i < d; i++)
+            m->basis[i + d * q] = plan->svd_vt[q + d * i];
+}
+
+/* fb and tls fit every kept direction as dynamics: a direction holding
+ * only sensor noise gets an arbitrary eigenvalue (the backward model of
+ * noise is not invertible, total least squares of noise has no preferred
+ * fit), so say so when the optimal hard threshold keeps fewer. */
+static el_status warn_noise_directions(el_fit_plan *plan, el_model *m, el_warnings *w,
+                                       el_error *err)
+{
+    if (plan->rank_opt != EL_RANK_FULL ||
+        (plan->method != EL_METHOD_FB && plan->method != EL_METHOD_TLS))
+        return EL_OK;
+    size_t r_gd = el_fit_hard_threshold_rank(m->singular_values, plan->state_dim,
+                                             plan->state_dim, plan->n_pairs);
+    if (r_gd >= m->rank)
+        return EL_OK;
+    el_status st = el_warnings_add(
+        w,
+        "%s at full rank %zu: only %zu singular values of the snapshots stand above "
+        "the optimal hard threshold (Gavish & Donoho 2014); directions that hold "
+        "only noise get arbitrary eigenvalues with this estimator: use --rank auto "
+        "or --rank %zu",
+        el_method_name(plan->method), m->rank, r_gd, r_gd);
+    if (st != EL_OK)
+        return el_error_set(err, st, "out of memory for a warning");
+    return EL_OK;
+}
+
+/* --rank auto for fb and tls: the number of state directions the past
+ * measurements predict (the instrument step's test), capped at the
+ * numerical rank of X; the hard threshold when the record is too short
+ * for the test. */
+static el_status predictable_rank(el_fit_plan *plan, const el_series *series,
+                                  el_model *m, el_warnings *w, el_error *err)
+{
+    size_t r = 0, d = plan->state_dim;
+    el_status st = el_est_predictable_rank(plan->est, series, m, &r, err);
+    if (st != EL_OK)
+        return st;
+    if (r == 0)
+        return choose_rank(plan, m, w, err);
+    const double *sv = m->singular_values;
+    double cut = (double)(plan->n_pairs > d ? plan->n_pairs : d) * DBL_EPSILON * sv[0];
+    size_t r_num = 0;
+    while (r_num < d && sv[r_num] > cut)
+        r_num++;
+    if (r > r_num)
+        r = r_num;
+    if (r == 0) {
+        el_error_set(err, EL_ERR_DATA, "the snapshots do not vary: nothing to fit");
+        el_error_hint(err, "choose a window where the channels move");
+        return EL_ERR_DATA;
+    }
+    m->rank = r;
+    m->rank_was_auto = 1;
+    if (r < d) {
+        st = el_warnings_add(
+            w,
+            "%s: rank %zu of %zu, the number of state directions the past measurements "
+            "predict (canonical correlations %.3g down to %.3g, tested at 0.1%%); "
+            "the other directions are treated as noise",
+            el_method_name(plan->method), r, d, m->canonical_corr[0],
+            m->canonical_corr[r - 1]);
+        if (st != EL_OK)
+            return el_error_set(err, st, "out of memory for a warning");
+    }
+    return EL_OK;
+}
+
+/* The full-state model of a reduced one (fb, tls, iv, ssi): projected
+ * modes lift = U_r A_r, Ad_s = lift U_r', B_s = U_r B_r, and the
+ * intercept c_s = mean(Y) - Ad_s mean(X) - B_s mean(U); ssi assumes a
+ * stationary signal whose operating point is the channel mean, c_s = (I -
+ * Ad_s) 0 = 0 in the scaled coordinates. */
+static void projected_model(el_fit_plan *plan, el_model *m)
+{
+    int d = (int)plan->state_dim, r = (int)m->rank, nu = (int)plan->n_inputs;
+    cblas_dgemm(CblasColMajor, CblasNoTrans, CblasNoTrans, d, r, r, 1.0, m->basis, d,
+                m->a_reduced, r, 0.0, m->lift, d);
+    cblas_dgemm(CblasColMajor, CblasNoTrans, CblasTrans, d, d, r, 1.0, m->lift, d,
+                m->basis, d, 0.0, m->ad_scaled, d);
+    if (nu > 0)
+        cblas_dgemm(CblasColMajor, CblasNoTrans, CblasNoTrans, d, nu, r, 1.0, m->basis,
+                    d, plan->bred, r, 0.0, m->input_b_scaled, d);
+    if (plan->method == EL_METHOD_SSI) {
+        memset(m->offset_scaled, 0, (size_t)d * sizeof(double));
+        return;
+    }
+    memcpy(m->offset_scaled, plan->ymean, (size_t)d * sizeof(double));
+    cblas_dgemv(CblasColMajor, CblasNoTrans, d, d, -1.0, m->ad_scaled, d, plan->xmean, 1,
+                1.0, m->offset_scaled, 1);
+    if (nu > 0)
+        cblas_dgemv(CblasColMajor, CblasNoTrans, d, nu, -1.0, m->input_b_scaled, d,
+                    plan->umean, 1, 1.0, m->offset_scaled, 1);
+}
+
+/* Physical units: z = m + D s with D = diag(scale) per lag block and the
+ * inputs u = m_u + D_u v, so Ad = D Ad_s D^-1, B = D B_s D_u^-1 and
+ * c = D c_s + (I - Ad) m - B m_u. */
 static void to_physical(el_model *m)
 {
-    size_t d = m->state_dim, nc = m->n_channels;
+    size_t d = m->state_dim, nc = m->n_channels, nu = m->n_inputs;
     for (size_t k = 0; k < d; k++)
         for (size_t i = 0; i < d; i++)
             m->ad[i + d * k] = m->channel_scale[i % nc] * m->ad_scaled[i + d * k] /
                                m->channel_scale[k % nc];
+    for (size_t j = 0; j < nu; j++)
+        for (size_t i = 0; i < d; i++)
+            m->input_b[i + d * j] = m->channel_scale[i % nc] *
+                                    m->input_b_scaled[i + d * j] / m->input_scale[j];
     for (size_t i = 0; i < d; i++) {
         double ci = m->channel_scale[i % nc] * m->offset_scaled[i] +
                     m->channel_mean[i % nc];
         for (size_t k = 0; k < d; k++)
             ci -= m->ad[i + d * k] * m->channel_mean[k % nc];
+        for (size_t j = 0; j < nu; j++)
+            ci -= m->input_b[i + d * j] * m->input_mean[j];
         m->offset[i] = ci;
     }
 }
@@ -569,6 +895,8 @@ static el_status operating_point(el_fit_plan *plan, el_model *m, el_warnings *w,
 
 /* One-step residuals of the lag-0 rows: Yc - Ad_s Xc = Yc (I - V_r V_r'),
  * because U_r' Xc = S_r V_r'; no copy of X needs to survive the SVD. */
+static void residual_statistics(el_fit_plan *plan, el_model *m);
+
 static void fit_statistics(el_fit_plan *plan, el_model *m)
 {
     int p = (int)plan->n_pairs, d = (int)plan->state_dim;
@@ -576,6 +904,40 @@ static void fit_statistics(el_fit_plan *plan, el_model *m)
     memcpy(plan->resid, plan->ytc, (size_t)p * (size_t)nc * sizeof(double));
     cblas_dgemm(CblasColMajor, CblasNoTrans, CblasTrans, p, nc, r, -1.0, plan->svd_u,
                 p, plan->yv, d, 1.0, plan->resid, p);
+    residual_statistics(plan, m);
+}
+
+/* The residuals of any model, from the snapshots themselves (rebuilt:
+ * the SVD destroyed X): y - Ad_s x - B_s u - c_s on the lag-0 rows, i.e.
+ * Yc - Ad_s Xc - B_s Uc + (mean(Y) - Ad_s mean(X) - B_s mean(U) - c_s). */
+static void direct_fit_statistics(el_fit_plan *plan, const el_series *s, el_model *m)
+{
+    int p = (int)plan->n_pairs, d = (int)plan->state_dim;
+    int nc = (int)plan->n_channels, nu = (int)plan->n_inputs;
+    build_snapshots(plan, s, m);
+    memcpy(plan->resid, plan->ytc, (size_t)p * (size_t)nc * sizeof(double));
+    cblas_dgemm(CblasColMajor, CblasNoTrans, CblasTrans, p, nc, d, -1.0, plan->xt, p,
+                m->ad_scaled, d, 1.0, plan->resid, p);
+    if (nu > 0)
+        cblas_dgemm(CblasColMajor, CblasNoTrans, CblasTrans, p, nc, nu, -1.0, plan->uc,
+                    p, m->input_b_scaled, d, 1.0, plan->resid, p);
+    for (int c = 0; c < nc; c++) {
+        double delta = plan->ymean[c] - m->offset_scaled[c];
+        for (int k = 0; k < d; k++)
+            delta -= m->ad_scaled[c + (size_t)d * k] * plan->xmean[k];
+        for (int j = 0; j < nu; j++)
+            delta -= m->input_b_scaled[c + (size_t)d * j] * plan->umean[j];
+        double *res = plan->resid + (size_t)p * c;
+        for (int q = 0; q < p; q++)
+            res[q] += delta;
+    }
+    residual_statistics(plan, m);
+}
+
+/* R^2 and residual RMS per channel from plan->resid (lag-0 rows). */
+static void residual_statistics(el_fit_plan *plan, el_model *m)
+{
+    int p = (int)plan->n_pairs, nc = (int)plan->n_channels;
     double ss_res_all = 0.0, ss_tot_all = 0.0;
     for (int c = 0; c < nc; c++) {
         const double *res = plan->resid + (size_t)p * c;
@@ -597,12 +959,12 @@ static void fit_statistics(el_fit_plan *plan, el_model *m)
 
 static el_status warn_few_pairs(const el_model *m, el_warnings *w, el_error *err)
 {
-    size_t params = m->state_dim + 1;
+    size_t params = m->state_dim + m->n_inputs + 1;
     if (m->n_pairs >= EL_FIT_PAIRS_PER_PARAM_WARN * params)
         return EL_OK;
     el_status st = el_warnings_add(
         w,
-        "only %zu snapshot pairs for %zu coefficients per row of [Ad c] "
+        "only %zu snapshot pairs for %zu coefficients per row of [Ad B c] "
         "(%.1f per coefficient; about %d is common practice): the model is "
         "loosely determined; a longer window or fewer lags would help",
         m->n_pairs, params, (double)m->n_pairs / (double)params,
@@ -616,8 +978,55 @@ el_status el_fit_plan_execute(el_fit_plan *plan, const el_series *series,
                               el_model *model, el_warnings *warnings,
                               el_error *err)
 {
+    if (plan == NULL)
+        return el_error_set(err, EL_ERR_INTERNAL, "el_fit_plan_execute: NULL argument");
+    return el_fit_plan_execute_inputs(plan, series, plan->inputs, model, warnings, err);
+}
+
+/* The model proper once the snapshots, their SVD and the scaling are in
+ * place: basis, rank and the (reduced) system by the method. */
+static el_status fit_system(el_fit_plan *plan, const el_series *series,
+                            const el_series *inputs, el_model *model,
+                            el_warnings *warnings, el_error *err)
+{
+    el_status st;
+    if (plan->method == EL_METHOD_IV || plan->method == EL_METHOD_SSI) {
+        st = el_est_instrument_basis(plan->est, series, plan->rank_opt, model, warnings,
+                                     err);
+    } else if ((plan->method == EL_METHOD_FB || plan->method == EL_METHOD_TLS) &&
+               plan->rank_opt == EL_RANK_AUTO) {
+        st = predictable_rank(plan, series, model, warnings, err);
+    } else {
+        st = choose_rank(plan, model, warnings, err);
+        if (st == EL_OK)
+            st = warn_noise_directions(plan, model, warnings, err);
+    }
+    if (st != EL_OK)
+        return st;
+    if (plan->method == EL_METHOD_LS)
+        return plan->n_inputs > 0 ? exact_dmd_inputs(plan, model, err)
+                                  : (exact_dmd(plan, model), EL_OK);
+    if (plan->method == EL_METHOD_FB || plan->method == EL_METHOD_TLS)
+        svd_basis(plan, model);
+    st = el_est_reduced_fit(plan->est, series, inputs, model, plan->bred, warnings, err);
+    if (st == EL_OK)
+        projected_model(plan, model);
+    return st;
+}
+
+el_status el_fit_plan_execute_inputs(el_fit_plan *plan, const el_series *series,
+                                     const el_series *inputs, el_model *model,
+                                     el_warnings *warnings, el_error *err)
+{
     if (plan == NULL || series == NULL || model == NULL || series->values == NULL)
         return el_error_set(err, EL_ERR_INTERNAL, "el_fit_plan_execute: NULL argument");
+    if ((plan->n_inputs > 0) != (inputs != NULL) ||
+        (inputs != NULL && (inputs->values == NULL ||
+                            inputs->n_samples != plan->n_samples ||
+                            inputs->n_channels != plan->n_inputs)))
+        return el_error_set(err, EL_ERR_INTERNAL,
+                            "el_fit_plan_execute: the inputs do not match the plan "
+                            "(%zu input channels)", plan->n_inputs);
     if (series->n_samples != plan->n_samples || series->n_channels != plan->n_channels)
         return el_error_set(err, EL_ERR_INTERNAL,
                             "el_fit_plan_execute: the plan is for %zu x %zu, the "
@@ -628,25 +1037,36 @@ el_status el_fit_plan_execute(el_fit_plan *plan, const el_series *series,
         return el_error_set(err, EL_ERR_INTERNAL,
                             "el_fit_plan_execute: sample interval %g is not positive",
                             series->dt);
-    el_status st = model_storage(model, plan->n_channels, plan->state_dim, err);
+    el_status st = model_storage(model, plan->n_channels, plan->state_dim,
+                                 plan->n_inputs, err);
     if (st != EL_OK)
         return st;
     model->lags = plan->lags;
     model->n_pairs = plan->n_pairs;
     model->method = plan->method;
     model->dt = series->dt;
+    model->depth = 0;
+    model->n_canonical = 0;
     if ((st = channel_scaling(series, model, err)) != EL_OK)
         return st;
+    if (inputs != NULL) {
+        st = series_scaling(inputs, model->input_mean, model->input_scale, "input", err);
+        if (st != EL_OK)
+            return st;
+        build_input_snapshots(plan, inputs, model);
+    }
     build_snapshots(plan, series, model);
     if ((st = thin_svd(plan, series, model, err)) != EL_OK)
         return st;
-    if ((st = choose_rank(plan, model, warnings, err)) != EL_OK)
+    if ((st = fit_system(plan, series, inputs, model, warnings, err)) != EL_OK)
         return st;
-    exact_dmd(plan, model);
     to_physical(model);
     if ((st = operating_point(plan, model, warnings, err)) != EL_OK)
         return st;
-    fit_statistics(plan, model);
+    if (plan->method == EL_METHOD_LS && plan->n_inputs == 0)
+        fit_statistics(plan, model);
+    else
+        direct_fit_statistics(plan, series, model);
     return warn_few_pairs(model, warnings, err);
 }
 

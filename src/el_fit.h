@@ -34,11 +34,14 @@ typedef enum {
 
 typedef struct {
     size_t lags;              /* K delay copies: state z[k] = [x[k]; x[k-1]; ...; x[k-K]] */
-    long rank;                /* r > 0, EL_RANK_FULL or EL_RANK_AUTO (Gavish & Donoho 2014;
-                                 iv and ssi: Bartlett's test of the canonical correlations) */
+    long rank;                /* r > 0, EL_RANK_FULL or EL_RANK_AUTO (ls: Gavish & Donoho
+                                 2014; fb, tls: the test of the canonical correlations of
+                                 iv and ssi when the record allows it); iv and ssi take
+                                 the test's rank for FULL and AUTO alike */
     el_method method;
     size_t depth;             /* iv, ssi: block rows of past measurements x[k-K-1..k-K-depth]
-                                 in the instrument / block-Hankel step; 0 = 2 (K + 1) */
+                                 in the instrument / block-Hankel step; 0 = K + 1 (a square
+                                 block Hankel: as many past as present block rows) */
     const el_series *inputs;  /* measured inputs u (--input), NULL = none: a series on the
                                  same grid (n_samples equal) whose channels enter as
                                  z[k+1] = Ad z[k] + B u[k] + c; ls and iv only. Read by
@@ -76,12 +79,14 @@ typedef struct {
     size_t state_dim;         /* n_channels * (lags + 1) */
     size_t n_pairs;           /* snapshot pairs used */
     size_t rank;              /* rank used (== state_dim for a full-rank fit) */
-    int rank_was_auto;        /* 1: rank chosen from the data (hard threshold; iv/ssi:
-                                 Bartlett's test) */
+    int rank_was_auto;        /* 1: rank chosen from the data (hard threshold, or the
+                                 test of the canonical correlations) */
     el_method method;
-    size_t depth;             /* iv/ssi: past block rows used; 0 for the other methods */
-    size_t n_canonical;       /* iv/ssi: number of canonical correlations below */
-    double *canonical_corr;   /* iv/ssi: canonical correlations between the state z[k]
+    size_t depth;             /* past block rows used by the instrument step (iv, ssi;
+                                 fb/tls with --rank auto); 0 when it did not run */
+    size_t n_canonical;       /* number of canonical correlations below (0: not computed) */
+    double *canonical_corr;   /* iv/ssi (and fb/tls with --rank auto): canonical
+                                 correlations between the state z[k]
                                  and the past x[k-K-1..k-K-depth], descending (state_dim
                                  allocated; n_canonical used) */
     size_t n_inputs;          /* measured inputs (0 = none) */
@@ -89,7 +94,8 @@ typedef struct {
     double *input_scale;      /* n_inputs, physical units (standard deviation) */
     double *input_b_scaled;   /* state_dim x n_inputs: B in scaled coordinates */
     double *input_b;          /* state_dim x n_inputs: B in physical units (state unit per
-                                 input unit); lag rows are 0 */
+                                 input unit); rows 0..n_channels-1 are the effect on the
+                                 channels (ls: the lag rows are 0 to rounding) */
     double dt;                /* sample interval, table time units */
     double *channel_mean;     /* n_channels, physical units */
     double *channel_scale;    /* n_channels, physical units (standard deviation) */

@@ -1626,8 +1626,10 @@ static el_status make_prediction(const el_assessment *r, el_prediction **p, el_e
     if (m->ad == NULL || m->offset == NULL || r->series.n_samples < m->lags + 2)
         return EL_OK;
     el_status st = el_prediction_create(m->n_channels, m->lags, r->series.n_samples, p, err);
-    if (st == EL_OK)
+    if (st == EL_OK) {
+        el_prediction_set_inputs(*p, r->has_inputs ? &r->inputs : NULL);
         st = el_prediction_run(*p, m, &r->series, err);
+    }
     if (st != EL_OK) {
         el_prediction_destroy(*p);
         *p = NULL;

@@ -61,12 +61,25 @@ static void measured_state(const el_series *s, size_t lags, size_t k, double *z)
             z[j * n + c] = s->values[c * len + (k - j)];
 }
 
-/* next = Ad z + c. */
-static void step(const el_model *m, const double *z, double *next)
+/* next = Ad z + B u[k] + c (the input term only for a model with inputs). */
+static void step(const el_model *m, const el_series *u, size_t k, const double *z,
+                 double *next)
 {
     int d = (int)m->state_dim;
     memcpy(next, m->offset, m->state_dim * sizeof *next);
     cblas_dgemv(CblasColMajor, CblasNoTrans, d, d, 1.0, m->ad, d, z, 1, 1.0, next, 1);
+    if (m->n_inputs > 0 && u != NULL)
+        for (size_t i = 0; i < m->n_inputs; i++) {
+            double ui = u->values[i * u->n_samples + k];
+            for (size_t r = 0; r < m->state_dim; r++)
+                next[r] += m->input_b[i * m->state_dim + r] * ui;
+        }
+}
+
+void el_prediction_set_inputs(el_prediction *p, const el_series *inputs)
+{
+    if (p != NULL)
+        p->inputs = inputs;
 }
 
 static void run_one_step(el_prediction *p, const el_model *m, const el_series *s)
@@ -75,7 +88,7 @@ static void run_one_step(el_prediction *p, const el_model *m, const el_series *s
     size_t count = p->one_step_count;
     for (size_t k = p->lags; k + 1 < s->n_samples; k++) {
         measured_state(s, p->lags, k, z);
-        step(m, z, next);
+        step(m, p->inputs, k, z, next);
         for (size_t c = 0; c < p->n_channels; c++)
             p->one_step[c * count + (k - p->lags)] = next[c];
     }
@@ -120,7 +133,7 @@ static void run_free(el_prediction *p, const el_model *m, const el_series *s)
     p->free_diverged = 0;
     p->free_diverged_at = 0;
     while (count < full) {
-        step(m, z, next);
+        step(m, p->inputs, p->lags + count - 1, z, next);
         if (out_of_band(p->n_channels, band, next)) {
             p->free_diverged = 1;
             p->free_diverged_at = p->lags + count;
@@ -174,6 +187,12 @@ el_status el_prediction_run(el_prediction *p, const el_model *m,
     if (p == NULL || m == NULL || s == NULL || m->ad == NULL || m->offset == NULL ||
         s->values == NULL)
         return el_error_set(err, EL_ERR_INTERNAL, "el_prediction_run: NULL argument");
+    if (m->n_inputs > 0 &&
+        (p->inputs == NULL || p->inputs->n_channels != m->n_inputs ||
+         p->inputs->n_samples != s->n_samples || m->input_b == NULL))
+        return el_error_set(err, EL_ERR_INTERNAL,
+                            "el_prediction_run: the model has %zu inputs but the plan "
+                            "has no matching input series", m->n_inputs);
     if (m->n_channels != p->n_channels || s->n_channels != p->n_channels ||
         m->lags != p->lags || m->state_dim != p->state_dim)
         return el_error_set(err, EL_ERR_INTERNAL,

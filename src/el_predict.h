@@ -56,6 +56,7 @@ typedef struct {
     double *one_step_nrmse;   /* n_channels */
     double *free_nrmse;       /* n_channels */
     double *work;             /* scratch: current and next state, divergence bands */
+    const el_series *inputs;  /* measured inputs (el_prediction_set_inputs), NULL = none */
 } el_prediction;
 
 /* Plans predictions for models of n_channels channels with lags delay
@@ -79,6 +80,13 @@ el_status el_prediction_create(size_t n_channels, size_t lags,
  * must not be shared by two threads at once. */
 el_status el_prediction_run(el_prediction *plan, const el_model *model,
                             const el_series *series, el_error *err);
+
+/* Gives the plan the measured inputs u of a model fitted with inputs
+ * (same grid as the series it will run on): each step then adds
+ * input_b u[k]. NULL (the default) means none; a model with inputs run
+ * without them is refused by el_prediction_run (EL_ERR_INTERNAL). The
+ * series is borrowed and must outlive the runs. Can't fail. */
+void el_prediction_set_inputs(el_prediction *plan, const el_series *inputs);
 
 /* Frees the plan and its outputs. NULL is a no-op. */
 void el_prediction_destroy(el_prediction *plan);

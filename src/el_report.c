@@ -55,12 +55,37 @@ static void text_header(const el_assessment *r, el_buf *out)
     el_buf_printf(out, "\n  filled cells %zu\n\n", s->filled_cells);
 }
 
+static const char *method_long_name(el_method m)
+{
+    switch (m) {
+    case EL_METHOD_LS: return "affine least squares";
+    case EL_METHOD_FB: return "forward-backward DMD";
+    case EL_METHOD_TLS: return "total-least-squares DMD";
+    case EL_METHOD_IV: return "instrumental variables";
+    case EL_METHOD_SSI: return "covariance-driven subspace identification";
+    }
+    return "unknown";
+}
+
 static void text_model(const el_assessment *r, el_buf *out)
 {
     const el_model *m = &r->model;
     const el_series *s = &r->series;
-    el_buf_printf(out, "Model  z[k+1] = Ad z[k] + c  (affine least squares%s)\n",
-                  m->rank < m->state_dim ? ", exact DMD" : "");
+    el_buf_printf(out, "Model  z[k+1] = Ad z[k]%s + c  (%s%s)\n",
+                  m->n_inputs > 0 ? " + B u[k]" : "", method_long_name(m->method),
+                  m->rank < m->state_dim ? ", rank-truncated" : "");
+    if (r->lags_were_auto)
+        el_buf_printf(out, "  lags         %zu chosen automatically: %s\n", m->lags,
+                      r->lags_choice.reason);
+    if (m->depth > 0)
+        el_buf_printf(out, "  depth        %zu block rows of past measurements\n", m->depth);
+    for (size_t i = 0; i < m->n_inputs; i++) {
+        el_buf_printf(out, "  input        %s, B column:", r->inputs.names[i]);
+        for (size_t c = 0; c < m->n_channels; c++)
+            el_buf_printf(out, " %.4g", m->input_b[i * m->state_dim + c]);
+        el_buf_printf(out, " (channel units per input unit; held at its mean %.6g)\n",
+                      m->input_mean[i]);
+    }
     el_buf_printf(out, "  states       %zu (%zu channel%s, each at lags 0..%zu)\n",
                   m->state_dim, m->n_channels, m->n_channels == 1 ? "" : "s", m->lags);
     el_buf_printf(out, "  rank         %zu%s\n", m->rank,
@@ -304,6 +329,35 @@ static void json_model(el_json *j, const el_assessment *r)
     json_numbers(j, "residual_rms", m->residual_rms, m->n_channels);
     json_numbers(j, "singular_values", m->singular_values, m->state_dim);
     el_json_number(j, "rcond_i_minus_a", m->rcond_i_minus_a);
+    if (m->depth > 0)
+        el_json_int(j, "depth", (long long)m->depth);
+    else
+        el_json_null(j, "depth");
+    if (m->n_canonical > 0 && m->canonical_corr != NULL)
+        json_numbers(j, "canonical_correlations", m->canonical_corr, m->n_canonical);
+    else
+        el_json_null(j, "canonical_correlations");
+    el_json_array_begin(j, "inputs");
+    for (size_t i = 0; i < m->n_inputs; i++) {
+        el_json_object_begin(j, NULL);
+        el_json_string(j, "name", r->inputs.names[i]);
+        el_json_string(j, "unit", r->inputs.units[i]);
+        el_json_number(j, "mean", m->input_mean[i]);
+        json_numbers(j, "b", m->input_b + i * m->state_dim, m->n_channels);
+        el_json_object_end(j);
+    }
+    el_json_array_end(j);
+    if (r->lags_were_auto) {
+        el_json_object_begin(j, "lags_auto");
+        el_json_int(j, "lags", (long long)r->lags_choice.lags);
+        el_json_int(j, "max_lags", (long long)r->lags_choice.max_lags);
+        el_json_bool(j, "exact", r->lags_choice.exact);
+        el_json_number(j, "bic", r->lags_choice.bic);
+        el_json_string(j, "reason", r->lags_choice.reason);
+        el_json_object_end(j);
+    } else {
+        el_json_null(j, "lags_auto");
+    }
     el_json_object_end(j);
 
     el_json_array_begin(j, "operating_point");

@@ -26,6 +26,10 @@ typedef struct {
     /* Called from the calling thread now and then; may be NULL. */
     void (*progress)(void *ctx, size_t done, size_t total);
     void *progress_ctx;
+    /* 1 (default): bias-correct every replicate's reduced matrix by the
+     * bias that a first round of model-based replicates measures
+     * (bootstrap-after-bootstrap, Kilian 1998); see docs/uncertainty.md. */
+    int bias_correct;
 } el_boot_options;
 
 /* Fills opt with the defaults listed above. */
@@ -59,6 +63,8 @@ typedef struct el_boot_result {
     double region_probability[EL_REGION_COUNT];
     double *trace_samples;        /* replicates (only when has_plane) */
     double *det_samples;
+    int bias_corrected;           /* 1: replicates were bias-corrected */
+    size_t bias_replicates;       /* model-based replicates that measured the bias */
 } el_boot_result;
 
 /* Runs the bootstrap for the model fitted to series with opt_fit (the same
@@ -218,8 +224,9 @@ void el_boot_matcher_destroy(el_boot_matcher *matcher);
  * the second-best assignment (best among those that take away one of the
  * best assignment's mode-to-mode links) costs at most 10% more than the
  * best (C2 <= 1.1 C1): the replicate could as well be read with two modes
- * swapped. Returns 0, or -1 when n_eig differs from the point estimate's
- * number of eigenvalues. */
+ * swapped. Above 12 eigenvalues C2 is bounded by the best exchange of two
+ * links (O(n^2) instead of n extra Hungarian runs). Returns 0, or -1 when
+ * n_eig differs from the point estimate's number of eigenvalues. */
 int el_boot_match(el_boot_matcher *matcher, const double *lambda_re,
                   const double *lambda_im, size_t n_eig, double *mode_re,
                   double *mode_im, int *ambiguous);

@@ -262,6 +262,12 @@ static el_status add_warnings(const el_validation *v, const el_series *s,
     return EL_OK;
 }
 
+void el_validation_set_inputs(el_validation *v, const el_series *inputs)
+{
+    if (v != NULL)
+        el_prediction_set_inputs(v->prediction, inputs);
+}
+
 el_status el_validation_run(el_validation *v, const el_model *model,
                             const el_series *series, const el_stability *stability,
                             el_warnings *warnings, el_error *err)

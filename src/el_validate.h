@@ -137,6 +137,10 @@ el_status el_validation_create(size_t n_channels, size_t lags, size_t max_sample
  * Errors: as el_prediction_run (EL_ERR_INTERNAL for a model or series that
  * does not match the plan); EL_ERR_NOMEM when a warning cannot be stored.
  * Reads model and series only. One thread per plan at a time. */
+/* Gives the validation the measured inputs of a model fitted with inputs
+ * (see el_prediction_set_inputs). Can't fail. */
+void el_validation_set_inputs(el_validation *v, const el_series *inputs);
+
 el_status el_validation_run(el_validation *v, const el_model *model,
                             const el_series *series, const el_stability *stability,
                             el_warnings *warnings, el_error *err);

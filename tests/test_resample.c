@@ -3,6 +3,7 @@
 #include "el_test.h"
 
 #include <lapacke.h>
+#include <pthread.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -448,6 +449,45 @@ static void test_matching_split_and_ambiguity(void **state)
     el_boot_matcher_destroy(mt);
 }
 
+/* Seven pairs (14 eigenvalues, the O(n^2) exchange rule): an exact copy
+ * of the point estimate, listed in reverse, maps back and is not
+ * ambiguous; moving modes 3 and 4 (Im 4 and 5) both to Im 4.5 makes the
+ * swap cost equal to the best (ratio 1), ambiguous. */
+static void test_matching_many(void **state)
+{
+    (void)state;
+    el_mode pm[7];
+    memset(pm, 0, sizeof pm);
+    for (size_t q = 0; q < 7; q++) {
+        pm[q].lambda_re = -1.0;
+        pm[q].lambda_im = (double)(q + 1);
+        pm[q].pair = 1;
+    }
+    el_modes point = { 7, 14, 2, pm };
+    el_boot_matcher *mt = NULL;
+    el_error err;
+    el_error_clear(&err);
+    assert_int_equal(el_boot_matcher_create(&point, &mt, &err), EL_OK);
+    double re[14], im[14], mre[7], mim[7];
+    for (size_t q = 0; q < 7; q++) {
+        re[13 - 2 * q] = -1.0;
+        im[13 - 2 * q] = (double)(q + 1);
+        re[12 - 2 * q] = -1.0;
+        im[12 - 2 * q] = -(double)(q + 1);
+    }
+    int amb = -1;
+    assert_int_equal(el_boot_match(mt, re, im, 14, mre, mim, &amb), 0);
+    assert_int_equal(amb, 0);
+    for (size_t q = 0; q < 7; q++)
+        assert_close(mim[q], (double)(q + 1), 0.0, 0.0);
+    for (size_t j = 0; j < 14; j++)
+        if (fabs(im[j]) == 4.0 || fabs(im[j]) == 5.0)
+            im[j] = im[j] > 0 ? 4.5 : -4.5;
+    assert_int_equal(el_boot_match(mt, re, im, 14, mre, mim, &amb), 0);
+    assert_int_equal(amb, 1);
+    el_boot_matcher_destroy(mt);
+}
+
 /* ------------------------------------------------------------------ */
 /* Percentiles: numpy.percentile's default ("linear") is Hyndman & Fan
  * (1996) type 7; for [10, 20, 30, 40, 50] it gives 14 at 10% and 47.5 at
@@ -540,6 +580,51 @@ static void test_p_stable(void **state)
     fitted_free(&f);
 }
 
+typedef struct {
+    pthread_t caller;
+    int wrong_thread;
+    size_t calls, last_done, last_total;
+} progress_log;
+
+static void on_progress(void *ctx, size_t done, size_t total)
+{
+    progress_log *p = ctx;
+    if (!pthread_equal(p->caller, pthread_self()))
+        p->wrong_thread = 1;
+    p->calls++;
+    p->last_done = done;
+    p->last_total = total;
+}
+
+/* Progress comes from the calling thread only and ends at total/total. */
+static void test_progress(void **state)
+{
+    (void)state;
+    fitted f;
+    fit_pair(&f, -0.5, 1.0, 0.05, 400, 51);
+    progress_log log = { pthread_self(), 0, 0, 0, 0 };
+    el_boot_options opt;
+    el_boot_defaults(&opt);
+    opt.replicates = 120;
+    opt.threads = 3;
+    opt.progress = on_progress;
+    opt.progress_ctx = &log;
+    el_boot_result r;
+    memset(&r, 0, sizeof r);
+    el_error err;
+    el_error_clear(&err);
+    assert_int_equal(el_boot_run(&f.series, &f.fit, &f.model, &f.modes, &opt, &r, NULL, &err),
+                     EL_OK);
+    assert_int_equal(log.wrong_thread, 0);
+    assert_true(log.calls >= 1);
+    assert_int_equal(log.last_done, 120);
+    assert_int_equal(log.last_total, 120);
+    assert_int_equal(r.bias_corrected, 1);
+    assert_int_equal(r.bias_replicates, 200);
+    el_boot_free(&r);
+    fitted_free(&f);
+}
+
 static void test_errors(void **state)
 {
     (void)state;
@@ -566,9 +651,11 @@ int main(void)
         cmocka_unit_test(test_point_identity),
         cmocka_unit_test(test_matching_swap),
         cmocka_unit_test(test_matching_split_and_ambiguity),
+        cmocka_unit_test(test_matching_many),
         cmocka_unit_test(test_quantile),
         cmocka_unit_test(test_threads_deterministic),
         cmocka_unit_test(test_p_stable),
+        cmocka_unit_test(test_progress),
         cmocka_unit_test(test_errors),
     };
     return cmocka_run_group_tests_name("resample", tests, NULL, NULL);
