@@ -21,7 +21,7 @@ static const cli_option OPTIONS[] = {
     {"input", "COL,..", "measured input columns: excitation, not state (z[k+1] = Ad z + B u + c)"},
     {"lags", "K|auto", "delay copies of every channel in the state (default 0; auto: by BIC)"},
     {"rank", "R|auto|full", "DMD rank: a number, auto (optimal hard threshold) or full (default)"},
-    {"method", "ls|fb|tls|iv|ssi", "estimator: least squares (default), forward-backward, total least squares, instrumental variables, subspace"},
+    {"method", "auto|ls|fb|tls|iv|ssi", "estimator (default auto: chosen by the data's regime, cross-checked)"},
     {"depth", "N", "iv/ssi: block rows of past measurements (default lags + 1)"},
     {"boot", "N", "bootstrap replicates (default 1000; 0 turns bounds off)"},
     {"resample", "blocks|model", "bootstrap scheme (default blocks)"},
@@ -130,8 +130,11 @@ static el_status parse_choices(const cli_args *a, assess_cli *c, el_error *err)
     el_status st;
     if ((v = opt_value(a, "detrend")) && (st = el_prep_parse_detrend(v, &c->assess.detrend, err)))
         return st;
-    if ((v = opt_value(a, "method")) && (st = el_method_parse(v, &c->assess.fit.method, err)))
-        return st;
+    if ((v = opt_value(a, "method")) && strcmp(v, "auto") != 0) {
+        if ((st = el_method_parse(v, &c->assess.fit.method, err)))
+            return st;
+        c->assess.method_auto = 0;
+    }
     if ((v = opt_value(a, "resample"))) {
         if ((st = parse_choice("resample", v, kinds, 2, &choice, err)))
             return st;

@@ -9,6 +9,7 @@ void el_assess_defaults(el_assess_options *opt)
 {
     memset(opt, 0, sizeof *opt);
     opt->max_gap = 5;
+    opt->method_auto = 1;
     el_fit_defaults(&opt->fit);
     el_boot_defaults(&opt->boot);
 }
@@ -161,7 +162,10 @@ el_status el_assess_load(const el_assess_options *opt, el_assessment *r,
                          el_error *err)
 {
     el_ingest_options in = {.time_column = opt->time_column};
-    el_status st = el_table_read(opt->path, &in, &r->table, err);
+    el_status st = opt->stream != NULL
+                       ? el_table_read_stream(opt->stream, opt->path ? opt->path : "<stream>",
+                                              &in, &r->table, err)
+                       : el_table_read(opt->path, &in, &r->table, err);
     if (st == EL_OK)
         st = build_series(opt, r, err);
     return st;
@@ -287,6 +291,124 @@ static el_status validate(el_assessment *r, el_error *err)
     return st;
 }
 
+void el_assess_choose_method(el_regime_class regime, int has_inputs,
+                             el_method *primary, el_method *cross,
+                             char *reason, size_t reason_size)
+{
+    /* Measured on simulated logs of known systems (docs/accuracy.md):
+     * plain least squares reads sensor noise as damping in every regime;
+     * fb and tls recover free transients but report neutral stability for
+     * a stationary, disturbance-driven log; instrumental variables with
+     * lagged instruments (white sensor noise is uncorrelated with them)
+     * are consistent in both regimes. So iv leads, and the regime picks
+     * the independent family that checks it. */
+    switch (regime) {
+    case EL_REGIME_DRIVEN:
+        *primary = EL_METHOD_LS;
+        *cross = EL_METHOD_IV;
+        snprintf(reason, reason_size,
+                 "measured inputs: least squares with inputs (DMD with control), "
+                 "cross-checked by instrumental variables with inputs");
+        return;
+    case EL_REGIME_TRANSIENT:
+        *primary = EL_METHOD_IV;
+        *cross = EL_METHOD_FB;
+        snprintf(reason, reason_size,
+                 "transient data (the amplitude changes over the window): instrumental "
+                 "variables, cross-checked by forward-backward DMD, which is unbiased "
+                 "for free transients under sensor noise");
+        return;
+    case EL_REGIME_STATIONARY:
+    case EL_REGIME_UNDETERMINED:
+        break;
+    }
+    (void)has_inputs;
+    *primary = EL_METHOD_IV;
+    *cross = EL_METHOD_LS;
+    snprintf(reason, reason_size,
+             "%s data: instrumental variables (consistent for disturbance-driven "
+             "logs, where forward-backward and total least squares are not), "
+             "cross-checked by least squares",
+             regime == EL_REGIME_STATIONARY ? "stationary" : "short or flat");
+}
+
+/* Stability class a p_stable supports at level: +1 stable, -1 unstable,
+ * 0 undecided. Without bootstrap the point estimate's class counts. */
+static int decided_class(double p_stable, double level, const el_modes *modes,
+                         double tol)
+{
+    if (isfinite(p_stable))
+        return p_stable >= level ? 1 : 1.0 - p_stable >= level ? -1 : 0;
+    double top = modes->n_modes > 0 ? modes->modes[0].lambda_re : 0.0;
+    return top < -tol ? 1 : top > tol ? -1 : 0;
+}
+
+/* Fits the cross-check estimator on the same prepared data and compares
+ * its stability class with the verdict. Asymmetric on purpose: the most
+ * harmful answer is a confident "stable" for a system that is not, so a
+ * "stable" that the second family does not confirm becomes ambiguous,
+ * while an "unstable" is only withdrawn when the second family confidently
+ * says stable. Its own warnings stay out of the report but one summary. */
+static el_status cross_check(const el_assess_options *opt, const el_fit_options *fit,
+                             el_assessment *r, el_error *err)
+{
+    el_fit_options cf = *fit;
+    cf.method = r->cross_method;
+    /* fb and tls give arbitrary eigenvalues to pure-noise directions, so
+     * they keep only the directions that carry signal. */
+    if (cf.method == EL_METHOD_FB || cf.method == EL_METHOD_TLS)
+        cf.rank = EL_RANK_AUTO;
+    el_warnings quiet = {0};
+    el_error local;
+    el_error_clear(&local);
+    el_status st = el_fit(&r->series, &cf, &r->cross_model, &quiet, &local);
+    if (st == EL_OK)
+        st = el_modes_compute(&r->cross_model, &r->cross_modes, &quiet, &local);
+    if (st == EL_OK && opt->boot.replicates > 0) {
+        el_boot_options bo = opt->boot;
+        bo.progress = NULL;
+        st = el_boot_run(&r->series, &cf, &r->cross_model, &r->cross_modes, &bo,
+                         &r->cross_boot, &quiet, &local);
+    }
+    el_warnings_free(&quiet);
+    if (st == EL_ERR_NOMEM || st == EL_ERR_INTERNAL) {
+        *err = local;
+        return st;
+    }
+    if (st != EL_OK)
+        return el_warnings_add(&r->warnings,
+                               "cross-check by %s could not be run (%s): the verdict rests "
+                               "on %s alone", el_method_name(cf.method), local.message,
+                               el_method_name(r->model.method));
+    r->cross_ran = 1;
+    r->cross_p_stable = r->cross_boot.replicates > 0 ? r->cross_boot.p_stable : NAN;
+    double level = opt->boot.level, tol = r->verdict.marginal_tolerance;
+    int main_class = r->verdict.ambiguous ? 0
+                     : r->verdict.stability == EL_STABLE ? 1
+                     : r->verdict.stability == EL_UNSTABLE ? -1 : 0;
+    int cross_class = decided_class(r->cross_p_stable, level, &r->cross_modes, tol);
+    r->cross_agrees = main_class == 0 || cross_class == main_class ||
+                      (main_class == -1 && cross_class == 0);
+    if (r->cross_agrees)
+        return EL_OK;
+    const el_mode *m = r->cross_modes.n_modes > 0 ? &r->cross_modes.modes[0] : NULL;
+    r->verdict.stability = EL_MARGINAL;
+    r->verdict.stability_name = "marginal";
+    r->verdict.ambiguous = 1;
+    char p_text[32] = "no bootstrap";
+    if (isfinite(r->cross_p_stable))
+        snprintf(p_text, sizeof p_text, "P(stable) %.3f", r->cross_p_stable);
+    return el_warnings_add(&r->warnings,
+                           "the estimators disagree: %s says %s, but the independent "
+                           "cross-check by %s does not confirm it (%s; its least damped "
+                           "mode has Re lambda %.4g 1/s): the data cannot tell which is "
+                           "right (sensor noise, too short a log, or a model that does "
+                           "not fit); the verdict is ambiguous",
+                           el_method_name(r->model.method),
+                           main_class == 1 ? "stable" : "unstable",
+                           el_method_name(cf.method), p_text, m ? m->lambda_re : NAN);
+}
+
 el_status el_assess_run(const el_assess_options *opt, el_assessment *r,
                         el_error *err)
 {
@@ -297,6 +419,13 @@ el_status el_assess_run(const el_assess_options *opt, el_assessment *r,
         st = detect_regime(opt, r, err);
     el_fit_options fit = opt->fit;
     fit.inputs = r->has_inputs ? &r->inputs : NULL;
+    r->cross_p_stable = NAN;
+    if (st == EL_OK && opt->method_auto) {
+        r->method_was_auto = 1;
+        el_assess_choose_method(r->regime->regime, r->has_inputs, &fit.method,
+                                &r->cross_method, r->method_reason,
+                                sizeof r->method_reason);
+    }
     if (st == EL_OK && opt->lags_auto) {
         st = el_lags_auto(&r->series, fit.inputs, 0, &r->lags_choice, err);
         if (st == EL_OK) {
@@ -321,6 +450,8 @@ el_status el_assess_run(const el_assess_options *opt, el_assessment *r,
         st = el_verdict_compute(&r->modes, &r->model,
                                 opt->boot.replicates > 0 ? &r->boot : NULL,
                                 opt->boot.level, &r->verdict, &r->warnings, err);
+    if (st == EL_OK && r->method_was_auto)
+        st = cross_check(opt, &fit, r, err);
     if (st == EL_OK)
         st = veto_growth(r, err);
     if (st == EL_OK)
@@ -340,6 +471,9 @@ void el_assessment_free(el_assessment *r)
     el_series_free(&r->series);
     el_series_free(&r->inputs);
     el_model_free(&r->model);
+    el_model_free(&r->cross_model);
+    el_modes_free(&r->cross_modes);
+    el_boot_free(&r->cross_boot);
     el_modes_free(&r->modes);
     el_boot_free(&r->boot);
     el_spectra_free(&r->spectra);

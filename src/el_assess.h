@@ -5,6 +5,7 @@
 #define EL_ASSESS_H
 
 #include <stddef.h>
+#include <stdio.h>
 
 #include "el_error.h"
 #include "el_estimators.h"
@@ -20,11 +21,16 @@
 #include "el_verdict.h"
 
 typedef struct {
-    const char *path;             /* CSV file, "-" = stdin */
+    const char *path;             /* CSV file, "-" = stdin; the name used in messages */
+    FILE *stream;                 /* when not NULL: read the log from this open stream
+                                     instead of opening path (e.g. fmemopen) */
     const char *time_column;      /* NULL = first column */
     const char *channels;         /* comma-separated names; NULL = all but time and inputs */
     const char *inputs;           /* --input: comma-separated measured input columns, NULL = none */
     int lags_auto;                /* 1: --lags auto (BIC), fit.lags is then chosen */
+    int method_auto;              /* 1: --method auto (default): the estimator is chosen
+                                     by the data's regime and cross-checked by a second,
+                                     independent one (fit.method is then ignored) */
     const char *from_text;        /* window start as written (number or ISO), NULL = open */
     const char *to_text;
     size_t max_gap;               /* default 5 */
@@ -48,6 +54,15 @@ typedef struct {
     el_lags_choice lags_choice;
     el_model model;
     el_modes modes;
+    int method_was_auto;          /* 1: the estimator was chosen by --method auto */
+    char method_reason[256];      /* why this estimator (auto), for the reports */
+    int cross_ran;                /* 1: the cross-check below was run */
+    el_method cross_method;       /* the second, independent estimator */
+    el_model cross_model;
+    el_modes cross_modes;
+    el_boot_result cross_boot;
+    double cross_p_stable;        /* NaN without bootstrap */
+    int cross_agrees;             /* 1: the cross-check supports the verdict */
     el_boot_result boot;          /* boot.replicates == 0 when not run */
     el_verdict verdict;
     double *detrend_level;        /* n_channels: removed level (0 without detrend) */
@@ -91,6 +106,13 @@ el_status el_assess_select_columns(const el_table *table, const char *list,
  * for --from/--to/--channels. */
 el_status el_assess_load(const el_assess_options *opt, el_assessment *result,
                          el_error *err);
+
+/* --method auto's choice (docs/method.md, "Choosing the estimator"): the
+ * estimator for data in the given regime and the independent one that
+ * cross-checks it; reason receives one sentence. Can't fail. */
+void el_assess_choose_method(el_regime_class regime, int has_inputs,
+                             el_method *primary, el_method *cross,
+                             char *reason, size_t reason_size);
 
 /* Runs the whole pipeline. On success every part of *result is filled;
  * on error the parts done so far stay in *result (free it either way with

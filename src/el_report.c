@@ -74,6 +74,17 @@ static void text_model(const el_assessment *r, el_buf *out)
     el_buf_printf(out, "Model  z[k+1] = Ad z[k]%s + c  (%s%s)\n",
                   m->n_inputs > 0 ? " + B u[k]" : "", method_long_name(m->method),
                   m->rank < m->state_dim ? ", rank-truncated" : "");
+    if (r->method_was_auto) {
+        el_buf_printf(out, "  estimator    %s, chosen for %s\n", el_method_name(m->method),
+                      r->method_reason);
+        if (r->cross_ran) {
+            char p[48] = "";
+            if (isfinite(r->cross_p_stable))
+                snprintf(p, sizeof p, ", P(stable) %.3f", r->cross_p_stable);
+            el_buf_printf(out, "  cross-check  %s %s%s\n", el_method_name(r->cross_method),
+                          r->cross_agrees ? "agrees" : "DISAGREES", p);
+        }
+    }
     if (r->lags_were_auto)
         el_buf_printf(out, "  lags         %zu chosen automatically: %s\n", m->lags,
                       r->lags_choice.reason);
@@ -347,6 +358,31 @@ static void json_model(el_json *j, const el_assessment *r)
         el_json_object_end(j);
     }
     el_json_array_end(j);
+    el_json_object_begin(j, "method_choice");
+    el_json_bool(j, "auto", r->method_was_auto);
+    el_json_string(j, "regime", r->regime ? r->regime->regime_name : NULL);
+    el_json_string(j, "reason", r->method_was_auto ? r->method_reason : NULL);
+    if (r->cross_ran) {
+        el_json_object_begin(j, "cross_check");
+        el_json_string(j, "method", el_method_name(r->cross_method));
+        el_json_number(j, "p_stable", r->cross_p_stable);
+        el_json_bool(j, "agrees", r->cross_agrees);
+        if (r->cross_modes.n_modes > 0) {
+            const el_mode *cm = &r->cross_modes.modes[0];
+            el_json_object_begin(j, "least_damped");
+            el_json_number(j, "re", cm->lambda_re);
+            el_json_number(j, "im", cm->lambda_im);
+            el_json_number(j, "frequency_hz", cm->at_nyquist ? NAN : cm->frequency_hz);
+            el_json_number(j, "damping_ratio", cm->damping_ratio);
+            el_json_object_end(j);
+        } else {
+            el_json_null(j, "least_damped");
+        }
+        el_json_object_end(j);
+    } else {
+        el_json_null(j, "cross_check");
+    }
+    el_json_object_end(j);
     if (r->lags_were_auto) {
         el_json_object_begin(j, "lags_auto");
         el_json_int(j, "lags", (long long)r->lags_choice.lags);
@@ -561,6 +597,11 @@ static void json_resampling(el_json *j, const el_assessment *r,
     if (boot_ran(r)) {
         el_json_int(j, "block_length", (long long)r->boot.block_length);
         el_json_bool(j, "block_auto", r->boot.block_was_auto);
+        if (r->boot.block_was_auto)
+            el_json_int(j, "block_length_politis_white", (long long)r->boot.block_length_pw);
+        else
+            el_json_null(j, "block_length_politis_white");
+        el_json_bool(j, "bias_corrected", r->boot.bias_corrected);
         el_json_string(j, "kind", resample_name(r->boot.kind));
         el_json_int(j, "failed_replicates", (long long)r->boot.failed_replicates);
         el_json_int(j, "ambiguous_matches", (long long)r->boot.ambiguous_matches);

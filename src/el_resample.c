@@ -2,6 +2,8 @@
  * per-block statistics, eigenvalue matching and the bounds they give. */
 #include "el_resample.h"
 
+#include "el_estimators.h"
+
 #include <float.h>
 #include <lapacke.h>
 #include <math.h>
@@ -872,7 +874,7 @@ typedef struct {
     int bias_phase;               /* 1: the run measures the bias */
     double *bias_rec;             /* bias phase: 2 n_modes + 2 per replicate */
     unsigned char *bias_ok;
-    size_t r, m, block, n_modes, total, n_bias;
+    size_t r, m, block, block_pw, n_modes, total, n_bias;
     el_resample_kind kind;
     uint64_t seed;
     double dt;
@@ -1193,6 +1195,14 @@ static el_status auto_block(const double *res, size_t m, size_t r, size_t *block
     return EL_OK;
 }
 
+/* The automatic block length with its floor (EL_BOOT_MAX_BLOCKS). */
+static size_t block_floor(size_t block, size_t pairs)
+{
+    size_t floor_len = (pairs + EL_BOOT_MAX_BLOCKS - 1) / EL_BOOT_MAX_BLOCKS;
+    size_t b = block > floor_len ? block : floor_len;
+    return b > pairs ? pairs : b;
+}
+
 static el_status check_options(const el_boot_options *opt, el_error *err)
 {
     if (!(opt->level > 0.0 && opt->level < 1.0)) {
@@ -1345,8 +1355,10 @@ static double point_mismatch(boot_worker *w, const boot_shared *sh, const el_mod
 
 typedef struct {
     double *states, *resid, *a0, *c0, *pwork, *bias, *bias_samples;
+    double *est_states;           /* the method's own states (non-ls methods) */
     unsigned char *bias_ok;
     el_boot_engine *engine;
+    el_boot_engine *est_engine;   /* engine of the method's provider (non-ls) */
     boot_worker *workers;
     size_t n_workers;
     unsigned char *flags;
@@ -1359,6 +1371,8 @@ static void buffers_free(boot_buffers *b)
         worker_free(&b->workers[i]);
     free(b->workers);
     free(b->states);
+    free(b->est_states);
+    el_boot_engine_destroy(b->est_engine);
     free(b->resid);
     free(b->a0);
     free(b->c0);
@@ -1477,6 +1491,56 @@ static el_status measure_bias(boot_shared *sh, boot_buffers *bf, el_error *err)
 }
 
 /* Sets up the engine, the point fit, the residuals and the block length. */
+/* A method other than least squares resamples its own statistics: the
+ * engine is rebuilt from the method's provider and states (el_estimators),
+ * so each replicate is that estimator refitted. The block length stays the
+ * one chosen on the least-squares residuals (the dependence of the data
+ * does not depend on the estimator). Only moving blocks: the model-based
+ * scheme regenerates one-step pairs, which the lagged statistics of iv/ssi
+ * and the backward fit of fb do not consist of. */
+static el_status prepare_method(const el_series *series, const el_model *model,
+                                const el_boot_options *opt, boot_shared *sh,
+                                boot_buffers *bf, el_error *err)
+{
+    if (opt->kind == EL_RESAMPLE_MODEL) {
+        el_error_set(err, EL_ERR_USAGE, "model-based resampling works with --method ls only");
+        el_error_option(err, "--resample");
+        el_error_hint(err, "use --resample blocks (the default) with --method %s",
+                      el_method_name(model->method));
+        return EL_ERR_USAGE;
+    }
+    const el_boot_provider *prov = el_estimator_provider_for(model);
+    if (prov == NULL)
+        return el_error_set(err, EL_ERR_INTERNAL, "no bootstrap statistics for method %s",
+                            el_method_name(model->method));
+    size_t n_states = 0, r = model->rank;
+    el_status st = el_estimator_boot_states(series, model, &bf->est_states, &n_states, err);
+    if (st == EL_OK)
+        st = el_boot_engine_create(prov, bf->est_states, n_states, r, 0, &bf->est_engine, err);
+    if (st != EL_OK)
+        return st;
+    size_t pairs = el_boot_engine_pairs(bf->est_engine);
+    double *grown = realloc(bf->pwork, el_boot_engine_work_doubles(bf->est_engine) * sizeof(double));
+    if (grown == NULL)
+        return el_error_set(err, EL_ERR_NOMEM, "out of memory (bootstrap)");
+    bf->pwork = grown;
+    el_boot_block all = {0, pairs};
+    if (el_boot_engine_assemble(bf->est_engine, &all, 1, bf->a0, bf->c0, bf->pwork)) {
+        el_error_set(err, EL_ERR_NUMERIC, "bootstrap: the full-sample %s refit is singular",
+                     el_method_name(model->method));
+        el_error_hint(err, "use a lower --rank");
+        return EL_ERR_NUMERIC;
+    }
+    if (opt->block_length == 0)
+        sh->block = block_floor(sh->block_pw, pairs);
+    if (sh->block > pairs)
+        sh->block = pairs;
+    sh->engine = bf->est_engine;
+    sh->prov = prov;
+    sh->m = pairs;
+    return EL_OK;
+}
+
 static el_status prepare(const el_series *series, const el_model *model,
                          const el_boot_options *opt, boot_shared *sh, boot_buffers *bf,
                          int *block_auto, el_error *err)
@@ -1507,6 +1571,9 @@ static el_status prepare(const el_series *series, const el_model *model,
         st = auto_block(bf->resid, m, r, &sh->block, err);
         if (st != EL_OK)
             return st;
+        sh->block_pw = sh->block;
+        if (opt->kind == EL_RESAMPLE_BLOCKS)
+            sh->block = block_floor(sh->block, m);
     } else {
         if (opt->block_length > m) {
             el_error_set(err, EL_ERR_USAGE,
@@ -1526,7 +1593,7 @@ static el_status prepare(const el_series *series, const el_model *model,
     sh->c0 = bf->c0;
     sh->r = r;
     sh->m = m;
-    return EL_OK;
+    return model->method == EL_METHOD_LS ? EL_OK : prepare_method(series, model, opt, sh, bf, err);
 }
 
 static el_status add_run_warnings(const boot_shared *sh, const el_model *model,
@@ -1549,18 +1616,11 @@ static el_status add_run_warnings(const boot_shared *sh, const el_model *model,
                              "modes could swap in %zu of %zu replicates (eigenvalues "
                              "close together): their separate bounds mix them",
                              res->ambiguous_matches, res->replicates);
-    if (st == EL_OK && (model->method != EL_METHOD_LS || model->n_inputs > 0))
-        st = el_warnings_add(warnings,
-                             "bootstrap replicates refit by least squares without inputs "
-                             "(the only statistics provider so far): the bounds are those "
-                             "of that estimator, not of method %s%s",
-                             el_method_name(model->method),
-                             model->n_inputs > 0 ? " with inputs" : "");
-    else if (st == EL_OK && (mismatch < 0.0 || mismatch > 1e-6))
+    if (st == EL_OK && (mismatch < 0.0 || mismatch > 1e-6))
         st = el_warnings_add(warnings,
                              "the bootstrap refit does not reproduce the point estimate's "
-                             "eigenvalues exactly: the bounds describe least squares in "
-                             "the model's reduced coordinates");
+                             "eigenvalues exactly: the bounds describe method %s in "
+                             "the model's reduced coordinates", el_method_name(model->method));
     return st;
 }
 
@@ -1582,6 +1642,12 @@ el_status el_boot_run(const el_series *series, const el_fit_options *opt_fit,
     result->n_modes = modes->n_modes;
     if (opt->replicates == 0)
         return EL_OK;
+    /* The statistics providers carry no input columns, so a replicate
+     * could not refit B: better no bounds than bounds of another model. */
+    if (model->n_inputs > 0)
+        return el_warnings_add(warnings,
+                               "no bootstrap for a model with measured inputs yet: the "
+                               "verdict rests on the point estimate, without bounds");
     if (modes->n_modes == 0 || modes->n_eigenvalues != model->rank)
         return el_error_set(err, EL_ERR_INTERNAL,
                             "el_boot_run: %zu eigenvalues for a rank-%zu model",
@@ -1629,7 +1695,9 @@ el_status el_boot_run(const el_series *series, const el_fit_options *opt_fit,
         mismatch = point_mismatch(&bf.workers[0], &sh, modes);
         bf.workers[0].opt = opt;
         size_t started = 1;
-        if (opt->bias_correct) {
+        /* The bias round regenerates one-step pairs through the
+         * least-squares model: it measures that estimator's bias only. */
+        if (opt->bias_correct && model->method == EL_METHOD_LS) {
             st = measure_bias(&sh, &bf, err);
             result->bias_corrected = st == EL_OK && sh.bias_re != NULL;
             result->bias_replicates = sh.n_bias;
@@ -1640,6 +1708,7 @@ el_status el_boot_run(const el_series *series, const el_fit_options *opt_fit,
         }
         result->threads_used = started;
         result->block_length = sh.block;
+        result->block_length_pw = block_auto ? sh.block_pw : 0;
         result->block_was_auto = block_auto;
         result->has_plane = sh.has_plane;
         if (st == EL_OK)

@@ -16,6 +16,14 @@
 
 typedef enum { EL_RESAMPLE_BLOCKS = 0, EL_RESAMPLE_MODEL } el_resample_kind;
 
+/* Most blocks one moving-block replicate is made of when the block length
+ * is automatic: the Politis-White length is raised to ceil(pairs / this)
+ * when it is shorter, so a replicate costs O(EL_BOOT_MAX_BLOCKS) block
+ * sums whatever the log length (a block longer than the optimum keeps the
+ * moving-block variance estimate consistent: its bias falls as 1/L and its
+ * variance grows as L/n = 1/EL_BOOT_MAX_BLOCKS; Kunsch 1989). */
+#define EL_BOOT_MAX_BLOCKS 400
+
 typedef struct {
     size_t replicates;            /* 0 = no bootstrap (default 1000) */
     el_resample_kind kind;        /* default EL_RESAMPLE_BLOCKS */
@@ -65,6 +73,8 @@ typedef struct el_boot_result {
     double *det_samples;
     int bias_corrected;           /* 1: replicates were bias-corrected */
     size_t bias_replicates;       /* model-based replicates that measured the bias */
+    size_t block_length_pw;       /* automatic: the Politis-White length before the
+                                     EL_BOOT_MAX_BLOCKS floor (0 when given) */
 } el_boot_result;
 
 /* Runs the bootstrap for the model fitted to series with opt_fit (the same

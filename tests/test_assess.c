@@ -9,14 +9,21 @@
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
+#include <unistd.h>
 
 #include "el_assess.h"
+#include "el_linalg.h"
+#include "el_rng.h"
 #include "el_report.h"
 
-static el_assessment run(const char *path, size_t lags, size_t replicates)
+/* Runs the pipeline; method_auto 0 means plain least squares. */
+static el_assessment run_with(const char *path, size_t lags, size_t replicates,
+                              int method_auto)
 {
     el_assess_options opt;
     el_assess_defaults(&opt);
+    opt.method_auto = method_auto;
+    opt.fit.method = EL_METHOD_LS;
     opt.path = path;
     opt.fit.lags = lags;
     opt.boot.replicates = replicates;
@@ -33,6 +40,12 @@ static el_assessment run(const char *path, size_t lags, size_t replicates)
     }
     assert_int_equal(st, EL_OK);
     return r;
+}
+
+/* The default pipeline (--method auto). */
+static el_assessment run(const char *path, size_t lags, size_t replicates)
+{
+    return run_with(path, lags, replicates, 1);
 }
 
 /* booster_pump.csv truth (datasets/README.md): lambda = -0.131947 +/-
@@ -117,7 +130,9 @@ static void test_lynx_moran_end_to_end(void **state)
         fprintf(out, "%d,%.17g\n", year, log10((double)count));
     fclose(in);
     fclose(out);
-    el_assessment r = run(path, 1, 0);
+    /* Moran fitted an autoregression by least squares: compare like with
+     * like (--method ls). */
+    el_assessment r = run_with(path, 1, 0, 0);
     remove(path);
     /* Ad's first row holds the AR coefficients of x_{t-1} and x_{t-2}. */
     assert_close(r.model.ad[0], 1.41, 0.0, 0.03);
@@ -157,6 +172,101 @@ static void test_json_has_no_nan(void **state)
     el_assessment_free(&r);
 }
 
+/* Writes a CSV log of a 2-state system x' = A x with eigenvalues
+ * re +/- i 2 pi f_hz, free response from x0 = (1, 0) plus light process
+ * noise, sampled exactly (el_discretise) at dt for n samples, with white
+ * sensor noise at snr_db relative to each channel's RMS. */
+static void write_oscillator(const char *path, double re, double f_hz, double dt,
+                             size_t n, double snr_db, uint64_t seed)
+{
+    double w = 2.0 * M_PI * f_hz;
+    double a[4] = {re, -w, w, re};          /* column-major [[re, w], [-w, re]] */
+    double q[4] = {1e-4, 0, 0, 1e-4};
+    double ad[4], qd[4], g[4];
+    size_t ws = el_discretise_work_size(2);
+    double *work = malloc(ws * sizeof *work);
+    int iwork[4];
+    el_error err;
+    el_error_clear(&err);
+    assert_int_equal(el_discretise(2, a, q, dt, ad, qd, g, work, iwork, &err), EL_OK);
+    free(work);
+    double *x = malloc(2 * n * sizeof *x);
+    el_rng rng;
+    el_rng_seed(&rng, seed, 0);
+    double s0 = 1.0, s1 = 0.0, ms0 = 0, ms1 = 0;
+    for (size_t k = 0; k < n; k++) {
+        x[2 * k] = s0;
+        x[2 * k + 1] = s1;
+        ms0 += s0 * s0;
+        ms1 += s1 * s1;
+        double z0 = el_rng_normal(&rng), z1 = el_rng_normal(&rng);
+        double t0 = ad[0] * s0 + ad[2] * s1 + g[0] * z0 + g[2] * z1;
+        double t1 = ad[1] * s0 + ad[3] * s1 + g[1] * z0 + g[3] * z1;
+        s0 = t0;
+        s1 = t1;
+    }
+    double sd0 = sqrt(ms0 / (double)n) * pow(10.0, -snr_db / 20.0);
+    double sd1 = sqrt(ms1 / (double)n) * pow(10.0, -snr_db / 20.0);
+    FILE *out = fopen(path, "w");
+    assert_non_null(out);
+    fprintf(out, "t [s],p,q\n");
+    for (size_t k = 0; k < n; k++)
+        fprintf(out, "%.4f,%.9g,%.9g\n", (double)k * dt,
+                10.0 + x[2 * k] + sd0 * el_rng_normal(&rng),
+                -3.0 + x[2 * k + 1] + sd1 * el_rng_normal(&rng));
+    fclose(out);
+    free(x);
+}
+
+/* Dawson et al. (2016), Exp. Fluids 57:42: sensor noise biases least
+ * squares / DMD towards damping, so a slowly growing oscillation
+ * (Re lambda = +0.04 1/s) under 30 dB sensor noise can be called stable.
+ * The default --method auto must never call these seeded growing cases
+ * stable (the tracker's issue 4 requirement); least squares alone is run
+ * beside it to show the case is a real trap (its growth estimate is pulled
+ * down by the noise). */
+static void test_auto_never_calls_growth_stable(void **state)
+{
+    (void)state;
+    char path[] = "/tmp/eigenlog_growXXXXXX";
+    int fd = mkstemp(path);
+    assert_true(fd >= 0);
+    close(fd);
+    for (uint64_t seed = 1; seed <= 3; seed++) {
+        write_oscillator(path, 0.04, 1.3, 0.02, 3000, 30.0, seed);
+        el_assessment a = run_with(path, 0, 200, 1);
+        el_assessment l = run_with(path, 0, 0, 0);
+        assert_true(a.verdict.stability != EL_STABLE);
+        /* Least squares reads part of the growth as damping: its estimate
+         * lies far below the truth (seeded: about -0.009 for +0.040), the
+         * bias Dawson et al. describe. */
+        assert_true(l.modes.modes[0].lambda_re < 0.02);
+        el_assessment_free(&a);
+        el_assessment_free(&l);
+    }
+    remove(path);
+}
+
+/* --method auto's policy (docs/method.md): instrumental variables lead;
+ * the regime chooses the independent cross-check; inputs lead to least
+ * squares with inputs (DMD with control). */
+static void test_auto_policy(void **state)
+{
+    (void)state;
+    el_method p, c;
+    char why[256];
+    el_assess_choose_method(EL_REGIME_TRANSIENT, 0, &p, &c, why, sizeof why);
+    assert_int_equal(p, EL_METHOD_IV);
+    assert_int_equal(c, EL_METHOD_FB);
+    el_assess_choose_method(EL_REGIME_STATIONARY, 0, &p, &c, why, sizeof why);
+    assert_int_equal(p, EL_METHOD_IV);
+    assert_int_equal(c, EL_METHOD_LS);
+    el_assess_choose_method(EL_REGIME_DRIVEN, 1, &p, &c, why, sizeof why);
+    assert_int_equal(p, EL_METHOD_LS);
+    assert_int_equal(c, EL_METHOD_IV);
+    assert_true(strlen(why) > 20);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -164,6 +274,8 @@ int main(void)
         cmocka_unit_test(test_rig_test_truth),
         cmocka_unit_test(test_lynx_moran_end_to_end),
         cmocka_unit_test(test_json_has_no_nan),
+        cmocka_unit_test(test_auto_never_calls_growth_stable),
+        cmocka_unit_test(test_auto_policy),
     };
     return cmocka_run_group_tests_name("assess", tests, NULL, NULL);
 }
