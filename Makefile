@@ -62,7 +62,7 @@ endef
 $(eval $(call FLAVOUR,rel,$(OPT_CFLAGS)))
 $(eval $(call FLAVOUR,san,$(SAN_CFLAGS)))
 
-.PHONY: all deps demo test check check-rel check-san bench calibrate clean fixtures
+.PHONY: all deps demo test check check-rel check-san bench calibrate accuracy clean fixtures
 .DEFAULT_GOAL := all
 
 all: $(rel_BIN) $(rel_LIB)
@@ -106,6 +106,12 @@ bench: deps
 calibrate: deps
 	@$(MAKE) --no-print-directory build/rel/bench/calibrate
 	./build/rel/bench/calibrate
+
+# Accuracy of every estimator and of --method auto on simulated logs of
+# known systems across regimes and sensor noise (docs/accuracy.md).
+accuracy: deps
+	@$(MAKE) --no-print-directory build/rel/bench/accuracy
+	./build/rel/bench/accuracy
 
 # Regenerates the numpy/scipy fixtures (needs Debian's python3-numpy and
 # python3-scipy; not part of make test). Each script writes its own file.

@@ -26,6 +26,7 @@ static const cli_option OPTIONS[] = {
     {"boot", "N", "bootstrap replicates (default 1000; 0 turns bounds off)"},
     {"resample", "blocks|model", "bootstrap scheme (default blocks)"},
     {"block", "L|auto", "block length of the bootstrap (default auto)"},
+    {"no-bias-correction", NULL, "ls: do not correct the bootstrap for the estimator's small-sample bias"},
     {"level", "P", "level of the bounds and of a confident verdict (default 0.95)"},
     {"seed", "S", "random seed (default 1): same seed, same numbers"},
     {"threads", "N", "worker threads (default: all cores)"},
@@ -169,6 +170,8 @@ static el_status parse_assess(const cli_args *a, assess_cli *c, el_error *err)
     c->html_path = opt_value(a, "html");
     c->replicates_path = opt_value(a, "replicates");
     c->quiet = opt_value(a, "quiet") != NULL;
+    if (opt_value(a, "no-bias-correction") != NULL)
+        c->assess.boot.bias_correct = 0;
     el_status st = parse_numbers(a, c, err);
     if (st == EL_OK)
         st = parse_choices(a, c, err);
