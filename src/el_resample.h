@@ -24,6 +24,14 @@ typedef enum { EL_RESAMPLE_BLOCKS = 0, EL_RESAMPLE_MODEL } el_resample_kind;
  * variance grows as L/n = 1/EL_BOOT_MAX_BLOCKS; Kunsch 1989). */
 #define EL_BOOT_MAX_BLOCKS 400
 
+/* The bias round (el_boot_options.bias_correct) runs only for logs with
+ * fewer snapshot pairs than this: the least-squares bias falls like 1/n
+ * while the bootstrap spread falls like 1/sqrt(n), and in the calibration
+ * (docs/uncertainty.md) the correction changed nothing measurable from
+ * 5,000 samples on, while its 200 model-based replicates regenerate the
+ * whole log each (the one part of a run whose cost grows with n). */
+#define EL_BOOT_BIAS_MAX_PAIRS 10000
+
 typedef struct {
     size_t replicates;            /* 0 = no bootstrap (default 1000) */
     el_resample_kind kind;        /* default EL_RESAMPLE_BLOCKS */
@@ -154,6 +162,19 @@ size_t el_boot_block_count(size_t n_pairs, size_t block_length);
 size_t el_boot_draw_blocks(el_rng *rng, size_t n_pairs, size_t block_length,
                            el_boot_block *blocks);
 
+/* As el_boot_draw_blocks with block starts on a grid: uniform over the
+ * multiples of grid in [0, n_pairs - block_length] (block_length must be a
+ * multiple of grid, grid >= 1; grid 1 is el_boot_draw_blocks). Every block
+ * but the cut last one then starts and ends on the grid, so an engine with
+ * prefix stride grid sums it from two stored prefixes, without re-adding
+ * pairs, from a table grid times smaller (one that stays in cache). It is
+ * the moving-block bootstrap with starts thinned by grid: between it
+ * (grid 1) and the non-overlapping block bootstrap (grid = L), both
+ * consistent (Lahiri 2003, "Resampling Methods for Dependent Data", ch. 2
+ * and 3; recalled from memory). */
+size_t el_boot_draw_blocks_grid(el_rng *rng, size_t n_pairs, size_t block_length,
+                                size_t grid, el_boot_block *blocks);
+
 typedef struct el_boot_engine el_boot_engine;
 
 /* Plans the engine for one reduced state sequence: one pass over the
@@ -172,6 +193,14 @@ el_status el_boot_engine_create(const el_boot_provider *provider,
                                 const double *states, size_t n_states,
                                 size_t r, size_t max_bytes,
                                 el_boot_engine **engine, el_error *err);
+
+/* As el_boot_engine_create with the prefix stride given (>= 1) instead of
+ * derived from a memory cap: blocks drawn on a grid of the same size are
+ * then summed from stored prefixes only. */
+el_status el_boot_engine_create_strided(const el_boot_provider *provider,
+                                        const double *states, size_t n_states,
+                                        size_t r, size_t stride,
+                                        el_boot_engine **engine, el_error *err);
 
 /* Frees the engine. NULL is a no-op. */
 void el_boot_engine_destroy(el_boot_engine *engine);
