@@ -247,6 +247,26 @@ static void test_auto_never_calls_growth_stable(void **state)
     remove(path);
 }
 
+/* The tracker's issue 3: a near-marginal short log must be flagged
+ * ambiguous, not given a confident class. A 0.5 Hz oscillation with
+ * Re lambda = -0.002 1/s (damping ratio 0.0006) observed for 40 s: the
+ * decay over the window (e^-0.08, 8%) is far below what 800 noisy samples
+ * can resolve, so the bounds of Re lambda must straddle zero. */
+static void test_near_marginal_short_log_is_ambiguous(void **state)
+{
+    (void)state;
+    char path[] = "/tmp/eigenlog_marginXXXXXX";
+    int fd = mkstemp(path);
+    assert_true(fd >= 0);
+    close(fd);
+    write_oscillator(path, -0.002, 0.5, 0.05, 800, 30.0, 11);
+    el_assessment r = run_with(path, 0, 300, 1);
+    remove(path);
+    assert_true(r.verdict.ambiguous);
+    assert_true(r.verdict.p_stable > 0.05 && r.verdict.p_stable < 0.95);
+    el_assessment_free(&r);
+}
+
 /* --method auto's policy (docs/method.md): instrumental variables lead;
  * the regime chooses the independent cross-check; inputs lead to least
  * squares with inputs (DMD with control). */
@@ -276,6 +296,7 @@ int main(void)
         cmocka_unit_test(test_json_has_no_nan),
         cmocka_unit_test(test_auto_never_calls_growth_stable),
         cmocka_unit_test(test_auto_policy),
+        cmocka_unit_test(test_near_marginal_short_log_is_ambiguous),
     };
     return cmocka_run_group_tests_name("assess", tests, NULL, NULL);
 }
