@@ -97,10 +97,16 @@ static void text_model(const el_assessment *r, el_buf *out)
         el_buf_printf(out, " (channel units per input unit; held at its mean %.6g)\n",
                       m->input_mean[i]);
     }
-    el_buf_printf(out, "  states       %zu (%zu channel%s, each at lags 0..%zu)\n",
-                  m->state_dim, m->n_channels, m->n_channels == 1 ? "" : "s", m->lags);
+    if (m->lags == 0)
+        el_buf_printf(out, "  states       %zu (%zu channel%s, no lags)\n", m->state_dim,
+                      m->n_channels, m->n_channels == 1 ? "" : "s");
+    else
+        el_buf_printf(out, "  states       %zu (%zu channel%s, each at lags 0..%zu)\n",
+                      m->state_dim, m->n_channels, m->n_channels == 1 ? "" : "s", m->lags);
     el_buf_printf(out, "  rank         %zu%s\n", m->rank,
-                  m->rank_was_auto ? " (optimal hard threshold)" : "");
+                  !m->rank_was_auto ? ""
+                  : m->method == EL_METHOD_LS ? " (optimal hard threshold)"
+                                              : " (canonical-correlation rank test)");
     el_buf_printf(out, "  pairs        %zu\n", m->n_pairs);
     el_buf_printf(out, "  one-step R2  %.4f overall;", m->fit_r2);
     for (size_t c = 0; c < s->n_channels; c++)
@@ -221,8 +227,12 @@ static void text_checks(const el_assessment *r, el_buf *out)
         if (g->regime == EL_REGIME_TRANSIENT)
             el_buf_printf(out, " (amplitude %s)", g->direction > 0 ? "grows"
                                                  : g->direction < 0 ? "decays" : "level moves");
-        if (isfinite(g->trend_p))
-            el_buf_printf(out, "; p of no change %s", num(a, 32, g->trend_p));
+        if (g->growth)
+            el_buf_printf(out, "; envelope of %s grows %.3gx over the window (p %s)",
+                          r->series.names[g->growth_channel], g->growth_factor,
+                          num(a, 32, g->growth_p));
+        else if (isfinite(g->trend_p))
+            el_buf_printf(out, "; p of no amplitude change %s", num(a, 32, g->trend_p));
         el_buf_printf(out, "\n");
     }
     if (v != NULL) {
