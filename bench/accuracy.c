@@ -9,7 +9,7 @@
  *
  * Usage: accuracy [--quick] [--seeds N] [--boot N] [--workers N]
  *                 [--case NAME] [--list]
- * Default: 6 seeds per cell, 200 bootstrap replicates, one worker process
+ * Default: 10 seeds per cell, 200 bootstrap replicates, one worker process
  * per core. --quick: 2 seeds, 100 replicates.
  *
  * Workers are processes, not threads: el_assess_run creates FFTW plans,
@@ -67,6 +67,7 @@ typedef struct {
     int lags_auto;            /* 1: --lags auto (one sensor) */
     double dt_s;
     size_t n_samples;
+    size_t id;                /* position in build_cases: the random stream */
 } acc_case;
 
 /* A pair with natural frequency f_n (Hz) and damping ratio zeta. */
@@ -105,6 +106,7 @@ static size_t add_case(acc_case *cs, size_t n, const char *name, const char *abo
     c->dt_s = dt_s;
     c->n_samples = n_samples;
     c->n_modes = n_modes;
+    c->id = n;
     for (size_t i = 0; i < n_modes; i++)
         c->modes[i] = modes[i];
     return n + 1;
@@ -456,6 +458,9 @@ typedef struct {
     size_t seeds, boot, workers;
     const char *only;
     int list;
+    const char *csv_case;     /* --csv CASE SEED SNR: print that log and stop */
+    size_t csv_seed;
+    double csv_snr_db;
 } acc_options;
 
 static void run_one(const acc_case *c, char *csv, size_t len, size_t method,
@@ -563,7 +568,7 @@ static void run_job(const acc_case *cases, const size_t *job_case, size_t job,
     size_t seed = job % o->seeds;
     const acc_case *c = &cases[ci];
     sim_log s;
-    if (simulate(c, 20240 + seed, ci, &s) != 0)
+    if (simulate(c, 20240 + seed, c->id, &s) != 0)
         return;
     for (size_t k = 0; k < N_SNR; k++) {
         size_t len = 0;
@@ -669,7 +674,11 @@ typedef struct {
     size_t n, ok, matched;
     summary dre, dfreq_pct, dzeta_pct;
     double worst_freq_pct, worst_zeta_pct;   /* largest |error| over the seeds */
-    size_t covered, with_bounds, wrong, ambiguous, raw_wrong, no_input;
+    size_t covered, with_bounds, raw_wrong, no_input;
+    size_t right;            /* verdict word = the true class (flagged or not) */
+    size_t undecided;        /* verdict word "marginal": the class is left open */
+    size_t wrong;            /* wrong class, not flagged AMBIGUOUS: confident and wrong */
+    size_t ambiguous;        /* flagged AMBIGUOUS for any reason (class, type, Nyquist) */
     size_t regime_count[4];
     size_t zeta_outside, freq_outside;       /* seeds outside 15% / 1% */
     size_t wrong_said_stable;
@@ -705,16 +714,18 @@ static cell_stats cell(const acc_case *c, const size_t *job_case, size_t n_jobs,
         cs.ok++;
         if (r->regime >= 0 && r->regime < 4)
             cs.regime_count[r->regime]++;
-        int confident = !r->ambiguous &&
-                        (r->stability == EL_STABLE || r->stability == EL_UNSTABLE);
-        int said = r->stability == EL_STABLE ? 1 : -1;
-        if (confident && said != tc) {
+        int said = r->stability == EL_STABLE ? 1 : r->stability == EL_UNSTABLE ? -1 : 0;
+        if (said == tc)
+            cs.right++;
+        else if (said == 0)
+            cs.undecided++;
+        else if (!r->ambiguous) {
             cs.wrong++;
             cs.wrong_said_stable += said == 1;
-        }
-        if (r->ambiguous && r->stability != EL_MARGINAL && said != tc)
+        } else {
             cs.wrong_flagged++;
-        cs.ambiguous += (size_t)(r->ambiguous || r->stability == EL_MARGINAL);
+        }
+        cs.ambiguous += (size_t)r->ambiguous;
         cs.raw_wrong += (size_t)(r->raw_class != 0 && r->raw_class != tc);
         if (!r->matched)
             continue;
@@ -786,8 +797,9 @@ static void print_case_header(const acc_case *c)
         printf("truth, least damped: lambda = %+.4f 1/s (real), %s\n", t.re,
                t.re < 0 ? "stable" : "unstable");
     printf("\n");
-    printf("| SNR | method | ok | dRe med | dRe IQR | df%% med | df%% IQR | dzeta%% med | dzeta%% IQR | cover | wrong | ambig | raw wrong | regime |\n");
-    printf("|---|---|---|---|---|---|---|---|---|---|---|---|---|---|\n");
+    printf("| SNR | method | ok | dRe med | dRe IQR | df%% med | df%% IQR | dzeta%% med | dzeta%% IQR "
+           "| cover | right | undec | WRONG | wrong, flagged | raw wrong | regime |\n");
+    printf("|---|---|---|---|---|---|---|---|---|---|---|---|---|---|---|---|\n");
 }
 
 static void regime_text(const cell_stats *cs, char *buf, size_t size)
@@ -821,9 +833,10 @@ static void print_row(const acc_case *c, size_t k, size_t m, const cell_stats *c
         regime_text(cs, reg, sizeof reg);
     char label[24];
     snprintf(label, sizeof label, "%s%s", method_label[m], cs->no_input ? "*" : "");
-    printf("| %s | %s | %zu/%zu | %s | %s | %s | %s | %s | %s | %s | %zu | %zu | %zu | %s |\n",
-           snr, label, cs->ok, cs->n, a, b, f1, f2, z1, z2, cov, cs->wrong,
-           cs->ambiguous, cs->raw_wrong, reg);
+    printf("| %s | %s | %zu/%zu | %s | %s | %s | %s | %s | %s | %s | %zu | %zu | %zu | %zu | %zu "
+           "| %s |\n",
+           snr, label, cs->ok, cs->n, a, b, f1, f2, z1, z2, cov, cs->right, cs->undecided,
+           cs->wrong, cs->wrong_flagged, cs->raw_wrong, reg);
 }
 
 /* ------------------------------------------------------------------ */
@@ -906,7 +919,7 @@ static void print_targets(const acc_case *cases, size_t n_cases, const size_t *j
         if (cs.n == 0)
             continue;
         tot3 += cs.ok;
-        amb3 += cs.ambiguous;
+        amb3 += cs.undecided + cs.wrong_flagged;
         if (cs.wrong > 0) {
             bad3 += cs.wrong;
             printf("    %-14s %zu of %zu logs wrong (%zu called stable)\n", cases[ci].name,
@@ -921,9 +934,9 @@ static void print_targets(const acc_case *cases, size_t n_cases, const size_t *j
             printf("    %-14s %zu of %zu runs failed (no verdict)\n", cases[ci].name,
                    cs.n - cs.ok, cs.n);
     }
-    printf("    => %s: %zu confident wrong verdicts in %zu logs (%zu ambiguous; %zu with the "
-           "wrong class flagged AMBIGUOUS)\n\n", bad3 == 0 ? "MET" : "NOT MET", bad3, tot3, amb3,
-           flagged3);
+    printf("    => %s: %zu confident wrong verdicts in %zu logs (%zu ambiguous about the class,"
+           " of\n       which %zu say the wrong class flagged AMBIGUOUS)\n\n",
+           bad3 == 0 ? "MET" : "NOT MET", bad3, tot3, amb3, flagged3);
 }
 
 /* One line per method: the same targets counted for every estimator. */
@@ -932,11 +945,11 @@ static void print_method_summary(const acc_case *cases, size_t n_cases,
                                  const shared_block *sh)
 {
     printf("## Every method against the same targets\n\n");
-    printf("| method | runs failed | wrong >= 20 dB | wrong 10 dB | ambiguous 10 dB | "
-           "coverage of Re | light 20 dB: worst median dzeta%% | worst median df%% |\n");
-    printf("|---|---|---|---|---|---|---|---|\n");
+    printf("| method | runs failed | WRONG >= 20 dB | WRONG 10 dB | undecided or flagged 10 dB | "
+           "right 10 dB | coverage of Re | light 20 dB: worst median dzeta%% | worst median df%% |\n");
+    printf("|---|---|---|---|---|---|---|---|---|\n");
     for (size_t m = 0; m < N_METHODS; m++) {
-        size_t failed = 0, runs = 0, w20 = 0, n20 = 0, w10 = 0, n10 = 0, a10 = 0;
+        size_t failed = 0, runs = 0, w20 = 0, n20 = 0, w10 = 0, n10 = 0, a10 = 0, r10 = 0;
         size_t cov = 0, nb = 0;
         double wz = 0.0, wf = 0.0;
         int light = 0;
@@ -953,7 +966,8 @@ static void print_method_summary(const acc_case *cases, size_t n_cases,
                 } else {
                     w10 += cs.wrong;
                     n10 += cs.ok;
-                    a10 += cs.ambiguous;
+                    a10 += cs.undecided + cs.wrong_flagged;
+                    r10 += cs.right;
                 }
                 if (snr_list[k] == 20.0 && case_lightly_damped(&cases[ci]) && cs.n > 0) {
                     light = 1;
@@ -968,8 +982,8 @@ static void print_method_summary(const acc_case *cases, size_t n_cases,
         char zt[24], ft[24];
         fmt_num(zt, sizeof zt, light ? wz : NAN, 1, 0);
         fmt_num(ft, sizeof ft, light ? wf : NAN, 2, 0);
-        printf("| %s | %zu/%zu | %zu/%zu | %zu/%zu | %zu/%zu | %.0f%% | %s | %s |\n",
-               method_label[m], failed, runs, w20, n20, w10, n10, a10, n10,
+        printf("| %s | %zu/%zu | %zu/%zu | %zu/%zu | %zu/%zu | %zu/%zu | %.0f%% | %s | %s |\n",
+               method_label[m], failed, runs, w20, n20, w10, n10, a10, n10, r10, n10,
                nb ? 100.0 * (double)cov / (double)nb : 0.0, zt, ft);
     }
 }
@@ -1031,7 +1045,7 @@ static int parse_size(const char *s, size_t *out)
 static int parse_args(int argc, char **argv, acc_options *o)
 {
     long cores = sysconf(_SC_NPROCESSORS_ONLN);
-    o->seeds = 6;
+    o->seeds = 10;
     o->boot = 200;
     o->workers = cores > 0 ? (size_t)cores : 1;
     o->only = NULL;
@@ -1055,6 +1069,16 @@ static int parse_args(int argc, char **argv, acc_options *o)
             o->only = argv[++i];
         } else if (strcmp(a, "--list") == 0) {
             o->list = 1;
+        } else if (strcmp(a, "--csv") == 0 && i + 3 < argc) {
+            o->csv_case = argv[++i];
+            char *end = NULL;
+            o->csv_seed = (size_t)strtoul(argv[++i], &end, 10);
+            if (*end != '\0')
+                goto usage;
+            const char *snr = argv[++i];
+            o->csv_snr_db = strcmp(snr, "inf") == 0 ? INFINITY : strtod(snr, &end);
+            if (strcmp(snr, "inf") != 0 && *end != '\0')
+                goto usage;
         } else {
             goto usage;
         }
@@ -1062,7 +1086,7 @@ static int parse_args(int argc, char **argv, acc_options *o)
     return 0;
 usage:
     fprintf(stderr, "usage: accuracy [--quick] [--seeds N (1..64)] [--boot N] [--workers N]\n"
-                    "                [--case NAME[,NAME...]] [--list]\n");
+                    "                [--case NAME[,NAME...]] [--list] [--csv CASE SEED SNR|inf]\n");
     return 1;
 }
 
@@ -1095,6 +1119,27 @@ int main(int argc, char **argv)
         for (size_t i = 0; i < n_all; i++)
             printf("%-14s %s; %s\n", all[i].name, all[i].about, sim_regime_names[all[i].regime]);
         return 0;
+    }
+    if (o.csv_case != NULL) {
+        /* The log of one cell exactly as the study feeds it to
+         * el_assess_run, to reproduce a row with the eigenlog program. */
+        for (size_t i = 0; i < n_all; i++) {
+            if (strcmp(all[i].name, o.csv_case) != 0)
+                continue;
+            sim_log s;
+            if (simulate(&all[i], 20240 + o.csv_seed, all[i].id, &s) != 0)
+                return 3;
+            size_t len = 0;
+            char *csv = write_csv(&all[i], &s, o.csv_snr_db, &len);
+            sim_free(&s);
+            if (csv == NULL)
+                return 4;
+            fwrite(csv, 1, len, stdout);
+            free(csv);
+            return 0;
+        }
+        fprintf(stderr, "accuracy: no case named %s (see --list)\n", o.csv_case);
+        return 1;
     }
     acc_case cases[MAX_CASES];
     size_t n_cases = 0;
@@ -1158,12 +1203,15 @@ int main(int argc, char **argv)
     printf("statistics over the seeds: median and IQR (75th - 25th percentile) of the error of "
            "the\nestimated mode nearest to the truth's least-damped eigenvalue: dRe in 1/s,"
            " df%% and dzeta%%\nrelative to the truth in percent (- for a real mode).\n");
-    printf("cover: truth Re lambda inside the 95%% bounds of that mode; wrong: confident "
-           "(not ambiguous)\nstable/unstable verdict of the wrong class; ambig: ambiguous "
-           "verdicts; raw wrong: the\nestimator's own bootstrap alone (P(stable) >= 0.95 or <= "
-           "0.05) of the wrong class, before\nthe growth veto and the cross-check; regime "
-           "(auto rows): S stationary, T transient,\nD driven, U undetermined. * = method "
-           "takes no input: run on the outputs alone.\n");
+    printf("cover: truth Re lambda inside the 95%% bounds of that mode (- : no bootstrap ran).\n"
+           "Verdicts (counts of logs): right: the verdict word is the true class (stable or\n"
+           "unstable), flagged AMBIGUOUS or not; undec: the word is \"marginal\", the class is\n"
+           "left open; WRONG: the wrong class, not flagged AMBIGUOUS (confident and wrong);\n"
+           "wrong, flagged: the wrong class, flagged AMBIGUOUS (e.g. for the plane region);\n"
+           "raw wrong: the estimator's own bootstrap alone (P(stable) >= 0.95 or <= 0.05) says\n"
+           "the wrong class, before the growth veto and the cross-check.\n"
+           "regime (auto rows): detected S stationary, T transient, D driven, U undetermined.\n"
+           "* = the method takes no input: run on the output channels alone.\n");
     for (size_t ci = 0; ci < n_cases; ci++) {
         print_case_header(&cases[ci]);
         for (size_t k = 0; k < N_SNR; k++)
