@@ -8,9 +8,13 @@
  * targets of the issue met or not.
  *
  * Usage: accuracy [--quick] [--seeds N] [--boot N] [--workers N]
- *                 [--case NAME] [--list]
+ *                 [--case NAME[,NAME...]] [--list] [--csv CASE SEED SNR|inf]
  * Default: 10 seeds per cell, 200 bootstrap replicates, one worker process
- * per core. --quick: 2 seeds, 100 replicates.
+ * per core (about 2.5 minutes on two cores). --quick: 2 seeds, 100
+ * replicates. --list names the cases; --csv prints the log of one cell
+ * exactly as the study feeds it to the pipeline (SEED counts from 0), so a
+ * row can be reproduced with the eigenlog program; the bootstrap seed of
+ * seed s is 1000 s + 7.
  *
  * Workers are processes, not threads: el_assess_run creates FFTW plans,
  * and FFTW's planner is not thread-safe. Each log is simulated from its
@@ -784,17 +788,17 @@ static void fmt_num(char *buf, size_t size, double v, int decimals, int is_signe
 static void print_case_header(const acc_case *c)
 {
     eig_spec t = case_least_damped(c);
-    printf("\n### %s: %s; %s\n", c->name, c->about, sim_regime_names[c->regime]);
-    printf("%zu states, %zu %s, %zu samples at dt %.3g s (%.0f s)%s%s\n",
+    printf("\n### %s: %s; %s\n\n", c->name, c->about, sim_regime_names[c->regime]);
+    printf("%zu states, %zu %s, %zu samples at dt %.3g s (%.0f s)%s%s.\n",
            case_states(c), c->n_sensors, c->n_sensors > 1 ? "mixed sensors" : "sensor",
            c->n_samples, c->dt_s, (double)c->n_samples * c->dt_s,
            c->lags_auto ? ", --lags auto" : "", c->has_input ? ", --input u" : "");
     if (t.im > 0)
-        printf("truth, least damped: lambda = %+.4f +/- %.4fi 1/s, %.4f Hz, zeta %.4f, %s\n",
+        printf("Truth, least damped: lambda = %+.4f +/- %.4fi 1/s, %.4f Hz, zeta %.4f, %s.\n",
                t.re, t.im, t.im / (2.0 * ACC_PI), -t.re / hypot(t.re, t.im),
                t.re < 0 ? "stable" : "unstable");
     else
-        printf("truth, least damped: lambda = %+.4f 1/s (real), %s\n", t.re,
+        printf("Truth, least damped: lambda = %+.4f 1/s (real), %s.\n", t.re,
                t.re < 0 ? "stable" : "unstable");
     printf("\n");
     printf("| SNR | method | ok | dRe med | dRe IQR | df%% med | df%% IQR | dzeta%% med | dzeta%% IQR "
@@ -920,7 +924,7 @@ static void print_targets(const acc_case *cases, size_t n_cases, const size_t *j
     printf("\n## Targets for auto\n\n");
     /* T1: no confident wrong verdict at 20 dB and above. */
     size_t bad1 = 0, tot1 = 0, flagged1 = 0;
-    printf("T1. No confident wrong stability verdict at 20 dB and above, any regime:\n");
+    printf("**T1. No confident wrong stability verdict at 20 dB and above, any regime.**\n\n");
     for (size_t ci = 0; ci < n_cases; ci++)
         for (size_t k = 0; k < N_SNR; k++) {
             if (!(isinf(snr_list[k]) || snr_list[k] >= 20.0))
@@ -933,28 +937,29 @@ static void print_targets(const acc_case *cases, size_t n_cases, const size_t *j
             snr_text(snr_list[k], snr, sizeof snr);
             if (cs.wrong > 0) {
                 bad1 += cs.wrong;
-                printf("    %-14s %-6s %zu of %zu logs wrong (%zu called stable)\n",
+                printf("- %s, %s: %zu of %zu logs WRONG (%zu called stable)\n",
                        cases[ci].name, snr, cs.wrong, cs.ok, cs.wrong_said_stable);
             }
             if (cs.wrong_flagged > 0) {
                 flagged1 += cs.wrong_flagged;
-                printf("    %-14s %-6s %zu of %zu logs say the wrong class but are flagged "
+                printf("- %s, %s: %zu of %zu logs say the wrong class but are flagged "
                        "AMBIGUOUS\n", cases[ci].name, snr, cs.wrong_flagged, cs.ok);
             }
             if (cs.ok < cs.n)
-                printf("    %-14s %-6s %zu of %zu runs failed (no verdict)\n", cases[ci].name,
+                printf("- %s, %s: %zu of %zu runs failed (no verdict)\n", cases[ci].name,
                        snr, cs.n - cs.ok, cs.n);
         }
-    printf("    => %s: %zu confident wrong verdicts in %zu logs (%zu more with the wrong "
-           "class flagged AMBIGUOUS)\n\n", bad1 == 0 ? "MET" : "NOT MET", bad1, tot1, flagged1);
+    printf("\nResult: **%s**: %zu confident wrong verdicts in %zu logs (%zu more with the "
+           "wrong class flagged AMBIGUOUS).\n\n", bad1 == 0 ? "MET" : "NOT MET", bad1, tot1,
+           flagged1);
 
     /* T2: 20 dB, lightly damped mode: zeta within 15%, frequency within 1%. */
     size_t k20 = snr_index(20.0);
     int met2 = 1, any2 = 0;
-    printf("T2. At 20 dB, lightly damped mode (zeta <= 0.05): damping ratio within 15%% and\n"
-           "    frequency within 1%%, judged on the median error over the seeds (the bias);\n"
-           "    the worst seed and the seeds outside the bound are beside it, and the same count\n"
-           "    without sensor noise (SNR inf), which is the scatter the record length allows:\n\n");
+    printf("**T2. At 20 dB, lightly damped mode (zeta <= 0.05): damping ratio within 15%% and "
+           "frequency within 1%%**, judged on the median error over the seeds (the bias); the "
+           "worst seed and the seeds outside the bound are beside it, and the same count "
+           "without sensor noise (SNR inf), which is the scatter the record length allows.\n\n");
     printf("| case | dzeta%% median | worst | outside 15%% | outside 15%% at inf | df%% median | "
            "worst | outside 1%% | target |\n");
     printf("|---|---|---|---|---|---|---|---|---|\n");
@@ -975,12 +980,13 @@ static void print_targets(const acc_case *cases, size_t n_cases, const size_t *j
                cs.matched, ci_inf.zeta_outside, ci_inf.matched, cs.dfreq_pct.med,
                cs.worst_freq_pct, cs.freq_outside, cs.matched, okz && okf ? "met" : "NOT MET");
     }
-    printf("\n    => %s\n\n", !any2 ? "not evaluated" : met2 ? "MET (on the median)" : "NOT MET");
+    printf("\nResult: **%s**.\n\n", !any2 ? "not evaluated" : met2 ? "MET (on the median)"
+                                                                  : "NOT MET");
 
     /* T3: 10 dB, ambiguous rather than wrong. */
     size_t k10 = snr_index(10.0);
     size_t bad3 = 0, tot3 = 0, amb3 = 0, flagged3 = 0;
-    printf("T3. At 10 dB, ambiguous rather than wrong:\n");
+    printf("**T3. At 10 dB, ambiguous rather than wrong.**\n\n");
     for (size_t ci = 0; ci < n_cases; ci++) {
         cell_stats cs = cell(&cases[ci], job_case, n_jobs, ci, k10, 0, sh);
         if (cs.n == 0)
@@ -989,20 +995,20 @@ static void print_targets(const acc_case *cases, size_t n_cases, const size_t *j
         amb3 += cs.undecided + cs.wrong_flagged;
         if (cs.wrong > 0) {
             bad3 += cs.wrong;
-            printf("    %-14s %zu of %zu logs wrong (%zu called stable)\n", cases[ci].name,
+            printf("- %s: %zu of %zu logs WRONG (%zu called stable)\n", cases[ci].name,
                    cs.wrong, cs.ok, cs.wrong_said_stable);
         }
         if (cs.wrong_flagged > 0) {
             flagged3 += cs.wrong_flagged;
-            printf("    %-14s %zu of %zu logs say the wrong class but are flagged AMBIGUOUS\n",
+            printf("- %s: %zu of %zu logs say the wrong class but are flagged AMBIGUOUS\n",
                    cases[ci].name, cs.wrong_flagged, cs.ok);
         }
         if (cs.ok < cs.n)
-            printf("    %-14s %zu of %zu runs failed (no verdict)\n", cases[ci].name,
+            printf("- %s: %zu of %zu runs failed (no verdict)\n", cases[ci].name,
                    cs.n - cs.ok, cs.n);
     }
-    printf("    => %s: %zu confident wrong verdicts in %zu logs (%zu ambiguous about the class,"
-           " of\n       which %zu say the wrong class flagged AMBIGUOUS)\n\n",
+    printf("\nResult: **%s**: %zu confident wrong verdicts in %zu logs (%zu ambiguous about "
+           "the class, of which %zu say the wrong class flagged AMBIGUOUS).\n\n",
            bad3 == 0 ? "MET" : "NOT MET", bad3, tot3, amb3, flagged3);
 }
 
@@ -1262,23 +1268,32 @@ int main(int argc, char **argv)
     int bad = run_all(cases, job_case, n_jobs, &o, sh);
     double elapsed = now_s() - t0;
 
-    printf("# eigenlog accuracy study (issue 4)\n\n");
-    printf("%zu cases x %zu SNR x %zu seeds = %zu logs; every log through auto, ls, fb, tls,"
-           " iv, ssi\n", n_cases, N_SNR, o.seeds, n_cases * N_SNR * o.seeds);
-    printf("bootstrap: %zu replicates (moving blocks, automatic length, bias-corrected: the "
-           "defaults), level 0.95\n", o.boot);
-    printf("statistics over the seeds: median and IQR (75th - 25th percentile) of the error of "
-           "the\nestimated mode nearest to the truth's least-damped eigenvalue: dRe in 1/s,"
-           " df%% and dzeta%%\nrelative to the truth in percent (- for a real mode).\n");
-    printf("cover: truth Re lambda inside the 95%% bounds of that mode (- : no bootstrap ran).\n"
-           "Verdicts (counts of logs): right: the verdict word is the true class (stable or\n"
-           "unstable), flagged AMBIGUOUS or not; undec: the word is \"marginal\", the class is\n"
-           "left open; WRONG: the wrong class, not flagged AMBIGUOUS (confident and wrong);\n"
-           "wrong, flagged: the wrong class, flagged AMBIGUOUS (e.g. for the plane region);\n"
-           "raw wrong: the estimator's own bootstrap alone (P(stable) >= 0.95 or <= 0.05) says\n"
-           "the wrong class, before the growth veto and the cross-check.\n"
-           "regime (auto rows): detected S stationary, T transient, D driven, U undetermined.\n"
-           "* = the method takes no input: run on the output channels alone.\n");
+    printf("eigenlog accuracy study (issue 4): %zu cases x %zu SNR x %zu seeds = %zu logs, "
+           "every log through auto, ls, fb, tls, iv and ssi.\n\n", n_cases, N_SNR, o.seeds,
+           n_cases * N_SNR * o.seeds);
+    printf("- bootstrap: %zu replicates (the defaults otherwise: moving blocks, automatic "
+           "length, bias correction), level 0.95\n", o.boot);
+    printf("- statistics over the seeds: median and IQR (75th - 25th percentile) of the error "
+           "of the estimated mode nearest to the truth's least-damped eigenvalue: dRe in 1/s, "
+           "df%% and dzeta%% relative to the truth in percent (- for a real mode)\n");
+    printf("- cover: truth Re lambda inside the 95%% bounds of that mode (- : no bootstrap "
+           "ran)\n");
+    printf("- verdicts, counts of logs: right: the verdict word is the true class (stable or "
+           "unstable), flagged AMBIGUOUS or not; undec: the word is \"marginal\", the class is "
+           "left open; WRONG: the wrong class, not flagged AMBIGUOUS (confident and wrong); "
+           "wrong, flagged: the wrong class, flagged AMBIGUOUS (e.g. for the plane region); "
+           "raw wrong: the estimator's own bootstrap alone (P(stable) >= 0.95 or <= 0.05) says "
+           "the wrong class, before the growth veto and the cross-check\n");
+    printf("- regime (auto rows): detected S stationary, T transient, D driven, U "
+           "undetermined\n");
+    printf("- * = the method takes no input: run on the output channels alone\n");
+    print_glance_auto(cases, n_cases, job_case, n_jobs, sh);
+    print_glance_methods(cases, n_cases, job_case, n_jobs, sh, snr_index(20.0));
+    print_glance_methods(cases, n_cases, job_case, n_jobs, sh, snr_index(10.0));
+    print_targets(cases, n_cases, job_case, n_jobs, sh);
+    print_method_summary(cases, n_cases, job_case, n_jobs, sh);
+    print_failures(cases, n_cases, job_case, n_jobs, sh);
+    printf("\n## Per case and SNR, every method\n");
     for (size_t ci = 0; ci < n_cases; ci++) {
         print_case_header(&cases[ci]);
         for (size_t k = 0; k < N_SNR; k++)
@@ -1287,16 +1302,10 @@ int main(int argc, char **argv)
                 print_row(&cases[ci], k, m, &cs);
             }
     }
-    print_glance_auto(cases, n_cases, job_case, n_jobs, sh);
-    print_glance_methods(cases, n_cases, job_case, n_jobs, sh, snr_index(20.0));
-    print_glance_methods(cases, n_cases, job_case, n_jobs, sh, snr_index(10.0));
-    print_targets(cases, n_cases, job_case, n_jobs, sh);
-    print_method_summary(cases, n_cases, job_case, n_jobs, sh);
-    print_failures(cases, n_cases, job_case, n_jobs, sh);
     double cpu = 0.0;
     for (size_t i = 0; i < n_jobs * N_SNR * N_METHODS; i++)
         cpu += sh->res[i].seconds;
-    printf("\nrun time: %.0f s wall, %.0f s in el_assess_run over %zu workers\n", elapsed, cpu,
+    printf("\nRun time: %.0f s wall, %.0f s in el_assess_run over %zu workers.\n", elapsed, cpu,
            o.workers);
     munmap(sh, bytes);
     fclose(tmp);
