@@ -69,6 +69,18 @@ const char *el_method_name(el_method m)
     return (unsigned)m < EL_METHOD_COUNT ? method_names[m] : "?";
 }
 
+const char *el_method_description(el_method m)
+{
+    switch (m) {
+    case EL_METHOD_LS: return "affine least squares";
+    case EL_METHOD_FB: return "forward-backward DMD";
+    case EL_METHOD_TLS: return "total-least-squares DMD";
+    case EL_METHOD_IV: return "instrumental variables";
+    case EL_METHOD_SSI: return "covariance-driven subspace identification";
+    }
+    return "unknown method";
+}
+
 el_status el_method_parse(const char *text, el_method *m, el_error *err)
 {
     for (unsigned i = 0; text != NULL && i < EL_METHOD_COUNT; i++)

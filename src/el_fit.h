@@ -56,6 +56,10 @@ void el_fit_defaults(el_fit_options *opt);
  * "iv", "ssi"); "?" for a value outside the enum. Never NULL. */
 const char *el_method_name(el_method m);
 
+/* The method's name for people ("instrumental variables", ...). Static
+ * text, never NULL. */
+const char *el_method_description(el_method m);
+
 /* Parses a method name as written after --method (exact, lower case).
  * Returns EL_OK and sets *m, or EL_ERR_USAGE (option "--method", hint
  * listing the names) for an unknown name. */

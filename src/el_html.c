@@ -1552,12 +1552,27 @@ static void details_section(ctx *c)
                   s->rows_used, s->resampled ? " (resampled to a uniform grid)" : "",
                   s->filled_cells);
     detail_row_begin(c, "model");
-    el_buf_printf(c->o, "z[k+1] = A<sub>d</sub> z[k] + c, affine least squares%s; %zu state%s "
+    el_buf_printf(c->o, "z[k+1] = A<sub>d</sub> z[k]%s + c, %s%s; %zu state%s "
                   "(%zu channel%s, %zu lag%s), rank %zu%s, %zu snapshot pairs</td></tr>",
-                  m->rank < m->state_dim ? " (exact DMD)" : "", m->state_dim,
+                  m->n_inputs > 0 ? " + B u[k]" : "", el_method_description(m->method),
+                  m->rank < m->state_dim ? " (rank-truncated)" : "", m->state_dim,
                   m->state_dim == 1 ? "" : "s", m->n_channels, m->n_channels == 1 ? "" : "s",
                   m->lags, m->lags == 1 ? "" : "s", m->rank,
-                  m->rank_was_auto ? " (optimal hard threshold)" : "", m->n_pairs);
+                  !m->rank_was_auto ? ""
+                  : m->method == EL_METHOD_LS ? " (optimal hard threshold)"
+                                              : " (canonical-correlation rank test)",
+                  m->n_pairs);
+    if (r->method_was_auto) {
+        detail_row_begin(c, "estimator choice");
+        esc(c, r->method_reason);
+        if (r->cross_ran) {
+            el_buf_printf(c->o, "; cross-check by %s %s", el_method_name(r->cross_method),
+                          r->cross_agrees ? "agrees" : "disagrees");
+            if (isfinite(r->cross_p_stable))
+                el_buf_printf(c->o, " (P(stable) %.3f)", r->cross_p_stable);
+        }
+        put(c, "</td></tr>");
+    }
     detail_row_begin(c, "one-step R&sup2;");
     put_num(c, m->fit_r2, 4);
     put(c, " overall");

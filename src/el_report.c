@@ -55,24 +55,12 @@ static void text_header(const el_assessment *r, el_buf *out)
     el_buf_printf(out, "\n  filled cells %zu\n\n", s->filled_cells);
 }
 
-static const char *method_long_name(el_method m)
-{
-    switch (m) {
-    case EL_METHOD_LS: return "affine least squares";
-    case EL_METHOD_FB: return "forward-backward DMD";
-    case EL_METHOD_TLS: return "total-least-squares DMD";
-    case EL_METHOD_IV: return "instrumental variables";
-    case EL_METHOD_SSI: return "covariance-driven subspace identification";
-    }
-    return "unknown";
-}
-
 static void text_model(const el_assessment *r, el_buf *out)
 {
     const el_model *m = &r->model;
     const el_series *s = &r->series;
     el_buf_printf(out, "Model  z[k+1] = Ad z[k]%s + c  (%s%s)\n",
-                  m->n_inputs > 0 ? " + B u[k]" : "", method_long_name(m->method),
+                  m->n_inputs > 0 ? " + B u[k]" : "", el_method_description(m->method),
                   m->rank < m->state_dim ? ", rank-truncated" : "");
     if (r->method_was_auto) {
         el_buf_printf(out, "  estimator    %s, chosen for %s\n", el_method_name(m->method),
