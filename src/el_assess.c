@@ -346,11 +346,11 @@ static int decided_class(double p_stable, double level, const el_modes *modes,
     return top < -tol ? 1 : top > tol ? -1 : 0;
 }
 
-/* Bounds were asked for but could not be computed (a model with measured
- * inputs has no bootstrap yet): the point estimate's class is reported in
- * a warning, but it is not a verdict that holds at the asked level
- * (docs/accuracy.md, D2: point estimates of two estimators agreed on
- * "stable" for a growing driven system at 10 dB). */
+/* Bounds were asked for but could not be computed (every replicate
+ * failed, or an estimator without a bootstrap): the point estimate's class
+ * is reported in a warning, but it is not a verdict that holds at the
+ * asked level (docs/accuracy.md, D2: point estimates of two estimators
+ * agreed on "stable" for a growing driven system at 10 dB). */
 static el_status withhold_unbounded(el_assessment *r, el_error *err)
 {
     (void)err;
@@ -417,8 +417,16 @@ static el_status cross_check(const el_assess_options *opt, const el_fit_options 
     int cross_leans_unstable = isfinite(r->cross_p_stable)
                                    ? r->cross_p_stable < 0.5
                                    : decided_class(NAN, level, &r->cross_modes, tol) < 0;
+    /* Least squares with inputs is the only second family for a driven
+     * log, and sensor noise biases it towards stability: its confident
+     * "stable" is weak evidence against "unstable" (measured: it said
+     * stable for a growing driven system in 10/10 logs at 30 dB and below,
+     * docs/accuracy.md), while its lean towards "unstable" still counts
+     * against a "stable". */
+    int cross_biased_stable = r->cross_method == EL_METHOD_LS &&
+                              r->regime->regime == EL_REGIME_DRIVEN;
     r->cross_agrees = main_class == 0 || (main_class == 1 && !cross_leans_unstable) ||
-                      (main_class == -1 && cross_class != 1);
+                      (main_class == -1 && (cross_class != 1 || cross_biased_stable));
     if (r->cross_agrees)
         return EL_OK;
     const el_mode *m = r->cross_modes.n_modes > 0 ? &r->cross_modes.modes[0] : NULL;

@@ -237,13 +237,14 @@ static double unpack_cov(size_t dim, const double *sum, double *mean, double *co
 }
 
 /* Window vector of the instrument methods: [x; y; zeta1; zeta2] from the
- * span 2K + 4 states starting at st (x = st[2K+2], y = st[2K+3], zeta1 =
- * st[K+1], zeta2 = st[0]). */
-static void win_vector(size_t r, size_t lags, const double *st, double *v)
+ * span 2K + 4 states of sw doubles each (the first r the reduced state)
+ * starting at st (x = st[2K+2], y = st[2K+3], zeta1 = st[K+1], zeta2 =
+ * st[0]). */
+static void win_vector(size_t r, size_t sw, size_t lags, const double *st, double *v)
 {
-    memcpy(v, st + (2 * lags + 2) * r, r * sizeof(double));
-    memcpy(v + r, st + (2 * lags + 3) * r, r * sizeof(double));
-    memcpy(v + 2 * r, st + (lags + 1) * r, r * sizeof(double));
+    memcpy(v, st + (2 * lags + 2) * sw, r * sizeof(double));
+    memcpy(v + r, st + (2 * lags + 3) * sw, r * sizeof(double));
+    memcpy(v + 2 * r, st + (lags + 1) * sw, r * sizeof(double));
     memcpy(v + 3 * r, st, r * sizeof(double));
 }
 
@@ -541,48 +542,71 @@ static int ssi_core(size_t r, const double *cov, size_t ld, double *a, double *w
 }
 
 /* ------------------------------------------------------------------ */
-/* Providers for the bootstrap engine (el_resample.h). */
+/* Providers for the bootstrap engine (el_resample.h). fb, tls and ssi
+ * take no inputs (dims->n_inputs is 0 for their models); iv appends the
+ * input values of the sample of x to its window vector, as the point fit
+ * does (point_window). */
 
-static size_t pair_nf(size_t r)
+static size_t pair_span(const el_boot_dims *dims)
 {
-    return nf_of(2 * r);
+    (void)dims;
+    return 2;
 }
 
-static size_t win_nf(size_t r)
+static size_t win_span(const el_boot_dims *dims)
 {
-    return nf_of(4 * r);
+    return 2 * dims->lags + 4;
 }
 
-static void pair_features(size_t r, const double *states, double *out)
+static size_t pair_nf(const el_boot_dims *dims)
 {
-    memcpy(out + 1, states, 2 * r * sizeof(double));
-    gram_products(2 * r, out);
+    return nf_of(2 * dims->r);
 }
 
-static void window_features(size_t r, size_t lags, const double *states, double *out)
+static size_t win_nf(const el_boot_dims *dims)
 {
-    win_vector(r, lags, states, out + 1);
-    gram_products(4 * r, out);
+    return nf_of(4 * dims->r + dims->n_inputs);
 }
 
-static size_t fb_work(size_t r)
+static void pair_features(const el_boot_dims *dims, const double *states, double *out)
 {
-    return 2 * r + 4 * r * r + fb_core_work(r);
+    memcpy(out + 1, states, 2 * dims->r * sizeof(double));
+    gram_products(2 * dims->r, out);
 }
 
-static size_t tls_work(size_t r)
+static void window_features(const el_boot_dims *dims, const double *states, double *out)
 {
-    return 2 * r + 4 * r * r + tls_core_work(r);
+    size_t r = dims->r, nu = dims->n_inputs, sw = r + nu;
+    win_vector(r, sw, dims->lags, states, out + 1);
+    memcpy(out + 1 + 4 * r, states + (2 * dims->lags + 2) * sw + r, nu * sizeof(double));
+    gram_products(4 * r + nu, out);
 }
 
-static size_t iv_work(size_t r)
+static size_t pair_work(size_t r)
 {
-    return 4 * r + 16 * r * r + iv_core_work(r, 0);
+    return 2 * r + 4 * r * r;
 }
 
-static size_t ssi_work(size_t r)
+static size_t fb_work(const el_boot_dims *dims)
 {
-    return 4 * r + 16 * r * r + ssi_core_work(r);
+    return pair_work(dims->r) + fb_core_work(dims->r);
+}
+
+static size_t tls_work(const el_boot_dims *dims)
+{
+    return pair_work(dims->r) + tls_core_work(dims->r);
+}
+
+static size_t iv_work(const el_boot_dims *dims)
+{
+    size_t dim = 4 * dims->r + dims->n_inputs;
+    return dim + dim * dim + iv_core_work(dims->r, dims->n_inputs);
+}
+
+static size_t ssi_work(const el_boot_dims *dims)
+{
+    size_t dim = 4 * dims->r;
+    return dim + dim * dim + ssi_core_work(dims->r);
 }
 
 /* The engine's sums need at least a few more windows than unknowns per
@@ -592,11 +616,12 @@ static int too_few(double n, size_t dim)
     return !(n >= (double)(dim + 2));
 }
 
-static int fb_solve(size_t r, const double *sum, double *a, double *offset,
-                    double *work)
+static int fb_solve(const el_boot_dims *dims, const double *sum, double *a, double *b,
+                    double *offset, double *work)
 {
-    size_t dim = 2 * r;
+    size_t r = dims->r, dim = 2 * r;
     double *mean = work, *cov = work + dim;
+    (void)b;
     if (too_few(sum[0], dim))
         return 1;
     unpack_cov(dim, sum, mean, cov);
@@ -607,11 +632,12 @@ static int fb_solve(size_t r, const double *sum, double *a, double *offset,
     return 0;
 }
 
-static int tls_solve(size_t r, const double *sum, double *a, double *offset,
-                     double *work)
+static int tls_solve(const el_boot_dims *dims, const double *sum, double *a, double *b,
+                     double *offset, double *work)
 {
-    size_t dim = 2 * r;
+    size_t r = dims->r, dim = 2 * r;
     double *mean = work, *cov = work + dim;
+    (void)b;
     if (too_few(sum[0], dim))
         return 1;
     unpack_cov(dim, sum, mean, cov);
@@ -622,26 +648,31 @@ static int tls_solve(size_t r, const double *sum, double *a, double *offset,
     return 0;
 }
 
-static int iv_solve(size_t r, const double *sum, double *a, double *offset,
-                    double *work)
+/* B is solved for with A whether or not the caller wants it. */
+static int iv_solve(const el_boot_dims *dims, const double *sum, double *a, double *b,
+                    double *offset, double *work)
 {
-    size_t dim = 4 * r;
-    double *mean = work, *cov = work + dim;
+    size_t r = dims->r, nu = dims->n_inputs, dim = 4 * r + nu;
+    double *mean = work, *cov = work + dim, *core = cov + dim * dim;
     if (too_few(sum[0], dim))
         return 1;
     unpack_cov(dim, sum, mean, cov);
-    if (iv_core(r, 0, cov, dim, a, NULL, cov + dim * dim))
+    /* Without a caller's b, B goes where the covariance was: iv_core has
+     * copied what it needs from cov before it writes a and b. */
+    double *bb = b != NULL ? b : cov;
+    if (iv_core(r, nu, cov, dim, a, bb, core))
         return 1;
     if (offset != NULL)
-        offset_from(r, 0, mean, mean + r, NULL, a, NULL, offset);
+        offset_from(r, nu, mean, mean + r, mean + 4 * r, a, bb, offset);
     return 0;
 }
 
-static int ssi_solve(size_t r, const double *sum, double *a, double *offset,
-                     double *work)
+static int ssi_solve(const el_boot_dims *dims, const double *sum, double *a, double *b,
+                     double *offset, double *work)
 {
-    size_t dim = 4 * r;
+    size_t r = dims->r, dim = 4 * r;
     double *mean = work, *cov = work + dim;
+    (void)b;
     if (too_few(sum[0], dim))
         return 1;
     unpack_cov(dim, sum, mean, cov);
@@ -653,37 +684,20 @@ static int ssi_solve(size_t r, const double *sum, double *a, double *offset,
 }
 
 static const el_boot_provider fb_provider = {
-    "forward-backward", 2, pair_nf, fb_work, pair_features, fb_solve
+    "forward-backward", pair_span, pair_nf, fb_work, pair_features, fb_solve
 };
 
 static const el_boot_provider tls_provider = {
-    "total least squares", 2, pair_nf, tls_work, pair_features, tls_solve
+    "total least squares", pair_span, pair_nf, tls_work, pair_features, tls_solve
 };
 
-/* The instrument methods' window positions depend on K, and a provider's
- * functions receive only r: one feature function per K. */
-#define EST_K_LIST(X)                                                          \
-    X(0) X(1) X(2) X(3) X(4) X(5) X(6) X(7) X(8) X(9) X(10) X(11) X(12) X(13)  \
-    X(14) X(15) X(16) X(17) X(18) X(19) X(20) X(21) X(22) X(23) X(24) X(25)   \
-    X(26) X(27) X(28) X(29) X(30) X(31) X(32) X(33) X(34) X(35) X(36) X(37)   \
-    X(38) X(39) X(40) X(41) X(42) X(43) X(44) X(45) X(46) X(47) X(48) X(49)   \
-    X(50) X(51) X(52) X(53) X(54) X(55) X(56) X(57) X(58) X(59) X(60) X(61)   \
-    X(62) X(63)
+static const el_boot_provider iv_provider = {
+    "instrumental variables", win_span, win_nf, iv_work, window_features, iv_solve
+};
 
-#define EST_WIN_FEATURES(K)                                                    \
-    static void win_features_##K(size_t r, const double *states, double *out) \
-    {                                                                          \
-        window_features(r, K, states, out);                                    \
-    }
-EST_K_LIST(EST_WIN_FEATURES)
-
-#define EST_IV_ENTRY(K) \
-    {"instrumental variables", 2 * (K) + 4, win_nf, iv_work, win_features_##K, iv_solve},
-#define EST_SSI_ENTRY(K) \
-    {"stochastic subspace", 2 * (K) + 4, win_nf, ssi_work, win_features_##K, ssi_solve},
-
-static const el_boot_provider iv_providers[] = {EST_K_LIST(EST_IV_ENTRY)};
-static const el_boot_provider ssi_providers[] = {EST_K_LIST(EST_SSI_ENTRY)};
+static const el_boot_provider ssi_provider = {
+    "stochastic subspace", win_span, win_nf, ssi_work, window_features, ssi_solve
+};
 
 const el_boot_provider *el_estimator_provider(el_method m)
 {
@@ -695,25 +709,32 @@ const el_boot_provider *el_estimator_provider(el_method m)
     case EL_METHOD_TLS:
         return &tls_provider;
     case EL_METHOD_IV:
-        return &iv_providers[0];
+        return &iv_provider;
     case EL_METHOD_SSI:
-        return &ssi_providers[0];
+        return &ssi_provider;
     }
     return NULL;
 }
 
 const el_boot_provider *el_estimator_provider_for(const el_model *model)
 {
-    if (model == NULL || model->n_inputs > 0)
+    if (model == NULL)
         return NULL;
-    if ((model->method == EL_METHOD_IV || model->method == EL_METHOD_SSI) &&
-        model->lags > EL_EST_PROVIDER_MAX_LAGS)
+    if (model->n_inputs > 0 && model->method != EL_METHOD_LS &&
+        model->method != EL_METHOD_IV)
         return NULL;
-    if (model->method == EL_METHOD_IV)
-        return &iv_providers[model->lags];
-    if (model->method == EL_METHOD_SSI)
-        return &ssi_providers[model->lags];
     return el_estimator_provider(model->method);
+}
+
+el_boot_dims el_estimator_boot_dims(const el_model *model)
+{
+    el_boot_dims dims = {0, 0, 0};
+    if (model != NULL) {
+        dims.r = model->rank;
+        dims.n_inputs = model->n_inputs;
+        dims.lags = model->lags;
+    }
+    return dims;
 }
 
 /* ------------------------------------------------------------------ */
@@ -809,8 +830,9 @@ static int model_fits_series(const el_series *s, const el_model *m)
            s->n_samples >= m->lags + 3 && s->n_samples - 1 - m->lags == m->n_pairs;
 }
 
-el_status el_estimator_boot_states(const el_series *series, const el_model *model,
-                                   double **states, size_t *n_states, el_error *err)
+el_status el_estimator_boot_states(const el_series *series, const el_series *inputs,
+                                   const el_model *model, double **states,
+                                   size_t *n_states, el_error *err)
 {
     if (states == NULL || n_states == NULL)
         return el_error_set(err, EL_ERR_INTERNAL, "el_estimator_boot_states: NULL output");
@@ -819,12 +841,19 @@ el_status el_estimator_boot_states(const el_series *series, const el_model *mode
     if (!model_fits_series(series, model))
         return el_error_set(err, EL_ERR_INTERNAL,
                             "el_estimator_boot_states: the series does not fit the model");
-    size_t r = model->rank, m = model->n_pairs;
+    size_t nu = model->n_inputs;
+    if (nu > 0 && (inputs == NULL || inputs->values == NULL ||
+                   inputs->n_channels != nu || inputs->n_samples != series->n_samples ||
+                   model->input_mean == NULL || model->input_scale == NULL))
+        return el_error_set(err, EL_ERR_INTERNAL,
+                            "el_estimator_boot_states: the inputs do not fit the model");
+    size_t r = model->rank, m = model->n_pairs, sw = r + nu;
     double *w = malloc((m + 1) * r * sizeof(double));
     double *chol = malloc(r * r * sizeof(double));
     double *work = malloc(2 * model->state_dim * sizeof(double));
+    double *out = nu > 0 ? malloc((m + 1) * sw * sizeof(double)) : w;
     el_status st = EL_ERR_NOMEM;
-    if (w != NULL && chol != NULL && work != NULL) {
+    if (w != NULL && chol != NULL && work != NULL && out != NULL) {
         double iso = 1.0;
         st = build_states(series, model, model->method == EL_METHOD_TLS, w, chol, &iso,
                           work, err);
@@ -833,11 +862,25 @@ el_status el_estimator_boot_states(const el_series *series, const el_model *mode
     }
     free(chol);
     free(work);
-    if (st != EL_OK) {
+    if (st == EL_OK && nu > 0) {
+        /* State t belongs to sample K + t; its inputs are scaled as the
+         * point fit scales them (point_window). */
+        size_t nn = series->n_samples;
+        for (size_t t = 0; t <= m; t++) {
+            memcpy(out + t * sw, w + t * r, r * sizeof(double));
+            for (size_t j = 0; j < nu; j++)
+                out[t * sw + r + j] =
+                    (inputs->values[j * nn + model->lags + t] - model->input_mean[j]) /
+                    model->input_scale[j];
+        }
+    }
+    if (out != w)
         free(w);
+    if (st != EL_OK) {
+        free(out);
         return st;
     }
-    *states = w;
+    *states = out;
     *n_states = m + 1;
     return EL_OK;
 }
@@ -1329,7 +1372,7 @@ static void point_window(const el_est_plan *p, size_t r, const double *states,
 {
     size_t nu = p->n_inputs, sample;
     if (is_instrument_method(p->method)) {
-        win_vector(r, p->lags, states + u * r, v);
+        win_vector(r, r, p->lags, states + u * r, v);
         sample = p->lags + u + 2 * p->lags + 2;
         for (size_t j = 0; j < nu; j++)
             v[4 * r + j] = (inputs->values[j * p->n_samples + sample] -

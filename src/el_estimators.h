@@ -28,6 +28,8 @@
  * Window vectors v (x = w[t], y = w[t+1]):
  *   fb, tls  span 2:       v = [x; y]
  *   iv, ssi  span 2K + 4:  v = [x; y; w[t-K-1]; w[t-2K-2]]
+ *                          (iv with inputs: [...; u[K+t]], the inputs of
+ *                          the sample of x)
  * The two instrument states of iv and ssi hold samples x[k-K-1..k-3K-2],
  * none of which appears in x or y (whose samples are x[k+1..k-K]), so white
  * sensor noise is uncorrelated with them. */
@@ -41,50 +43,61 @@
 #include "el_resample.h"
 #include "el_timebase.h"
 
-/* iv and ssi providers exist for lags 0..EL_EST_PROVIDER_MAX_LAGS (their
- * span depends on K and the provider interface carries no parameter). */
+/* Most lags the rank test's overlap correction looks at (s1_from_gram in
+ * el_estimators.c: autocorrelations up to this lag). The providers take
+ * any lags (el_boot_dims carries K). */
 #define EL_EST_PROVIDER_MAX_LAGS 63
 
 /* Largest delay depth --lags auto tries by default. */
 #define EL_LAGS_AUTO_MAX 48
 
-/* The statistics provider of method m for a model without inputs and with
- * lags 0 (the iv and ssi spans depend on the lags: use
- * el_estimator_provider_for for a fitted model). ls returns
- * el_boot_provider_ls(). Providers (all stateless, shareable):
+/* The statistics provider of method m (for a fitted model, use it with
+ * the dims of el_estimator_boot_dims: the iv and ssi spans, 2K + 4, and the
+ * input columns come from there). ls returns el_boot_provider_ls().
+ * Providers (all stateless, shareable):
  *   fb  features of [x; y]; solve: A_f = Syx Sxx^-1, A_b = Sxy Syy^-1,
  *       A = (A_f A_b^-1)^(1/2) with the branch of each eigenvalue nearest
  *       to the forward estimate's; fails (returns 1) when Sxx or Sxy is
  *       singular or the root is not real;
  *   tls features of [x; y]; solve: the r leading eigenvectors [E1; E2] of
  *       the centred Gram of [x; y], A = E2 E1^-1; fails when E1 is singular;
- *   iv  features of [x; y; zeta]; solve: A = Syz W Sxz' (Sxz W Sxz')^-1,
- *       W = Szz^+ (eigenvalues below 1e-10 of the largest dropped);
+ *   iv  features of [x; y; zeta; u] (u: the inputs of x's sample, none
+ *       without inputs); solve: with xi = [x; u] and eta = [zeta; u],
+ *       [A B] = Syeta W Sxieta' (Sxieta W Sxieta')^-1, W = Seta^+
+ *       (eigenvalues below 1e-10 of the largest dropped);
  *   ssi features of [x; y; zeta]; solve: SVD of the weighted block Hankel
  *       diag(Sxx^-1/2, Sxx^-1/2) [Sxz; Syz] Szz^+1/2, observability
  *       O = diag(Sxx^1/2, Sxx^1/2) U_r, A = O2 O1^-1 (shift invariance);
- * all with the intercept offset = mean(y) - A mean(x). Returns NULL for a
+ * all with the intercept offset = mean(y) - A mean(x) (- B mean(u)). fb,
+ * tls and ssi require dims->n_inputs == 0. Returns NULL for a
  * value outside the enum. */
 const el_boot_provider *el_estimator_provider(el_method m);
 
 /* The provider that reproduces model's reduced matrix from the states of
- * el_estimator_boot_states: by model->method and model->lags. NULL when
- * there is none: a model with inputs (the provider interface carries no
- * input; see the report), or iv/ssi with more than
- * EL_EST_PROVIDER_MAX_LAGS lags. */
+ * el_estimator_boot_states with the dims of el_estimator_boot_dims: by
+ * model->method. NULL for a NULL model, or for a model with inputs whose
+ * method takes none (only ls and iv take inputs). */
 const el_boot_provider *el_estimator_provider_for(const el_model *model);
 
+/* The dims of a fitted model for its provider: r = model->rank, n_inputs =
+ * model->n_inputs, lags = model->lags (all 0 for NULL). */
+el_boot_dims el_estimator_boot_dims(const el_model *model);
+
 /* The reduced state sequence a model's provider expects: (model->n_pairs
- * + 1) states of model->rank doubles (state t at states[t * rank]),
- * w[t] = T U_r' (z[K+t] - mean(X)), with T the Cholesky whitening of
- * el_boot_reduced_states (same numbers to rounding) for ls, fb, iv and ssi
- * and the scalar sqrt(n_pairs * r / trace(G)) for tls. *states is
- * allocated (free()); *n_states receives n_pairs + 1. Errors:
- * EL_ERR_INTERNAL when the series does not fit the model; EL_ERR_NUMERIC
- * when the projected snapshots have no spread along a basis direction;
- * EL_ERR_NOMEM. */
-el_status el_estimator_boot_states(const el_series *series, const el_model *model,
-                                   double **states, size_t *n_states, el_error *err);
+ * + 1) states of sw = model->rank + model->n_inputs doubles (state t at
+ * states[t * sw]): first w[t] = T U_r' (z[K+t] - mean(X)), with T the
+ * Cholesky whitening of el_boot_reduced_states (same numbers to rounding)
+ * for ls, fb, iv and ssi and the scalar sqrt(n_pairs * r / trace(G)) for
+ * tls; then, with inputs, the scaled inputs of sample K + t,
+ * (u_j - input_mean[j]) / input_scale[j], as the fit scales them. inputs
+ * is the series the model was fitted with (NULL without inputs). *states
+ * is allocated (free()); *n_states receives n_pairs + 1. Errors:
+ * EL_ERR_INTERNAL when the series or the inputs do not fit the model;
+ * EL_ERR_NUMERIC when the projected snapshots have no spread along a basis
+ * direction; EL_ERR_NOMEM. */
+el_status el_estimator_boot_states(const el_series *series, const el_series *inputs,
+                                   const el_model *model, double **states,
+                                   size_t *n_states, el_error *err);
 
 /* The choice of --lags auto. */
 typedef struct {

@@ -106,89 +106,105 @@ static void backward_subst(size_t n, const double *l, double *x)
 }
 
 /* ------------------------------------------------------------------ */
-/* Least-squares statistics provider. */
+/* Least-squares statistics provider (with inputs: DMD with control). */
 
-static size_t ls_n_features(size_t r)
+static size_t ls_span(const el_boot_dims *dims)
 {
-    return 1 + 2 * r + r * (r + 1) / 2 + r * r;
+    (void)dims;
+    return 2;
 }
 
-static size_t ls_work_doubles(size_t r)
+static size_t ls_n_features(const el_boot_dims *dims)
 {
-    return 2 * r * r + 3 * r;
+    size_t r = dims->r, g = r + dims->n_inputs;
+    return 1 + g + r + g * (g + 1) / 2 + r * g;
 }
 
-static void ls_features(size_t r, const double *states, double *out)
+static size_t ls_work_doubles(const el_boot_dims *dims)
 {
-    const double *w = states, *v = states + r;
-    size_t idx = 1 + 2 * r;
+    size_t r = dims->r, g = r + dims->n_inputs;
+    return g * g + r * g + g + r + g;
+}
+
+/* Regressor xi = [w_k; u_k] (the state's stored values), response
+ * y = w_k+1 (the next state's first r values). */
+static void ls_features(const el_boot_dims *dims, const double *states, double *out)
+{
+    size_t r = dims->r, g = r + dims->n_inputs;
+    const double *xi = states, *v = states + g;
+    size_t idx = 1 + g + r;
     out[0] = 1.0;
-    for (size_t i = 0; i < r; i++) {
-        out[1 + i] = w[i];
-        out[1 + r + i] = v[i];
-    }
-    for (size_t j = 0; j < r; j++)
-        for (size_t i = j; i < r; i++)
-            out[idx++] = w[i] * w[j];
-    for (size_t j = 0; j < r; j++)
+    for (size_t i = 0; i < g; i++)
+        out[1 + i] = xi[i];
+    for (size_t i = 0; i < r; i++)
+        out[1 + g + i] = v[i];
+    for (size_t j = 0; j < g; j++)
+        for (size_t i = j; i < g; i++)
+            out[idx++] = xi[i] * xi[j];
+    for (size_t j = 0; j < g; j++)
         for (size_t i = 0; i < r; i++)
-            out[idx++] = v[i] * w[j];
+            out[idx++] = v[i] * xi[j];
 }
 
-/* A = Syx Sxx^-1 with the centred cross-products. In the reduced
- * coordinates Sxx of the full sample is m I (orthonormal projection, then
- * whitening), and a replicate's Sxx is a resampled version of it, so its
- * condition number stays near 1 and an r x r Cholesky loses nothing that a
- * QR of the weighted regression would keep; the pivot test only catches a
- * replicate that really lost a direction. */
-static int ls_solve(size_t r, const double *sum, double *a, double *offset,
-                    double *work)
+/* [A B] = Syxi Sxixi^-1 with the centred cross-products. In the reduced
+ * coordinates the state block of Sxixi over the full sample is m I
+ * (orthonormal projection, then whitening) and the scaled inputs have
+ * unit variance, so a replicate's Sxixi stays well conditioned unless an
+ * input follows the state (which the point fit refuses), and a Cholesky
+ * factorisation loses nothing that a QR of the weighted regression would
+ * keep; the pivot test only catches a replicate that really lost a
+ * direction. */
+static int ls_solve(const el_boot_dims *dims, const double *sum, double *a, double *b,
+                    double *offset, double *work)
 {
+    size_t r = dims->r, nu = dims->n_inputs, g = r + nu;
     double n = sum[0];
-    if (!(n >= (double)(r + 2)))
+    if (!(n >= (double)(g + 2)))
         return 1;
-    double *wbar = work, *vbar = work + r, *x = work + 2 * r;
-    double *sxx = work + 3 * r, *syx = sxx + r * r;
-    for (size_t i = 0; i < r; i++) {
-        wbar[i] = sum[1 + i] / n;
-        vbar[i] = sum[1 + r + i] / n;
-    }
-    size_t idx = 1 + 2 * r;
-    for (size_t j = 0; j < r; j++)
-        for (size_t i = j; i < r; i++) {
-            double v = sum[idx++] - n * wbar[i] * wbar[j];
-            sxx[i + j * r] = v;
-            sxx[j + i * r] = v;
+    double *xbar = work, *vbar = work + g, *x = vbar + r;
+    double *sxx = x + g, *syx = sxx + g * g;
+    for (size_t i = 0; i < g; i++)
+        xbar[i] = sum[1 + i] / n;
+    for (size_t i = 0; i < r; i++)
+        vbar[i] = sum[1 + g + i] / n;
+    size_t idx = 1 + g + r;
+    for (size_t j = 0; j < g; j++)
+        for (size_t i = j; i < g; i++) {
+            double v = sum[idx++] - n * xbar[i] * xbar[j];
+            sxx[i + j * g] = v;
+            sxx[j + i * g] = v;
         }
-    for (size_t j = 0; j < r; j++)
+    for (size_t j = 0; j < g; j++)
         for (size_t i = 0; i < r; i++)
-            syx[i + j * r] = sum[idx++] - n * vbar[i] * wbar[j];
-    if (cholesky_lower(r, sxx, 1e-12))
+            syx[i + j * r] = sum[idx++] - n * vbar[i] * xbar[j];
+    if (cholesky_lower(g, sxx, 1e-12))
         return 1;
-    /* Row i of A solves Sxx a_i' = (row i of Syx)'. */
+    /* Row i of [A B] solves Sxixi c_i' = (row i of Syxi)'. */
     for (size_t i = 0; i < r; i++) {
-        for (size_t j = 0; j < r; j++)
+        for (size_t j = 0; j < g; j++)
             x[j] = syx[i + j * r];
-        forward_subst(r, sxx, x);
-        backward_subst(r, sxx, x);
-        for (size_t j = 0; j < r; j++) {
+        forward_subst(g, sxx, x);
+        backward_subst(g, sxx, x);
+        for (size_t j = 0; j < g; j++)
             if (!isfinite(x[j]))
                 return 1;
+        for (size_t j = 0; j < r; j++)
             a[i + j * r] = x[j];
-        }
-    }
-    if (offset != NULL)
-        for (size_t i = 0; i < r; i++) {
+        if (b != NULL)
+            for (size_t j = 0; j < nu; j++)
+                b[i + j * r] = x[r + j];
+        if (offset != NULL) {
             double v = vbar[i];
-            for (size_t j = 0; j < r; j++)
-                v -= a[i + j * r] * wbar[j];
+            for (size_t j = 0; j < g; j++)
+                v -= x[j] * xbar[j];
             offset[i] = v;
         }
+    }
     return 0;
 }
 
 static const el_boot_provider ls_provider = {
-    "least squares", 2, ls_n_features, ls_work_doubles, ls_features, ls_solve
+    "least squares", ls_span, ls_n_features, ls_work_doubles, ls_features, ls_solve
 };
 
 const el_boot_provider *el_boot_provider_ls(void)
@@ -241,8 +257,9 @@ size_t el_boot_draw_blocks_grid(el_rng *rng, size_t n_pairs, size_t block_length
 
 struct el_boot_engine {
     const el_boot_provider *prov;
-    size_t r, n_states, n_pairs, d, stride, n_chk;
-    double *states;   /* n_states * r */
+    el_boot_dims dims;
+    size_t r, sw, n_states, n_pairs, d, stride, n_chk;  /* sw: doubles per state */
+    double *states;   /* n_states * sw */
     double *gbar;     /* d: mean feature vector */
     double *prefix;   /* n_chk * d: prefix sums of centred features at j = q * stride */
 };
@@ -258,50 +275,57 @@ static void kahan_add(double *s, double *c, double y)
     *s = t;
 }
 
-static el_status engine_create(const el_boot_provider *provider, const double *states,
-                               size_t n_states, size_t r, size_t max_bytes,
-                               size_t stride, el_boot_engine **engine, el_error *err);
+static el_status engine_create(const el_boot_provider *provider,
+                               const el_boot_dims *dims, const double *states,
+                               size_t n_states, size_t max_bytes, size_t stride,
+                               el_boot_engine **engine, el_error *err);
 
 el_status el_boot_engine_create(const el_boot_provider *provider,
-                                const double *states, size_t n_states,
-                                size_t r, size_t max_bytes,
+                                const el_boot_dims *dims, const double *states,
+                                size_t n_states, size_t max_bytes,
                                 el_boot_engine **engine, el_error *err)
 {
-    return engine_create(provider, states, n_states, r, max_bytes, 0, engine, err);
+    return engine_create(provider, dims, states, n_states, max_bytes, 0, engine, err);
 }
 
 el_status el_boot_engine_create_strided(const el_boot_provider *provider,
+                                        const el_boot_dims *dims,
                                         const double *states, size_t n_states,
-                                        size_t r, size_t stride,
-                                        el_boot_engine **engine, el_error *err)
+                                        size_t stride, el_boot_engine **engine,
+                                        el_error *err)
 {
-    return engine_create(provider, states, n_states, r, 0, stride < 1 ? 1 : stride,
+    return engine_create(provider, dims, states, n_states, 0, stride < 1 ? 1 : stride,
                          engine, err);
 }
 
 /* stride 0: derived from max_bytes (0 = the default cap). */
-static el_status engine_create(const el_boot_provider *provider, const double *states,
-                               size_t n_states, size_t r, size_t max_bytes,
-                               size_t stride, el_boot_engine **engine, el_error *err)
+static el_status engine_create(const el_boot_provider *provider,
+                               const el_boot_dims *dims, const double *states,
+                               size_t n_states, size_t max_bytes, size_t stride,
+                               el_boot_engine **engine, el_error *err)
 {
     if (engine == NULL)
         return el_error_set(err, EL_ERR_INTERNAL, "el_boot_engine_create: engine is NULL");
     *engine = NULL;
-    if (provider == NULL || states == NULL || r == 0 || n_states < provider->span
-        || provider->span < 1)
+    size_t span = provider != NULL && dims != NULL ? provider->span(dims) : 0;
+    if (provider == NULL || dims == NULL || states == NULL || dims->r == 0 || span < 1
+        || n_states < span)
         return el_error_set(err, EL_ERR_INTERNAL,
                             "el_boot_engine_create: bad arguments (r %zu, %zu states)",
-                            r, n_states);
+                            dims != NULL ? dims->r : 0, n_states);
+    size_t r = dims->r, sw = dims->r + dims->n_inputs;
     if (max_bytes == 0)
         max_bytes = BOOT_DEFAULT_MAX_BYTES;
     el_boot_engine *e = calloc(1, sizeof *e);
     if (e == NULL)
         return el_error_set(err, EL_ERR_NOMEM, "out of memory (bootstrap engine)");
     e->prov = provider;
+    e->dims = *dims;
     e->r = r;
+    e->sw = sw;
     e->n_states = n_states;
-    e->n_pairs = n_states - provider->span + 1;
-    e->d = provider->n_features(r);
+    e->n_pairs = n_states - span + 1;
+    e->d = provider->n_features(dims);
     double table_bytes = (double)(e->n_pairs + 1) * (double)e->d * sizeof(double);
     e->stride = (size_t)ceil(table_bytes / (double)max_bytes);
     if (e->stride < stride)
@@ -309,7 +333,7 @@ static el_status engine_create(const el_boot_provider *provider, const double *s
     if (e->stride < 1)
         e->stride = 1;
     e->n_chk = e->n_pairs / e->stride + 1;
-    e->states = malloc(n_states * r * sizeof(double));
+    e->states = malloc(n_states * sw * sizeof(double));
     e->gbar = calloc(e->d, sizeof(double));
     e->prefix = malloc(e->n_chk * e->d * sizeof(double));
     double *s = calloc(2 * e->d, sizeof(double));
@@ -322,7 +346,7 @@ static el_status engine_create(const el_boot_provider *provider, const double *s
         return el_error_set(err, EL_ERR_NOMEM, "out of memory (bootstrap engine, %zu pairs)",
                             n_states);
     }
-    memcpy(e->states, states, n_states * r * sizeof(double));
+    memcpy(e->states, states, n_states * sw * sizeof(double));
     size_t d = e->d;
     double *c = s + d;
     /* One pass. The prefixes are centred on the mean of a leading sample
@@ -339,7 +363,7 @@ static el_status engine_create(const el_boot_provider *provider, const double *s
         return el_error_set(err, EL_ERR_NOMEM, "out of memory (bootstrap engine)");
     }
     for (size_t k = 0; k < lead; k++) {
-        provider->features(r, e->states + k * r, g);
+        provider->features(&e->dims, e->states + k * sw, g);
         for (size_t f = 0; f < d; f++)
             kahan_add(&s[f], &c[f], g[f]);
     }
@@ -348,7 +372,7 @@ static el_status engine_create(const el_boot_provider *provider, const double *s
     memset(s, 0, 2 * d * sizeof(double));
     memset(e->prefix, 0, d * sizeof(double));
     for (size_t k = 0; k < e->n_pairs; k++) {
-        provider->features(r, e->states + k * r, g);
+        provider->features(&e->dims, e->states + k * sw, g);
         for (size_t f = 0; f < d; f++)
             kahan_add(&s[f], &c[f], g[f] - centre[f]);
         if ((k + 1) % e->stride == 0) {
@@ -389,7 +413,7 @@ size_t el_boot_engine_features(const el_boot_engine *engine) { return engine->d;
 
 size_t el_boot_engine_work_doubles(const el_boot_engine *engine)
 {
-    return 3 * engine->d + engine->prov->work_doubles(engine->r);
+    return 3 * engine->d + engine->prov->work_doubles(&engine->dims);
 }
 
 /* acc += sign * P(j), the prefix sum of centred features over pairs [0, j). */
@@ -401,7 +425,7 @@ static void add_prefix(const el_boot_engine *e, size_t j, double sign,
     for (size_t f = 0; f < d; f++)
         acc[f] += sign * p[f];
     for (size_t k = q * e->stride; k < j; k++) {
-        e->prov->features(e->r, e->states + k * e->r, tmp);
+        e->prov->features(&e->dims, e->states + k * e->sw, tmp);
         for (size_t f = 0; f < d; f++)
             acc[f] += sign * (tmp[f] - e->gbar[f]);
     }
@@ -440,7 +464,7 @@ int el_boot_engine_assemble(const el_boot_engine *engine,
 {
     double *sum = work, *rest = work + engine->d;
     el_boot_engine_sum(engine, blocks, n_blocks, sum, rest);
-    return engine->prov->solve(engine->r, sum, a, offset, rest);
+    return engine->prov->solve(&engine->dims, sum, a, NULL, offset, rest);
 }
 
 /* ------------------------------------------------------------------ */
@@ -927,9 +951,12 @@ typedef struct {
     /* read-only during the run */
     const el_boot_engine *engine;
     const el_boot_provider *prov;
-    const double *w0;             /* r: first reduced state (model kind) */
+    el_boot_dims dims;            /* of the least-squares states w0 */
+    const double *w0;             /* (m + 1) * sw least-squares states: the first
+                                     starts a model replicate, the inputs of all
+                                     drive it (model kind) */
     const double *resid;          /* m * r centred residuals (model kind) */
-    const double *a0, *c0;        /* point fit in reduced coordinates */
+    const double *a0, *b0, *c0;   /* point fit in reduced coordinates (b0: r x nu) */
     const el_modes *point;
     /* Bias correction: per point mode, and of trace and determinant,
      * subtracted from every replicate (NULL: none). */
@@ -938,7 +965,7 @@ typedef struct {
     int bias_phase;               /* 1: the run measures the bias */
     double *bias_rec;             /* bias phase: 2 n_modes + 2 per replicate */
     unsigned char *bias_ok;
-    size_t r, m, block, block_pw, grid, n_modes, total, n_bias;
+    size_t r, sw, nu, m, block, block_pw, grid, n_modes, total, n_bias;
     int bias_refused;             /* the bias round measured no small-sample bias */
     el_resample_kind kind;
     uint64_t seed;
@@ -993,7 +1020,7 @@ static el_status worker_init(boot_worker *w, boot_shared *sh, const el_modes *po
     w->work = malloc(el_boot_engine_work_doubles(sh->engine) * sizeof(double));
     w->sum = malloc(d * sizeof(double));
     w->feat = malloc(d * sizeof(double));
-    w->st = malloc(2 * r * sizeof(double));
+    w->st = malloc(2 * sh->sw * sizeof(double));
     w->a = malloc(r * r * sizeof(double));
     w->ageev = malloc(r * r * sizeof(double));
     w->wr = malloc(r * sizeof(double));
@@ -1024,29 +1051,35 @@ static el_status worker_init(boot_worker *w, boot_shared *sh, const el_modes *po
 static int model_replicate(boot_worker *w, el_rng *rng)
 {
     boot_shared *sh = w->sh;
-    size_t r = sh->r, d = el_boot_engine_features(sh->engine);
+    size_t r = sh->r, sw = sh->sw, nu = sh->nu, d = el_boot_engine_features(sh->engine);
     size_t nb = el_boot_draw_blocks(rng, sh->m, sh->block, w->blocks);
-    double *prev = w->st, *next = w->st + r;
-    memcpy(prev, sh->w0, r * sizeof(double));
+    double *prev = w->st, *next = w->st + sw;
+    memcpy(prev, sh->w0, sw * sizeof(double));
     memset(w->sum, 0, d * sizeof(double));
+    size_t step = 0;
     for (size_t b = 0; b < nb; b++)
-        for (size_t t = 0; t < w->blocks[b].length; t++) {
+        for (size_t t = 0; t < w->blocks[b].length; t++, step++) {
             const double *e = sh->resid + (w->blocks[b].start + t) * r;
+            /* The measured inputs stay where they were (fixed regressors):
+             * only the state is regenerated. */
             for (size_t i = 0; i < r; i++) {
                 double v = sh->c0[i] + e[i];
                 for (size_t j = 0; j < r; j++)
                     v += sh->a0[i + j * r] * prev[j];
+                for (size_t j = 0; j < nu; j++)
+                    v += sh->b0[i + j * r] * prev[r + j];
                 next[i] = v;
             }
-            sh->prov->features(r, w->st, w->feat);
+            memcpy(next + r, sh->w0 + (step + 1) * sw + r, nu * sizeof(double));
+            sh->prov->features(&sh->dims, w->st, w->feat);
             for (size_t f = 0; f < d; f++)
                 w->sum[f] += w->feat[f];
-            memcpy(prev, next, r * sizeof(double));
+            memcpy(prev, next, sw * sizeof(double));
         }
     for (size_t f = 0; f < d; f++)
         if (!isfinite(w->sum[f]))
             return 1;
-    return sh->prov->solve(r, w->sum, w->a, NULL, w->work);
+    return sh->prov->solve(&sh->dims, w->sum, w->a, NULL, NULL, w->work);
 }
 
 /* Continuous eigenvalues of the r x r reduced matrix a. Returns 0 or 1. */
@@ -1210,18 +1243,23 @@ static size_t thread_count(size_t asked, size_t replicates)
     return t < 1 ? 1 : t;
 }
 
-/* Residuals of the point fit in reduced coordinates, centred. */
-static void reduced_residuals(const double *states, size_t m, size_t r, const double *a,
-                              const double *c, double *res)
+/* Residuals of the point fit in reduced coordinates, centred (states of
+ * r + nu doubles, the inputs after the state). */
+static void reduced_residuals(const double *states, size_t m, size_t r, size_t nu,
+                              const double *a, const double *bm, const double *c,
+                              double *res)
 {
     double *mean = res + m * r; /* caller gives r spare doubles */
+    size_t sw = r + nu;
     memset(mean, 0, r * sizeof(double));
     for (size_t k = 0; k < m; k++) {
-        const double *x = states + k * r, *y = x + r;
+        const double *x = states + k * sw, *y = x + sw;
         for (size_t i = 0; i < r; i++) {
             double v = y[i] - c[i];
             for (size_t j = 0; j < r; j++)
                 v -= a[i + j * r] * x[j];
+            for (size_t j = 0; j < nu; j++)
+                v -= bm[i + j * r] * x[r + j];
             res[k * r + i] = v;
             mean[i] += v;
         }
@@ -1419,7 +1457,7 @@ static double point_mismatch(boot_worker *w, const boot_shared *sh, const el_mod
 }
 
 typedef struct {
-    double *states, *resid, *a0, *c0, *pwork, *bias, *bias_samples;
+    double *states, *resid, *a0, *b0, *c0, *pwork, *bias, *bias_samples;
     double *est_states;           /* the method's own states (non-ls methods) */
     unsigned char *bias_ok;
     el_boot_engine *engine;
@@ -1440,6 +1478,7 @@ static void buffers_free(boot_buffers *b)
     el_boot_engine_destroy(b->est_engine);
     free(b->resid);
     free(b->a0);
+    free(b->b0);
     free(b->c0);
     free(b->pwork);
     el_boot_engine_destroy(b->engine);
@@ -1577,21 +1616,22 @@ static el_status measure_bias(boot_shared *sh, boot_buffers *bf, el_error *err)
 /* The provider's solve on the sum of the features of every pair (the
  * full-sample refit), in one compensated pass. work holds 3 d +
  * prov->work_doubles(r) doubles. Returns 0, or 1 when singular. */
-static int full_sample_solve(const el_boot_provider *prov, const double *states,
-                             size_t n_states, size_t r, double *a, double *offset,
-                             double *work)
+static int full_sample_solve(const el_boot_provider *prov, const el_boot_dims *dims,
+                             const double *states, size_t n_states, double *a,
+                             double *bm, double *offset, double *work)
 {
-    size_t d = prov->n_features(r), pairs = n_states - prov->span + 1;
+    size_t d = prov->n_features(dims), pairs = n_states - prov->span(dims) + 1;
+    size_t sw = dims->r + dims->n_inputs;
     double *sum = work, *comp = work + d, *g = work + 2 * d;
     memset(sum, 0, 2 * d * sizeof(double));
     for (size_t k = 0; k < pairs; k++) {
-        prov->features(r, states + k * r, g);
+        prov->features(dims, states + k * sw, g);
         for (size_t f = 0; f < d; f++)
             kahan_add(&sum[f], &comp[f], g[f]);
     }
     for (size_t f = 0; f < d; f++)
         sum[f] += comp[f];
-    return prov->solve(r, sum, a, offset, work + d);
+    return prov->solve(dims, sum, a, bm, offset, work + d);
 }
 
 /* Block starts on a grid of about an eighth of the block (and the block a
@@ -1618,9 +1658,9 @@ static void choose_grid(boot_shared *sh, size_t pairs)
  * does not depend on the estimator). Only moving blocks: the model-based
  * scheme regenerates one-step pairs, which the lagged statistics of iv/ssi
  * and the backward fit of fb do not consist of. */
-static el_status prepare_method(const el_series *series, const el_model *model,
-                                const el_boot_options *opt, boot_shared *sh,
-                                boot_buffers *bf, el_error *err)
+static el_status prepare_method(const el_series *series, const el_series *inputs,
+                                const el_model *model, const el_boot_options *opt,
+                                boot_shared *sh, boot_buffers *bf, el_error *err)
 {
     if (opt->kind == EL_RESAMPLE_MODEL) {
         el_error_set(err, EL_ERR_USAGE, "model-based resampling works with --method ls only");
@@ -1633,20 +1673,22 @@ static el_status prepare_method(const el_series *series, const el_model *model,
     if (prov == NULL)
         return el_error_set(err, EL_ERR_INTERNAL, "no bootstrap statistics for method %s",
                             el_method_name(model->method));
-    size_t n_states = 0, r = model->rank;
-    el_status st = el_estimator_boot_states(series, model, &bf->est_states, &n_states, err);
+    el_boot_dims dims = el_estimator_boot_dims(model);
+    size_t n_states = 0, span = prov->span(&dims);
+    el_status st = el_estimator_boot_states(series, inputs, model, &bf->est_states,
+                                            &n_states, err);
     if (st != EL_OK)
         return st;
-    if (n_states < prov->span)
+    if (n_states < span)
         return el_error_set(err, EL_ERR_DATA, "too few samples for the %s bootstrap",
                             el_method_name(model->method));
-    size_t pairs = n_states - prov->span + 1;
+    size_t pairs = n_states - span + 1;
     if (opt->block_length == 0)
         sh->block = block_floor(sh->block_pw, pairs);
     if (sh->block > pairs)
         sh->block = pairs;
     choose_grid(sh, pairs);
-    st = el_boot_engine_create_strided(prov, bf->est_states, n_states, r, sh->grid,
+    st = el_boot_engine_create_strided(prov, &dims, bf->est_states, n_states, sh->grid,
                                        &bf->est_engine, err);
     if (st != EL_OK)
         return st;
@@ -1667,28 +1709,46 @@ static el_status prepare_method(const el_series *series, const el_model *model,
     return EL_OK;
 }
 
-static el_status prepare(const el_series *series, const el_model *model,
-                         const el_boot_options *opt, boot_shared *sh, boot_buffers *bf,
-                         int *block_auto, el_error *err)
+/* The least-squares states, fit, residuals and block length (every method
+ * takes its block length from them); with inputs the states carry the
+ * scaled inputs and the fit is DMD with control. */
+static el_status prepare(const el_series *series, const el_series *inputs,
+                         const el_model *model, const el_boot_options *opt,
+                         boot_shared *sh, boot_buffers *bf, int *block_auto,
+                         el_error *err)
 {
-    el_status st = el_boot_reduced_states(series, model, &bf->states, err);
+    size_t r = model->rank, m = model->n_pairs, nu = model->n_inputs;
+    el_boot_dims dims = { r, nu, model->lags };
+    el_status st;
+    if (nu == 0) {
+        st = el_boot_reduced_states(series, model, &bf->states, err);
+    } else {
+        /* The least-squares whitening, as el_boot_reduced_states (an ls
+         * model's own states: its method is not consulted for the scale). */
+        el_model ls_view = *model;
+        ls_view.method = EL_METHOD_LS;
+        size_t n_states = 0;
+        st = el_estimator_boot_states(series, inputs, &ls_view, &bf->states, &n_states,
+                                      err);
+    }
     if (st != EL_OK)
         return st;
-    size_t r = model->rank, m = model->n_pairs;
     const el_boot_provider *prov = el_boot_provider_ls();
-    size_t d = prov->n_features(r);
+    size_t d = prov->n_features(&dims);
     bf->a0 = malloc(r * r * sizeof(double));
+    bf->b0 = malloc((r * nu + 1) * sizeof(double));
     bf->c0 = malloc(r * sizeof(double));
-    bf->pwork = malloc((3 * d + prov->work_doubles(r)) * sizeof(double));
+    bf->pwork = malloc((3 * d + prov->work_doubles(&dims)) * sizeof(double));
     bf->resid = malloc((m + 1) * r * sizeof(double));
-    if (!bf->a0 || !bf->c0 || !bf->pwork || !bf->resid)
+    if (!bf->a0 || !bf->b0 || !bf->c0 || !bf->pwork || !bf->resid)
         return el_error_set(err, EL_ERR_NOMEM, "out of memory (bootstrap)");
-    if (full_sample_solve(prov, bf->states, m + 1, r, bf->a0, bf->c0, bf->pwork)) {
+    if (full_sample_solve(prov, &dims, bf->states, m + 1, bf->a0, bf->b0, bf->c0,
+                          bf->pwork)) {
         el_error_set(err, EL_ERR_NUMERIC, "bootstrap: the full-sample refit is singular");
         el_error_hint(err, "use a lower --rank");
         return EL_ERR_NUMERIC;
     }
-    reduced_residuals(bf->states, m, r, bf->a0, bf->c0, bf->resid);
+    reduced_residuals(bf->states, m, r, nu, bf->a0, bf->b0, bf->c0, bf->resid);
     *block_auto = opt->block_length == 0;
     if (*block_auto) {
         st = auto_block(bf->resid, m, r, &sh->block, err);
@@ -1713,20 +1773,26 @@ static el_status prepare(const el_series *series, const el_model *model,
         choose_grid(sh, m);
     /* A non-ls method builds the engine of its own statistics instead. */
     if (model->method == EL_METHOD_LS) {
-        st = el_boot_engine_create_strided(prov, bf->states, m + 1, r, sh->grid,
+        st = el_boot_engine_create_strided(prov, &dims, bf->states, m + 1, sh->grid,
                                            &bf->engine, err);
         if (st != EL_OK)
             return st;
     }
     sh->engine = bf->engine;
     sh->prov = prov;
+    sh->dims = dims;
     sh->w0 = bf->states;
     sh->resid = bf->resid;
     sh->a0 = bf->a0;
+    sh->b0 = bf->b0;
     sh->c0 = bf->c0;
     sh->r = r;
+    sh->nu = nu;
+    sh->sw = r + nu;
     sh->m = m;
-    return model->method == EL_METHOD_LS ? EL_OK : prepare_method(series, model, opt, sh, bf, err);
+    return model->method == EL_METHOD_LS
+               ? EL_OK
+               : prepare_method(series, inputs, model, opt, sh, bf, err);
 }
 
 static el_status add_run_warnings(const boot_shared *sh, const el_model *model,
@@ -1768,9 +1834,18 @@ el_status el_boot_run(const el_series *series, const el_fit_options *opt_fit,
                       const el_boot_options *opt, el_boot_result *result,
                       el_warnings *warnings, el_error *err)
 {
-    (void)opt_fit; /* the model records lags, rank and method; the refit reuses them */
+    /* The model records lags, rank and method; the refit reuses them and
+     * takes only the measured inputs from opt_fit. */
     if (series == NULL || model == NULL || modes == NULL || opt == NULL || result == NULL)
         return el_error_set(err, EL_ERR_INTERNAL, "el_boot_run: NULL argument");
+    const el_series *inputs = opt_fit != NULL ? opt_fit->inputs : NULL;
+    if (model->n_inputs > 0
+        && (inputs == NULL || inputs->values == NULL
+            || inputs->n_channels != model->n_inputs
+            || inputs->n_samples != series->n_samples))
+        return el_error_set(err, EL_ERR_INTERNAL,
+                            "el_boot_run: the model has %zu inputs but the fit options "
+                            "do not give them", model->n_inputs);
     memset(result, 0, sizeof *result);
     el_status st = check_options(opt, err);
     if (st != EL_OK)
@@ -1781,12 +1856,6 @@ el_status el_boot_run(const el_series *series, const el_fit_options *opt_fit,
     result->n_modes = modes->n_modes;
     if (opt->replicates == 0)
         return EL_OK;
-    /* The statistics providers carry no input columns, so a replicate
-     * could not refit B: better no bounds than bounds of another model. */
-    if (model->n_inputs > 0)
-        return el_warnings_add(warnings,
-                               "no bootstrap for a model with measured inputs yet: the "
-                               "verdict rests on the point estimate, without bounds");
     if (modes->n_modes == 0 || modes->n_eigenvalues != model->rank)
         return el_error_set(err, EL_ERR_INTERNAL,
                             "el_boot_run: %zu eigenvalues for a rank-%zu model",
@@ -1796,7 +1865,7 @@ el_status el_boot_run(const el_series *series, const el_fit_options *opt_fit,
     boot_buffers bf;
     memset(&bf, 0, sizeof bf);
     int block_auto = 0;
-    st = prepare(series, model, opt, &sh, &bf, &block_auto, err);
+    st = prepare(series, inputs, model, opt, &sh, &bf, &block_auto, err);
     size_t total = opt->replicates, nm = modes->n_modes;
     sh.n_modes = nm;
     sh.total = total;

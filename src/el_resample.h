@@ -86,11 +86,18 @@ typedef struct el_boot_result {
 } el_boot_result;
 
 /* Runs the bootstrap for the model fitted to series with opt_fit (the same
- * lags, rank and method go through every replicate) and fills *result
- * (zero-initialised or freed). Replicate r draws from random stream r of
- * the seed, so the numbers do not depend on the thread count. Errors:
- * EL_ERR_USAGE for a block length longer than the series; EL_ERR_NUMERIC
- * when fewer than half of the replicates give a model; EL_ERR_NOMEM. */
+ * lags, rank and method go through every replicate; the model records
+ * them) and fills *result (zero-initialised or freed). A model with
+ * measured inputs (ls, iv) takes them from opt_fit->inputs: every
+ * replicate refits A and B together on resampled pairs, the inputs staying
+ * attached to their pairs (model-based replicates keep the inputs as
+ * measured and regenerate the state through A, B and c). Replicate r draws
+ * from random stream r of the seed, so the numbers do not depend on the
+ * thread count. Errors: EL_ERR_USAGE for a block length longer than the
+ * series, or model-based resampling with a method other than ls;
+ * EL_ERR_NUMERIC when fewer than half of the replicates give a model;
+ * EL_ERR_INTERNAL when the model has inputs and opt_fit gives none (or
+ * other ones); EL_ERR_NOMEM. */
 el_status el_boot_run(const el_series *series, const el_fit_options *opt_fit,
                       const el_model *model, const el_modes *modes,
                       const el_boot_options *opt, el_boot_result *result,
@@ -111,38 +118,55 @@ void el_boot_free(el_boot_result *result);
  * fitted in w equal those fitted in U_r coordinates (a similarity by L).
  * ------------------------------------------------------------------- */
 
+/* The shape of the reduced data a provider reads and solves for.
+ *   r:        reduced dimension (the solve writes an r x r matrix);
+ *   n_inputs: measured input values stored after the r state values of
+ *             every state (so a state is r + n_inputs doubles): the scaled
+ *             input u[k] of the sample of that state (fixed regressors);
+ *   lags:     K of the model (the window positions of iv and ssi). */
+typedef struct {
+    size_t r, n_inputs, lags;
+} el_boot_dims;
+
 /* A statistics provider: turns the reduced state sequence (n_states states
- * of r doubles, contiguous) into one additive feature vector per snapshot
- * pair, and a sum of such vectors over any multiset of pairs into the
- * reduced system matrix. Because features add, a bootstrap replicate of
- * any estimator that is a function of lagged cross-products (least squares
- * uses sum X X', Y X', X, Y and the count; instrumental variables,
+ * of dims->r + dims->n_inputs doubles, contiguous) into one additive
+ * feature vector per snapshot pair, and a sum of such vectors over any
+ * multiset of pairs into the reduced system matrix. Because features add,
+ * a bootstrap replicate of any estimator that is a function of lagged
+ * cross-products (least squares uses sum X X', Y X', X, Y and the count,
+ * with inputs the products with U too; instrumental variables,
  * forward-backward, total least squares and covariance-driven subspace
  * identification add Y Y' or products at further lags, span > 2) is
  * assembled from per-block sums without touching the data again.
  *   span:        pair k reads states k .. k+span-1 (2 for one-step models)
- *   n_features:  feature vector length for dimension r
- *   work_doubles: scratch doubles solve() needs for dimension r
+ *   n_features:  feature vector length
+ *   work_doubles: scratch doubles solve() needs
  *   features:    writes the features of one pair; states points at its
  *                span consecutive states
- *   solve:       from the summed features writes a (r x r, column-major)
- *                and, when offset != NULL, the intercept (r); returns 0,
- *                or 1 when the system is singular (the replicate fails).
- * Providers hold no state: they are safe to share between threads. */
+ *   solve:       from the summed features writes a (r x r, column-major),
+ *                when b != NULL the input matrix (r x n_inputs; nothing
+ *                without inputs) and, when offset != NULL, the intercept
+ *                (r); returns 0, or 1 when the system is singular (the
+ *                replicate fails).
+ * Providers hold no state: they are safe to share between threads. Every
+ * function takes the dims the engine was made with; a provider that takes
+ * no inputs requires dims->n_inputs == 0. */
 typedef struct {
     const char *name;
-    size_t span;
-    size_t (*n_features)(size_t r);
-    size_t (*work_doubles)(size_t r);
-    void (*features)(size_t r, const double *states, double *out);
-    int (*solve)(size_t r, const double *sum, double *a, double *offset,
-                 double *work);
+    size_t (*span)(const el_boot_dims *dims);
+    size_t (*n_features)(const el_boot_dims *dims);
+    size_t (*work_doubles)(const el_boot_dims *dims);
+    void (*features)(const el_boot_dims *dims, const double *states, double *out);
+    int (*solve)(const el_boot_dims *dims, const double *sum, double *a, double *b,
+                 double *offset, double *work);
 } el_boot_provider;
 
-/* Affine least squares in reduced coordinates: features
- * [1, w_k, w_k+1, lower triangle of w_k w_k', w_k+1 w_k'] and
- * A = Syx Sxx^-1 from the centred cross-products, solved by an r x r
- * Cholesky factorisation. Never NULL. */
+/* Affine least squares in reduced coordinates, with inputs DMD with
+ * control: regressor xi_k = [w_k; u_k] (r + n_inputs), response w_k+1;
+ * features [1, xi_k, w_k+1, lower triangle of xi_k xi_k', w_k+1 xi_k'] and
+ * [A B] = Syxi Sxixi^-1 from the centred cross-products, solved by a
+ * Cholesky factorisation. Without inputs the layout is that of the plain
+ * regression of w_k+1 on w_k. Span 2 for any lags. Never NULL. */
 const el_boot_provider *el_boot_provider_ls(void);
 
 /* A block of consecutive snapshot pairs [start, start + length). */
@@ -177,7 +201,8 @@ size_t el_boot_draw_blocks_grid(el_rng *rng, size_t n_pairs, size_t block_length
 
 typedef struct el_boot_engine el_boot_engine;
 
-/* Plans the engine for one reduced state sequence: one pass over the
+/* Plans the engine for one reduced state sequence (n_states states of
+ * dims->r + dims->n_inputs doubles; dims is copied): one pass over the
  * pairs computes the mean feature vector and prefix sums of the centred
  * features (compensated summation), kept at every stride-th pair, where
  * stride is the smallest that keeps the prefix table under max_bytes
@@ -188,19 +213,20 @@ typedef struct el_boot_engine el_boot_engine;
  * O(sqrt(n_pairs)) instead of O(n_pairs), so their difference loses about
  * eps * sqrt(n_pairs) rather than eps * n_pairs. *engine receives the new
  * engine (free with el_boot_engine_destroy). Errors: EL_ERR_INTERNAL for a
- * NULL argument, r == 0 or fewer than span states; EL_ERR_NOMEM. */
+ * NULL argument, dims->r == 0 or fewer than span states; EL_ERR_NOMEM. */
 el_status el_boot_engine_create(const el_boot_provider *provider,
-                                const double *states, size_t n_states,
-                                size_t r, size_t max_bytes,
+                                const el_boot_dims *dims, const double *states,
+                                size_t n_states, size_t max_bytes,
                                 el_boot_engine **engine, el_error *err);
 
 /* As el_boot_engine_create with the prefix stride given (>= 1) instead of
  * derived from a memory cap: blocks drawn on a grid of the same size are
  * then summed from stored prefixes only. */
 el_status el_boot_engine_create_strided(const el_boot_provider *provider,
+                                        const el_boot_dims *dims,
                                         const double *states, size_t n_states,
-                                        size_t r, size_t stride,
-                                        el_boot_engine **engine, el_error *err);
+                                        size_t stride, el_boot_engine **engine,
+                                        el_error *err);
 
 /* Frees the engine. NULL is a no-op. */
 void el_boot_engine_destroy(el_boot_engine *engine);

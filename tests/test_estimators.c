@@ -856,29 +856,31 @@ static void test_providers_reproduce_point(void **state)
             fail_msg("%s: %s", el_method_name(meth), err.message);
         const el_boot_provider *prov = el_estimator_provider_for(&m);
         assert_non_null(prov);
-        assert_true(prov->span == (meth == EL_METHOD_IV || meth == EL_METHOD_SSI
-                                       ? 2 * lags + 4 : 2));
+        el_boot_dims dims = el_estimator_boot_dims(&m);
+        assert_true(prov->span(&dims) == (meth == EL_METHOD_IV || meth == EL_METHOD_SSI
+                                              ? 2 * lags + 4 : 2));
         double *states = NULL;
         size_t n_states = 0, r = m.rank;
-        assert_int_equal(el_estimator_boot_states(&ts.s, &m, &states, &n_states, &err),
+        assert_int_equal(el_estimator_boot_states(&ts.s, NULL, &m, &states, &n_states,
+                                                  &err),
                          EL_OK);
         assert_int_equal(n_states, m.n_pairs + 1);
-        size_t nf = prov->n_features(r), n_win = n_states - prov->span + 1;
+        size_t nf = prov->n_features(&dims), n_win = n_states - prov->span(&dims) + 1;
         double *sum = calloc(nf, sizeof(double)), *g = malloc(nf * sizeof(double));
-        double *work = malloc(prov->work_doubles(r) * sizeof(double));
+        double *work = malloc(prov->work_doubles(&dims) * sizeof(double));
         double aw[64], aw_engine[64], ap[64], off_w[8];
         assert_non_null(sum);
         assert_non_null(g);
         assert_non_null(work);
         for (size_t k = 0; k < n_win; k++) {
-            prov->features(r, states + k * r, g);
+            prov->features(&dims, states + k * r, g);
             for (size_t f = 0; f < nf; f++)
                 sum[f] += g[f];
         }
-        assert_int_equal(prov->solve(r, sum, aw, off_w, work), 0);
+        assert_int_equal(prov->solve(&dims, sum, aw, NULL, off_w, work), 0);
         /* The engine: one block covering every pair. */
         el_boot_engine *eng = NULL;
-        assert_int_equal(el_boot_engine_create(prov, states, n_states, r, 0, &eng, &err),
+        assert_int_equal(el_boot_engine_create(prov, &dims, states, n_states, 0, &eng, &err),
                          EL_OK);
         assert_int_equal(el_boot_engine_pairs(eng), n_win);
         double *ework = malloc(el_boot_engine_work_doubles(eng) * sizeof(double));
@@ -954,24 +956,153 @@ static void test_providers_reproduce_point(void **state)
     ts_free(&ts);
 }
 
+/* Measured inputs in the bootstrap states, with lags 1 (so the window of
+ * iv reads the inputs at x's sample, 2K + 2 = 4 states into the window):
+ * el_estimator_boot_states puts the scaled inputs after each reduced state
+ * and leaves the reduced state as it is without inputs (bit for bit: the
+ * same computation); the provider's features summed over every window,
+ * then its solve (through the engine, one block of all pairs), give the
+ * point estimate's eigenvalues for ls and iv with one and two inputs.
+ * Tolerance 1e-9 on mu (|mu| ~ 1), as in test_providers_reproduce_point:
+ * the sums differ from the fit's centred products by rounding (~1e-13),
+ * amplified by Grams of condition ~1e2 and by the eigenvalue's sensitivity
+ * (separation ~0.1); reading the inputs one state early or late moves mu
+ * by orders of magnitude more. */
+static void test_provider_inputs_with_lags(void **state)
+{
+    (void)state;
+    const size_t len = 1500, nc = 2, lags = 1;
+    const double dt = 0.05;
+    double ad[4], sigma[1] = {-0.4}, omega[1] = {2.5};
+    rot_system(1, sigma, omega, dt, ad);
+    double bm[4] = {1.0, 0.3, -0.4, 0.8};
+    double *x = malloc(len * nc * sizeof(double)), *u = malloc(2 * len * sizeof(double));
+    assert_non_null(x);
+    assert_non_null(u);
+    uint64_t seed = 99;
+    double st[2] = {0.0, 0.0};
+    for (size_t k = 0; k < len; k++) {
+        for (size_t j = 0; j < 2; j++)
+            u[j * len + k] = 1.0 + test_normal(&seed);
+        for (size_t c = 0; c < nc; c++)
+            x[c * len + k] = 5.0 * c + st[c] + 0.1 * test_normal(&seed);
+        double t0 = ad[0] * st[0] + ad[2] * st[1] + 0.2 * test_normal(&seed);
+        double t1 = ad[1] * st[0] + ad[3] * st[1] + 0.2 * test_normal(&seed);
+        for (size_t j = 0; j < 2; j++) {
+            t0 += bm[2 * j] * u[j * len + k];
+            t1 += bm[2 * j + 1] * u[j * len + k];
+        }
+        st[0] = t0;
+        st[1] = t1;
+    }
+    test_series ts;
+    ts_init(&ts, len, nc, dt, x);
+    el_method methods[2] = {EL_METHOD_LS, EL_METHOD_IV};
+    for (int mi = 0; mi < 2; mi++)
+        for (size_t nu = 1; nu <= 2; nu++) {
+            test_series tu;
+            ts_init(&tu, len, nu, dt, u);
+            el_fit_options opt;
+            el_fit_defaults(&opt);
+            opt.method = methods[mi];
+            opt.lags = lags;
+            opt.inputs = &tu.s;
+            el_model m = {0};
+            el_error err;
+            el_error_clear(&err);
+            el_status fst = el_fit(&ts.s, &opt, &m, NULL, &err);
+            if (fst != EL_OK)
+                fail_msg("%s: %s", el_method_name(methods[mi]), err.message);
+            size_t r = m.rank, sw = r + nu;
+            assert_true(r >= 2 && r <= 4);
+            double *states = NULL, *bare = NULL;
+            size_t n_states = 0, n_bare = 0;
+            /* Without the input series the states cannot be built. */
+            assert_int_equal(el_estimator_boot_states(&ts.s, NULL, &m, &states, &n_states,
+                                                      &err),
+                             EL_ERR_INTERNAL);
+            assert_null(states);
+            assert_int_equal(el_estimator_boot_states(&ts.s, &tu.s, &m, &states, &n_states,
+                                                      &err),
+                             EL_OK);
+            el_model m0 = m;
+            m0.n_inputs = 0;
+            assert_int_equal(el_estimator_boot_states(&ts.s, NULL, &m0, &bare, &n_bare, &err),
+                             EL_OK);
+            assert_int_equal(n_states, n_bare);
+            for (size_t t = 0; t < n_states; t++) {
+                assert_memory_equal(states + t * sw, bare + t * r, r * sizeof(double));
+                for (size_t j = 0; j < nu; j++)
+                    assert_close(states[t * sw + r + j],
+                                 (u[j * len + lags + t] - m.input_mean[j]) / m.input_scale[j],
+                                 0.0, 1e-15 * 10.0);
+            }
+            const el_boot_provider *prov = el_estimator_provider_for(&m);
+            el_boot_dims dims = el_estimator_boot_dims(&m);
+            el_boot_engine *eng = NULL;
+            assert_int_equal(el_boot_engine_create(prov, &dims, states, n_states, 0, &eng, &err),
+                             EL_OK);
+            double *work = malloc(el_boot_engine_work_doubles(eng) * sizeof(double));
+            assert_non_null(work);
+            el_boot_block all = {0, el_boot_engine_pairs(eng)};
+            double aw[16], wr[4], wi[4], pr[4], pi[4];
+            assert_int_equal(el_boot_engine_assemble(eng, &all, 1, aw, NULL, work), 0);
+            double ap[16];
+            memcpy(ap, m.a_reduced, r * r * sizeof(double));
+            assert_int_equal(LAPACKE_dgeev(LAPACK_COL_MAJOR, 'N', 'N', (lapack_int)r, aw,
+                                           (lapack_int)r, wr, wi, NULL, 1, NULL, 1), 0);
+            assert_int_equal(LAPACKE_dgeev(LAPACK_COL_MAJOR, 'N', 'N', (lapack_int)r, ap,
+                                           (lapack_int)r, pr, pi, NULL, 1, NULL, 1), 0);
+            /* Each point eigenvalue has a refit eigenvalue within 1e-9. */
+            for (size_t i = 0; i < r; i++) {
+                double best = HUGE_VAL;
+                for (size_t j = 0; j < r; j++)
+                    best = fmin(best, hypot(wr[j] - pr[i], wi[j] - pi[i]));
+                if (!(best <= 1e-9))
+                    fail_msg("%s, %zu inputs: eigenvalue %zu off by %.3g",
+                             el_method_name(methods[mi]), nu, i, best);
+            }
+            free(work);
+            el_boot_engine_destroy(eng);
+            free(states);
+            free(bare);
+            el_model_free(&m);
+        }
+    ts_free(&ts); /* frees x */
+    free(u);
+}
+
 static void test_provider_table(void **state)
 {
     (void)state;
     for (int mi = 0; mi < EL_METHOD_COUNT; mi++)
         assert_non_null(el_estimator_provider((el_method)mi));
     assert_ptr_equal(el_estimator_provider(EL_METHOD_LS), el_boot_provider_ls());
-    assert_int_equal(el_estimator_provider(EL_METHOD_IV)->span, 4);
+    el_boot_dims d0 = {2, 0, 0};
+    assert_int_equal(el_estimator_provider(EL_METHOD_IV)->span(&d0), 4);
     el_model m;
     memset(&m, 0, sizeof m);
     m.method = EL_METHOD_SSI;
-    m.lags = EL_EST_PROVIDER_MAX_LAGS;
-    assert_int_equal(el_estimator_provider_for(&m)->span, 2 * EL_EST_PROVIDER_MAX_LAGS + 4);
-    m.lags = EL_EST_PROVIDER_MAX_LAGS + 1;
-    assert_null(el_estimator_provider_for(&m));
-    m.method = EL_METHOD_LS;
+    m.rank = 3;
+    /* Any delay depth: the span 2K + 4 comes from the dims. */
+    m.lags = 2 * EL_EST_PROVIDER_MAX_LAGS;
+    el_boot_dims dm = el_estimator_boot_dims(&m);
+    assert_int_equal(dm.r, 3);
+    assert_int_equal(dm.lags, 2 * EL_EST_PROVIDER_MAX_LAGS);
+    assert_int_equal(el_estimator_provider_for(&m)->span(&dm),
+                     4 * EL_EST_PROVIDER_MAX_LAGS + 4);
+    /* Inputs: ls and iv carry them, the others take none. */
     m.lags = 0;
     m.n_inputs = 1;
     assert_null(el_estimator_provider_for(&m));
+    m.method = EL_METHOD_FB;
+    assert_null(el_estimator_provider_for(&m));
+    m.method = EL_METHOD_LS;
+    assert_ptr_equal(el_estimator_provider_for(&m), el_boot_provider_ls());
+    m.method = EL_METHOD_IV;
+    assert_ptr_equal(el_estimator_provider_for(&m), el_estimator_provider(EL_METHOD_IV));
+    assert_int_equal(el_estimator_boot_dims(&m).n_inputs, 1);
+    assert_null(el_estimator_provider_for(NULL));
 }
 
 /* A plan refilled with another window (and its inputs) gives what a fresh
@@ -1111,6 +1242,7 @@ int main(void)
         cmocka_unit_test(test_fixture_estimators),
         cmocka_unit_test(test_providers_reproduce_point),
         cmocka_unit_test(test_provider_table),
+        cmocka_unit_test(test_provider_inputs_with_lags),
         cmocka_unit_test(test_plan_reuse_methods),
         cmocka_unit_test(test_errors_and_names),
     };
