@@ -417,14 +417,12 @@ static el_status cross_check(const el_assess_options *opt, const el_fit_options 
     int cross_leans_unstable = isfinite(r->cross_p_stable)
                                    ? r->cross_p_stable < 0.5
                                    : decided_class(NAN, level, &r->cross_modes, tol) < 0;
-    /* Least squares with inputs is the only second family for a driven
-     * log, and sensor noise biases it towards stability: its confident
-     * "stable" is weak evidence against "unstable" (measured: it said
-     * stable for a growing driven system in 10/10 logs at 30 dB and below,
-     * docs/accuracy.md), while its lean towards "unstable" still counts
-     * against a "stable". */
-    int cross_biased_stable = r->cross_method == EL_METHOD_LS &&
-                              r->regime->regime == EL_REGIME_DRIVEN;
+    /* Sensor noise biases least squares towards stability in every
+     * regime (Dawson et al. 2016): its confident "stable" is weak evidence
+     * against "unstable" (measured: it said stable for growing systems in
+     * 10/10 logs at 30 dB and below, docs/accuracy.md), while its lean
+     * towards "unstable" still counts against a "stable". */
+    int cross_biased_stable = r->cross_method == EL_METHOD_LS;
     r->cross_agrees = main_class == 0 || (main_class == 1 && !cross_leans_unstable) ||
                       (main_class == -1 && (cross_class != 1 || cross_biased_stable));
     if (r->cross_agrees)

@@ -17,6 +17,43 @@
 /* The least-squares slope and the step contrasts "first s segments against
  * the rest" for s in {1, 2, M/4, M/2, 3M/4, M-2, M-1}. */
 #define MAX_CONTRASTS 8
+/* The drift test: a Dickey-Fuller regression of block mean on the previous
+ * block mean, M = 32 blocks of at least 8 samples, with the Phillips-Perron
+ * correction for serially correlated residuals over a Bartlett window of 3
+ * lags (4 (M/100)^(2/9) rounded down, the rule of thumb of Newey & West
+ * 1994, Rev. Econ. Stud. 61; recalled from memory, common practice). */
+#define DRIFT_BLOCKS 32
+#define DRIFT_LAGS 3
+
+/* Right-tail quantiles (probability, value) of the drift statistic under
+ * the least favourable stationary process the module promises to tolerate:
+ * a second-order linear process (x'' + 2 zeta wn x' + wn^2 x = white
+ * noise) whose natural time scale 1/wn is a quarter of the window (wn T =
+ * 4), with the least favourable damping ratio of a grid (0.1). Monte Carlo
+ * of exactly this statistic on 32 block means of 16 samples, 400000
+ * windows, by tests/data/make_regime_drift_table.py (the statistic depends
+ * on wn T and zeta only, and barely on the block length). Faster processes
+ * and first-order ones (an AR(1) or a random walk, whose 99% quantiles are
+ * 0.3 and 1.1) give smaller values, so these p-values are conservative for
+ * them; slower second-order ones are beyond the module's stated limits. */
+static const double drift_table[][2] = {
+    { 0.99, -4.3598 },
+    { 0.9, -2.4461 },
+    { 0.75, -1.7525 },
+    { 0.5, -0.9063 },
+    { 0.25, 0.2060 },
+    { 0.1, 1.0948 },
+    { 0.05, 1.6654 },
+    { 0.025, 2.2684 },
+    { 0.01, 3.1273 },
+    { 0.005, 3.8626 },
+    { 0.0025, 4.6270 },
+    { 0.001, 5.6905 },
+    { 0.0005, 6.4931 },
+    { 0.0002, 7.6309 },
+    { 0.0001, 8.5139 },
+};
+#define DRIFT_TABLE_SIZE (sizeof drift_table / sizeof drift_table[0])
 
 struct el_regime_work {
     size_t fft_length;        /* >= 2 N - 1: linear, not circular, correlation */
@@ -29,6 +66,8 @@ struct el_regime_work {
     double *weight;           /* M: least-squares slope weights */
     double *contrast;         /* MAX_CONTRASTS x M: contrast 0 = weight, then steps */
     size_t n_contrasts;
+    double block[DRIFT_BLOCKS];    /* block means of the drift test */
+    double residual[DRIFT_BLOCKS]; /* its regression residuals */
 };
 
 const char *el_regime_name(el_regime_class regime)
@@ -98,6 +137,10 @@ void el_regime_destroy(el_regime *r)
     free(r->level_z);
     free(r->change_p);
     free(r->change_direction);
+    free(r->drift_rate);
+    free(r->drift_factor);
+    free(r->drift_z);
+    free(r->drift_p_growth);
     free(r);
 }
 
@@ -159,9 +202,14 @@ el_status el_regime_create(size_t n_samples, size_t n_channels, el_regime **out,
     r->level_z = malloc(nc * sizeof(double));
     r->change_p = malloc(nc * sizeof(double));
     r->change_direction = malloc(nc * sizeof *r->change_direction);
+    r->drift_rate = malloc(nc * sizeof(double));
+    r->drift_factor = malloc(nc * sizeof(double));
+    r->drift_z = malloc(nc * sizeof(double));
+    r->drift_p_growth = malloc(nc * sizeof(double));
     if (!r->tested || !r->envelope_rate || !r->envelope_factor || !r->envelope_z
         || !r->envelope_p_growth || !r->level_rate || !r->level_z || !r->change_p
-        || !r->change_direction) {
+        || !r->change_direction || !r->drift_rate || !r->drift_factor || !r->drift_z
+        || !r->drift_p_growth) {
         el_regime_destroy(r);
         return el_error_set(err, EL_ERR_NOMEM, "out of memory");
     }
@@ -238,6 +286,90 @@ static double slope(const double *weight, const double *v, size_t m)
     return s;
 }
 
+/* Right-tail probability of the drift statistic: log-linear interpolation
+ * in drift_table; below its first entry 1; beyond its last, the log-linear
+ * slope of the last two entries continued (an exponential tail, heavier
+ * than the table's own, so p is not understated). */
+static double drift_sf(double z)
+{
+    if (z <= drift_table[0][1])
+        return 1.0;
+    size_t last = DRIFT_TABLE_SIZE - 1;
+    size_t i = 1;
+    while (i < last && z > drift_table[i][1])
+        i++;
+    double z0 = drift_table[i - 1][1], z1 = drift_table[i][1];
+    double l0 = log(drift_table[i - 1][0]), l1 = log(drift_table[i][0]);
+    return fmin(1.0, exp(l0 + (l1 - l0) * (z - z0) / (z1 - z0)));
+}
+
+/* The drift test on x (N samples): block means b_0..b_{M-1}, the
+ * least-squares regression b_a = mu + rho b_{a-1} + u_a, and the
+ * Phillips-Perron statistic Z_t = sqrt(g0 / lam2) t - (lam2 - g0) / (2 lam)
+ * n se / s (Phillips & Perron 1988, Biometrika 75; the form recalled from
+ * memory) with t = (rho - 1) / se, g0 the residual variance, lam2 its
+ * Bartlett long-run variance. A deviation that runs away from a level
+ * (x - x* growing like e^(r t)) gives rho = e^(r L dt) > 1 whatever x*,
+ * so the reference level is fitted, not taken from the window mean that
+ * the runaway drags. Fills the drift outputs of channel c. */
+static void drift_test(el_regime *r, const double *x, double dt, size_t c)
+{
+    struct el_regime_work *w = r->work;
+    size_t n_all = r->n_samples, len = n_all / DRIFT_BLOCKS;
+    size_t start = (n_all - DRIFT_BLOCKS * len) / 2;
+    double *b = w->block, *u = w->residual;
+    for (size_t a = 0; a < DRIFT_BLOCKS; a++) {
+        double s = 0.0;
+        for (size_t k = 0; k < len; k++)
+            s += x[start + a * len + k];
+        b[a] = s / (double)len;
+    }
+    size_t n = DRIFT_BLOCKS - 1;
+    double mx = 0.0, my = 0.0;
+    for (size_t a = 0; a < n; a++) {
+        mx += b[a];
+        my += b[a + 1];
+    }
+    mx /= (double)n;
+    my /= (double)n;
+    double sxx = 0.0, sxy = 0.0;
+    for (size_t a = 0; a < n; a++) {
+        sxx += (b[a] - mx) * (b[a] - mx);
+        sxy += (b[a] - mx) * (b[a + 1] - my);
+    }
+    if (!(sxx > 0.0))
+        return;
+    double rho = sxy / sxx, ss = 0.0;
+    for (size_t a = 0; a < n; a++) {
+        u[a] = (b[a + 1] - my) - rho * (b[a] - mx);
+        ss += u[a] * u[a];
+    }
+    /* residuals near rounding level (an exactly linear ramp gives rho = 1
+     * up to rounding) would turn rounding into a large z of either sign:
+     * floor the residual standard deviation at 1e-8 of the block means'
+     * spread, far below any noise a log carries */
+    ss = fmax(ss, (double)n * 1e-16 * sxx);
+    double g0 = ss / (double)n, s2 = ss / (double)(n - 2), lam2 = g0;
+    for (size_t j = 1; j <= DRIFT_LAGS; j++) {
+        double gj = 0.0;
+        for (size_t a = j; a < n; a++)
+            gj += u[a] * u[a - j];
+        lam2 += 2.0 * (1.0 - (double)j / (DRIFT_LAGS + 1.0)) * gj / (double)n;
+    }
+    /* the Bartlett window keeps lam2 >= 0; the floor keeps the correction
+     * finite for a residual with strongly negative correlation */
+    lam2 = fmax(lam2, 1e-3 * g0);
+    double se = sqrt(s2 / sxx), lam = sqrt(lam2);
+    double z = sqrt(g0 / lam2) * (rho - 1.0) / se
+               - (lam2 - g0) / (2.0 * lam) * (double)n * se / sqrt(s2);
+    r->drift_z[c] = z;
+    r->drift_p_growth[c] = drift_sf(z);
+    if (rho > 0.0) {
+        r->drift_rate[c] = log(rho) / ((double)len * dt);
+        r->drift_factor[c] = pow(rho, (double)n);
+    }
+}
+
 /* Tests one channel; returns 0 when it does not vary. */
 static int test_channel(el_regime *r, const double *x, double dt, size_t c)
 {
@@ -309,6 +441,8 @@ static int test_channel(el_regime *r, const double *x, double dt, size_t c)
     }
     r->change_p[c] = fmin(1.0, best * 2.0 * (double)w->n_contrasts);
     r->change_direction[c] = direction;
+    if (n >= DRIFT_BLOCKS * MIN_SEGMENT_SAMPLES)
+        drift_test(r, x, dt, c);
     return 1;
 }
 
@@ -319,6 +453,7 @@ static void set_untested(el_regime *r, size_t c)
     r->envelope_p_growth[c] = r->change_p[c] = NAN;
     r->level_rate[c] = r->level_z[c] = NAN;
     r->change_direction[c] = 0;
+    r->drift_rate[c] = r->drift_factor[c] = r->drift_z[c] = r->drift_p_growth[c] = NAN;
 }
 
 /* Least-squares slope weights of M equally spaced points L dt apart, and
@@ -351,6 +486,8 @@ static void make_contrasts(struct el_regime_work *w, size_t segs, double step)
     }
 }
 
+/* The growth family: per tested channel the envelope slope test and the
+ * drift test, one-sided; Bonferroni over the 2 m tests. */
 static void decide(el_regime *r, const el_regime_options *opt)
 {
     size_t tested = 0, change_channel = 0;
@@ -366,6 +503,13 @@ static void decide(el_regime *r, const el_regime_options *opt)
         if (r->envelope_p_growth[c] < best_growth) {
             best_growth = r->envelope_p_growth[c];
             r->growth_channel = c;
+            r->growth_test = EL_REGIME_GROWTH_ENVELOPE;
+        }
+        /* NaN (window too short for the drift test) never compares less */
+        if (r->drift_p_growth[c] < best_growth) {
+            best_growth = r->drift_p_growth[c];
+            r->growth_channel = c;
+            r->growth_test = EL_REGIME_GROWTH_DRIFT;
         }
     }
     if (tested == 0) {
@@ -373,14 +517,17 @@ static void decide(el_regime *r, const el_regime_options *opt)
         return;
     }
     r->trend_p = fmin(1.0, (double)tested * best_change);
-    r->growth_p = fmin(1.0, (double)tested * best_growth);
-    r->growth_factor = r->envelope_factor[r->growth_channel];
+    r->growth_p = fmin(1.0, 2.0 * (double)tested * best_growth);
+    r->growth_factor = r->growth_test == EL_REGIME_GROWTH_DRIFT
+                           ? r->drift_factor[r->growth_channel]
+                           : r->envelope_factor[r->growth_channel];
+    /* a NaN factor (block means alternating in sign) is no growth */
     r->growth = r->growth_p < opt->level && r->growth_factor >= opt->min_growth_factor;
     /* a significant growth is a change too: the window is never called
      * stationary while its growth vetoes a stable verdict */
     int changed = r->trend_p < opt->level;
     r->regime = changed || r->growth ? EL_REGIME_TRANSIENT : EL_REGIME_STATIONARY;
-    r->direction = changed ? r->change_direction[change_channel] : r->growth ? 1 : 0;
+    r->direction = r->growth ? 1 : changed ? r->change_direction[change_channel] : 0;
 }
 
 el_status el_regime_run(el_regime *r, const el_series *series,
@@ -413,6 +560,7 @@ el_status el_regime_run(el_regime *r, const el_series *series,
     r->trend_p = r->growth_p = r->growth_factor = NAN;
     r->growth = 0;
     r->growth_channel = 0;
+    r->growth_test = EL_REGIME_GROWTH_ENVELOPE;
     r->segments = segs >= MIN_SEGMENTS ? segs : 0;
     r->segment_length = r->segments ? n / segs : 0;
     for (size_t c = 0; c < r->n_channels; c++)
@@ -468,18 +616,20 @@ el_status el_regime_growth_warning(const el_regime *r, const el_series *series,
         name = series->names[r->growth_channel];
     else
         snprintf(buf, sizeof buf, "%zu", r->growth_channel + 1);
-    el_status st;
+    const char *what = r->growth_test == EL_REGIME_GROWTH_DRIFT
+                           ? "deviation from its level" : "amplitude";
+    const char *test = r->growth_test == EL_REGIME_GROWTH_DRIFT
+                           ? "model-free drift test" : "model-free envelope test";
+    char p_text[32];
     /* below 1e-16 a tail probability means no more than "zero" */
     if (r->growth_p < 1e-16)
-        st = el_warnings_add(warnings, "the amplitude of channel %s grows by a factor %.3g "
-                             "over the window (p < 1e-16, model-free envelope test): the "
-                             "operating point cannot be called stable", name,
-                             r->growth_factor);
+        snprintf(p_text, sizeof p_text, "p < 1e-16");
     else
-        st = el_warnings_add(warnings, "the amplitude of channel %s grows by a factor %.3g "
-                             "over the window (p = %.2g, model-free envelope test): the "
-                             "operating point cannot be called stable", name,
-                             r->growth_factor, r->growth_p);
+        snprintf(p_text, sizeof p_text, "p = %.2g", r->growth_p);
+    el_status st = el_warnings_add(warnings, "the %s of channel %s grows by a factor %.3g "
+                                   "over the window (%s, %s): the operating point cannot "
+                                   "be called stable", what, name, r->growth_factor, p_text,
+                                   test);
     if (st != EL_OK)
         return el_error_set(err, st, "out of memory");
     return EL_OK;

@@ -19,6 +19,13 @@ typedef enum {
     EL_REGIME_UNDETERMINED    /* window too short, or no channel varies */
 } el_regime_class;
 
+/* Which test found the growth behind the veto. */
+typedef enum {
+    EL_REGIME_GROWTH_ENVELOPE = 0, /* the amplitude envelope's slope (oscillatory) */
+    EL_REGIME_GROWTH_DRIFT         /* the drift test: the deviation from a fitted
+                                      level runs away (monotone, non-oscillatory) */
+} el_regime_growth_test;
+
 /* "stationary", "transient", "driven", "undetermined"; "unknown" else.
  * Static text. */
 const char *el_regime_name(el_regime_class regime);
@@ -82,23 +89,53 @@ void el_regime_defaults(el_regime_options *opt);
  *    floor: an L-shaped envelope, which a slope dilutes) or starts late.
  *    change_p[c] = smallest two-sided p of the channel's 2 K tests times
  *    2 K (Bonferroni).
- * 5. Decisions, over the m tested channels: growth (the veto) when
- *    growth_p = m min_c envelope_p_growth[c] (the one-sided slope test
- *    alone: growth must be steady, and a single test keeps its power)
- *    < level and that channel's envelope_factor >= min_growth_factor;
- *    transient when trend_p = m min_c change_p[c] < level, or growth (a
- *    window whose growth vetoes "stable" is never called stationary).
- *    Under the null the growth decision raises a false alarm with
- *    probability <= level and the transient decision <= 2 level (union
- *    bound), up to the normal approximation; measured in
- *    tests/test_regime.c (about 1% each at level 0.01).
+ * 5. Drift (monotone growth), when N >= 256: the window's central
+ *    32 L' samples (L' = N / 32) give 32 block means b_a; the regression
+ *    b_a = mu + rho b_{a-1} + u_a (Dickey & Fuller 1979, J. Amer.
+ *    Statist. Assoc. 74) with the Phillips-Perron correction of its t
+ *    statistic for correlated residuals (Phillips & Perron 1988,
+ *    Biometrika 75; Bartlett window of 3 lags). A deviation running away
+ *    from a level x* like e^(r t) gives rho = e^(r L' dt) > 1 whatever x*:
+ *    the reference level is fitted, not the window mean that the runaway
+ *    drags. A stationary process reverts to its mean (rho < 1). drift_z
+ *    is referred to its distribution under a random walk (the boundary of
+ *    stationarity, by Monte Carlo: tests/data/make_regime_drift_table.py),
+ *    which is conservative for any stationary process. drift_rate =
+ *    ln(rho) / (L' dt), drift_factor = rho^31: the fitted ratio of the
+ *    deviation from x* between the first and last block. The envelope
+ *    test misses such a runaway: the window's sample autocorrelation of a
+ *    smooth monotone signal is near 1 at every lag, which makes any trend
+ *    of segment statistics look like stationary wandering.
+ * 6. Decisions, over the m tested channels: growth (the veto) when
+ *    growth_p = 2 m x the smallest one-sided p of the envelope slope test
+ *    (envelope_p_growth: growth must be steady, and a single test keeps
+ *    its power) and of the drift test (drift_p_growth), over channels
+ *    (Bonferroni over the 2 m tests), is < level and that test's factor
+ *    (envelope_factor or drift_factor) >= min_growth_factor; transient
+ *    when trend_p = m min_c change_p[c] < level, or growth (a window whose
+ *    growth vetoes "stable" is never called stationary); direction is +1
+ *    whenever growth is found. Under the null the growth decision raises
+ *    a false alarm with probability <= level and the transient decision
+ *    <= 2 level (union bound), up to the normal approximation and the
+ *    Monte Carlo table; measured in tests/test_regime.c.
  * Limits: these are second-order tests of one window. A change slower
  *    than about a quarter of the window (a non-oscillatory return with a
  *    time constant of T/4 or more, a growth by less than about 5x over a
  *    lightly damped oscillation's window) looks like the slow wandering of
  *    a stationary process with long correlation, whose sample
  *    autocorrelation it shares: then the window is called stationary and
- *    growth is not significant. A longer window resolves it.
+ *    the envelope growth is not significant. A longer window resolves it.
+ *    The drift test is calibrated for stationary processes of first order
+ *    (any time constant: an AR(1) with tau = T/3 alarms on under 0.1%) and
+ *    of second order with 1/wn <= T/4; a slower second-order swing (wn T =
+ *    3: about 1% at the 1% level, wn T = 1: more) can pass for a runaway,
+ *    as can any accelerating drift. A single runaway is found from a
+ *    growth of about e^1.5 = 4.5x over the window; mixed with a faster
+ *    decaying mode of similar size (a saddle), from about that, not from
+ *    e^1 (the early decay reads as mean reversion). The envelope test
+ *    alarms on about 2-2.5% of windows of slow second-order stationary
+ *    motion (1/wn of T/6 to T/18 with any damping, three or fewer periods
+ *    in the window), above its nominal 1% (measured on 1000-2000 seeds).
  * Why not the residuals of the envelope fit: an autocorrelation estimated
  * from 16 segment residuals cannot tell an exponential decay into a noise
  * floor (whose residuals about a line are strongly correlated) from slow
@@ -119,8 +156,10 @@ typedef struct {
     double trend_p;             /* Bonferroni-adjusted p of "no change" (NaN: untested) */
     int growth;                 /* 1: the envelope grows significantly (veto) */
     double growth_p;            /* Bonferroni-adjusted one-sided p of the growth test */
-    double growth_factor;       /* envelope_factor of growth_channel */
+    double growth_factor;       /* envelope_factor or drift_factor (per growth_test)
+                                   of growth_channel */
     size_t growth_channel;      /* channel with the smallest growth p */
+    el_regime_growth_test growth_test; /* the test with the smallest growth p */
     int *tested;                /* 0: channel constant (nothing to test) */
     double *envelope_rate;      /* 1/time unit */
     double *envelope_factor;
@@ -132,6 +171,11 @@ typedef struct {
                                    contrasts, times their count (Bonferroni) */
     int *change_direction;      /* per channel: sign of that test (+1 grows,
                                    -1 decays, 0 the level moved) */
+    double *drift_rate;         /* 1/time unit: ln(rho) per time (NaN: N < 256, or
+                                   rho <= 0: block means alternate, no drift) */
+    double *drift_factor;       /* rho^31 (NaN as drift_rate) */
+    double *drift_z;            /* Phillips-Perron statistic (NaN: N < 256) */
+    double *drift_p_growth;     /* one-sided, per channel, unadjusted (NaN: N < 256) */
     struct el_regime_work *work;/* FFT plans and scratch */
 } el_regime;
 
@@ -169,7 +213,9 @@ int el_regime_growth_veto(const el_regime *r, double *factor, double *p_value,
 
 /* Adds the veto's sentence when el_regime_growth_veto is 1: "the amplitude
  * of channel X grows by a factor F over the window (p = P, model-free
- * envelope test): the operating point cannot be called stable". Does
+ * envelope test): the operating point cannot be called stable", or for
+ * the drift test "the deviation from its level of channel X grows by a
+ * factor F over the window (p = P, model-free drift test): ...". Does
  * nothing otherwise. EL_ERR_NOMEM when the warning cannot be stored;
  * EL_ERR_INTERNAL for NULL r or series. */
 el_status el_regime_growth_warning(const el_regime *r, const el_series *series,

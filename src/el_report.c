@@ -216,7 +216,9 @@ static void text_checks(const el_assessment *r, el_buf *out)
             el_buf_printf(out, " (amplitude %s)", g->direction > 0 ? "grows"
                                                  : g->direction < 0 ? "decays" : "level moves");
         if (g->growth)
-            el_buf_printf(out, "; envelope of %s grows %.3gx over the window (p %s)",
+            el_buf_printf(out, "; %s of %s grows %.3gx over the window (p %s)",
+                          g->growth_test == EL_REGIME_GROWTH_DRIFT
+                              ? "deviation from its level" : "envelope",
                           r->series.names[g->growth_channel], g->growth_factor,
                           num(a, 32, g->growth_p));
         else if (isfinite(g->trend_p))
@@ -548,6 +550,9 @@ static void json_regime(el_json *j, const el_assessment *r)
         el_json_string(j, "growth_channel", r->series.names[g->growth_channel]);
     else
         el_json_null(j, "growth_channel");
+    el_json_string(j, "growth_test", !g->growth ? NULL
+                                     : g->growth_test == EL_REGIME_GROWTH_DRIFT ? "drift"
+                                                                              : "envelope");
     el_json_bool(j, "vetoed_stable", r->growth_veto);
     el_json_int(j, "segments", (long long)g->segments);
     json_numbers(j, "envelope_rate", g->envelope_rate, n);
@@ -555,6 +560,10 @@ static void json_regime(el_json *j, const el_assessment *r)
     json_numbers(j, "envelope_z", g->envelope_z, n);
     json_numbers(j, "level_rate", g->level_rate, n);
     json_numbers(j, "change_p", g->change_p, n);
+    json_numbers(j, "drift_rate", g->drift_rate, n);
+    json_numbers(j, "drift_factor", g->drift_factor, n);
+    json_numbers(j, "drift_z", g->drift_z, n);
+    json_numbers(j, "drift_p_growth", g->drift_p_growth, n);
     el_json_object_end(j);
 }
 
