@@ -10,7 +10,7 @@
 
 /* Reference outputs: tests/data/rng_fixture.h, written by the script
  * tests/data/make_rng_fixture.py (run with /usr/bin/python3), a Python
- * transcription of the reference C code of Blackman & Vigna (2018),
+ * port of the reference C code of Blackman & Vigna (2018),
  * "Scrambled linear pseudorandom number generators" (splitmix64.c and
  * xoshiro256starstar.c). Integer outputs must match exactly. */
 

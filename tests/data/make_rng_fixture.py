@@ -2,7 +2,7 @@
 """Writes tests/data/rng_fixture.h: reference outputs of splitmix64 and
 xoshiro256** for test_rng.c.
 
-The two generators below are line-by-line Python transcriptions of the
+The two generators below are line-by-line Python ports of the
 public-domain reference C code published by Vigna with Blackman & Vigna
 (2018), "Scrambled linear pseudorandom number generators" (files
 splitmix64.c and xoshiro256starstar.c, version 1.0), with every operation
