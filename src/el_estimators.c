@@ -616,36 +616,44 @@ static int too_few(double n, size_t dim)
     return !(n >= (double)(dim + 2));
 }
 
-static int fb_solve(const el_boot_dims *dims, const double *sum, double *a, double *b,
-                    double *offset, double *work)
+/* The core of an estimator without inputs: cov holds the centred
+ * cross-products (ld x ld) of its window vector; writes a (r x r). */
+typedef int (*plain_core)(size_t r, const double *cov, size_t ld, double *a, double *work);
+
+static int fb_core_plain(size_t r, const double *cov, size_t ld, double *a, double *work)
 {
-    size_t r = dims->r, dim = 2 * r;
+    return fb_core(r, cov, ld, a, work, NULL);
+}
+
+/* Shared solve of fb, tls and ssi: unpack the summed features of a window
+ * vector of dim_per_r * r numbers, run the core, add the intercept. */
+static int solve_plain(const el_boot_dims *dims, size_t dim_per_r, plain_core core,
+                       const double *sum, double *a, double *offset, double *work)
+{
+    size_t r = dims->r, dim = dim_per_r * r;
     double *mean = work, *cov = work + dim;
-    (void)b;
     if (too_few(sum[0], dim))
         return 1;
     unpack_cov(dim, sum, mean, cov);
-    if (fb_core(r, cov, dim, a, cov + dim * dim, NULL))
+    if (core(r, cov, dim, a, cov + dim * dim))
         return 1;
     if (offset != NULL)
         offset_from(r, 0, mean, mean + r, NULL, a, NULL, offset);
     return 0;
 }
 
+static int fb_solve(const el_boot_dims *dims, const double *sum, double *a, double *b,
+                    double *offset, double *work)
+{
+    (void)b;
+    return solve_plain(dims, 2, fb_core_plain, sum, a, offset, work);
+}
+
 static int tls_solve(const el_boot_dims *dims, const double *sum, double *a, double *b,
                      double *offset, double *work)
 {
-    size_t r = dims->r, dim = 2 * r;
-    double *mean = work, *cov = work + dim;
     (void)b;
-    if (too_few(sum[0], dim))
-        return 1;
-    unpack_cov(dim, sum, mean, cov);
-    if (tls_core(r, cov, dim, a, cov + dim * dim))
-        return 1;
-    if (offset != NULL)
-        offset_from(r, 0, mean, mean + r, NULL, a, NULL, offset);
-    return 0;
+    return solve_plain(dims, 2, tls_core, sum, a, offset, work);
 }
 
 /* B is solved for with A whether or not the caller wants it. */
@@ -670,17 +678,8 @@ static int iv_solve(const el_boot_dims *dims, const double *sum, double *a, doub
 static int ssi_solve(const el_boot_dims *dims, const double *sum, double *a, double *b,
                      double *offset, double *work)
 {
-    size_t r = dims->r, dim = 4 * r;
-    double *mean = work, *cov = work + dim;
     (void)b;
-    if (too_few(sum[0], dim))
-        return 1;
-    unpack_cov(dim, sum, mean, cov);
-    if (ssi_core(r, cov, dim, a, cov + dim * dim))
-        return 1;
-    if (offset != NULL)
-        offset_from(r, 0, mean, mean + r, NULL, a, NULL, offset);
-    return 0;
+    return solve_plain(dims, 4, ssi_core, sum, a, offset, work);
 }
 
 static const el_boot_provider fb_provider = {

@@ -55,4 +55,43 @@ static inline void el_test_assert_close_array(const double *got, const double *w
     }
 }
 
+#include <stdlib.h>
+#include <string.h>
+
+#include "el_timebase.h"
+
+/* A hand-built series for tests that do not need the ingest and time-base
+ * stages: channels named ch1, ch2, ... without units. */
+#define EL_TEST_MAX_CH 8
+typedef struct {
+    el_series s;
+    char *names[EL_TEST_MAX_CH];
+    char *units[EL_TEST_MAX_CH];
+    char name_buf[EL_TEST_MAX_CH][24];
+    char empty[1];
+} test_series;
+
+/* Takes ownership of values (malloc'd, n * nc, column-major); nc <= 8. */
+static inline void ts_init(test_series *t, size_t n, size_t nc, double dt, double *values)
+{
+    memset(t, 0, sizeof *t);
+    for (size_t c = 0; c < nc && c < EL_TEST_MAX_CH; c++) {
+        snprintf(t->name_buf[c], sizeof t->name_buf[c], "ch%zu", c + 1);
+        t->names[c] = t->name_buf[c];
+        t->units[c] = t->empty;
+    }
+    t->s.n_samples = n;
+    t->s.n_channels = nc;
+    t->s.dt = dt;
+    t->s.values = values;
+    t->s.names = t->names;
+    t->s.units = t->units;
+}
+
+static inline void ts_free(test_series *t)
+{
+    free(t->s.values);
+    t->s.values = NULL;
+}
+
 #endif

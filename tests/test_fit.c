@@ -12,39 +12,8 @@
 #include "data/fixture_fit.h"
 
 #define TEST_PI 3.14159265358979323846
-#define MAX_CH 8
 
-/* A hand-built series (the timebase module is not needed to test the fit). */
-typedef struct {
-    el_series s;
-    char *names[MAX_CH];
-    char *units[MAX_CH];
-    char name_buf[MAX_CH][24];
-    char empty[1];
-} test_series;
-
-/* Takes ownership of values (malloc'd, n * nc, column-major). */
-static void ts_init(test_series *t, size_t n, size_t nc, double dt, double *values)
-{
-    memset(t, 0, sizeof *t);
-    for (size_t c = 0; c < nc; c++) {
-        snprintf(t->name_buf[c], sizeof t->name_buf[c], "ch%zu", c + 1);
-        t->names[c] = t->name_buf[c];
-        t->units[c] = t->empty;
-    }
-    t->s.n_samples = n;
-    t->s.n_channels = nc;
-    t->s.dt = dt;
-    t->s.values = values;
-    t->s.names = t->names;
-    t->s.units = t->units;
-}
-
-static void ts_free(test_series *t)
-{
-    free(t->s.values);
-    t->s.values = NULL;
-}
+/* test_series, ts_init and ts_free come from el_test.h. */
 
 static double *alloc_values(size_t n, size_t nc)
 {
