@@ -16,7 +16,7 @@ CMOCKA_LIBS   := $(shell pkg-config --libs cmocka 2>/dev/null || echo -lcmocka)
 WARN    := -Wall -Wextra -Wpedantic -Werror -Wshadow -Wstrict-prototypes \
            -Wmissing-prototypes -Wformat=2
 BASE_CFLAGS := -std=c11 -D_POSIX_C_SOURCE=200809L -D_XOPEN_SOURCE=700 $(WARN) $(PKG_CFLAGS) -Isrc -MMD -MP
-OPT_CFLAGS  ?= -O2 -g
+OPT_CFLAGS  ?= -O3 -g
 SAN_CFLAGS  := -O1 -g -fno-omit-frame-pointer -fsanitize=address,undefined \
                -fno-sanitize-recover=all
 LDLIBS_ALL  = $(PKG_LIBS) -lpthread -lm
@@ -36,7 +36,7 @@ $(1)_CLIOBJ := $$(patsubst src/%.c,build/$(1)/obj/%.o,$$(CLI_SRC))
 $(1)_TESTS  := $$(patsubst tests/%.c,build/$(1)/tests/%,$$(TEST_SRC))
 $(1)_TOOLS  := $$(patsubst bench/%.c,build/$(1)/bench/%,$$(TOOL_SRC))
 
-build/$(1)/obj/%.o: src/%.c
+build/$(1)/obj/%.o: src/%.c Makefile
 	@mkdir -p $$(dir $$@)
 	$$(CC) $$(BASE_CFLAGS) $(2) -c $$< -o $$@
 

@@ -574,12 +574,75 @@ static void pair_features(const el_boot_dims *dims, const double *states, double
     gram_products(2 * dims->r, out);
 }
 
+static void window_gather_iv(const el_boot_dims *dims, const double *states, double *v);
+
 static void window_features(const el_boot_dims *dims, const double *states, double *out)
 {
+    window_gather_iv(dims, states, out + 1);
+    gram_products(4 * dims->r + dims->n_inputs, out);
+}
+
+/* Windows gathered per product in the providers' accumulate. */
+#define EST_ACC_RUN 64
+
+/* Doubles of scratch gram_accumulate needs for window vectors of dim. */
+static size_t gram_work(size_t dim)
+{
+    return dim * dim + dim * EST_ACC_RUN;
+}
+
+/* Writes window k's vector (dim doubles) into v. */
+typedef void (*window_gather)(const el_boot_dims *dims, const double *states, double *v);
+
+/* Adds [1, v, lower triangle of v v'] summed over n consecutive windows to
+ * acc: the windows' vectors are gathered EST_ACC_RUN at a time into a
+ * matrix V and V V' is one symmetric rank update, several times faster
+ * than per-window feature vectors. work: gram_work(dim). */
+static void gram_accumulate(const el_boot_dims *dims, size_t dim, window_gather gather,
+                            const double *states, size_t n, double *acc, double *work)
+{
+    size_t sw = dims->r + dims->n_inputs;
+    double *g = work, *v = work + dim * dim;
+    acc[0] += (double)n;
+    for (size_t k0 = 0; k0 < n; k0 += EST_ACC_RUN) {
+        size_t cnt = n - k0 < EST_ACC_RUN ? n - k0 : EST_ACC_RUN;
+        for (size_t k = 0; k < cnt; k++) {
+            gather(dims, states + (k0 + k) * sw, v + k * dim);
+            for (size_t i = 0; i < dim; i++)
+                acc[1 + i] += v[k * dim + i];
+        }
+        cblas_dsyrk(CblasColMajor, CblasLower, CblasNoTrans, (int)dim, (int)cnt, 1.0, v,
+                    (int)dim, 0.0, g, (int)dim);
+        size_t idx = 1 + dim;
+        for (size_t j = 0; j < dim; j++)
+            for (size_t i = j; i < dim; i++)
+                acc[idx++] += g[i + j * dim];
+    }
+}
+
+static void pair_gather(const el_boot_dims *dims, const double *states, double *v)
+{
+    memcpy(v, states, 2 * dims->r * sizeof(double));
+}
+
+static void window_gather_iv(const el_boot_dims *dims, const double *states, double *v)
+{
     size_t r = dims->r, nu = dims->n_inputs, sw = r + nu;
-    win_vector(r, sw, dims->lags, states, out + 1);
-    memcpy(out + 1 + 4 * r, states + (2 * dims->lags + 2) * sw + r, nu * sizeof(double));
-    gram_products(4 * r + nu, out);
+    win_vector(r, sw, dims->lags, states, v);
+    memcpy(v + 4 * r, states + (2 * dims->lags + 2) * sw + r, nu * sizeof(double));
+}
+
+static void pair_accumulate(const el_boot_dims *dims, const double *states, size_t n,
+                            double *acc, double *work)
+{
+    gram_accumulate(dims, 2 * dims->r, pair_gather, states, n, acc, work);
+}
+
+static void window_accumulate(const el_boot_dims *dims, const double *states, size_t n,
+                              double *acc, double *work)
+{
+    gram_accumulate(dims, 4 * dims->r + dims->n_inputs, window_gather_iv, states, n, acc,
+                    work);
 }
 
 static size_t pair_work(size_t r)
@@ -589,24 +652,28 @@ static size_t pair_work(size_t r)
 
 static size_t fb_work(const el_boot_dims *dims)
 {
-    return pair_work(dims->r) + fb_core_work(dims->r);
+    size_t solve = pair_work(dims->r) + fb_core_work(dims->r), acc = gram_work(2 * dims->r);
+    return solve > acc ? solve : acc;
 }
 
 static size_t tls_work(const el_boot_dims *dims)
 {
-    return pair_work(dims->r) + tls_core_work(dims->r);
+    size_t solve = pair_work(dims->r) + tls_core_work(dims->r), acc = gram_work(2 * dims->r);
+    return solve > acc ? solve : acc;
 }
 
 static size_t iv_work(const el_boot_dims *dims)
 {
     size_t dim = 4 * dims->r + dims->n_inputs;
-    return dim + dim * dim + iv_core_work(dims->r, dims->n_inputs);
+    size_t solve = dim + dim * dim + iv_core_work(dims->r, dims->n_inputs);
+    return solve > gram_work(dim) ? solve : gram_work(dim);
 }
 
 static size_t ssi_work(const el_boot_dims *dims)
 {
     size_t dim = 4 * dims->r;
-    return dim + dim * dim + ssi_core_work(dims->r);
+    size_t solve = dim + dim * dim + ssi_core_work(dims->r);
+    return solve > gram_work(dim) ? solve : gram_work(dim);
 }
 
 /* The engine's sums need at least a few more windows than unknowns per
@@ -683,19 +750,19 @@ static int ssi_solve(const el_boot_dims *dims, const double *sum, double *a, dou
 }
 
 static const el_boot_provider fb_provider = {
-    "forward-backward", pair_span, pair_nf, fb_work, pair_features, fb_solve
+    "forward-backward", pair_span, pair_nf, fb_work, pair_features, pair_accumulate, fb_solve
 };
 
 static const el_boot_provider tls_provider = {
-    "total least squares", pair_span, pair_nf, tls_work, pair_features, tls_solve
+    "total least squares", pair_span, pair_nf, tls_work, pair_features, pair_accumulate, tls_solve
 };
 
 static const el_boot_provider iv_provider = {
-    "instrumental variables", win_span, win_nf, iv_work, window_features, iv_solve
+    "instrumental variables", win_span, win_nf, iv_work, window_features, window_accumulate, iv_solve
 };
 
 static const el_boot_provider ssi_provider = {
-    "stochastic subspace", win_span, win_nf, ssi_work, window_features, ssi_solve
+    "stochastic subspace", win_span, win_nf, ssi_work, window_features, window_accumulate, ssi_solve
 };
 
 const el_boot_provider *el_estimator_provider(el_method m)

@@ -2,8 +2,10 @@
  * per-block statistics, eigenvalue matching and the bounds they give. */
 #include "el_resample.h"
 
+#include "el_eig.h"
 #include "el_estimators.h"
 
+#include <cblas.h>
 #include <float.h>
 #include <lapacke.h>
 #include <math.h>
@@ -11,6 +13,7 @@
 #include <stdatomic.h>
 #include <stdlib.h>
 #include <string.h>
+#include <time.h>
 #include <unistd.h>
 
 #define BOOT_DEFAULT_MAX_BYTES ((size_t)256 << 20)
@@ -48,6 +51,13 @@ void el_boot_free(el_boot_result *result)
     free(result->trace_samples);
     free(result->det_samples);
     memset(result, 0, sizeof *result);
+}
+
+static double wall_seconds(void)
+{
+    struct timespec ts;
+    clock_gettime(CLOCK_MONOTONIC, &ts);
+    return (double)ts.tv_sec + 1e-9 * (double)ts.tv_nsec;
 }
 
 /* ------------------------------------------------------------------ */
@@ -203,8 +213,40 @@ static int ls_solve(const el_boot_dims *dims, const double *sum, double *a, doub
     return 0;
 }
 
+/* ls_features summed over n_pairs consecutive pairs by two matrix
+ * products (the states of the run are a g x n_pairs matrix X with leading
+ * dimension g, the responses the r x n_pairs matrix one state further):
+ * five times faster than adding per-pair feature vectors. */
+static void ls_accumulate(const el_boot_dims *dims, const double *states, size_t n_pairs,
+                          double *acc, double *work)
+{
+    size_t r = dims->r, g = r + dims->n_inputs;
+    double *sx = acc + 1, *sy = acc + 1 + g, *sxx = acc + 1 + g + r;
+    double *syx = sxx + g * (g + 1) / 2;
+    acc[0] += (double)n_pairs;
+    for (size_t k = 0; k < n_pairs; k++) {
+        const double *xi = states + k * g;
+        for (size_t i = 0; i < g; i++)
+            sx[i] += xi[i];
+        for (size_t i = 0; i < r; i++)
+            sy[i] += xi[g + i];
+    }
+    /* Lower triangle of X X' into work, then packed column by column as
+     * ls_features lays it out. */
+    cblas_dsyrk(CblasColMajor, CblasLower, CblasNoTrans, (int)g, (int)n_pairs, 1.0, states,
+                (int)g, 0.0, work, (int)g);
+    size_t idx = 0;
+    for (size_t j = 0; j < g; j++)
+        for (size_t i = j; i < g; i++)
+            sxx[idx++] += work[i + j * g];
+    /* Y X' is r x g column-major, the layout of the features. */
+    cblas_dgemm(CblasColMajor, CblasNoTrans, CblasTrans, (int)r, (int)g, (int)n_pairs, 1.0,
+                states + g, (int)g, states, (int)g, 1.0, syx, (int)r);
+}
+
 static const el_boot_provider ls_provider = {
-    "least squares", ls_span, ls_n_features, ls_work_doubles, ls_features, ls_solve
+    "least squares", ls_span, ls_n_features, ls_work_doubles, ls_features, ls_accumulate,
+    ls_solve
 };
 
 const el_boot_provider *el_boot_provider_ls(void)
@@ -259,10 +301,21 @@ struct el_boot_engine {
     const el_boot_provider *prov;
     el_boot_dims dims;
     size_t r, sw, n_states, n_pairs, d, stride, n_chk;  /* sw: doubles per state */
-    double *states;   /* n_states * sw */
+    const double *states; /* n_states * sw, the caller's (borrowed) */
     double *gbar;     /* d: mean feature vector */
     double *prefix;   /* n_chk * d: prefix sums of centred features at j = q * stride */
+    size_t block_steps;   /* el_boot_engine_plan_blocks: block length / stride (0: none) */
+    double *block_sum;    /* (n_chk - block_steps) * d: P(q + block_steps) - P(q) */
 };
+
+/* Hint to fetch a table row before it is needed: a replicate's rows are
+ * scattered over a table larger than a core's cache, and their loads are
+ * most of its cost. A no-op where the builtin does not exist. */
+#if defined(__GNUC__) || defined(__clang__)
+#define BOOT_PREFETCH(p) __builtin_prefetch(p)
+#else
+#define BOOT_PREFETCH(p) ((void)(p))
+#endif
 
 /* Neumaier's compensated addition of y into (s, c). */
 static void kahan_add(double *s, double *c, double y)
@@ -273,6 +326,42 @@ static void kahan_add(double *s, double *c, double y)
     else
         *c += (y - t) + *s;
     *s = t;
+}
+
+/* Pairs summed plainly before their sum joins a compensated total: short
+ * enough that a plain sum of O(1) features loses nothing that matters
+ * (about BOOT_RUN_PAIRS * eps relative), long enough that the compensated
+ * addition, which no compiler vectorises, is paid once per run instead of
+ * once per pair. */
+#define BOOT_RUN_PAIRS 256
+
+/* Adds sum over pairs [first, first + count) of (features - centre) to the
+ * compensated total (s, c) (centre NULL: no centring). run holds d doubles
+ * of scratch, g d + prov->work_doubles. */
+static void sum_pairs_compensated(const el_boot_provider *prov, const el_boot_dims *dims,
+                                  const double *states, size_t first, size_t count,
+                                  const double *centre, double *s, double *c,
+                                  double *run, double *g)
+{
+    size_t d = prov->n_features(dims), sw = dims->r + dims->n_inputs;
+    for (size_t k0 = first; k0 < first + count; k0 += BOOT_RUN_PAIRS) {
+        size_t k1 = k0 + BOOT_RUN_PAIRS < first + count ? k0 + BOOT_RUN_PAIRS : first + count;
+        memset(run, 0, d * sizeof(double));
+        if (prov->accumulate != NULL) {
+            prov->accumulate(dims, states + k0 * sw, k1 - k0, run, g);
+        } else {
+            for (size_t k = k0; k < k1; k++) {
+                prov->features(dims, states + k * sw, g);
+                double *restrict acc = run;
+                const double *restrict gk = g;
+                for (size_t f = 0; f < d; f++)
+                    acc[f] += gk[f];
+            }
+        }
+        double len = (double)(k1 - k0);
+        for (size_t f = 0; f < d; f++)
+            kahan_add(&s[f], &c[f], centre != NULL ? run[f] - len * centre[f] : run[f]);
+    }
 }
 
 static el_status engine_create(const el_boot_provider *provider,
@@ -333,12 +422,12 @@ static el_status engine_create(const el_boot_provider *provider,
     if (e->stride < 1)
         e->stride = 1;
     e->n_chk = e->n_pairs / e->stride + 1;
-    e->states = malloc(n_states * sw * sizeof(double));
+    e->states = states;
     e->gbar = calloc(e->d, sizeof(double));
     e->prefix = malloc(e->n_chk * e->d * sizeof(double));
     double *s = calloc(2 * e->d, sizeof(double));
-    double *g = malloc(e->d * sizeof(double));
-    if (e->states == NULL || e->gbar == NULL || e->prefix == NULL || s == NULL
+    double *g = malloc((e->d + provider->work_doubles(dims)) * sizeof(double));
+    if (e->gbar == NULL || e->prefix == NULL || s == NULL
         || g == NULL) {
         free(s);
         free(g);
@@ -346,7 +435,6 @@ static el_status engine_create(const el_boot_provider *provider,
         return el_error_set(err, EL_ERR_NOMEM, "out of memory (bootstrap engine, %zu pairs)",
                             n_states);
     }
-    memcpy(e->states, states, n_states * sw * sizeof(double));
     size_t d = e->d;
     double *c = s + d;
     /* One pass. The prefixes are centred on the mean of a leading sample
@@ -355,32 +443,29 @@ static el_status engine_create(const el_boot_provider *provider,
      * O(sqrt(n_pairs)); the exact mean gbar then comes from the last
      * prefix, and block sums add length * gbar back exactly as before. */
     size_t lead = e->n_pairs < 4096 ? e->n_pairs : 4096;
-    double *centre = calloc(d, sizeof(double));
+    double *centre = calloc(2 * d, sizeof(double));
     if (centre == NULL) {
         free(s);
         free(g);
         el_boot_engine_destroy(e);
         return el_error_set(err, EL_ERR_NOMEM, "out of memory (bootstrap engine)");
     }
-    for (size_t k = 0; k < lead; k++) {
-        provider->features(&e->dims, e->states + k * sw, g);
-        for (size_t f = 0; f < d; f++)
-            kahan_add(&s[f], &c[f], g[f]);
-    }
+    double *run = centre + d;
+    sum_pairs_compensated(provider, &e->dims, e->states, 0, lead, NULL, s, c, run, g);
     for (size_t f = 0; f < d; f++)
         centre[f] = (s[f] + c[f]) / (double)lead;
     memset(s, 0, 2 * d * sizeof(double));
     memset(e->prefix, 0, d * sizeof(double));
-    for (size_t k = 0; k < e->n_pairs; k++) {
-        provider->features(&e->dims, e->states + k * sw, g);
+    for (size_t q = 1; q < e->n_chk; q++) {
+        sum_pairs_compensated(provider, &e->dims, e->states, (q - 1) * e->stride,
+                              e->stride, centre, s, c, run, g);
+        double *p = e->prefix + q * d;
         for (size_t f = 0; f < d; f++)
-            kahan_add(&s[f], &c[f], g[f] - centre[f]);
-        if ((k + 1) % e->stride == 0) {
-            double *p = e->prefix + ((k + 1) / e->stride) * d;
-            for (size_t f = 0; f < d; f++)
-                p[f] = s[f] + c[f];
-        }
+            p[f] = s[f] + c[f];
     }
+    size_t done = (e->n_chk - 1) * e->stride;
+    sum_pairs_compensated(provider, &e->dims, e->states, done, e->n_pairs - done, centre,
+                          s, c, run, g);
     /* Re-centre on the exact mean: P'(j) = P(j) - j (gbar - centre). */
     for (size_t f = 0; f < d; f++)
         e->gbar[f] = centre[f] + (s[f] + c[f]) / (double)e->n_pairs;
@@ -401,9 +486,9 @@ void el_boot_engine_destroy(el_boot_engine *engine)
 {
     if (engine == NULL)
         return;
-    free(engine->states);
     free(engine->gbar);
     free(engine->prefix);
+    free(engine->block_sum);
     free(engine);
 }
 
@@ -431,17 +516,68 @@ static void add_prefix(const el_boot_engine *e, size_t j, double sign,
     }
 }
 
+el_status el_boot_engine_plan_blocks(el_boot_engine *engine, size_t block_length,
+                                     el_error *err)
+{
+    if (engine == NULL || block_length == 0 || block_length % engine->stride != 0
+        || block_length > engine->n_pairs)
+        return el_error_set(err, EL_ERR_INTERNAL,
+                            "el_boot_engine_plan_blocks: block length %zu is no multiple "
+                            "of the stride", block_length);
+    el_boot_engine *e = engine;
+    size_t steps = block_length / e->stride, rows = e->n_chk - steps, d = e->d;
+    double *table = malloc(rows * d * sizeof(double));
+    if (table == NULL)
+        return el_error_set(err, EL_ERR_NOMEM, "out of memory (bootstrap block table)");
+    for (size_t q = 0; q < rows; q++) {
+        const double *p0 = e->prefix + q * d, *p1 = e->prefix + (q + steps) * d;
+        for (size_t f = 0; f < d; f++)
+            table[q * d + f] = p1[f] - p0[f];
+    }
+    free(e->block_sum);
+    e->block_sum = table;
+    e->block_steps = steps;
+    return EL_OK;
+}
+
+/* Fetches the rows block b will read. */
+static void prefetch_block(const el_boot_engine *e, const el_boot_block *bl)
+{
+    size_t s = e->stride, d = e->d, a0 = bl->start, a1 = bl->start + bl->length;
+    const char *r0, *r1 = NULL;
+    if (e->block_sum != NULL && a0 % s == 0 && bl->length == e->block_steps * s) {
+        r0 = (const char *)(e->block_sum + (a0 / s) * d);
+    } else {
+        r0 = (const char *)(e->prefix + (a0 / s) * d);
+        r1 = (const char *)(e->prefix + (a1 / s) * d);
+    }
+    for (size_t o = 0; o < d * sizeof(double); o += 64) {
+        BOOT_PREFETCH(r0 + o);
+        if (r1 != NULL)
+            BOOT_PREFETCH(r1 + o);
+    }
+}
+
 void el_boot_engine_sum(const el_boot_engine *engine,
                         const el_boot_block *blocks, size_t n_blocks,
                         double *sum, double *work)
 {
     const el_boot_engine *e = engine;
-    size_t d = e->d, total = 0;
+    size_t d = e->d, total = 0, planned = e->block_steps * e->stride;
     memset(sum, 0, d * sizeof(double));
     for (size_t b = 0; b < n_blocks; b++) {
         size_t a0 = blocks[b].start, a1 = blocks[b].start + blocks[b].length;
         total += blocks[b].length;
-        if (a0 % e->stride == 0 && a1 % e->stride == 0) {
+        /* Two blocks ahead: far enough for the row to arrive in time. */
+        if (b + 2 < n_blocks)
+            prefetch_block(e, &blocks[b + 2]);
+        if (e->block_sum != NULL && a0 % e->stride == 0 && blocks[b].length == planned) {
+            /* The planned length: its sum was stored, one row to read. */
+            const double *restrict p = e->block_sum + (a0 / e->stride) * d;
+            double *restrict acc = sum;
+            for (size_t f = 0; f < d; f++)
+                acc[f] += p[f];
+        } else if (a0 % e->stride == 0 && a1 % e->stride == 0) {
             /* Both ends on stored prefixes (always for stride 1, and for
              * blocks drawn on the engine's grid). */
             const double *restrict p1 = e->prefix + (a1 / e->stride) * d;
@@ -473,10 +609,19 @@ int el_boot_engine_assemble(const el_boot_engine *engine,
 /* Sample autocovariance at lag k of the demeaned x (divisor n). */
 static double autocov(const double *x, size_t n, size_t k)
 {
-    double s = 0.0;
-    for (size_t t = 0; t + k < n; t++)
-        s += x[t] * x[t + k];
-    return s / (double)n;
+    /* Four partial sums: one running sum is a single chain of dependent
+     * additions, four let the processor overlap them (4x faster here). */
+    double s0 = 0.0, s1 = 0.0, s2 = 0.0, s3 = 0.0;
+    size_t len = n - k, t = 0;
+    for (; t + 4 <= len; t += 4) {
+        s0 += x[t] * x[t + k];
+        s1 += x[t + 1] * x[t + k + 1];
+        s2 += x[t + 2] * x[t + k + 2];
+        s3 += x[t + 3] * x[t + k + 3];
+    }
+    for (; t < len; t++)
+        s0 += x[t] * x[t + k];
+    return ((s0 + s1) + (s2 + s3)) / (double)n;
 }
 
 /* Flat-top (trapezoid) lag window of Politis & Romano. */
@@ -576,6 +721,7 @@ struct el_boot_matcher {
     size_t *p, *way;              /* n + 1 */
     unsigned char *used;          /* n + 1 */
     size_t *assign, *best;        /* n: column of each row */
+    double *lower;                /* n: lower bound on the cost without row i's link */
 };
 
 void el_boot_matcher_destroy(el_boot_matcher *m)
@@ -598,6 +744,7 @@ void el_boot_matcher_destroy(el_boot_matcher *m)
     free(m->used);
     free(m->assign);
     free(m->best);
+    free(m->lower);
     free(m);
 }
 
@@ -631,9 +778,10 @@ el_status el_boot_matcher_create(const el_modes *point, el_boot_matcher **matche
     m->used = malloc(n + 1);
     m->assign = malloc(n * sizeof(size_t));
     m->best = malloc(n * sizeof(size_t));
+    m->lower = malloc(n * sizeof(double));
     if (!m->slot_mode || !m->pre || !m->pim || !m->fre || !m->fim || !m->group
         || !m->cost || !m->cwork || !m->u || !m->v || !m->minv || !m->p || !m->way
-        || !m->used || !m->assign || !m->best) {
+        || !m->used || !m->assign || !m->best || !m->lower) {
         el_boot_matcher_destroy(m);
         return el_error_set(err, EL_ERR_NOMEM, "out of memory (matcher)");
     }
@@ -742,6 +890,51 @@ static void group_columns(el_boot_matcher *m, const double *im)
     }
 }
 
+/* Distance in the lambda plane: hypot's overflow care only where it is
+ * needed (an instantaneous mode sits at -DBL_MAX / 4), a plain root
+ * elsewhere, several times cheaper. */
+static double plane_distance(double dx, double dy)
+{
+    if (fabs(dx) < 1e150 && fabs(dy) < 1e150)
+        return sqrt(dx * dx + dy * dy);
+    return hypot(dx, dy);
+}
+
+/* A lower bound on cost_without_link for the link of row (slot) i in the
+ * best assignment, from that run's potentials u, v (u_r + v_c <= cost,
+ * equality on the assignment, so any assignment costs sum u + sum v plus
+ * its reduced costs, all >= 0). An assignment without the link must give
+ * each slot of i's point mode a column outside i's replicate group, and
+ * the column the best run gave i some row outside that mode: two distinct
+ * entries, each at least the smallest reduced cost available to it. With
+ * well separated modes this bound alone shows that no swap comes within
+ * BOOT_AMBIGUITY_RATIO, and the n extra Hungarian runs are skipped; the
+ * margin absorbs rounding in the potentials. */
+static double link_lower_bound(const el_boot_matcher *m, size_t i)
+{
+    size_t n = m->n, pm = m->slot_mode[i], j = m->best[i], g = m->group[j];
+    const double *u = m->u, *v = m->v;
+    double base = 0.0, scale = 0.0;
+    for (size_t k = 1; k <= n; k++) {
+        base += u[k] + v[k];
+        scale += fabs(u[k]) + fabs(v[k]);
+    }
+    double row_min = HUGE_VAL, col_min = HUGE_VAL;
+    for (size_t c = 0; c < n; c++)
+        if (m->group[c] != g) {
+            double rc = m->cost[i + c * n] - u[i + 1] - v[c + 1];
+            row_min = rc < row_min ? rc : row_min;
+        }
+    for (size_t r = 0; r < n; r++)
+        if (m->slot_mode[r] != pm) {
+            double rc = m->cost[r + j * n] - u[r + 1] - v[j + 1];
+            col_min = rc < col_min ? rc : col_min;
+        }
+    if (!isfinite(row_min) || !isfinite(col_min))
+        return HUGE_VAL; /* no alternative exists: the exact run says so too */
+    return base + fmax(0.0, row_min) + fmax(0.0, col_min) - 1e-9 * (scale + 1.0);
+}
+
 /* Cost of the best assignment that never links point mode pm to the
  * replicate mode (group) g. */
 static double cost_without_link(el_boot_matcher *m, size_t pm, size_t g)
@@ -773,7 +966,7 @@ int el_boot_match(el_boot_matcher *m, const double *lambda_re,
     group_columns(m, lambda_im);
     for (size_t j = 0; j < n; j++)
         for (size_t i = 0; i < n; i++)
-            m->cost[i + j * n] = hypot(m->pre[i] - m->fre[j], m->pim[i] - m->fim[j]);
+            m->cost[i + j * n] = plane_distance(m->pre[i] - m->fre[j], m->pim[i] - m->fim[j]);
     double c1 = hungarian(m, m->cost, m->best);
     for (size_t q = 0; q < m->n_modes; q++) {
         mode_re[q] = 0.0;
@@ -810,13 +1003,19 @@ int el_boot_match(el_boot_matcher *m, const double *lambda_re,
         *ambiguous = isfinite(c2) && c2 <= BOOT_AMBIGUITY_RATIO * c1;
         return 0;
     }
+    /* Bounds first (they read the potentials of the best run, which the
+     * exact runs overwrite); an exact run only for a link whose bound does
+     * not already rule it out. */
+    double limit = BOOT_AMBIGUITY_RATIO * c1;
+    for (size_t i = 0; i < n; i++)
+        m->lower[i] = link_lower_bound(m, i);
     for (size_t i = 0; i < n; i++) {
         size_t pm = m->slot_mode[i], g = m->group[m->best[i]];
         int seen = 0;
         for (size_t k = 0; k < i; k++)
             if (m->slot_mode[k] == pm && m->group[m->best[k]] == g)
                 seen = 1;
-        if (seen)
+        if (seen || m->lower[i] > limit)
             continue;
         double c = cost_without_link(m, pm, g);
         if (c < c2)
@@ -869,79 +1068,248 @@ static el_interval percentile_interval(double *v, size_t n, double level)
 }
 
 /* ------------------------------------------------------------------ */
+/* Work shared by threads in fixed chunks. Which thread takes a chunk does
+ * not matter: every chunk is computed the same way, and whatever is
+ * combined across chunks is combined in chunk order afterwards, so the
+ * numbers do not depend on the thread count. */
+
+/* fn(ctx, chunk, slot): slot (< the thread count) names the thread, so
+ * that scratch space can be per thread. */
+typedef void (*chunk_fn)(void *ctx, size_t chunk, size_t slot);
+
+#define BOOT_CHUNK_THREADS 16
+
+typedef struct {
+    chunk_fn fn;
+    void *ctx;
+    size_t n_chunks;
+    atomic_size_t next;
+} chunk_pool;
+
+typedef struct {
+    chunk_pool *pool;
+    size_t slot;
+} chunk_worker;
+
+static void *chunk_pool_work(void *arg)
+{
+    chunk_worker *w = arg;
+    for (;;) {
+        size_t c = atomic_fetch_add(&w->pool->next, 1);
+        if (c >= w->pool->n_chunks)
+            return NULL;
+        w->pool->fn(w->pool->ctx, c, w->slot);
+    }
+}
+
+/* Threads run_chunks uses for n_chunks chunks when threads are asked. */
+static size_t chunk_threads(size_t n_chunks, size_t threads)
+{
+    size_t t = threads < n_chunks ? threads : n_chunks;
+    t = t > BOOT_CHUNK_THREADS ? BOOT_CHUNK_THREADS : t;
+    return t < 1 ? 1 : t;
+}
+
+/* Runs fn for chunks 0 .. n_chunks - 1 on chunk_threads(n_chunks, threads)
+ * threads at most (the calling thread is slot 0; fewer when a thread
+ * cannot be made). */
+static void run_chunks(size_t n_chunks, size_t threads, chunk_fn fn, void *ctx)
+{
+    chunk_pool pool = { fn, ctx, n_chunks, 0 };
+    atomic_init(&pool.next, 0);
+    size_t t = chunk_threads(n_chunks, threads);
+    pthread_t tid[BOOT_CHUNK_THREADS];
+    chunk_worker workers[BOOT_CHUNK_THREADS];
+    size_t started = 1;
+    for (; started < t; started++) {
+        workers[started] = (chunk_worker){ &pool, started };
+        if (pthread_create(&tid[started], NULL, chunk_pool_work, &workers[started]) != 0)
+            break;
+    }
+    workers[0] = (chunk_worker){ &pool, 0 };
+    chunk_pool_work(&workers[0]);
+    for (size_t i = 1; i < started; i++)
+        pthread_join(tid[i], NULL);
+}
+
+/* ------------------------------------------------------------------ */
 /* Reduced states. */
 
-el_status el_boot_reduced_states(const el_series *series, const el_model *model,
-                                 double **states, el_error *err)
+/* Snapshots built and projected per chunk: a chunk of states (sd x rows)
+ * stays in cache while one product projects it. */
+#define BOOT_STATE_CHUNK 2048
+
+/* Centred scaled snapshots z[t] of states t0 .. t0 + rows - 1 into z
+ * (sd x rows, column-major): z[t] stacks the channels at lags 0..K of
+ * sample lags + t, scaled as in the fit and centred on zbar. */
+static void build_state_chunk(const el_series *series, const el_model *model,
+                              const double *zbar, size_t t0, size_t rows, double *z)
 {
-    *states = NULL;
+    size_t nn = series->n_samples, nc = model->n_channels, sd = model->state_dim;
+    for (size_t j = 0; j <= model->lags; j++)
+        for (size_t c = 0; c < nc; c++) {
+            const double *x = series->values + c * nn + model->lags + t0 - j;
+            double mean = model->channel_mean[c], inv = 1.0 / model->channel_scale[c];
+            double zb = zbar[j * nc + c];
+            double *out = z + j * nc + c;
+            for (size_t t = 0; t < rows; t++)
+                out[t * sd] = (x[t] - mean) * inv - zb;
+        }
+}
+
+typedef struct {
+    const el_series *series;
+    const el_model *model;
+    const double *zbar;
+    double *p, *grams;            /* grams: one r x r Gram per chunk */
+    double *scratch;              /* one sd x BOOT_STATE_CHUNK block per thread */
+    const double *chol;           /* whitening: L of G (r x r), then scale */
+    double scale;
+    size_t m;
+} states_ctx;
+
+static size_t chunk_rows(size_t m, size_t c)
+{
+    size_t t0 = c * BOOT_STATE_CHUNK;
+    return m + 1 - t0 < BOOT_STATE_CHUNK ? m + 1 - t0 : BOOT_STATE_CHUNK;
+}
+
+/* Chunk c: p = U_r' z and its Gram over the pairs it holds. */
+static void project_chunk(void *arg, size_t c, size_t slot)
+{
+    states_ctx *x = arg;
+    const el_model *md = x->model;
+    size_t r = md->rank, sd = md->state_dim, t0 = c * BOOT_STATE_CHUNK;
+    size_t rows = chunk_rows(x->m, c);
+    double *z = x->scratch + slot * sd * BOOT_STATE_CHUNK, *g = x->grams + c * r * r;
+    build_state_chunk(x->series, md, x->zbar, t0, rows, z);
+    cblas_dgemm(CblasColMajor, CblasTrans, CblasNoTrans, (int)r, (int)rows, (int)sd, 1.0,
+                md->basis, (int)sd, z, (int)sd, 0.0, x->p + t0 * r, (int)r);
+    size_t in_pairs = t0 + rows <= x->m ? rows : x->m - t0;
+    memset(g, 0, r * r * sizeof(double));
+    if (in_pairs > 0)
+        cblas_dsyrk(CblasColMajor, CblasLower, CblasNoTrans, (int)r, (int)in_pairs, 1.0,
+                    x->p + t0 * r, (int)r, 0.0, g, (int)r);
+}
+
+/* Chunk c: w = scale L^-1 p in place. */
+static void whiten_chunk(void *arg, size_t c, size_t slot)
+{
+    (void)slot;
+    states_ctx *x = arg;
+    size_t r = x->model->rank;
+    cblas_dtrsm(CblasColMajor, CblasLeft, CblasLower, CblasNoTrans, CblasNonUnit, (int)r,
+                (int)chunk_rows(x->m, c), x->scale, x->chol, (int)r,
+                x->p + c * BOOT_STATE_CHUNK * r, (int)r);
+}
+
+static int model_fits(const el_series *series, const el_model *model)
+{
     size_t nn = series->n_samples, nc = model->n_channels, lags = model->lags;
     size_t sd = model->state_dim, r = model->rank;
-    if (series->n_channels != nc || sd != nc * (lags + 1) || nn < lags + 3 || r == 0
-        || r > sd || model->basis == NULL || model->channel_mean == NULL
-        || model->channel_scale == NULL || nn - 1 - lags != model->n_pairs)
+    return series->n_channels == nc && sd == nc * (lags + 1) && nn >= lags + 3 && r > 0
+           && r <= sd && model->basis != NULL && model->channel_mean != NULL
+           && model->channel_scale != NULL && nn - 1 - lags == model->n_pairs;
+}
+
+el_status el_boot_project_states(const el_series *series, const el_model *model,
+                                 size_t threads, double *p, double *gram, el_error *err)
+{
+    if (series == NULL || model == NULL || p == NULL || gram == NULL
+        || !model_fits(series, model))
         return el_error_set(err, EL_ERR_INTERNAL,
-                            "bootstrap: the series (%zu samples, %zu channels) does "
-                            "not fit the model (%zu pairs, state %zu, rank %zu)",
-                            nn, series->n_channels, model->n_pairs, sd, r);
-    size_t m = model->n_pairs;
-    double *zbar = calloc(sd, sizeof(double));
-    double *z = malloc(sd * sizeof(double));
-    double *g = calloc(r * r, sizeof(double));
-    double *w = malloc((m + 1) * r * sizeof(double));
-    if (zbar == NULL || z == NULL || g == NULL || w == NULL) {
+                            "bootstrap: the series does not fit the model (%zu pairs, "
+                            "rank %zu)", model != NULL ? model->n_pairs : 0,
+                            model != NULL ? model->rank : 0);
+    size_t nn = series->n_samples, nc = model->n_channels, lags = model->lags;
+    size_t sd = model->state_dim, r = model->rank, m = model->n_pairs;
+    size_t n_chunks = m / BOOT_STATE_CHUNK + 1;
+    size_t slots = chunk_threads(n_chunks, threads);
+    double *zbar = malloc(sd * sizeof(double));
+    double *grams = malloc(n_chunks * r * r * sizeof(double));
+    double *scratch = malloc(slots * sd * BOOT_STATE_CHUNK * sizeof(double));
+    if (zbar == NULL || grams == NULL || scratch == NULL) {
         free(zbar);
-        free(z);
-        free(g);
-        free(w);
+        free(grams);
+        free(scratch);
         return el_error_set(err, EL_ERR_NOMEM, "out of memory (bootstrap states)");
     }
     const double *x = series->values;
     for (size_t j = 0; j <= lags; j++)
         for (size_t c = 0; c < nc; c++) {
-            double s = 0.0;
+            double s = 0.0, inv = 1.0 / model->channel_scale[c];
             for (size_t k = lags; k + 1 < nn; k++)
-                s += (x[c * nn + k - j] - model->channel_mean[c]) / model->channel_scale[c];
+                s += (x[c * nn + k - j] - model->channel_mean[c]) * inv;
             zbar[j * nc + c] = s / (double)m;
         }
-    for (size_t t = 0; t <= m; t++) {
-        size_t k = lags + t;
-        for (size_t j = 0; j <= lags; j++)
-            for (size_t c = 0; c < nc; c++)
-                z[j * nc + c] = (x[c * nn + k - j] - model->channel_mean[c])
-                                    / model->channel_scale[c]
-                                - zbar[j * nc + c];
-        double *p = w + t * r;
-        for (size_t q = 0; q < r; q++) {
-            double s = 0.0;
-            for (size_t i = 0; i < sd; i++)
-                s += model->basis[i + q * sd] * z[i];
-            p[q] = s;
-        }
-        if (t < m)
-            for (size_t b = 0; b < r; b++)
-                for (size_t a = b; a < r; a++)
-                    g[a + b * r] += p[a] * p[b];
-    }
+    states_ctx ctx = { series, model, zbar, p, grams, scratch, NULL, 1.0, m };
+    run_chunks(n_chunks, slots, project_chunk, &ctx);
+    memset(gram, 0, r * r * sizeof(double));
+    for (size_t c = 0; c < n_chunks; c++)
+        for (size_t i = 0; i < r * r; i++)
+            gram[i] += grams[c * r * r + i];
     free(zbar);
-    free(z);
-    if (cholesky_lower(r, g, 1e-14)) {
+    free(grams);
+    free(scratch);
+    return EL_OK;
+}
+
+el_status el_boot_whiten_states(const double *chol, size_t r, size_t n_states, double scale,
+                                size_t threads, double *states)
+{
+    if (chol == NULL || states == NULL || r == 0 || n_states == 0)
+        return EL_ERR_INTERNAL;
+    el_model shape;
+    memset(&shape, 0, sizeof shape);
+    shape.rank = r;
+    states_ctx ctx = { NULL, &shape, NULL, states, NULL, NULL, chol, scale, n_states - 1 };
+    run_chunks((n_states - 1) / BOOT_STATE_CHUNK + 1, threads, whiten_chunk, &ctx);
+    return EL_OK;
+}
+
+/* el_boot_reduced_states on up to threads threads. */
+static el_status reduced_states(const el_series *series, const el_model *model,
+                                size_t threads, double **states, el_error *err)
+{
+    *states = NULL;
+    if (series == NULL || model == NULL || !model_fits(series, model))
+        return el_error_set(err, EL_ERR_INTERNAL,
+                            "bootstrap: the series (%zu samples, %zu channels) does "
+                            "not fit the model (%zu pairs, rank %zu)",
+                            series != NULL ? series->n_samples : 0,
+                            series != NULL ? series->n_channels : 0,
+                            model != NULL ? model->n_pairs : 0,
+                            model != NULL ? model->rank : 0);
+    size_t r = model->rank, m = model->n_pairs;
+    double *g = malloc(r * r * sizeof(double));
+    double *w = malloc((m + 1) * r * sizeof(double));
+    if (g == NULL || w == NULL) {
         free(g);
         free(w);
+        return el_error_set(err, EL_ERR_NOMEM, "out of memory (bootstrap states)");
+    }
+    el_status st = el_boot_project_states(series, model, threads, w, g, err);
+    if (st == EL_OK && cholesky_lower(r, g, 1e-14)) {
         el_error_set(err, EL_ERR_NUMERIC,
                      "bootstrap: the snapshots have no spread along a basis direction");
         el_error_hint(err, "use a lower --rank");
-        return EL_ERR_NUMERIC;
+        st = EL_ERR_NUMERIC;
     }
-    double root_m = sqrt((double)m);
-    for (size_t t = 0; t <= m; t++) {
-        forward_subst(r, g, w + t * r);
-        for (size_t q = 0; q < r; q++)
-            w[t * r + q] *= root_m;
-    }
+    if (st == EL_OK)
+        st = el_boot_whiten_states(g, r, m + 1, sqrt((double)m), threads, w);
     free(g);
+    if (st != EL_OK) {
+        free(w);
+        return st;
+    }
     *states = w;
     return EL_OK;
+}
+
+el_status el_boot_reduced_states(const el_series *series, const el_model *model,
+                                 double **states, el_error *err)
+{
+    return reduced_states(series, model, 1, states, err);
 }
 
 /* ------------------------------------------------------------------ */
@@ -966,6 +1334,7 @@ typedef struct {
     double *bias_rec;             /* bias phase: 2 n_modes + 2 per replicate */
     unsigned char *bias_ok;
     size_t r, sw, nu, m, block, block_pw, grid, n_modes, total, n_bias;
+    size_t max_blocks;            /* blocks of one replicate */
     int bias_refused;             /* the bias round measured no small-sample bias */
     el_resample_kind kind;
     uint64_t seed;
@@ -980,9 +1349,9 @@ typedef struct {
 typedef struct {
     boot_shared *sh;
     el_boot_matcher *matcher;
-    el_boot_block *blocks;
+    el_boot_block *blocks;        /* sh->max_blocks */
     double *work, *sum, *feat, *st;
-    double *a, *ageev, *wr, *wi, *lre, *lim, *geev;
+    double *a, *ageev, *wr, *wi, *lre, *lim, *geev, *eig;
     lapack_int lwork;
     const el_boot_options *opt;  /* progress callback: main worker only */
     size_t reported;
@@ -1003,6 +1372,7 @@ static void worker_free(boot_worker *w)
     free(w->lre);
     free(w->lim);
     free(w->geev);
+    free(w->eig);
     memset(w, 0, sizeof *w);
 }
 
@@ -1016,7 +1386,7 @@ static el_status worker_init(boot_worker *w, boot_shared *sh, const el_modes *po
     el_status st = el_boot_matcher_create(point, &w->matcher, err);
     if (st != EL_OK)
         return st;
-    w->blocks = malloc(el_boot_block_count(sh->m, sh->block) * sizeof(el_boot_block));
+    w->blocks = malloc(sh->max_blocks * sizeof(el_boot_block));
     w->work = malloc(el_boot_engine_work_doubles(sh->engine) * sizeof(double));
     w->sum = malloc(d * sizeof(double));
     w->feat = malloc(d * sizeof(double));
@@ -1027,8 +1397,9 @@ static el_status worker_init(boot_worker *w, boot_shared *sh, const el_modes *po
     w->wi = malloc(r * sizeof(double));
     w->lre = malloc(r * sizeof(double));
     w->lim = malloc(r * sizeof(double));
+    w->eig = malloc(el_eig_work_doubles(r) * sizeof(double));
     if (!w->blocks || !w->work || !w->sum || !w->feat || !w->st || !w->a || !w->ageev
-        || !w->wr || !w->wi || !w->lre || !w->lim) {
+        || !w->wr || !w->wi || !w->lre || !w->lim || !w->eig) {
         worker_free(w);
         return el_error_set(err, EL_ERR_NOMEM, "out of memory (bootstrap workspace)");
     }
@@ -1082,15 +1453,20 @@ static int model_replicate(boot_worker *w, el_rng *rng)
     return sh->prov->solve(&sh->dims, w->sum, w->a, NULL, NULL, w->work);
 }
 
-/* Continuous eigenvalues of the r x r reduced matrix a. Returns 0 or 1. */
+/* Continuous eigenvalues of the r x r reduced matrix a. Returns 0 or 1.
+ * el_eig first (a third of LAPACK's time at r = 8, where LAPACK's call
+ * overhead was the largest cost of a replicate); LAPACK when it reports a
+ * failure. */
 static int eigen_lambda(boot_worker *w, const double *a, size_t r, double dt)
 {
-    memcpy(w->ageev, a, r * r * sizeof(double));
-    lapack_int info = LAPACKE_dgeev_work(LAPACK_COL_MAJOR, 'N', 'N', (lapack_int)r,
-                                         w->ageev, (lapack_int)r, w->wr, w->wi, NULL, 1,
-                                         NULL, 1, w->geev, w->lwork);
-    if (info != 0)
-        return 1;
+    if (el_eig_values(r, a, r, w->wr, w->wi, w->eig) != 0) {
+        memcpy(w->ageev, a, r * r * sizeof(double));
+        lapack_int info = LAPACKE_dgeev_work(LAPACK_COL_MAJOR, 'N', 'N', (lapack_int)r,
+                                             w->ageev, (lapack_int)r, w->wr, w->wi, NULL, 1,
+                                             NULL, 1, w->geev, w->lwork);
+        if (info != 0)
+            return 1;
+    }
     for (size_t i = 0; i < r; i++) {
         int nyq = 0;
         el_modes_lambda(w->wr[i], w->wi[i], dt, &w->lre[i], &w->lim[i], &nyq);
@@ -1163,19 +1539,12 @@ static void run_bias_replicate(boot_worker *w, size_t rep)
     sh->bias_ok[rep] = (unsigned char)!fail;
 }
 
-static void run_replicate(boot_worker *w, size_t rep)
+/* Everything after the refit: modes, matching and the records of
+ * replicate rep (fail: the refit was singular). */
+static void finish_replicate(boot_worker *w, size_t rep, int fail)
 {
     boot_shared *sh = w->sh;
     size_t nm = sh->n_modes;
-    el_rng rng;
-    el_rng_seed(&rng, sh->seed, (uint64_t)rep);
-    int fail;
-    if (sh->kind == EL_RESAMPLE_BLOCKS) {
-        size_t nb = el_boot_draw_blocks_grid(&rng, sh->m, sh->block, sh->grid, w->blocks);
-        fail = el_boot_engine_assemble(sh->engine, w->blocks, nb, w->a, NULL, w->work);
-    } else {
-        fail = model_replicate(w, &rng);
-    }
     int amb = 0;
     double max_re = 0.0, tr = 0.0, det = 0.0;
     if (!fail)
@@ -1190,6 +1559,21 @@ static void run_replicate(boot_worker *w, size_t rep)
         sh->trace[rep] = tr;
         sh->det[rep] = det;
     }
+}
+
+static void run_replicate(boot_worker *w, size_t rep)
+{
+    boot_shared *sh = w->sh;
+    el_rng rng;
+    el_rng_seed(&rng, sh->seed, (uint64_t)rep);
+    int fail;
+    if (sh->kind == EL_RESAMPLE_BLOCKS) {
+        size_t nb = el_boot_draw_blocks_grid(&rng, sh->m, sh->block, sh->grid, w->blocks);
+        fail = el_boot_engine_assemble(sh->engine, w->blocks, nb, w->a, NULL, w->work);
+    } else {
+        fail = model_replicate(w, &rng);
+    }
+    finish_replicate(w, rep, fail);
 }
 
 static void report_progress(boot_worker *w, int final)
@@ -1251,19 +1635,25 @@ static void reduced_residuals(const double *states, size_t m, size_t r, size_t n
 {
     double *mean = res + m * r; /* caller gives r spare doubles */
     size_t sw = r + nu;
-    memset(mean, 0, r * sizeof(double));
-    for (size_t k = 0; k < m; k++) {
-        const double *x = states + k * sw, *y = x + sw;
-        for (size_t i = 0; i < r; i++) {
-            double v = y[i] - c[i];
-            for (size_t j = 0; j < r; j++)
-                v -= a[i + j * r] * x[j];
-            for (size_t j = 0; j < nu; j++)
-                v -= bm[i + j * r] * x[r + j];
-            res[k * r + i] = v;
-            mean[i] += v;
-        }
+    /* res = Y - A X - B U (columns are pairs), then minus c and centred. */
+    if (sw == r) {
+        memcpy(res, states + r, m * r * sizeof(double));
+    } else {
+        for (size_t k = 0; k < m; k++)
+            for (size_t i = 0; i < r; i++)
+                res[k * r + i] = states[(k + 1) * sw + i];
     }
+    cblas_dgemm(CblasColMajor, CblasNoTrans, CblasNoTrans, (int)r, (int)m, (int)r, -1.0, a,
+                (int)r, states, (int)sw, 1.0, res, (int)r);
+    if (nu > 0)
+        cblas_dgemm(CblasColMajor, CblasNoTrans, CblasNoTrans, (int)r, (int)m, (int)nu,
+                    -1.0, bm, (int)r, states + r, (int)sw, 1.0, res, (int)r);
+    memset(mean, 0, r * sizeof(double));
+    for (size_t k = 0; k < m; k++)
+        for (size_t i = 0; i < r; i++) {
+            res[k * r + i] -= c[i];
+            mean[i] += res[k * r + i];
+        }
     for (size_t i = 0; i < r; i++)
         mean[i] /= (double)m;
     for (size_t k = 0; k < m; k++)
@@ -1271,28 +1661,55 @@ static void reduced_residuals(const double *states, size_t m, size_t r, size_t n
             res[k * r + i] -= mean[i];
 }
 
-/* Politis-White on each reduced residual component; the largest wins, so
- * the component with the longest memory sets the block. */
-static el_status auto_block(const double *res, size_t m, size_t r, size_t *block,
-                            el_error *err)
+typedef struct {
+    const double *res;
+    size_t m, r;
+    double *x;                    /* m doubles per thread */
+    double *b;                    /* r: each component's length */
+    el_status *st;                /* r */
+} pw_ctx;
+
+static void pw_component(void *arg, size_t i, size_t slot)
 {
-    double *x = malloc(m * sizeof(double));
-    if (x == NULL)
+    pw_ctx *c = arg;
+    double *x = c->x + slot * c->m;
+    for (size_t k = 0; k < c->m; k++)
+        x[k] = c->res[k * c->r + i];
+    el_error err;
+    el_error_clear(&err);
+    c->b[i] = 1.0;
+    c->st[i] = el_boot_pw_block_length(x, c->m, &c->b[i], &err);
+}
+
+/* Politis-White on each reduced residual component (on up to threads
+ * threads); the largest wins, so the component with the longest memory
+ * sets the block. */
+static el_status auto_block(const double *res, size_t m, size_t r, size_t threads,
+                            size_t *block, el_error *err)
+{
+    size_t slots = chunk_threads(r, threads);
+    pw_ctx c = { res, m, r, malloc(slots * m * sizeof(double)), malloc(r * sizeof(double)),
+                 malloc(r * sizeof(el_status)) };
+    if (c.x == NULL || c.b == NULL || c.st == NULL) {
+        free(c.x);
+        free(c.b);
+        free(c.st);
         return el_error_set(err, EL_ERR_NOMEM, "out of memory (block length)");
-    double best = 1.0;
-    for (size_t i = 0; i < r; i++) {
-        for (size_t k = 0; k < m; k++)
-            x[k] = res[k * r + i];
-        double b = 1.0;
-        el_status st = el_boot_pw_block_length(x, m, &b, err);
-        if (st != EL_OK) {
-            free(x);
-            return st;
-        }
-        if (b > best)
-            best = b;
     }
-    free(x);
+    run_chunks(r, slots, pw_component, &c);
+    double best = 1.0;
+    el_status st = EL_OK;
+    for (size_t i = 0; i < r; i++) {
+        if (c.st[i] != EL_OK && st == EL_OK)
+            st = el_error_set(err, c.st[i], "out of memory (block length)");
+        if (c.b[i] > best)
+            best = c.b[i];
+    }
+    free(c.x);
+    free(c.b);
+    free(c.st);
+    if (st != EL_OK)
+        return st;
     size_t l = (size_t)llround(best);
     *block = l < 1 ? 1 : (l > m ? m : l);
     return EL_OK;
@@ -1614,21 +2031,16 @@ static el_status measure_bias(boot_shared *sh, boot_buffers *bf, el_error *err)
 
 /* Sets up the engine, the point fit, the residuals and the block length. */
 /* The provider's solve on the sum of the features of every pair (the
- * full-sample refit), in one compensated pass. work holds 3 d +
- * prov->work_doubles(r) doubles. Returns 0, or 1 when singular. */
+ * full-sample refit), in one compensated pass. work holds 4 d +
+ * prov->work_doubles doubles. Returns 0, or 1 when singular. */
 static int full_sample_solve(const el_boot_provider *prov, const el_boot_dims *dims,
                              const double *states, size_t n_states, double *a,
                              double *bm, double *offset, double *work)
 {
     size_t d = prov->n_features(dims), pairs = n_states - prov->span(dims) + 1;
-    size_t sw = dims->r + dims->n_inputs;
-    double *sum = work, *comp = work + d, *g = work + 2 * d;
+    double *sum = work, *comp = work + d, *run = work + 2 * d, *g = work + 3 * d;
     memset(sum, 0, 2 * d * sizeof(double));
-    for (size_t k = 0; k < pairs; k++) {
-        prov->features(dims, states + k * sw, g);
-        for (size_t f = 0; f < d; f++)
-            kahan_add(&sum[f], &comp[f], g[f]);
-    }
+    sum_pairs_compensated(prov, dims, states, 0, pairs, NULL, sum, comp, run, g);
     for (size_t f = 0; f < d; f++)
         sum[f] += comp[f];
     return prov->solve(dims, sum, a, bm, offset, work + d);
@@ -1637,11 +2049,19 @@ static int full_sample_solve(const el_boot_provider *prov, const el_boot_dims *d
 /* Block starts on a grid of about an eighth of the block (and the block a
  * multiple of it), so the prefix table an engine keeps is that much
  * smaller and a replicate's block sums hit the cache: measured 4x faster
- * on 100,000 pairs (bench_boot). Short blocks keep every start. */
-static void choose_grid(boot_shared *sh, size_t pairs)
+ * on 100,000 pairs (bench_boot). Short blocks keep every start. The grid
+ * is a multiple of base, the stride of an engine built before the block
+ * length was known (grid_base; 1 when the engine waits for it): the
+ * automatic block is at least pairs / EL_BOOT_MAX_BLOCKS, so an eighth of
+ * it is at least base and the grid is an eighth rounded down to a
+ * multiple of base (a finer grid: more starts, closer to the plain
+ * moving-block bootstrap). */
+static void choose_grid(boot_shared *sh, size_t pairs, size_t base)
 {
     size_t grid = sh->block / 8;
     sh->grid = 1;
+    if (base > 1)
+        grid = grid < base ? base : grid / base * base;
     if (grid <= 1)
         return;
     size_t rounded = (sh->block + grid - 1) / grid * grid;
@@ -1651,67 +2071,185 @@ static void choose_grid(boot_shared *sh, size_t pairs)
     sh->grid = grid;
 }
 
-/* A method other than least squares resamples its own statistics: the
- * engine is rebuilt from the method's provider and states (el_estimators),
- * so each replicate is that estimator refitted. The block length stays the
- * one chosen on the least-squares residuals (the dependence of the data
- * does not depend on the estimator). Only moving blocks: the model-based
- * scheme regenerates one-step pairs, which the lagged statistics of iv/ssi
- * and the backward fit of fb do not consist of. */
-static el_status prepare_method(const el_series *series, const el_series *inputs,
-                                const el_model *model, const el_boot_options *opt,
-                                boot_shared *sh, boot_buffers *bf, el_error *err)
+/* Stride of an engine built while the automatic block length is still
+ * being chosen: the smallest grid choose_grid can pick for it. */
+static size_t grid_base(size_t pairs)
 {
-    if (opt->kind == EL_RESAMPLE_MODEL) {
-        el_error_set(err, EL_ERR_USAGE, "model-based resampling works with --method ls only");
-        el_error_option(err, "--resample");
-        el_error_hint(err, "use --resample blocks (the default) with --method %s",
-                      el_method_name(model->method));
-        return EL_ERR_USAGE;
-    }
+    size_t b = pairs / (8 * (size_t)EL_BOOT_MAX_BLOCKS);
+    return b < 1 ? 1 : b;
+}
+
+/* The block table of el_boot_engine_plan_blocks, when the block length
+ * is a multiple of the engine's stride and the table stays within the
+ * memory the prefix table may take (else blocks read two prefix rows). */
+static el_status plan_block_table(el_boot_engine *engine, size_t block, el_error *err)
+{
+    size_t stride = el_boot_engine_stride(engine);
+    double rows = (double)(el_boot_engine_pairs(engine) / stride + 1);
+    double bytes = rows * (double)el_boot_engine_features(engine) * sizeof(double);
+    if (block % stride != 0 || block > el_boot_engine_pairs(engine)
+        || bytes > (double)BOOT_DEFAULT_MAX_BYTES)
+        return EL_OK;
+    return el_boot_engine_plan_blocks(engine, block, err);
+}
+
+/* Building the engine is the longest step of the set-up and needs only the
+ * states and a stride, not the block length: with two or more threads it
+ * runs beside the full-sample refit, the residuals and the block length
+ * selection. */
+typedef struct {
+    const el_boot_provider *prov;
+    el_boot_dims dims;
+    const double *states;
+    size_t n_states, stride;
+    el_boot_engine *engine;
+    el_status st;
+    el_error err;
+    pthread_t tid;
+    int on_thread;
+} engine_job;
+
+static void *engine_job_run(void *arg)
+{
+    engine_job *j = arg;
+    el_error_clear(&j->err);
+    j->st = el_boot_engine_create_strided(j->prov, &j->dims, j->states, j->n_states,
+                                          j->stride, &j->engine, &j->err);
+    return NULL;
+}
+
+/* Starts the job on a thread of its own when parallel, else runs it now
+ * (also when no thread can be made). */
+static void engine_job_start(engine_job *j, int parallel)
+{
+    j->on_thread = parallel && pthread_create(&j->tid, NULL, engine_job_run, j) == 0;
+    if (!j->on_thread)
+        engine_job_run(j);
+}
+
+/* Waits for the job; its engine then belongs to *engine (NULL on error,
+ * the job's error copied to err). */
+static el_status engine_job_finish(engine_job *j, el_boot_engine **engine, el_error *err)
+{
+    if (j->on_thread)
+        pthread_join(j->tid, NULL);
+    j->on_thread = 0;
+    *engine = j->engine;
+    j->engine = NULL;
+    if (j->st != EL_OK && err != NULL)
+        *err = j->err;
+    return j->st;
+}
+
+/* The least-squares states: el_boot_reduced_states, or with inputs the
+ * least-squares whitening of el_estimator_boot_states (an ls model's own
+ * states: the method is not consulted for the scale). */
+static el_status ls_states(const el_series *series, const el_series *inputs,
+                           const el_model *model, size_t threads, double **states,
+                           el_error *err)
+{
+    if (model->n_inputs == 0)
+        return reduced_states(series, model, threads, states, err);
+    el_model ls_view = *model;
+    ls_view.method = EL_METHOD_LS;
+    size_t n_states = 0;
+    return el_estimator_boot_states(series, inputs, &ls_view, states, &n_states, err);
+}
+
+/* The states the engine resamples and the stride to build it with. The
+ * least-squares states serve fb, iv and ssi as they are (el_estimators
+ * gives them the same whitening of the same basis, inputs included); only
+ * tls scales its own. The stride: from a given block length its
+ * grid, for an automatic one grid_base, for model-based resampling 1. */
+static el_status engine_states(const el_series *series, const el_series *inputs,
+                               const el_model *model, const el_boot_options *opt,
+                               boot_shared *sh, boot_buffers *bf, engine_job *job,
+                               el_error *err)
+{
     const el_boot_provider *prov = el_estimator_provider_for(model);
     if (prov == NULL)
         return el_error_set(err, EL_ERR_INTERNAL, "no bootstrap statistics for method %s",
                             el_method_name(model->method));
     el_boot_dims dims = el_estimator_boot_dims(model);
-    size_t n_states = 0, span = prov->span(&dims);
-    el_status st = el_estimator_boot_states(series, inputs, model, &bf->est_states,
-                                            &n_states, err);
-    if (st != EL_OK)
-        return st;
+    size_t n_states = model->n_pairs + 1;
+    const double *states = bf->states;
+    sh->grid = 1;
+    if (model->method == EL_METHOD_TLS) {
+        el_status st = el_estimator_boot_states(series, inputs, model, &bf->est_states,
+                                                &n_states, err);
+        if (st != EL_OK)
+            return st;
+        states = bf->est_states;
+    }
+    size_t span = prov->span(&dims);
     if (n_states < span)
         return el_error_set(err, EL_ERR_DATA, "too few samples for the %s bootstrap",
                             el_method_name(model->method));
     size_t pairs = n_states - span + 1;
-    if (opt->block_length == 0)
-        sh->block = block_floor(sh->block_pw, pairs);
-    if (sh->block > pairs)
-        sh->block = pairs;
-    choose_grid(sh, pairs);
-    st = el_boot_engine_create_strided(prov, &dims, bf->est_states, n_states, sh->grid,
-                                       &bf->est_engine, err);
-    if (st != EL_OK)
-        return st;
-    double *grown = realloc(bf->pwork, el_boot_engine_work_doubles(bf->est_engine) * sizeof(double));
-    if (grown == NULL)
-        return el_error_set(err, EL_ERR_NOMEM, "out of memory (bootstrap)");
-    bf->pwork = grown;
-    el_boot_block all = {0, pairs};
-    if (el_boot_engine_assemble(bf->est_engine, &all, 1, bf->a0, bf->c0, bf->pwork)) {
-        el_error_set(err, EL_ERR_NUMERIC, "bootstrap: the full-sample %s refit is singular",
-                     el_method_name(model->method));
-        el_error_hint(err, "use a lower --rank");
-        return EL_ERR_NUMERIC;
-    }
-    sh->engine = bf->est_engine;
-    sh->prov = prov;
     sh->m = pairs;
+    size_t stride = 1;
+    if (opt->kind == EL_RESAMPLE_BLOCKS) {
+        if (opt->block_length > 0) {
+            sh->block = opt->block_length < pairs ? opt->block_length : pairs;
+            choose_grid(sh, pairs, 1);
+            stride = sh->grid;
+        } else {
+            stride = grid_base(pairs);
+        }
+    }
+    memset(job, 0, sizeof *job);
+    job->prov = prov;
+    job->dims = dims;
+    job->states = states;
+    job->n_states = n_states;
+    job->stride = stride;
+    sh->prov = prov;
     return EL_OK;
 }
 
-/* The least-squares states, fit, residuals and block length (every method
- * takes its block length from them); with inputs the states carry the
- * scaled inputs and the fit is DMD with control. */
+/* The block length: automatic from the least-squares residuals (every
+ * method takes it from them: the dependence of the data does not depend on
+ * the estimator), with its floor and grid for the engine's pairs. */
+static el_status block_length(const el_boot_options *opt, boot_shared *sh, boot_buffers *bf,
+                              size_t ls_pairs, size_t r, size_t engine_stride,
+                              size_t threads, int *block_auto, el_error *err)
+{
+    *block_auto = opt->block_length == 0;
+    if (!*block_auto) {
+        if (opt->block_length > ls_pairs) {
+            el_error_set(err, EL_ERR_USAGE,
+                         "block length %zu is longer than the %zu snapshot pairs",
+                         opt->block_length, ls_pairs);
+            el_error_option(err, "--block");
+            el_error_hint(err, "give a block length below %zu, or --block auto",
+                          ls_pairs / 3 + 1);
+            return EL_ERR_USAGE;
+        }
+        if (opt->kind != EL_RESAMPLE_BLOCKS)
+            sh->block = opt->block_length;
+        return EL_OK; /* blocks: engine_states set block and grid */
+    }
+    el_status st = auto_block(bf->resid, ls_pairs, r, threads, &sh->block, err);
+    if (st != EL_OK)
+        return st;
+    sh->block_pw = sh->block;
+    sh->grid = 1;
+    if (opt->kind == EL_RESAMPLE_BLOCKS) {
+        sh->block = block_floor(sh->block, sh->m);
+        choose_grid(sh, sh->m, engine_stride);
+    }
+    return EL_OK;
+}
+
+/* Everything before the replicates: the least-squares states, fit,
+ * residuals and block length (every method takes its block length from
+ * them; with inputs the fit is DMD with control), and the engine of the
+ * model's own method, built beside them when there are threads to spare.
+ * A method other than least squares resamples its own statistics (the
+ * engine of its provider, el_estimators), so each replicate is that
+ * estimator refitted; only moving blocks, because the model-based scheme
+ * regenerates one-step pairs, which the lagged statistics of iv/ssi and
+ * the backward fit of fb do not consist of. */
 static el_status prepare(const el_series *series, const el_series *inputs,
                          const el_model *model, const el_boot_options *opt,
                          boot_shared *sh, boot_buffers *bf, int *block_auto,
@@ -1719,67 +2257,59 @@ static el_status prepare(const el_series *series, const el_series *inputs,
 {
     size_t r = model->rank, m = model->n_pairs, nu = model->n_inputs;
     el_boot_dims dims = { r, nu, model->lags };
-    el_status st;
-    if (nu == 0) {
-        st = el_boot_reduced_states(series, model, &bf->states, err);
-    } else {
-        /* The least-squares whitening, as el_boot_reduced_states (an ls
-         * model's own states: its method is not consulted for the scale). */
-        el_model ls_view = *model;
-        ls_view.method = EL_METHOD_LS;
-        size_t n_states = 0;
-        st = el_estimator_boot_states(series, inputs, &ls_view, &bf->states, &n_states,
-                                      err);
+    if (opt->kind == EL_RESAMPLE_MODEL && model->method != EL_METHOD_LS) {
+        el_error_set(err, EL_ERR_USAGE, "model-based resampling works with --method ls only");
+        el_error_option(err, "--resample");
+        el_error_hint(err, "use --resample blocks (the default) with --method %s",
+                      el_method_name(model->method));
+        return EL_ERR_USAGE;
     }
+    size_t threads = thread_count(opt->threads, (size_t)-1);
+    el_status st = ls_states(series, inputs, model, threads, &bf->states, err);
     if (st != EL_OK)
         return st;
-    const el_boot_provider *prov = el_boot_provider_ls();
-    size_t d = prov->n_features(&dims);
+    engine_job job;
+    st = engine_states(series, inputs, model, opt, sh, bf, &job, err);
+    if (st != EL_OK)
+        return st;
+    engine_job_start(&job, threads >= 2);
+    const el_boot_provider *ls = el_boot_provider_ls();
+    size_t d = ls->n_features(&dims);
     bf->a0 = malloc(r * r * sizeof(double));
     bf->b0 = malloc((r * nu + 1) * sizeof(double));
     bf->c0 = malloc(r * sizeof(double));
-    bf->pwork = malloc((3 * d + prov->work_doubles(&dims)) * sizeof(double));
+    bf->pwork = malloc((4 * d + ls->work_doubles(&dims)) * sizeof(double));
     bf->resid = malloc((m + 1) * r * sizeof(double));
-    if (!bf->a0 || !bf->b0 || !bf->c0 || !bf->pwork || !bf->resid)
-        return el_error_set(err, EL_ERR_NOMEM, "out of memory (bootstrap)");
-    if (full_sample_solve(prov, &dims, bf->states, m + 1, bf->a0, bf->b0, bf->c0,
-                          bf->pwork)) {
+    if (!bf->a0 || !bf->b0 || !bf->c0 || !bf->pwork || !bf->resid) {
+        st = el_error_set(err, EL_ERR_NOMEM, "out of memory (bootstrap)");
+    } else if (full_sample_solve(ls, &dims, bf->states, m + 1, bf->a0, bf->b0, bf->c0,
+                                 bf->pwork)) {
         el_error_set(err, EL_ERR_NUMERIC, "bootstrap: the full-sample refit is singular");
         el_error_hint(err, "use a lower --rank");
-        return EL_ERR_NUMERIC;
+        st = EL_ERR_NUMERIC;
     }
-    reduced_residuals(bf->states, m, r, nu, bf->a0, bf->b0, bf->c0, bf->resid);
-    *block_auto = opt->block_length == 0;
-    if (*block_auto) {
-        st = auto_block(bf->resid, m, r, &sh->block, err);
-        if (st != EL_OK)
-            return st;
-        sh->block_pw = sh->block;
-        if (opt->kind == EL_RESAMPLE_BLOCKS)
-            sh->block = block_floor(sh->block, m);
-    } else {
-        if (opt->block_length > m) {
-            el_error_set(err, EL_ERR_USAGE,
-                         "block length %zu is longer than the %zu snapshot pairs",
-                         opt->block_length, m);
-            el_error_option(err, "--block");
-            el_error_hint(err, "give a block length below %zu, or --block auto", m / 3 + 1);
-            return EL_ERR_USAGE;
-        }
-        sh->block = opt->block_length;
-    }
-    sh->grid = 1;
-    if (model->method == EL_METHOD_LS && opt->kind == EL_RESAMPLE_BLOCKS)
-        choose_grid(sh, m);
-    /* A non-ls method builds the engine of its own statistics instead. */
-    if (model->method == EL_METHOD_LS) {
-        st = el_boot_engine_create_strided(prov, &dims, bf->states, m + 1, sh->grid,
-                                           &bf->engine, err);
+    if (st == EL_OK)
+        reduced_residuals(bf->states, m, r, nu, bf->a0, bf->b0, bf->c0, bf->resid);
+    /* The engine is done by now (it and the refit take about as long);
+     * the block length then has every thread. */
+    el_boot_engine *engine = NULL;
+    el_status jst = engine_job_finish(&job, &engine, st == EL_OK ? err : NULL);
+    if (st == EL_OK && jst == EL_OK)
+        st = block_length(opt, sh, bf, m, r, job.stride, threads, block_auto, err);
+    if (model->method == EL_METHOD_LS)
+        bf->engine = engine;
+    else
+        bf->est_engine = engine;
+    if (st != EL_OK)
+        return st;
+    if (jst != EL_OK)
+        return jst;
+    if (opt->kind == EL_RESAMPLE_BLOCKS) {
+        st = plan_block_table(engine, sh->block, err);
         if (st != EL_OK)
             return st;
     }
-    sh->engine = bf->engine;
-    sh->prov = prov;
+    sh->engine = engine;
     sh->dims = dims;
     sh->w0 = bf->states;
     sh->resid = bf->resid;
@@ -1789,10 +2319,21 @@ static el_status prepare(const el_series *series, const el_series *inputs,
     sh->r = r;
     sh->nu = nu;
     sh->sw = r + nu;
-    sh->m = m;
-    return model->method == EL_METHOD_LS
-               ? EL_OK
-               : prepare_method(series, inputs, model, opt, sh, bf, err);
+    if (model->method == EL_METHOD_LS)
+        return EL_OK;
+    /* The method's own full-sample refit: the point of the replicates. */
+    double *grown = realloc(bf->pwork, el_boot_engine_work_doubles(engine) * sizeof(double));
+    if (grown == NULL)
+        return el_error_set(err, EL_ERR_NOMEM, "out of memory (bootstrap)");
+    bf->pwork = grown;
+    el_boot_block all = { 0, sh->m };
+    if (el_boot_engine_assemble(engine, &all, 1, bf->a0, bf->c0, bf->pwork)) {
+        el_error_set(err, EL_ERR_NUMERIC, "bootstrap: the full-sample %s refit is singular",
+                     el_method_name(model->method));
+        el_error_hint(err, "use a lower --rank");
+        return EL_ERR_NUMERIC;
+    }
+    return EL_OK;
 }
 
 static el_status add_run_warnings(const boot_shared *sh, const el_model *model,
@@ -1865,6 +2406,7 @@ el_status el_boot_run(const el_series *series, const el_fit_options *opt_fit,
     boot_buffers bf;
     memset(&bf, 0, sizeof bf);
     int block_auto = 0;
+    double t_start = wall_seconds();
     st = prepare(series, inputs, model, opt, &sh, &bf, &block_auto, err);
     size_t total = opt->replicates, nm = modes->n_modes;
     sh.n_modes = nm;
@@ -1877,6 +2419,7 @@ el_status el_boot_run(const el_series *series, const el_fit_options *opt_fit,
     atomic_init(&sh.next, 0);
     atomic_init(&sh.done, 0);
     if (st == EL_OK) {
+        sh.max_blocks = el_boot_block_count(sh.m, sh.block);
         bf.flags = calloc(3 * total, 1);
         bf.rec = malloc((2 * nm + 2) * total * sizeof(double));
         size_t nt = thread_count(opt->threads, total);
@@ -1905,16 +2448,21 @@ el_status el_boot_run(const el_series *series, const el_fit_options *opt_fit,
         size_t started = 1;
         /* The bias round regenerates one-step pairs through the
          * least-squares model: it measures that estimator's bias only. */
+        double t_bias = wall_seconds();
+        result->setup_seconds = t_bias - t_start;
         if (opt->bias_correct && model->method == EL_METHOD_LS &&
             model->n_pairs < EL_BOOT_BIAS_MAX_PAIRS) {
             st = measure_bias(&sh, &bf, err);
             result->bias_corrected = st == EL_OK && sh.bias_re != NULL;
             result->bias_replicates = sh.n_bias;
         }
+        double t_rep = wall_seconds();
+        result->bias_seconds = t_rep - t_bias;
         if (st == EL_OK) {
             started = run_phase(&bf);
             report_progress(&bf.workers[0], 1);
         }
+        result->replicate_seconds = wall_seconds() - t_rep;
         result->threads_used = started;
         result->block_length = sh.block;
         result->block_length_pw = block_auto ? sh.block_pw : 0;

@@ -83,6 +83,10 @@ typedef struct el_boot_result {
     size_t bias_replicates;       /* model-based replicates that measured the bias */
     size_t block_length_pw;       /* automatic: the Politis-White length before the
                                      EL_BOOT_MAX_BLOCKS floor (0 when given) */
+    double setup_seconds;         /* wall time: states, full-sample refit, block
+                                     length, engine (the one pass over the data) */
+    double bias_seconds;          /* wall time of the bias round (0 when none) */
+    double replicate_seconds;     /* wall time of the replicates themselves */
 } el_boot_result;
 
 /* Runs the bootstrap for the model fitted to series with opt_fit (the same
@@ -143,6 +147,12 @@ typedef struct {
  *   work_doubles: scratch doubles solve() needs
  *   features:    writes the features of one pair; states points at its
  *                span consecutive states
+ *   accumulate:  may be NULL; adds the features of n_pairs consecutive
+ *                pairs (the first at states) to acc, a plain sum, what
+ *                features() summed pair by pair gives up to rounding, but
+ *                fast (matrix products): the engine's one pass over the data
+ *                and the full-sample refit use it when it is there; work
+ *                holds work_doubles doubles
  *   solve:       from the summed features writes a (r x r, column-major),
  *                when b != NULL the input matrix (r x n_inputs; nothing
  *                without inputs) and, when offset != NULL, the intercept
@@ -157,6 +167,8 @@ typedef struct {
     size_t (*n_features)(const el_boot_dims *dims);
     size_t (*work_doubles)(const el_boot_dims *dims);
     void (*features)(const el_boot_dims *dims, const double *states, double *out);
+    void (*accumulate)(const el_boot_dims *dims, const double *states, size_t n_pairs,
+                       double *acc, double *work);
     int (*solve)(const el_boot_dims *dims, const double *sum, double *a, double *b,
                  double *offset, double *work);
 } el_boot_provider;
@@ -202,7 +214,9 @@ size_t el_boot_draw_blocks_grid(el_rng *rng, size_t n_pairs, size_t block_length
 typedef struct el_boot_engine el_boot_engine;
 
 /* Plans the engine for one reduced state sequence (n_states states of
- * dims->r + dims->n_inputs doubles; dims is copied): one pass over the
+ * dims->r + dims->n_inputs doubles; dims is copied, the states are not:
+ * they must stay valid and unchanged while the engine is used, which
+ * saves a copy of the whole sequence): one pass over the
  * pairs computes the mean feature vector and prefix sums of the centred
  * features (compensated summation), kept at every stride-th pair, where
  * stride is the smallest that keeps the prefix table under max_bytes
@@ -237,6 +251,18 @@ size_t el_boot_engine_pairs(const el_boot_engine *engine);
 size_t el_boot_engine_stride(const el_boot_engine *engine);
 size_t el_boot_engine_features(const el_boot_engine *engine);
 size_t el_boot_engine_work_doubles(const el_boot_engine *engine);
+
+/* Stores the centred feature sum of every block of block_length pairs
+ * that starts on a stored prefix (block_length must be a multiple of the
+ * stride, at most the pairs): el_boot_engine_sum then reads one row for
+ * such a block instead of the difference of two, the same numbers to the
+ * last bit (the difference is the one it would take) at half the memory
+ * traffic, which is what a replicate's cost is made of. The table has as
+ * many rows as the prefix table. A later call replaces the table.
+ * Errors: EL_ERR_INTERNAL for a NULL engine or a bad length;
+ * EL_ERR_NOMEM. */
+el_status el_boot_engine_plan_blocks(el_boot_engine *engine, size_t block_length,
+                                     el_error *err);
 
 /* Sum of the features over the blocks (a pair drawn twice counts twice)
  * into sum (el_boot_engine_features doubles); work needs 2 * features
@@ -300,6 +326,25 @@ int el_boot_match(el_boot_matcher *matcher, const double *lambda_re,
  * interpolation between order statistics (Hyndman & Fan 1996, type 7:
  * h = (n - 1) p, x[floor h] + (h - floor h) (x[floor h + 1] - x[floor h])). */
 double el_boot_quantile(const double *sorted, size_t n, double p);
+
+/* The projection that reduced states start from: p[t] = U_r' (z[t] -
+ * mean(X)) for t = 0 .. n_pairs (z[t] the scaled state of sample lags + t
+ * as the fit builds it, mean(X) over the pairs' first states) into p
+ * (rank x (n_pairs + 1), column-major, state t at p + t rank; caller-owned),
+ * and gram = sum over the n_pairs pairs of p p' (rank x rank, lower
+ * triangle; the upper holds no meaning). Done in fixed chunks of states on
+ * up to threads threads (>= 1), the Gram summed in chunk order, so the
+ * numbers do not depend on the thread count. Errors: EL_ERR_INTERNAL when
+ * the series does not fit the model; EL_ERR_NOMEM. */
+el_status el_boot_project_states(const el_series *series, const el_model *model,
+                                 size_t threads, double *p, double *gram, el_error *err);
+
+/* states (r x n_states, column-major) = scale L^-1 states in place, L the
+ * lower triangle of chol (r x r, column-major), in the same fixed chunks
+ * on up to threads threads. Returns EL_ERR_INTERNAL for a NULL pointer or
+ * a zero size, else EL_OK. */
+el_status el_boot_whiten_states(const double *chol, size_t r, size_t n_states, double scale,
+                                size_t threads, double *states);
 
 /* Builds the reduced state sequence of el_boot_run (see above) for the
  * model fitted to series: states receives (model->n_pairs + 1) * rank

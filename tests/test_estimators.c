@@ -1194,6 +1194,50 @@ static void test_errors_and_names(void **state)
     ts_free(&tu);
 }
 
+/* Every provider's accumulate (matrix products over a run of windows)
+ * equals its per-window features summed, the contract of el_resample.h;
+ * iv also with an input column and lags. Tolerance 1e-13 relative to the
+ * largest sum: both are sums of 300 products of O(1) numbers, rounding
+ * below 300 eps ~ 7e-14. */
+static void test_provider_accumulate(void **state)
+{
+    (void)state;
+    const el_method methods[] = { EL_METHOD_LS, EL_METHOD_FB, EL_METHOD_TLS, EL_METHOD_IV,
+                                  EL_METHOD_SSI, EL_METHOD_IV };
+    for (size_t c = 0; c < sizeof methods / sizeof methods[0]; c++) {
+        const el_boot_provider *prov = el_estimator_provider(methods[c]);
+        assert_non_null(prov);
+        assert_non_null(prov->accumulate);
+        size_t nu = c == 5 || methods[c] == EL_METHOD_LS ? 1 : 0;
+        el_boot_dims dims = { 3, nu, c >= 3 ? 2 : 0 };
+        size_t sw = 3 + nu, n = 300, span = prov->span(&dims), d = prov->n_features(&dims);
+        double *st = malloc((n + span) * sw * sizeof(double));
+        double *acc = calloc(d, sizeof(double)), *ref = calloc(d, sizeof(double));
+        double *g = malloc(d * sizeof(double));
+        double *work = malloc(prov->work_doubles(&dims) * sizeof(double));
+        assert_true(st && acc && ref && g && work);
+        el_rng rng;
+        el_rng_seed(&rng, 31, c);
+        for (size_t i = 0; i < (n + span) * sw; i++)
+            st[i] = 0.5 + el_rng_normal(&rng);
+        prov->accumulate(&dims, st, n, acc, work);
+        for (size_t k = 0; k < n; k++) {
+            prov->features(&dims, st + k * sw, g);
+            for (size_t f = 0; f < d; f++)
+                ref[f] += g[f];
+        }
+        double big = 0.0;
+        for (size_t f = 0; f < d; f++)
+            big = fmax(big, fabs(ref[f]));
+        assert_close_array(acc, ref, d, 0.0, 1e-13 * big);
+        free(st);
+        free(acc);
+        free(ref);
+        free(g);
+        free(work);
+    }
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -1212,6 +1256,7 @@ int main(void)
         cmocka_unit_test(test_fixture_estimators),
         cmocka_unit_test(test_providers_reproduce_point),
         cmocka_unit_test(test_provider_table),
+        cmocka_unit_test(test_provider_accumulate),
         cmocka_unit_test(test_provider_inputs_with_lags),
         cmocka_unit_test(test_plan_reuse_methods),
         cmocka_unit_test(test_errors_and_names),
