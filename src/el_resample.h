@@ -218,10 +218,11 @@ typedef struct el_boot_engine el_boot_engine;
  * they must stay valid and unchanged while the engine is used, which
  * saves a copy of the whole sequence): one pass over the
  * pairs computes the mean feature vector and prefix sums of the centred
- * features (compensated summation), kept at every stride-th pair, where
- * stride is the smallest that keeps the prefix table under max_bytes
- * (0 = 256 MiB); between two kept prefixes the engine re-adds at most
- * stride - 1 pairs from its copy of the states. Any block's sums are then
+ * features (runs of pairs summed plainly, by the provider's accumulate
+ * when it has one, the runs compensated), kept at every stride-th pair,
+ * where stride is the smallest that keeps the prefix table under
+ * max_bytes (0 = 256 MiB); between two kept prefixes the engine re-adds at
+ * most stride - 1 pairs from the states. Any block's sums are then
  * a difference of two prefixes, O(stride * n_features) work, whatever the
  * log length. Centring first keeps the prefixes a random walk of size
  * O(sqrt(n_pairs)) instead of O(n_pairs), so their difference loses about
