@@ -5,6 +5,7 @@
 
 #include <stddef.h>
 
+#include "el_assess.h"
 #include "el_error.h"
 
 /* One option of a subcommand: long name without dashes, whether it takes
@@ -51,7 +52,51 @@ void cli_print_error(const el_error *err);
 void cli_print_help(const char *usage, const char *description,
                     const cli_option *table, size_t n_options);
 
+/* The options of the model and its bootstrap, shared by every subcommand
+ * that fits (assess, track): rows to put at the head of its table. */
+#define CLI_MODEL_OPTION_ROWS                                                                 \
+    {"time", "COL", "time column (default: the first column)"},                               \
+    {"channels", "A,B,..", "state channels (default: every column but time)"},                \
+    {"from", "T", "window start, in the time column's units or ISO 8601"},                    \
+    {"to", "T", "window end, likewise"},                                                      \
+    {"max-gap", "N", "longest run of missing samples to fill (default 5)"},                   \
+    {"detrend", "none|mean|linear",                                                           \
+     "remove each channel's mean or straight-line drift first (default none)"},               \
+    {"band", "LO:HI", "zero-phase band limit in Hz (per time unit) before the fit"},          \
+    {"input", "COL,..",                                                                       \
+     "measured input columns: excitation, not state (z[k+1] = Ad z + B u + c)"},              \
+    {"lags", "K|auto", "delay copies of every channel in the state (default 0; auto: by BIC)"}, \
+    {"rank", "R|auto|full",                                                                   \
+     "DMD rank: a number, auto (optimal hard threshold) or full (default)"},                  \
+    {"method", "auto|ls|fb|tls|iv|ssi",                                                       \
+     "estimator (default auto: chosen by the data's regime, cross-checked)"},                 \
+    {"depth", "N", "iv/ssi: block rows of past measurements (default lags + 1)"},             \
+    {"boot", "N", "bootstrap replicates (default 1000; 0 turns bounds off)"},                 \
+    {"resample", "blocks|model", "bootstrap scheme (default blocks)"},                        \
+    {"block", "L|auto", "block length of the bootstrap (default auto)"},                      \
+    {"no-bias-correction", NULL,                                                              \
+     "ls: do not correct the bootstrap for the estimator's small-sample bias"},               \
+    {"level", "P", "level of the bounds and of a confident verdict (default 0.95)"},          \
+    {"seed", "S", "random seed (default 1): same seed, same numbers"},                        \
+    {"threads", "N", "worker threads (default: all cores)"}
+
+/* The value given for option name (NULL when absent). */
+const char *cli_value(const cli_args *args, const cli_option *table, size_t n_options,
+                      const char *name);
+
+/* Fills the model and bootstrap part of *opt (already holding the
+ * defaults) from args parsed against a table that starts with
+ * CLI_MODEL_OPTION_ROWS. EL_ERR_USAGE naming the option, with a hint. */
+el_status cli_model_options(const cli_args *args, const cli_option *table,
+                            size_t n_options, el_assess_options *opt, el_error *err);
+
+/* Parses a value among choices[0..n) into *out (its index); EL_ERR_USAGE
+ * naming --option with the choices as hint. */
+el_status cli_choice(const char *option, const char *text, const char *const *choices,
+                     int n, int *out, el_error *err);
+
 int cli_assess(int argc, char **argv);
+int cli_track(int argc, char **argv);
 int cli_scan(int argc, char **argv);
 int cli_demo(int argc, char **argv);
 int cli_spectrum(int argc, char **argv);

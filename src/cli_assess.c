@@ -11,25 +11,7 @@
 #include "el_report.h"
 
 static const cli_option OPTIONS[] = {
-    {"time", "COL", "time column (default: the first column)"},
-    {"channels", "A,B,..", "state channels (default: every column but time)"},
-    {"from", "T", "window start, in the time column's units or ISO 8601"},
-    {"to", "T", "window end, likewise"},
-    {"max-gap", "N", "longest run of missing samples to fill (default 5)"},
-    {"detrend", "none|mean|linear", "remove each channel's mean or straight-line drift first (default none)"},
-    {"band", "LO:HI", "zero-phase band limit in Hz (per time unit) before the fit"},
-    {"input", "COL,..", "measured input columns: excitation, not state (z[k+1] = Ad z + B u + c)"},
-    {"lags", "K|auto", "delay copies of every channel in the state (default 0; auto: by BIC)"},
-    {"rank", "R|auto|full", "DMD rank: a number, auto (optimal hard threshold) or full (default)"},
-    {"method", "auto|ls|fb|tls|iv|ssi", "estimator (default auto: chosen by the data's regime, cross-checked)"},
-    {"depth", "N", "iv/ssi: block rows of past measurements (default lags + 1)"},
-    {"boot", "N", "bootstrap replicates (default 1000; 0 turns bounds off)"},
-    {"resample", "blocks|model", "bootstrap scheme (default blocks)"},
-    {"block", "L|auto", "block length of the bootstrap (default auto)"},
-    {"no-bias-correction", NULL, "ls: do not correct the bootstrap for the estimator's small-sample bias"},
-    {"level", "P", "level of the bounds and of a confident verdict (default 0.95)"},
-    {"seed", "S", "random seed (default 1): same seed, same numbers"},
-    {"threads", "N", "worker threads (default: all cores)"},
+    CLI_MODEL_OPTION_ROWS,
     {"json", "FILE", "write the full result as JSON (- = standard output)"},
     {"html", "FILE", "write a self-contained HTML report with plots"},
     {"replicates", "FILE", "write every replicate's matched eigenvalues as CSV"},
@@ -43,42 +25,6 @@ static const char *opt_value(const cli_args *a, const char *name)
     return a->value[cli_index(OPTIONS, N_OPTIONS, name)];
 }
 
-static el_status parse_rank(const char *text, long *rank, el_error *err)
-{
-    if (text == NULL || strcmp(text, "full") == 0) {
-        *rank = EL_RANK_FULL;
-        return EL_OK;
-    }
-    if (strcmp(text, "auto") == 0) {
-        *rank = EL_RANK_AUTO;
-        return EL_OK;
-    }
-    size_t r = 0;
-    el_status st = cli_size("rank", text, 1, 100000, &r, err);
-    if (st != EL_OK)
-        el_error_hint(err, "give a whole number of modes, auto or full");
-    *rank = (long)r;
-    return st;
-}
-
-static el_status parse_choice(const char *option, const char *text,
-                              const char *const *choices, int n, int *out,
-                              el_error *err)
-{
-    for (int i = 0; i < n; i++)
-        if (strcmp(text, choices[i]) == 0) {
-            *out = i;
-            return EL_OK;
-        }
-    el_error_set(err, EL_ERR_USAGE, "'%s' is not one of the choices", text);
-    char dashed[64];
-    snprintf(dashed, sizeof dashed, "--%s", option);
-    el_error_option(err, dashed);
-    el_error_hint(err, "choose %s%s%s", choices[0], n > 1 ? " or " : "",
-                  n > 1 ? choices[1] : "");
-    return EL_ERR_USAGE;
-}
-
 /* --fail-on: 0 none, 1 unstable, 2 ambiguous. */
 typedef struct {
     el_assess_options assess;
@@ -89,60 +35,14 @@ typedef struct {
     int quiet;
 } assess_cli;
 
-static el_status parse_numbers(const cli_args *a, assess_cli *c, el_error *err)
+static el_status parse_outputs(const cli_args *a, assess_cli *c, el_error *err)
 {
-    el_assess_options *o = &c->assess;
-    const char *v;
-    el_status st = EL_OK;
-    if ((v = opt_value(a, "max-gap")) && (st = cli_size("max-gap", v, 0, 1000000, &o->max_gap, err)))
-        return st;
-    if ((v = opt_value(a, "lags")) && strcmp(v, "auto") == 0)
-        o->lags_auto = 1;
-    else if (v && (st = cli_size("lags", v, 0, 1000, &o->fit.lags, err)))
-        return st;
-    if ((v = opt_value(a, "depth")) && (st = cli_size("depth", v, 1, 10000, &o->fit.depth, err)))
-        return st;
-    if ((st = parse_rank(opt_value(a, "rank"), &o->fit.rank, err)))
-        return st;
-    if ((v = opt_value(a, "boot")) && (st = cli_size("boot", v, 0, 1000000, &o->boot.replicates, err)))
-        return st;
-    if ((v = opt_value(a, "block")) && strcmp(v, "auto") != 0 &&
-        (st = cli_size("block", v, 1, 100000000, &o->boot.block_length, err)))
-        return st;
-    if ((v = opt_value(a, "level")) && (st = cli_double("level", v, 0.5, 0.999, &o->boot.level, err)))
-        return st;
-    size_t seed = 0;
-    if ((v = opt_value(a, "seed"))) {
-        if ((st = cli_size("seed", v, 0, (size_t)-1, &seed, err)))
-            return st;
-        o->boot.seed = (uint64_t)seed;
-    }
-    if ((v = opt_value(a, "threads")) && (st = cli_size("threads", v, 1, 1024, &o->boot.threads, err)))
-        return st;
-    return EL_OK;
-}
-
-static el_status parse_choices(const cli_args *a, assess_cli *c, el_error *err)
-{
-    static const char *const kinds[] = {"blocks", "model"};
     static const char *const fails[] = {"unstable", "ambiguous"};
     const char *v;
     int choice = 0;
     el_status st;
-    if ((v = opt_value(a, "detrend")) && (st = el_prep_parse_detrend(v, &c->assess.detrend, err)))
-        return st;
-    if ((v = opt_value(a, "method")) && strcmp(v, "auto") != 0) {
-        if ((st = el_method_parse(v, &c->assess.fit.method, err)))
-            return st;
-        c->assess.method_auto = 0;
-    }
-    if ((v = opt_value(a, "resample"))) {
-        if ((st = parse_choice("resample", v, kinds, 2, &choice, err)))
-            return st;
-        c->assess.boot.kind = choice == 1 ? EL_RESAMPLE_MODEL : EL_RESAMPLE_BLOCKS;
-    }
     if ((v = opt_value(a, "fail-on"))) {
-        if ((st = parse_choice("fail-on", v, fails, 2, &choice, err)))
+        if ((st = cli_choice("fail-on", v, fails, 2, &choice, err)))
             return st;
         c->fail_on = choice + 1;
     }
@@ -160,21 +60,13 @@ static el_status parse_assess(const cli_args *a, assess_cli *c, el_error *err)
         return EL_ERR_USAGE;
     }
     c->assess.path = a->positional[0];
-    c->assess.time_column = opt_value(a, "time");
-    c->assess.channels = opt_value(a, "channels");
-    c->assess.from_text = opt_value(a, "from");
-    c->assess.to_text = opt_value(a, "to");
-    c->assess.band_text = opt_value(a, "band");
-    c->assess.inputs = opt_value(a, "input");
     c->json_path = opt_value(a, "json");
     c->html_path = opt_value(a, "html");
     c->replicates_path = opt_value(a, "replicates");
     c->quiet = opt_value(a, "quiet") != NULL;
-    if (opt_value(a, "no-bias-correction") != NULL)
-        c->assess.boot.bias_correct = 0;
-    el_status st = parse_numbers(a, c, err);
+    el_status st = cli_model_options(a, OPTIONS, N_OPTIONS, &c->assess, err);
     if (st == EL_OK)
-        st = parse_choices(a, c, err);
+        st = parse_outputs(a, c, err);
     if (st == EL_OK && c->replicates_path != NULL && c->assess.boot.replicates == 0) {
         el_error_set(err, EL_ERR_USAGE, "needs bootstrap replicates, but --boot is 0");
         el_error_option(err, "--replicates");

@@ -156,3 +156,110 @@ void cli_print_help(const char *usage, const char *description,
     }
     printf("  %-24s %s\n", "-h, --help", "show this help");
 }
+
+const char *cli_value(const cli_args *args, const cli_option *table, size_t n_options,
+                      const char *name)
+{
+    return args->value[cli_index(table, n_options, name)];
+}
+
+el_status cli_choice(const char *option, const char *text, const char *const *choices,
+                     int n, int *out, el_error *err)
+{
+    for (int i = 0; i < n; i++)
+        if (strcmp(text, choices[i]) == 0) {
+            *out = i;
+            return EL_OK;
+        }
+    el_error_set(err, EL_ERR_USAGE, "'%s' is not one of the choices", text);
+    char dashed[64];
+    snprintf(dashed, sizeof dashed, "--%s", option);
+    el_error_option(err, dashed);
+    el_error_hint(err, "choose %s%s%s", choices[0], n > 1 ? " or " : "",
+                  n > 1 ? choices[1] : "");
+    return EL_ERR_USAGE;
+}
+
+static el_status parse_rank(const char *text, long *rank, el_error *err)
+{
+    if (text == NULL || strcmp(text, "full") == 0) {
+        *rank = EL_RANK_FULL;
+        return EL_OK;
+    }
+    if (strcmp(text, "auto") == 0) {
+        *rank = EL_RANK_AUTO;
+        return EL_OK;
+    }
+    size_t r = 0;
+    el_status st = cli_size("rank", text, 1, 100000, &r, err);
+    if (st != EL_OK)
+        el_error_hint(err, "give a whole number of modes, auto or full");
+    *rank = (long)r;
+    return st;
+}
+
+/* Lags, depth, rank, the bootstrap's numbers and the seed. */
+static el_status model_numbers(const cli_args *a, const cli_option *t, size_t n,
+                               el_assess_options *o, el_error *err)
+{
+    const char *v;
+    el_status st = EL_OK;
+    if ((v = cli_value(a, t, n, "max-gap")) && (st = cli_size("max-gap", v, 0, 1000000, &o->max_gap, err)))
+        return st;
+    if ((v = cli_value(a, t, n, "lags")) && strcmp(v, "auto") == 0)
+        o->lags_auto = 1;
+    else if (v && (st = cli_size("lags", v, 0, 1000, &o->fit.lags, err)))
+        return st;
+    if ((v = cli_value(a, t, n, "depth")) && (st = cli_size("depth", v, 1, 10000, &o->fit.depth, err)))
+        return st;
+    if ((st = parse_rank(cli_value(a, t, n, "rank"), &o->fit.rank, err)))
+        return st;
+    if ((v = cli_value(a, t, n, "boot")) && (st = cli_size("boot", v, 0, 1000000, &o->boot.replicates, err)))
+        return st;
+    if ((v = cli_value(a, t, n, "block")) && strcmp(v, "auto") != 0 &&
+        (st = cli_size("block", v, 1, 100000000, &o->boot.block_length, err)))
+        return st;
+    if ((v = cli_value(a, t, n, "level")) && (st = cli_double("level", v, 0.5, 0.999, &o->boot.level, err)))
+        return st;
+    size_t seed = 0;
+    if ((v = cli_value(a, t, n, "seed"))) {
+        if ((st = cli_size("seed", v, 0, (size_t)-1, &seed, err)))
+            return st;
+        o->boot.seed = (uint64_t)seed;
+    }
+    if ((v = cli_value(a, t, n, "threads")) && (st = cli_size("threads", v, 1, 1024, &o->boot.threads, err)))
+        return st;
+    return EL_OK;
+}
+
+el_status cli_model_options(const cli_args *a, const cli_option *t, size_t n,
+                            el_assess_options *o, el_error *err)
+{
+    static const char *const kinds[] = {"blocks", "model"};
+    o->time_column = cli_value(a, t, n, "time");
+    o->channels = cli_value(a, t, n, "channels");
+    o->from_text = cli_value(a, t, n, "from");
+    o->to_text = cli_value(a, t, n, "to");
+    o->band_text = cli_value(a, t, n, "band");
+    o->inputs = cli_value(a, t, n, "input");
+    if (cli_value(a, t, n, "no-bias-correction") != NULL)
+        o->boot.bias_correct = 0;
+    el_status st = model_numbers(a, t, n, o, err);
+    if (st != EL_OK)
+        return st;
+    const char *v;
+    int choice = 0;
+    if ((v = cli_value(a, t, n, "detrend")) && (st = el_prep_parse_detrend(v, &o->detrend, err)))
+        return st;
+    if ((v = cli_value(a, t, n, "method")) && strcmp(v, "auto") != 0) {
+        if ((st = el_method_parse(v, &o->fit.method, err)))
+            return st;
+        o->method_auto = 0;
+    }
+    if ((v = cli_value(a, t, n, "resample"))) {
+        if ((st = cli_choice("resample", v, kinds, 2, &choice, err)))
+            return st;
+        o->boot.kind = choice == 1 ? EL_RESAMPLE_MODEL : EL_RESAMPLE_BLOCKS;
+    }
+    return EL_OK;
+}

@@ -450,7 +450,14 @@ el_status el_assess_run(const el_assess_options *opt, el_assessment *r,
 {
     el_status st = el_assess_load(opt, r, err);
     if (st == EL_OK)
-        st = prepare(opt, r, err);
+        st = el_assess_analyse(opt, r, err);
+    return st;
+}
+
+el_status el_assess_analyse(const el_assess_options *opt, el_assessment *r,
+                            el_error *err)
+{
+    el_status st = prepare(opt, r, err);
     if (st == EL_OK)
         st = detect_regime(opt, r, err);
     el_fit_options fit = opt->fit;

@@ -120,6 +120,17 @@ void el_assess_choose_method(el_regime_class regime, int has_inputs,
 el_status el_assess_run(const el_assess_options *opt, el_assessment *result,
                         el_error *err);
 
+/* Everything after el_assess_load, on the series (and inputs, when
+ * has_inputs) already in *result: prepare, regime, fit, modes, spectra,
+ * bootstrap, verdict, cross-check, growth veto, validation. el_assess_run
+ * is el_assess_load then this; a caller that builds the series itself
+ * (el_track, one window at a time) fills result->series, result->inputs
+ * and has_inputs (owned by the result from then on) and calls this. The
+ * table may be left empty: error messages then name opt->path. Errors as
+ * el_assess_run. */
+el_status el_assess_analyse(const el_assess_options *opt, el_assessment *result,
+                            el_error *err);
+
 /* Frees everything the result owns and zeroes it. NULL is a no-op. */
 void el_assessment_free(el_assessment *result);
 

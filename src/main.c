@@ -15,6 +15,7 @@ typedef struct {
 static const subcommand SUBCOMMANDS[] = {
     {"assess", cli_assess, "the main job: model, modes, type and stability of one operating window"},
     {"scan", cli_scan, "channels, units, rows, time span, sample interval and ranges of a log"},
+    {"track", cli_track, "margin over sliding windows of a long log: is it shrinking?"},
     {"spectrum", cli_spectrum, "power spectral density per channel (Welch) and its peaks"},
     {"demo", cli_demo, "write the invented demo logs"},
 };

@@ -386,45 +386,6 @@ static void test_block_table(void **state)
     el_boot_engine_destroy(e);
 }
 
-/* The least-squares provider's accumulate (matrix products over a run of
- * pairs) equals its per-pair features summed, with measured inputs too.
- * Tolerance 1e-13 relative to the largest sum: both are sums of at most
- * 500 products of O(1) numbers, whose rounding is below 500 eps = 1e-13. */
-static void test_ls_accumulate(void **state)
-{
-    (void)state;
-    const el_boot_provider *prov = el_boot_provider_ls();
-    for (size_t nu = 0; nu <= 2; nu += 2) {
-        el_boot_dims dims = { 3, nu, 0 };
-        size_t sw = 3 + nu, n = 500, d = prov->n_features(&dims);
-        double *st = malloc((n + 1) * sw * sizeof(double));
-        double *acc = calloc(d, sizeof(double)), *ref = calloc(d, sizeof(double));
-        double *g = malloc(d * sizeof(double));
-        double *work = malloc(prov->work_doubles(&dims) * sizeof(double));
-        assert_true(st && acc && ref && g && work);
-        el_rng rng;
-        el_rng_seed(&rng, 8, nu);
-        for (size_t i = 0; i < (n + 1) * sw; i++)
-            st[i] = 1.0 + el_rng_normal(&rng);
-        assert_non_null(prov->accumulate);
-        prov->accumulate(&dims, st, n, acc, work);
-        double big = 0.0;
-        for (size_t k = 0; k < n; k++) {
-            prov->features(&dims, st + k * sw, g);
-            for (size_t f = 0; f < d; f++)
-                ref[f] += g[f];
-        }
-        for (size_t f = 0; f < d; f++)
-            big = fmax(big, fabs(ref[f]));
-        assert_close_array(acc, ref, d, 0.0, 1e-13 * big);
-        free(st);
-        free(acc);
-        free(ref);
-        free(g);
-        free(work);
-    }
-}
-
 /* The full-sample sum in the reduced coordinates of a real fit reproduces
  * the point estimate's eigenvalues (el_fit's SVD route, independently
  * computed), to 1e-9 relative to |lambda| + 1/dt. */
@@ -1202,7 +1163,6 @@ int main(void)
         cmocka_unit_test(test_block_length_white),
         cmocka_unit_test(test_assembly_identity),
         cmocka_unit_test(test_block_table),
-        cmocka_unit_test(test_ls_accumulate),
         cmocka_unit_test(test_point_identity),
         cmocka_unit_test(test_matching_swap),
         cmocka_unit_test(test_matching_split_and_ambiguity),

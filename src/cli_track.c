@@ -1,0 +1,149 @@
+/* cli_track: `eigenlog track FILE [options]`. */
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+#include <unistd.h>
+
+#include "cli.h"
+#include "el_io.h"
+#include "el_track.h"
+
+static const cli_option OPTIONS[] = {
+    CLI_MODEL_OPTION_ROWS,
+    {"window", "LEN", "window length in the time column's units (default: the span / 8)"},
+    {"step", "LEN", "distance between window starts (default: the window, no overlap)"},
+    {"json", "FILE", "write the windows and the trend as JSON (- = standard output)"},
+    {"fail-on", "shrinking", "exit with status 5 when the margin is shrinking"},
+    {"quiet", NULL, "print nothing but errors"},
+};
+#define N_OPTIONS (sizeof OPTIONS / sizeof OPTIONS[0])
+
+typedef struct {
+    el_track_options track;
+    const char *json_path;
+    int fail_on_shrinking;
+    int quiet;
+} track_cli;
+
+static const char *opt_value(const cli_args *a, const char *name)
+{
+    return cli_value(a, OPTIONS, N_OPTIONS, name);
+}
+
+static el_status parse_lengths(const cli_args *a, track_cli *c, el_error *err)
+{
+    const char *v;
+    el_status st;
+    if ((v = opt_value(a, "window")) &&
+        (st = cli_double("window", v, 1e-300, 1e300, &c->track.window, err)))
+        return st;
+    if ((v = opt_value(a, "step")) &&
+        (st = cli_double("step", v, 1e-300, 1e300, &c->track.step, err)))
+        return st;
+    return EL_OK;
+}
+
+static el_status parse_track(const cli_args *a, track_cli *c, el_error *err)
+{
+    static const char *const fails[] = {"shrinking"};
+    memset(c, 0, sizeof *c);
+    el_track_defaults(&c->track);
+    if (a->n_positional != 1) {
+        el_error_set(err, EL_ERR_USAGE, a->n_positional == 0 ? "no log file given"
+                                                             : "more than one log file given");
+        el_error_hint(err, "eigenlog track FILE [options]; FILE may be - for stdin");
+        return EL_ERR_USAGE;
+    }
+    c->track.assess.path = a->positional[0];
+    c->json_path = opt_value(a, "json");
+    c->quiet = opt_value(a, "quiet") != NULL;
+    el_status st = cli_model_options(a, OPTIONS, N_OPTIONS, &c->track.assess, err);
+    if (st == EL_OK)
+        st = parse_lengths(a, c, err);
+    const char *v = opt_value(a, "fail-on");
+    int choice = 0;
+    if (st == EL_OK && v != NULL && (st = cli_choice("fail-on", v, fails, 1, &choice, err)) == EL_OK)
+        c->fail_on_shrinking = 1;
+    return st;
+}
+
+static void show_progress(void *ctx, size_t done, size_t total)
+{
+    (void)ctx;
+    fprintf(stderr, "\rtrack: %zu of %zu windows", done, total);
+    if (done == total)
+        fprintf(stderr, "\r%40s\r", "");
+    fflush(stderr);
+}
+
+static el_status write_json(const track_cli *c, const el_track_result *r, el_error *err)
+{
+    if (c->json_path == NULL)
+        return EL_OK;
+    el_buf json = {0};
+    el_status st = el_track_report_json(r, &c->track, &json);
+    if (st != EL_OK)
+        el_error_set(err, st, "could not build the JSON report");
+    else
+        st = el_write_file_atomic(c->json_path, json.data, json.length, err);
+    el_buf_free(&json);
+    return st;
+}
+
+static el_status print_text(const track_cli *c, const el_track_result *r, el_error *err)
+{
+    if (c->quiet || (c->json_path && strcmp(c->json_path, "-") == 0))
+        return EL_OK;
+    el_buf text = {0};
+    el_status st = el_track_report_text(r, &c->track, &text);
+    if (st == EL_OK)
+        fputs(text.data, stdout);
+    else
+        el_error_set(err, st, "could not build the report");
+    el_buf_free(&text);
+    return st;
+}
+
+int cli_track(int argc, char **argv)
+{
+    cli_args a;
+    el_error err;
+    el_error_clear(&err);
+    track_cli c;
+    el_status st = cli_parse(argc, argv, OPTIONS, N_OPTIONS, &a, &err);
+    if (st == EL_OK && a.help) {
+        cli_print_help("eigenlog track FILE [options]",
+                       "Cuts a long log into windows, assesses each as `assess` would (model,\n"
+                       "modes, bootstrap, verdict) and fits the trend of the margin, the decay\n"
+                       "rate of the least-damped mode: is it shrinking, how fast, and when would\n"
+                       "it reach zero at that rate.",
+                       OPTIONS, N_OPTIONS);
+        return 0;
+    }
+    if (st == EL_OK)
+        st = parse_track(&a, &c, &err);
+    if (st == EL_OK)
+        st = el_check_writable(c.json_path, &err);
+    if (st != EL_OK) {
+        cli_print_error(&err);
+        return el_exit_code(st);
+    }
+    if (!c.quiet && isatty(fileno(stderr))) {
+        c.track.progress = show_progress;
+        c.track.progress_ctx = NULL;
+    }
+    el_track_result r;
+    memset(&r, 0, sizeof r);
+    st = el_track_run(&c.track, &r, &err);
+    if (st == EL_OK)
+        st = write_json(&c, &r, &err);
+    if (st == EL_OK)
+        st = print_text(&c, &r, &err);
+    int code = st != EL_OK ? el_exit_code(st)
+               : c.fail_on_shrinking && r.trend == EL_TREND_SHRINKING ? 5
+                                                                      : 0;
+    if (st != EL_OK)
+        cli_print_error(&err);
+    el_track_free(&r);
+    return code;
+}

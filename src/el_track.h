@@ -1,0 +1,122 @@
+/* el_track: the margin of a long log over sliding windows, and whether it
+ * is shrinking. Each window is assessed as `assess` would assess it alone
+ * (regime, estimator, bootstrap, verdict); the trend of the least-damped
+ * mode's decay rate over the windows is then fitted with bounds drawn
+ * from the windows' own bootstrap replicates. */
+#ifndef EL_TRACK_H
+#define EL_TRACK_H
+
+#include <stddef.h>
+
+#include "el_assess.h"
+#include "el_error.h"
+#include "el_io.h"
+
+typedef struct {
+    el_assess_options assess;     /* per window; from/to bound the span tracked, the
+                                     bootstrap must be on (replicates > 0) */
+    double window;                /* window length, time-column units; 0 = span / 8 */
+    double step;                  /* start-to-start distance; 0 = window (no overlap) */
+    /* Called from the calling thread after each window; may be NULL. */
+    void (*progress)(void *ctx, size_t done, size_t total);
+    void *progress_ctx;
+} el_track_options;
+
+/* Fills opt with the defaults: el_assess_defaults, automatic window and
+ * step, no progress callback. */
+void el_track_defaults(el_track_options *opt);
+
+typedef enum {
+    EL_TREND_UNDECIDED = 0,       /* neither direction holds with probability >= level */
+    EL_TREND_SHRINKING,           /* the margin falls: P(slope < 0) >= level */
+    EL_TREND_GROWING              /* the margin rises: P(slope > 0) >= level */
+} el_trend_class;
+
+/* "undecided", "shrinking" or "growing" (static text). */
+const char *el_trend_name(el_trend_class trend);
+
+/* One window. The margin is the decay rate of the least-damped mode,
+ * -max Re lambda (1/time unit): positive for a stable operating point,
+ * zero at the stability boundary. */
+typedef struct {
+    double t_from, t_to;          /* time-column units */
+    int ok;                       /* 0: the assessment failed; error says why */
+    char error[EL_ERROR_TEXT_MAX];
+    el_method method;             /* estimator used (auto's choice) */
+    el_stability stability;
+    int ambiguous;
+    double p_stable;
+    double margin;                /* point estimate */
+    double margin_lo, margin_hi;  /* bootstrap bounds at the level */
+    double margin_sd;             /* spread of the replicates (IQR / 1.349) */
+    double frequency_hz;          /* least-damped mode (0 for a real mode) */
+    double damping_ratio;         /* NaN when not defined */
+    size_t n_replicates;
+    double *margin_samples;       /* n_replicates replicate margins (owned) */
+    size_t n_warnings;            /* warnings of the window's assessment */
+} el_track_window;
+
+typedef struct {
+    size_t n_windows, n_ok;
+    el_track_window *windows;     /* n_windows, owned */
+    double window, step;          /* as used */
+    double span_from, span_to;    /* the tracked span */
+    size_t n_channels;
+    double level;
+    /* Trend of the margin over the windows' mid times (weighted least
+     * squares, weights 1 / margin_sd^2). */
+    int has_trend;                /* 0: fewer than 3 windows gave a margin */
+    double slope;                 /* 1/time unit per time unit */
+    double slope_lo, slope_hi;    /* bounds at the level */
+    double p_shrinking;           /* fraction of replicate slopes below 0 */
+    el_trend_class trend;
+    double scatter_ratio;         /* chi^2 / dof of the margins about the line */
+    double widening;              /* factor the replicate slopes' spread was widened by */
+    double margin_now;            /* the line at the last window's mid time */
+    double time_to_zero;          /* from the last window's mid time; NaN unless shrinking */
+    double time_to_zero_lo, time_to_zero_hi;   /* hi = +inf: not bounded */
+    el_warnings warnings;
+} el_track_result;
+
+/* Reads the log, builds the series over the span, cuts it into windows of
+ * opt->window every opt->step and assesses each (seed of window i: the
+ * seed plus i times a fixed odd constant, so windows do not share their
+ * resampling), then fits the trend (el_track_fit_trend). A window whose
+ * assessment fails is kept with ok = 0 and its message; the others carry
+ * on. *result must be zero-initialised (free with el_track_free, also on
+ * error). Errors: those of el_assess_load; EL_ERR_USAGE (option
+ * "--window", "--step" or "--boot") for a window longer than the span or
+ * under 20 samples, a negative step, fewer than 3 windows, or no
+ * bootstrap; EL_ERR_NUMERIC when fewer than 3 windows give a margin;
+ * EL_ERR_NOMEM. */
+el_status el_track_run(const el_track_options *opt, el_track_result *result,
+                       el_error *err);
+
+/* The trend of result->windows (those with ok and replicates), filled into
+ * the trend fields of *result. Point slope: weighted least squares of the
+ * margins on the windows' mid times, weights 1 / margin_sd^2. Replicate
+ * slope r: the same weights on replicate r of every window (index r modulo
+ * its count), so its spread is the one the windows' bootstrap implies.
+ * When the point margins scatter about the line more than their spread
+ * explains (scatter_ratio > 1) or the windows overlap (step < window: the
+ * windows then share data), the replicate slopes are widened about their
+ * median by sqrt(scatter_ratio) times sqrt(window / step). Bounds and
+ * p_shrinking come from the replicate slopes; the class needs p_shrinking
+ * >= level (or <= 1 - level); time_to_zero is the line's margin at the
+ * last window divided by -slope when shrinking, its bounds from the
+ * replicate slopes (+inf when some do not fall). Adds warnings for
+ * widening and extrapolation. Fewer than 3 usable windows: has_trend = 0
+ * and EL_OK. EL_ERR_NOMEM. */
+el_status el_track_fit_trend(el_track_result *result, el_error *err);
+
+/* Text report (terminal) and JSON report of a track run. EL_OK or
+ * EL_ERR_NOMEM. */
+el_status el_track_report_text(const el_track_result *r, const el_track_options *opt,
+                               el_buf *out);
+el_status el_track_report_json(const el_track_result *r, const el_track_options *opt,
+                               el_buf *out);
+
+/* Frees what the result owns and zeroes it. NULL is a no-op. */
+void el_track_free(el_track_result *result);
+
+#endif

@@ -1,0 +1,78 @@
+#!/bin/sh
+# End-to-end: `eigenlog track` through the command line: a log whose
+# margin falls linearly (simulated below, true margin known) is called
+# shrinking and --fail-on shrinking exits 5; the steady booster-pump demo is
+# not called shrinking; JSON is complete and NaN-free; bad options exit 1
+# naming the option. Run by tests/run.sh with EIGENLOG set.
+set -u
+bin=${EIGENLOG:-build/rel/eigenlog}
+tmp=$(mktemp -d)
+trap 'rm -rf "$tmp"' EXIT
+passed=0
+failed=0
+check() { # check NAME CONDITION-EXIT-STATUS
+    if [ "$2" -eq 0 ]; then passed=$((passed + 1)); else failed=$((failed + 1)); echo "FAIL $1"; fi
+}
+
+# A 0.5 Hz oscillator at dt = 0.05 s whose decay rate goes from 0.5 to 0.1
+# 1/s over 800 s (step k: e^(-sigma_k dt) times a rotation, plus noise of
+# sd 0.1). Noise: Park-Miller generator (16807 x mod 2^31 - 1, exact in
+# awk's doubles) and Box-Muller.
+awk 'BEGIN {
+    pi = 3.14159265358979; dt = 0.05; om = 2 * pi * 0.5; n = 16000; m = 2147483647
+    s = 12345; x = 1; y = 0
+    print "t,x,y"
+    for (k = 0; k < n; k++) {
+        printf "%.2f,%.9f,%.9f\n", k * dt, x + 3, y - 1
+        sg = 0.5 + (0.1 - 0.5) * k / (n - 1); g = exp(-sg * dt)
+        s = (16807 * s) % m; u1 = s / m; s = (16807 * s) % m; u2 = s / m
+        r = sqrt(-2 * log(u1)); e1 = r * cos(2 * pi * u2); e2 = r * sin(2 * pi * u2)
+        xn = g * (cos(om * dt) * x - sin(om * dt) * y) + 0.1 * e1
+        y = g * (sin(om * dt) * x + cos(om * dt) * y) + 0.1 * e2; x = xn
+    }
+}' >"$tmp/drift.csv"
+
+"$bin" track "$tmp/drift.csv" --window 100 --boot 300 --json "$tmp/drift.json" \
+    --fail-on shrinking >"$tmp/drift.txt"
+status=$?
+[ "$status" -eq 5 ]
+check "falling margin: --fail-on shrinking exits 5 (got $status)" $?
+grep -q '"class": "shrinking"' "$tmp/drift.json"
+check "falling margin is called shrinking" $?
+grep -q "SHRINKING MARGIN" "$tmp/drift.txt" && grep -q "Caution" "$tmp/drift.txt"
+check "text report has the verdict and the caution" $?
+for key in '"command": "track"' '"windowing"' '"windows"' '"margin_bounds"' '"trend"' \
+           '"slope_bounds"' '"p_shrinking"' '"time_to_zero"' '"caution"'; do
+    grep -q "$key" "$tmp/drift.json"
+    check "JSON has $key" $?
+done
+grep -q -E '(:|\[|,) *-?(nan|inf|NaN|Inf|Infinity)\b' "$tmp/drift.json"
+[ $? -ne 0 ]
+check "JSON holds no NaN or Inf" $?
+
+"$bin" track datasets/booster_pump.csv --boot 200 --json "$tmp/pump.json" --quiet \
+    --fail-on shrinking
+check "steady demo: track exits 0 (not shrinking)" $?
+grep -q '"assessed": 8' "$tmp/pump.json"
+check "steady demo: 8 windows assessed" $?
+
+"$bin" track datasets/booster_pump.csv --window 5000 2>"$tmp/err.txt"
+status=$?
+[ "$status" -eq 1 ] && grep -q -- "--window" "$tmp/err.txt"
+check "window longer than the log: exit 1 naming --window (got $status)" $?
+"$bin" track datasets/booster_pump.csv --boot 0 2>"$tmp/err.txt"
+status=$?
+[ "$status" -eq 1 ] && grep -q -- "--boot" "$tmp/err.txt"
+check "no bootstrap: exit 1 naming --boot (got $status)" $?
+"$bin" track datasets/booster_pump.csv --step -3 2>"$tmp/err.txt"
+[ $? -eq 1 ]
+check "negative step: exit 1" $?
+"$bin" track datasets/booster_pump.csv --json /nonexistent/dir/x.json 2>"$tmp/err.txt"
+status=$?
+[ "$status" -eq 4 ] && [ ! -e /nonexistent/dir/x.json ]
+check "unwritable JSON path: exit 4 before any work (got $status)" $?
+"$bin" track --help >/dev/null
+check "track --help exits 0" $?
+
+echo "e2e_track: $passed passed, $failed failed"
+[ "$failed" -eq 0 ]
