@@ -812,41 +812,14 @@ el_boot_dims el_estimator_boot_dims(const el_model *model)
  * isotropic, w = s p with s = sqrt(m r / trace G) (returned in *iso).
  * work: 2 * state_dim. */
 static el_status build_states(const el_series *s, const el_model *mdl, int isotropic,
-                              double *states, double *chol, double *iso, double *work,
-                              el_error *err)
+                              double *states, double *chol, double *iso, el_error *err)
 {
-    size_t nn = s->n_samples, nc = mdl->n_channels, lags = mdl->lags;
-    size_t sd = mdl->state_dim, r = mdl->rank, m = mdl->n_pairs;
-    double *zbar = work, *z = work + sd;
-    const double *x = s->values;
-    for (size_t j = 0; j <= lags; j++)
-        for (size_t c = 0; c < nc; c++) {
-            double acc = 0.0;
-            for (size_t k = lags; k + 1 < nn; k++)
-                acc += (x[c * nn + k - j] - mdl->channel_mean[c]) / mdl->channel_scale[c];
-            zbar[j * nc + c] = acc / (double)m;
-        }
-    for (size_t i = 0; i < r * r; i++)
-        chol[i] = 0.0;
-    for (size_t t = 0; t <= m; t++) {
-        size_t k = lags + t;
-        for (size_t j = 0; j <= lags; j++)
-            for (size_t c = 0; c < nc; c++)
-                z[j * nc + c] = (x[c * nn + k - j] - mdl->channel_mean[c]) /
-                                    mdl->channel_scale[c] -
-                                zbar[j * nc + c];
-        double *p = states + t * r;
-        for (size_t q = 0; q < r; q++) {
-            double acc = 0.0;
-            for (size_t i = 0; i < sd; i++)
-                acc += mdl->basis[i + q * sd] * z[i];
-            p[q] = acc;
-        }
-        if (t < m)
-            for (size_t b = 0; b < r; b++)
-                for (size_t a = b; a < r; a++)
-                    chol[a + b * r] += p[a] * p[b];
-    }
+    size_t r = mdl->rank, m = mdl->n_pairs;
+    /* p[t] = U_r'(z[K+t] - zbar) and G = sum p p' (el_resample: the same
+     * projection the bootstrap's own states start from). */
+    el_status st = el_boot_project_states(s, mdl, 1, states, chol, err);
+    if (st != EL_OK)
+        return st;
     if (isotropic) {
         double tr = 0.0;
         for (size_t q = 0; q < r; q++)
@@ -916,18 +889,15 @@ el_status el_estimator_boot_states(const el_series *series, const el_series *inp
     size_t r = model->rank, m = model->n_pairs, sw = r + nu;
     double *w = malloc((m + 1) * r * sizeof(double));
     double *chol = malloc(r * r * sizeof(double));
-    double *work = malloc(2 * model->state_dim * sizeof(double));
     double *out = nu > 0 ? malloc((m + 1) * sw * sizeof(double)) : w;
     el_status st = EL_ERR_NOMEM;
-    if (w != NULL && chol != NULL && work != NULL && out != NULL) {
+    if (w != NULL && chol != NULL && out != NULL) {
         double iso = 1.0;
-        st = build_states(series, model, model->method == EL_METHOD_TLS, w, chol, &iso,
-                          work, err);
+        st = build_states(series, model, model->method == EL_METHOD_TLS, w, chol, &iso, err);
     } else {
         el_error_set(err, EL_ERR_NOMEM, "out of memory (reduced states)");
     }
     free(chol);
-    free(work);
     if (st == EL_OK && nu > 0) {
         /* State t belongs to sample K + t; its inputs are scaled as the
          * point fit scales them (point_window). */
@@ -963,7 +933,6 @@ struct el_est_plan {
     double *s1_work;
     double *states;             /* (n_pairs + 1) * d */
     double *chol;               /* d * d */
-    double *sw;                 /* 2 d */
     double *vbuf;               /* EST_CHUNK x dim_max */
     double *mean, *cov;         /* dim_max, dim_max^2 */
     double *core_work;
@@ -988,7 +957,6 @@ void el_est_plan_destroy(el_est_plan *plan)
     free(plan->s1_work);
     free(plan->states);
     free(plan->chol);
-    free(plan->sw);
     free(plan->vbuf);
     free(plan->mean);
     free(plan->cov);
@@ -1114,7 +1082,6 @@ el_status el_est_plan_create(const el_fit_options *opt, size_t n_samples,
     size_t dm = p->dim_max, nu = n_inputs;
     p->states = malloc((m + 1) * d * sizeof(double));
     p->chol = malloc(d * d * sizeof(double));
-    p->sw = malloc(2 * d * sizeof(double));
     p->vbuf = malloc(EST_CHUNK * dm * sizeof(double));
     p->mean = malloc(dm * sizeof(double));
     p->cov = malloc(dm * dm * sizeof(double));
@@ -1122,7 +1089,7 @@ el_status el_est_plan_create(const el_fit_options *opt, size_t n_samples,
     p->aw = malloc(d * d * sizeof(double));
     p->bw = malloc((d * nu + 1) * sizeof(double));
     p->row = malloc(dm * sizeof(double));
-    if (!ok || !p->states || !p->chol || !p->sw || !p->vbuf || !p->mean || !p->cov ||
+    if (!ok || !p->states || !p->chol || !p->vbuf || !p->mean || !p->cov ||
         !p->core_work || !p->aw || !p->bw || !p->row) {
         el_est_plan_destroy(p);
         return el_error_set(err, EL_ERR_NOMEM,
@@ -1538,7 +1505,7 @@ el_status el_est_reduced_fit(el_est_plan *plan, const el_series *series,
     int iso_method = plan->method == EL_METHOD_TLS;
     double iso = 1.0;
     el_status st = build_states(series, model, iso_method, plan->states, plan->chol, &iso,
-                                plan->sw, err);
+                                err);
     if (st != EL_OK)
         return st;
     size_t dim, n_win;
