@@ -191,6 +191,8 @@ static el_status assess_window(const el_track_options *opt, const el_assessment 
     memset(&a, 0, sizeof a);
     w->t_from = all->series.t0 + (double)k0 * all->series.dt;
     w->t_to = w->t_from + (double)len * all->series.dt;
+    el_table_format_time(&all->table, w->t_from, w->from_text, sizeof w->from_text);
+    el_table_format_time(&all->table, w->t_to, w->to_text, sizeof w->to_text);
     el_status st = slice_series(&all->series, k0, len, &a.series, err);
     if (st == EL_OK && all->has_inputs) {
         st = slice_series(&all->inputs, k0, len, &a.inputs, err);
@@ -256,6 +258,9 @@ el_status el_track_run(const el_track_options *opt, el_track_result *result,
         result->span_from = all.series.t0;
         result->span_to = all.series.t0 + (double)all.series.n_samples * all.series.dt;
         result->n_channels = all.series.n_channels;
+        result->time_is_iso = all.table.time_is_iso;
+        result->time_origin_s = all.table.time_is_iso ? (double)all.table.time_origin_unix_s
+                                                      : 0.0;
         result->level = opt->assess.boot.level;
     }
     for (size_t i = 0; st == EL_OK && i < count; i++) {
@@ -505,9 +510,9 @@ el_status el_track_fit_trend(el_track_result *r, el_error *err)
 /* ------------------------------------------------------------------ */
 /* Reports. */
 
-static void text_window(el_buf *out, const el_track_window *w)
+static void text_window(el_buf *out, const el_track_window *w, int width)
 {
-    el_buf_printf(out, "  %10.4g %10.4g  ", w->t_from, w->t_to);
+    el_buf_printf(out, "  %*s %*s  ", width, w->from_text, width, w->to_text);
     if (!w->ok) {
         el_buf_printf(out, "failed: %s\n", w->error);
         return;
@@ -565,15 +570,20 @@ el_status el_track_report_text(const el_track_result *r, const el_track_options 
 {
     el_buf_printf(out, "eigenlog %s track  %s\n", EL_VERSION,
                   opt->assess.path ? opt->assess.path : "");
-    el_buf_printf(out, "Windows       %zu of %.4g every %.4g time units over [%.4g, %.4g]; "
-                       "%zu assessed\n", r->n_windows, r->window, r->step, r->span_from,
-                  r->span_to, r->n_ok);
+    el_buf_printf(out, "Windows       %zu of %.6g every %.6g %s from %s; %zu assessed\n",
+                  r->n_windows, r->window, r->step, r->time_is_iso ? "s" : "time units",
+                  r->n_windows > 0 ? r->windows[0].from_text : "", r->n_ok);
     el_buf_printf(out, "Margin = decay rate of the least-damped mode (1/time unit; "
                        "below 0: growing)\n");
-    el_buf_printf(out, "  %10s %10s  %10s  %-22s  %7s  %8s  %6s  %s\n", "from", "to",
-                  "margin", "bounds", "zeta", "f Hz", "P(st)", "verdict, method");
+    int width = 10;
+    for (size_t i = 0; i < r->n_windows; i++) {
+        int len = (int)strlen(r->windows[i].to_text);
+        width = len > width ? len : width;
+    }
+    el_buf_printf(out, "  %*s %*s  %10s  %-22s  %7s  %8s  %6s  %s\n", width, "from", width,
+                  "to", "margin", "bounds", "zeta", "f Hz", "P(st)", "verdict, method");
     for (size_t i = 0; i < r->n_windows; i++)
-        text_window(out, &r->windows[i]);
+        text_window(out, &r->windows[i], width);
     if (r->has_trend)
         text_trend(out, r);
     for (size_t i = 0; i < r->warnings.count; i++)
@@ -590,11 +600,14 @@ static void json_interval(el_json *j, const char *key, double lo, double hi)
         el_json_null(j, key);
 }
 
-static void json_window(el_json *j, const el_track_window *w)
+/* from/to: table time, for ISO logs Unix seconds (as assess's window). */
+static void json_window(el_json *j, const el_track_window *w, double origin)
 {
     el_json_object_begin(j, NULL);
-    el_json_number(j, "from", w->t_from);
-    el_json_number(j, "to", w->t_to);
+    el_json_number(j, "from", origin + w->t_from);
+    el_json_number(j, "to", origin + w->t_to);
+    el_json_string(j, "from_text", w->from_text);
+    el_json_string(j, "to_text", w->to_text);
     el_json_bool(j, "ok", w->ok);
     if (!w->ok) {
         el_json_string(j, "error", w->error);
@@ -625,7 +638,8 @@ el_status el_track_report_json(const el_track_result *r, const el_track_options 
     el_json_object_begin(&j, "input");
     el_json_string(&j, "file", opt->assess.path ? opt->assess.path : "");
     el_json_int(&j, "channels", (long long)r->n_channels);
-    el_json_pair(&j, "span", r->span_from, r->span_to);
+    el_json_string(&j, "time_format", r->time_is_iso ? "iso8601" : "number");
+    el_json_pair(&j, "span", r->time_origin_s + r->span_from, r->time_origin_s + r->span_to);
     el_json_object_end(&j);
     el_json_object_begin(&j, "windowing");
     el_json_number(&j, "length", r->window);
@@ -635,7 +649,7 @@ el_status el_track_report_json(const el_track_result *r, const el_track_options 
     el_json_object_end(&j);
     el_json_array_begin(&j, "windows");
     for (size_t i = 0; i < r->n_windows; i++)
-        json_window(&j, &r->windows[i]);
+        json_window(&j, &r->windows[i], r->time_origin_s);
     el_json_array_end(&j);
     el_json_object_begin(&j, "trend");
     el_json_string(&j, "class", el_trend_name(r->trend));

@@ -39,7 +39,8 @@ const char *el_trend_name(el_trend_class trend);
  * -max Re lambda (1/time unit): positive for a stable operating point,
  * zero at the stability boundary. */
 typedef struct {
-    double t_from, t_to;          /* time-column units */
+    double t_from, t_to;          /* time-column units (ISO logs: seconds from time_origin_s) */
+    char from_text[48], to_text[48];  /* as the log writes times (ISO 8601 or a number) */
     int ok;                       /* 0: the assessment failed; error says why */
     char error[EL_ERROR_TEXT_MAX];
     el_method method;             /* estimator used (auto's choice) */
@@ -61,6 +62,8 @@ typedef struct {
     el_track_window *windows;     /* n_windows, owned */
     double window, step;          /* as used */
     double span_from, span_to;    /* the tracked span */
+    int time_is_iso;              /* 1: the time column held ISO 8601 date-times */
+    double time_origin_s;         /* ISO: the Unix time (s) that time 0 stands for */
     size_t n_channels;
     double level;
     /* Trend of the margin over the windows' mid times (weighted least

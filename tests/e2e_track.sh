@@ -56,6 +56,22 @@ check "steady demo: track exits 0 (not shrinking)" $?
 grep -q '"assessed": 8' "$tmp/pump.json"
 check "steady demo: 8 windows assessed" $?
 
+# The same log with ISO 8601 times (first 240 s): windows are labelled as the
+# log writes times, and JSON times are Unix seconds.
+awk -F, 'NR == 1 { print "time,x,y"; next }
+         NR <= 4801 { t = $1; m = int(t / 60); s = t - 60 * m
+                      printf "2026-11-30T08:%02d:%05.2fZ,%s,%s\n", m, s, $2, $3 }' \
+    "$tmp/drift.csv" >"$tmp/drift_iso.csv"
+"$bin" track "$tmp/drift_iso.csv" --window 60 --boot 200 --json "$tmp/iso.json" \
+    >"$tmp/iso.txt"
+check "ISO log: track exits 0" $?
+grep -q '"time_format": "iso8601"' "$tmp/iso.json" && \
+    grep -q '"from_text": "2026-11-30T08:01:00' "$tmp/iso.json" && \
+    grep -q '"from": 1796025660' "$tmp/iso.json"
+check "ISO log: window times as written and in Unix seconds" $?
+grep -q "2026-11-30T08:03:00" "$tmp/iso.txt"
+check "ISO log: text report labels windows with ISO times" $?
+
 "$bin" track datasets/booster_pump.csv --window 5000 2>"$tmp/err.txt"
 status=$?
 [ "$status" -eq 1 ] && grep -q -- "--window" "$tmp/err.txt"
