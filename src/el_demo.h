@@ -37,6 +37,11 @@ el_status el_demo_generate(const char *name, el_buf *csv, el_error *err);
  *   x[0] = x0,  x[k+1] = Ad x[k] + w[k],  w[k] ~ N(0, Qd),
  * with (Ad, Qd) the exact discretisation over dt_s of dx/dt = A x + noise
  * of intensity Q (el_discretise), each y rounded to decimals[i] places.
+ * A drifting scenario (a_end != NULL) cuts the rows into drift_segments
+ * equal segments; segment s runs with A = a + (a_end - a) (s + 0.5) /
+ * drift_segments (A at the segment's middle, discretised afresh), so A
+ * moves in a straight line from a to a_end over the log; lambda_* are then
+ * the eigenvalues of a and lambda_*_end those of a_end.
  * All arrays are static, n x n ones column-major. */
 typedef struct {
     size_t n;                        /* states = logged channels */
@@ -53,7 +58,19 @@ typedef struct {
     double dt_s;                     /* sample interval */
     size_t rows;                     /* data rows written */
     uint64_t seed;                   /* el_rng seed (stream 0) */
+    const double *a_end;             /* NULL: A is constant */
+    size_t drift_segments;           /* segments of constant A (a_end only) */
+    const double *lambda_re_end;     /* eigenvalues of a_end (a_end only) */
+    const double *lambda_im_end;
 } el_demo_system;
+
+/* The sampled map the simulation of sys uses over drift segment segment
+ * (0 for a constant A): ad = Ad and, when g != NULL, g = G with G G' = Qd,
+ * both n x n column-major, rounded to 40 significant bits as the
+ * simulation rounds them. EL_ERR_NUMERIC when the discretisation fails,
+ * EL_ERR_INTERNAL for more than 4 states. */
+el_status el_demo_segment_map(const el_demo_system *sys, size_t segment, double *ad,
+                              double *g, el_error *err);
 
 /* The system of a scenario by name; NULL when there is none. */
 const el_demo_system *el_demo_system_find(const char *name);

@@ -19,6 +19,8 @@ cmp -s "$tmp/booster_pump.csv" datasets/booster_pump.csv
 check "booster_pump.csv regenerates byte for byte" $?
 cmp -s "$tmp/rig_test.csv" datasets/rig_test.csv
 check "rig_test.csv regenerates byte for byte" $?
+cmp -s "$tmp/fan_warmup.csv" datasets/fan_warmup.csv
+check "fan_warmup.csv regenerates byte for byte" $?
 
 "$bin" scan datasets/booster_pump.csv >"$tmp/scan.txt"
 check "scan exits 0" $?

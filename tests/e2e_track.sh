@@ -1,8 +1,8 @@
 #!/bin/sh
 # End-to-end: `eigenlog track` through the command line: a log whose
 # margin falls linearly (simulated below, true margin known) is called
-# shrinking and --fail-on shrinking exits 5; the steady booster-pump demo is
-# not called shrinking; JSON is complete and NaN-free; bad options exit 1
+# shrinking and --fail-on shrinking exits 5, as is the fan-warmup demo; the
+# steady booster-pump demo is not called shrinking; JSON is complete and NaN-free; bad options exit 1
 # naming the option. Run by tests/run.sh with EIGENLOG set.
 set -u
 bin=${EIGENLOG:-build/rel/eigenlog}
@@ -49,6 +49,11 @@ done
 grep -q -E '(:|\[|,) *-?(nan|inf|NaN|Inf|Infinity)\b' "$tmp/drift.json"
 [ $? -ne 0 ]
 check "JSON holds no NaN or Inf" $?
+
+"$bin" track datasets/fan_warmup.csv --window 300 --boot 300 --json "$tmp/fan.json" --quiet
+check "fan-warmup demo: track exits 0" $?
+grep -q '"class": "shrinking"' "$tmp/fan.json"
+check "fan-warmup demo: margin shrinking (datasets/README.md truth)" $?
 
 "$bin" track datasets/booster_pump.csv --boot 200 --json "$tmp/pump.json" --quiet \
     --fail-on shrinking

@@ -48,7 +48,7 @@ static void generate(const char *name, el_buf *csv)
 static void test_list_and_find(void **state)
 {
     (void)state;
-    assert_int_equal(el_demo_count(), 2);
+    assert_int_equal(el_demo_count(), 3);
     assert_null(el_demo_get(el_demo_count()));
     for (size_t i = 0; i < el_demo_count(); i++) {
         const el_demo_info *d = el_demo_get(i);
@@ -61,6 +61,7 @@ static void test_list_and_find(void **state)
     }
     assert_non_null(el_demo_find("booster-pump"));
     assert_non_null(el_demo_find("rig-test"));
+    assert_non_null(el_demo_find("fan-warmup"));
     assert_null(el_demo_find("no-such-demo"));
     assert_null(el_demo_find(NULL));
     assert_null(el_demo_system_find("no-such-demo"));
@@ -202,8 +203,11 @@ static void test_rows_header_and_time_column(void **state)
     }
     const el_demo_system *b = el_demo_system_find("booster-pump");
     const el_demo_system *r = el_demo_system_find("rig-test");
+    const el_demo_system *f = el_demo_system_find("fan-warmup");
     assert_int_equal(b->rows, 12000);   /* 10 min at 20 Hz */
     assert_int_equal(r->rows, 9000);    /* 90 s at 100 Hz */
+    assert_int_equal(f->rows, 24000);   /* 40 min at 10 Hz */
+    assert_int_equal(f->rows % f->drift_segments, 0);   /* whole segments */
 }
 
 /* Characteristic polynomial coefficients c[0..n] (c[n] = 1) of A by the
@@ -234,44 +238,54 @@ static void char_poly(size_t n, const double *a, double *c)
     }
 }
 
-static void test_truth_eigenvalues_belong_to_a(void **state)
+/* The truth values lre/lim are the eigenvalues of a (n x n). */
+static void check_truth(size_t n, const double *a, const double *lre, const double *lim)
 {
-    (void)state;
-    for (size_t d = 0; d < el_demo_count(); d++) {
-        const el_demo_system *s = el_demo_system_find(el_demo_get(d)->name);
-        const size_t n = s->n;
-        double c[5];
-        char_poly(n, s->a, c);
-        for (size_t k = 0; k < n; k++) {
+    double c[5];
+    char_poly(n, a, c);
+    for (size_t k = 0; k < n; k++) {
             /* p(lambda) by Horner in complex arithmetic, against the size
              * of its terms: the truth values are numpy eigenvalues printed
              * to 17 digits, so p(lambda) is rounding noise, ~1e-15 of the
              * scale; 1e-10 still rejects a wrong digit in the 7th place
              * (which moves p by ~1e-7 of the scale). */
-            double re = s->lambda_re[k], im = s->lambda_im[k];
-            double pr = c[n], pi = 0.0, scale = 0.0, mag = sqrt(re * re + im * im);
-            for (size_t j = n; j-- > 0;) {
-                double tr = pr * re - pi * im + c[j];
-                pi = pr * im + pi * re;
-                pr = tr;
-            }
-            for (size_t j = 0; j <= n; j++)
-                scale += fabs(c[j]) * pow(mag, (double)j);
-            assert_close(hypot(pr, pi) / scale, 0.0, 0.0, 1e-10);
+        double re = lre[k], im = lim[k];
+        double pr = c[n], pi = 0.0, scale = 0.0, mag = sqrt(re * re + im * im);
+        for (size_t j = n; j-- > 0;) {
+            double tr = pr * re - pi * im + c[j];
+            pi = pr * im + pi * re;
+            pr = tr;
         }
-        /* Conjugate pairs, least damped first. */
-        for (size_t k = 0; k + 1 < n; k += 2) {
-            assert_close(s->lambda_re[k], s->lambda_re[k + 1], 0.0, 0.0);
-            assert_close(s->lambda_im[k], -s->lambda_im[k + 1], 0.0, 0.0);
-            if (k + 2 < n)
-                assert_true(s->lambda_re[k] >= s->lambda_re[k + 2]);
-        }
+        for (size_t j = 0; j <= n; j++)
+            scale += fabs(c[j]) * pow(mag, (double)j);
+        assert_close(hypot(pr, pi) / scale, 0.0, 0.0, 1e-10);
+    }
+    /* Conjugate pairs, least damped first. */
+    for (size_t k = 0; k + 1 < n; k += 2) {
+        assert_close(lre[k], lre[k + 1], 0.0, 0.0);
+        assert_close(lim[k], -lim[k + 1], 0.0, 0.0);
+        if (k + 2 < n)
+            assert_true(lre[k] >= lre[k + 2]);
+    }
+}
+
+static void test_truth_eigenvalues_belong_to_a(void **state)
+{
+    (void)state;
+    for (size_t d = 0; d < el_demo_count(); d++) {
+        const el_demo_system *s = el_demo_system_find(el_demo_get(d)->name);
+        check_truth(s->n, s->a, s->lambda_re, s->lambda_im);
+        if (s->a_end != NULL)
+            check_truth(s->n, s->a_end, s->lambda_re_end, s->lambda_im_end);
     }
     /* The intended dynamics (datasets/README.md): a stable booster mode,
      * one growing rig mode. */
     assert_true(el_demo_system_find("booster-pump")->lambda_re[0] < 0.0);
     assert_true(el_demo_system_find("rig-test")->lambda_re[0] > 0.0);
     assert_true(el_demo_system_find("rig-test")->lambda_re[2] < 0.0);
+    /* The fan's margin shrinks: the end is less damped but still stable. */
+    const el_demo_system *f = el_demo_system_find("fan-warmup");
+    assert_true(f->lambda_re_end[0] > f->lambda_re[0] && f->lambda_re_end[0] < 0.0);
 }
 
 static void test_readme_states_the_truth(void **state)
@@ -294,6 +308,23 @@ static void test_readme_states_the_truth(void **state)
     free(readme);
 }
 
+/* Ad and Qd of the scenario's segment seg by an independent
+ * el_discretise call (A at the segment's middle for a drifting one). */
+static void step_map(const el_demo_system *s, size_t seg, double *ad, double *qd)
+{
+    size_t n = s->n;
+    double a[16], work[32 * 16 + 8];
+    int iwork[8];
+    for (size_t i = 0; i < n * n; i++)
+        a[i] = s->a_end == NULL ? s->a[i]
+                                : s->a[i] + (s->a_end[i] - s->a[i]) * ((double)seg + 0.5)
+                                                / (double)s->drift_segments;
+    el_error err;
+    el_error_clear(&err);
+    assert_int_equal(el_discretise(n, a, s->q, s->dt_s, ad, qd, NULL, work, iwork, &err),
+                     EL_OK);
+}
+
 static void test_one_step_residual_covariance(void **state)
 {
     (void)state;
@@ -313,28 +344,28 @@ static void test_one_step_residual_covariance(void **state)
         generate(info->name, &csv);
         double *y = parse_csv(s, csv.data, strcmp(info->name, "booster-pump") == 0);
 
-        double ad[16], qd[16], work[32 * 16 + 8];
-        int iwork[8];
-        el_error err;
-        el_error_clear(&err);
-        assert_int_equal(el_discretise(n, s->a, s->q, s->dt_s, ad, qd, NULL, work,
-                                       iwork, &err), EL_OK);
-        double r_diag[4], expect[16];
+        double ad[16], qd[16];
+        double r_diag[4], expect[16] = {0};
         for (size_t i = 0; i < n; i++) {
             double h = pow(10.0, -s->decimals[i]);
             r_diag[i] = s->sensor_sd[i] * s->sensor_sd[i] + h * h / 12.0;
         }
-        for (size_t i = 0; i < n; i++)
-            for (size_t j = 0; j < n; j++) {
-                double v = qd[i + j * n] + (i == j ? r_diag[i] : 0.0);
-                for (size_t l = 0; l < n; l++)
-                    v += ad[i + l * n] * r_diag[l] * ad[j + l * n];
-                expect[i + j * n] = v;
-            }
-
+        /* A drifting scenario's step k runs with A at the middle of its
+         * segment (datasets/README.md): the expected covariance is the
+         * mean of the steps' own. */
+        size_t seg_rows = s->a_end != NULL ? s->rows / s->drift_segments : s->rows;
         double sum[16] = {0};
         const size_t m = s->rows - 1;
         for (size_t k = 0; k < m; k++) {
+            if (k % seg_rows == 0)
+                step_map(s, k / seg_rows, ad, qd);
+            for (size_t i = 0; i < n; i++)
+                for (size_t j = 0; j < n; j++) {
+                    double v = qd[i + j * n] + (i == j ? r_diag[i] : 0.0);
+                    for (size_t l = 0; l < n; l++)
+                        v += ad[i + l * n] * r_diag[l] * ad[j + l * n];
+                    expect[i + j * n] += v / (double)m;
+                }
             double r[4];
             for (size_t i = 0; i < n; i++) {
                 double pred = 0.0;
