@@ -30,15 +30,29 @@ static const char *opt_value(const cli_args *a, const char *name)
     return cli_value(a, OPTIONS, N_OPTIONS, name);
 }
 
+/* A positive length in the time column's units. */
+static el_status parse_length(const char *option, const char *text, double *out,
+                              el_error *err)
+{
+    el_status st = cli_double(option, text, 0.0, 1e300, out, err);
+    if (st == EL_OK && *out > 0.0)
+        return EL_OK;
+    el_error_set(err, EL_ERR_USAGE, "'%s' is not a positive length", text);
+    char dashed[32];
+    snprintf(dashed, sizeof dashed, "--%s", option);
+    el_error_option(err, dashed);
+    el_error_hint(err, "give a length in the time column's units (seconds for ISO times), "
+                       "e.g. --%s 300", option);
+    return EL_ERR_USAGE;
+}
+
 static el_status parse_lengths(const cli_args *a, track_cli *c, el_error *err)
 {
     const char *v;
     el_status st;
-    if ((v = opt_value(a, "window")) &&
-        (st = cli_double("window", v, 1e-300, 1e300, &c->track.window, err)))
+    if ((v = opt_value(a, "window")) && (st = parse_length("window", v, &c->track.window, err)))
         return st;
-    if ((v = opt_value(a, "step")) &&
-        (st = cli_double("step", v, 1e-300, 1e300, &c->track.step, err)))
+    if ((v = opt_value(a, "step")) && (st = parse_length("step", v, &c->track.step, err)))
         return st;
     return EL_OK;
 }

@@ -210,8 +210,10 @@ static el_status assess_window(const el_track_options *opt, const el_assessment 
     st = el_assess_analyse(&o, &a, &werr);
     if (st == EL_OK) {
         st = summarise(&a, opt->assess.boot.level, w, err);
-    } else if (st != EL_ERR_NOMEM && st != EL_ERR_INTERNAL) {
-        /* The window's own trouble (too flat, singular): noted, not fatal. */
+    } else if (st != EL_ERR_NOMEM && st != EL_ERR_INTERNAL && st != EL_ERR_USAGE) {
+        /* The window's own trouble (too flat, singular): noted, not fatal.
+         * A usage error (an option that cannot apply) would fail every
+         * window alike: it stops the run and is reported as it is. */
         w->ok = 0;
         snprintf(w->error, sizeof w->error, "%s", werr.message);
         st = EL_OK;

@@ -86,8 +86,11 @@ status=$?
 [ "$status" -eq 1 ] && grep -q -- "--boot" "$tmp/err.txt"
 check "no bootstrap: exit 1 naming --boot (got $status)" $?
 "$bin" track datasets/booster_pump.csv --step -3 2>"$tmp/err.txt"
-[ $? -eq 1 ]
-check "negative step: exit 1" $?
+[ $? -eq 1 ] && grep -q -- "--step" "$tmp/err.txt"
+check "negative step: exit 1 naming --step" $?
+"$bin" track datasets/booster_pump.csv --rank 5 --boot 100 2>"$tmp/err.txt"
+[ $? -eq 1 ] && grep -q -- "--rank" "$tmp/err.txt"
+check "an option no window can take stops the run: exit 1 naming --rank" $?
 "$bin" track datasets/booster_pump.csv --json /nonexistent/dir/x.json 2>"$tmp/err.txt"
 status=$?
 [ "$status" -eq 4 ] && [ ! -e /nonexistent/dir/x.json ]
