@@ -14,6 +14,10 @@
 #include <stdlib.h>
 #include <string.h>
 
+/* Smallest singular value, relative to the largest, a fitted direction may
+ * have (choose_rank). */
+#define FIT_RANK_FLOOR 1e-7
+
 /* Reciprocal condition numbers of I - Ad below this draw the "eigenvalue
  * near 1" warning: z* then moves by more than 1e8 times the relative error
  * of Ad, and a fitted Ad seldom carries more than a few correct digits. */
@@ -553,7 +557,13 @@ static el_status choose_rank(el_fit_plan *plan, el_model *m, el_warnings *w,
         el_error_hint(err, "choose a window where the channels move");
         return EL_ERR_DATA;
     }
-    double cut = (double)(p > d ? p : d) * DBL_EPSILON * sv[0];
+    /* Below 1e-7 of the largest singular value (140 dB) a direction is
+     * under the resolution of any logger (24 bits: 144 dB) and its 1/sigma
+     * amplifies rounding, not motion; the bootstrap's whitening, whose
+     * Gram matrix holds sigma^2, refuses exactly those directions (pivot
+     * test 1e-14), so the fit drops them first (docs/accuracy.md, D5). */
+    double rel = (double)(p > d ? p : d) * DBL_EPSILON;
+    double cut = (rel > FIT_RANK_FLOOR ? rel : FIT_RANK_FLOOR) * sv[0];
     size_t r_num = 0;
     while (r_num < d && sv[r_num] > cut)
         r_num++;

@@ -53,6 +53,8 @@ static void simulate_pair(double re, double im, double dt, size_t n, uint64_t se
 
 static char *names2[] = { "a", "b" };
 static char *units2[] = { "", "" };
+static char *three_names[] = { "a", "b", "a_plus_b" };
+static char *three_units[] = { "", "", "" };
 
 static el_series make_series(double *values, size_t n, double dt)
 {
@@ -1094,6 +1096,51 @@ static void test_bias_refused_under_sensor_noise(void **state)
     fitted_free(&f);
 }
 
+/* A third channel that is the sum of the other two up to rounding at
+ * 1e-10 of their size (a derived channel a logger computes): its direction
+ * has a singular value near 1e-10 of the largest, below the fit's floor
+ * of 1e-7 (docs/method.md, section 5), so the fit lowers the rank to 2
+ * with a warning and the bootstrap runs on the rank-2 basis (it used to
+ * refuse: docs/accuracy.md, D5), its modes the pair's. */
+static void test_dependent_channel_rank_and_bootstrap(void **state)
+{
+    (void)state;
+    const size_t n = 1500;
+    fitted f;
+    memset(&f, 0, sizeof f);
+    double *two = malloc(2 * n * sizeof(double));
+    f.values = malloc(3 * n * sizeof(double));
+    assert_non_null(two);
+    assert_non_null(f.values);
+    simulate_pair(-0.4, 2.5, 0.05, n, 71, two);
+    el_rng rng;
+    el_rng_seed(&rng, 72, 0);
+    memcpy(f.values, two, 2 * n * sizeof(double));
+    for (size_t k = 0; k < n; k++)
+        f.values[2 * n + k] = two[k] + two[n + k] + 1e-10 * el_rng_normal(&rng);
+    free(two);
+    f.series = make_series(f.values, n, 0.05);
+    f.series.n_channels = 3;
+    f.series.names = three_names;
+    f.series.units = three_units;
+    el_fit_defaults(&f.fit);
+    el_error err;
+    el_error_clear(&err);
+    el_warnings w = { 0 };
+    assert_int_equal(el_fit(&f.series, &f.fit, &f.model, &w, &err), EL_OK);
+    assert_int_equal(f.model.rank, 2);
+    assert_true(w.count >= 1 && strstr(w.items[0], "numerical rank 2 of 3") != NULL);
+    assert_int_equal(el_modes_compute(&f.model, &f.modes, NULL, &err), EL_OK);
+    el_boot_result r;
+    assert_int_equal(run_boot(&f, 200, 2, EL_RESAMPLE_BLOCKS, 0, &r), EL_OK);
+    /* The pair's Re lambda -0.4 inside its bounds (a 1500-sample log: the
+     * 95% bounds hold it unless this seed is among the 5%). */
+    assert_true(r.bounds[0].re.lo < -0.4 && -0.4 < r.bounds[0].re.hi);
+    el_boot_free(&r);
+    el_warnings_free(&w);
+    fitted_free(&f);
+}
+
 typedef struct {
     pthread_t caller;
     int wrong_thread;
@@ -1175,6 +1222,7 @@ int main(void)
         cmocka_unit_test(test_inputs_p_stable),
         cmocka_unit_test(test_inputs_threads_deterministic),
         cmocka_unit_test(test_bias_refused_under_sensor_noise),
+        cmocka_unit_test(test_dependent_channel_rank_and_bootstrap),
         cmocka_unit_test(test_progress),
         cmocka_unit_test(test_errors),
     };
