@@ -5,6 +5,7 @@
 #include <unistd.h>
 
 #include "cli.h"
+#include "el_html.h"
 #include "el_io.h"
 #include "el_track.h"
 
@@ -13,6 +14,7 @@ static const cli_option OPTIONS[] = {
     {"window", "LEN", "window length in the time column's units (default: the span / 8)"},
     {"step", "LEN", "distance between window starts (default: the window, no overlap)"},
     {"json", "FILE", "write the windows and the trend as JSON (- = standard output)"},
+    {"html", "FILE", "write a self-contained HTML report with plots"},
     {"fail-on", "shrinking", "exit with status 5 when the margin is shrinking"},
     {"quiet", NULL, "print nothing but errors"},
 };
@@ -21,6 +23,7 @@ static const cli_option OPTIONS[] = {
 typedef struct {
     el_track_options track;
     const char *json_path;
+    const char *html_path;
     int fail_on_shrinking;
     int quiet;
 } track_cli;
@@ -70,6 +73,7 @@ static el_status parse_track(const cli_args *a, track_cli *c, el_error *err)
     }
     c->track.assess.path = a->positional[0];
     c->json_path = opt_value(a, "json");
+    c->html_path = opt_value(a, "html");
     c->quiet = opt_value(a, "quiet") != NULL;
     el_status st = cli_model_options(a, OPTIONS, N_OPTIONS, &c->track.assess, err);
     if (st == EL_OK)
@@ -90,17 +94,22 @@ static void show_progress(void *ctx, size_t done, size_t total)
     fflush(stderr);
 }
 
-static el_status write_json(const track_cli *c, const el_track_result *r, el_error *err)
+/* Builds every requested file in memory first, then writes each whole
+ * (temp file + rename), so a failure while building leaves none. */
+static el_status write_outputs(const track_cli *c, const el_track_result *r, el_error *err)
 {
-    if (c->json_path == NULL)
-        return EL_OK;
-    el_buf json = {0};
-    el_status st = el_track_report_json(r, &c->track, &json);
-    if (st != EL_OK)
+    el_buf json = {0}, html = {0};
+    el_status st = EL_OK;
+    if (c->json_path != NULL && (st = el_track_report_json(r, &c->track, &json)) != EL_OK)
         el_error_set(err, st, "could not build the JSON report");
-    else
+    if (st == EL_OK && c->html_path != NULL)
+        st = el_html_track_report(r, &c->track, &html, err);
+    if (st == EL_OK && c->json_path != NULL)
         st = el_write_file_atomic(c->json_path, json.data, json.length, err);
+    if (st == EL_OK && c->html_path != NULL)
+        st = el_write_file_atomic(c->html_path, html.data, html.length, err);
     el_buf_free(&json);
+    el_buf_free(&html);
     return st;
 }
 
@@ -136,8 +145,11 @@ int cli_track(int argc, char **argv)
     }
     if (st == EL_OK)
         st = parse_track(&a, &c, &err);
+    /* Refuse an unwritable output path before minutes of work. */
     if (st == EL_OK)
         st = el_check_writable(c.json_path, &err);
+    if (st == EL_OK)
+        st = el_check_writable(c.html_path, &err);
     if (st != EL_OK) {
         cli_print_error(&err);
         return el_exit_code(st);
@@ -150,7 +162,7 @@ int cli_track(int argc, char **argv)
     memset(&r, 0, sizeof r);
     st = el_track_run(&c.track, &r, &err);
     if (st == EL_OK)
-        st = write_json(&c, &r, &err);
+        st = write_outputs(&c, &r, &err);
     if (st == EL_OK)
         st = print_text(&c, &r, &err);
     int code = st != EL_OK ? el_exit_code(st)

@@ -1,6 +1,6 @@
-/* el_html: the assessment as one self-contained HTML page with inline SVG
- * figures (no script, no network), laid out for a laptop screen and for
- * paper. */
+/* el_html: an assessment, or a track run, as one self-contained HTML page
+ * with inline SVG figures (no script, no network), laid out for a laptop
+ * screen and for paper. */
 #include "el_html.h"
 
 #include <math.h>
@@ -13,12 +13,16 @@
 
 /* ------------------------------------------------------------ context */
 
+/* One page being written. Exactly one of r and t is set: the page helpers
+ * below serve both reports, the figure code reads its own input. */
 typedef struct {
-    const el_assessment *r;
+    const el_assessment *r;       /* assess page */
+    const el_track_result *t;     /* track page */
     el_buf *o;
     char time_unit[48];       /* "s" or the time column's unit */
     char rate_unit[64];       /* "1/s" */
     char freq_unit[64];       /* "Hz" */
+    char slope_unit[80];      /* track: unit of the margin's slope */
     double level;             /* bounds level, NaN when unknown */
     int boot;                 /* 1: a bootstrap ran */
     int figure;               /* figure counter for captions */
@@ -92,14 +96,9 @@ static int boot_ran(const el_assessment *r)
     return r->boot.replicates > 0 && r->boot.bounds != NULL;
 }
 
-static void setup_units(ctx *c)
+/* Unit texts from the time unit u ("" when the log does not say). */
+static void set_units(ctx *c, const char *u)
 {
-    const el_table *t = &c->r->table;
-    const char *u = "";
-    if (t->time_is_iso)
-        u = "s";
-    else if (t->units != NULL && t->time_column < t->n_columns && t->units[t->time_column])
-        u = t->units[t->time_column];
     if (u[0] == '\0')
         u = "time unit";
     snprintf(c->time_unit, sizeof c->time_unit, "%s", u);
@@ -108,6 +107,15 @@ static void setup_units(ctx *c)
         snprintf(c->freq_unit, sizeof c->freq_unit, "Hz");
     else
         snprintf(c->freq_unit, sizeof c->freq_unit, "cycles/%s", u);
+}
+
+static const char *table_time_unit(const el_table *t)
+{
+    if (t->time_is_iso)
+        return "s";
+    if (t->units != NULL && t->time_column < t->n_columns && t->units[t->time_column])
+        return t->units[t->time_column];
+    return "";
 }
 
 /* "name [unit]" of channel ch, escaped. */
@@ -200,6 +208,19 @@ static const char *const CSS[] = {
     ".plot .psd{stroke:#27313b;stroke-width:1.2}\n",
     ".plot .modeline{stroke-width:1.6;stroke-dasharray:5 4}\n",
     ".plot .stop{fill:var(--free)}\n",
+    ".plot .unstable-side{fill:#f6e4df}\n",
+    ".plot .wbar{stroke:#2f6f9f;stroke-width:2.2}\n",
+    ".plot .wdot{fill:#fff;stroke:#2f6f9f;stroke-width:2.4}\n",
+    ".plot .window-failed{fill:var(--unstable)}\n",
+    ".plot .trend{stroke:var(--ink);stroke-width:2.2}\n",
+    ".plot .trend-bound{stroke:#7c838a;stroke-width:1}\n",
+    ".plot .extrapolation{stroke:var(--unstable);stroke-width:1.8;stroke-dasharray:7 5}\n",
+    ".plot .zero-interval{stroke:var(--unstable);stroke-width:6;stroke-opacity:.45}\n",
+    ".plot .zero-cap{stroke:var(--unstable);stroke-width:1.6}\n",
+    ".plot .zero-cross{fill:var(--unstable)}\n",
+    ".plot .join{fill:none;stroke:#b9b3a8;stroke-width:1.2}\n",
+    ".plot .zeta,.plot .freq{fill:#2f6f9f}\n",
+    "table.windows tr.failed td{color:var(--unstable)}\n",
     "table.modes{border-collapse:collapse;width:100%;font-size:13.5px}\n",
     "table.modes th{text-align:left;font-weight:600;color:var(--muted);font-size:12px;"
     "white-space:nowrap;"
@@ -232,21 +253,29 @@ static const char *const CSS[] = {
 };
 #define N_CSS (sizeof CSS / sizeof CSS[0])
 
-static void page_begin(ctx *c)
+/* Everything up to the header line's "when" text, which the caller
+ * writes and closes with </span></header>. kind is static markup. */
+static void page_open(ctx *c, const char *kind, const char *source)
 {
-    const el_assessment *r = c->r;
     put(c, "<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\">\n"
            "<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\">\n"
            "<title>eigenlog: ");
-    esc(c, r->table.source);
+    esc(c, source);
     put(c, "</title>\n<style>\n");
     for (size_t i = 0; i < N_CSS; i++)
         put(c, CSS[i]);
     put(c, "</style>\n</head>\n<body>\n<main>\n");
-    put(c, "<header class=\"top\"><span class=\"brand\">eigenlog " EL_VERSION
-           " &middot; stability report</span><span class=\"file\">");
-    esc(c, r->table.source);
+    put(c, "<header class=\"top\"><span class=\"brand\">eigenlog " EL_VERSION " &middot; ");
+    put(c, kind);
+    put(c, "</span><span class=\"file\">");
+    esc(c, source);
     put(c, "</span><span class=\"when\">");
+}
+
+static void page_begin(ctx *c)
+{
+    const el_assessment *r = c->r;
+    page_open(c, "stability report", r->table.source);
     const el_series *s = &r->series;
     char a[64], b[64];
     el_table_format_time(&r->table, s->t0, a, sizeof a);
@@ -279,13 +308,14 @@ static const char *verdict_colour(const el_verdict *v)
     return v->stability == EL_STABLE ? "var(--stable)" : "var(--unstable)";
 }
 
-/* A 0..1 bar of P(stable) with 1 - level and level marked: the verdict
- * is confident only outside the band between them. */
-static void p_meter(ctx *c, double p)
+/* A 0..1 bar of a probability (name: P(stable), P(shrinking)) with
+ * 1 - level and level marked: a call is made only outside the band
+ * between them. */
+static void p_meter(ctx *c, double p, const char *name)
 {
     const double x0 = 2, x1 = 198;
-    put(c, "<svg class=\"meter\" viewBox=\"0 0 200 30\" role=\"img\" "
-           "aria-label=\"P(stable) on a scale from 0 to 1\">");
+    el_buf_printf(c->o, "<svg class=\"meter\" viewBox=\"0 0 200 30\" role=\"img\" "
+                  "aria-label=\"%s on a scale from 0 to 1\">", name);
     el_buf_printf(c->o, "<rect x=\"%.0f\" y=\"4\" width=\"%.0f\" height=\"9\" rx=\"4.5\" "
                   "fill=\"#ebe7de\"/><rect x=\"%.0f\" y=\"4\" width=\"%.1f\" height=\"9\" "
                   "rx=\"4.5\" fill=\"var(--v)\"/>", x0, x1 - x0, x0, (x1 - x0) * p);
@@ -309,6 +339,16 @@ static void tile_begin(ctx *c, const char *label)
                   label);
 }
 
+/* A tile's value with its unit, then the start of its small print. */
+static void tile_value(ctx *c, const char *label, double v, const char *unit)
+{
+    tile_begin(c, label);
+    put_num(c, v, 3);
+    put(c, " <small>");
+    esc(c, unit);
+    put(c, "</small></div><div class=\"ts\">");
+}
+
 static void verdict_tiles(ctx *c)
 {
     const el_assessment *r = c->r;
@@ -318,26 +358,20 @@ static void verdict_tiles(ctx *c)
     if (isfinite(v->p_stable)) {
         el_buf_printf(c->o, "%.3f</div><div class=\"ts\">share of %zu bootstrap replicates "
                       "whose least damped mode decays</div>", v->p_stable, r->boot.replicates);
-        p_meter(c, v->p_stable);
+        p_meter(c, v->p_stable, "P(stable)");
     } else {
         put(c, "n/a</div><div class=\"ts\">no bootstrap was run: no bounds</div>");
     }
     put(c, "</div>");
-    tile_begin(c, "decay rate");
-    put_num(c, v->margin_decay_rate, 3);
-    put(c, " <small>");
-    esc(c, c->rate_unit);
-    put(c, "</small></div><div class=\"ts\">&minus;Re &lambda; of the least damped mode; "
+    tile_value(c, "decay rate", v->margin_decay_rate, c->rate_unit);
+    put(c, "&minus;Re &lambda; of the least damped mode; "
            "negative means growing</div></div>");
     tile_begin(c, "damping ratio");
     put_num(c, v->margin_damping_ratio, 3);
     put(c, "</div><div class=\"ts\">of the least damped mode</div></div>");
     const el_mode *m = r->modes.n_modes ? &r->modes.modes[0] : NULL;
-    tile_begin(c, m && m->decay_rate < 0 ? "doubling time" : "time constant");
-    put_num(c, m ? m->time_constant_s : NAN, 3);
-    put(c, " <small>");
-    esc(c, c->time_unit);
-    put(c, "</small></div><div class=\"ts\">");
+    tile_value(c, m && m->decay_rate < 0 ? "doubling time" : "time constant",
+               m ? m->time_constant_s : NAN, c->time_unit);
     if (m != NULL && m->pair && !m->at_nyquist && isfinite(m->frequency_hz)) {
         put(c, "mode 1 rings at ");
         put_num(c, m->frequency_hz, 3);
@@ -349,19 +383,26 @@ static void verdict_tiles(ctx *c)
     put(c, "</div></div></div>\n");
 }
 
-static void verdict_section(ctx *c)
+/* Opens the verdict box and its head with the big word (upper-cased);
+ * the caller adds the head's lines, closes it and adds the tiles. */
+static void verdict_open(ctx *c, const char *colour, const char *text)
 {
-    const el_verdict *v = &c->r->verdict;
-    char word[32];
-    snprintf(word, sizeof word, "%s", v->stability_name ? v->stability_name : "n/a");
+    char word[40];
+    snprintf(word, sizeof word, "%s", text);
     for (char *p = word; *p; p++)
         if (*p >= 'a' && *p <= 'z')
             *p = (char)(*p - 'a' + 'A');
     el_buf_printf(c->o, "<section class=\"verdict\" id=\"verdict\" style=\"--v:%s\">\n",
-                  verdict_colour(v));
+                  colour);
     put(c, "<div class=\"vhead\"><div class=\"vword\">");
     esc(c, word);
     put(c, "</div>");
+}
+
+static void verdict_section(ctx *c)
+{
+    const el_verdict *v = &c->r->verdict;
+    verdict_open(c, verdict_colour(v), v->stability_name ? v->stability_name : "n/a");
     if (v->ambiguous)
         put(c, "<span class=\"vtag\">ambiguous</span>");
     put(c, "<div class=\"vtype\">fixed point: <b>");
@@ -375,27 +416,32 @@ static void verdict_section(ctx *c)
     put(c, "</section>\n");
 }
 
-static void warnings_section(ctx *c)
+/* The warnings of n_lists lists, in order, as one box. */
+static void warnings_box(ctx *c, const el_warnings *const *lists, size_t n_lists)
 {
-    const el_assessment *r = c->r;
-    size_t n = r->input_warnings.count + r->warnings.count;
+    size_t n = 0;
+    for (size_t l = 0; l < n_lists; l++)
+        n += lists[l]->count;
     if (n == 0) {
         put(c, "<p class=\"nowarn\" id=\"warnings\">No warnings.</p>\n");
         return;
     }
     el_buf_printf(c->o, "<section class=\"warnings\" id=\"warnings\"><h2>Warnings (%zu)</h2><ul>\n",
                   n);
-    for (size_t i = 0; i < r->input_warnings.count; i++) {
-        put(c, "<li>");
-        esc(c, r->input_warnings.items[i]);
-        put(c, "</li>\n");
-    }
-    for (size_t i = 0; i < r->warnings.count; i++) {
-        put(c, "<li>");
-        esc(c, r->warnings.items[i]);
-        put(c, "</li>\n");
+    for (size_t l = 0; l < n_lists; l++) {
+        for (size_t i = 0; i < lists[l]->count; i++) {
+            put(c, "<li>");
+            esc(c, lists[l]->items[i]);
+            put(c, "</li>\n");
+        }
     }
     put(c, "</ul></section>\n");
+}
+
+static void warnings_section(ctx *c)
+{
+    const el_warnings *lists[] = {&c->r->input_warnings, &c->r->warnings};
+    warnings_box(c, lists, 2);
 }
 
 static void caution_section(ctx *c)
@@ -1435,16 +1481,28 @@ static void mode_shape_cell(ctx *c, const el_mode *m, size_t index)
     put(c, "</table></td>");
 }
 
+/* "[lo, hi]"; open_end (static markup) stands for an upper end of +inf
+ * when given, else such an end is "n/a" like any value that does not
+ * exist. */
+static void put_pair(ctx *c, double lo, double hi, int sig, const char *open_end)
+{
+    put(c, "[");
+    put_num(c, lo, sig);
+    put(c, ", ");
+    if (open_end != NULL && isinf(hi) && hi > 0)
+        put(c, open_end);
+    else
+        put_num(c, hi, sig);
+    put(c, "]");
+}
+
 /* "[lo, hi]" under a value, or nothing without a bootstrap. */
 static void put_bounds(ctx *c, const char *prefix, const el_interval *iv, int sig)
 {
     put(c, "<div class=\"iv\">");
     put(c, prefix);
-    put(c, "[");
-    put_num(c, iv->lo, sig);
-    put(c, ", ");
-    put_num(c, iv->hi, sig);
-    put(c, "]</div>");
+    put_pair(c, iv->lo, iv->hi, sig, NULL);
+    put(c, "</div>");
 }
 
 static const el_mode_bounds *bounds_of(const ctx *c, size_t i)
@@ -1504,18 +1562,40 @@ static void mode_row(ctx *c, size_t i)
     put(c, "</tr>\n");
 }
 
+/* A table column: its name (static markup) and unit (escaped; NULL:
+ * none). */
+typedef struct {
+    const char *name;
+    const char *unit;
+} column;
+
+/* Opens <figure id=ID><table class=CLS> with a header row and <tbody>. */
+static void table_open(ctx *c, const char *id, const char *cls, const column *cols, size_t n)
+{
+    el_buf_printf(c->o, "<figure id=\"%s\"><table class=\"%s\"><thead><tr>", id, cls);
+    for (size_t i = 0; i < n; i++) {
+        put(c, "<th>");
+        put(c, cols[i].name);
+        if (cols[i].unit != NULL) {
+            put(c, " [");
+            esc(c, cols[i].unit);
+            put(c, "]");
+        }
+        put(c, "</th>");
+    }
+    put(c, "</tr></thead>\n<tbody>\n");
+}
+
 static void fig_modes(ctx *c)
 {
-    put(c, "<figure id=\"fig-modes\"><table class=\"modes\"><thead><tr><th>#</th>"
-           "<th>&lambda; [");
-    esc(c, c->rate_unit);
-    put(c, "]</th><th>frequency [");
-    esc(c, c->freq_unit);
-    put(c, "]</th><th>damping &zeta;</th><th>decay rate [");
-    esc(c, c->rate_unit);
-    put(c, "]</th><th>time constant [");
-    esc(c, c->time_unit);
-    put(c, "]</th><th>shape: magnitude, phase</th></tr></thead>\n<tbody>\n");
+    const column cols[] = {{"#", NULL},
+                           {"&lambda;", c->rate_unit},
+                           {"frequency", c->freq_unit},
+                           {"damping &zeta;", NULL},
+                           {"decay rate", c->rate_unit},
+                           {"time constant", c->time_unit},
+                           {"shape: magnitude, phase", NULL}};
+    table_open(c, "fig-modes", "modes", cols, sizeof cols / sizeof cols[0]);
     for (size_t i = 0; i < c->r->modes.n_modes; i++)
         mode_row(c, i);
     put(c, "</tbody></table>\n");
@@ -1660,7 +1740,7 @@ el_status el_html_report(const el_assessment *r, const el_assess_options *opt,
         return st;
     ctx c = {.r = r, .o = out, .boot = boot_ran(r)};
     c.level = opt != NULL ? opt->boot.level : c.boot ? r->boot.level : NAN;
-    setup_units(&c);
+    set_units(&c, table_time_unit(&r->table));
     el_prediction *pred = NULL;
     if ((st = make_prediction(r, &pred, err)) != EL_OK)
         return st;
@@ -1690,6 +1770,702 @@ el_status el_html_report(const el_assessment *r, const el_assess_options *opt,
     page_end(&c);
     free(scratch);
     el_prediction_destroy(pred);
+    if (out->failed)
+        return el_error_set(err, EL_ERR_NOMEM, "out of memory while writing the HTML report");
+    return EL_OK;
+}
+
+/* ------------------------------------------------------------ track */
+
+/* The windows' time axis, x = t - x0: ISO logs count seconds from the
+ * first window's start (whose date-time the caption gives), since
+ * absolute Unix seconds make poor tick labels. */
+typedef struct {
+    double x0;
+    double from, to;          /* the windows' span on the axis */
+    double t_last;            /* middle of the last window in the trend */
+    int line;                 /* 1: a trend line to draw */
+    int extrapolate;          /* 1: shrinking with a time to zero */
+} track_axis;
+
+/* The windows el_track_fit_trend uses: the line passes through the last
+ * of them at margin_now. */
+static int in_trend(const el_track_window *w)
+{
+    return w->ok && w->n_replicates > 0 && isfinite(w->margin);
+}
+
+static double mid_x(const track_axis *a, const el_track_window *w)
+{
+    return 0.5 * (w->t_from + w->t_to) - a->x0;
+}
+
+static void track_axis_make(const el_track_result *r, track_axis *a)
+{
+    a->x0 = r->time_is_iso ? r->windows[0].t_from : 0.0;
+    a->from = INFINITY;
+    a->to = -INFINITY;
+    a->t_last = NAN;
+    for (size_t i = 0; i < r->n_windows; i++) {
+        const el_track_window *w = &r->windows[i];
+        widen(&a->from, &a->to, w->t_from - a->x0);
+        widen(&a->from, &a->to, w->t_to - a->x0);
+        if (in_trend(w))
+            a->t_last = mid_x(a, w);
+    }
+    if (!(a->to > a->from)) {
+        /* Windows of no length (or no finite time): one unit around them. */
+        double m = isfinite(a->from) ? a->from : 0.0;
+        a->from = m - 0.5;
+        a->to = m + 0.5;
+    }
+    a->line = r->has_trend && isfinite(a->t_last) && isfinite(r->slope) &&
+              isfinite(r->margin_now);
+    a->extrapolate = a->line && r->trend == EL_TREND_SHRINKING &&
+                     isfinite(r->time_to_zero) && r->time_to_zero > 0;
+}
+
+/* The margin on a line of this slope through the fitted line's value at
+ * the last trend window (the trend-bound lines pivot there too). */
+static double on_line(const el_track_result *r, const track_axis *a, double slope, double x)
+{
+    return r->margin_now + slope * (x - a->t_last);
+}
+
+/* Extrapolations are cut at twice the windows' span beyond their end:
+ * further out the windows would shrink to a sliver of the figure. */
+static double margin_reach(const track_axis *a)
+{
+    return a->to + 2.0 * (a->to - a->from);
+}
+
+/* Where the figure wants to show the way to zero up to: the upper time
+ * to zero, or a quarter past the crossing when that end is open. */
+static double extrapolation_end(const el_track_result *r, const track_axis *a)
+{
+    double end = isfinite(r->time_to_zero_hi) ? r->time_to_zero_hi : 1.25 * r->time_to_zero;
+    return a->t_last + end;
+}
+
+/* Range of fig-margin: 0, every margin and bound, the trend lines over
+ * the span and, when shrinking, the way to zero (within the reach). */
+static void margin_range(const el_track_result *r, const track_axis *a, frame *f)
+{
+    double lo = 0.0, hi = 0.0;
+    for (size_t i = 0; i < r->n_windows; i++) {
+        const el_track_window *w = &r->windows[i];
+        if (!w->ok)
+            continue;
+        widen(&lo, &hi, w->margin);
+        widen(&lo, &hi, w->margin_lo);
+        widen(&lo, &hi, w->margin_hi);
+    }
+    const double slopes[3] = {r->slope, r->slope_lo, r->slope_hi};
+    for (int k = 0; k < 3 && a->line; k++) {
+        widen(&lo, &hi, on_line(r, a, slopes[k], a->from));
+        widen(&lo, &hi, on_line(r, a, slopes[k], a->to));
+    }
+    double right = a->to;
+    if (a->extrapolate)
+        right = fmax(right, fmin(extrapolation_end(r, a), margin_reach(a)));
+    double pad = 0.03 * (right - a->from), h = hi - lo > 0 ? hi - lo : 1.0;
+    f->xlo = a->from - pad;
+    f->xhi = right + pad;
+    f->ylo = lo - 0.08 * h;
+    f->yhi = hi + 0.08 * h;
+}
+
+/* Stable side above the zero line, unstable side (shaded) below it. */
+static void margin_background(ctx *c, const frame *f)
+{
+    double y0 = fy(f, 0.0), bottom = f->top + f->height;
+    el_buf_printf(c->o, "<rect class=\"unstable-side\" x=\"%.1f\" y=\"%.1f\" width=\"%.1f\" "
+                  "height=\"%.1f\"/>", f->left, y0, f->width, bottom - y0);
+    x_ticks(c, f);
+    y_ticks(c, f);
+    el_buf_printf(c->o, "<line class=\"boundary\" x1=\"%.1f\" x2=\"%.1f\" y1=\"%.1f\" "
+                  "y2=\"%.1f\"/>", f->left, f->left + f->width, y0, y0);
+    if (y0 - f->top > 24)
+        el_buf_printf(c->o, "<text class=\"region\" x=\"%.1f\" y=\"%.1f\">stable side "
+                      "(margin &gt; 0)</text>", f->left + 10, f->top + 20);
+    if (bottom - y0 > 24)
+        el_buf_printf(c->o, "<text class=\"region\" x=\"%.1f\" y=\"%.1f\">unstable side: a "
+                      "mode grows</text>", f->left + 10, bottom - 10);
+}
+
+/* "FROM to TO" of a window, escaped. */
+static void put_window_span(ctx *c, const el_track_window *w)
+{
+    esc(c, w->from_text);
+    put(c, " to ");
+    esc(c, w->to_text);
+}
+
+static void window_data(ctx *c, const char *cls, const el_track_window *w)
+{
+    el_buf_printf(c->o, "<g class=\"%s\" data-from=\"", cls);
+    esc(c, w->from_text);
+    put(c, "\" data-to=\"");
+    esc(c, w->to_text);
+    put(c, "\"");
+}
+
+/* A failed window: a triangle on the bottom edge, its message on hover. */
+static void failed_marker(ctx *c, const frame *f, double x, const el_track_window *w)
+{
+    window_data(c, "window-failed", w);
+    put(c, "><title>");
+    put_window_span(c, w);
+    put(c, ": failed: ");
+    esc(c, w->error);
+    el_buf_printf(c->o, "</title><path d=\"M%.1f %.1fl-6 0 6 -11 6 11z\"/></g>", x,
+                  f->top + f->height - 2);
+}
+
+static void margin_windows(ctx *c, const frame *f, const track_axis *a)
+{
+    const el_track_result *r = c->t;
+    for (size_t i = 0; i < r->n_windows; i++) {
+        const el_track_window *w = &r->windows[i];
+        double x = fx(f, mid_x(a, w));
+        if (!w->ok) {
+            failed_marker(c, f, x, w);
+            continue;
+        }
+        char b[40];
+        window_data(c, "window", w);
+        el_buf_printf(c->o, " data-margin=\"%s\"><title>", num(b, sizeof b, w->margin, 6));
+        put_window_span(c, w);
+        put(c, ": margin ");
+        put_num(c, w->margin, 4);
+        put(c, " ");
+        put_pair(c, w->margin_lo, w->margin_hi, 4, NULL);
+        put(c, "</title>");
+        if (isfinite(w->margin_lo) && isfinite(w->margin_hi))
+            el_buf_printf(c->o, "<line class=\"wbar\" x1=\"%.1f\" x2=\"%.1f\" y1=\"%.1f\" "
+                          "y2=\"%.1f\"/>", x, x, fy(f, w->margin_lo), fy(f, w->margin_hi));
+        if (isfinite(w->margin))
+            el_buf_printf(c->o, "<circle class=\"wdot\" cx=\"%.1f\" cy=\"%.1f\" r=\"4.5\"/>", x,
+                          fy(f, w->margin));
+        put(c, "</g>");
+    }
+}
+
+static void slope_line(ctx *c, const frame *f, const track_axis *a, const char *cls,
+                       double slope)
+{
+    const el_track_result *r = c->t;
+    if (!isfinite(slope))
+        return;
+    el_buf_printf(c->o, "<line class=\"%s\" x1=\"%.1f\" x2=\"%.1f\" y1=\"%.1f\" y2=\"%.1f\"/>",
+                  cls, fx(f, a->from), fx(f, a->to), fy(f, on_line(r, a, slope, a->from)),
+                  fy(f, on_line(r, a, slope, a->to)));
+}
+
+/* The dashed way from the last window to zero and, on the zero line, the
+ * bounds of the time to zero (an open end runs to the edge). */
+static void margin_extrapolation(ctx *c, const frame *f, const track_axis *a)
+{
+    const el_track_result *r = c->t;
+    double x1 = a->t_last + r->time_to_zero, y1 = 0.0;
+    if (x1 > f->xhi) {
+        x1 = f->xhi;
+        y1 = on_line(r, a, r->slope, x1);
+    }
+    el_buf_printf(c->o, "<line class=\"extrapolation\" x1=\"%.1f\" x2=\"%.1f\" y1=\"%.1f\" "
+                  "y2=\"%.1f\"/>", fx(f, a->t_last), fx(f, x1), fy(f, r->margin_now), fy(f, y1));
+    double lo = clampd(a->t_last + r->time_to_zero_lo, f->xlo, f->xhi);
+    double hi = isfinite(r->time_to_zero_hi) ? a->t_last + r->time_to_zero_hi : INFINITY;
+    double y0 = fy(f, 0.0), xl = fx(f, lo), xh = fx(f, clampd(hi, f->xlo, f->xhi));
+    el_buf_printf(c->o, "<line class=\"zero-interval\" x1=\"%.1f\" x2=\"%.1f\" y1=\"%.1f\" "
+                  "y2=\"%.1f\"/><line class=\"zero-cap\" x1=\"%.1f\" x2=\"%.1f\" y1=\"%.1f\" "
+                  "y2=\"%.1f\"/>", xl, xh, y0, y0, xl, xl, y0 - 7, y0 + 7);
+    if (hi <= f->xhi)
+        el_buf_printf(c->o, "<line class=\"zero-cap\" x1=\"%.1f\" x2=\"%.1f\" y1=\"%.1f\" "
+                      "y2=\"%.1f\"/>", xh, xh, y0 - 7, y0 + 7);
+    else
+        el_buf_printf(c->o, "<text class=\"note\" x=\"%.1f\" y=\"%.1f\" text-anchor=\"end\">%s "
+                      "&rarr;</text>", xh - 4, y0 - 10,
+                      isfinite(hi) ? "beyond the view" : "not bounded");
+    if (y1 == 0.0)
+        el_buf_printf(c->o, "<circle class=\"zero-cross\" cx=\"%.1f\" cy=\"%.1f\" r=\"4\"/>",
+                      fx(f, x1), y0);
+}
+
+/* The words of a legend key after its drawing at x; returns where the
+ * next key starts (12.5 px DejaVu Sans: about 7.4 px a character). */
+static double key_words(ctx *c, double x, double y, const char *words)
+{
+    el_buf_printf(c->o, "<text x=\"%.1f\" y=\"%.1f\">%s</text>", x + 28, y + 4, words);
+    return x + 48 + 7.4 * (double)strlen(words);
+}
+
+static double key_line(ctx *c, double x, double y, const char *cls, const char *words)
+{
+    el_buf_printf(c->o, "<line class=\"key %s\" x1=\"%.1f\" x2=\"%.1f\" y1=\"%.1f\" "
+                  "y2=\"%.1f\"/>", cls, x, x + 22, y, y);
+    return key_words(c, x, y, words);
+}
+
+/* Keys use class "key ..." so that the figure's own elements can be
+ * counted by their exact class attribute. */
+static void margin_legend(ctx *c, const frame *f, const track_axis *a, size_t failed)
+{
+    double x = f->left, y = f->top - 14;
+    put(c, "<g class=\"legend\">");
+    el_buf_printf(c->o, "<line class=\"key wbar\" x1=\"%.1f\" x2=\"%.1f\" y1=\"%.1f\" "
+                  "y2=\"%.1f\"/><circle class=\"key wdot\" cx=\"%.1f\" cy=\"%.1f\" r=\"4\"/>",
+                  x + 11, x + 11, y - 7, y + 7, x + 11, y);
+    x = key_words(c, x, y, "window: margin and bounds");
+    if (a->line) {
+        x = key_line(c, x, y, "trend", "fitted line");
+        x = key_line(c, x, y, "trend-bound", "slopes at the bounds");
+    }
+    if (a->extrapolate)
+        x = key_line(c, x, y, "extrapolation", "straight on to zero");
+    if (failed > 0) {
+        el_buf_printf(c->o, "<path class=\"key window-failed\" d=\"M%.1f %.1fl-6 0 6 -11 6 11z\"/>",
+                      x + 11, y + 5);
+        key_words(c, x, y, "failed window");
+    }
+    put(c, "</g>");
+}
+
+static void margin_titles(ctx *c, const frame *f)
+{
+    x_title_begin(c, f);
+    put(c, c->t->time_is_iso ? "time from the first window's start [" : "time [");
+    esc(c, c->time_unit);
+    put(c, "]</text>");
+    y_title_begin(c, f);
+    put(c, "margin &minus;max Re &lambda; [");
+    esc(c, c->rate_unit);
+    put(c, "]</text>");
+}
+
+/* "BEFORE 95 % AFTER" (static markup around the level), nothing when the
+ * level is unknown. */
+static void put_level_phrase(ctx *c, const char *before, const char *after)
+{
+    if (!isfinite(c->level))
+        return;
+    put(c, before);
+    el_buf_printf(c->o, "%.3g %%", 100.0 * c->level);
+    put(c, after);
+}
+
+/* A duration in prose: "300 s", "300 time units". */
+static void put_duration(ctx *c, double v)
+{
+    put_num(c, v, 4);
+    put(c, " ");
+    if (c->t->time_unit[0] != '\0')
+        esc(c, c->time_unit);
+    else
+        put(c, "time units");
+}
+
+static size_t failed_windows(const el_track_result *r)
+{
+    return r->n_windows - r->n_ok;
+}
+
+static void margin_caption(ctx *c, const track_axis *a)
+{
+    const el_track_result *r = c->t;
+    caption_begin(c, "Margin over time.");
+    put(c, "Each window's margin, the decay rate &minus;max Re &lambda; of its least damped "
+           "mode, at the window's middle (dot)");
+    put_level_phrase(c, " with its ", " bootstrap bounds (bar)");
+    put(c, ". Above the green zero line the operating point is stable; the shaded side "
+           "below it is unstable (a mode grows).");
+    if (a->line) {
+        put(c, " Solid line: the margins' weighted least-squares line, slope ");
+        put_num(c, r->slope, 4);
+        put(c, " ");
+        esc(c, c->slope_unit);
+        put(c, "; thin lines: the slopes at its bounds, through the line's value at the last "
+               "window.");
+    } else {
+        put(c, " No line: fewer than 3 windows gave a margin.");
+    }
+    if (a->extrapolate) {
+        put(c, " Dashed: a straight-line extrapolation, not a prediction; at this rate the "
+               "margin reaches zero ");
+        put_duration(c, r->time_to_zero);
+        put(c, " after the last window's middle; the thick stretch of the zero line spans its "
+               "bounds ");
+        put_pair(c, r->time_to_zero_lo, r->time_to_zero_hi, 4, "not bounded");
+        put(c, ".");
+        if (extrapolation_end(r, a) > margin_reach(a))
+            put(c, " The view is cut at twice the windows' span after their end.");
+    }
+    size_t failed = failed_windows(r);
+    if (failed > 0)
+        el_buf_printf(c->o, " %zu failed window%s marked at the bottom (see the table).",
+                      failed, failed == 1 ? "" : "s");
+    if (r->time_is_iso) {
+        put(c, " Time in seconds from ");
+        esc(c, r->windows[0].from_text);
+        put(c, ".");
+    }
+    put(c, "</figcaption></figure>\n");
+}
+
+static void fig_margin(ctx *c, const track_axis *a)
+{
+    frame f = {.left = 84, .top = 40, .width = 852, .height = 340};
+    margin_range(c->t, a, &f);
+    put(c, "<figure id=\"fig-margin\">");
+    svg_begin(c, 960, 436, "margin of each window over time");
+    clip_def(c, "clip-margin", &f);
+    margin_background(c, &f);
+    put(c, "<g clip-path=\"url(#clip-margin)\">");
+    if (a->line) {
+        slope_line(c, &f, a, "trend-bound", c->t->slope_lo);
+        slope_line(c, &f, a, "trend-bound", c->t->slope_hi);
+    }
+    if (a->extrapolate)
+        margin_extrapolation(c, &f, a);
+    if (a->line)
+        slope_line(c, &f, a, "trend", c->t->slope);
+    put(c, "</g>");
+    margin_windows(c, &f, a);
+    margin_legend(c, &f, a, failed_windows(c->t));
+    frame_box(c, &f);
+    margin_titles(c, &f);
+    put(c, "</svg>\n");
+    margin_caption(c, a);
+}
+
+/* ------------------------------------------------------------ track: modes */
+
+static double window_value(const el_track_window *w, int freq)
+{
+    return freq ? w->frequency_hz : w->damping_ratio;
+}
+
+/* y range of one panel: the finite values; the damping ratio keeps 0 in
+ * view, since its distance to 0 is the point. Returns the count. */
+static size_t panel_range(const el_track_result *r, int freq, frame *f)
+{
+    double lo = INFINITY, hi = -INFINITY;
+    size_t n = 0;
+    if (!freq)
+        lo = hi = 0.0;
+    for (size_t i = 0; i < r->n_windows; i++) {
+        double v = window_value(&r->windows[i], freq);
+        if (r->windows[i].ok && isfinite(v)) {
+            widen(&lo, &hi, v);
+            n++;
+        }
+    }
+    if (!isfinite(lo))
+        lo = hi = 0.0;
+    double h = hi - lo > 0 ? hi - lo : fmax(0.1 * fabs(hi), 0.5);
+    f->ylo = lo - 0.1 * h;
+    f->yhi = hi + 0.1 * h;
+    return n;
+}
+
+/* One small panel: a dot per assessed window with a value, joined in
+ * time order. */
+static void window_panel(ctx *c, frame *f, const track_axis *a, int freq)
+{
+    const el_track_result *r = c->t;
+    double pad = 0.03 * (a->to - a->from);
+    f->xlo = a->from - pad;
+    f->xhi = a->to + pad;
+    panel_range(r, freq, f);
+    x_ticks(c, f);
+    y_ticks(c, f);
+    const char *cls = freq ? "freq" : "zeta";
+    el_buf_printf(c->o, "<path class=\"join\" d=\"");
+    int pen = 0;
+    for (size_t i = 0; i < r->n_windows; i++) {
+        const el_track_window *w = &r->windows[i];
+        if (!w->ok || !isfinite(window_value(w, freq)))
+            continue;
+        el_buf_printf(c->o, "%s%.1f %.1f", pen ? " " : "M", fx(f, mid_x(a, w)),
+                      fy(f, window_value(w, freq)));
+        pen = 1;
+    }
+    put(c, "\"/>");
+    for (size_t i = 0; i < r->n_windows; i++) {
+        const el_track_window *w = &r->windows[i];
+        if (w->ok && isfinite(window_value(w, freq)))
+            el_buf_printf(c->o, "<circle class=\"%s\" cx=\"%.1f\" cy=\"%.1f\" r=\"4\"/>", cls,
+                          fx(f, mid_x(a, w)), fy(f, window_value(w, freq)));
+    }
+    frame_box(c, f);
+    x_title_begin(c, f);
+    put(c, r->time_is_iso ? "time from the first window's start [" : "time [");
+    esc(c, c->time_unit);
+    put(c, "]</text>");
+    el_buf_printf(c->o, "<text x=\"%.1f\" y=\"%.1f\" font-weight=\"600\">", f->left, f->top - 10);
+    if (freq) {
+        put(c, "frequency f [");
+        esc(c, c->freq_unit);
+        put(c, "]</text>");
+    } else {
+        put(c, "damping ratio &zeta;</text>");
+    }
+}
+
+static void fig_damping(ctx *c, const track_axis *a)
+{
+    frame z = {.left = 70, .top = 30, .width = 370, .height = 170};
+    frame q = {.left = 566, .top = 30, .width = 370, .height = 170};
+    size_t no_zeta = 0;
+    for (size_t i = 0; i < c->t->n_windows; i++)
+        no_zeta += c->t->windows[i].ok && !isfinite(c->t->windows[i].damping_ratio);
+    put(c, "<figure id=\"fig-damping\">");
+    svg_begin(c, 960, 250, "damping ratio and frequency of each window");
+    window_panel(c, &z, a, 0);
+    window_panel(c, &q, a, 1);
+    put(c, "</svg>\n");
+    caption_begin(c, "Damping ratio and frequency of the least damped mode per window.");
+    put(c, "One dot per assessed window at its middle. &zeta; = &minus;Re &lambda; / "
+           "|&lambda;|: a falling &zeta; at a steady frequency is a mode losing its damping; "
+           "a real mode has frequency 0.");
+    if (no_zeta > 0)
+        el_buf_printf(c->o, " %zu window%s without a defined damping ratio left out.", no_zeta,
+                      no_zeta == 1 ? "" : "s");
+    put(c, "</figcaption></figure>\n");
+}
+
+/* ------------------------------------------------------------ track: table */
+
+static const char *stability_word(el_stability s)
+{
+    return s == EL_STABLE ? "stable" : s == EL_UNSTABLE ? "unstable" : "marginal";
+}
+
+static void num_cell(ctx *c, double v, int sig)
+{
+    put(c, "<td class=\"n\">");
+    put_num(c, v, sig);
+    put(c, "</td>");
+}
+
+static void window_row(ctx *c, size_t i)
+{
+    const el_track_window *w = &c->t->windows[i];
+    el_buf_printf(c->o, "<tr%s><td class=\"n\">%zu</td><td class=\"n\">",
+                  w->ok ? "" : " class=\"failed\"", i + 1);
+    esc(c, w->from_text);
+    put(c, "</td><td class=\"n\">");
+    esc(c, w->to_text);
+    put(c, "</td>");
+    if (!w->ok) {
+        put(c, "<td colspan=\"6\">failed: ");
+        esc(c, w->error);
+        put(c, "</td></tr>\n");
+        return;
+    }
+    el_interval iv = {w->margin_lo, w->margin_hi};
+    put(c, "<td class=\"n\">");
+    put_num(c, w->margin, 4);
+    put_bounds(c, "", &iv, 3);
+    put(c, "</td>");
+    num_cell(c, w->damping_ratio, 3);
+    num_cell(c, w->frequency_hz, 4);
+    put(c, "<td class=\"n\">");
+    if (isfinite(w->p_stable))
+        el_buf_printf(c->o, "%.3f", w->p_stable);
+    else
+        put(c, "n/a");
+    put(c, "</td>");
+    el_buf_printf(c->o, "<td>%s%s", stability_word(w->stability),
+                  w->ambiguous ? " (ambiguous)" : "");
+    if (w->n_warnings > 0)
+        el_buf_printf(c->o, "<div class=\"iv\">%zu warning%s</div>", w->n_warnings,
+                      w->n_warnings == 1 ? "" : "s");
+    el_buf_printf(c->o, "</td><td>%s</td></tr>\n", el_method_name(w->method));
+}
+
+static void fig_windows(ctx *c)
+{
+    const column cols[] = {{"#", NULL},
+                           {"from", NULL},
+                           {"to", NULL},
+                           {"margin", c->rate_unit},
+                           {"damping &zeta;", NULL},
+                           {"f", c->freq_unit},
+                           {"P(stable)", NULL},
+                           {"verdict", NULL},
+                           {"method", NULL}};
+    table_open(c, "fig-windows", "modes windows", cols, sizeof cols / sizeof cols[0]);
+    for (size_t i = 0; i < c->t->n_windows; i++)
+        window_row(c, i);
+    put(c, "</tbody></table>\n");
+    caption_begin(c, "Windows in time order.");
+    put(c, "Each window assessed on its own as <i>assess</i> would. Margin: decay rate of the "
+           "least damped mode");
+    put_level_phrase(c, ", grey brackets its ", " bootstrap bounds");
+    put(c, "; P(stable): share of the window's replicates whose least damped mode decays; "
+           "method: the estimator the window's own data chose. Failed windows are left out "
+           "of the trend.</figcaption></figure>\n");
+}
+
+/* ------------------------------------------------------------ track: text */
+
+static const char *trend_colour(el_trend_class t)
+{
+    return t == EL_TREND_SHRINKING ? "var(--unstable)"
+           : t == EL_TREND_GROWING ? "var(--stable)"
+                                   : "var(--unsure)";
+}
+
+static const char *trend_word(el_trend_class t)
+{
+    return t == EL_TREND_SHRINKING ? "shrinking margin"
+           : t == EL_TREND_GROWING ? "growing margin"
+                                   : "no clear trend";
+}
+
+static void track_head(ctx *c)
+{
+    const el_track_result *r = c->t;
+    verdict_open(c, trend_colour(r->trend), trend_word(r->trend));
+    if (!r->has_trend)
+        put(c, "<span class=\"vtag\">no trend fitted</span>");
+    el_buf_printf(c->o, "<div class=\"vtype\">margin of the least damped mode over <b>%zu</b> "
+                  "window%s</div>", r->n_ok, r->n_ok == 1 ? "" : "s");
+    if (!r->has_trend)
+        put(c, "<div class=\"ts\">fewer than 3 windows gave a margin</div>");
+    else if (r->trend == EL_TREND_UNDECIDED && isfinite(c->level))
+        el_buf_printf(c->o, "<div class=\"ts\">a call needs P(shrinking) &ge; %.3g or "
+                      "&le; %.3g</div>", c->level, 1.0 - c->level);
+    put(c, "</div>\n");
+}
+
+static void level_bounds(ctx *c, double lo, double hi)
+{
+    put(c, ";");
+    put_level_phrase(c, " ", "");
+    put(c, " bounds ");
+    put_pair(c, lo, hi, 3, "not bounded");
+}
+
+static void track_tiles(ctx *c)
+{
+    const el_track_result *r = c->t;
+    put(c, "<div class=\"tiles\">");
+    tile_begin(c, "P(shrinking)");
+    if (r->has_trend && isfinite(r->p_shrinking)) {
+        el_buf_printf(c->o, "%.3f</div><div class=\"ts\">share of the replicate slopes below "
+                      "zero</div>", r->p_shrinking);
+        p_meter(c, r->p_shrinking, "P(shrinking)");
+    } else {
+        put(c, "n/a</div><div class=\"ts\">no trend fitted</div>");
+    }
+    put(c, "</div>");
+    tile_value(c, "slope", r->has_trend ? r->slope : NAN, c->slope_unit);
+    put(c, "change of the margin per ");
+    esc(c, c->time_unit);
+    level_bounds(c, r->slope_lo, r->slope_hi);
+    put(c, "</div></div>");
+    tile_value(c, "margin now", r->has_trend ? r->margin_now : NAN, c->rate_unit);
+    put(c, "on the fitted line at the last window's middle</div></div>");
+    if (isfinite(r->time_to_zero)) {
+        tile_value(c, "time to zero margin", r->time_to_zero,
+                   r->time_unit[0] != '\0' ? c->time_unit : "time units");
+        put(c, "after the last window's middle, a <b>straight-line extrapolation</b>, not a "
+               "prediction");
+        level_bounds(c, r->time_to_zero_lo, r->time_to_zero_hi);
+        put(c, "</div></div>");
+    }
+    put(c, "</div>\n");
+}
+
+static void track_details(ctx *c)
+{
+    const el_track_result *r = c->t;
+    size_t reps = 0;
+    for (size_t i = 0; i < r->n_windows; i++)
+        reps = r->windows[i].n_replicates > reps ? r->windows[i].n_replicates : reps;
+    put(c, "<h2 class=\"section\">Windows and trend</h2>\n<table class=\"details\" "
+           "id=\"details\">");
+    detail_row_begin(c, "windows");
+    el_buf_printf(c->o, "%zu of ", r->n_windows);
+    put_duration(c, r->window);
+    put(c, " every ");
+    put_duration(c, r->step);
+    el_buf_printf(c->o, "%s; %zu assessed, %zu failed; %zu channel%s</td></tr>",
+                  r->step < r->window ? " (overlapping)" : "", r->n_ok, failed_windows(r),
+                  r->n_channels, r->n_channels == 1 ? "" : "s");
+    detail_row_begin(c, "trend fit");
+    put(c, "weighted least squares of the margins on the windows' middle times, weights "
+           "1 / spread&sup2;; replicate slopes from the windows' own bootstrap");
+    el_buf_printf(c->o, " (%zu replicates per window)</td></tr>", reps);
+    detail_row_begin(c, "scatter about the line");
+    put_num(c, r->scatter_ratio, 3);
+    put(c, " &times; what the bounds explain (&chi;&sup2; / dof); bounds widened ");
+    put_num(c, r->widening, 3);
+    put(c, " &times;</td></tr>");
+    detail_row_begin(c, "level");
+    put_num(c, c->level, 3);
+    put(c, "</td></tr></table>\n");
+}
+
+/* ------------------------------------------------------------ track: entry */
+
+static const char *track_source(const el_track_options *opt)
+{
+    if (opt == NULL || opt->assess.path == NULL || opt->assess.path[0] == '\0')
+        return "n/a";
+    return strcmp(opt->assess.path, "-") == 0 ? "standard input" : opt->assess.path;
+}
+
+static void track_page_begin(ctx *c, const el_track_options *opt)
+{
+    const el_track_result *r = c->t;
+    page_open(c, "margin tracking report", track_source(opt));
+    put(c, "from ");
+    esc(c, r->windows[0].from_text);
+    put(c, " to ");
+    esc(c, r->windows[r->n_windows - 1].to_text);
+    el_buf_printf(c->o, " &middot; %zu window%s of ", r->n_windows, r->n_windows == 1 ? "" : "s");
+    put_duration(c, r->window);
+    el_buf_printf(c->o, " &middot; %zu assessed &middot; %zu channel%s</span></header>\n",
+                  r->n_ok, r->n_channels, r->n_channels == 1 ? "" : "s");
+}
+
+el_status el_html_track_report(const el_track_result *r, const el_track_options *opt,
+                               el_buf *out, el_error *err)
+{
+    if (r == NULL)
+        return el_error_set(err, EL_ERR_INTERNAL, "el_html_track_report: no track result");
+    if (r->n_windows == 0 || r->windows == NULL)
+        return el_error_set(err, EL_ERR_INTERNAL, "el_html_track_report: the track result "
+                                                  "has no windows");
+    ctx c = {.t = r, .o = out};
+    c.level = r->level > 0 && r->level < 1 ? r->level : opt != NULL ? opt->assess.boot.level : NAN;
+    set_units(&c, r->time_unit);
+    /* The text report's wording: "1/s per s", or "per time unit" when the
+     * log does not say its time unit. */
+    if (r->time_unit[0] != '\0')
+        snprintf(c.slope_unit, sizeof c.slope_unit, "1/%s per %s", r->time_unit,
+                 r->time_unit);
+    else
+        snprintf(c.slope_unit, sizeof c.slope_unit, "per time unit");
+    track_axis a;
+    track_axis_make(r, &a);
+    track_page_begin(&c, opt);
+    track_head(&c);
+    track_tiles(&c);
+    put(&c, "</section>\n");
+    warnings_box(&c, (const el_warnings *const[]){&r->warnings}, 1);
+    caution_section(&c);
+    put(&c, "<h2 class=\"section\">Margin over time</h2>\n");
+    fig_margin(&c, &a);
+    put(&c, "<h2 class=\"section\">Damping and frequency</h2>\n");
+    fig_damping(&c, &a);
+    put(&c, "<h2 class=\"section\">Windows</h2>\n");
+    fig_windows(&c);
+    track_details(&c);
+    page_end(&c);
     if (out->failed)
         return el_error_set(err, EL_ERR_NOMEM, "out of memory while writing the HTML report");
     return EL_OK;

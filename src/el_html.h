@@ -1,5 +1,6 @@
-/* el_html: the assessment as one self-contained HTML page for people:
- * inline CSS and SVG figures, no script, no network, printable. */
+/* el_html: an assessment, or a track run, as one self-contained HTML page
+ * for people: inline CSS and SVG figures, no script, no network,
+ * printable. */
 #ifndef EL_HTML_H
 #define EL_HTML_H
 
@@ -9,6 +10,7 @@
 #include "el_error.h"
 #include "el_io.h"
 #include "el_spectrum.h"
+#include "el_track.h"
 
 /* Most points one line of a time-series or spectrum plot carries. A
  * longer line is cut into EL_HTML_MAX_LINE_POINTS / 2 runs of consecutive
@@ -56,6 +58,42 @@
  * el_prediction_create/run. Reads r only; out receives the whole page. */
 el_status el_html_report(const el_assessment *r, const el_assess_options *opt,
                          const el_spectra *spectra, el_buf *out, el_error *err);
+
+/* Appends the HTML report of the track run r to out, in this order: the
+ * trend call (SHRINKING MARGIN, GROWING MARGIN or NO CLEAR TREND) with
+ * P(shrinking), the slope and its bounds, the margin on the line at the
+ * last window and, when r->time_to_zero is finite, the time to zero
+ * margin with its bounds (an upper end of +inf shows as "not bounded"),
+ * labelled a straight-line extrapolation; r->warnings and the caution
+ * (el_assess_caution); the figures "fig-margin" (margin against the
+ * windows' middle times; ISO logs: seconds from windows[0].t_from),
+ * "fig-damping" (damping ratio and frequency per window) and
+ * "fig-windows" (table of every window, failed ones with their
+ * message); then the windowing and trend details. Machine-checkable
+ * structure of fig-margin: one <g class="window" data-from=...
+ * data-to=... data-margin=...> per window with ok set (dot at the
+ * margin, bar from margin_lo to margin_hi), one element of class
+ * "window-failed" per failed window; the zero line (class "boundary")
+ * with the side below it shaded (class "unstable-side"); when
+ * r->has_trend, the fitted line (class "trend") over the windows' span
+ * and two lines of slopes slope_lo and slope_hi through the line's value
+ * at the last trend window's middle (class "trend-bound"); when the
+ * trend is EL_TREND_SHRINKING with a finite time to zero, the dashed
+ * extrapolation to zero (class "extrapolation") and the time-to-zero
+ * interval on the zero line (class "zero-interval"). The y range holds
+ * 0, every finite margin and bound and the lines over the windows' span;
+ * the x range reaches out to the upper time to zero (an open end: a
+ * quarter past the crossing) but never further than twice the windows'
+ * span beyond their end, which the caption then says. All text is
+ * HTML-escaped; values that do not exist show as "n/a"; the same input
+ * gives the same bytes. opt supplies the file name shown
+ * (opt->assess.path, "-" shown as standard input) and the level when
+ * r->level is not in (0, 1); it may be NULL. Times and rates use
+ * r->time_unit ("time unit" when it is empty). Errors: EL_ERR_INTERNAL when r is NULL or
+ * has no windows; EL_ERR_NOMEM (out is then marked failed). Reads r
+ * only; out receives the whole page. */
+el_status el_html_track_report(const el_track_result *r, const el_track_options *opt,
+                               el_buf *out, el_error *err);
 
 /* Appends text to out with &, <, >, " and ' replaced by entities, so
  * it is safe in element content and in quoted attributes. NULL appends

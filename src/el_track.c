@@ -261,6 +261,13 @@ el_status el_track_run(const el_track_options *opt, el_track_result *result,
         result->span_to = all.series.t0 + (double)all.series.n_samples * all.series.dt;
         result->n_channels = all.series.n_channels;
         result->time_is_iso = all.table.time_is_iso;
+        const el_table *t = &all.table;
+        const char *unit = t->time_is_iso ? "s"
+                           : t->units != NULL && t->time_column < t->n_columns
+                                   && t->units[t->time_column] != NULL
+                               ? t->units[t->time_column]
+                               : "";
+        snprintf(result->time_unit, sizeof result->time_unit, "%s", unit);
         result->time_origin_s = all.table.time_is_iso ? (double)all.table.time_origin_unix_s
                                                       : 0.0;
         result->level = opt->assess.boot.level;
@@ -540,17 +547,25 @@ static void text_window(el_buf *out, const el_track_window *w, int width)
                   w->ambiguous ? " (ambiguous)" : "", el_method_name(w->method));
 }
 
+/* The time unit, "time unit" when the log does not say. */
+static const char *unit_of(const el_track_result *r)
+{
+    return r->time_unit[0] != '\0' ? r->time_unit : "time unit";
+}
+
 static void text_trend(el_buf *out, const el_track_result *r)
 {
     double pct = 100.0 * r->level;
-    el_buf_printf(out, "Trend         margin changes by %.4g per time unit, %.0f%% bounds "
-                       "[%.4g, %.4g]\n", r->slope, pct, r->slope_lo, r->slope_hi);
+    const char *u = unit_of(r);
+    el_buf_printf(out, "Trend         margin changes by %.4g 1/%s per %s, %.0f%% bounds "
+                       "[%.4g, %.4g]\n", r->slope, u, u, pct, r->slope_lo, r->slope_hi);
     el_buf_printf(out, "              P(shrinking) = %.3f; margin at the last window "
-                       "(on the line) %.4g\n", r->p_shrinking, r->margin_now);
+                       "(on the line) %.4g 1/%s\n", r->p_shrinking, r->margin_now, u);
     if (isfinite(r->time_to_zero)) {
-        el_buf_printf(out, "              at this rate it reaches zero %.4g time units after "
+        el_buf_printf(out, "              at this rate it reaches zero %.4g %s after "
                            "the last window's middle, %.0f%% bounds [%.4g, ",
-                      r->time_to_zero, pct, r->time_to_zero_lo);
+                      r->time_to_zero, r->time_unit[0] != '\0' ? u : "time units", pct,
+                      r->time_to_zero_lo);
         if (isfinite(r->time_to_zero_hi))
             el_buf_printf(out, "%.4g]\n", r->time_to_zero_hi);
         else
@@ -573,10 +588,11 @@ el_status el_track_report_text(const el_track_result *r, const el_track_options 
     el_buf_printf(out, "eigenlog %s track  %s\n", EL_VERSION,
                   opt->assess.path ? opt->assess.path : "");
     el_buf_printf(out, "Windows       %zu of %.6g every %.6g %s from %s; %zu assessed\n",
-                  r->n_windows, r->window, r->step, r->time_is_iso ? "s" : "time units",
+                  r->n_windows, r->window, r->step,
+                  r->time_unit[0] != '\0' ? r->time_unit : "time units",
                   r->n_windows > 0 ? r->windows[0].from_text : "", r->n_ok);
-    el_buf_printf(out, "Margin = decay rate of the least-damped mode (1/time unit; "
-                       "below 0: growing)\n");
+    el_buf_printf(out, "Margin = decay rate of the least-damped mode (1/%s; "
+                       "below 0: growing)\n", unit_of(r));
     int width = 10;
     for (size_t i = 0; i < r->n_windows; i++) {
         int len = (int)strlen(r->windows[i].to_text);
@@ -641,6 +657,7 @@ el_status el_track_report_json(const el_track_result *r, const el_track_options 
     el_json_string(&j, "file", opt->assess.path ? opt->assess.path : "");
     el_json_int(&j, "channels", (long long)r->n_channels);
     el_json_string(&j, "time_format", r->time_is_iso ? "iso8601" : "number");
+    el_json_string(&j, "time_unit", r->time_unit);
     el_json_pair(&j, "span", r->time_origin_s + r->span_from, r->time_origin_s + r->span_to);
     el_json_object_end(&j);
     el_json_object_begin(&j, "windowing");

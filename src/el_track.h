@@ -63,6 +63,8 @@ typedef struct {
     double window, step;          /* as used */
     double span_from, span_to;    /* the tracked span */
     int time_is_iso;              /* 1: the time column held ISO 8601 date-times */
+    char time_unit[32];           /* "s" for ISO times, else the time column's unit as
+                                     its header gives it ("" when it gives none) */
     double time_origin_s;         /* ISO: the Unix time (s) that time 0 stands for */
     size_t n_channels;
     double level;

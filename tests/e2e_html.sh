@@ -2,8 +2,8 @@
 # End-to-end: `eigenlog assess --html` writes a page that headless Chromium
 # (Debian's `chromium`, installed by `make deps`) loads without a console
 # message, whose DOM holds every figure with data, and which renders to a
-# screenshot. Run by tests/run.sh with EIGENLOG set to the program under
-# test. EL_SAVE_SCREENSHOT=1 saves the screenshot as docs/report.png (the
+# screenshot; `eigenlog track --html` likewise (section 5). Run by
+# tests/run.sh with EIGENLOG set to the program under test. EL_SAVE_SCREENSHOT=1 saves the screenshot as docs/report.png (the
 # README shows it); otherwise it stays in the temporary folder.
 set -u
 bin=${EIGENLOG:-build/rel/eigenlog}
@@ -56,27 +56,34 @@ run_browser() {
         --disable-background-networking --disable-component-update --disable-sync \
         --user-data-dir="$profile" --enable-logging=stderr --v=0 "$@"
 }
-run_browser --dump-dom "file://$(cd "$tmp" && pwd)/report.html" >"$tmp/dom.html" 2>"$tmp/dom.log"
-check "chromium dumped the DOM" '[ -s "$tmp/dom.html" ] && grep -q "</html>" "$tmp/dom.html"'
-
+# load_dom NAME WHAT: Chromium parses $tmp/NAME.html into $tmp/DOM, where
+# DOM is dom.html for the assess page and NAME_dom.html otherwise.
 # Console messages: Chromium writes every message a page sends to the
 # console (script errors, and its own complaints about the page such as
 # "Error: <path> attribute d: Expected number") as a log line tagged
 # ":CONSOLE" (e.g. "[pid:tid:date:INFO:CONSOLE:1] "Error: ...", source: file://...").
 # The report has no script, so any such line is a fault of the page. Other
 # log lines (D-Bus, GPU sandbox) are about the headless machine, not the page.
-if grep -q ":CONSOLE" "$tmp/dom.log"; then
-    bad "console messages while loading the page:"
-    grep ":CONSOLE" "$tmp/dom.log" | sed 's/^/    /' | head -n 10
-else
-    ok
-fi
+load_dom() {
+    dom=$tmp/$1_dom.html
+    [ "$1" = report ] && dom=$tmp/dom.html
+    run_browser --dump-dom "file://$(cd "$tmp" && pwd)/$1.html" >"$dom" 2>"$dom.log"
+    check "chromium dumped the $2 DOM" '[ -s "$dom" ] && grep -q "</html>" "$dom"'
+    if grep -q ":CONSOLE" "$dom.log"; then
+        bad "console messages while loading the $2:"
+        grep ":CONSOLE" "$dom.log" | sed 's/^/    /' | head -n 10
+    else
+        ok
+    fi
+}
+load_dom report "assess page"
 
-# 3. Every figure in the parsed DOM, each with data. figure_text ID prints
-# the DOM from the figure's opening tag to its </figure>.
+# 3. Every figure in the parsed DOM, each with data. figure_text ID [DOM]
+# prints the DOM (default: the assess page's) from the figure's opening
+# tag to its </figure>.
 figure_text() {
     awk -v id="id=\"$1\"" 'index($0, id) { on = 1 } on { print } on && /<\/figure>/ { exit }' \
-        "$tmp/dom.html"
+        "${2:-$tmp/dom.html}"
 }
 # Points of the first <path class="CLS" ...> in a figure: cloud dots are
 # "M" commands of its d attribute.
@@ -142,5 +149,46 @@ check "screenshot is 1280x4200 (got $dims)" '[ "$dims" = "1280x4200" ]'
 psize=$(wc -c <"$png")
 check "screenshot is not blank ($psize bytes)" '[ "$psize" -gt 100000 ]'
 check "no console messages while rendering" '! grep -q ":CONSOLE" "$tmp/shot.log"'
+
+# 5. The track page: the fan-warmup demo, whose margin shrinks
+# (datasets/README.md), cut into 8 windows of 300 s.
+track_html=$tmp/track.html
+track_dom=$tmp/track_dom.html
+"$bin" track datasets/fan_warmup.csv --window 300 --boot 200 --html "$track_html" --quiet \
+    >"$tmp/track.out" 2>"$tmp/track.err"
+status=$?
+check "eigenlog track --html exits 0 (got $status)" '[ "$status" -eq 0 ]'
+sed 's/^/    stderr: /' "$tmp/track.err"
+check "track report written" '[ -s "$track_html" ]'
+"$bin" track datasets/fan_warmup.csv --window 300 --boot 200 --html "$tmp/track2.html" --quiet \
+    >/dev/null 2>&1
+check "track report: same bytes on a second run" 'cmp -s "$track_html" "$tmp/track2.html"'
+check "no script in the track report" '! grep -q "<script" "$track_html"'
+check "no reference outside the track report" \
+    '! grep -q -E "(src|href)=|url\\((http|file|//)|https?:" "$track_html"'
+load_dom track "track page"
+for id in fig-margin fig-damping fig-windows; do
+    check "track figure $id in the DOM" 'figure_text "$id" "$track_dom" | grep -q .'
+done
+n=$(figure_text fig-margin "$track_dom" | grep -o '<g class="window"' | wc -l)
+check "fig-margin has 8 window groups (got $n)" '[ "$n" -eq 8 ]'
+n=$(figure_text fig-margin "$track_dom" | grep -o 'class="window-failed"' | wc -l)
+check "no failed window marked (got $n)" '[ "$n" -eq 0 ]'
+for cls in trend trend-bound extrapolation zero-interval boundary; do
+    check "fig-margin draws class $cls" 'figure_text fig-margin "$track_dom" | grep -q "class=\"$cls\""'
+done
+check "track verdict: shrinking margin" 'grep -q "SHRINKING MARGIN" "$track_dom"'
+check "no non-finite number in the track page" \
+    '! grep -q -i -w -E "nan|inf|infinity" "$track_dom"'
+track_png=$tmp/track.png
+run_browser --screenshot="$track_png" --window-size=1280,2600 --hide-scrollbars \
+    "file://$(cd "$tmp" && pwd)/track.html" >"$tmp/track_shot.out" 2>"$tmp/track_shot.log"
+sig=$(od -A n -t x1 -N 8 "$track_png" 2>/dev/null | tr -d ' \n')
+check "track screenshot is a PNG" '[ "$sig" = "89504e470d0a1a0a" ]'
+# Blank, the page compresses to a few kilobytes; the figures make it large.
+psize=$(wc -c <"$track_png" 2>/dev/null || echo 0)
+check "track screenshot is not blank ($psize bytes)" '[ "$psize" -gt 100000 ]'
+check "no console messages while rendering the track page" \
+    '! grep -q ":CONSOLE" "$tmp/track_shot.log"'
 
 finish

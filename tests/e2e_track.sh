@@ -50,8 +50,11 @@ grep -q -E '(:|\[|,) *-?(nan|inf|NaN|Inf|Infinity)\b' "$tmp/drift.json"
 [ $? -ne 0 ]
 check "JSON holds no NaN or Inf" $?
 
-"$bin" track datasets/fan_warmup.csv --window 300 --boot 300 --json "$tmp/fan.json" --quiet
+"$bin" track datasets/fan_warmup.csv --window 300 --boot 300 --json "$tmp/fan.json" \
+    >"$tmp/fan.txt"
 check "fan-warmup demo: track exits 0" $?
+grep -q "1/s per s" "$tmp/fan.txt" && grep -q '"time_unit": "s"' "$tmp/fan.json"
+check "fan-warmup demo: the time column's unit (time [s]) labels the slope" $?
 grep -q '"class": "shrinking"' "$tmp/fan.json"
 check "fan-warmup demo: margin shrinking (datasets/README.md truth)" $?
 

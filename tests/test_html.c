@@ -2,7 +2,10 @@
  * well-formed enough for a browser, holds every figure with the data it
  * was given (cloud points = replicates x modes under the downsampling
  * rule of el_html.h, lines within the point cap), escapes text, never
- * prints a non-finite number and is the same bytes on every run. */
+ * prints a non-finite number and is the same bytes on every run. The
+ * track report, from a hand-made el_track_result, is checked the same
+ * way: one mark per window, the trend and its extrapolation only when
+ * they exist, every bound inside the plot. */
 #include "el_test.h"
 
 #include <ctype.h>
@@ -584,8 +587,436 @@ static void test_incomplete_input(void **state)
     fixture_plane(&f);
     f.spectra.n_channels = 3;
     assert_int_equal(el_html_report(&f.r, &f.opt, &f.spectra, &out, &err), EL_ERR_INTERNAL);
+    /* Track report: no result, a result without windows. */
+    el_track_result t;
+    memset(&t, 0, sizeof t);
+    assert_int_equal(el_html_track_report(NULL, NULL, &out, &err), EL_ERR_INTERNAL);
+    assert_int_equal(el_html_track_report(&t, NULL, &out, &err), EL_ERR_INTERNAL);
+    assert_int_equal(out.length, 0);
     el_buf_free(&out);
     fixture_free(&f);
+}
+
+/* ---------------------------------------------------------------- track */
+
+#define TRACK_WINDOWS 6
+#define TRACK_FAILED 2                      /* index of the failed window */
+#define TRACK_ERROR "singular fit: <&> in the data"
+#define TRACK_ERROR_ESCAPED "singular fit: &lt;&amp;&gt; in the data"
+
+/* Six windows of 100 time units, no overlap; window 2 failed, window 4
+ * has no damping ratio. Margin offset - 0.0008 t at the middle t, bounds
+ * +-0.06; the trend fields are set to a line of that slope through the
+ * last window's middle (t = 550). ttz_hi: upper end of the time to zero
+ * (+inf: not bounded); the time to zero exists only for a positive
+ * margin on the line, as el_track_fit_trend gives it. */
+static void make_track(el_track_result *r, double offset, el_trend_class trend, double ttz_hi)
+{
+    memset(r, 0, sizeof *r);
+    r->n_windows = TRACK_WINDOWS;
+    r->windows = calloc(TRACK_WINDOWS, sizeof *r->windows);
+    assert_non_null(r->windows);
+    r->window = r->step = 100.0;
+    r->span_to = 100.0 * TRACK_WINDOWS;
+    r->n_channels = 2;
+    r->level = 0.95;
+    for (size_t i = 0; i < TRACK_WINDOWS; i++) {
+        el_track_window *w = &r->windows[i];
+        w->t_from = 100.0 * (double)i;
+        w->t_to = w->t_from + 100.0;
+        snprintf(w->from_text, sizeof w->from_text, "%g", w->t_from);
+        snprintf(w->to_text, sizeof w->to_text, "%g", w->t_to);
+        if (i == TRACK_FAILED) {
+            snprintf(w->error, sizeof w->error, "%s", TRACK_ERROR);
+            continue;
+        }
+        w->ok = 1;
+        r->n_ok++;
+        w->margin = offset - 0.0008 * (w->t_from + 50.0);
+        w->margin_lo = w->margin - 0.06;
+        w->margin_hi = w->margin + 0.06;
+        w->margin_sd = 0.03;
+        w->stability = w->margin > 0 ? EL_STABLE : EL_UNSTABLE;
+        w->p_stable = w->margin > 0 ? 1.0 : 0.0;
+        w->method = EL_METHOD_LS;
+        w->frequency_hz = 0.8 + 0.002 * (double)i;
+        w->damping_ratio = i == 4 ? NAN : w->margin / (2 * M_PI * w->frequency_hz);
+        w->n_replicates = 40;
+        w->margin_samples = calloc(40, sizeof(double));
+        assert_non_null(w->margin_samples);
+        for (size_t k = 0; k < 40; k++)
+            w->margin_samples[k] = w->margin + 0.03 * sin(1.7 * (double)(k + 7 * i));
+    }
+    r->has_trend = 1;
+    r->slope = -0.0008;
+    r->slope_lo = -0.0011;
+    r->slope_hi = -0.0005;
+    r->trend = trend;
+    r->p_shrinking = trend == EL_TREND_SHRINKING ? 0.995 : 0.7;
+    r->scatter_ratio = 0.8;
+    r->widening = 1.0;
+    r->margin_now = offset - 0.0008 * 550.0;
+    r->time_to_zero = r->time_to_zero_lo = r->time_to_zero_hi = NAN;
+    if (r->margin_now > 0) {
+        r->time_to_zero = r->margin_now / 0.0008;
+        r->time_to_zero_lo = r->margin_now / 0.0011;
+        r->time_to_zero_hi = ttz_hi;
+    }
+    el_warnings_add(&r->warnings, "a <b>warning</b> & more");
+}
+
+/* Drops the trend (as el_track_fit_trend leaves it with too few
+ * windows), so that no line can stretch the plot's range. */
+static void drop_trend(el_track_result *r)
+{
+    r->has_trend = 0;
+    r->trend = EL_TREND_UNDECIDED;
+    r->slope = r->slope_lo = r->slope_hi = r->p_shrinking = NAN;
+    r->margin_now = r->scatter_ratio = NAN;
+    r->time_to_zero = r->time_to_zero_lo = r->time_to_zero_hi = NAN;
+}
+
+/* A track result, its page and the page's fig-margin. */
+typedef struct {
+    el_track_result r;
+    char *html;
+    char *margin;
+} track_page;
+
+/* Every page must pass these whatever its input: balanced markup, self-
+ * contained, no non-finite number. */
+static void assert_page_sane(const char *html)
+{
+    assert_true(strncmp(html, "<!DOCTYPE html>", 15) == 0);
+    assert_non_null(strstr(html, "</html>\n"));
+    assert_int_equal(count_of(html, "<svg"), count_of(html, "</svg>"));
+    assert_int_equal(count_of(html, "<figure"), count_of(html, "</figure>"));
+    assert_int_equal(count_of(html, "<table"), count_of(html, "</table>"));
+    assert_int_equal(count_of(html, "<tr"), count_of(html, "</tr>"));
+    assert_int_equal(count_of(html, "<g ") + count_of(html, "<g>"), count_of(html, "</g>"));
+    assert_int_equal(count_of(html, "<title"), count_of(html, "</title>"));
+    assert_null(strstr(html, "<script"));
+    assert_null(strstr(html, "http"));
+    assert_no_nonfinite_text(html);
+}
+
+/* Renders p->r (log "fan <1>.csv") into p->html and p->margin. */
+static void render(track_page *p)
+{
+    el_track_options opt;
+    el_track_defaults(&opt);
+    opt.assess.path = "fan <1>.csv";
+    el_buf out = {0};
+    el_error err;
+    el_error_clear(&err);
+    if (el_html_track_report(&p->r, &opt, &out, &err) != EL_OK)
+        fail_msg("el_html_track_report: %s", err.message);
+    assert_non_null(out.data);
+    p->html = out.data;
+    assert_page_sane(p->html);
+    p->margin = figure(p->html, "fig-margin");
+    assert_non_null(p->margin);
+}
+
+static void page_free(track_page *p)
+{
+    free(p->html);
+    free(p->margin);
+    el_track_free(&p->r);
+    memset(p, 0, sizeof *p);
+}
+
+/* Replaces p with the page of make_track's result after edit (NULL: as
+ * made). */
+static void page_variant(track_page *p, double offset, el_trend_class trend, double ttz_hi,
+                         void (*edit)(el_track_result *))
+{
+    page_free(p);
+    make_track(&p->r, offset, trend, ttz_hi);
+    if (edit != NULL)
+        edit(&p->r);
+    render(p);
+}
+
+/* Per-test state: the shrinking case, a finite time to zero. */
+static int track_setup(void **state)
+{
+    track_page *p = calloc(1, sizeof *p);
+    if (p == NULL)
+        return -1;
+    page_variant(p, 0.5, EL_TREND_SHRINKING, 90.0, NULL);
+    *state = p;
+    return 0;
+}
+
+static int track_teardown(void **state)
+{
+    page_free(*state);
+    free(*state);
+    return 0;
+}
+
+/* Number in attribute name of the element starting at tag. */
+static double attr_number(const char *tag, const char *name)
+{
+    size_t len = 0;
+    const char *v = tag ? attr(tag, name, &len) : NULL;
+    if (v == NULL)
+        fail_msg("no attribute %s in %.60s", name, tag ? tag : "(no element)");
+    return strtod(v, NULL);
+}
+
+static void test_track_ordered(void **state)
+{
+    const track_page *p = *state;
+    const char *ids[] = {"id=\"verdict\"", "id=\"warnings\"", "id=\"caution\"",
+                         "id=\"fig-margin\"", "id=\"fig-damping\"", "id=\"fig-windows\"",
+                         "id=\"details\""};
+    const char *prev = p->html;
+    for (size_t i = 0; i < sizeof ids / sizeof ids[0]; i++) {
+        const char *at = strstr(p->html, ids[i]);
+        if (at == NULL)
+            fail_msg("missing %s", ids[i]);
+        assert_true(at > prev);
+        assert_int_equal(count_of(p->html, ids[i]), 1);
+        prev = at;
+    }
+    el_buf caution = {0};
+    assert_int_equal(el_html_escape(&caution, el_assess_caution()), EL_OK);
+    assert_non_null(strstr(p->html, caution.data));
+    el_buf_free(&caution);
+    assert_non_null(strstr(p->html, "SHRINKING MARGIN"));
+    assert_non_null(strstr(p->html, "style=\"--v:var(--unstable)\""));
+    assert_non_null(strstr(p->html, "straight-line extrapolation"));
+    /* The windows' table: a header row and one row per window, the
+     * failed one marked. */
+    char *table = figure(p->html, "fig-windows");
+    assert_non_null(table);
+    assert_int_equal(count_of(table, "<tr"), 1 + TRACK_WINDOWS);
+    assert_int_equal(count_of(table, "<tr class=\"failed\">"), 1);
+    free(table);
+}
+
+/* One group per assessed window, carrying its times and margin, one mark
+ * per failed window; keys of the legend use another class attribute and
+ * are not counted. */
+static void test_track_windows_marked(void **state)
+{
+    const track_page *p = *state;
+    const char *fig = p->margin;
+    assert_int_equal(count_of(fig, "<g class=\"window\""), TRACK_WINDOWS - 1);
+    assert_int_equal(count_of(p->html, "class=\"window-failed\""), 1);
+    assert_int_equal(count_of(fig, "class=\"window-failed\""), 1);
+    size_t i = 0;
+    double prev_cy = -1.0;
+    for (const char *g = strstr(fig, "<g class=\"window\""); g;
+         g = strstr(g + 1, "<g class=\"window\""), i++) {
+        if (i == TRACK_FAILED)
+            i++;
+        const el_track_window *w = &p->r.windows[i];
+        size_t len = 0;
+        const char *from = attr(g, "data-from", &len);
+        assert_non_null(from);
+        assert_int_equal(len, strlen(w->from_text));
+        assert_memory_equal(from, w->from_text, len);
+        assert_non_null(attr(g, "data-to", &len));
+        /* data-margin is printed with 6 significant digits: relative
+         * rounding at most 5e-6. */
+        assert_close(attr_number(g, "data-margin"), w->margin, 5e-6, 0.0);
+        /* Margins fall window by window, so the dots go down the page
+         * (larger y); pixel coordinates are exact to their 0.1 print. */
+        double cy = attr_number(strstr(g, "<circle class=\"wdot\""), "cy");
+        assert_true(cy > prev_cy);
+        prev_cy = cy;
+    }
+    assert_int_equal(i, TRACK_WINDOWS);
+    assert_int_equal(count_of(fig, "class=\"trend\""), 1);
+    assert_int_equal(count_of(fig, "class=\"trend-bound\""), 2);
+    assert_int_equal(count_of(fig, "class=\"extrapolation\""), 1);
+    assert_int_equal(count_of(fig, "class=\"zero-interval\""), 1);
+    assert_int_equal(count_of(fig, "class=\"boundary\""), 1);
+    assert_int_equal(count_of(fig, "class=\"unstable-side\""), 1);
+    /* Damping panel: a dot per window with a damping ratio (window 4 has
+     * none), a frequency dot per assessed window. */
+    char *dmp = figure(p->html, "fig-damping");
+    assert_non_null(dmp);
+    assert_int_equal(count_of(dmp, "<circle class=\"zeta\""), TRACK_WINDOWS - 2);
+    assert_int_equal(count_of(dmp, "<circle class=\"freq\""), TRACK_WINDOWS - 1);
+    assert_non_null(strstr(dmp, "1 window without a defined damping ratio"));
+    free(dmp);
+}
+
+/* Time to zero 5000 after the last window, bounds 3000..9000: far beyond
+ * the windows' span of 600. */
+static void far_time_to_zero(el_track_result *r)
+{
+    r->time_to_zero = 5000.0;
+    r->time_to_zero_lo = 3000.0;
+}
+
+static void no_time_to_zero(el_track_result *r)
+{
+    r->time_to_zero = r->time_to_zero_lo = r->time_to_zero_hi = NAN;
+}
+
+/* Extrapolation only when the margin is called shrinking; an upper time
+ * to zero of +inf reads "not bounded" and the interval runs to the edge. */
+static void test_track_extrapolation_only_when_shrinking(void **state)
+{
+    track_page *p = *state;
+    /* Undecided, with a time to zero present and unbounded above. */
+    page_variant(p, 0.5, EL_TREND_UNDECIDED, INFINITY, NULL);
+    assert_non_null(strstr(p->html, "NO CLEAR TREND"));
+    assert_null(strstr(p->html, "SHRINKING MARGIN"));
+    assert_int_equal(count_of(p->margin, "class=\"trend\""), 1);
+    assert_int_equal(count_of(p->html, "class=\"extrapolation\""), 0);
+    assert_int_equal(count_of(p->html, "class=\"zero-interval\""), 0);
+    assert_non_null(strstr(p->html, "not bounded]"));
+    /* Shrinking and unbounded above: drawn, with the open end said. */
+    page_variant(p, 0.5, EL_TREND_SHRINKING, INFINITY, NULL);
+    assert_int_equal(count_of(p->margin, "class=\"extrapolation\""), 1);
+    assert_int_equal(count_of(p->margin, "class=\"zero-interval\""), 1);
+    assert_non_null(strstr(p->margin, "not bounded &rarr;"));
+    assert_null(strstr(p->margin, "The view is cut"));
+    /* Far off: the view stops at twice the span after the windows' end
+     * and says so; the dashed line ends on the frame's right edge (pixels
+     * printed to 0.1: 0.05 of rounding). */
+    page_variant(p, 0.5, EL_TREND_SHRINKING, 9000.0, far_time_to_zero);
+    assert_non_null(strstr(p->margin, "The view is cut at twice the windows' span"));
+    const char *fr = strstr(p->margin, "<rect class=\"frame\"");
+    double right = attr_number(fr, "x") + attr_number(fr, "width");
+    assert_close(attr_number(strstr(p->margin, "<line class=\"extrapolation\""), "x2"), right,
+                 0.0, 0.05 + 1e-9);
+    /* Growing: green word, no extrapolation, no time to zero. */
+    page_variant(p, 0.5, EL_TREND_GROWING, 90.0, no_time_to_zero);
+    assert_non_null(strstr(p->html, "style=\"--v:var(--stable)\""));
+    assert_non_null(strstr(p->html, "GROWING MARGIN"));
+    assert_int_equal(count_of(p->html, "class=\"extrapolation\""), 0);
+    assert_null(strstr(p->html, "time to zero margin"));
+}
+
+/* y of the zero line and of every bar end inside the plot frame: the
+ * range holds 0 and every bound. */
+static void assert_bounds_in_frame(const char *fig)
+{
+    const char *fr = strstr(fig, "<rect class=\"frame\"");
+    double top = attr_number(fr, "y"), bottom = top + attr_number(fr, "height");
+    double y0 = attr_number(strstr(fig, "<line class=\"boundary\""), "y1");
+    assert_true(y0 >= top && y0 <= bottom);
+    size_t bars = 0;
+    for (const char *b = strstr(fig, "<line class=\"wbar\""); b;
+         b = strstr(b + 1, "<line class=\"wbar\""), bars++) {
+        double y1 = attr_number(b, "y1"), y2 = attr_number(b, "y2");
+        if (!(y1 >= top && y1 <= bottom && y2 >= top && y2 <= bottom))
+            fail_msg("bar %zu at y %.1f..%.1f outside the frame %.1f..%.1f", bars, y1, y2, top,
+                     bottom);
+    }
+    assert_true(bars > 0);
+}
+
+/* With offset -0.1: every margin and bound below zero (-0.08 at the
+ * most) and no line, so only the rule "0 is in the range" brings the
+ * zero line in. */
+static void all_below_zero(el_track_result *r)
+{
+    for (size_t i = 0; i < TRACK_WINDOWS; i++)
+        r->windows[i].margin_hi = r->windows[i].margin + 0.02;
+    drop_trend(r);
+}
+
+/* Bars of the first and last window wider than the lines reach (+0.4
+ * above, -0.4 below): only the rule "every bound is in the range" keeps
+ * them inside. */
+static void wide_end_bars(el_track_result *r)
+{
+    r->windows[0].margin_hi = r->windows[0].margin + 0.4;
+    r->windows[TRACK_WINDOWS - 1].margin_lo = r->windows[TRACK_WINDOWS - 1].margin - 0.4;
+}
+
+static void test_track_negative_margins(void **state)
+{
+    track_page *p = *state;
+    assert_bounds_in_frame(p->margin);
+    page_variant(p, -0.1, EL_TREND_UNDECIDED, 90.0, all_below_zero);
+    assert_bounds_in_frame(p->margin);
+    assert_int_equal(count_of(p->margin, "class=\"trend\""), 0);
+    /* Shrinking, all negative, with the line: no time to zero, so no
+     * extrapolation. */
+    page_variant(p, -0.1, EL_TREND_SHRINKING, 90.0, wide_end_bars);
+    assert_bounds_in_frame(p->margin);
+    assert_int_equal(count_of(p->margin, "class=\"trend\""), 1);
+    assert_int_equal(count_of(p->margin, "class=\"extrapolation\""), 0);
+}
+
+static void one_window(el_track_result *r)
+{
+    for (size_t i = 1; i < r->n_windows; i++)
+        free(r->windows[i].margin_samples);
+    r->n_windows = 1;
+    r->n_ok = 1;
+    drop_trend(r);
+}
+
+/* One window (a single time point), no trend: one mark, no lines, n/a. */
+static void test_track_single_window(void **state)
+{
+    track_page *p = *state;
+    page_variant(p, 0.5, EL_TREND_UNDECIDED, 90.0, one_window);
+    assert_int_equal(count_of(p->html, "<g class=\"window\""), 1);
+    assert_int_equal(count_of(p->html, "class=\"trend\""), 0);
+    assert_int_equal(count_of(p->html, "class=\"trend-bound\""), 0);
+    assert_non_null(strstr(p->html, "no trend fitted"));
+    assert_non_null(strstr(p->html, "P(shrinking)</div><div class=\"tv\">n/a"));
+}
+
+static void iso_times(el_track_result *r)
+{
+    r->time_is_iso = 1;
+    r->time_origin_s = 1796025600.0;
+    snprintf(r->time_unit, sizeof r->time_unit, "s"); /* as el_track_run sets it */
+    snprintf(r->windows[0].from_text, sizeof r->windows[0].from_text, "2026-11-30T08:00:00Z");
+}
+
+/* A number time column whose header gives its unit ("t [min]"). */
+static void minute_times(el_track_result *r)
+{
+    snprintf(r->time_unit, sizeof r->time_unit, "min");
+}
+
+static void test_track_escaping_and_units(void **state)
+{
+    track_page *p = *state;
+    assert_null(strstr(p->html, TRACK_ERROR));
+    assert_int_equal(count_of(p->html, TRACK_ERROR_ESCAPED), 2);   /* table and hover text */
+    assert_null(strstr(p->html, "fan <1>"));
+    assert_non_null(strstr(p->html, "fan &lt;1&gt;.csv"));
+    assert_null(strstr(p->html, "<b>warning</b>"));
+    assert_non_null(strstr(p->html, "a &lt;b&gt;warning&lt;/b&gt; &amp; more"));
+    assert_non_null(strstr(p->html, "per time unit"));
+    assert_non_null(strstr(p->html, "time [time unit]"));
+    /* ISO log: seconds from the first window's start, which the caption
+     * names as written. */
+    page_variant(p, 0.5, EL_TREND_SHRINKING, 90.0, iso_times);
+    assert_non_null(strstr(p->html, "time from the first window's start [s]"));
+    assert_non_null(strstr(p->margin, "Time in seconds from 2026-11-30T08:00:00Z."));
+    assert_non_null(strstr(p->html, "1/s per s"));
+    assert_non_null(strstr(p->html, "f [Hz]"));
+    /* A unit from the time column's header is used as given. */
+    page_variant(p, 0.5, EL_TREND_SHRINKING, 90.0, minute_times);
+    assert_non_null(strstr(p->html, "1/min per min"));
+    assert_non_null(strstr(p->html, "time [min]"));
+    assert_non_null(strstr(p->html, "f [cycles/min]"));
+}
+
+static void test_track_deterministic(void **state)
+{
+    const track_page *p = *state;
+    track_page again = {0};
+    again.r = p->r;       /* read only: render does not change the result */
+    render(&again);
+    assert_string_equal(again.html, p->html);
+    free(again.html);
+    free(again.margin);
 }
 
 int main(void)
@@ -599,6 +1030,16 @@ int main(void)
         cmocka_unit_test(test_no_nonfinite_text),
         cmocka_unit_test(test_deterministic),
         cmocka_unit_test(test_incomplete_input),
+        cmocka_unit_test_setup_teardown(test_track_ordered, track_setup, track_teardown),
+        cmocka_unit_test_setup_teardown(test_track_windows_marked, track_setup, track_teardown),
+        cmocka_unit_test_setup_teardown(test_track_extrapolation_only_when_shrinking,
+                                        track_setup, track_teardown),
+        cmocka_unit_test_setup_teardown(test_track_negative_margins, track_setup,
+                                        track_teardown),
+        cmocka_unit_test_setup_teardown(test_track_single_window, track_setup, track_teardown),
+        cmocka_unit_test_setup_teardown(test_track_escaping_and_units, track_setup,
+                                        track_teardown),
+        cmocka_unit_test_setup_teardown(test_track_deterministic, track_setup, track_teardown),
     };
     return cmocka_run_group_tests_name("el_html", tests, NULL, NULL);
 }
