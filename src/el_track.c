@@ -409,6 +409,32 @@ static void time_to_zero(el_track_result *r, const trend_data *d, const double *
     (void)d;
 }
 
+/* --method auto chooses per window: windows in different regimes can get
+ * different estimators, whose margins carry different biases, and a trend
+ * across them can come from the change of estimator. Say so. */
+static el_status warn_mixed_methods(el_track_result *r, el_error *err)
+{
+    const el_track_window *first = NULL;
+    for (size_t i = 0; i < r->n_windows; i++) {
+        const el_track_window *w = &r->windows[i];
+        if (!w->ok)
+            continue;
+        if (first == NULL) {
+            first = w;
+        } else if (w->method != first->method) {
+            el_status st = el_warnings_add(
+                &r->warnings,
+                "the windows were not all fitted by the same estimator (%s from %s, %s "
+                "from %s): their margins can differ by the estimators' biases, not only "
+                "by the system; --method %s fits every window alike",
+                el_method_name(first->method), first->from_text, el_method_name(w->method),
+                w->from_text, el_method_name(first->method));
+            return st == EL_OK ? EL_OK : el_error_set(err, st, "out of memory (track)");
+        }
+    }
+    return EL_OK;
+}
+
 el_status el_track_fit_trend(el_track_result *r, el_error *err)
 {
     r->has_trend = 0;
@@ -513,7 +539,9 @@ el_status el_track_fit_trend(el_track_result *r, el_error *err)
                              "the trend beyond the log: a forecast under the assumption that "
                              "nothing changes, not a prediction");
     trend_data_free(&d);
-    return st == EL_OK ? EL_OK : el_error_set(err, st, "out of memory (trend)");
+    if (st != EL_OK)
+        return el_error_set(err, st, "out of memory (trend)");
+    return warn_mixed_methods(r, err);
 }
 
 /* ------------------------------------------------------------------ */

@@ -110,7 +110,8 @@ el_status el_track_run(const el_track_options *opt, el_track_result *result,
  * >= level (or <= 1 - level); time_to_zero is the line's margin at the
  * last window divided by -slope when shrinking, its bounds from the
  * replicate slopes (+inf when some do not fall). Adds warnings for
- * widening and extrapolation. Fewer than 3 usable windows: has_trend = 0
+ * widening, extrapolation, and windows fitted by different estimators
+ * (--method auto chooses per window; their biases differ). Fewer than 3 usable windows: has_trend = 0
  * and EL_OK. EL_ERR_NOMEM. */
 el_status el_track_fit_trend(el_track_result *result, el_error *err);
 

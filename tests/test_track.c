@@ -96,6 +96,29 @@ static void test_trend_overlap_widens(void **state)
     el_track_free(&r);
 }
 
+/* Windows fitted by different estimators: the trend may come from the
+ * change of estimator, and a warning names both. */
+static void test_trend_mixed_methods(void **state)
+{
+    (void)state;
+    el_track_result r;
+    fill_windows(&r, tx_steady_t, tx_steady_sd, tx_steady_margin, tx_steady_samples);
+    for (size_t i = 0; i < TX_WINDOWS; i++) {
+        r.windows[i].method = i < 3 ? EL_METHOD_IV : EL_METHOD_FB;
+        snprintf(r.windows[i].from_text, sizeof r.windows[i].from_text, "%g",
+                 r.windows[i].t_from);
+    }
+    el_error err;
+    el_error_clear(&err);
+    assert_int_equal(el_track_fit_trend(&r, &err), EL_OK);
+    int named = 0;
+    for (size_t i = 0; i < r.warnings.count; i++)
+        named |= strstr(r.warnings.items[i], "iv from 0") != NULL
+                 && strstr(r.warnings.items[i], "fb from 300") != NULL;
+    assert_true(named);
+    el_track_free(&r);
+}
+
 /* Fewer than 3 usable windows: no trend, not an error. */
 static void test_trend_too_few(void **state)
 {
@@ -284,6 +307,7 @@ int main(void)
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_trend_against_numpy),
         cmocka_unit_test(test_trend_overlap_widens),
+        cmocka_unit_test(test_trend_mixed_methods),
         cmocka_unit_test(test_trend_too_few),
         cmocka_unit_test(test_drifting_margin),
         cmocka_unit_test(test_steady_margin),
