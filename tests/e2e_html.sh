@@ -3,8 +3,10 @@
 # (Debian's `chromium`, installed by `make deps`) loads without a console
 # message, whose DOM holds every figure with data, and which renders to a
 # screenshot; `eigenlog track --html` likewise (section 5). Run by
-# tests/run.sh with EIGENLOG set to the program under test. EL_SAVE_SCREENSHOT=1 saves the screenshot as docs/report.png (the
-# README shows it); otherwise it stays in the temporary folder.
+# tests/run.sh with EIGENLOG set to the program under test.
+# EL_SAVE_SCREENSHOT=1 saves the screenshots as docs/report.png and
+# docs/track.png (the README shows them); otherwise they stay in the
+# temporary folder.
 set -u
 bin=${EIGENLOG:-build/rel/eigenlog}
 log=datasets/booster_pump.csv
@@ -180,7 +182,12 @@ done
 check "track verdict: shrinking margin" 'grep -q "SHRINKING MARGIN" "$track_dom"'
 check "no non-finite number in the track page" \
     '! grep -q -i -w -E "nan|inf|infinity" "$track_dom"'
-track_png=$tmp/track.png
+if [ "${EL_SAVE_SCREENSHOT:-0}" = 1 ]; then
+    track_png=$(pwd)/docs/track.png
+else
+    track_png=$tmp/track.png
+fi
+rm -f "$track_png"
 run_browser --screenshot="$track_png" --window-size=1280,2600 --hide-scrollbars \
     "file://$(cd "$tmp" && pwd)/track.html" >"$tmp/track_shot.out" 2>"$tmp/track_shot.log"
 sig=$(od -A n -t x1 -N 8 "$track_png" 2>/dev/null | tr -d ' \n')
