@@ -7,6 +7,7 @@
 
 #include "el_assess.h"
 #include "el_error.h"
+#include "el_io.h"
 
 /* One option of a subcommand: long name without dashes, whether it takes
  * a value, the value's placeholder and a one-line help text. */
@@ -44,6 +45,24 @@ el_status cli_size(const char *option, const char *text, size_t min, size_t max,
                    size_t *out, el_error *err);
 el_status cli_double(const char *option, const char *text, double min, double max,
                      double *out, el_error *err);
+
+/* An output file a subcommand was asked for: path (NULL: not asked) and
+ * its text, built in memory before anything is written. */
+typedef struct {
+    const char *path;
+    el_buf text;
+} cli_output;
+
+/* Checks every asked path (NULL entries skipped) can be written, so a run
+ * fails before minutes of work rather than after. EL_ERR_IO from
+ * el_check_writable for the first that cannot. */
+el_status cli_check_outputs(const char *const *paths, size_t n, el_error *err);
+
+/* When built is EL_OK (every text was built), writes each asked output
+ * whole (el_write_file_atomic); otherwise writes nothing, so a failure
+ * while building leaves no file at all, and returns built. Frees every
+ * text either way. */
+el_status cli_write_outputs(cli_output *outputs, size_t n, el_status built, el_error *err);
 
 /* Prints "eigenlog: <formatted error>" to stderr. */
 void cli_print_error(const el_error *err);

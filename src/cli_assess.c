@@ -90,24 +90,16 @@ static void show_progress(void *ctx, size_t done, size_t total)
 static el_status write_outputs(const assess_cli *c, const el_assessment *r,
                                el_error *err)
 {
-    el_buf json = {0}, html = {0}, csv = {0};
+    cli_output out[3] = {{c->json_path, {0}}, {c->html_path, {0}}, {c->replicates_path, {0}}};
     el_status st = EL_OK;
-    if (c->json_path != NULL && (st = el_report_json(r, &c->assess, &json)) != EL_OK)
+    if (c->json_path != NULL && (st = el_report_json(r, &c->assess, &out[0].text)) != EL_OK)
         el_error_set(err, st, "could not build the JSON report");
     if (st == EL_OK && c->html_path != NULL)
-        st = el_html_report(r, &c->assess, r->has_spectra ? &r->spectra : NULL, &html, err);
+        st = el_html_report(r, &c->assess, r->has_spectra ? &r->spectra : NULL, &out[1].text,
+                            err);
     if (st == EL_OK && c->replicates_path != NULL)
-        st = el_report_replicates_csv(r, &csv, err);
-    if (st == EL_OK && c->json_path != NULL)
-        st = el_write_file_atomic(c->json_path, json.data, json.length, err);
-    if (st == EL_OK && c->html_path != NULL)
-        st = el_write_file_atomic(c->html_path, html.data, html.length, err);
-    if (st == EL_OK && c->replicates_path != NULL)
-        st = el_write_file_atomic(c->replicates_path, csv.data, csv.length, err);
-    el_buf_free(&json);
-    el_buf_free(&html);
-    el_buf_free(&csv);
-    return st;
+        st = el_report_replicates_csv(r, &out[2].text, err);
+    return cli_write_outputs(out, 3, st, err);
 }
 
 static int verdict_exit(const assess_cli *c, const el_assessment *r)
@@ -136,13 +128,10 @@ int cli_assess(int argc, char **argv)
     }
     if (st == EL_OK)
         st = parse_assess(&a, &c, &err);
-    /* Refuse an unwritable output path before minutes of work. */
-    if (st == EL_OK)
-        st = el_check_writable(c.json_path, &err);
-    if (st == EL_OK)
-        st = el_check_writable(c.replicates_path, &err);
-    if (st == EL_OK)
-        st = el_check_writable(c.html_path, &err);
+    if (st == EL_OK) {
+        const char *paths[3] = {c.json_path, c.replicates_path, c.html_path};
+        st = cli_check_outputs(paths, 3, &err);
+    }
     if (st != EL_OK) {
         cli_print_error(&err);
         return el_exit_code(st);

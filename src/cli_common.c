@@ -263,3 +263,25 @@ el_status cli_model_options(const cli_args *a, const cli_option *t, size_t n,
     }
     return EL_OK;
 }
+
+el_status cli_check_outputs(const char *const *paths, size_t n, el_error *err)
+{
+    for (size_t i = 0; i < n; i++) {
+        el_status st = el_check_writable(paths[i], err);
+        if (st != EL_OK)
+            return st;
+    }
+    return EL_OK;
+}
+
+el_status cli_write_outputs(cli_output *outputs, size_t n, el_status built, el_error *err)
+{
+    el_status st = built;
+    for (size_t i = 0; i < n; i++) {
+        if (st == EL_OK && outputs[i].path != NULL)
+            st = el_write_file_atomic(outputs[i].path, outputs[i].text.data,
+                                      outputs[i].text.length, err);
+        el_buf_free(&outputs[i].text);
+    }
+    return st;
+}

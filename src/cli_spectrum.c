@@ -149,16 +149,8 @@ static el_status parse(const cli_args *a, el_assess_options *o,
         return st;
     if ((v = val(a, "peaks")) && (st = cli_size("peaks", v, 1, 100, &so->max_peaks, err)))
         return st;
-    if ((st = el_check_writable(val(a, "json"), err)))
-        return st;
-    return el_check_writable(val(a, "csv"), err);
-}
-
-static el_status write_file(const char *path, el_status built, el_buf *b, el_error *err)
-{
-    if (built != EL_OK)
-        return el_error_set(err, built, "could not build the output");
-    return el_write_file_atomic(path, b->data, b->length, err);
+    const char *paths[2] = {val(a, "json"), val(a, "csv")};
+    return cli_check_outputs(paths, 2, err);
 }
 
 static el_status run(const cli_args *a, el_error *err)
@@ -178,11 +170,16 @@ static el_status run(const cli_args *a, el_error *err)
     if (st == EL_OK)
         st = el_spectrum_compute(&r.series, &so, &s, &p, &r.warnings, err);
     const char *json = val(a, "json"), *csv = val(a, "csv");
-    el_buf jb = {0}, cb = {0};
+    /* Both built before either is written: a failure leaves no file. */
+    cli_output out[2] = {{json, {0}}, {csv, {0}}};
+    el_status built = EL_OK;
     if (st == EL_OK && json != NULL)
-        st = write_file(json, spectra_json(&r, &s, &p, &jb), &jb, err);
-    if (st == EL_OK && csv != NULL)
-        st = write_file(csv, spectra_csv(&r, &s, &cb), &cb, err);
+        built = spectra_json(&r, &s, &p, &out[0].text);
+    if (st == EL_OK && built == EL_OK && csv != NULL)
+        built = spectra_csv(&r, &s, &out[1].text);
+    if (st == EL_OK && built != EL_OK)
+        st = el_error_set(err, built, "could not build the output");
+    st = cli_write_outputs(out, 2, st, err);
     int to_stdout = (json && strcmp(json, "-") == 0) || (csv && strcmp(csv, "-") == 0);
     if (st == EL_OK && val(a, "quiet") == NULL && !to_stdout) {
         print_table(&r, &s, &p);
@@ -191,8 +188,6 @@ static el_status run(const cli_args *a, el_error *err)
         for (size_t i = 0; i < r.warnings.count; i++)
             printf("! %s\n", r.warnings.items[i]);
     }
-    el_buf_free(&jb);
-    el_buf_free(&cb);
     el_spectra_free(&s);
     el_peaks_free(&p);
     el_assessment_free(&r);

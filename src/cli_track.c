@@ -98,19 +98,13 @@ static void show_progress(void *ctx, size_t done, size_t total)
  * (temp file + rename), so a failure while building leaves none. */
 static el_status write_outputs(const track_cli *c, const el_track_result *r, el_error *err)
 {
-    el_buf json = {0}, html = {0};
+    cli_output out[2] = {{c->json_path, {0}}, {c->html_path, {0}}};
     el_status st = EL_OK;
-    if (c->json_path != NULL && (st = el_track_report_json(r, &c->track, &json)) != EL_OK)
+    if (c->json_path != NULL && (st = el_track_report_json(r, &c->track, &out[0].text)) != EL_OK)
         el_error_set(err, st, "could not build the JSON report");
     if (st == EL_OK && c->html_path != NULL)
-        st = el_html_track_report(r, &c->track, &html, err);
-    if (st == EL_OK && c->json_path != NULL)
-        st = el_write_file_atomic(c->json_path, json.data, json.length, err);
-    if (st == EL_OK && c->html_path != NULL)
-        st = el_write_file_atomic(c->html_path, html.data, html.length, err);
-    el_buf_free(&json);
-    el_buf_free(&html);
-    return st;
+        st = el_html_track_report(r, &c->track, &out[1].text, err);
+    return cli_write_outputs(out, 2, st, err);
 }
 
 static el_status print_text(const track_cli *c, const el_track_result *r, el_error *err)
@@ -145,11 +139,10 @@ int cli_track(int argc, char **argv)
     }
     if (st == EL_OK)
         st = parse_track(&a, &c, &err);
-    /* Refuse an unwritable output path before minutes of work. */
-    if (st == EL_OK)
-        st = el_check_writable(c.json_path, &err);
-    if (st == EL_OK)
-        st = el_check_writable(c.html_path, &err);
+    if (st == EL_OK) {
+        const char *paths[2] = {c.json_path, c.html_path};
+        st = cli_check_outputs(paths, 2, &err);
+    }
     if (st != EL_OK) {
         cli_print_error(&err);
         return el_exit_code(st);

@@ -145,6 +145,19 @@ static size_t sym_fun_work(size_t n)
     return n * n + 4 * n + 1;
 }
 
+/* Eigenvectors v (n x n) and ascending eigenvalues lam (n) of the
+ * symmetric s (lower triangle, leading dimension lds); lw: 3 n + 1
+ * doubles. Returns 0, or 1 when LAPACK fails. */
+static int sym_eig(size_t n, const double *s, size_t lds, double *v, double *lam, double *lw)
+{
+    for (size_t j = 0; j < n; j++)
+        for (size_t i = 0; i < n; i++)
+            v[i + j * n] = s[i + j * lds];
+    lapack_int info = LAPACKE_dsyev_work(LAPACK_COL_MAJOR, 'V', 'L', (lapack_int)n, v,
+                                         (lapack_int)n, lam, lw, (lapack_int)(3 * n + 1));
+    return info != 0;
+}
+
 /* out = V f(Lambda) V' for the symmetric S = V Lambda V' (lower triangle
  * read), f(l) = l^power on the eigenvalues above EST_PINV_TOL times the
  * largest and 0 below (a pseudo-inverse for negative powers). Returns the
@@ -154,12 +167,7 @@ static int sym_fun(size_t n, const double *s, size_t lds, double power, double *
                    size_t ldo, double *work)
 {
     double *v = work, *lam = v + n * n, *lw = lam + n;
-    for (size_t j = 0; j < n; j++)
-        for (size_t i = 0; i < n; i++)
-            v[i + j * n] = s[i + j * lds];
-    lapack_int info = LAPACKE_dsyev_work(LAPACK_COL_MAJOR, 'V', 'L', (lapack_int)n, v,
-                                         (lapack_int)n, lam, lw, (lapack_int)(3 * n + 1));
-    if (info != 0)
+    if (sym_eig(n, s, lds, v, lam, lw))
         return -1;
     for (size_t j = 0; j < n; j++)
         for (size_t i = 0; i < n; i++)
@@ -413,12 +421,7 @@ static int tls_core(size_t r, const double *cov, size_t ld, double *a, double *w
     double *pool = work;
     double *v = take(&pool, n2 * n2), *lam = take(&pool, n2), *lw = take(&pool, 3 * n2 + 1);
     double *e1t = take(&pool, r * r), *e2t = take(&pool, r * r);
-    for (size_t j = 0; j < n2; j++)
-        for (size_t i = 0; i < n2; i++)
-            v[i + j * n2] = cov[i + j * ld];
-    lapack_int info = LAPACKE_dsyev_work(LAPACK_COL_MAJOR, 'V', 'L', (lapack_int)n2, v,
-                                         (lapack_int)n2, lam, lw, (lapack_int)(3 * n2 + 1));
-    if (info != 0)
+    if (sym_eig(n2, cov, ld, v, lam, lw))
         return 1;
     if (!(lam[n2 - r] - lam[n2 - r - 1] > 1e-12 * fabs(lam[n2 - 1])))
         return 1;

@@ -612,15 +612,16 @@ static el_status choose_rank(el_fit_plan *plan, el_model *m, el_warnings *w,
     return EL_OK;
 }
 
-/* Exact DMD (Tu et al. 2014) on the centred scaled snapshots:
+/* Exact DMD (Tu et al. 2014) on the centred scaled snapshots, with yt the
+ * responses (p x d, transposed: plan->ytc, or Y - B_s U with inputs):
  * lift = Yc V_r S_r^-1, a_reduced = U_r' lift, Ad_s = lift U_r',
  * c_s = mean(Y) - Ad_s mean(X). */
-static void exact_dmd(el_fit_plan *plan, el_model *m)
+static void exact_dmd(el_fit_plan *plan, el_model *m, const double *yt)
 {
     int p = (int)plan->n_pairs, d = (int)plan->state_dim, r = (int)m->rank;
     /* Yc V_r = (Y')' V_r: d x r. */
-    cblas_dgemm(CblasColMajor, CblasTrans, CblasNoTrans, d, r, p, 1.0, plan->ytc,
-                p, plan->svd_u, p, 0.0, plan->yv, d);
+    cblas_dgemm(CblasColMajor, CblasTrans, CblasNoTrans, d, r, p, 1.0, yt, p,
+                plan->svd_u, p, 0.0, plan->yv, d);
     for (int q = 0; q < r; q++) {
         double inv = 1.0 / m->singular_values[q];
         for (int i = 0; i < d; i++) {
@@ -709,22 +710,7 @@ static el_status exact_dmd_inputs(el_fit_plan *plan, el_model *m, el_error *err)
     memcpy(plan->ybuf, plan->ytc, (size_t)p * (size_t)d * sizeof(double));
     cblas_dgemm(CblasColMajor, CblasNoTrans, CblasTrans, p, d, nu, -1.0, plan->uc, p,
                 m->input_b_scaled, d, 1.0, plan->ybuf, p);
-    cblas_dgemm(CblasColMajor, CblasTrans, CblasNoTrans, d, r, p, 1.0, plan->ybuf, p,
-                plan->svd_u, p, 0.0, plan->yv, d);
-    for (int q = 0; q < r; q++) {
-        double inv = 1.0 / m->singular_values[q];
-        for (int i = 0; i < d; i++) {
-            m->lift[i + (size_t)d * q] = plan->yv[i + (size_t)d * q] * inv;
-            m->basis[i + (size_t)d * q] = plan->svd_vt[q + (size_t)d * i];
-        }
-    }
-    cblas_dgemm(CblasColMajor, CblasTrans, CblasNoTrans, r, r, d, 1.0, m->basis, d,
-                m->lift, d, 0.0, m->a_reduced, r);
-    cblas_dgemm(CblasColMajor, CblasNoTrans, CblasTrans, d, d, r, 1.0, m->lift, d,
-                m->basis, d, 0.0, m->ad_scaled, d);
-    memcpy(m->offset_scaled, plan->ymean, (size_t)d * sizeof(double));
-    cblas_dgemv(CblasColMajor, CblasNoTrans, d, d, -1.0, m->ad_scaled, d, plan->xmean, 1,
-                1.0, m->offset_scaled, 1);
+    exact_dmd(plan, m, plan->ybuf);
     cblas_dgemv(CblasColMajor, CblasNoTrans, d, nu, -1.0, m->input_b_scaled, d,
                 plan->umean, 1, 1.0, m->offset_scaled, 1);
     return EL_OK;
@@ -1027,7 +1013,7 @@ static el_status fit_system(el_fit_plan *plan, const el_series *series,
         return st;
     if (plan->method == EL_METHOD_LS)
         return plan->n_inputs > 0 ? exact_dmd_inputs(plan, model, err)
-                                  : (exact_dmd(plan, model), EL_OK);
+                                  : (exact_dmd(plan, model, plan->ytc), EL_OK);
     if (plan->method == EL_METHOD_FB || plan->method == EL_METHOD_TLS)
         svd_basis(plan, model);
     st = el_est_reduced_fit(plan->est, series, inputs, model, plan->bred, warnings, err);

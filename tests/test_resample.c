@@ -78,6 +78,17 @@ typedef struct {
     el_modes modes;
 } fitted;
 
+/* Fits f->series (already built on f->values) with the default options
+ * and computes its modes; the fit's warnings go to w (may be NULL). */
+static void fit_filled(fitted *f, el_warnings *w)
+{
+    el_fit_defaults(&f->fit);
+    el_error err;
+    el_error_clear(&err);
+    assert_int_equal(el_fit(&f->series, &f->fit, &f->model, w, &err), EL_OK);
+    assert_int_equal(el_modes_compute(&f->model, &f->modes, NULL, &err), EL_OK);
+}
+
 static void fit_pair(fitted *f, double re, double im, double dt, size_t n, uint64_t seed)
 {
     memset(f, 0, sizeof *f);
@@ -85,11 +96,7 @@ static void fit_pair(fitted *f, double re, double im, double dt, size_t n, uint6
     assert_non_null(f->values);
     simulate_pair(re, im, dt, n, seed, f->values);
     f->series = make_series(f->values, n, dt);
-    el_fit_defaults(&f->fit);
-    el_error err;
-    el_error_clear(&err);
-    assert_int_equal(el_fit(&f->series, &f->fit, &f->model, NULL, &err), EL_OK);
-    assert_int_equal(el_modes_compute(&f->model, &f->modes, NULL, &err), EL_OK);
+    fit_filled(f, NULL);
 }
 
 static void fitted_free(fitted *f)
@@ -1069,11 +1076,7 @@ static void test_bias_refused_under_sensor_noise(void **state)
             f.values[c * n + k] += 0.5 * sqrt(var) * el_rng_normal(&rng);
     }
     f.series = make_series(f.values, n, 0.05);
-    el_fit_defaults(&f.fit);
-    el_error err;
-    el_error_clear(&err);
-    assert_int_equal(el_fit(&f.series, &f.fit, &f.model, NULL, &err), EL_OK);
-    assert_int_equal(el_modes_compute(&f.model, &f.modes, NULL, &err), EL_OK);
+    fit_filled(&f, NULL);
     el_boot_options opt;
     el_boot_defaults(&opt);
     opt.replicates = 200;
@@ -1081,6 +1084,8 @@ static void test_bias_refused_under_sensor_noise(void **state)
     el_boot_result r;
     memset(&r, 0, sizeof r);
     el_warnings w = { 0 };
+    el_error err;
+    el_error_clear(&err);
     assert_int_equal(el_boot_run(&f.series, &f.fit, &f.model, &f.modes, &opt, &r, &w, &err),
                      EL_OK);
     assert_int_equal(r.bias_corrected, 0);
@@ -1123,14 +1128,10 @@ static void test_dependent_channel_rank_and_bootstrap(void **state)
     f.series.n_channels = 3;
     f.series.names = three_names;
     f.series.units = three_units;
-    el_fit_defaults(&f.fit);
-    el_error err;
-    el_error_clear(&err);
     el_warnings w = { 0 };
-    assert_int_equal(el_fit(&f.series, &f.fit, &f.model, &w, &err), EL_OK);
+    fit_filled(&f, &w);
     assert_int_equal(f.model.rank, 2);
     assert_true(w.count >= 1 && strstr(w.items[0], "numerical rank 2 of 3") != NULL);
-    assert_int_equal(el_modes_compute(&f.model, &f.modes, NULL, &err), EL_OK);
     el_boot_result r;
     assert_int_equal(run_boot(&f, 200, 2, EL_RESAMPLE_BLOCKS, 0, &r), EL_OK);
     /* The pair's Re lambda -0.4 inside its bounds (a 1500-sample log: the
