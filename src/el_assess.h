@@ -8,7 +8,8 @@
 #include <stdio.h>
 
 #include "el_error.h"
-#include "el_estimators.h"
+#include "el_estimator.h"
+#include "el_lags.h"
 #include "el_fit.h"
 #include "el_ingest.h"
 #include "el_modes.h"

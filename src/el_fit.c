@@ -1,9 +1,8 @@
-/* el_fit: affine least-squares / exact DMD fit of z[k+1] = Ad z[k] + B u[k]
- * + c with SVD rank truncation (and the other estimators through
- * el_estimators), the fixed point and one-step fit statistics. */
+/* el_fit: the fit of z[k+1] = Ad z[k] + B u[k] + c: centred scaled
+ * snapshots, their SVD, the method's estimator through its type
+ * (el_estimator.h), then physical units, the fixed point and one-step fit
+ * statistics. */
 #include "el_fit.h"
-
-#include "el_estimators.h"
 
 #include <cblas.h>
 #include <float.h>
@@ -14,10 +13,6 @@
 #include <stdlib.h>
 #include <string.h>
 
-/* Smallest singular value, relative to the largest, a fitted direction may
- * have (choose_rank). */
-#define FIT_RANK_FLOOR 1e-7
-
 /* Reciprocal condition numbers of I - Ad below this draw the "eigenvalue
  * near 1" warning: z* then moves by more than 1e8 times the relative error
  * of Ad, and a fitted Ad seldom carries more than a few correct digits. */
@@ -27,108 +22,17 @@
  * warning (common practice: about ten observations per parameter). */
 #define EL_FIT_PAIRS_PER_PARAM_WARN 10
 
-struct el_fit_plan {
-    size_t n_samples, n_channels, lags, state_dim, n_pairs, n_inputs;
-    long rank_opt;
-    el_method method;
-    const el_series *inputs;   /* from the options (el_fit_plan_execute) */
-    el_est_plan *est;          /* fb, tls, iv, ssi */
-    double *uc;        /* n_pairs x n_inputs: centred scaled inputs u[k], k = K..N-2 */
-    double *umean;     /* n_inputs: their means over the pairs */
-    double *uperp;     /* n_pairs x n_inputs: uc minus its part in span(V_r) (ls) */
-    double *ybuf;      /* n_pairs x d: right-hand sides of the input regression (ls) */
-    double *bred;      /* d x n_inputs: B in basis coordinates (iv) */
-    double *gels_work;
-    lapack_int gels_lwork;
-    double *xt;        /* n_pairs x d: centred scaled X', destroyed by the SVD */
-    double *ytc;       /* n_pairs x d: centred scaled Y' */
-    double *svd_u;     /* n_pairs x d: left singular vectors of X' = V of X */
-    double *svd_vt;    /* d x d: right singular vectors' of X' = U' of X */
-    double *yv;        /* d x d: Yc V_r (kept for the residuals) */
-    double *resid;     /* n_pairs x n_channels: lag-0 residuals */
-    double *xmean, *ymean;
-    double *lu;        /* d x d: I - Ad_s, then its LU factors */
-    double *rhs;       /* d */
-    double *con_work;  /* 4 d (dgecon) */
-    lapack_int *ipiv;  /* d */
-    lapack_int *iwork; /* 8 d (dgesdd; dgecon needs d) */
-    double *work;
-    lapack_int lwork;
-};
-
-void el_fit_defaults(el_fit_options *opt)
-{
-    memset(opt, 0, sizeof *opt);
-    opt->lags = 0;
-    opt->rank = EL_RANK_FULL;
-    opt->method = EL_METHOD_LS;
-    opt->depth = 0;
-    opt->inputs = NULL;
-}
-
-static const char *const method_names[EL_METHOD_COUNT] = {"ls", "fb", "tls", "iv", "ssi"};
-
-const char *el_method_name(el_method m)
-{
-    return (unsigned)m < EL_METHOD_COUNT ? method_names[m] : "?";
-}
-
-const char *el_method_description(el_method m)
-{
-    switch (m) {
-    case EL_METHOD_LS: return "affine least squares";
-    case EL_METHOD_FB: return "forward-backward DMD";
-    case EL_METHOD_TLS: return "total-least-squares DMD";
-    case EL_METHOD_IV: return "instrumental variables";
-    case EL_METHOD_SSI: return "covariance-driven subspace identification";
-    }
-    return "unknown method";
-}
-
-el_status el_method_parse(const char *text, el_method *m, el_error *err)
-{
-    for (unsigned i = 0; text != NULL && i < EL_METHOD_COUNT; i++)
-        if (strcmp(text, method_names[i]) == 0) {
-            *m = (el_method)i;
-            return EL_OK;
-        }
-    el_error_set(err, EL_ERR_USAGE, "unknown method '%s'", text != NULL ? text : "");
-    el_error_option(err, "--method");
-    el_error_hint(err, "use one of ls, fb, tls, iv, ssi");
-    return EL_ERR_USAGE;
-}
-
-double el_fit_hard_threshold_omega(double beta)
-{
-    /* Gavish & Donoho (2014), IEEE Trans. Inf. Theory 60(8): the paper's
-     * cubic approximation, for unknown noise, of lambda*(beta)/sqrt(mu_beta)
-     * (mu_beta: median of the Marchenko-Pastur law). */
-    return ((0.56 * beta - 0.95) * beta + 1.82) * beta + 1.43;
-}
-
-size_t el_fit_hard_threshold_rank(const double *sv, size_t n, size_t rows,
-                                  size_t cols)
-{
-    if (n == 0 || rows == 0 || cols == 0)
-        return 0;
-    double lo = (double)(rows < cols ? rows : cols);
-    double hi = (double)(rows < cols ? cols : rows);
-    /* sv is sorted (descending by contract), so the median is the middle. */
-    double med = n % 2 == 1 ? sv[n / 2] : 0.5 * (sv[n / 2 - 1] + sv[n / 2]);
-    double tau = el_fit_hard_threshold_omega(lo / hi) * med;
-    size_t r = 0;
-    for (size_t i = 0; i < n; i++)
-        if (sv[i] > tau)
-            r++;
-    return r > 0 ? r : 1;
-}
+/* el_fit_plan keeps LAPACK's integers as int (el_model.h does not pull in
+ * LAPACKE's headers, whose complex.h would reach every module). */
+_Static_assert(sizeof(lapack_int) == sizeof(int), "lapack_int must be int (LP64 LAPACK)");
 
 /* ---- plan ------------------------------------------------------------ */
 
 static el_status check_options(size_t n_samples, size_t n_channels,
                                const el_fit_options *opt, el_error *err)
 {
-    if ((unsigned)opt->method >= EL_METHOD_COUNT) {
+    const el_estimator_type *type = el_estimator_for(opt->method);
+    if (type == NULL) {
         el_error_set(err, EL_ERR_USAGE, "unknown fit method %d", (int)opt->method);
         el_error_option(err, "--method");
         el_error_hint(err, "use one of ls, fb, tls, iv, ssi");
@@ -144,7 +48,7 @@ static el_status check_options(size_t n_samples, size_t n_channels,
             el_error_hint(err, "take the inputs from the same log and window");
             return EL_ERR_USAGE;
         }
-        if (opt->method != EL_METHOD_LS && opt->method != EL_METHOD_IV) {
+        if (!type->takes_inputs) {
             el_error_set(err, EL_ERR_USAGE, "--method %s does not take measured inputs",
                          el_method_name(opt->method));
             el_error_option(err, "--input");
@@ -251,26 +155,10 @@ void el_fit_plan_destroy(el_fit_plan *plan)
     free(plan->work);
     free(plan->uc);
     free(plan->umean);
-    free(plan->uperp);
-    free(plan->ybuf);
     free(plan->bred);
-    free(plan->gels_work);
-    el_est_plan_destroy(plan->est);
+    if (plan->type != NULL)
+        plan->type->plan_destroy(plan->est);
     free(plan);
-}
-
-/* Workspace of dgels for the input regression (ls with inputs). */
-static el_status query_gels_work(lapack_int p, lapack_int nu, lapack_int d,
-                                 lapack_int *lwork, el_error *err)
-{
-    double q = 0.0, dummy = 0.0;
-    lapack_int info = LAPACKE_dgels_work(LAPACK_COL_MAJOR, 'N', p, nu, d, &dummy, p,
-                                         &dummy, p, &q, -1);
-    if (info != 0)
-        return el_error_set(err, EL_ERR_INTERNAL,
-                            "dgels workspace query failed (info %d)", (int)info);
-    *lwork = (lapack_int)ceil(q) + 1;
-    return EL_OK;
 }
 
 el_status el_fit_plan_create(size_t n_samples, size_t n_channels,
@@ -291,27 +179,24 @@ el_status el_fit_plan_create(size_t n_samples, size_t n_channels,
     size_t d = n_channels * (opt->lags + 1);
     size_t p = n_samples - opt->lags - 1;
     size_t nu = opt->inputs != NULL ? opt->inputs->n_channels : 0;
-    lapack_int lwork = 0, gels_lwork = 0;
+    lapack_int lwork = 0;
     st = query_svd_work((lapack_int)p, (lapack_int)d, &lwork, err);
-    if (st == EL_OK && nu > 0 && opt->method == EL_METHOD_LS)
-        st = query_gels_work((lapack_int)p, (lapack_int)nu, (lapack_int)d, &gels_lwork,
-                             err);
     if (st != EL_OK)
         return st;
-    el_est_plan *est = NULL;
-    if (opt->method != EL_METHOD_LS &&
-        (st = el_est_plan_create(opt, n_samples, n_channels, nu, &est, err)) != EL_OK)
+    const el_estimator_type *type = el_estimator_for(opt->method);
+    void *est = NULL;
+    if ((st = type->plan_create(opt, n_samples, n_channels, nu, &est, err)) != EL_OK)
         return st;
 
     el_fit_plan *plan = calloc(1, sizeof *plan);
     if (plan == NULL) {
-        el_est_plan_destroy(est);
+        type->plan_destroy(est);
         return el_error_set(err, EL_ERR_NOMEM, "out of memory");
     }
+    plan->type = type;
     plan->est = est;
     plan->n_inputs = nu;
     plan->inputs = opt->inputs;
-    plan->gels_lwork = gels_lwork;
     plan->n_samples = n_samples;
     plan->n_channels = n_channels;
     plan->lags = opt->lags;
@@ -340,12 +225,6 @@ el_status el_fit_plan_create(size_t n_samples, size_t n_channels,
         plan->umean = malloc(nu * sizeof(double));
         plan->bred = malloc(d * nu * sizeof(double));
         ok = plan->uc && plan->umean && plan->bred;
-        if (opt->method == EL_METHOD_LS) {
-            plan->uperp = malloc(p * nu * sizeof(double));
-            plan->ybuf = malloc(p * d * sizeof(double));
-            plan->gels_work = malloc((size_t)gels_lwork * sizeof(double));
-            ok = ok && plan->uperp && plan->ybuf && plan->gels_work;
-        }
     }
     if (!ok || !plan->xt || !plan->ytc || !plan->svd_u || !plan->svd_vt || !plan->yv ||
         !plan->resid || !plan->xmean || !plan->ymean || !plan->lu || !plan->rhs ||
@@ -356,33 +235,6 @@ el_status el_fit_plan_create(size_t n_samples, size_t n_channels,
     }
     *out = plan;
     return EL_OK;
-}
-
-/* ---- model storage ---------------------------------------------------- */
-
-void el_model_free(el_model *model)
-{
-    if (model == NULL)
-        return;
-    free(model->channel_mean);
-    free(model->channel_scale);
-    free(model->singular_values);
-    free(model->basis);
-    free(model->a_reduced);
-    free(model->lift);
-    free(model->ad_scaled);
-    free(model->offset_scaled);
-    free(model->ad);
-    free(model->offset);
-    free(model->operating_point);
-    free(model->channel_r2);
-    free(model->residual_rms);
-    free(model->canonical_corr);
-    free(model->input_mean);
-    free(model->input_scale);
-    free(model->input_b_scaled);
-    free(model->input_b);
-    memset(model, 0, sizeof *model);
 }
 
 /* Allocates every array for rank up to d, or checks that an earlier fill
@@ -545,100 +397,6 @@ static el_status thin_svd(el_fit_plan *plan, const el_series *s, el_model *m,
     return EL_OK;
 }
 
-/* Chooses the rank from the option and the singular values; never above
- * the numerical rank, where 1/sigma would amplify rounding into the model. */
-static el_status choose_rank(el_fit_plan *plan, el_model *m, el_warnings *w,
-                             el_error *err)
-{
-    size_t d = plan->state_dim, p = plan->n_pairs;
-    const double *sv = m->singular_values;
-    if (!(sv[0] > 0.0)) {
-        el_error_set(err, EL_ERR_DATA, "the snapshots do not vary: nothing to fit");
-        el_error_hint(err, "choose a window where the channels move");
-        return EL_ERR_DATA;
-    }
-    /* Below 1e-7 of the largest singular value (140 dB) a direction is
-     * under the resolution of any logger (24 bits: 144 dB) and its 1/sigma
-     * amplifies rounding, not motion; the bootstrap's whitening, whose
-     * Gram matrix holds sigma^2, refuses exactly those directions (pivot
-     * test 1e-14), so the fit drops them first (docs/accuracy.md, D5). */
-    double rel = (double)(p > d ? p : d) * DBL_EPSILON;
-    double cut = (rel > FIT_RANK_FLOOR ? rel : FIT_RANK_FLOOR) * sv[0];
-    size_t r_num = 0;
-    while (r_num < d && sv[r_num] > cut)
-        r_num++;
-    size_t r;
-    m->rank_was_auto = 0;
-    if (plan->rank_opt == EL_RANK_FULL) {
-        r = d;
-    } else if (plan->rank_opt == EL_RANK_AUTO) {
-        r = el_fit_hard_threshold_rank(sv, d, d, p);
-        m->rank_was_auto = 1;
-    } else {
-        r = (size_t)plan->rank_opt;
-    }
-    el_status st = EL_OK;
-    if (r > r_num) {
-        st = el_warnings_add(w,
-                             "the snapshot matrix has numerical rank %zu of %zu "
-                             "(channels or lags are linearly dependent, or the "
-                             "record shows fewer independent motions than "
-                             "states): rank lowered from %zu to %zu",
-                             r_num, d, r, r_num);
-        r = r_num;
-    } else if (r < d && m->rank_was_auto) {
-        /* The threshold scales the median singular value as a noise level;
-         * when the kept rank reaches half the dimension the median is a
-         * signal value and the threshold is set too high. */
-        st = el_warnings_add(w,
-                             "rank %zu of %zu chosen by the optimal hard "
-                             "threshold (Gavish & Donoho 2014): the other "
-                             "directions are treated as noise%s",
-                             r, d,
-                             2 * r >= d
-                                 ? "; with so few states the median singular "
-                                   "value is not a noise level and the choice is "
-                                   "rough: add lags or give --rank"
-                                 : "");
-    } else if (r < d) {
-        st = el_warnings_add(w,
-                             "rank truncated to %zu of %zu as asked: the model "
-                             "has %zu modes",
-                             r, d, r);
-    }
-    if (st != EL_OK)
-        return el_error_set(err, st, "out of memory for a warning");
-    m->rank = r;
-    return EL_OK;
-}
-
-/* Exact DMD (Tu et al. 2014) on the centred scaled snapshots, with yt the
- * responses (p x d, transposed: plan->ytc, or Y - B_s U with inputs):
- * lift = Yc V_r S_r^-1, a_reduced = U_r' lift, Ad_s = lift U_r',
- * c_s = mean(Y) - Ad_s mean(X). */
-static void exact_dmd(el_fit_plan *plan, el_model *m, const double *yt)
-{
-    int p = (int)plan->n_pairs, d = (int)plan->state_dim, r = (int)m->rank;
-    /* Yc V_r = (Y')' V_r: d x r. */
-    cblas_dgemm(CblasColMajor, CblasTrans, CblasNoTrans, d, r, p, 1.0, yt, p,
-                plan->svd_u, p, 0.0, plan->yv, d);
-    for (int q = 0; q < r; q++) {
-        double inv = 1.0 / m->singular_values[q];
-        for (int i = 0; i < d; i++) {
-            m->lift[i + (size_t)d * q] = plan->yv[i + (size_t)d * q] * inv;
-            /* U = (svd_vt)': row q of svd_vt is column q of U. */
-            m->basis[i + (size_t)d * q] = plan->svd_vt[q + (size_t)d * i];
-        }
-    }
-    cblas_dgemm(CblasColMajor, CblasTrans, CblasNoTrans, r, r, d, 1.0, m->basis, d,
-                m->lift, d, 0.0, m->a_reduced, r);
-    cblas_dgemm(CblasColMajor, CblasNoTrans, CblasTrans, d, d, r, 1.0, m->lift, d,
-                m->basis, d, 0.0, m->ad_scaled, d);
-    memcpy(m->offset_scaled, plan->ymean, (size_t)d * sizeof(double));
-    cblas_dgemv(CblasColMajor, CblasNoTrans, d, d, -1.0, m->ad_scaled, d,
-                plan->xmean, 1, 1.0, m->offset_scaled, 1);
-}
-
 
 /* Scaled inputs over the pairs (u[k], k = K..N-2, the sample of X),
  * centred by their means; model->input_mean/scale set first. */
@@ -659,164 +417,6 @@ static void build_input_snapshots(el_fit_plan *plan, const el_series *u,
             col[q] -= acc;
         plan->umean[j] = acc;
     }
-}
-
-/* DMD with control (Proctor, Brunton & Kutz 2016) on the exact-DMD basis:
- * Y' = V_r G1 + Uc B_s' + residual, solved as two orthogonal steps (V_r is
- * orthonormal): B_s' = Uperp^+ Y' with Uperp = Uc - V_r V_r' Uc (Householder
- * QR, dgels), then G1 = V_r' (Y' - Uc B_s'); lift = G1' S_r^-1. Without
- * truncation this is the least-squares [Ad B] of Y on [X; U]. */
-static el_status exact_dmd_inputs(el_fit_plan *plan, el_model *m, el_error *err)
-{
-    int p = (int)plan->n_pairs, d = (int)plan->state_dim, r = (int)m->rank;
-    int nu = (int)plan->n_inputs;
-    /* uperp = uc - V_r (V_r' uc); bred (r x nu) holds V_r' uc for now. */
-    memcpy(plan->uperp, plan->uc, (size_t)p * (size_t)nu * sizeof(double));
-    cblas_dgemm(CblasColMajor, CblasTrans, CblasNoTrans, r, nu, p, 1.0, plan->svd_u, p,
-                plan->uc, p, 0.0, plan->bred, r);
-    cblas_dgemm(CblasColMajor, CblasNoTrans, CblasNoTrans, p, nu, r, -1.0, plan->svd_u,
-                p, plan->bred, r, 1.0, plan->uperp, p);
-    memcpy(plan->ybuf, plan->ytc, (size_t)p * (size_t)d * sizeof(double));
-    lapack_int info = LAPACKE_dgels_work(LAPACK_COL_MAJOR, 'N', p, nu, d, plan->uperp, p,
-                                         plan->ybuf, p, plan->gels_work,
-                                         plan->gels_lwork);
-    int collinear = info > 0;
-    /* R of the QR of Uperp sits in its upper triangle: a diagonal at
-     * 1e-10 of the input's own spread means that input is (nearly) a
-     * combination of the state and the other inputs. */
-    for (int j = 0; j < nu && !collinear; j++) {
-        double ref = cblas_dnrm2(p, plan->uc + (size_t)p * j, 1);
-        if (!(fabs(plan->uperp[j + (size_t)p * j]) > 1e-10 * ref))
-            collinear = 1;
-    }
-    if (info < 0)
-        return el_error_set(err, EL_ERR_INTERNAL, "dgels called wrongly (info %d)",
-                            (int)info);
-    if (collinear) {
-        el_error_set(err, EL_ERR_DATA,
-                     "an input is (nearly) a linear combination of the state channels "
-                     "and the other inputs over the window: its effect B cannot be "
-                     "told apart from the dynamics");
-        el_error_option(err, "--input");
-        el_error_hint(err, "leave that input out, or do not list a state channel as "
-                           "an input");
-        return EL_ERR_DATA;
-    }
-    /* ybuf rows 0..nu-1 hold B_s' (nu x d). */
-    for (int j = 0; j < nu; j++)
-        for (int i = 0; i < d; i++)
-            m->input_b_scaled[i + (size_t)d * j] = plan->ybuf[j + (size_t)p * i];
-    /* Y' - Uc B_s' into ybuf, then yv = (Y - B_s Uc) V_r. */
-    memcpy(plan->ybuf, plan->ytc, (size_t)p * (size_t)d * sizeof(double));
-    cblas_dgemm(CblasColMajor, CblasNoTrans, CblasTrans, p, d, nu, -1.0, plan->uc, p,
-                m->input_b_scaled, d, 1.0, plan->ybuf, p);
-    exact_dmd(plan, m, plan->ybuf);
-    cblas_dgemv(CblasColMajor, CblasNoTrans, d, nu, -1.0, m->input_b_scaled, d,
-                plan->umean, 1, 1.0, m->offset_scaled, 1);
-    return EL_OK;
-}
-
-/* The basis of the SVD of X (fb, tls use it as ls does). */
-static void svd_basis(el_fit_plan *plan, el_model *m)
-{
-    size_t d = plan->state_dim;
-    for (size_t q = 0; q < m->rank; q++)
-        for (size_t i = 0; i < d; i++)
-            m->basis[i + d * q] = plan->svd_vt[q + d * i];
-}
-
-/* fb and tls fit every kept direction as dynamics: a direction holding
- * only sensor noise gets an arbitrary eigenvalue (the backward model of
- * noise is not invertible, total least squares of noise has no preferred
- * fit), so say so when the optimal hard threshold keeps fewer. */
-static el_status warn_noise_directions(el_fit_plan *plan, el_model *m, el_warnings *w,
-                                       el_error *err)
-{
-    if (plan->rank_opt != EL_RANK_FULL ||
-        (plan->method != EL_METHOD_FB && plan->method != EL_METHOD_TLS))
-        return EL_OK;
-    size_t r_gd = el_fit_hard_threshold_rank(m->singular_values, plan->state_dim,
-                                             plan->state_dim, plan->n_pairs);
-    if (r_gd >= m->rank)
-        return EL_OK;
-    el_status st = el_warnings_add(
-        w,
-        "%s at full rank %zu: only %zu singular values of the snapshots stand above "
-        "the optimal hard threshold (Gavish & Donoho 2014); directions that hold "
-        "only noise get arbitrary eigenvalues with this estimator: use --rank auto "
-        "or --rank %zu",
-        el_method_name(plan->method), m->rank, r_gd, r_gd);
-    if (st != EL_OK)
-        return el_error_set(err, st, "out of memory for a warning");
-    return EL_OK;
-}
-
-/* --rank auto for fb and tls: the number of state directions the past
- * measurements predict (the instrument step's test), capped at the
- * numerical rank of X; the hard threshold when the record is too short
- * for the test. */
-static el_status predictable_rank(el_fit_plan *plan, const el_series *series,
-                                  el_model *m, el_warnings *w, el_error *err)
-{
-    size_t r = 0, d = plan->state_dim;
-    el_status st = el_est_predictable_rank(plan->est, series, m, &r, err);
-    if (st != EL_OK)
-        return st;
-    if (r == 0)
-        return choose_rank(plan, m, w, err);
-    const double *sv = m->singular_values;
-    double cut = (double)(plan->n_pairs > d ? plan->n_pairs : d) * DBL_EPSILON * sv[0];
-    size_t r_num = 0;
-    while (r_num < d && sv[r_num] > cut)
-        r_num++;
-    if (r > r_num)
-        r = r_num;
-    if (r == 0) {
-        el_error_set(err, EL_ERR_DATA, "the snapshots do not vary: nothing to fit");
-        el_error_hint(err, "choose a window where the channels move");
-        return EL_ERR_DATA;
-    }
-    m->rank = r;
-    m->rank_was_auto = 1;
-    if (r < d) {
-        st = el_warnings_add(
-            w,
-            "%s: rank %zu of %zu, the number of state directions the past measurements "
-            "predict (canonical correlations %.3g down to %.3g, tested at 0.1%%); "
-            "the other directions are treated as noise",
-            el_method_name(plan->method), r, d, m->canonical_corr[0],
-            m->canonical_corr[r - 1]);
-        if (st != EL_OK)
-            return el_error_set(err, st, "out of memory for a warning");
-    }
-    return EL_OK;
-}
-
-/* The full-state model of a reduced one (fb, tls, iv, ssi): projected
- * modes lift = U_r A_r, Ad_s = lift U_r', B_s = U_r B_r, and the
- * intercept c_s = mean(Y) - Ad_s mean(X) - B_s mean(U); ssi assumes a
- * stationary signal whose operating point is the channel mean, c_s = (I -
- * Ad_s) 0 = 0 in the scaled coordinates. */
-static void projected_model(el_fit_plan *plan, el_model *m)
-{
-    int d = (int)plan->state_dim, r = (int)m->rank, nu = (int)plan->n_inputs;
-    cblas_dgemm(CblasColMajor, CblasNoTrans, CblasNoTrans, d, r, r, 1.0, m->basis, d,
-                m->a_reduced, r, 0.0, m->lift, d);
-    cblas_dgemm(CblasColMajor, CblasNoTrans, CblasTrans, d, d, r, 1.0, m->lift, d,
-                m->basis, d, 0.0, m->ad_scaled, d);
-    if (nu > 0)
-        cblas_dgemm(CblasColMajor, CblasNoTrans, CblasNoTrans, d, nu, r, 1.0, m->basis,
-                    d, plan->bred, r, 0.0, m->input_b_scaled, d);
-    if (plan->method == EL_METHOD_SSI) {
-        memset(m->offset_scaled, 0, (size_t)d * sizeof(double));
-        return;
-    }
-    memcpy(m->offset_scaled, plan->ymean, (size_t)d * sizeof(double));
-    cblas_dgemv(CblasColMajor, CblasNoTrans, d, d, -1.0, m->ad_scaled, d, plan->xmean, 1,
-                1.0, m->offset_scaled, 1);
-    if (nu > 0)
-        cblas_dgemv(CblasColMajor, CblasNoTrans, d, nu, -1.0, m->input_b_scaled, d,
-                    plan->umean, 1, 1.0, m->offset_scaled, 1);
 }
 
 /* Physical units: z = m + D s with D = diag(scale) per lag block and the
@@ -992,34 +592,13 @@ el_status el_fit_plan_execute(el_fit_plan *plan, const el_series *series,
 }
 
 /* The model proper once the snapshots, their SVD and the scaling are in
- * place: basis, rank and the (reduced) system by the method. */
+ * place: basis, rank and the (reduced) system by the method's estimator. */
 static el_status fit_system(el_fit_plan *plan, const el_series *series,
                             const el_series *inputs, el_model *model,
                             el_warnings *warnings, el_error *err)
 {
-    el_status st;
-    if (plan->method == EL_METHOD_IV || plan->method == EL_METHOD_SSI) {
-        st = el_est_instrument_basis(plan->est, series, plan->rank_opt, model, warnings,
-                                     err);
-    } else if ((plan->method == EL_METHOD_FB || plan->method == EL_METHOD_TLS) &&
-               plan->rank_opt == EL_RANK_AUTO) {
-        st = predictable_rank(plan, series, model, warnings, err);
-    } else {
-        st = choose_rank(plan, model, warnings, err);
-        if (st == EL_OK)
-            st = warn_noise_directions(plan, model, warnings, err);
-    }
-    if (st != EL_OK)
-        return st;
-    if (plan->method == EL_METHOD_LS)
-        return plan->n_inputs > 0 ? exact_dmd_inputs(plan, model, err)
-                                  : (exact_dmd(plan, model, plan->ytc), EL_OK);
-    if (plan->method == EL_METHOD_FB || plan->method == EL_METHOD_TLS)
-        svd_basis(plan, model);
-    st = el_est_reduced_fit(plan->est, series, inputs, model, plan->bred, warnings, err);
-    if (st == EL_OK)
-        projected_model(plan, model);
-    return st;
+    plan->lift_residuals = 0;
+    return plan->type->fit(plan, series, inputs, model, warnings, err);
 }
 
 el_status el_fit_plan_execute_inputs(el_fit_plan *plan, const el_series *series,
@@ -1071,7 +650,7 @@ el_status el_fit_plan_execute_inputs(el_fit_plan *plan, const el_series *series,
     to_physical(model);
     if ((st = operating_point(plan, model, warnings, err)) != EL_OK)
         return st;
-    if (plan->method == EL_METHOD_LS && plan->n_inputs == 0)
+    if (plan->lift_residuals)
         fit_statistics(plan, model);
     else
         direct_fit_statistics(plan, series, model);

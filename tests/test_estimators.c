@@ -9,7 +9,10 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include "el_estimators.h"
+#include "el_est_common.h"
+#include "el_est_ssi.h"
+#include "el_lags.h"
+#include "el_resample.h"
 #include "el_fit.h"
 #include "el_modes.h"
 #include "el_resample.h"

@@ -7,7 +7,7 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include "el_estimators.h"
+#include "el_estimator.h"
 #include "el_fit.h"
 #include "el_modes.h"
 #include "el_resample.h"

@@ -1,10 +1,15 @@
-/* el_estimators: forward-backward, total-least-squares, instrumental-
- * variable and covariance-driven subspace estimators in reduced
- * coordinates, their bootstrap statistics providers, --lags auto, and the
- * subspace realisation of an output covariance sequence. */
+/* el_est_common: what the estimators other than least squares share
+ * (docs/method-estimators.md): small dense linear algebra, the window
+ * vectors and their additive features for the bootstrap providers, the
+ * reduced states, step 1 (basis and rank from the canonical correlations
+ * of the state with the past measurements) and step 2 (the reduced system
+ * matrix through an estimator's core). Knows no estimator by name: each
+ * passes its core (el_est_core). */
 #include <complex.h>
 
-#include "el_estimators.h"
+#include "el_est_common.h"
+
+#include "el_reduced.h"
 
 #include <cblas.h>
 #include <float.h>
@@ -35,16 +40,6 @@
  * below). */
 #define EST_RHO_NUMERICAL 1e-6
 
-/* fb: a square-root branch is called poorly determined when the distance
- * from the forward eigenvalue to the chosen root exceeds half its distance
- * to the other root. */
-#define EST_FB_BRANCH_WARN 0.5
-
-/* fb: imaginary part of Q R Q^H tolerated relative to its real part
- * (rounding of the complex Schur method on a well-conditioned root is
- * ~1e-15; a wrong branch pairing gives O(1)). */
-#define EST_FB_REAL_TOL 1e-8
-
 /* Rows of window vectors centred and multiplied at a time (bounded scratch
  * whatever the log length). */
 #define EST_CHUNK 256
@@ -52,7 +47,7 @@
 /* ------------------------------------------------------------------ */
 /* Small dense helpers (column-major). */
 
-static double *take(double **pool, size_t n)
+double *el_est_take(double **pool, size_t n)
 {
     double *p = *pool;
     *pool += n;
@@ -63,7 +58,7 @@ static double *take(double **pool, size_t n)
  * and B together (no pivot array, so the provider work stays all doubles).
  * A (n x n) is destroyed, B (n x k) receives X. Returns 1 when a pivot is
  * at rounding level of the largest entry or the solution is not finite. */
-static int gauss_solve(size_t n, double *a, size_t lda, double *b, size_t ldb,
+int el_est_gauss_solve(size_t n, double *a, size_t lda, double *b, size_t ldb,
                        size_t k)
 {
     double amax = 0.0;
@@ -121,7 +116,7 @@ static int gauss_solve(size_t n, double *a, size_t lda, double *b, size_t ldb,
 
 /* X = Bm A^-1 (Bm k x n, A n x n, X k x n with leading dimension ldx) by
  * solving A' X' = Bm'. work: n * n + n * k. Returns 1 when A is singular. */
-static int right_solve(size_t n, size_t k, const double *a, size_t lda,
+int el_est_right_solve(size_t n, size_t k, const double *a, size_t lda,
                        const double *bm, size_t ldb, double *x, size_t ldx,
                        double *work)
 {
@@ -132,7 +127,7 @@ static int right_solve(size_t n, size_t k, const double *a, size_t lda,
     for (size_t j = 0; j < n; j++)
         for (size_t i = 0; i < k; i++)
             bt[j + i * n] = bm[i + j * ldb];
-    if (gauss_solve(n, at, n, bt, n, k))
+    if (el_est_gauss_solve(n, at, n, bt, n, k))
         return 1;
     for (size_t j = 0; j < n; j++)
         for (size_t i = 0; i < k; i++)
@@ -140,7 +135,7 @@ static int right_solve(size_t n, size_t k, const double *a, size_t lda,
     return 0;
 }
 
-static size_t sym_fun_work(size_t n)
+size_t el_est_sym_fun_work(size_t n)
 {
     return n * n + 4 * n + 1;
 }
@@ -148,7 +143,7 @@ static size_t sym_fun_work(size_t n)
 /* Eigenvectors v (n x n) and ascending eigenvalues lam (n) of the
  * symmetric s (lower triangle, leading dimension lds); lw: 3 n + 1
  * doubles. Returns 0, or 1 when LAPACK fails. */
-static int sym_eig(size_t n, const double *s, size_t lds, double *v, double *lam, double *lw)
+int el_est_sym_eig(size_t n, const double *s, size_t lds, double *v, double *lam, double *lw)
 {
     for (size_t j = 0; j < n; j++)
         for (size_t i = 0; i < n; i++)
@@ -163,11 +158,11 @@ static int sym_eig(size_t n, const double *s, size_t lds, double *v, double *lam
  * largest and 0 below (a pseudo-inverse for negative powers). Returns the
  * number of eigenvalues kept, or -1 when LAPACK dsyev fails. work:
  * sym_fun_work(n). */
-static int sym_fun(size_t n, const double *s, size_t lds, double power, double *out,
+int el_est_sym_fun(size_t n, const double *s, size_t lds, double power, double *out,
                    size_t ldo, double *work)
 {
     double *v = work, *lam = v + n * n, *lw = lam + n;
-    if (sym_eig(n, s, lds, v, lam, lw))
+    if (el_est_sym_eig(n, s, lds, v, lam, lw))
         return -1;
     for (size_t j = 0; j < n; j++)
         for (size_t i = 0; i < n; i++)
@@ -192,7 +187,7 @@ static int sym_fun(size_t n, const double *s, size_t lds, double power, double *
 }
 
 /* C (m x n, ldc) = A (m x k, lda) * B (k x n, ldb), with transposes. */
-static void gemm(int ta, int tb, size_t m, size_t n, size_t k, const double *a,
+void el_est_gemm(int ta, int tb, size_t m, size_t n, size_t k, const double *a,
                  size_t lda, const double *b, size_t ldb, double *c, size_t ldc)
 {
     if (m == 0 || n == 0)
@@ -211,13 +206,13 @@ static void gemm(int ta, int tb, size_t m, size_t n, size_t k, const double *a,
 /* ------------------------------------------------------------------ */
 /* Features: [1, v, lower triangle of v v' by columns]. */
 
-static size_t nf_of(size_t dim)
+size_t el_est_nf_of(size_t dim)
 {
     return 1 + dim + dim * (dim + 1) / 2;
 }
 
 /* out[1..dim] must already hold v. */
-static void gram_products(size_t dim, double *out)
+void el_est_gram_products(size_t dim, double *out)
 {
     const double *v = out + 1;
     size_t idx = 1 + dim;
@@ -229,7 +224,7 @@ static void gram_products(size_t dim, double *out)
 
 /* Means and centred cross-products (sum over windows of (v - mean)(v -
  * mean)', not divided by the count) from a feature sum. Returns the count. */
-static double unpack_cov(size_t dim, const double *sum, double *mean, double *cov)
+double el_est_unpack_cov(size_t dim, const double *sum, double *mean, double *cov)
 {
     double n = sum[0];
     for (size_t i = 0; i < dim; i++)
@@ -248,7 +243,7 @@ static double unpack_cov(size_t dim, const double *sum, double *mean, double *co
  * span 2K + 4 states of sw doubles each (the first r the reduced state)
  * starting at st (x = st[2K+2], y = st[2K+3], zeta1 = st[K+1], zeta2 =
  * st[0]). */
-static void win_vector(size_t r, size_t sw, size_t lags, const double *st, double *v)
+void el_est_win_vector(size_t r, size_t sw, size_t lags, const double *st, double *v)
 {
     memcpy(v, st + (2 * lags + 2) * sw, r * sizeof(double));
     memcpy(v + r, st + (2 * lags + 3) * sw, r * sizeof(double));
@@ -257,7 +252,7 @@ static void win_vector(size_t r, size_t sw, size_t lags, const double *st, doubl
 }
 
 /* c = mean(y) - A mean(x) - B mean(u) (B, u absent when nu == 0). */
-static void offset_from(size_t r, size_t nu, const double *mean_x,
+void el_est_offset_from(size_t r, size_t nu, const double *mean_x,
                         const double *mean_y, const double *mean_u, const double *a,
                         const double *b, double *offset)
 {
@@ -272,324 +267,51 @@ static void offset_from(size_t r, size_t nu, const double *mean_x,
 }
 
 /* ------------------------------------------------------------------ */
-/* Forward-backward DMD (Dawson, Hemati, Williams & Rowley 2016). */
-
-static size_t sqrt_branch_work(size_t n)
-{
-    return 8 * n * n + 8 * n + n;
-}
-
-/* root = the square root of M (n x n) whose eigenvalues are, one by one,
- * the roots nearest to those of the guide G (the forward estimate), by the
- * complex Schur method (Bjorck & Hammarling 1983): M = Q T Q^H (LAPACK
- * zgees), R upper triangular with R_ii = +-sqrt(T_ii) chosen against
- * (Q^H G Q)_ii, R_ij = (T_ij - sum_{i<k<j} R_ik R_kj) / (R_ii + R_jj),
- * root = Re(Q R Q^H). Returns 0; 2 when zgees fails, R_ii + R_jj vanishes
- * (a repeated eigenvalue given two different branches) or the result is
- * not real. *ambiguous (may be NULL) counts the eigenvalues whose branch
- * is poorly determined. */
-static int sqrt_branch(size_t n, const double *m, const double *g, double *root,
-                       double *work, int *ambiguous)
-{
-    double *pool = work;
-    double complex *t = (double complex *)(void *)take(&pool, 2 * n * n);
-    double complex *q = (double complex *)(void *)take(&pool, 2 * n * n);
-    double complex *rr = (double complex *)(void *)take(&pool, 2 * n * n);
-    double complex *tmp = (double complex *)(void *)take(&pool, 2 * n * n);
-    double complex *w = (double complex *)(void *)take(&pool, 2 * n);
-    double complex *zw = (double complex *)(void *)take(&pool, 4 * n);
-    double complex *gq = (double complex *)(void *)take(&pool, 2 * n);
-    double *rwork = take(&pool, n);
-    for (size_t i = 0; i < n * n; i++)
-        t[i] = m[i];
-    lapack_int sdim = 0;
-    lapack_int info = LAPACKE_zgees_work(LAPACK_COL_MAJOR, 'V', 'N', NULL, (lapack_int)n,
-                                         t, (lapack_int)n, &sdim, w, q, (lapack_int)n,
-                                         zw, (lapack_int)(2 * n), rwork, NULL);
-    if (info != 0)
-        return 2;
-    for (size_t i = 0; i < n * n; i++)
-        rr[i] = 0.0;
-    double rmax = 0.0;
-    for (size_t i = 0; i < n; i++) {
-        const double complex *qi = q + i * n;
-        for (size_t a = 0; a < n; a++) {
-            double complex s = 0.0;
-            for (size_t b = 0; b < n; b++)
-                s += g[a + b * n] * qi[b];
-            gq[a] = s;
-        }
-        double complex f = 0.0;
-        for (size_t a = 0; a < n; a++)
-            f += conj(qi[a]) * gq[a];
-        double complex s = csqrt(t[i + i * n]);
-        double dp = cabs(s - f), dm = cabs(-s - f);
-        if (dm < dp) {
-            s = -s;
-            double x = dp;
-            dp = dm;
-            dm = x;
-        }
-        if (ambiguous != NULL && dm > 0.0 && dp > EST_FB_BRANCH_WARN * dm)
-            (*ambiguous)++;
-        rr[i + i * n] = s;
-        rmax = fmax(rmax, cabs(s));
-    }
-    for (size_t j = 0; j < n; j++)
-        for (size_t ii = j; ii-- > 0;) {
-            double complex num = t[ii + j * n];
-            for (size_t k = ii + 1; k < j; k++)
-                num -= rr[ii + k * n] * rr[k + j * n];
-            double complex den = rr[ii + ii * n] + rr[j + j * n];
-            if (!(cabs(den) > 1e-8 * rmax))
-                return 2;
-            rr[ii + j * n] = num / den;
-        }
-    /* tmp = Q R, root = Re(tmp Q^H). */
-    for (size_t j = 0; j < n; j++)
-        for (size_t i = 0; i < n; i++) {
-            double complex s = 0.0;
-            for (size_t k = 0; k <= j; k++)
-                s += q[i + k * n] * rr[k + j * n];
-            tmp[i + j * n] = s;
-        }
-    double re_max = 0.0, im_max = 0.0;
-    for (size_t j = 0; j < n; j++)
-        for (size_t i = 0; i < n; i++) {
-            double complex s = 0.0;
-            for (size_t k = 0; k < n; k++)
-                s += tmp[i + k * n] * conj(q[j + k * n]);
-            root[i + j * n] = creal(s);
-            re_max = fmax(re_max, fabs(creal(s)));
-            im_max = fmax(im_max, fabs(cimag(s)));
-        }
-    if (!isfinite(re_max) || im_max > EST_FB_REAL_TOL * re_max + DBL_MIN)
-        return 2;
-    return 0;
-}
-
-static size_t fb_core_work(size_t r)
-{
-    return 6 * r * r + sqrt_branch_work(r);
-}
-
-/* cov: centred cross-products of [x; y] (2r x 2r). A_f = Syx Sxx^-1,
- * M = A_f A_b^-1 = A_f Syy Sxy^-1, A = M^(1/2) guided by A_f. Returns 0,
- * 1 (Sxx or Sxy singular) or 2 (no real square root). */
-static int fb_core(size_t r, const double *cov, size_t ld, double *a, double *work,
-                   int *ambiguous)
-{
-    double *pool = work;
-    double *sxx = take(&pool, r * r), *aft = take(&pool, r * r);
-    double *af = take(&pool, r * r), *pt = take(&pool, r * r);
-    double *syx = take(&pool, r * r), *mm = take(&pool, r * r);
-    for (size_t j = 0; j < r; j++)
-        for (size_t i = 0; i < r; i++) {
-            sxx[i + j * r] = cov[i + j * ld];
-            aft[i + j * r] = cov[i + (r + j) * ld];      /* Sxy */
-            syx[i + j * r] = cov[(r + i) + j * ld];      /* Syx */
-        }
-    if (gauss_solve(r, sxx, r, aft, r, r))               /* aft = Sxx^-1 Sxy = A_f' */
-        return 1;
-    for (size_t j = 0; j < r; j++)
-        for (size_t i = 0; i < r; i++)
-            af[i + j * r] = aft[j + i * r];
-    /* pt = Syy A_f'; M' = Syx^-1 pt. */
-    gemm(0, 0, r, r, r, cov + r + r * ld, ld, aft, r, pt, r);
-    if (gauss_solve(r, syx, r, pt, r, r))
-        return 1;
-    for (size_t j = 0; j < r; j++)
-        for (size_t i = 0; i < r; i++)
-            mm[i + j * r] = pt[j + i * r];
-    return sqrt_branch(r, mm, af, a, pool, ambiguous);
-}
-
-/* ------------------------------------------------------------------ */
-/* Total-least-squares DMD (Hemati, Rowley, Deem & Cattafesta 2017). */
-
-static size_t tls_core_work(size_t r)
-{
-    return 6 * r * r + 8 * r + 1;
-}
-
-/* cov: centred Gram of [x; y]. Its r leading eigenvectors [E1; E2] span
- * the total-least-squares fit of the pairs; A = E2 E1^-1. Returns 1 when
- * the r-th and (r+1)-th eigenvalues tie (no unique fit) or E1 is singular. */
-static int tls_core(size_t r, const double *cov, size_t ld, double *a, double *work)
-{
-    size_t n2 = 2 * r;
-    double *pool = work;
-    double *v = take(&pool, n2 * n2), *lam = take(&pool, n2), *lw = take(&pool, 3 * n2 + 1);
-    double *e1t = take(&pool, r * r), *e2t = take(&pool, r * r);
-    if (sym_eig(n2, cov, ld, v, lam, lw))
-        return 1;
-    if (!(lam[n2 - r] - lam[n2 - r - 1] > 1e-12 * fabs(lam[n2 - 1])))
-        return 1;
-    for (size_t c = 0; c < r; c++) {
-        const double *e = v + (n2 - r + c) * n2;
-        for (size_t i = 0; i < r; i++) {
-            e1t[c + i * r] = e[i];
-            e2t[c + i * r] = e[r + i];
-        }
-    }
-    if (gauss_solve(r, e1t, r, e2t, r, r))     /* e2t = E1'^-1 E2' = A' */
-        return 1;
-    for (size_t j = 0; j < r; j++)
-        for (size_t i = 0; i < r; i++)
-            a[i + j * r] = e2t[j + i * r];
-    return 0;
-}
-
-/* ------------------------------------------------------------------ */
-/* Instrumental variables (Soderstrom & Stoica 1983), extended form. */
-
-static size_t iv_core_work(size_t r, size_t nu)
-{
-    size_t e = 2 * r + nu, g = r + nu;
-    return 2 * e * e + sym_fun_work(e) + 2 * g * e + r * e + g * g + g * r;
-}
-
-/* cov: centred cross-products of v = [x; y; zeta (2r); u (nu)].
- * Regressor xi = [x; u], instruments eta = [zeta; u], W = Seta^+:
- * [A B] = Syeta W Sxieta' (Sxieta W Sxieta')^-1. Returns 1 when the
- * instruments do not determine the regressors. */
-static int iv_core(size_t r, size_t nu, const double *cov, size_t ld, double *a,
-                   double *b, double *work)
-{
-    size_t e = 2 * r + nu, g = r + nu;
-    double *pool = work;
-    double *see = take(&pool, e * e), *wm = take(&pool, e * e);
-    double *sw = take(&pool, sym_fun_work(e));
-    double *sxe = take(&pool, g * e), *sye = take(&pool, r * e);
-    double *t = take(&pool, g * e), *mx = take(&pool, g * g), *nyt = take(&pool, g * r);
-    for (size_t j = 0; j < e; j++) {
-        size_t cj = j < 2 * r ? 2 * r + j : 4 * r + (j - 2 * r);
-        for (size_t i = 0; i < e; i++) {
-            size_t ci = i < 2 * r ? 2 * r + i : 4 * r + (i - 2 * r);
-            see[i + j * e] = cov[ci + cj * ld];
-        }
-        for (size_t i = 0; i < g; i++) {
-            size_t ci = i < r ? i : 4 * r + (i - r);
-            sxe[i + j * g] = cov[ci + cj * ld];
-        }
-        for (size_t i = 0; i < r; i++)
-            sye[i + j * r] = cov[(r + i) + cj * ld];
-    }
-    if (sym_fun(e, see, e, -1.0, wm, e, sw) <= 0)
-        return 1;
-    gemm(0, 0, g, e, e, sxe, g, wm, e, t, g);          /* t = Sxe W */
-    gemm(0, 1, g, g, e, t, g, sxe, g, mx, g);          /* mx = Sxe W Sxe' */
-    gemm(0, 1, g, r, e, t, g, sye, r, nyt, g);         /* nyt = Sxe W Sye' */
-    if (gauss_solve(g, mx, g, nyt, g, r))              /* nyt = [A B]' */
-        return 1;
-    for (size_t i = 0; i < r; i++) {
-        for (size_t j = 0; j < r; j++)
-            a[i + j * r] = nyt[j + i * g];
-        for (size_t j = 0; j < nu; j++)
-            b[i + j * r] = nyt[r + j + i * g];
-    }
-    return 0;
-}
-
-/* ------------------------------------------------------------------ */
-/* Covariance-driven stochastic subspace identification (Van Overschee &
- * De Moor 1996; Peeters & De Roeck 1999), reduced step. */
-
-static size_t ssi_core_work(size_t r)
-{
-    return 34 * r * r + 32 * r + 16;
-}
-
-/* cov: centred cross-products of [x; y; zeta]. The block Hankel
- * H = [Sxz; Syz] (future [x; y] against past zeta) is weighted by
- * diag(Sxx^-1/2, Sxx^-1/2) on the left (the same weight on both future
- * blocks keeps the shift structure) and Szz^+1/2 on the right; its r
- * leading left singular vectors U_r give the observability matrix
- * O = diag(Sxx^1/2, Sxx^1/2) U_r = [O1; O2] and A = O2 O1^-1. Returns 1
- * when Sxx is singular, the Hankel has rank below r, or O1 is singular. */
-static int ssi_core(size_t r, const double *cov, size_t ld, double *a, double *work)
-{
-    size_t n2 = 2 * r;
-    double *pool = work;
-    double *wx = take(&pool, r * r), *wxi = take(&pool, r * r);
-    double *sw = take(&pool, sym_fun_work(n2));
-    double *wz = take(&pool, n2 * n2), *h = take(&pool, n2 * n2);
-    double *t1 = take(&pool, n2 * n2), *hw = take(&pool, n2 * n2);
-    double *u = take(&pool, n2 * n2), *s = take(&pool, n2);
-    double *svw = take(&pool, 10 * n2 + 8), *o1 = take(&pool, r * r);
-    double *o2 = take(&pool, r * r), *rw = take(&pool, 2 * r * r);
-    if (sym_fun(r, cov, ld, -0.5, wx, r, sw) < (int)r)
-        return 1;
-    if (sym_fun(r, cov, ld, 0.5, wxi, r, sw) < (int)r)
-        return 1;
-    if (sym_fun(n2, cov + 2 * r + 2 * r * ld, ld, -0.5, wz, n2, sw) < (int)r)
-        return 1;
-    for (size_t j = 0; j < n2; j++)
-        for (size_t i = 0; i < n2; i++)
-            h[i + j * n2] = cov[i + (2 * r + j) * ld];
-    gemm(0, 0, n2, n2, n2, h, n2, wz, n2, t1, n2);
-    gemm(0, 0, r, n2, r, wx, r, t1, n2, hw, n2);
-    gemm(0, 0, r, n2, r, wx, r, t1 + r, n2, hw + r, n2);
-    double dummy = 0.0;
-    lapack_int info = LAPACKE_dgesvd_work(LAPACK_COL_MAJOR, 'S', 'N', (lapack_int)n2,
-                                          (lapack_int)n2, hw, (lapack_int)n2, s, u,
-                                          (lapack_int)n2, &dummy, 1, svw,
-                                          (lapack_int)(10 * n2 + 8));
-    if (info != 0)
-        return 1;
-    if (!(s[r - 1] > 1e-12 * s[0]))
-        return 1;
-    gemm(0, 0, r, r, r, wxi, r, u, n2, o1, r);
-    gemm(0, 0, r, r, r, wxi, r, u + r, n2, o2, r);
-    return right_solve(r, r, o1, r, o2, r, a, r, rw);
-}
-
-/* ------------------------------------------------------------------ */
-/* Providers for the bootstrap engine (el_resample.h). fb, tls and ssi
+/* Providers for the bootstrap engine (el_boot_engine.h; the provider type is in el_estimator.h). fb, tls and ssi
  * take no inputs (dims->n_inputs is 0 for their models); iv appends the
  * input values of the sample of x to its window vector, as the point fit
  * does (point_window). */
 
-static size_t pair_span(const el_boot_dims *dims)
+size_t el_est_pair_span(const el_boot_dims *dims)
 {
     (void)dims;
     return 2;
 }
 
-static size_t win_span(const el_boot_dims *dims)
+size_t el_est_win_span(const el_boot_dims *dims)
 {
     return 2 * dims->lags + 4;
 }
 
-static size_t pair_nf(const el_boot_dims *dims)
+size_t el_est_pair_nf(const el_boot_dims *dims)
 {
-    return nf_of(2 * dims->r);
+    return el_est_nf_of(2 * dims->r);
 }
 
-static size_t win_nf(const el_boot_dims *dims)
+size_t el_est_win_nf(const el_boot_dims *dims)
 {
-    return nf_of(4 * dims->r + dims->n_inputs);
+    return el_est_nf_of(4 * dims->r + dims->n_inputs);
 }
 
-static void pair_features(const el_boot_dims *dims, const double *states, double *out)
+void el_est_pair_features(const el_boot_dims *dims, const double *states, double *out)
 {
     memcpy(out + 1, states, 2 * dims->r * sizeof(double));
-    gram_products(2 * dims->r, out);
+    el_est_gram_products(2 * dims->r, out);
 }
 
 static void window_gather_iv(const el_boot_dims *dims, const double *states, double *v);
 
-static void window_features(const el_boot_dims *dims, const double *states, double *out)
+void el_est_window_features(const el_boot_dims *dims, const double *states, double *out)
 {
     window_gather_iv(dims, states, out + 1);
-    gram_products(4 * dims->r + dims->n_inputs, out);
+    el_est_gram_products(4 * dims->r + dims->n_inputs, out);
 }
 
 /* Windows gathered per product in the providers' accumulate. */
 #define EST_ACC_RUN 64
 
 /* Doubles of scratch gram_accumulate needs for window vectors of dim. */
-static size_t gram_work(size_t dim)
+size_t el_est_gram_work(size_t dim)
 {
     return dim * dim + dim * EST_ACC_RUN;
 }
@@ -631,179 +353,54 @@ static void pair_gather(const el_boot_dims *dims, const double *states, double *
 static void window_gather_iv(const el_boot_dims *dims, const double *states, double *v)
 {
     size_t r = dims->r, nu = dims->n_inputs, sw = r + nu;
-    win_vector(r, sw, dims->lags, states, v);
+    el_est_win_vector(r, sw, dims->lags, states, v);
     memcpy(v + 4 * r, states + (2 * dims->lags + 2) * sw + r, nu * sizeof(double));
 }
 
-static void pair_accumulate(const el_boot_dims *dims, const double *states, size_t n,
+void el_est_pair_accumulate(const el_boot_dims *dims, const double *states, size_t n,
                             double *acc, double *work)
 {
     gram_accumulate(dims, 2 * dims->r, pair_gather, states, n, acc, work);
 }
 
-static void window_accumulate(const el_boot_dims *dims, const double *states, size_t n,
+void el_est_window_accumulate(const el_boot_dims *dims, const double *states, size_t n,
                               double *acc, double *work)
 {
     gram_accumulate(dims, 4 * dims->r + dims->n_inputs, window_gather_iv, states, n, acc,
                     work);
 }
 
-static size_t pair_work(size_t r)
+size_t el_est_pair_work(size_t r)
 {
     return 2 * r + 4 * r * r;
 }
 
-static size_t fb_work(const el_boot_dims *dims)
-{
-    size_t solve = pair_work(dims->r) + fb_core_work(dims->r), acc = gram_work(2 * dims->r);
-    return solve > acc ? solve : acc;
-}
-
-static size_t tls_work(const el_boot_dims *dims)
-{
-    size_t solve = pair_work(dims->r) + tls_core_work(dims->r), acc = gram_work(2 * dims->r);
-    return solve > acc ? solve : acc;
-}
-
-static size_t iv_work(const el_boot_dims *dims)
-{
-    size_t dim = 4 * dims->r + dims->n_inputs;
-    size_t solve = dim + dim * dim + iv_core_work(dims->r, dims->n_inputs);
-    return solve > gram_work(dim) ? solve : gram_work(dim);
-}
-
-static size_t ssi_work(const el_boot_dims *dims)
-{
-    size_t dim = 4 * dims->r;
-    size_t solve = dim + dim * dim + ssi_core_work(dims->r);
-    return solve > gram_work(dim) ? solve : gram_work(dim);
-}
-
 /* The engine's sums need at least a few more windows than unknowns per
  * row before a replicate means anything. */
-static int too_few(double n, size_t dim)
+int el_est_too_few(double n, size_t dim)
 {
     return !(n >= (double)(dim + 2));
 }
 
 /* The core of an estimator without inputs: cov holds the centred
  * cross-products (ld x ld) of its window vector; writes a (r x r). */
-typedef int (*plain_core)(size_t r, const double *cov, size_t ld, double *a, double *work);
-
-static int fb_core_plain(size_t r, const double *cov, size_t ld, double *a, double *work)
-{
-    return fb_core(r, cov, ld, a, work, NULL);
-}
+typedef int (*el_est_plain_core)(size_t r, const double *cov, size_t ld, double *a, double *work);
 
 /* Shared solve of fb, tls and ssi: unpack the summed features of a window
  * vector of dim_per_r * r numbers, run the core, add the intercept. */
-static int solve_plain(const el_boot_dims *dims, size_t dim_per_r, plain_core core,
+int el_est_solve_plain(const el_boot_dims *dims, size_t dim_per_r, el_est_plain_core core,
                        const double *sum, double *a, double *offset, double *work)
 {
     size_t r = dims->r, dim = dim_per_r * r;
     double *mean = work, *cov = work + dim;
-    if (too_few(sum[0], dim))
+    if (el_est_too_few(sum[0], dim))
         return 1;
-    unpack_cov(dim, sum, mean, cov);
+    el_est_unpack_cov(dim, sum, mean, cov);
     if (core(r, cov, dim, a, cov + dim * dim))
         return 1;
     if (offset != NULL)
-        offset_from(r, 0, mean, mean + r, NULL, a, NULL, offset);
+        el_est_offset_from(r, 0, mean, mean + r, NULL, a, NULL, offset);
     return 0;
-}
-
-static int fb_solve(const el_boot_dims *dims, const double *sum, double *a, double *b,
-                    double *offset, double *work)
-{
-    (void)b;
-    return solve_plain(dims, 2, fb_core_plain, sum, a, offset, work);
-}
-
-static int tls_solve(const el_boot_dims *dims, const double *sum, double *a, double *b,
-                     double *offset, double *work)
-{
-    (void)b;
-    return solve_plain(dims, 2, tls_core, sum, a, offset, work);
-}
-
-/* B is solved for with A whether or not the caller wants it. */
-static int iv_solve(const el_boot_dims *dims, const double *sum, double *a, double *b,
-                    double *offset, double *work)
-{
-    size_t r = dims->r, nu = dims->n_inputs, dim = 4 * r + nu;
-    double *mean = work, *cov = work + dim, *core = cov + dim * dim;
-    if (too_few(sum[0], dim))
-        return 1;
-    unpack_cov(dim, sum, mean, cov);
-    /* Without a caller's b, B goes where the covariance was: iv_core has
-     * copied what it needs from cov before it writes a and b. */
-    double *bb = b != NULL ? b : cov;
-    if (iv_core(r, nu, cov, dim, a, bb, core))
-        return 1;
-    if (offset != NULL)
-        offset_from(r, nu, mean, mean + r, mean + 4 * r, a, bb, offset);
-    return 0;
-}
-
-static int ssi_solve(const el_boot_dims *dims, const double *sum, double *a, double *b,
-                     double *offset, double *work)
-{
-    (void)b;
-    return solve_plain(dims, 4, ssi_core, sum, a, offset, work);
-}
-
-static const el_boot_provider fb_provider = {
-    "forward-backward", pair_span, pair_nf, fb_work, pair_features, pair_accumulate, fb_solve
-};
-
-static const el_boot_provider tls_provider = {
-    "total least squares", pair_span, pair_nf, tls_work, pair_features, pair_accumulate, tls_solve
-};
-
-static const el_boot_provider iv_provider = {
-    "instrumental variables", win_span, win_nf, iv_work, window_features, window_accumulate, iv_solve
-};
-
-static const el_boot_provider ssi_provider = {
-    "stochastic subspace", win_span, win_nf, ssi_work, window_features, window_accumulate, ssi_solve
-};
-
-const el_boot_provider *el_estimator_provider(el_method m)
-{
-    switch (m) {
-    case EL_METHOD_LS:
-        return el_boot_provider_ls();
-    case EL_METHOD_FB:
-        return &fb_provider;
-    case EL_METHOD_TLS:
-        return &tls_provider;
-    case EL_METHOD_IV:
-        return &iv_provider;
-    case EL_METHOD_SSI:
-        return &ssi_provider;
-    }
-    return NULL;
-}
-
-const el_boot_provider *el_estimator_provider_for(const el_model *model)
-{
-    if (model == NULL)
-        return NULL;
-    if (model->n_inputs > 0 && model->method != EL_METHOD_LS &&
-        model->method != EL_METHOD_IV)
-        return NULL;
-    return el_estimator_provider(model->method);
-}
-
-el_boot_dims el_estimator_boot_dims(const el_model *model)
-{
-    el_boot_dims dims = {0, 0, 0};
-    if (model != NULL) {
-        dims.r = model->rank;
-        dims.n_inputs = model->n_inputs;
-        dims.lags = model->lags;
-    }
-    return dims;
 }
 
 /* ------------------------------------------------------------------ */
@@ -818,7 +415,7 @@ static el_status build_states(const el_series *s, const el_model *mdl, int isotr
                               double *states, double *chol, double *iso, el_error *err)
 {
     size_t r = mdl->rank, m = mdl->n_pairs;
-    /* p[t] = U_r'(z[K+t] - zbar) and G = sum p p' (el_resample: the same
+    /* p[t] = U_r'(z[K+t] - zbar) and G = sum p p' (el_reduced: the same
      * projection the bootstrap's own states start from). */
     el_status st = el_boot_project_states(s, mdl, 1, states, chol, err);
     if (st != EL_OK)
@@ -872,9 +469,11 @@ static int model_fits_series(const el_series *s, const el_model *m)
            s->n_samples >= m->lags + 3 && s->n_samples - 1 - m->lags == m->n_pairs;
 }
 
-el_status el_estimator_boot_states(const el_series *series, const el_series *inputs,
-                                   const el_model *model, double **states,
-                                   size_t *n_states, el_error *err)
+/* el_estimator_boot_states with the whitening (isotropic = 0) or the
+ * scalar scale (isotropic = 1). */
+static el_status boot_states(const el_series *series, const el_series *inputs,
+                             const el_model *model, int isotropic, double **states,
+                             size_t *n_states, el_error *err)
 {
     if (states == NULL || n_states == NULL)
         return el_error_set(err, EL_ERR_INTERNAL, "el_estimator_boot_states: NULL output");
@@ -896,7 +495,7 @@ el_status el_estimator_boot_states(const el_series *series, const el_series *inp
     el_status st = EL_ERR_NOMEM;
     if (w != NULL && chol != NULL && out != NULL) {
         double iso = 1.0;
-        st = build_states(series, model, model->method == EL_METHOD_TLS, w, chol, &iso, err);
+        st = build_states(series, model, isotropic, w, chol, &iso, err);
     } else {
         el_error_set(err, EL_ERR_NOMEM, "out of memory (reduced states)");
     }
@@ -928,7 +527,7 @@ el_status el_estimator_boot_states(const el_series *series, const el_series *inp
 /* The plan of the fit. */
 
 struct el_est_plan {
-    el_method method;
+    const el_est_core *core;    /* the estimator's step 2 */
     size_t n_samples, n_channels, n_inputs, lags, depth, state_dim, n_pairs;
     size_t s1_rows, s1_q;       /* instrument step: rows k = K+depth..N-1, past dim */
     double *s1_data;            /* s1_rows x (d + q) */
@@ -944,10 +543,10 @@ struct el_est_plan {
     size_t dim_max;
 };
 
-static size_t s1_work_size(size_t d, size_t q, size_t rows)
+size_t el_est_s1_work_size(size_t d, size_t q, size_t rows)
 {
     size_t mx = d > q ? d : q, mn = d < q ? d : q;
-    return d * d + q * q + 3 * d * q + 2 * mn + 2 * d * mn + mn * q + sym_fun_work(mx) +
+    return d * d + q * q + 3 * d * q + 2 * mn + 2 * d * mn + mn * q + el_est_sym_fun_work(mx) +
            (5 * (d + q) + 8) + d + q + 2 * rows;
 }
 
@@ -970,25 +569,15 @@ void el_est_plan_destroy(el_est_plan *plan)
     free(plan);
 }
 
-static int is_instrument_method(el_method m)
-{
-    return m == EL_METHOD_IV || m == EL_METHOD_SSI;
-}
 
-static el_status check_est_options(const el_fit_options *opt, size_t n_samples,
+static el_status check_est_options(const el_est_core *core,
+                                   const el_fit_options *opt, size_t n_samples,
                                    size_t n_channels, size_t n_inputs, size_t *depth,
                                    el_error *err)
 {
-    el_method m = opt->method;
-    if (m != EL_METHOD_FB && m != EL_METHOD_TLS && m != EL_METHOD_IV &&
-        m != EL_METHOD_SSI) {
-        el_error_set(err, EL_ERR_INTERNAL, "el_est_plan_create: method %d has no "
-                     "estimator plan", (int)m);
-        return EL_ERR_INTERNAL;
-    }
-    if (n_inputs > 0 && m != EL_METHOD_IV) {
+    if (n_inputs > 0 && !core->takes_inputs) {
         el_error_set(err, EL_ERR_USAGE,
-                     "--method %s does not take measured inputs", el_method_name(m));
+                     "--method %s does not take measured inputs", core->name);
         el_error_option(err, "--input");
         el_error_hint(err, "use --method ls (DMD with control) or --method iv with "
                            "--input, or leave --input out");
@@ -999,7 +588,7 @@ static el_status check_est_options(const el_fit_options *opt, size_t n_samples,
     *depth = 0;
     /* fb and tls use the instrument step only to choose --rank auto, and
      * fall back to the hard threshold when the record is too short for it. */
-    int optional = !is_instrument_method(m);
+    int optional = !core->instrument;
     if (optional && opt->rank != EL_RANK_AUTO)
         return EL_OK;
     size_t dep = opt->depth > 0 ? opt->depth : lags + 1;
@@ -1022,7 +611,7 @@ static el_status check_est_options(const el_fit_options *opt, size_t n_samples,
                      "%s needs past measurements %zu samples deep: %zu instrument "
                      "rows for %zu state and %zu past coordinates, and %zu "
                      "instrument windows for a state of dimension %zu, are too few",
-                     el_method_name(m), lags + dep, rows, d, q, windows, d);
+                     core->name, lags + dep, rows, d, q, windows, d);
         if (opt->depth > 0)
             el_error_option(err, "--depth");
         el_error_hint(err, "use a longer window (--from/--to), fewer lags, a smaller "
@@ -1033,21 +622,22 @@ static el_status check_est_options(const el_fit_options *opt, size_t n_samples,
     return EL_OK;
 }
 
-el_status el_est_plan_create(const el_fit_options *opt, size_t n_samples,
+el_status el_est_plan_create(const el_est_core *core,
+                             const el_fit_options *opt, size_t n_samples,
                              size_t n_channels, size_t n_inputs, el_est_plan **out,
                              el_error *err)
 {
-    if (out == NULL || opt == NULL || n_channels == 0 || n_samples < opt->lags + 3)
+    if (out == NULL || core == NULL || opt == NULL || n_channels == 0 || n_samples < opt->lags + 3)
         return el_error_set(err, EL_ERR_INTERNAL, "el_est_plan_create: bad arguments");
     *out = NULL;
     size_t depth = 0;
-    el_status st = check_est_options(opt, n_samples, n_channels, n_inputs, &depth, err);
+    el_status st = check_est_options(core, opt, n_samples, n_channels, n_inputs, &depth, err);
     if (st != EL_OK)
         return st;
     el_est_plan *p = calloc(1, sizeof *p);
     if (p == NULL)
         return el_error_set(err, EL_ERR_NOMEM, "out of memory");
-    p->method = opt->method;
+    p->core = core;
     p->n_samples = n_samples;
     p->n_channels = n_channels;
     p->n_inputs = n_inputs;
@@ -1063,32 +653,18 @@ el_status el_est_plan_create(const el_fit_options *opt, size_t n_samples,
         size_t cols = d + p->s1_q;
         p->s1_data = malloc(p->s1_rows * cols * sizeof(double));
         p->s1_gram = malloc(cols * cols * sizeof(double));
-        p->s1_work = malloc(s1_work_size(d, p->s1_q, p->s1_rows) * sizeof(double));
+        p->s1_work = malloc(el_est_s1_work_size(d, p->s1_q, p->s1_rows) * sizeof(double));
         ok = p->s1_data && p->s1_gram && p->s1_work;
     }
-    p->dim_max = is_instrument_method(opt->method) ? 4 * d + n_inputs : 2 * d;
-    size_t core = 0;
-    switch (opt->method) {
-    case EL_METHOD_FB:
-        core = fb_core_work(d);
-        break;
-    case EL_METHOD_TLS:
-        core = tls_core_work(d);
-        break;
-    case EL_METHOD_IV:
-        core = iv_core_work(d, n_inputs);
-        break;
-    default:
-        core = ssi_core_work(d);
-        break;
-    }
+    p->dim_max = core->instrument ? 4 * d + n_inputs : 2 * d;
+    size_t work = core->core_work(d, n_inputs);
     size_t dm = p->dim_max, nu = n_inputs;
     p->states = malloc((m + 1) * d * sizeof(double));
     p->chol = malloc(d * d * sizeof(double));
     p->vbuf = malloc(EST_CHUNK * dm * sizeof(double));
     p->mean = malloc(dm * sizeof(double));
     p->cov = malloc(dm * dm * sizeof(double));
-    p->core_work = malloc(core * sizeof(double));
+    p->core_work = malloc(work * sizeof(double));
     p->aw = malloc(d * d * sizeof(double));
     p->bw = malloc((d * nu + 1) * sizeof(double));
     p->row = malloc(dm * sizeof(double));
@@ -1097,7 +673,7 @@ el_status el_est_plan_create(const el_fit_options *opt, size_t n_samples,
         el_est_plan_destroy(p);
         return el_error_set(err, EL_ERR_NOMEM,
                             "out of memory for the %s estimator (%zu states)",
-                            el_method_name(opt->method), d);
+                            core->name, d);
     }
     *out = p;
     return EL_OK;
@@ -1178,13 +754,6 @@ static void autocorr(const double *x, size_t n, size_t lags, double *ac)
     }
 }
 
-typedef struct {
-    size_t rank;               /* chosen */
-    size_t test_rank;          /* by Bartlett's test (0 when not run) */
-    size_t numeric_rank;       /* canonical correlations above EST_RHO_NUMERICAL */
-    int lowered;               /* a given rank was above the numerical rank */
-    double inflation;          /* variance inflation of the test (1 without lags) */
-} s1_result;
 
 /* From the Gram of [z, pi] ((d + q)^2, centred, both triangles set):
  * canonical correlations into rho (min(d, q)), rank and basis (d x rank,
@@ -1200,28 +769,28 @@ typedef struct {
  * (the directions most likely to be noise), bounded by 1 and by K + 1
  * (the largest f a moving average of white noise of order K can have, by
  * Cauchy-Schwarz on its spectrum), and the test uses m / f rows.
- * work: s1_work_size(d, q, rows). Returns 0, or 1 when LAPACK fails. */
-static int s1_from_gram(size_t d, size_t q, const double *gram, const double *data,
-                        size_t rows, size_t lags, long rank_opt, double *rho,
-                        double *basis, s1_result *res, double *work)
+ * work: el_est_s1_work_size(d, q, rows). Returns 0, or 1 when LAPACK fails. */
+int el_est_s1_from_gram(size_t d, size_t q, const double *gram, const double *data,
+                         size_t rows, size_t lags, long rank_opt, double *rho,
+                        double *basis, el_est_s1_result *res, double *work)
 {
     size_t ld = d + q, mn = d < q ? d : q, mx = d > q ? d : q;
     double *pool = work;
-    double *wz = take(&pool, d * d), *wp = take(&pool, q * q);
-    double *t = take(&pool, d * q), *kc = take(&pool, d * q);
-    double *sv = take(&pool, mn), *u = take(&pool, d * mn);
-    double *ucan = take(&pool, d * mn), *vtcan = take(&pool, mn * q);
-    double *fval = take(&pool, mn);
-    double *cp = take(&pool, d * q), *sw = take(&pool, sym_fun_work(mx));
-    double *svw = take(&pool, 5 * (d + q) + 8);
-    double *av = take(&pool, d), *bv = take(&pool, q);
-    double *us = take(&pool, rows), *vs = take(&pool, rows);
-    int rz = sym_fun(d, gram, ld, -0.5, wz, d, sw);
-    int rp = sym_fun(q, gram + d + d * ld, ld, -0.5, wp, q, sw);
+    double *wz = el_est_take(&pool, d * d), *wp = el_est_take(&pool, q * q);
+    double *t = el_est_take(&pool, d * q), *kc = el_est_take(&pool, d * q);
+    double *sv = el_est_take(&pool, mn), *u = el_est_take(&pool, d * mn);
+    double *ucan = el_est_take(&pool, d * mn), *vtcan = el_est_take(&pool, mn * q);
+    double *fval = el_est_take(&pool, mn);
+    double *cp = el_est_take(&pool, d * q), *sw = el_est_take(&pool, el_est_sym_fun_work(mx));
+    double *svw = el_est_take(&pool, 5 * (d + q) + 8);
+    double *av = el_est_take(&pool, d), *bv = el_est_take(&pool, q);
+    double *us = el_est_take(&pool, rows), *vs = el_est_take(&pool, rows);
+    int rz = el_est_sym_fun(d, gram, ld, -0.5, wz, d, sw);
+    int rp = el_est_sym_fun(q, gram + d + d * ld, ld, -0.5, wp, q, sw);
     if (rz < 0 || rp < 0)
         return 1;
-    gemm(0, 0, d, q, q, gram + d * ld, ld, wp, q, t, d);   /* t = Szp Wp */
-    gemm(0, 0, d, q, d, wz, d, t, d, kc, d);               /* kc = Wz Szp Wp */
+    el_est_gemm(0, 0, d, q, q, gram + d * ld, ld, wp, q, t, d);   /* t = Szp Wp */
+    el_est_gemm(0, 0, d, q, d, wz, d, t, d, kc, d);               /* kc = Wz Szp Wp */
     lapack_int info = LAPACKE_dgesvd_work(LAPACK_COL_MAJOR, 'S', 'S', (lapack_int)d,
                                           (lapack_int)q, kc, (lapack_int)d, rho, ucan,
                                           (lapack_int)d, vtcan, (lapack_int)mn, svw,
@@ -1243,12 +812,12 @@ static int s1_from_gram(size_t d, size_t q, const double *gram, const double *da
         double acu[EL_EST_PROVIDER_MAX_LAGS + 2], acv[EL_EST_PROVIDER_MAX_LAGS + 2];
         size_t hmax = lags <= EL_EST_PROVIDER_MAX_LAGS ? lags : EL_EST_PROVIDER_MAX_LAGS;
         for (size_t j = num / 2; j < num; j++) {
-            gemm(0, 0, d, 1, d, wz, d, ucan + j * d, d, av, d);
+            el_est_gemm(0, 0, d, 1, d, wz, d, ucan + j * d, d, av, d);
             for (size_t i = 0; i < q; i++)
                 bv[i] = vtcan[j + i * mn];
-            gemm(0, 0, q, 1, q, wp, q, bv, q, cp, q);
-            gemm(0, 0, rows, 1, d, data, rows, av, d, us, rows);
-            gemm(0, 0, rows, 1, q, data + d * rows, rows, cp, q, vs, rows);
+            el_est_gemm(0, 0, q, 1, q, wp, q, bv, q, cp, q);
+            el_est_gemm(0, 0, rows, 1, d, data, rows, av, d, us, rows);
+            el_est_gemm(0, 0, rows, 1, q, data + d * rows, rows, cp, q, vs, rows);
             autocorr(us, rows, hmax, acu);
             autocorr(vs, rows, hmax, acv);
             double f = 1.0;
@@ -1291,7 +860,7 @@ static int s1_from_gram(size_t d, size_t q, const double *gram, const double *da
 /* Step 1 proper: the rows, their Gram, the canonical correlations, the
  * rank (and the basis into model->basis). */
 static el_status stage1_run(el_est_plan *plan, const el_series *series, long rank_opt,
-                            el_model *model, s1_result *res, el_error *err)
+                            el_model *model, el_est_s1_result *res, el_error *err)
 {
     size_t nn = plan->n_samples, nc = plan->n_channels, lags = plan->lags;
     size_t d = plan->state_dim, q = plan->s1_q, rows = plan->s1_rows, dep = plan->depth;
@@ -1318,7 +887,7 @@ static el_status stage1_run(el_est_plan *plan, const el_series *series, long ran
     for (size_t j = 0; j < cols; j++)
         for (size_t i = 0; i < j; i++)
             plan->s1_gram[i + j * cols] = plan->s1_gram[j + i * cols];
-    if (s1_from_gram(d, q, plan->s1_gram, plan->s1_data, rows, lags, rank_opt,
+    if (el_est_s1_from_gram(d, q, plan->s1_gram, plan->s1_data, rows, lags, rank_opt,
                      model->canonical_corr, model->basis, res, plan->s1_work)) {
         el_error_set(err, EL_ERR_NUMERIC,
                      "the canonical correlations of the state with the past did not "
@@ -1333,7 +902,7 @@ static el_status stage1_run(el_est_plan *plan, const el_series *series, long ran
                      "%s: the past measurements (%zu samples back and more) do not "
                      "predict the state: largest canonical correlation %.3g, not "
                      "significant at 0.1%%",
-                     el_method_name(plan->method), lags + 1,
+                     plan->core->name, lags + 1,
                      model->n_canonical > 0 ? model->canonical_corr[0] : 0.0);
         el_error_hint(err, "the log may hold only noise at this sampling; use "
                            "--method ls, fewer lags, or a longer window");
@@ -1347,10 +916,10 @@ el_status el_est_instrument_basis(el_est_plan *plan, const el_series *series,
                                   el_warnings *warnings, el_error *err)
 {
     if (plan == NULL || series == NULL || model == NULL ||
-        !is_instrument_method(plan->method) || plan->depth == 0)
+        !plan->core->instrument || plan->depth == 0)
         return el_error_set(err, EL_ERR_INTERNAL, "el_est_instrument_basis: bad arguments");
     size_t d = plan->state_dim;
-    s1_result res;
+    el_est_s1_result res;
     el_status st = stage1_run(plan, series, rank_opt, model, &res, err);
     if (st != EL_OK)
         return st;
@@ -1362,7 +931,7 @@ el_status el_est_instrument_basis(el_est_plan *plan, const el_series *series,
                              "directions (canonical correlations %.3g down to %.3g; "
                              "tested at 0.1%% on %.0f effective rows): rank %zu, the "
                              "other directions are treated as noise",
-                             el_method_name(plan->method), res.rank, d,
+                             plan->core->name, res.rank, d,
                              model->canonical_corr[0],
                              model->canonical_corr[res.rank - 1],
                              (double)plan->s1_rows / res.inflation, res.rank);
@@ -1370,14 +939,14 @@ el_status el_est_instrument_basis(el_est_plan *plan, const el_series *series,
         st = el_warnings_add(warnings,
                              "%s: only %zu canonical correlations of the state with the "
                              "past are above rounding: rank lowered from %ld to %zu",
-                             el_method_name(plan->method), res.numeric_rank, rank_opt,
+                             plan->core->name, res.numeric_rank, rank_opt,
                              res.rank);
     else if (rank_opt > 0 && res.rank > res.test_rank)
         st = el_warnings_add(warnings,
                              "%s: rank %zu asked, but only %zu directions are predicted "
                              "by the past measurements significantly (tested at 0.1%%): "
                              "the others are poorly determined",
-                             el_method_name(plan->method), res.rank, res.test_rank);
+                             plan->core->name, res.rank, res.test_rank);
     if (st != EL_OK)
         return el_error_set(err, st, "out of memory for a warning");
     return EL_OK;
@@ -1391,7 +960,7 @@ el_status el_est_predictable_rank(el_est_plan *plan, const el_series *series,
     *rank = 0;
     if (plan->depth == 0)
         return EL_OK;
-    s1_result res;
+    el_est_s1_result res;
     el_status st = stage1_run(plan, series, EL_RANK_AUTO, model, &res, err);
     if (st == EL_OK)
         *rank = res.rank;
@@ -1407,8 +976,8 @@ static void point_window(const el_est_plan *p, size_t r, const double *states,
                          double *v)
 {
     size_t nu = p->n_inputs, sample;
-    if (is_instrument_method(p->method)) {
-        win_vector(r, r, p->lags, states + u * r, v);
+    if (p->core->instrument) {
+        el_est_win_vector(r, r, p->lags, states + u * r, v);
         sample = p->lags + u + 2 * p->lags + 2;
         for (size_t j = 0; j < nu; j++)
             v[4 * r + j] = (inputs->values[j * p->n_samples + sample] -
@@ -1451,50 +1020,6 @@ static void window_moments(el_est_plan *p, size_t r, size_t dim, size_t n_win,
             p->cov[i + j * dim] = p->cov[j + i * dim];
 }
 
-static el_status core_failure(el_method m, int code, el_error *err)
-{
-    switch (m) {
-    case EL_METHOD_FB:
-        if (code == 1) {
-            el_error_set(err, EL_ERR_NUMERIC,
-                         "fb: the backward model is singular (Sxy or Sxx has no "
-                         "inverse): a state direction does not carry over from one "
-                         "sample to the next");
-            el_error_hint(err, "lower --rank (or --rank auto), or use --method ls");
-        } else {
-            el_error_set(err, EL_ERR_NUMERIC,
-                         "fb: the forward-backward product A_f A_b^-1 has no real "
-                         "square root consistent with the forward estimate (a repeated "
-                         "eigenvalue, such as a mode at a quarter of the sampling rate, "
-                         "takes two branches)");
-            el_error_hint(err, "use --method tls, or sample at another rate");
-        }
-        break;
-    case EL_METHOD_TLS:
-        el_error_set(err, EL_ERR_NUMERIC,
-                     "tls: the total-least-squares problem has no unique solution "
-                     "(the leading eigenvectors of the stacked snapshots do not "
-                     "determine the model)");
-        el_error_hint(err, "lower --rank (or --rank auto), or use --method fb or ls");
-        break;
-    case EL_METHOD_IV:
-        el_error_set(err, EL_ERR_NUMERIC,
-                     "iv: the instruments do not determine the model (their "
-                     "correlation with the state is singular)");
-        el_error_hint(err, "lower --rank, or leave --rank out for the rank the "
-                           "instruments support");
-        break;
-    default:
-        el_error_set(err, EL_ERR_NUMERIC,
-                     "ssi: the block Hankel of the reduced correlations has rank "
-                     "below the model order, or its observability matrix is singular");
-        el_error_hint(err, "lower --rank, or leave --rank out for the rank the "
-                           "past measurements support");
-        break;
-    }
-    return EL_ERR_NUMERIC;
-}
-
 el_status el_est_reduced_fit(el_est_plan *plan, const el_series *series,
                              const el_series *inputs, el_model *model,
                              double *b_reduced, el_warnings *warnings, el_error *err)
@@ -1505,14 +1030,14 @@ el_status el_est_reduced_fit(el_est_plan *plan, const el_series *series,
                                 inputs->n_channels != plan->n_inputs)))
         return el_error_set(err, EL_ERR_INTERNAL, "el_est_reduced_fit: bad arguments");
     size_t r = model->rank, m = plan->n_pairs, nu = plan->n_inputs, lags = plan->lags;
-    int iso_method = plan->method == EL_METHOD_TLS;
+    int iso_method = plan->core->isotropic;
     double iso = 1.0;
     el_status st = build_states(series, model, iso_method, plan->states, plan->chol, &iso,
                                 err);
     if (st != EL_OK)
         return st;
     size_t dim, n_win;
-    if (is_instrument_method(plan->method)) {
+    if (plan->core->instrument) {
         dim = 4 * r + nu;
         n_win = m + 1 - (2 * lags + 4) + 1;
     } else {
@@ -1520,23 +1045,11 @@ el_status el_est_reduced_fit(el_est_plan *plan, const el_series *series,
         n_win = m;
     }
     window_moments(plan, r, dim, n_win, inputs, model);
-    int code = 0, ambiguous = 0;
-    switch (plan->method) {
-    case EL_METHOD_FB:
-        code = fb_core(r, plan->cov, dim, plan->aw, plan->core_work, &ambiguous);
-        break;
-    case EL_METHOD_TLS:
-        code = tls_core(r, plan->cov, dim, plan->aw, plan->core_work);
-        break;
-    case EL_METHOD_IV:
-        code = iv_core(r, nu, plan->cov, dim, plan->aw, plan->bw, plan->core_work);
-        break;
-    default:
-        code = ssi_core(r, plan->cov, dim, plan->aw, plan->core_work);
-        break;
-    }
+    int ambiguous = 0;
+    int code = plan->core->core(r, nu, plan->cov, dim, plan->aw, plan->bw,
+                                plan->core_work, &ambiguous);
     if (code != 0)
-        return core_failure(plan->method, code, err);
+        return plan->core->failure(code, err);
     /* Back to basis coordinates: p = L w / sqrt(m) (or w / s), so
      * A_p = L A_w L^-1 and B_p = L B_w / sqrt(m). */
     double *a = model->a_reduced;
@@ -1570,291 +1083,16 @@ el_status el_est_reduced_fit(el_est_plan *plan, const el_series *series,
     }
     return EL_OK;
 }
-
-/* ------------------------------------------------------------------ */
-/* --lags auto. */
-
-static el_status scale_columns(const el_series *s, double *mean, double *scale,
-                               el_error *err)
+el_status el_est_boot_states(const el_series *series, const el_series *inputs,
+                             const el_model *model, double **states, size_t *n_states,
+                             el_error *err)
 {
-    size_t n = s->n_samples;
-    for (size_t c = 0; c < s->n_channels; c++) {
-        const double *x = s->values + c * n;
-        double acc = 0.0;
-        for (size_t k = 0; k < n; k++)
-            acc += x[k];
-        double mu = acc / (double)n, ss = 0.0;
-        for (size_t k = 0; k < n; k++)
-            ss += (x[k] - mu) * (x[k] - mu);
-        double sd = sqrt(ss / (double)n);
-        if (!isfinite(mu) || !isfinite(sd) || sd == 0.0 || sd <= 1e-12 * fabs(mu)) {
-            const char *name = s->names != NULL && s->names[c] != NULL ? s->names[c] : "?";
-            el_error_set(err, EL_ERR_DATA,
-                         "channel '%s' is constant or not finite over the window: it "
-                         "has no dynamics", name);
-            el_error_hint(err, "leave it out with --channels");
-            return EL_ERR_DATA;
-        }
-        mean[c] = mu;
-        scale[c] = sd;
-    }
-    return EL_OK;
+    return boot_states(series, inputs, model, 0, states, n_states, err);
 }
 
-/* ln det of the symmetric positive definite nc x nc matrix (lower read) by
- * Cholesky; -INFINITY when it is not positive definite (an exact fit). */
-static double log_det_spd(size_t n, double *a)
+el_status el_est_boot_states_isotropic(const el_series *series, const el_series *inputs,
+                                       const el_model *model, double **states,
+                                       size_t *n_states, el_error *err)
 {
-    double ld = 0.0;
-    for (size_t j = 0; j < n; j++) {
-        double s = a[j + j * n];
-        for (size_t k = 0; k < j; k++)
-            s -= a[j + k * n] * a[j + k * n];
-        if (!(s > 0.0))
-            return -INFINITY;
-        double l = sqrt(s);
-        a[j + j * n] = l;
-        ld += 2.0 * log(l);
-        for (size_t i = j + 1; i < n; i++) {
-            double t = a[i + j * n];
-            for (size_t k = 0; k < j; k++)
-                t -= a[i + k * n] * a[j + k * n];
-            a[i + j * n] = t / l;
-        }
-    }
-    return ld;
-}
-
-el_status el_lags_auto(const el_series *series, const el_series *inputs,
-                       size_t max_lags, el_lags_choice *choice, el_error *err)
-{
-    if (series == NULL || choice == NULL || series->values == NULL ||
-        series->n_channels == 0 ||
-        (inputs != NULL && (inputs->values == NULL ||
-                            inputs->n_samples != series->n_samples)))
-        return el_error_set(err, EL_ERR_INTERNAL, "el_lags_auto: bad arguments");
-    memset(choice, 0, sizeof *choice);
-    size_t n = series->n_samples, nc = series->n_channels;
-    size_t nu = inputs != NULL ? inputs->n_channels : 0;
-    size_t kmax = max_lags > 0 ? max_lags : EL_LAGS_AUTO_MAX;
-    /* Ten pairs per coefficient of a row (common practice) for the largest K. */
-    while (1) {
-        size_t coeff = nc * (kmax + 1) + nu + 1;
-        if (n > kmax + 1 && n - kmax - 1 >= 10 * coeff)
-            break;
-        if (kmax == 0) {
-            el_error_set(err, EL_ERR_DATA,
-                         "%zu samples are too few to choose a delay depth (ten pairs "
-                         "per coefficient are wanted even without lags)", n);
-            el_error_hint(err, "use a longer window, or give --lags");
-            return EL_ERR_DATA;
-        }
-        kmax--;
-    }
-    size_t m = n - kmax - 1, dmax = nc * (kmax + 1), cols = nu + dmax + nc;
-    double *mean = malloc((nc + nu + 1) * sizeof(double));
-    double *scale = malloc((nc + nu + 1) * sizeof(double));
-    double *a = malloc(m * cols * sizeof(double));
-    double *tau = malloc(cols * sizeof(double));
-    double *s = malloc(nc * nc * sizeof(double));
-    double *tot = malloc(nc * sizeof(double));
-    el_status st = EL_OK;
-    if (!mean || !scale || !a || !tau || !s || !tot) {
-        st = el_error_set(err, EL_ERR_NOMEM, "out of memory (--lags auto)");
-        goto done;
-    }
-    if ((st = scale_columns(series, mean, scale, err)) != EL_OK)
-        goto done;
-    if (inputs != NULL && (st = scale_columns(inputs, mean + nc, scale + nc, err)) != EL_OK)
-        goto done;
-    /* Columns: inputs at k, x[k-j] for j = 0..K_max, then Y = x[k+1];
-     * rows k = K_max .. N-2; every column centred (the intercept). */
-    for (size_t col = 0; col < cols; col++) {
-        const double *src;
-        double mu, inv;
-        long shift;
-        if (col < nu) {
-            src = inputs->values + col * n;
-            mu = mean[nc + col];
-            inv = 1.0 / scale[nc + col];
-            shift = 0;
-        } else if (col < nu + dmax) {
-            size_t c = (col - nu) % nc, j = (col - nu) / nc;
-            src = series->values + c * n;
-            mu = mean[c];
-            inv = 1.0 / scale[c];
-            shift = -(long)j;
-        } else {
-            size_t c = col - nu - dmax;
-            src = series->values + c * n;
-            mu = mean[c];
-            inv = 1.0 / scale[c];
-            shift = 1;
-        }
-        double *dst = a + col * m, acc = 0.0;
-        for (size_t i = 0; i < m; i++) {
-            dst[i] = (src[(size_t)((long)(kmax + i) + shift)] - mu) * inv;
-            acc += dst[i];
-        }
-        acc /= (double)m;
-        for (size_t i = 0; i < m; i++)
-            dst[i] -= acc;
-    }
-    size_t yc = nu + dmax;
-    for (size_t c = 0; c < nc; c++) {
-        double acc = 0.0;
-        for (size_t i = 0; i < m; i++)
-            acc += a[i + (yc + c) * m] * a[i + (yc + c) * m];
-        tot[c] = acc;
-    }
-    lapack_int info = LAPACKE_dgeqrf(LAPACK_COL_MAJOR, (lapack_int)m, (lapack_int)cols, a,
-                                     (lapack_int)m, tau);
-    if (info != 0) {
-        st = el_error_set(err, EL_ERR_NUMERIC, "--lags auto: QR factorisation failed");
-        goto done;
-    }
-    /* Regressing Y on the first j columns leaves the residual cross-product
-     * R(j:cols, Y)' R(j:cols, Y) (R upper triangular, Q orthogonal). */
-    size_t best = 0;
-    double best_bic = INFINITY;
-    int exact = 0;
-    for (size_t k = 0; k <= kmax && !exact; k++) {
-        size_t j0 = nu + nc * (k + 1);
-        for (size_t b = 0; b < nc; b++)
-            for (size_t c2 = b; c2 < nc; c2++) {
-                double acc = 0.0;
-                for (size_t i = j0; i < cols && i <= yc + c2; i++)
-                    acc += a[i + (yc + c2) * m] * (i <= yc + b ? a[i + (yc + b) * m] : 0.0);
-                s[c2 + b * nc] = acc;
-            }
-        int all_tiny = 1;
-        for (size_t c = 0; c < nc; c++)
-            if (!(s[c + c * nc] <= 1e-20 * tot[c]))
-                all_tiny = 0;
-        if (all_tiny) {
-            best = k;
-            exact = 1;
-            break;
-        }
-        for (size_t i = 0; i < nc * nc; i++)
-            s[i] /= (double)m;
-        double ld = log_det_spd(nc, s);
-        double p = (double)nc * (double)(nc * (k + 1) + nu + 1);
-        double bic = (double)m * ld + p * log((double)m);
-        if (bic < best_bic) {
-            best_bic = bic;
-            best = k;
-        }
-    }
-    choice->lags = best;
-    choice->max_lags = kmax;
-    choice->n_pairs = m;
-    choice->exact = exact;
-    choice->bic = exact ? NAN : best_bic;
-    if (exact)
-        snprintf(choice->reason, sizeof choice->reason,
-                 "lags %zu: the smallest delay depth whose least-squares delay model "
-                 "fits the %zu pairs to rounding (noise-free data)", best, m);
-    else
-        snprintf(choice->reason, sizeof choice->reason,
-                 "lags %zu: smallest Bayesian information criterion (Schwarz 1978) of "
-                 "the one-step least-squares residuals over 0..%zu lags (the same %zu "
-                 "pairs for each)", best, kmax, m);
-done:
-    free(mean);
-    free(scale);
-    free(a);
-    free(tau);
-    free(s);
-    free(tot);
-    return st;
-}
-
-/* ------------------------------------------------------------------ */
-/* ssi on an exact covariance sequence. */
-
-/* E[x[k-h1] x[k-h2]'] = R_{h2-h1} (transposed when h2 < h1), written at
- * out (nc x nc block, leading dimension ld). */
-static void cov_block(size_t nc, const double *cov, long h1, long h2, double *out,
-                      size_t ld)
-{
-    long lag = h2 - h1;
-    const double *rj = cov + (size_t)(lag >= 0 ? lag : -lag) * nc * nc;
-    for (size_t j = 0; j < nc; j++)
-        for (size_t i = 0; i < nc; i++)
-            out[i + j * ld] = lag >= 0 ? rj[i + j * nc] : rj[j + i * nc];
-}
-
-el_status el_ssi_covariance(size_t n_channels, size_t n_cov, const double *cov,
-                            size_t lags, size_t depth, size_t order, double *mu_re,
-                            double *mu_im, el_error *err)
-{
-    size_t nc = n_channels, d = nc * (lags + 1), q = nc * depth;
-    if (cov == NULL || mu_re == NULL || mu_im == NULL || nc == 0 || depth == 0 ||
-        order == 0 || order > d || order > q || n_cov < 3 * lags + 4 ||
-        n_cov < lags + depth + 1)
-        return el_error_set(err, EL_ERR_INTERNAL, "el_ssi_covariance: bad sizes");
-    size_t cols = d + q, dim = 4 * order;
-    double *gram = malloc(cols * cols * sizeof(double));
-    double *rho = malloc((d < q ? d : q) * sizeof(double));
-    double *basis = malloc(d * order * sizeof(double));
-    double *s1w = malloc(s1_work_size(d, q, 0) * sizeof(double));
-    double *zz = malloc(4 * d * 4 * d * sizeof(double));
-    double *vv = malloc(dim * dim * sizeof(double));
-    double *tmp = malloc(4 * d * dim * sizeof(double));
-    double *a = malloc(order * order * sizeof(double));
-    double *cw = malloc(ssi_core_work(order) * sizeof(double));
-    el_status st = EL_OK;
-    if (!gram || !rho || !basis || !s1w || !zz || !vv || !tmp || !a || !cw) {
-        st = el_error_set(err, EL_ERR_NOMEM, "out of memory (ssi covariance)");
-        goto done;
-    }
-    /* The Gram of x[k], ..., x[k-K-depth]: block Toeplitz of R. */
-    for (size_t bj = 0; bj < lags + 1 + depth; bj++)
-        for (size_t bi = 0; bi < lags + 1 + depth; bi++)
-            cov_block(nc, cov, (long)bi, (long)bj, gram + bi * nc + bj * nc * cols, cols);
-    s1_result res;
-    if (s1_from_gram(d, q, gram, NULL, 0, lags, (long)order, rho, basis, &res, s1w) ||
-        res.rank != order) {
-        st = el_error_set(err, EL_ERR_NUMERIC,
-                          "ssi: the state-past covariance has rank %zu, below the "
-                          "order %zu", res.rank, order);
-        goto done;
-    }
-    /* Window [z[k]; z[k+1]; z[k-K-1]; z[k-2K-2]]: z[k - o] for
-     * o = 0, -1, K+1, 2K+2, each K+1 blocks of x at lags o .. o+K. */
-    long offs[4] = {0, -1, (long)lags + 1, 2 * (long)lags + 2};
-    size_t d4 = 4 * d;
-    for (size_t wj = 0; wj < 4; wj++)
-        for (size_t bj = 0; bj <= lags; bj++)
-            for (size_t wi = 0; wi < 4; wi++)
-                for (size_t bi = 0; bi <= lags; bi++)
-                    cov_block(nc, cov, offs[wi] + (long)bi, offs[wj] + (long)bj,
-                              zz + (wi * d + bi * nc) + (wj * d + bj * nc) * d4, d4);
-    /* vv = (I4 kron B)' zz (I4 kron B). */
-    for (size_t wj = 0; wj < 4; wj++)
-        for (size_t wi = 0; wi < 4; wi++) {
-            gemm(0, 0, d, order, d, zz + wi * d + wj * d * d4, d4, basis, d, tmp, d);
-            gemm(1, 0, order, order, d, basis, d, tmp, d,
-                 vv + wi * order + wj * order * dim, dim);
-        }
-    if (ssi_core(order, vv, dim, a, cw)) {
-        st = el_error_set(err, EL_ERR_NUMERIC, "ssi: the reduced realisation is singular");
-        goto done;
-    }
-    lapack_int info = LAPACKE_dgeev(LAPACK_COL_MAJOR, 'N', 'N', (lapack_int)order, a,
-                                    (lapack_int)order, mu_re, mu_im, NULL, 1, NULL, 1);
-    if (info != 0)
-        st = el_error_set(err, EL_ERR_NUMERIC, "ssi: the eigenvalue solver failed");
-done:
-    free(gram);
-    free(rho);
-    free(basis);
-    free(s1w);
-    free(zz);
-    free(vv);
-    free(tmp);
-    free(a);
-    free(cw);
-    return st;
+    return boot_states(series, inputs, model, 1, states, n_states, err);
 }

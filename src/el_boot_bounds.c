@@ -1,0 +1,170 @@
+/* el_boot_bounds: from the replicates' matched eigenvalues to percentile
+ * bounds, P(stable) and the trace-determinant region probabilities. */
+#include "el_boot_bounds.h"
+
+#include <float.h>
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#define BOOT_PI 3.14159265358979323846
+
+/* ------------------------------------------------------------------ */
+/* Percentiles. */
+
+double el_boot_quantile(const double *sorted, size_t n, double p)
+{
+    if (n == 1)
+        return sorted[0];
+    if (p <= 0.0)
+        return sorted[0];
+    if (p >= 1.0)
+        return sorted[n - 1];
+    double h = (double)(n - 1) * p;
+    size_t lo = (size_t)floor(h);
+    if (lo >= n - 1)
+        return sorted[n - 1];
+    double frac = h - (double)lo;
+    return sorted[lo] + frac * (sorted[lo + 1] - sorted[lo]);
+}
+
+static int cmp_double(const void *a, const void *b)
+{
+    double x = *(const double *)a, y = *(const double *)b;
+    return (x > y) - (x < y);
+}
+
+/* Percentile interval of the finite values among v[0..n) (reordered in
+ * place); NaN bounds when there are none. */
+static el_interval percentile_interval(double *v, size_t n, double level)
+{
+    size_t k = 0;
+    for (size_t i = 0; i < n; i++)
+        if (isfinite(v[i]))
+            v[k++] = v[i];
+    el_interval out = { NAN, NAN };
+    if (k == 0)
+        return out;
+    qsort(v, k, sizeof(double), cmp_double);
+    out.lo = el_boot_quantile(v, k, 0.5 * (1.0 - level));
+    out.hi = el_boot_quantile(v, k, 0.5 * (1.0 + level));
+    return out;
+}
+
+void el_boot_free(el_boot_result *result)
+{
+    if (result == NULL)
+        return;
+    free(result->bounds);
+    free(result->lambda_re);
+    free(result->lambda_im);
+    free(result->trace_samples);
+    free(result->det_samples);
+    memset(result, 0, sizeof *result);
+}
+
+el_status el_boot_summarise(const el_boot_records *sh, const el_modes *point,
+                            double level, el_boot_result *res, el_error *err)
+{
+    size_t nm = sh->n_modes, total = sh->total, n_ok = 0, n_stable = 0, n_amb = 0;
+    for (size_t i = 0; i < total; i++)
+        if (sh->ok[i]) {
+            n_ok++;
+            n_stable += sh->stable[i];
+            n_amb += sh->amb[i];
+        }
+    res->replicates = n_ok;
+    res->failed_replicates = total - n_ok;
+    res->ambiguous_matches = n_amb;
+    if (n_ok == 0 || 2 * n_ok < total) {
+        el_error_set(err, EL_ERR_NUMERIC,
+                     "only %zu of %zu bootstrap replicates gave a model", n_ok, total);
+        el_error_hint(err, "use a longer window, fewer --lags or a lower --rank");
+        return EL_ERR_NUMERIC;
+    }
+    res->p_stable = (double)n_stable / (double)n_ok;
+    res->bounds = calloc(nm, sizeof(el_mode_bounds));
+    res->lambda_re = malloc(n_ok * nm * sizeof(double));
+    res->lambda_im = malloc(n_ok * nm * sizeof(double));
+    double *v = malloc(n_ok * sizeof(double));
+    if (sh->has_plane) {
+        res->trace_samples = malloc(n_ok * sizeof(double));
+        res->det_samples = malloc(n_ok * sizeof(double));
+    }
+    if (!res->bounds || !res->lambda_re || !res->lambda_im || !v
+        || (sh->has_plane && (!res->trace_samples || !res->det_samples))) {
+        free(v);
+        return el_error_set(err, EL_ERR_NOMEM, "out of memory (bootstrap result)");
+    }
+    size_t k = 0;
+    for (size_t i = 0; i < total; i++) {
+        if (!sh->ok[i])
+            continue;
+        memcpy(res->lambda_re + k * nm, sh->mode_re + i * nm, nm * sizeof(double));
+        memcpy(res->lambda_im + k * nm, sh->mode_im + i * nm, nm * sizeof(double));
+        if (sh->has_plane) {
+            res->trace_samples[k] = sh->trace[i];
+            res->det_samples[k] = sh->det[i];
+        }
+        k++;
+    }
+    for (size_t q = 0; q < nm; q++) {
+        const el_mode *md = &point->modes[q];
+        el_mode_bounds *b = &res->bounds[q];
+        const double *re = res->lambda_re, *im = res->lambda_im;
+        for (size_t i = 0; i < n_ok; i++)
+            v[i] = re[i * nm + q];
+        b->re = percentile_interval(v, n_ok, level);
+        for (size_t i = 0; i < n_ok; i++)
+            v[i] = im[i * nm + q];
+        b->im = percentile_interval(v, n_ok, level);
+        for (size_t i = 0; i < n_ok; i++)
+            v[i] = im[i * nm + q] / (2.0 * BOOT_PI);
+        b->frequency_hz = percentile_interval(v, n_ok, level);
+        for (size_t i = 0; i < n_ok; i++) {
+            double mag = hypot(re[i * nm + q], im[i * nm + q]);
+            v[i] = mag > 0.0 ? -re[i * nm + q] / mag : NAN;
+        }
+        b->damping_ratio = percentile_interval(v, n_ok, level);
+        for (size_t i = 0; i < n_ok; i++)
+            v[i] = -re[i * nm + q];
+        b->decay_rate = percentile_interval(v, n_ok, level);
+        /* Quantities the point estimate itself does not have stay flagged. */
+        el_interval none = { NAN, NAN };
+        if (md->at_nyquist)
+            b->frequency_hz = none;
+        if (md->instantaneous) {
+            b->re = none;
+            b->damping_ratio = none;
+            b->decay_rate = none;
+        }
+    }
+    if (sh->has_plane) {
+        double scale = 0.0;
+        for (size_t q = 0; q < nm; q++) {
+            double mag = hypot(point->modes[q].lambda_re, point->modes[q].lambda_im);
+            if (isfinite(mag) && mag > scale)
+                scale = mag;
+        }
+        double tol = 1e-9 * fmax(1.0, scale * scale);
+        size_t counts[EL_REGION_COUNT] = { 0 };
+        for (size_t i = 0; i < n_ok; i++) {
+            el_region rg = el_verdict_plane_region(res->trace_samples[i],
+                                                   res->det_samples[i], tol);
+            if (rg < EL_REGION_COUNT)
+                counts[rg]++;
+        }
+        for (size_t g = 0; g < EL_REGION_COUNT; g++)
+            res->region_probability[g] = (double)counts[g] / (double)n_ok;
+        memcpy(v, res->trace_samples, n_ok * sizeof(double));
+        res->trace = percentile_interval(v, n_ok, level);
+        memcpy(v, res->det_samples, n_ok * sizeof(double));
+        res->determinant = percentile_interval(v, n_ok, level);
+        for (size_t i = 0; i < n_ok; i++)
+            v[i] = res->trace_samples[i] * res->trace_samples[i]
+                   - 4.0 * res->det_samples[i];
+        res->discriminant = percentile_interval(v, n_ok, level);
+    }
+    free(v);
+    return EL_OK;
+}

@@ -1,0 +1,87 @@
+/* el_boot_bounds: the bootstrap's result (el_boot_result: percentile
+ * bounds of every mode, P(stable), the trace-determinant plane) and how it
+ * is summarised from the replicates' records. The verdict reads this
+ * result; nothing here knows the verdict. */
+#ifndef EL_BOOT_BOUNDS_H
+#define EL_BOOT_BOUNDS_H
+
+#include <stddef.h>
+#include <stdint.h>
+
+#include "el_error.h"
+#include "el_modes.h"
+#include "el_plane.h"
+
+typedef enum { EL_RESAMPLE_BLOCKS = 0, EL_RESAMPLE_MODEL } el_resample_kind;
+
+typedef struct {
+    double lo, hi;
+} el_interval;
+
+typedef struct {
+    el_interval re, im, frequency_hz, damping_ratio, decay_rate;
+} el_mode_bounds;
+
+typedef struct el_boot_result {
+    size_t replicates;            /* replicates that gave a model */
+    size_t failed_replicates;     /* replicates whose refit failed (left out) */
+    el_resample_kind kind;
+    size_t block_length;
+    int block_was_auto;
+    double level;
+    uint64_t seed;
+    size_t threads_used;
+    size_t n_modes;               /* == the point estimate's n_modes */
+    el_mode_bounds *bounds;       /* n_modes, owned */
+    double p_stable;              /* fraction with least-damped Re lambda < 0 */
+    size_t ambiguous_matches;     /* replicates in which two modes could swap */
+    double *lambda_re;            /* replicates * n_modes: matched lambda, [r * n_modes + m] */
+    double *lambda_im;
+    int has_plane;
+    el_interval trace, determinant, discriminant;
+    double region_probability[EL_REGION_COUNT];
+    double *trace_samples;        /* replicates (only when has_plane) */
+    double *det_samples;
+    int bias_corrected;           /* 1: replicates were bias-corrected */
+    size_t bias_replicates;       /* model-based replicates that measured the bias */
+    size_t block_length_pw;       /* automatic: the Politis-White length before the
+                                     EL_BOOT_MAX_BLOCKS floor (0 when given) */
+    double setup_seconds;         /* wall time: states, full-sample refit, block
+                                     length, engine (the one pass over the data) */
+    double bias_seconds;          /* wall time of the bias round (0 when none) */
+    double replicate_seconds;     /* wall time of the replicates themselves */
+} el_boot_result;
+
+/* Frees what the result owns and zeroes it. NULL is a no-op. */
+void el_boot_free(el_boot_result *result);
+
+/* Quantile p in [0, 1] of sorted[0..n) (ascending, n >= 1) by linear
+ * interpolation between order statistics (Hyndman & Fan 1996, type 7:
+ * h = (n - 1) p, x[floor h] + (h - floor h) (x[floor h + 1] - x[floor h])). */
+double el_boot_quantile(const double *sorted, size_t n, double p);
+
+/* The per-replicate records of a run, in replicate order (total of them):
+ * ok (1: the replicate gave a model), amb (1: two modes could swap), stable
+ * (1: its least damped mode has Re lambda < 0), the matched eigenvalues of
+ * each point mode (mode_re/mode_im, total x n_modes, [i * n_modes + m]),
+ * and with has_plane the trace and determinant of each replicate. */
+typedef struct {
+    size_t total, n_modes;
+    int has_plane;
+    const unsigned char *ok, *amb, *stable;
+    const double *mode_re, *mode_im, *trace, *det;
+} el_boot_records;
+
+/* Fills res (replicates, failed_replicates, ambiguous_matches, p_stable,
+ * bounds, lambda_re/im, and with a plane trace_samples, det_samples,
+ * trace, determinant, discriminant and region_probability) from the
+ * records of the replicates that gave a model, in replicate order (so the
+ * thread count cannot change anything): two-sided percentile bounds at
+ * level (el_boot_quantile), NaN for what the point mode does not have
+ * (frequency at the Nyquist limit; Re, damping and decay of an
+ * instantaneous mode). Errors: EL_ERR_NUMERIC when fewer than half of the
+ * replicates gave a model; EL_ERR_NOMEM. */
+el_status el_boot_summarise(const el_boot_records *records, const el_modes *point,
+                            double level, el_boot_result *res, el_error *err);
+
+#endif

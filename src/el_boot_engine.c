@@ -1,0 +1,481 @@
+/* el_boot_engine: the bootstrap's replicate engine: moving blocks of
+ * snapshot pairs, prefix sums of a provider's centred features so that a
+ * replicate's sums cost O(blocks), and the Politis-White block length.
+ * Knows estimators only through el_boot_provider (el_estimator.h). */
+#include "el_boot_engine.h"
+
+#include <float.h>
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+
+
+/* ------------------------------------------------------------------ */
+/* Moving blocks. */
+
+size_t el_boot_block_count(size_t n_pairs, size_t block_length)
+{
+    if (n_pairs == 0 || block_length == 0)
+        return 0;
+    return (n_pairs + block_length - 1) / block_length;
+}
+
+size_t el_boot_draw_blocks(el_rng *rng, size_t n_pairs, size_t block_length,
+                           el_boot_block *blocks)
+{
+    size_t nb = el_boot_block_count(n_pairs, block_length);
+    size_t n_starts = n_pairs - block_length + 1;
+    size_t left = n_pairs;
+    for (size_t b = 0; b < nb; b++) {
+        blocks[b].start = (size_t)el_rng_below(rng, (uint64_t)n_starts);
+        blocks[b].length = left < block_length ? left : block_length;
+        left -= blocks[b].length;
+    }
+    return nb;
+}
+
+size_t el_boot_draw_blocks_grid(el_rng *rng, size_t n_pairs, size_t block_length,
+                                size_t grid, el_boot_block *blocks)
+{
+    if (grid <= 1)
+        return el_boot_draw_blocks(rng, n_pairs, block_length, blocks);
+    size_t nb = el_boot_block_count(n_pairs, block_length);
+    size_t n_starts = (n_pairs - block_length) / grid + 1;
+    size_t left = n_pairs;
+    for (size_t b = 0; b < nb; b++) {
+        blocks[b].start = grid * (size_t)el_rng_below(rng, (uint64_t)n_starts);
+        blocks[b].length = left < block_length ? left : block_length;
+        left -= blocks[b].length;
+    }
+    return nb;
+}
+
+/* ------------------------------------------------------------------ */
+/* Engine. */
+
+struct el_boot_engine {
+    const el_boot_provider *prov;
+    el_boot_dims dims;
+    size_t r, sw, n_states, n_pairs, d, stride, n_chk;  /* sw: doubles per state */
+    const double *states; /* n_states * sw, the caller's (borrowed) */
+    double *gbar;     /* d: mean feature vector */
+    double *prefix;   /* n_chk * d: prefix sums of centred features at j = q * stride */
+    size_t block_steps;   /* el_boot_engine_plan_blocks: block length / stride (0: none) */
+    double *block_sum;    /* (n_chk - block_steps) * d: P(q + block_steps) - P(q) */
+};
+
+/* Hint to fetch a table row before it is needed: a replicate's rows are
+ * scattered over a table larger than a core's cache, and their loads are
+ * most of its cost. A no-op where the builtin does not exist. */
+#if defined(__GNUC__) || defined(__clang__)
+#define BOOT_PREFETCH(p) __builtin_prefetch(p)
+#else
+#define BOOT_PREFETCH(p) ((void)(p))
+#endif
+
+/* Neumaier's compensated addition of y into (s, c). */
+static void kahan_add(double *s, double *c, double y)
+{
+    double t = *s + y;
+    if (fabs(*s) >= fabs(y))
+        *c += (*s - t) + y;
+    else
+        *c += (y - t) + *s;
+    *s = t;
+}
+
+/* Pairs summed plainly before their sum joins a compensated total: short
+ * enough that a plain sum of O(1) features loses nothing that matters
+ * (about BOOT_RUN_PAIRS * eps relative), long enough that the compensated
+ * addition, which no compiler vectorises, is paid once per run instead of
+ * once per pair. */
+#define BOOT_RUN_PAIRS 256
+
+/* Adds sum over pairs [first, first + count) of (features - centre) to the
+ * compensated total (s, c) (centre NULL: no centring). run holds d doubles
+ * of scratch, g d + prov->work_doubles. */
+static void sum_pairs_compensated(const el_boot_provider *prov, const el_boot_dims *dims,
+                                  const double *states, size_t first, size_t count,
+                                  const double *centre, double *s, double *c,
+                                  double *run, double *g)
+{
+    size_t d = prov->n_features(dims), sw = dims->r + dims->n_inputs;
+    for (size_t k0 = first; k0 < first + count; k0 += BOOT_RUN_PAIRS) {
+        size_t k1 = k0 + BOOT_RUN_PAIRS < first + count ? k0 + BOOT_RUN_PAIRS : first + count;
+        memset(run, 0, d * sizeof(double));
+        if (prov->accumulate != NULL) {
+            prov->accumulate(dims, states + k0 * sw, k1 - k0, run, g);
+        } else {
+            for (size_t k = k0; k < k1; k++) {
+                prov->features(dims, states + k * sw, g);
+                double *restrict acc = run;
+                const double *restrict gk = g;
+                for (size_t f = 0; f < d; f++)
+                    acc[f] += gk[f];
+            }
+        }
+        double len = (double)(k1 - k0);
+        for (size_t f = 0; f < d; f++)
+            kahan_add(&s[f], &c[f], centre != NULL ? run[f] - len * centre[f] : run[f]);
+    }
+}
+
+static el_status engine_create(const el_boot_provider *provider,
+                               const el_boot_dims *dims, const double *states,
+                               size_t n_states, size_t max_bytes, size_t stride,
+                               el_boot_engine **engine, el_error *err);
+
+el_status el_boot_engine_create(const el_boot_provider *provider,
+                                const el_boot_dims *dims, const double *states,
+                                size_t n_states, size_t max_bytes,
+                                el_boot_engine **engine, el_error *err)
+{
+    return engine_create(provider, dims, states, n_states, max_bytes, 0, engine, err);
+}
+
+el_status el_boot_engine_create_strided(const el_boot_provider *provider,
+                                        const el_boot_dims *dims,
+                                        const double *states, size_t n_states,
+                                        size_t stride, el_boot_engine **engine,
+                                        el_error *err)
+{
+    return engine_create(provider, dims, states, n_states, 0, stride < 1 ? 1 : stride,
+                         engine, err);
+}
+
+/* stride 0: derived from max_bytes (0 = the default cap). */
+static el_status engine_create(const el_boot_provider *provider,
+                               const el_boot_dims *dims, const double *states,
+                               size_t n_states, size_t max_bytes, size_t stride,
+                               el_boot_engine **engine, el_error *err)
+{
+    if (engine == NULL)
+        return el_error_set(err, EL_ERR_INTERNAL, "el_boot_engine_create: engine is NULL");
+    *engine = NULL;
+    size_t span = provider != NULL && dims != NULL ? provider->span(dims) : 0;
+    if (provider == NULL || dims == NULL || states == NULL || dims->r == 0 || span < 1
+        || n_states < span)
+        return el_error_set(err, EL_ERR_INTERNAL,
+                            "el_boot_engine_create: bad arguments (r %zu, %zu states)",
+                            dims != NULL ? dims->r : 0, n_states);
+    size_t r = dims->r, sw = dims->r + dims->n_inputs;
+    if (max_bytes == 0)
+        max_bytes = EL_BOOT_DEFAULT_MAX_BYTES;
+    el_boot_engine *e = calloc(1, sizeof *e);
+    if (e == NULL)
+        return el_error_set(err, EL_ERR_NOMEM, "out of memory (bootstrap engine)");
+    e->prov = provider;
+    e->dims = *dims;
+    e->r = r;
+    e->sw = sw;
+    e->n_states = n_states;
+    e->n_pairs = n_states - span + 1;
+    e->d = provider->n_features(dims);
+    double table_bytes = (double)(e->n_pairs + 1) * (double)e->d * sizeof(double);
+    e->stride = (size_t)ceil(table_bytes / (double)max_bytes);
+    if (e->stride < stride)
+        e->stride = stride;
+    if (e->stride < 1)
+        e->stride = 1;
+    e->n_chk = e->n_pairs / e->stride + 1;
+    e->states = states;
+    e->gbar = calloc(e->d, sizeof(double));
+    e->prefix = malloc(e->n_chk * e->d * sizeof(double));
+    double *s = calloc(2 * e->d, sizeof(double));
+    double *g = malloc((e->d + provider->work_doubles(dims)) * sizeof(double));
+    if (e->gbar == NULL || e->prefix == NULL || s == NULL
+        || g == NULL) {
+        free(s);
+        free(g);
+        el_boot_engine_destroy(e);
+        return el_error_set(err, EL_ERR_NOMEM, "out of memory (bootstrap engine, %zu pairs)",
+                            n_states);
+    }
+    size_t d = e->d;
+    double *c = s + d;
+    /* One pass. The prefixes are centred on the mean of a leading sample
+     * of pairs, not on the exact mean (which needs a pass of its own): any
+     * centre close to the mean keeps them a random walk of size
+     * O(sqrt(n_pairs)); the exact mean gbar then comes from the last
+     * prefix, and block sums add length * gbar back exactly as before. */
+    size_t lead = e->n_pairs < 4096 ? e->n_pairs : 4096;
+    double *centre = calloc(2 * d, sizeof(double));
+    if (centre == NULL) {
+        free(s);
+        free(g);
+        el_boot_engine_destroy(e);
+        return el_error_set(err, EL_ERR_NOMEM, "out of memory (bootstrap engine)");
+    }
+    double *run = centre + d;
+    sum_pairs_compensated(provider, &e->dims, e->states, 0, lead, NULL, s, c, run, g);
+    for (size_t f = 0; f < d; f++)
+        centre[f] = (s[f] + c[f]) / (double)lead;
+    memset(s, 0, 2 * d * sizeof(double));
+    memset(e->prefix, 0, d * sizeof(double));
+    for (size_t q = 1; q < e->n_chk; q++) {
+        sum_pairs_compensated(provider, &e->dims, e->states, (q - 1) * e->stride,
+                              e->stride, centre, s, c, run, g);
+        double *p = e->prefix + q * d;
+        for (size_t f = 0; f < d; f++)
+            p[f] = s[f] + c[f];
+    }
+    size_t done = (e->n_chk - 1) * e->stride;
+    sum_pairs_compensated(provider, &e->dims, e->states, done, e->n_pairs - done, centre,
+                          s, c, run, g);
+    /* Re-centre on the exact mean: P'(j) = P(j) - j (gbar - centre). */
+    for (size_t f = 0; f < d; f++)
+        e->gbar[f] = centre[f] + (s[f] + c[f]) / (double)e->n_pairs;
+    for (size_t q = 1; q < e->n_chk; q++) {
+        double j = (double)(q * e->stride);
+        double *p = e->prefix + q * d;
+        for (size_t f = 0; f < d; f++)
+            p[f] -= j * (e->gbar[f] - centre[f]);
+    }
+    free(centre);
+    free(s);
+    free(g);
+    *engine = e;
+    return EL_OK;
+}
+
+void el_boot_engine_destroy(el_boot_engine *engine)
+{
+    if (engine == NULL)
+        return;
+    free(engine->gbar);
+    free(engine->prefix);
+    free(engine->block_sum);
+    free(engine);
+}
+
+size_t el_boot_engine_pairs(const el_boot_engine *engine) { return engine->n_pairs; }
+size_t el_boot_engine_stride(const el_boot_engine *engine) { return engine->stride; }
+size_t el_boot_engine_features(const el_boot_engine *engine) { return engine->d; }
+
+size_t el_boot_engine_work_doubles(const el_boot_engine *engine)
+{
+    return 3 * engine->d + engine->prov->work_doubles(&engine->dims);
+}
+
+/* acc += sign * P(j), the prefix sum of centred features over pairs [0, j). */
+static void add_prefix(const el_boot_engine *e, size_t j, double sign,
+                       double *acc, double *tmp)
+{
+    size_t d = e->d, q = j / e->stride;
+    const double *p = e->prefix + q * d;
+    for (size_t f = 0; f < d; f++)
+        acc[f] += sign * p[f];
+    for (size_t k = q * e->stride; k < j; k++) {
+        e->prov->features(&e->dims, e->states + k * e->sw, tmp);
+        for (size_t f = 0; f < d; f++)
+            acc[f] += sign * (tmp[f] - e->gbar[f]);
+    }
+}
+
+el_status el_boot_engine_plan_blocks(el_boot_engine *engine, size_t block_length,
+                                     el_error *err)
+{
+    if (engine == NULL || block_length == 0 || block_length % engine->stride != 0
+        || block_length > engine->n_pairs)
+        return el_error_set(err, EL_ERR_INTERNAL,
+                            "el_boot_engine_plan_blocks: block length %zu is no multiple "
+                            "of the stride", block_length);
+    el_boot_engine *e = engine;
+    size_t steps = block_length / e->stride, rows = e->n_chk - steps, d = e->d;
+    double *table = malloc(rows * d * sizeof(double));
+    if (table == NULL)
+        return el_error_set(err, EL_ERR_NOMEM, "out of memory (bootstrap block table)");
+    for (size_t q = 0; q < rows; q++) {
+        const double *p0 = e->prefix + q * d, *p1 = e->prefix + (q + steps) * d;
+        for (size_t f = 0; f < d; f++)
+            table[q * d + f] = p1[f] - p0[f];
+    }
+    free(e->block_sum);
+    e->block_sum = table;
+    e->block_steps = steps;
+    return EL_OK;
+}
+
+/* Fetches the rows block b will read. */
+static void prefetch_block(const el_boot_engine *e, const el_boot_block *bl)
+{
+    size_t s = e->stride, d = e->d, a0 = bl->start, a1 = bl->start + bl->length;
+    const char *r0, *r1 = NULL;
+    if (e->block_sum != NULL && a0 % s == 0 && bl->length == e->block_steps * s) {
+        r0 = (const char *)(e->block_sum + (a0 / s) * d);
+    } else {
+        r0 = (const char *)(e->prefix + (a0 / s) * d);
+        r1 = (const char *)(e->prefix + (a1 / s) * d);
+    }
+    for (size_t o = 0; o < d * sizeof(double); o += 64) {
+        BOOT_PREFETCH(r0 + o);
+        if (r1 != NULL)
+            BOOT_PREFETCH(r1 + o);
+    }
+}
+
+void el_boot_engine_sum(const el_boot_engine *engine,
+                        const el_boot_block *blocks, size_t n_blocks,
+                        double *sum, double *work)
+{
+    const el_boot_engine *e = engine;
+    size_t d = e->d, total = 0, planned = e->block_steps * e->stride;
+    memset(sum, 0, d * sizeof(double));
+    for (size_t b = 0; b < n_blocks; b++) {
+        size_t a0 = blocks[b].start, a1 = blocks[b].start + blocks[b].length;
+        total += blocks[b].length;
+        /* Two blocks ahead: far enough for the row to arrive in time. */
+        if (b + 2 < n_blocks)
+            prefetch_block(e, &blocks[b + 2]);
+        if (e->block_sum != NULL && a0 % e->stride == 0 && blocks[b].length == planned) {
+            /* The planned length: its sum was stored, one row to read. */
+            const double *restrict p = e->block_sum + (a0 / e->stride) * d;
+            double *restrict acc = sum;
+            for (size_t f = 0; f < d; f++)
+                acc[f] += p[f];
+        } else if (a0 % e->stride == 0 && a1 % e->stride == 0) {
+            /* Both ends on stored prefixes (always for stride 1, and for
+             * blocks drawn on the engine's grid). */
+            const double *restrict p1 = e->prefix + (a1 / e->stride) * d;
+            const double *restrict p0 = e->prefix + (a0 / e->stride) * d;
+            double *restrict acc = sum;
+            for (size_t f = 0; f < d; f++)
+                acc[f] += p1[f] - p0[f];
+        } else {
+            add_prefix(e, a1, 1.0, sum, work);
+            add_prefix(e, a0, -1.0, sum, work);
+        }
+    }
+    for (size_t f = 0; f < d; f++)
+        sum[f] += (double)total * e->gbar[f];
+}
+
+int el_boot_engine_assemble(const el_boot_engine *engine,
+                            const el_boot_block *blocks, size_t n_blocks,
+                            double *a, double *offset, double *work)
+{
+    double *sum = work, *rest = work + engine->d;
+    el_boot_engine_sum(engine, blocks, n_blocks, sum, rest);
+    return engine->prov->solve(&engine->dims, sum, a, NULL, offset, rest);
+}
+
+/* The provider's solve on the sum of the features of every pair (the
+ * full-sample refit), in one compensated pass. work holds 4 d +
+ * prov->work_doubles doubles. Returns 0, or 1 when singular. */
+int el_boot_full_sample_solve(const el_boot_provider *prov, const el_boot_dims *dims,
+                             const double *states, size_t n_states, double *a,
+                             double *bm, double *offset, double *work)
+{
+    size_t d = prov->n_features(dims), pairs = n_states - prov->span(dims) + 1;
+    double *sum = work, *comp = work + d, *run = work + 2 * d, *g = work + 3 * d;
+    memset(sum, 0, 2 * d * sizeof(double));
+    sum_pairs_compensated(prov, dims, states, 0, pairs, NULL, sum, comp, run, g);
+    for (size_t f = 0; f < d; f++)
+        sum[f] += comp[f];
+    return prov->solve(dims, sum, a, bm, offset, work + d);
+}
+
+/* ------------------------------------------------------------------ */
+/* Politis & White block length. */
+
+/* Sample autocovariance at lag k of the demeaned x (divisor n). */
+static double autocov(const double *x, size_t n, size_t k)
+{
+    /* Four partial sums: one running sum is a single chain of dependent
+     * additions, four let the processor overlap them (4x faster here). */
+    double s0 = 0.0, s1 = 0.0, s2 = 0.0, s3 = 0.0;
+    size_t len = n - k, t = 0;
+    for (; t + 4 <= len; t += 4) {
+        s0 += x[t] * x[t + k];
+        s1 += x[t + 1] * x[t + k + 1];
+        s2 += x[t + 2] * x[t + k + 2];
+        s3 += x[t + 3] * x[t + k + 3];
+    }
+    for (; t < len; t++)
+        s0 += x[t] * x[t + k];
+    return ((s0 + s1) + (s2 + s3)) / (double)n;
+}
+
+/* Flat-top (trapezoid) lag window of Politis & Romano. */
+static double flat_top(double t)
+{
+    t = fabs(t);
+    if (t <= 0.5)
+        return 1.0;
+    if (t <= 1.0)
+        return 2.0 * (1.0 - t);
+    return 0.0;
+}
+
+el_status el_boot_pw_block_length(const double *x, size_t n, double *b_out,
+                                  el_error *err)
+{
+    *b_out = 1.0;
+    if (n < 8)
+        return EL_OK;
+    double *y = malloc(n * sizeof(double));
+    size_t kn = (size_t)ceil(sqrt(log10((double)n)));
+    if (kn < 5)
+        kn = 5;
+    size_t m_max = (size_t)ceil(sqrt((double)n)) + kn;
+    if (m_max + kn >= n)
+        m_max = n > kn + 1 ? n - kn - 1 : 0;
+    double *acv = malloc((m_max + kn + 1) * sizeof(double));
+    if (y == NULL || acv == NULL) {
+        free(y);
+        free(acv);
+        return el_error_set(err, EL_ERR_NOMEM, "out of memory (block length)");
+    }
+    double mean = 0.0;
+    for (size_t t = 0; t < n; t++)
+        mean += x[t];
+    mean /= (double)n;
+    for (size_t t = 0; t < n; t++)
+        y[t] = x[t] - mean;
+    size_t have = 0; /* acv[0..have) computed; autocovariances are costly, so lazily */
+    acv[have++] = autocov(y, n, 0);
+    if (!(acv[0] > 0.0)) {
+        free(y);
+        free(acv);
+        return EL_OK;
+    }
+    double crit = 2.0 * sqrt(log10((double)n) / (double)n);
+    size_t m_hat = m_max, run = 0;
+    for (size_t k = 1; k <= m_max + kn; k++) {
+        if (k >= have) {
+            acv[k] = autocov(y, n, k);
+            have = k + 1;
+        }
+        if (fabs(acv[k] / acv[0]) < crit) {
+            if (++run == kn) {
+                m_hat = k - kn;
+                break;
+            }
+        } else {
+            run = 0;
+        }
+    }
+    size_t big_m = 2 * m_hat;
+    if (big_m > m_max)
+        big_m = m_max;
+    for (; have <= big_m; have++)
+        acv[have] = autocov(y, n, have);
+    double g_sum = acv[0], big_g = 0.0;
+    for (size_t k = 1; k <= big_m; k++) {
+        double lam = flat_top((double)k / (double)big_m);
+        g_sum += 2.0 * lam * acv[k];
+        big_g += 2.0 * lam * (double)k * acv[k];
+    }
+    free(y);
+    free(acv);
+    if (!(g_sum > 0.0))
+        return EL_OK;
+    double d_cb = 4.0 / 3.0 * g_sum * g_sum;
+    double b = cbrt(2.0 * big_g * big_g / d_cb) * cbrt((double)n);
+    double b_max = ceil(fmin(3.0 * sqrt((double)n), (double)n / 3.0));
+    if (b > b_max)
+        b = b_max;
+    *b_out = b;
+    return EL_OK;
+}
