@@ -10,6 +10,7 @@
 #include "el_error.h"
 #include "el_io.h"
 #include "el_spectrum.h"
+#include "el_svg.h"
 #include "el_track.h"
 
 /* Most points one line of a time-series or spectrum plot carries. A
@@ -95,9 +96,6 @@ el_status el_html_report(const el_assessment *r, const el_assess_options *opt,
 el_status el_html_track_report(const el_track_result *r, const el_track_options *opt,
                                el_buf *out, el_error *err);
 
-/* Appends text to out with &, <, >, " and ' replaced by entities, so
- * it is safe in element content and in quoted attributes. NULL appends
- * nothing. Returns EL_OK or EL_ERR_NOMEM. */
-el_status el_html_escape(el_buf *out, const char *text);
+/* el_html_escape is declared in el_svg.h (with the other page pieces). */
 
 #endif

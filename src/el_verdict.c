@@ -6,7 +6,7 @@
 #include <stdio.h>
 #include <string.h>
 
-#include "el_resample.h"
+#include "el_boot_bounds.h"
 
 /* Numerical tolerance on Re lambda without bootstrap, times 1/dt: a mode
  * this close to the imaginary axis cannot be told from it by a fit whose
