@@ -5,6 +5,30 @@
 #include <stdlib.h>
 #include <string.h>
 
+/* Fit plans an assessment plan keeps: the primary and the cross-check
+ * estimator, with room for --method auto choosing other pairs in other
+ * windows. */
+#define ASSESS_FIT_PLANS 4
+
+/* One fit plan and what it was made for. */
+typedef struct {
+    el_fit_plan *plan;
+    el_method method;
+    size_t lags, depth, n_samples, n_channels, n_inputs;
+    long rank;
+    unsigned long used;           /* last use (the least recent is replaced) */
+} fit_slot;
+
+struct el_assess_plan {
+    size_t n_samples, n_channels, n_inputs;
+    fit_slot fits[ASSESS_FIT_PLANS];
+    unsigned long uses;
+    el_prep_band_plan *band;      /* the band limit of the last window, or NULL */
+    size_t band_samples;
+    double band_dt, band_lo, band_hi;
+    el_warnings band_warnings;    /* what making it said, repeated for every window */
+};
+
 void el_assess_defaults(el_assess_options *opt)
 {
     memset(opt, 0, sizeof *opt);
@@ -201,8 +225,12 @@ static el_status crosscheck_spectra(el_assessment *r, el_error *err)
 /* Detrend and band limit, in place on the series, before anything looks at
  * its dynamics. The band edges are checked against the series' Nyquist
  * frequency, so --band is parsed here, once dt is known. */
-static el_status prepare(const el_assess_options *opt, el_assessment *r,
-                         el_error *err)
+static el_status band_plan(el_assess_plan *ap, const el_series *s, double lo, double hi,
+                           el_warnings *input_warnings, el_prep_band_plan **out,
+                           el_error *err);
+
+static el_status prepare(el_assess_plan *ap, const el_assess_options *opt,
+                         el_assessment *r, el_error *err)
 {
     size_t n = r->series.n_channels;
     r->detrend_level = calloc(n, sizeof *r->detrend_level);
@@ -222,8 +250,7 @@ static el_status prepare(const el_assess_options *opt, el_assessment *r,
     st = el_prep_parse_band(opt->band_text, r->series.dt, &lo, &hi, err);
     el_prep_band_plan *plan = NULL;
     if (st == EL_OK)
-        st = el_prep_band_plan_create(r->series.n_samples, r->series.dt, lo, hi, &plan,
-                                      &r->input_warnings, err);
+        st = band_plan(ap, &r->series, lo, hi, &r->input_warnings, &plan, err);
     if (st == EL_OK)
         st = el_prep_band_apply(plan, &r->series, err);
     /* The same band on the inputs: a model relating a filtered output to an
@@ -234,7 +261,6 @@ static el_status prepare(const el_assess_options *opt, el_assessment *r,
         r->band = el_prep_band_plan_band(plan);
         r->has_band = 1;
     }
-    el_prep_band_plan_destroy(plan);
     return st;
 }
 
@@ -376,8 +402,12 @@ static el_status withhold_unbounded(el_assessment *r, el_error *err)
  * forward-backward DMD spreads a fast, already decayed mode up to zero
  * (docs/accuracy.md, D4). Its own warnings stay out of the report but one
  * summary. */
-static el_status cross_check(const el_assess_options *opt, const el_fit_options *fit,
-                             el_assessment *r, el_error *err)
+static el_status plan_fit(el_assess_plan *ap, const el_series *s,
+                          const el_fit_options *fit, el_model *model,
+                          el_warnings *warnings, el_error *err);
+
+static el_status cross_check(el_assess_plan *ap, const el_assess_options *opt,
+                             const el_fit_options *fit, el_assessment *r, el_error *err)
 {
     el_fit_options cf = *fit;
     cf.method = r->cross_method;
@@ -388,7 +418,7 @@ static el_status cross_check(const el_assess_options *opt, const el_fit_options 
     el_warnings quiet = {0};
     el_error local;
     el_error_clear(&local);
-    el_status st = el_fit(&r->series, &cf, &r->cross_model, &quiet, &local);
+    el_status st = plan_fit(ap, &r->series, &cf, &r->cross_model, &quiet, &local);
     if (st == EL_OK)
         st = el_modes_compute(&r->cross_model, &r->cross_modes, &quiet, &local);
     if (st == EL_OK && opt->boot.replicates > 0) {
@@ -454,10 +484,133 @@ el_status el_assess_run(const el_assess_options *opt, el_assessment *r,
     return st;
 }
 
+/* ---- plan / execute -------------------------------------------------- */
+
+el_status el_assess_plan_create(size_t n_samples, size_t n_channels, size_t n_inputs,
+                                el_assess_plan **out, el_error *err)
+{
+    if (out == NULL)
+        return el_error_set(err, EL_ERR_INTERNAL, "el_assess_plan_create: no output");
+    *out = calloc(1, sizeof **out);
+    if (*out == NULL)
+        return el_error_set(err, EL_ERR_NOMEM, "out of memory");
+    (*out)->n_samples = n_samples;
+    (*out)->n_channels = n_channels;
+    (*out)->n_inputs = n_inputs;
+    return EL_OK;
+}
+
+void el_assess_plan_destroy(el_assess_plan *ap)
+{
+    if (ap == NULL)
+        return;
+    for (size_t i = 0; i < ASSESS_FIT_PLANS; i++)
+        el_fit_plan_destroy(ap->fits[i].plan);
+    el_prep_band_plan_destroy(ap->band);
+    el_warnings_free(&ap->band_warnings);
+    free(ap);
+}
+
+/* The band plan for this window: the one kept when the length, interval
+ * and edges are the same (with the warnings its making gave, so every
+ * window reports them alike), else a new one that replaces it. */
+static el_status band_plan(el_assess_plan *ap, const el_series *s, double lo, double hi,
+                           el_warnings *input_warnings, el_prep_band_plan **out,
+                           el_error *err)
+{
+    if (ap->band != NULL && ap->band_samples == s->n_samples && ap->band_dt == s->dt &&
+        ap->band_lo == lo && ap->band_hi == hi) {
+        for (size_t i = 0; i < ap->band_warnings.count; i++)
+            if (el_warnings_add(input_warnings, "%s", ap->band_warnings.items[i]) != EL_OK)
+                return el_error_set(err, EL_ERR_NOMEM, "out of memory for a warning");
+        *out = ap->band;
+        return EL_OK;
+    }
+    el_prep_band_plan_destroy(ap->band);
+    ap->band = NULL;
+    el_warnings_free(&ap->band_warnings);
+    el_prep_band_plan *plan = NULL;
+    el_status st = el_prep_band_plan_create(s->n_samples, s->dt, lo, hi, &plan,
+                                            &ap->band_warnings, err);
+    for (size_t i = 0; st == EL_OK && i < ap->band_warnings.count; i++)
+        if (el_warnings_add(input_warnings, "%s", ap->band_warnings.items[i]) != EL_OK)
+            st = el_error_set(err, EL_ERR_NOMEM, "out of memory for a warning");
+    if (st != EL_OK) {
+        el_prep_band_plan_destroy(plan);
+        el_warnings_free(&ap->band_warnings);
+        return st;
+    }
+    ap->band = plan;
+    ap->band_samples = s->n_samples;
+    ap->band_dt = s->dt;
+    ap->band_lo = lo;
+    ap->band_hi = hi;
+    *out = plan;
+    return EL_OK;
+}
+
+/* el_fit through a kept plan of the same sizes and options (made on first
+ * use: the same results, warnings and errors as el_fit, and like el_fit
+ * the model is freed on error). */
+static el_status plan_fit(el_assess_plan *ap, const el_series *s,
+                          const el_fit_options *fit, el_model *model,
+                          el_warnings *warnings, el_error *err)
+{
+    size_t nu = fit->inputs != NULL ? fit->inputs->n_channels : 0;
+    fit_slot *slot = NULL, *oldest = &ap->fits[0];
+    for (size_t i = 0; i < ASSESS_FIT_PLANS && slot == NULL; i++) {
+        fit_slot *f = &ap->fits[i];
+        if (f->plan != NULL && f->method == fit->method && f->lags == fit->lags &&
+            f->depth == fit->depth && f->rank == fit->rank &&
+            f->n_samples == s->n_samples && f->n_channels == s->n_channels &&
+            f->n_inputs == nu)
+            slot = f;
+        else if (f->plan == NULL || (oldest->plan != NULL && f->used < oldest->used))
+            oldest = f;
+    }
+    el_status st = EL_OK;
+    if (slot == NULL) {
+        el_fit_plan *plan = NULL;
+        st = el_fit_plan_create(s->n_samples, s->n_channels, fit, &plan, err);
+        if (st != EL_OK)
+            return st;
+        el_fit_plan_destroy(oldest->plan);
+        slot = oldest;
+        slot->plan = plan;
+        slot->method = fit->method;
+        slot->lags = fit->lags;
+        slot->depth = fit->depth;
+        slot->rank = fit->rank;
+        slot->n_samples = s->n_samples;
+        slot->n_channels = s->n_channels;
+        slot->n_inputs = nu;
+    }
+    slot->used = ++ap->uses;
+    st = el_fit_plan_execute_inputs(slot->plan, s, fit->inputs, model, warnings, err);
+    if (st != EL_OK)
+        el_model_free(model);
+    return st;
+}
+
 el_status el_assess_analyse(const el_assess_options *opt, el_assessment *r,
                             el_error *err)
 {
-    el_status st = prepare(opt, r, err);
+    el_assess_plan *ap = NULL;
+    el_status st = el_assess_plan_create(r->series.n_samples, r->series.n_channels,
+                                         r->has_inputs ? r->inputs.n_channels : 0, &ap,
+                                         err);
+    if (st == EL_OK)
+        st = el_assess_execute(ap, opt, r, err);
+    el_assess_plan_destroy(ap);
+    return st;
+}
+
+el_status el_assess_execute(el_assess_plan *ap, const el_assess_options *opt,
+                            el_assessment *r, el_error *err)
+{
+    if (ap == NULL || opt == NULL || r == NULL)
+        return el_error_set(err, EL_ERR_INTERNAL, "el_assess_execute: NULL argument");
+    el_status st = prepare(ap, opt, r, err);
     if (st == EL_OK)
         st = detect_regime(opt, r, err);
     el_fit_options fit = opt->fit;
@@ -477,7 +630,7 @@ el_status el_assess_analyse(const el_assess_options *opt, el_assessment *r,
         }
     }
     if (st == EL_OK)
-        st = el_fit(&r->series, &fit, &r->model, &r->warnings, err);
+        st = plan_fit(ap, &r->series, &fit, &r->model, &r->warnings, err);
     if (st == EL_OK)
         operating_point(r);
     if (st == EL_OK)
@@ -496,7 +649,7 @@ el_status el_assess_analyse(const el_assess_options *opt, el_assessment *r,
     if (st == EL_OK && opt->boot.replicates > 0 && r->boot.replicates == 0)
         st = withhold_unbounded(r, err);
     if (st == EL_OK && r->method_was_auto)
-        st = cross_check(opt, &fit, r, err);
+        st = cross_check(ap, opt, &fit, r, err);
     if (st == EL_OK)
         st = veto_growth(r, err);
     if (st == EL_OK)

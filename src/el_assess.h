@@ -132,6 +132,34 @@ el_status el_assess_run(const el_assess_options *opt, el_assessment *result,
 el_status el_assess_analyse(const el_assess_options *opt, el_assessment *result,
                             el_error *err);
 
+/* Plan for assessing many windows of the same size (el_track): the fit
+ * workspaces (el_fit_plan: snapshot matrices, SVD and estimator
+ * workspaces) and the band-limit plan (FFTW) are made at the first window
+ * that needs them and reused for every later window of the same sizes and
+ * options (a window with other sizes or another method gets its own, the
+ * least recently used of ASSESS_FIT_PLANS = 4 being replaced). What
+ * depends on a window's data (regime tests, spectra, the bootstrap engine
+ * with its prefix sums, validation) is computed per window. Opaque; one
+ * thread at a time (FFTW planning is not thread-safe). */
+typedef struct el_assess_plan el_assess_plan;
+
+/* Creates an empty plan for windows of n_samples x n_channels with
+ * n_inputs measured inputs (sizes of the first window; the plan adapts to
+ * others) into *plan. EL_ERR_NOMEM; EL_ERR_INTERNAL for a NULL plan. Free
+ * with el_assess_plan_destroy. */
+el_status el_assess_plan_create(size_t n_samples, size_t n_channels, size_t n_inputs,
+                                el_assess_plan **plan, el_error *err);
+
+/* el_assess_analyse through the plan: the same results, warnings and
+ * errors, bit for bit, as el_assess_analyse on the same result and
+ * options, without remaking the plan's workspaces. EL_ERR_INTERNAL for a
+ * NULL argument. */
+el_status el_assess_execute(el_assess_plan *plan, const el_assess_options *opt,
+                            el_assessment *result, el_error *err);
+
+/* Frees the plan. NULL is a no-op. */
+void el_assess_plan_destroy(el_assess_plan *plan);
+
 /* Frees everything the result owns and zeroes it. NULL is a no-op. */
 void el_assessment_free(el_assessment *result);
 

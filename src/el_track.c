@@ -182,10 +182,11 @@ static el_status summarise(const el_assessment *a, double level, el_track_window
     return EL_OK;
 }
 
-/* Assesses window i (samples k0 .. k0 + len - 1 of the loaded series). */
+/* Assesses window i (samples k0 .. k0 + len - 1 of the loaded series)
+ * through the run's assessment plan. */
 static el_status assess_window(const el_track_options *opt, const el_assessment *all,
-                               size_t i, size_t k0, size_t len, el_track_window *w,
-                               el_error *err)
+                               el_assess_plan *plan, size_t i, size_t k0, size_t len,
+                               el_track_window *w, el_error *err)
 {
     el_assessment a;
     memset(&a, 0, sizeof a);
@@ -207,7 +208,7 @@ static el_status assess_window(const el_track_options *opt, const el_assessment 
     o.boot.progress = NULL;
     el_error werr;
     el_error_clear(&werr);
-    st = el_assess_analyse(&o, &a, &werr);
+    st = el_assess_execute(plan, &o, &a, &werr);
     if (st == EL_OK) {
         st = summarise(&a, opt->assess.boot.level, w, err);
     } else if (st != EL_ERR_NOMEM && st != EL_ERR_INTERNAL && st != EL_ERR_USAGE) {
@@ -272,14 +273,21 @@ el_status el_track_run(const el_track_options *opt, el_track_result *result,
                                                       : 0.0;
         result->level = opt->assess.boot.level;
     }
+    /* One plan for every window: they all have len samples of the same
+     * channels, so the fit and band workspaces are made once. */
+    el_assess_plan *plan = NULL;
+    if (st == EL_OK)
+        st = el_assess_plan_create(len, all.series.n_channels,
+                                   all.has_inputs ? all.inputs.n_channels : 0, &plan, err);
     for (size_t i = 0; st == EL_OK && i < count; i++) {
-        st = assess_window(opt, &all, i, i * step, len, &result->windows[i], err);
+        st = assess_window(opt, &all, plan, i, i * step, len, &result->windows[i], err);
         result->n_windows = i + 1;
         if (st == EL_OK && result->windows[i].ok)
             result->n_ok++;
         if (opt->progress != NULL)
             opt->progress(opt->progress_ctx, i + 1, count);
     }
+    el_assess_plan_destroy(plan);
     if (st == EL_OK)
         st = el_track_fit_trend(result, err);
     if (st == EL_OK && !result->has_trend) {
