@@ -287,6 +287,73 @@ static void test_auto_policy(void **state)
     assert_true(strlen(why) > 20);
 }
 
+/* Loads window [from, to] of path (with a band limit, so the band plan is
+ * in play too) into a fresh assessment. */
+static el_assessment load_window(el_assess_options *opt, const char *path,
+                                 const char *from, const char *to)
+{
+    el_assess_defaults(opt);
+    opt->path = path;
+    opt->from_text = from;
+    opt->to_text = to;
+    opt->band_text = "0.05:2";
+    opt->boot.replicates = 200;
+    opt->boot.threads = 2;
+    opt->boot.seed = 7;
+    el_assessment r;
+    memset(&r, 0, sizeof r);
+    el_error err;
+    el_error_clear(&err);
+    assert_int_equal(el_assess_load(opt, &r, &err), EL_OK);
+    return r;
+}
+
+static void assert_same_bits(const el_assessment *a, const el_assessment *b)
+{
+    assert_int_equal(a->modes.n_modes, b->modes.n_modes);
+    assert_int_equal(a->model.method, b->model.method);
+    assert_int_equal(a->cross_ran, b->cross_ran);
+    for (size_t m = 0; m < a->modes.n_modes; m++) {
+        assert_memory_equal(&a->modes.modes[m].lambda_re, &b->modes.modes[m].lambda_re,
+                            sizeof(double));
+        assert_memory_equal(&a->modes.modes[m].lambda_im, &b->modes.modes[m].lambda_im,
+                            sizeof(double));
+        assert_memory_equal(&a->boot.bounds[m].re, &b->boot.bounds[m].re,
+                            sizeof(el_interval));
+    }
+    assert_memory_equal(&a->boot.p_stable, &b->boot.p_stable, sizeof(double));
+    assert_memory_equal(&a->cross_p_stable, &b->cross_p_stable, sizeof(double));
+    assert_int_equal(a->warnings.count, b->warnings.count);
+    assert_int_equal(a->input_warnings.count, b->input_warnings.count);
+}
+
+/* Plan/execute (what track does per window) must give the same bits as a
+ * fresh el_assess_analyse: window A analysed alone, and A again through a
+ * plan that window B (same size) made and used first. Any state a reused
+ * fit or band plan carried over from B would show in A's numbers. */
+static void test_plan_reuse_is_bitwise(void **state)
+{
+    (void)state;
+    el_assess_options oa, ob;
+    el_error err;
+    el_error_clear(&err);
+    el_assessment fresh = load_window(&oa, "datasets/booster_pump.csv", "0", "299.95");
+    assert_int_equal(el_assess_analyse(&oa, &fresh, &err), EL_OK);
+    el_assessment a = load_window(&oa, "datasets/booster_pump.csv", "0", "299.95");
+    el_assessment b = load_window(&ob, "datasets/booster_pump.csv", "300", "600");
+    assert_int_equal(a.series.n_samples, b.series.n_samples);
+    el_assess_plan *plan = NULL;
+    assert_int_equal(el_assess_plan_create(b.series.n_samples, b.series.n_channels, 0,
+                                           &plan, &err), EL_OK);
+    assert_int_equal(el_assess_execute(plan, &ob, &b, &err), EL_OK);
+    assert_int_equal(el_assess_execute(plan, &oa, &a, &err), EL_OK);
+    assert_same_bits(&fresh, &a);
+    el_assess_plan_destroy(plan);
+    el_assessment_free(&fresh);
+    el_assessment_free(&a);
+    el_assessment_free(&b);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -297,6 +364,7 @@ int main(void)
         cmocka_unit_test(test_auto_never_calls_growth_stable),
         cmocka_unit_test(test_auto_policy),
         cmocka_unit_test(test_near_marginal_short_log_is_ambiguous),
+        cmocka_unit_test(test_plan_reuse_is_bitwise),
     };
     return cmocka_run_group_tests_name("assess", tests, NULL, NULL);
 }
