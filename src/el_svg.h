@@ -46,20 +46,22 @@ typedef struct {
     int ylog;
 } el_svg_frame;
 
-/* el_svg_mode_colour. */
+/* Colour of mode m (cycles through 8 colours distinct in hue and lightness,
+ * so clouds stay apart in greyscale print). Static text. */
 const char *el_svg_mode_colour(size_t m);
 
-/* el_svg_put. */
+/* Appends s to the page as it is (markup). */
 void el_svg_put(el_html_ctx *c, const char *s);
 
-/* el_svg_esc. */
+/* Appends s to the page HTML-escaped (el_html_escape); NULL appends nothing. */
 void el_svg_esc(el_html_ctx *c, const char *s);
 
 /* "%.4g" (sig significant digits) or "n/a" for a value that does not
  * exist; never "nan" or "inf". */
 const char *el_svg_num(char *buf, size_t size, double v, int sig);
 
-/* el_svg_put_num. */
+/* Appends v with sig significant digits (el_svg_num): "n/a" when v is
+ * not finite. */
 void el_svg_put_num(el_html_ctx *c, double v, int sig);
 
 /* Unit texts from the time unit u ("" when the log does not say). */
@@ -69,10 +71,11 @@ void el_svg_set_units(el_html_ctx *c, const char *u);
  * writes and closes with </span></header>. kind is static markup. */
 void el_svg_page_open(el_html_ctx *c, const char *kind, const char *source);
 
-/* el_svg_page_begin. */
+/* The assess page's head: el_svg_page_open with c->r's source, then its
+ * window, sample count and interval and channel count; c->r must be set. */
 void el_svg_page_begin(el_html_ctx *c);
 
-/* el_svg_page_end. */
+/* Closes the page: footer, </main>, </body>, </html>. */
 void el_svg_page_end(el_html_ctx *c);
 
 /* ------------------------------------------------------------ verdict */
@@ -83,7 +86,8 @@ const char *el_svg_verdict_colour(const el_verdict *v);
  * between them. */
 void el_svg_p_meter(el_html_ctx *c, double p, const char *name);
 
-/* el_svg_tile_begin. */
+/* Opens a verdict tile with label (static markup) and its value box;
+ * the caller writes the value and closes both divs. */
 void el_svg_tile_begin(el_html_ctx *c, const char *label);
 
 /* A tile's value with its unit, then the start of its small print. */
@@ -96,7 +100,7 @@ void el_svg_verdict_open(el_html_ctx *c, const char *colour, const char *text);
 /* The warnings of n_lists lists, in order, as one box. */
 void el_svg_warnings_box(el_html_ctx *c, const el_warnings *const *lists, size_t n_lists);
 
-/* el_svg_caution_section. */
+/* The caution box (el_assess_caution), escaped. */
 void el_svg_caution_section(el_html_ctx *c);
 
 /* ------------------------------------------------------------ plotting */
@@ -106,13 +110,16 @@ double el_svg_fx(const el_svg_frame *f, double x);
  * (clipped anyway) does not write huge coordinates. */
 double el_svg_fy(const el_svg_frame *f, double y);
 
-/* el_svg_fx_clamped. */
+/* el_svg_fx clamped to 40 px beyond either side of the plot area, so a
+ * far-off value still draws at the edge. */
 double el_svg_fx_clamped(const el_svg_frame *f, double x);
 
 /* 1, 2 or 5 times a power of ten, giving about target steps over span. */
 double el_svg_nice_step(double span, int target);
 
-/* el_svg_tick_text. */
+/* Writes tick value v for ticks step apart: as many decimals as the step
+ * needs (0 for steps >= 1), %.3g beyond 6 decimals or above 1e6; a value
+ * within 1e-9 steps of 0 prints as 0. */
 void el_svg_tick_text(char *buf, size_t size, double v, double step);
 
 /* Opens a figure's SVG; label (escaped) is its accessible name. */
@@ -122,39 +129,46 @@ void el_svg_begin(el_html_ctx *c, double w, double h, const char *label);
  * stay inside the frame. */
 void el_svg_clip_def(el_html_ctx *c, const char *id, const el_svg_frame *f);
 
-/* el_svg_x_ticks. */
+/* Grid lines and labels of the x axis at el_svg_nice_step steps, about
+ * one label per 105 px (at least 3). */
 void el_svg_x_ticks(el_html_ctx *c, const el_svg_frame *f);
 
-/* el_svg_y_ticks. */
+/* Grid lines and labels of the y axis: about 5 steps, or for a log axis
+ * the powers of ten (at most about 7 labels). */
 void el_svg_y_ticks(el_html_ctx *c, const el_svg_frame *f);
 
 /* Axis titles are written by the callers (they hold escaped names and
  * entities); this draws the frame around the plot area. */
 void el_svg_frame_box(el_html_ctx *c, const el_svg_frame *f);
 
-/* el_svg_x_title_begin. */
+/* Opens the x axis title's <text> below the frame, centred; the caller
+ * writes the title and </text>. */
 void el_svg_x_title_begin(el_html_ctx *c, const el_svg_frame *f);
 
-/* el_svg_y_title_begin. */
+/* Opens the y axis title's <text> left of the frame, rotated; the caller
+ * writes the title and </text>. */
 void el_svg_y_title_begin(el_html_ctx *c, const el_svg_frame *f);
 
 /* Appends one point of a cloud (a dot: zero-length subpath, round caps). */
 void el_svg_dot(el_html_ctx *c, const el_svg_frame *f, double x, double y);
 
-/* el_svg_marker. */
+/* A circle of radius 6 px and class cls at data point (x, y). */
 void el_svg_marker(el_html_ctx *c, const el_svg_frame *f, double x, double y, const char *cls);
 
-/* el_svg_robust_span. */
+/* The q and 1 - q quantiles (el_boot_quantile) of the finite values
+ * v[off + k stride], k < n, into *lo and *hi (scratch: n doubles).
+ * Returns the count of finite values (0: *lo, *hi untouched). */
 size_t el_svg_robust_span(const double *v, size_t stride, size_t off, size_t n,
                           double q, double *scratch, double *lo, double *hi);
 
-/* el_svg_widen. */
+/* Widens [*lo, *hi] to hold v; a value that is not finite changes nothing. */
 void el_svg_widen(double *lo, double *hi, double v);
 
-/* el_svg_caption_begin. */
+/* Opens a <figcaption> with the next figure number and title (static
+ * markup); the caller writes the text and </figcaption>. */
 void el_svg_caption_begin(el_html_ctx *c, const char *title);
 
-/* el_svg_clampd. */
+/* v clamped to [lo, hi]. */
 double el_svg_clampd(double v, double lo, double hi);
 
 /* "[lo, hi]"; open_end (static markup) stands for an upper end of +inf
