@@ -182,8 +182,12 @@ el_status cli_choice(const char *option, const char *text, const char *const *ch
 
 static el_status parse_rank(const char *text, long *rank, el_error *err)
 {
-    if (text == NULL || strcmp(text, "full") == 0) {
+    if (text == NULL) {
         *rank = EL_RANK_FULL;
+        return EL_OK;
+    }
+    if (strcmp(text, "full") == 0) {
+        *rank = EL_RANK_ALL;
         return EL_OK;
     }
     if (strcmp(text, "auto") == 0) {

@@ -919,6 +919,11 @@ el_status el_est_instrument_basis(el_est_plan *plan, const el_series *series,
         !plan->core->instrument || plan->depth == 0)
         return el_error_set(err, EL_ERR_INTERNAL, "el_est_instrument_basis: bad arguments");
     size_t d = plan->state_dim;
+    /* --rank full given: every state, as if that rank had been asked; the
+     * test still runs and a warning says when it supports fewer. */
+    int all = rank_opt == EL_RANK_ALL;
+    if (all)
+        rank_opt = (long)d;
     el_est_s1_result res;
     el_status st = stage1_run(plan, series, rank_opt, model, &res, err);
     if (st != EL_OK)
@@ -941,6 +946,14 @@ el_status el_est_instrument_basis(el_est_plan *plan, const el_series *series,
                              "past are above rounding: rank lowered from %ld to %zu",
                              plan->core->name, res.numeric_rank, rank_opt,
                              res.rank);
+    else if (all && res.rank > res.test_rank)
+        st = el_warnings_add(warnings,
+                             "%s: every state kept as --rank full asks (rank %zu), but the "
+                             "rank test of the canonical correlations supports only %zu "
+                             "(tested at 0.1%%): the other directions are poorly "
+                             "determined and their eigenvalues may describe noise; leave "
+                             "--rank out for the tested rank",
+                             plan->core->name, res.rank, res.test_rank);
     else if (rank_opt > 0 && res.rank > res.test_rank)
         st = el_warnings_add(warnings,
                              "%s: rank %zu asked, but only %zu directions are predicted "

@@ -313,7 +313,7 @@ static const el_est_core tls_step = {
 static el_status warn_noise_directions(el_fit_plan *plan, el_model *m, el_warnings *w,
                                        el_error *err)
 {
-    if (plan->rank_opt != EL_RANK_FULL)
+    if (plan->rank_opt != EL_RANK_FULL && plan->rank_opt != EL_RANK_ALL)
         return EL_OK;
     size_t r_gd = el_fit_hard_threshold_rank(m->singular_values, plan->state_dim,
                                              plan->state_dim, plan->n_pairs);

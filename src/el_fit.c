@@ -68,7 +68,7 @@ static el_status check_options(size_t n_samples, size_t n_channels,
     }
     size_t d = n_channels * (opt->lags + 1);
     size_t nu = opt->inputs != NULL ? opt->inputs->n_channels : 0;
-    if (opt->rank < EL_RANK_AUTO) {
+    if (opt->rank < EL_RANK_ALL) {
         el_error_set(err, EL_ERR_USAGE, "rank %ld is not valid", opt->rank);
         el_error_option(err, "--rank");
         el_error_hint(err, "give a positive rank, or 'auto', or leave --rank out "

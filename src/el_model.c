@@ -105,7 +105,7 @@ el_status el_fit_choose_rank(el_fit_plan *plan, el_model *m, el_warnings *w,
         r_num++;
     size_t r;
     m->rank_was_auto = 0;
-    if (plan->rank_opt == EL_RANK_FULL) {
+    if (plan->rank_opt == EL_RANK_FULL || plan->rank_opt == EL_RANK_ALL) {
         r = d;
     } else if (plan->rank_opt == EL_RANK_AUTO) {
         r = el_fit_hard_threshold_rank(sv, d, d, p);

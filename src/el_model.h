@@ -31,12 +31,21 @@ typedef enum {
 
 #define EL_METHOD_COUNT 5
 
+/* Rank options: a positive rank, or
+ *   EL_RANK_FULL (the default): every state for ls, fb and tls; iv and ssi
+ *     keep the directions the rank test of the canonical correlations
+ *     supports;
+ *   EL_RANK_AUTO (--rank auto): the hard threshold (ls) or the rank test;
+ *   EL_RANK_ALL (--rank full given): every state with every method (capped
+ *     at the numerical rank), with a warning when the rank test supports
+ *     fewer. */
 #define EL_RANK_FULL 0L
 #define EL_RANK_AUTO (-1L)
+#define EL_RANK_ALL (-2L)
 
 typedef struct {
     size_t lags;              /* K delay copies: state z[k] = [x[k]; x[k-1]; ...; x[k-K]] */
-    long rank;                /* r > 0, EL_RANK_FULL or EL_RANK_AUTO (ls: Gavish & Donoho
+    long rank;                /* r > 0, EL_RANK_FULL, EL_RANK_AUTO or EL_RANK_ALL (ls: Gavish & Donoho
                                  2014; fb, tls: the test of the canonical correlations of
                                  iv and ssi when the record allows it); iv and ssi take
                                  the test's rank for FULL and AUTO alike */
