@@ -309,8 +309,10 @@ static el_status validate(el_assessment *r, el_error *err)
 {
     el_status st = el_validation_create(r->series.n_channels, r->model.lags,
                                         r->series.n_samples, &r->validation, err);
-    if (st == EL_OK)
+    if (st == EL_OK) {
         el_validation_set_inputs(r->validation, r->has_inputs ? &r->inputs : NULL);
+        el_validation_set_band_limited(r->validation, r->has_band);
+    }
     if (st == EL_OK)
         st = el_validation_run(r->validation, &r->model, &r->series,
                                &r->verdict.stability, &r->warnings, err);
@@ -391,6 +393,27 @@ static el_status withhold_unbounded(el_assessment *r, el_error *err)
                            point);
 }
 
+/* Bootstrap replicates were asked for, but fewer than EL_BOOT_MIN_REPLICATES:
+ * no bootstrap ran (bounds and P(stable) are n/a, null in JSON) and the
+ * point estimate's class is not presented as a verdict that holds. */
+static el_status withhold_too_few(const el_assess_options *opt, el_assessment *r,
+                                  el_error *err)
+{
+    const char *point = r->verdict.stability_name;
+    r->verdict.stability = EL_MARGINAL;
+    r->verdict.stability_name = "marginal";
+    r->verdict.ambiguous = 1;
+    if (el_warnings_add(&r->warnings,
+                        "--boot %zu: fewer than %d bootstrap replicates cannot support "
+                        "bounds or a probability, so none are given (n/a) and no class "
+                        "is confirmed: the point estimate alone says %s; use --boot %d "
+                        "or more (the default is 1000)",
+                        opt->boot.replicates, EL_BOOT_MIN_REPLICATES, point,
+                        EL_BOOT_MIN_REPLICATES) != EL_OK)
+        return el_error_set(err, EL_ERR_NOMEM, "out of memory for a warning");
+    return EL_OK;
+}
+
 /* Fits the cross-check estimator on the same prepared data and compares
  * its stability class with the verdict. Asymmetric on purpose: the most
  * harmful answer is a confident "stable" for a system that is not, so a
@@ -421,7 +444,7 @@ static el_status cross_check(el_assess_plan *ap, const el_assess_options *opt,
     el_status st = plan_fit(ap, &r->series, &cf, &r->cross_model, &quiet, &local);
     if (st == EL_OK)
         st = el_modes_compute(&r->cross_model, &r->cross_modes, &quiet, &local);
-    if (st == EL_OK && opt->boot.replicates > 0) {
+    if (st == EL_OK && opt->boot.replicates >= EL_BOOT_MIN_REPLICATES) {
         el_boot_options bo = opt->boot;
         bo.progress = NULL;
         st = el_boot_run(&r->series, &cf, &r->cross_model, &r->cross_modes, &bo,
@@ -639,14 +662,18 @@ el_status el_assess_execute(el_assess_plan *ap, const el_assess_options *opt,
         st = el_prep_band_check_modes(&r->band, &r->modes, &r->warnings, NULL, err);
     if (st == EL_OK)
         st = crosscheck_spectra(r, err);
-    if (st == EL_OK && opt->boot.replicates > 0)
+    /* Below the minimum count no bootstrap runs: its bounds and P(stable)
+     * would claim a precision a handful of replicates does not have. */
+    int boot_run = opt->boot.replicates >= EL_BOOT_MIN_REPLICATES;
+    if (st == EL_OK && boot_run)
         st = el_boot_run(&r->series, &fit, &r->model, &r->modes, &opt->boot,
                          &r->boot, &r->warnings, err);
     if (st == EL_OK)
-        st = el_verdict_compute(&r->modes, &r->model,
-                                opt->boot.replicates > 0 ? &r->boot : NULL,
+        st = el_verdict_compute(&r->modes, &r->model, boot_run ? &r->boot : NULL,
                                 opt->boot.level, &r->verdict, &r->warnings, err);
-    if (st == EL_OK && opt->boot.replicates > 0 && r->boot.replicates == 0)
+    if (st == EL_OK && opt->boot.replicates > 0 && !boot_run)
+        st = withhold_too_few(opt, r, err);
+    else if (st == EL_OK && boot_run && r->boot.replicates == 0)
         st = withhold_unbounded(r, err);
     if (st == EL_OK && r->method_was_auto)
         st = cross_check(ap, opt, &fit, r, err);

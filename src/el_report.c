@@ -187,7 +187,7 @@ static void text_verdict(const el_assessment *r, el_buf *out)
         el_buf_printf(out, "   P(stable) = %.3f from %zu replicates", v->p_stable,
                       r->boot.replicates);
     else
-        el_buf_printf(out, "   P(stable) not computed (no bootstrap)");
+        el_buf_printf(out, "   P(stable) n/a (no bootstrap ran)");
     el_buf_printf(out, "\nMargin        decay rate %s 1/s, damping ratio %s (least damped mode)\n\n",
                   num(a, 32, v->margin_decay_rate), num(b, 32, v->margin_damping_ratio));
 }

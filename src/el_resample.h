@@ -33,6 +33,15 @@
  * whole log each (the one part of a run whose cost grows with n). */
 #define EL_BOOT_BIAS_MAX_PAIRS 10000
 
+/* Fewest replicates from which the pipeline (el_assess, el_track) reports
+ * bounds and P(stable). Below it the 2.5% tail of a 95% percentile
+ * interval holds fewer than 2.5 replicates and P(stable) moves in steps of
+ * more than 1%: common practice asks for at least a hundred replicates for
+ * standard errors and about a thousand for percentile intervals (Efron &
+ * Tibshirani 1993, "An Introduction to the Bootstrap", ch. 6 and 13;
+ * recalled from memory). el_boot_run itself runs any count. */
+#define EL_BOOT_MIN_REPLICATES 100
+
 typedef struct {
     size_t replicates;            /* 0 = no bootstrap (default 1000) */
     el_resample_kind kind;        /* default EL_RESAMPLE_BLOCKS */

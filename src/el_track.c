@@ -227,6 +227,17 @@ static el_status assess_window(const el_track_options *opt, const el_assessment 
 
 static el_status check_options(const el_track_options *opt, el_error *err)
 {
+    if (opt->assess.boot.replicates > 0 &&
+        opt->assess.boot.replicates < EL_BOOT_MIN_REPLICATES) {
+        el_error_set(err, EL_ERR_USAGE,
+                     "tracking needs bounds in every window, but %zu bootstrap "
+                     "replicates are too few for them (at least %d)",
+                     opt->assess.boot.replicates, EL_BOOT_MIN_REPLICATES);
+        el_error_option(err, "--boot");
+        el_error_hint(err, "use --boot %d or more (a few hundred per window are enough, "
+                           "e.g. --boot 300)", EL_BOOT_MIN_REPLICATES);
+        return EL_ERR_USAGE;
+    }
     if (opt->assess.boot.replicates == 0) {
         el_error_set(err, EL_ERR_USAGE, "tracking needs bootstrap replicates, but --boot is 0");
         el_error_option(err, "--boot");

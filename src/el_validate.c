@@ -227,11 +227,28 @@ static void channel_residuals(el_validation *v, const el_series *s, size_t c,
     *ratio = ss_e / ss_tot;
 }
 
-static el_status add_warnings(const el_validation *v, const el_series *s,
-                              const el_stability *stability, el_warnings *w,
-                              el_error *err)
+/* Why the residuals may be correlated other than missing lags, for the
+ * warning's advice ("" when nothing the tool did explains it). */
+static void correlation_cause(const el_validation *v, const el_model *model, char *out,
+                              size_t size)
 {
-    char buf[32];
+    if (model->rank < model->state_dim)
+        snprintf(out, size, ", which the lowered rank (%zu of %zu states: the directions "
+                 "left out stay in the residuals) can cause by itself: no sign of missing "
+                 "lags", model->rank, model->state_dim);
+    else if (v->band_limited)
+        snprintf(out, size, ", which the band limit can cause by itself (the filter colours "
+                 "what the model does not explain): no sign of missing lags");
+    else
+        snprintf(out, size, ": add lags");
+}
+
+static el_status add_warnings(const el_validation *v, const el_model *model,
+                              const el_series *s, const el_stability *stability,
+                              el_warnings *w, el_error *err)
+{
+    char buf[32], cause[256];
+    correlation_cause(v, model, cause, sizeof cause);
     el_status st = EL_OK;
     double alpha = EL_VALIDATE_WHITENESS_ALPHA / (double)v->n_channels;
     for (size_t c = 0; c < v->n_channels && st == EL_OK; c++) {
@@ -242,10 +259,10 @@ static el_status add_warnings(const el_validation *v, const el_series *s,
         /* below 1e-16 the tail probability carries no meaning beyond "zero" */
         if (p < 1e-16)
             st = el_warnings_add(w, "residuals strongly correlated (Ljung-Box p < 1e-16 "
-                                 "on channel %s): add lags", name);
+                                 "on channel %s)%s", name, cause);
         else
             st = el_warnings_add(w, "residuals strongly correlated (Ljung-Box p = %.2g "
-                                 "on channel %s): add lags", p, name);
+                                 "on channel %s)%s", p, name, cause);
     }
     if (st == EL_OK && v->free_diverges && stability != NULL && *stability == EL_STABLE)
         st = el_warnings_add(w, "free run diverges although the verdict is stable: "
@@ -260,6 +277,12 @@ static el_status add_warnings(const el_validation *v, const el_series *s,
     if (st != EL_OK)
         return el_error_set(err, st, "out of memory");
     return EL_OK;
+}
+
+void el_validation_set_band_limited(el_validation *v, int band_limited)
+{
+    if (v != NULL)
+        v->band_limited = band_limited != 0;
 }
 
 void el_validation_set_inputs(el_validation *v, const el_series *inputs)
@@ -308,5 +331,5 @@ el_status el_validation_run(el_validation *v, const el_model *model,
         if (v->residual_ratio[c] > EL_VALIDATE_EXPLAINS_LITTLE)
             v->explains_little = 1;
     }
-    return add_warnings(v, series, stability, warnings, err);
+    return add_warnings(v, model, series, stability, warnings, err);
 }

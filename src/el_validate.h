@@ -110,6 +110,7 @@ typedef struct {
     int *residual_exact;
     int residuals_white;
     int explains_little;
+    int band_limited;            /* the series was band-limited (el_validation_set_band_limited) */
     el_prediction *prediction;   /* owned: the one-step and free-run traces */
     double *residual;            /* scratch: n_residuals of one channel */
 } el_validation;
@@ -134,12 +135,21 @@ el_status el_validation_create(size_t n_channels, size_t lags, size_t max_sample
  *    when free_diverges and *stability == EL_STABLE;
  *   "residual variance is N% of the signal on channel X: the model
  *    explains little" for each channel over EL_VALIDATE_EXPLAINS_LITTLE.
+ * The "add lags" advice is given only when the correlation can come from
+ * missing lags: when the model keeps fewer directions than states (rank <
+ * state_dim: the dropped directions stay in the residuals) or the series
+ * was band-limited (the filter colours what the model does not explain),
+ * the warning says that instead and advises no lags.
  * Errors: as el_prediction_run (EL_ERR_INTERNAL for a model or series that
  * does not match the plan); EL_ERR_NOMEM when a warning cannot be stored.
  * Reads model and series only. One thread per plan at a time. */
 /* Gives the validation the measured inputs of a model fitted with inputs
  * (see el_prediction_set_inputs). Can't fail. */
 void el_validation_set_inputs(el_validation *v, const el_series *inputs);
+
+/* Tells the validation that the series it will run on was band-limited
+ * (1) or not (0, the default), for the advice above. Can't fail. */
+void el_validation_set_band_limited(el_validation *v, int band_limited);
 
 el_status el_validation_run(el_validation *v, const el_model *model,
                             const el_series *series, const el_stability *stability,
