@@ -3,6 +3,7 @@
  * (el_est_NAME.c defining an el_estimator_type) and one row below. */
 #include "el_estimator.h"
 
+#include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -58,6 +59,22 @@ const char *el_method_description(el_method m)
     return t != NULL ? t->description : "unknown method";
 }
 
+const char *el_estimator_names(char *buf, size_t size)
+{
+    size_t used = 0;
+    if (size == 0)
+        return buf;
+    buf[0] = '\0';
+    for (size_t i = 0; i < N_ESTIMATORS; i++) {
+        int n = snprintf(buf + used, size - used, "%s%s", i > 0 ? ", " : "",
+                         estimators[i]->name);
+        if (n < 0 || (size_t)n >= size - used)
+            break;
+        used += (size_t)n;
+    }
+    return buf;
+}
+
 el_status el_method_parse(const char *text, el_method *m, el_error *err)
 {
     const el_estimator_type *t = el_estimator_find(text);
@@ -67,7 +84,8 @@ el_status el_method_parse(const char *text, el_method *m, el_error *err)
     }
     el_error_set(err, EL_ERR_USAGE, "unknown method '%s'", text != NULL ? text : "");
     el_error_option(err, "--method");
-    el_error_hint(err, "use one of ls, fb, tls, iv, ssi");
+    char names[128];
+    el_error_hint(err, "use one of %s", el_estimator_names(names, sizeof names));
     return EL_ERR_USAGE;
 }
 

@@ -133,6 +133,11 @@ const el_estimator_type *el_estimator_for(el_method m);
 /* The estimator named as --method spells it, NULL for an unknown name. */
 const el_estimator_type *el_estimator_find(const char *name);
 
+/* The names of the table's estimators as --method spells them, in table
+ * order, separated by ", " ("ls, fb, tls, iv, ssi"), into buf (cut short
+ * at an entry that does not fit; "" for size 1). Returns buf. */
+const char *el_estimator_names(char *buf, size_t size);
+
 /* The estimator whose one-step residuals the bootstrap reads for the block
  * length and regenerates in model-based replicates (affine least squares:
  * the regression every method's data dependence is measured with). Never

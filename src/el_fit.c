@@ -35,7 +35,8 @@ static el_status check_options(size_t n_samples, size_t n_channels,
     if (type == NULL) {
         el_error_set(err, EL_ERR_USAGE, "unknown fit method %d", (int)opt->method);
         el_error_option(err, "--method");
-        el_error_hint(err, "use one of ls, fb, tls, iv, ssi");
+        char names[128];
+        el_error_hint(err, "use one of %s", el_estimator_names(names, sizeof names));
         return EL_ERR_USAGE;
     }
     if (opt->inputs != NULL) {
