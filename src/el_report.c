@@ -43,13 +43,20 @@ static void text_header(const el_assessment *r, el_buf *out)
     el_table_format_time(t, s->t0 + (double)(s->n_samples - 1) * s->dt, b, sizeof b);
     el_buf_printf(out, "eigenlog %s  %s\n\n", EL_VERSION, t->source);
     el_buf_printf(out, "Data\n");
-    el_buf_printf(out, "  window       %s .. %s\n", a, b);
+    el_buf_printf(out, "  window       %s .. %s%s%s\n", a, b, t->time_is_iso ? "" : " ",
+                  t->time_is_iso ? "" : t->time_unit[0] ? t->time_unit : "s");
     el_buf_printf(out, "  samples      %zu at dt = %.6g s (%zu rows of %zu used)%s\n",
                   s->n_samples, s->dt, s->rows_used, t->n_rows,
                   s->resampled ? ", resampled" : "");
-    el_buf_printf(out, "  time         %s (%s)\n", t->time_is_iso ? "ISO 8601" : t->time_unit,
-                  t->time_is_iso ? (t->time_zone_known ? "with zone" : "local, zone unknown")
-                  : t->time_unit_source[0] ? t->time_unit_source : "assumed");
+    if (t->time_is_iso)
+        el_buf_printf(out, "  time         ISO 8601 date-times, %s\n",
+                      t->time_zone_known ? "with zone" : "local time of an unknown zone");
+    else if (strcmp(t->time_unit_source, "assumed") == 0 || t->time_unit_source[0] == '\0')
+        el_buf_printf(out, "  time unit    s (assumed: the log gives no unit)\n");
+    else
+        el_buf_printf(out, "  time unit    %s (from the %s)\n", t->time_unit,
+                      strcmp(t->time_unit_source, "--time-unit") == 0 ? "option --time-unit"
+                                                                       : t->time_unit_source);
     el_buf_printf(out, "  channels    ");
     for (size_t c = 0; c < s->n_channels; c++)
         el_buf_printf(out, " %s%s%s%s%s", s->names[c], s->units[c][0] ? " [" : "",
