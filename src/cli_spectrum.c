@@ -66,6 +66,16 @@ static el_status spectra_json(const el_assessment *r, const el_spectra *s,
     el_json_string(&j, "eigenlog", EL_VERSION);
     el_json_string(&j, "file", r->table.source);
     el_json_number(&j, "dt", s->dt);
+    /* dt is in s and frequencies in Hz whatever the log's unit; the unit
+     * the log was written in, how it was found, and ingest's notes. */
+    el_json_string(&j, "time_unit", r->table.time_is_iso ? "s" : r->table.time_unit);
+    el_json_string(&j, "time_unit_source", r->table.time_unit_source);
+    el_json_array_begin(&j, "warnings");
+    for (size_t i = 0; i < r->input_warnings.count; i++)
+        el_json_string(&j, NULL, r->input_warnings.items[i]);
+    for (size_t i = 0; i < r->warnings.count; i++)
+        el_json_string(&j, NULL, r->warnings.items[i]);
+    el_json_array_end(&j);
     el_json_int(&j, "segment_length", (long long)s->segment_length);
     el_json_int(&j, "segments", (long long)s->n_segments);
     el_json_number(&j, "df_hz", s->df_hz);

@@ -274,6 +274,9 @@ el_status el_track_run(const el_track_options *opt, el_track_result *result,
         result->time_origin_s = all.table.time_is_iso ? (double)all.table.time_origin_unix_s
                                                       : 0.0;
         result->level = opt->assess.boot.level;
+        /* What ingest decided (text columns skipped, seconds assumed). */
+        for (size_t i = 0; st == EL_OK && i < all.table.notes.count; i++)
+            st = el_warnings_add(&result->warnings, "%s", all.table.notes.items[i]);
     }
     for (size_t i = 0; st == EL_OK && i < count; i++) {
         st = assess_window(opt, &all, i, i * step, len, &result->windows[i], err);
