@@ -3,13 +3,13 @@
 # AddressSanitizer + UndefinedBehaviorSanitizer. See DEVELOPERS.md.
 
 CC      ?= cc
-PKGS    := lapacke openblas fftw3
+PKGS    := lapacke openblas fftw3 zlib
 # Debian packages the build and the tests need (make deps installs the missing).
 DEB_PKGS := build-essential pkg-config liblapacke-dev libopenblas-dev \
-            libfftw3-dev libcmocka-dev chromium fonts-dejavu-core
+            libfftw3-dev libcmocka-dev zlib1g-dev chromium fonts-dejavu-core
 
 PKG_CFLAGS := $(shell pkg-config --cflags $(PKGS) 2>/dev/null)
-PKG_LIBS   := $(shell pkg-config --libs $(PKGS) 2>/dev/null || echo -llapacke -lopenblas -lfftw3)
+PKG_LIBS   := $(shell pkg-config --libs $(PKGS) 2>/dev/null || echo -llapacke -lopenblas -lfftw3 -lz)
 CMOCKA_CFLAGS := $(shell pkg-config --cflags cmocka 2>/dev/null)
 CMOCKA_LIBS   := $(shell pkg-config --libs cmocka 2>/dev/null || echo -lcmocka)
 

@@ -21,7 +21,7 @@ typedef struct {
  * of the table (NULL when absent; "" for a flag that was given) and the
  * positional arguments. Points into argv; nothing to free. */
 #define CLI_MAX_OPTIONS 48
-#define CLI_MAX_POSITIONAL 8
+#define CLI_MAX_POSITIONAL 1000
 typedef struct {
     const char *value[CLI_MAX_OPTIONS];
     const char *positional[CLI_MAX_POSITIONAL];
@@ -73,15 +73,22 @@ void cli_print_help(const char *usage, const char *description,
 
 /* The options of the model and its bootstrap, shared by every subcommand
  * that fits (assess, track): rows to put at the head of its table. */
-#define CLI_MODEL_OPTION_ROWS                                                                 \
+#define CLI_INPUT_OPTION_ROWS                                                                 \
     {"time", "COL", "time column (default: the first column)"},                               \
+    {"time-unit", "UNIT",                                                                     \
+     "unit of the time numbers: s, ms, us, ns, min, h, d, year (default: from the header, "   \
+     "else s)"},                                                                              \
+    {"decimal", ".|,", "decimal separator of the numbers (default: detected)"}
+
+#define CLI_MODEL_OPTION_ROWS                                                                 \
+    CLI_INPUT_OPTION_ROWS,                                                                    \
     {"channels", "A,B,..", "state channels (default: every column but time)"},                \
-    {"from", "T", "window start, in the time column's units or ISO 8601"},                    \
+    {"from", "T", "window start, in the log's own time unit, or ISO 8601"},                   \
     {"to", "T", "window end, likewise"},                                                      \
     {"max-gap", "N", "longest run of missing samples to fill (default 5)"},                   \
     {"detrend", "none|mean|linear",                                                           \
      "remove each channel's mean or straight-line drift first (default none)"},               \
-    {"band", "LO:HI", "zero-phase band limit in Hz (per time unit) before the fit"},          \
+    {"band", "LO:HI", "zero-phase band limit in Hz before the fit"},                          \
     {"input", "COL,..",                                                                       \
      "measured input columns: excitation, not state (z[k+1] = Ad z + B u + c)"},              \
     {"lags", "K|auto", "delay copies of every channel in the state (default 0; auto: by BIC)"}, \
@@ -98,6 +105,20 @@ void cli_print_help(const char *usage, const char *description,
     {"level", "P", "level of the bounds and of a confident verdict (default 0.95)"},          \
     {"seed", "S", "random seed (default 1): same seed, same numbers"},                        \
     {"threads", "N", "worker threads (default: all cores)"}
+
+/* Reads --time-unit and --decimal (rows CLI_INPUT_OPTION_ROWS) into
+ * *unit (NULL when absent) and *decimal (0 when absent). EL_ERR_USAGE
+ * naming the option, with a hint, for a value that is not a unit of time
+ * or not "." or ",". */
+el_status cli_input_options(const cli_args *args, const cli_option *table, size_t n_options,
+                            const char **unit, char *decimal, el_error *err);
+
+/* The log files of a subcommand that reads one log from one or more files
+ * (the positional arguments): sets opt->path (the first) and opt->paths,
+ * opt->n_paths. EL_ERR_USAGE with the usage line as hint when there is
+ * none, or when "-" (standard input) is given twice. */
+el_status cli_log_files(const cli_args *args, const char *usage, el_assess_options *opt,
+                        el_error *err);
 
 /* The value given for option name (NULL when absent). */
 const char *cli_value(const cli_args *args, const cli_option *table, size_t n_options,

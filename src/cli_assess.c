@@ -53,13 +53,9 @@ static el_status parse_assess(const cli_args *a, assess_cli *c, el_error *err)
 {
     memset(c, 0, sizeof *c);
     el_assess_defaults(&c->assess);
-    if (a->n_positional != 1) {
-        el_error_set(err, EL_ERR_USAGE, a->n_positional == 0 ? "no log file given"
-                                                             : "more than one log file given");
-        el_error_hint(err, "eigenlog assess FILE [options]; FILE may be - for stdin");
-        return EL_ERR_USAGE;
-    }
-    c->assess.path = a->positional[0];
+    el_status files = cli_log_files(a, "eigenlog assess FILE... [options]", &c->assess, err);
+    if (files != EL_OK)
+        return files;
     c->json_path = opt_value(a, "json");
     c->html_path = opt_value(a, "html");
     c->replicates_path = opt_value(a, "replicates");
@@ -119,10 +115,12 @@ int cli_assess(int argc, char **argv)
     assess_cli c;
     el_status st = cli_parse(argc, argv, OPTIONS, N_OPTIONS, &a, &err);
     if (st == EL_OK && a.help) {
-        cli_print_help("eigenlog assess FILE [options]",
+        cli_print_help("eigenlog assess FILE... [options]",
                        "Fits a local linear model z[k+1] = Ad z[k] + c to the log's channels,\n"
                        "reports the operating point, the modes (frequency, damping, shape),\n"
-                       "the fixed point's type and whether it is stable, with bootstrap bounds.",
+                       "the fixed point's type and whether it is stable, with bootstrap bounds.\n"
+                       "Several files (e.g. daily logs) are read as one log; FILE may be - for\n"
+                       "standard input or gzip-compressed (.gz).",
                        OPTIONS, N_OPTIONS);
         return 0;
     }

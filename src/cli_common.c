@@ -236,10 +236,60 @@ static el_status model_numbers(const cli_args *a, const cli_option *t, size_t n,
     return EL_OK;
 }
 
+el_status cli_input_options(const cli_args *a, const cli_option *t, size_t n,
+                            const char **unit, char *decimal, el_error *err)
+{
+    const char *v = cli_value(a, t, n, "time-unit");
+    double scale;
+    const char *name;
+    if (v != NULL && !el_time_unit_parse(v, &scale, &name)) {
+        el_error_set(err, EL_ERR_USAGE, "'%s' is not a unit of time", v);
+        el_error_option(err, "--time-unit");
+        el_error_hint(err, "give s, ms, us, ns, min, h, d or year");
+        return EL_ERR_USAGE;
+    }
+    *unit = v;
+    v = cli_value(a, t, n, "decimal");
+    if (v != NULL && strcmp(v, ".") != 0 && strcmp(v, ",") != 0) {
+        el_error_set(err, EL_ERR_USAGE, "'%s' is not a decimal separator", v);
+        el_error_option(err, "--decimal");
+        el_error_hint(err, "give --decimal , (decimal comma) or --decimal . (point)");
+        return EL_ERR_USAGE;
+    }
+    *decimal = v != NULL ? v[0] : 0;
+    return EL_OK;
+}
+
+el_status cli_log_files(const cli_args *a, const char *usage, el_assess_options *o,
+                        el_error *err)
+{
+    if (a->n_positional == 0) {
+        el_error_set(err, EL_ERR_USAGE, "no log file given");
+        el_error_hint(err, "%s; FILE may be - for stdin, several files are read as one log",
+                      usage);
+        return EL_ERR_USAGE;
+    }
+    size_t dashes = 0;
+    for (size_t i = 0; i < a->n_positional; i++)
+        dashes += strcmp(a->positional[i], "-") == 0;
+    if (dashes > 1) {
+        el_error_set(err, EL_ERR_USAGE, "standard input (-) given %zu times", dashes);
+        el_error_hint(err, "standard input can be read once; give the other logs as files");
+        return EL_ERR_USAGE;
+    }
+    o->path = a->positional[0];
+    o->paths = a->positional;
+    o->n_paths = a->n_positional;
+    return EL_OK;
+}
+
 el_status cli_model_options(const cli_args *a, const cli_option *t, size_t n,
                             el_assess_options *o, el_error *err)
 {
     static const char *const kinds[] = {"blocks", "model"};
+    el_status in = cli_input_options(a, t, n, &o->time_unit, &o->decimal, err);
+    if (in != EL_OK)
+        return in;
     o->time_column = cli_value(a, t, n, "time");
     o->channels = cli_value(a, t, n, "channels");
     o->from_text = cli_value(a, t, n, "from");

@@ -10,9 +10,9 @@
 #include "el_spectrum.h"
 
 static const cli_option OPTIONS[] = {
-    {"time", "COL", "time column (default: the first column)"},
+    CLI_INPUT_OPTION_ROWS,
     {"channels", "A,B,..", "channels (default: every column but time)"},
-    {"from", "T", "window start, in the time column's units or ISO 8601"},
+    {"from", "T", "window start, in the log's own time unit, or ISO 8601"},
     {"to", "T", "window end, likewise"},
     {"max-gap", "N", "longest run of missing samples to fill (default 5)"},
     {"segment", "N", "samples per Welch segment (default: largest power of two <= n/4, >= 64)"},
@@ -66,6 +66,16 @@ static el_status spectra_json(const el_assessment *r, const el_spectra *s,
     el_json_string(&j, "eigenlog", EL_VERSION);
     el_json_string(&j, "file", r->table.source);
     el_json_number(&j, "dt", s->dt);
+    /* dt is in s and frequencies in Hz whatever the log's unit; the unit
+     * the log was written in, how it was found, and ingest's notes. */
+    el_json_string(&j, "time_unit", r->table.time_is_iso ? "s" : r->table.time_unit);
+    el_json_string(&j, "time_unit_source", r->table.time_unit_source);
+    el_json_array_begin(&j, "warnings");
+    for (size_t i = 0; i < r->input_warnings.count; i++)
+        el_json_string(&j, NULL, r->input_warnings.items[i]);
+    for (size_t i = 0; i < r->warnings.count; i++)
+        el_json_string(&j, NULL, r->warnings.items[i]);
+    el_json_array_end(&j);
     el_json_int(&j, "segment_length", (long long)s->segment_length);
     el_json_int(&j, "segments", (long long)s->n_segments);
     el_json_number(&j, "df_hz", s->df_hz);
@@ -131,18 +141,16 @@ static el_status parse(const cli_args *a, el_assess_options *o,
 {
     el_assess_defaults(o);
     el_spectrum_defaults(so);
-    if (a->n_positional != 1) {
-        el_error_set(err, EL_ERR_USAGE, "give exactly one log file");
-        el_error_hint(err, "eigenlog spectrum FILE [options]; FILE may be - for stdin");
-        return EL_ERR_USAGE;
-    }
-    o->path = a->positional[0];
+    el_status st = cli_log_files(a, "eigenlog spectrum FILE... [options]", o, err);
+    if (st == EL_OK)
+        st = cli_input_options(a, OPTIONS, N_OPTIONS, &o->time_unit, &o->decimal, err);
+    if (st != EL_OK)
+        return st;
     o->time_column = val(a, "time");
     o->channels = val(a, "channels");
     o->from_text = val(a, "from");
     o->to_text = val(a, "to");
     const char *v;
-    el_status st = EL_OK;
     if ((v = val(a, "max-gap")) && (st = cli_size("max-gap", v, 0, 1000000, &o->max_gap, err)))
         return st;
     if ((v = val(a, "segment")) && (st = cli_size("segment", v, 1, (size_t)1 << 30, &so->segment_length, err)))
@@ -201,7 +209,7 @@ int cli_spectrum(int argc, char **argv)
     el_error_clear(&err);
     el_status st = cli_parse(argc, argv, OPTIONS, N_OPTIONS, &a, &err);
     if (st == EL_OK && a.help) {
-        cli_print_help("eigenlog spectrum FILE [options]",
+        cli_print_help("eigenlog spectrum FILE... [options]",
                        "Welch power spectral density of each channel (Hann window, 50% overlap,\n"
                        "segments averaged; density scaled so it integrates to the variance)\n"
                        "and its peaks: frequency, height, width at half height.",

@@ -11,7 +11,7 @@
 
 static const cli_option OPTIONS[] = {
     CLI_MODEL_OPTION_ROWS,
-    {"window", "LEN", "window length in the time column's units (default: the span / 8)"},
+    {"window", "LEN", "window length in the log's own time unit (default: the span / 8)"},
     {"step", "LEN", "distance between window starts (default: the window, no overlap)"},
     {"json", "FILE", "write the windows and the trend as JSON (- = standard output)"},
     {"html", "FILE", "write a self-contained HTML report with plots"},
@@ -44,7 +44,7 @@ static el_status parse_length(const char *option, const char *text, double *out,
     char dashed[32];
     snprintf(dashed, sizeof dashed, "--%s", option);
     el_error_option(err, dashed);
-    el_error_hint(err, "give a length in the time column's units (seconds for ISO times), "
+    el_error_hint(err, "give a length in the log's own time unit (seconds for ISO times), "
                        "e.g. --%s 300", option);
     return EL_ERR_USAGE;
 }
@@ -65,13 +65,10 @@ static el_status parse_track(const cli_args *a, track_cli *c, el_error *err)
     static const char *const fails[] = {"shrinking"};
     memset(c, 0, sizeof *c);
     el_track_defaults(&c->track);
-    if (a->n_positional != 1) {
-        el_error_set(err, EL_ERR_USAGE, a->n_positional == 0 ? "no log file given"
-                                                             : "more than one log file given");
-        el_error_hint(err, "eigenlog track FILE [options]; FILE may be - for stdin");
-        return EL_ERR_USAGE;
-    }
-    c->track.assess.path = a->positional[0];
+    el_status files = cli_log_files(a, "eigenlog track FILE... [options]", &c->track.assess,
+                                    err);
+    if (files != EL_OK)
+        return files;
     c->json_path = opt_value(a, "json");
     c->html_path = opt_value(a, "html");
     c->quiet = opt_value(a, "quiet") != NULL;
@@ -129,7 +126,7 @@ int cli_track(int argc, char **argv)
     track_cli c;
     el_status st = cli_parse(argc, argv, OPTIONS, N_OPTIONS, &a, &err);
     if (st == EL_OK && a.help) {
-        cli_print_help("eigenlog track FILE [options]",
+        cli_print_help("eigenlog track FILE... [options]",
                        "Cuts a long log into windows, assesses each as `assess` would (model,\n"
                        "modes, bootstrap, verdict) and fits the trend of the margin, the decay\n"
                        "rate of the least-damped mode: is it shrinking, how fast, and when would\n"

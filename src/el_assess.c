@@ -185,11 +185,18 @@ static el_status build_series(const el_assess_options *opt, el_assessment *r,
 el_status el_assess_load(const el_assess_options *opt, el_assessment *r,
                          el_error *err)
 {
-    el_ingest_options in = {.time_column = opt->time_column};
+    el_ingest_options in = {opt->time_column, opt->time_unit, opt->decimal, opt->channels,
+                            opt->inputs};
     el_status st = opt->stream != NULL
                        ? el_table_read_stream(opt->stream, opt->path ? opt->path : "<stream>",
                                               &in, &r->table, err)
-                       : el_table_read(opt->path, &in, &r->table, err);
+                   : opt->n_paths > 1 ? el_table_read_files(opt->paths, opt->n_paths, &in,
+                                                            &r->table, err)
+                                      : el_table_read(opt->path, &in, &r->table, err);
+    /* What ingest decided (skipped columns, assumed unit) leads the warnings. */
+    for (size_t i = 0; st == EL_OK && i < r->table.notes.count; i++)
+        if ((st = el_warnings_add(&r->input_warnings, "%s", r->table.notes.items[i])))
+            el_error_set(err, st, "out of memory for a warning");
     if (st == EL_OK)
         st = build_series(opt, r, err);
     return st;

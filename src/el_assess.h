@@ -25,6 +25,12 @@ typedef struct {
     const char *path;             /* CSV file, "-" = stdin; the name used in messages */
     FILE *stream;                 /* when not NULL: read the log from this open stream
                                      instead of opening path (e.g. fmemopen) */
+    const char *const *paths;     /* n_paths > 1: files read as one log (el_table_read_files;
+                                     path is then paths[0]); else path alone */
+    size_t n_paths;
+    const char *time_unit;        /* --time-unit: unit of the log's time numbers; NULL =
+                                     from the header, else seconds */
+    char decimal;                 /* --decimal: 0 detect, '.' or ',' */
     const char *time_column;      /* NULL = first column */
     const char *channels;         /* comma-separated names; NULL = all but time and inputs */
     const char *inputs;           /* --input: comma-separated measured input columns, NULL = none */

@@ -3,6 +3,7 @@
  * (el_estimator.h), then physical units, the fixed point and one-step fit
  * statistics. */
 #include "el_fit.h"
+#include "el_stats.h"
 
 #include <cblas.h>
 #include <float.h>
@@ -296,15 +297,8 @@ static el_status series_scaling(const el_series *s, double *mean_out,
 {
     size_t n = s->n_samples;
     for (size_t c = 0; c < s->n_channels; c++) {
-        const double *x = s->values + c * n;
-        double sum = 0.0;
-        for (size_t k = 0; k < n; k++)
-            sum += x[k];
-        double mean = sum / (double)n;
-        double ss = 0.0;
-        for (size_t k = 0; k < n; k++)
-            ss += (x[k] - mean) * (x[k] - mean);
-        double sd = sqrt(ss / (double)n);
+        double mean, sd;
+        int constant = el_stats_spread(s->values + c * n, n, &mean, &sd);
         const char *name = s->names != NULL && s->names[c] != NULL ? s->names[c] : "?";
         if (!isfinite(mean) || !isfinite(sd)) {
             el_error_set(err, EL_ERR_DATA,
@@ -313,10 +307,8 @@ static el_status series_scaling(const el_series *s, double *mean_out,
             el_error_hint(err, "rescale the channel, or leave it out with --channels");
             return EL_ERR_DATA;
         }
-        /* Relative 1e-12: below this the spread is at the level of the
-         * rounding of the stored values themselves (about 1e-16 relative
-         * per value, grown by summation), so it carries no dynamics. */
-        if (sd == 0.0 || sd <= 1e-12 * fabs(mean)) {
+        /* Scale-free (el_stats_spread): relative 1e-12 of the mean. */
+        if (constant) {
             el_error_set(err, EL_ERR_DATA,
                          "%s '%s' is constant over the window "
                          "(value %.9g): it has no dynamics to fit", kind, name, mean);

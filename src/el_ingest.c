@@ -8,6 +8,7 @@
 #include <stdarg.h>
 #include <stdlib.h>
 #include <string.h>
+#include <zlib.h>
 
 /* Bytes asked of the stream per read. The buffer holds the unconsumed part
  * of the current record plus at least one chunk, so it only grows past this
@@ -29,6 +30,16 @@ typedef struct {
     size_t beg, end;  /* unconsumed data is buf[beg, end) */
     int eof;
     long line;        /* 1-based line number of buf[beg] */
+    int cr_only;      /* 1: line ends are lone CRs, turned into LFs as read */
+    /* Raw bytes from the stream; decompressed from here when gzip. */
+    int started;      /* 0 until the first raw bytes were looked at */
+    int gz;           /* 1: the stream is gzip data */
+    int gz_open;      /* 1: z holds an inflate state (inflateEnd needed) */
+    int gz_done;      /* 1: the last gzip member ended */
+    z_stream z;
+    unsigned char *raw;
+    size_t raw_beg, raw_end;
+    int raw_eof;
 } reader;
 
 enum { KIND_UNKNOWN, KIND_BLANK, KIND_COMMENT, KIND_DATA };
@@ -77,7 +88,21 @@ typedef struct {
     el_table *t;
     size_t cap_rows;
     int time_kind;
+    char decimal;       /* '.', ',' or 0 = not decided yet (first number with
+                           a separator decides; a comma only when the
+                           delimiter is not a comma) */
+    int zone_seen;      /* ISO: the first row had a zone */
+    unsigned char *col_kind;  /* n_columns: COL_UNKNOWN, COL_NUMBER, COL_TEXT */
+    unsigned char *wanted;    /* n_columns: asked for with --channels/--input */
+    long *text_line;          /* n_columns: line of the first text cell, 0 = none */
+    int channels_listed;      /* 1: --channels named the state columns */
+    long time_header_column;  /* character column of the time column's name */
+    el_error skip_error;      /* the error the first skipped text cell would have
+                                 been: given when no number column is left */
+    int skipped_any;
 } ingest;
+
+enum { COL_UNKNOWN, COL_NUMBER, COL_TEXT };
 
 /* Reserves a buffer of at least need bytes, growing geometrically. */
 static int reserve(void **p, size_t *cap, size_t need, size_t elem)
@@ -103,6 +128,131 @@ static el_status no_memory(ingest *g)
     return EL_ERR_NOMEM;
 }
 
+static el_status read_error(ingest *g)
+{
+    char why[128] = "unknown reason";
+    if (errno != 0)
+        strerror_r(errno, why, sizeof why);
+    el_error_set(g->err, EL_ERR_IO, "cannot read %s: %s", g->name, why);
+    el_error_at(g->err, g->name, g->rd.line, 0);
+    el_error_hint(g->err, "check that the path names a readable file, not a folder");
+    return EL_ERR_IO;
+}
+
+/* Reads more raw bytes into rd->raw (empty before the call). */
+static el_status raw_fill(ingest *g)
+{
+    reader *rd = &g->rd;
+    errno = 0;
+    rd->raw_beg = 0;
+    rd->raw_end = fread(rd->raw, 1, READ_CHUNK, rd->stream);
+    if (rd->raw_end < READ_CHUNK) {
+        if (ferror(rd->stream))
+            return read_error(g);
+        rd->raw_eof = 1;
+    }
+    return EL_OK;
+}
+
+static el_status gz_error(ingest *g, const char *what)
+{
+    el_error_set(g->err, EL_ERR_DATA, "the gzip data %s", what);
+    el_error_at(g->err, g->name, g->rd.line, 0);
+    el_error_hint(g->err, "check the file with gzip -t; a file still being written or "
+                          "cut in transfer ends early");
+    return EL_ERR_DATA;
+}
+
+/* Decompresses into dst[0..want) until some output or the end; several
+ * gzip members one after another (gzip a >x; gzip b >>x) are one stream,
+ * and bytes after the last member that do not start another are ignored,
+ * as gzip itself does. */
+static el_status gz_read(ingest *g, char *dst, size_t want, size_t *got)
+{
+    reader *rd = &g->rd;
+    *got = 0;
+    while (*got == 0 && !rd->gz_done) {
+        if (rd->raw_beg == rd->raw_end) {
+            if (rd->raw_eof)
+                return gz_error(g, "ends before the end of the compressed stream");
+            el_status st = raw_fill(g);
+            if (st != EL_OK)
+                return st;
+            if (rd->raw_end == 0)
+                continue;
+        }
+        rd->z.next_in = rd->raw + rd->raw_beg;
+        rd->z.avail_in = (uInt)(rd->raw_end - rd->raw_beg);
+        rd->z.next_out = (unsigned char *)dst;
+        rd->z.avail_out = (uInt)want;
+        int rc = inflate(&rd->z, Z_NO_FLUSH);
+        rd->raw_beg = rd->raw_end - rd->z.avail_in;
+        *got = want - rd->z.avail_out;
+        if (rc == Z_STREAM_END) {
+            if (rd->raw_beg == rd->raw_end && !rd->raw_eof) {
+                el_status st = raw_fill(g);
+                if (st != EL_OK)
+                    return st;
+            }
+            size_t left = rd->raw_end - rd->raw_beg;
+            if (left >= 2 && rd->raw[rd->raw_beg] == 0x1f && rd->raw[rd->raw_beg + 1] == 0x8b)
+                inflateReset(&rd->z);
+            else
+                rd->gz_done = 1;
+        } else if (rc == Z_MEM_ERROR) {
+            return no_memory(g);
+        } else if (rc != Z_OK && rc != Z_BUF_ERROR) {
+            return gz_error(g, "is corrupt");
+        }
+    }
+    return EL_OK;
+}
+
+/* Reads up to want bytes of text into dst: the stream's bytes, or their
+ * decompression when the stream starts with the gzip magic bytes. */
+static el_status raw_read(ingest *g, char *dst, size_t want, size_t *got)
+{
+    reader *rd = &g->rd;
+    if (!rd->started) {
+        rd->started = 1;
+        rd->raw = malloc(READ_CHUNK);
+        if (rd->raw == NULL)
+            return no_memory(g);
+        el_status st = raw_fill(g);
+        if (st != EL_OK)
+            return st;
+        rd->gz = rd->raw_end >= 2 && rd->raw[0] == 0x1f && rd->raw[1] == 0x8b;
+        if (rd->gz) {
+            memset(&rd->z, 0, sizeof rd->z);
+            /* 15 + 16: gzip wrapper only, largest window. */
+            if (inflateInit2(&rd->z, 15 + 16) != Z_OK)
+                return no_memory(g);
+            rd->gz_open = 1;
+        }
+    }
+    if (rd->gz)
+        return gz_read(g, dst, want, got);
+    if (rd->raw_beg < rd->raw_end) {
+        size_t n = rd->raw_end - rd->raw_beg < want ? rd->raw_end - rd->raw_beg : want;
+        memcpy(dst, rd->raw + rd->raw_beg, n);
+        rd->raw_beg += n;
+        *got = n;
+        return EL_OK;
+    }
+    if (rd->raw_eof) {
+        *got = 0;
+        return EL_OK;
+    }
+    errno = 0;
+    *got = fread(dst, 1, want, rd->stream);
+    if (*got < want) {
+        if (ferror(rd->stream))
+            return read_error(g);
+        rd->raw_eof = 1;
+    }
+    return EL_OK;
+}
+
 /* Moves the unconsumed bytes to the front and reads one more chunk. */
 static el_status refill(ingest *g)
 {
@@ -118,22 +268,16 @@ static el_status refill(ingest *g)
             return no_memory(g);
         rd->buf = p;
     }
-    size_t want = rd->cap - 1 - rd->end;
-    errno = 0;
-    size_t got = fread(rd->buf + rd->end, 1, want, rd->stream);
+    size_t want = rd->cap - 1 - rd->end, got = 0;
+    el_status st = raw_read(g, rd->buf + rd->end, want, &got);
+    if (st != EL_OK)
+        return st;
+    if (rd->cr_only)
+        for (char *p = rd->buf + rd->end, *e = p + got; (p = memchr(p, '\r', (size_t)(e - p)));)
+            *p++ = '\n';
     rd->end += got;
-    if (got < want) {
-        if (ferror(rd->stream)) {
-            char why[128] = "unknown reason";
-            if (errno != 0)
-                strerror_r(errno, why, sizeof why);
-            el_error_set(g->err, EL_ERR_IO, "cannot read %s: %s", g->name, why);
-            el_error_at(g->err, g->name, rd->line, 0);
-            el_error_hint(g->err, "check that the path names a readable file, not a folder");
-            return EL_ERR_IO;
-        }
+    if (got == 0)
         rd->eof = 1;
-    }
     return EL_OK;
 }
 
@@ -326,6 +470,15 @@ static el_status check_start(ingest *g)
     if (n >= 3 && p[0] == 0xEF && p[1] == 0xBB && p[2] == 0xBF)
         rd->beg = 3;
     int utf16 = n >= 2 && ((p[0] == 0xFF && p[1] == 0xFE) || (p[0] == 0xFE && p[1] == 0xFF));
+    /* Old Mac exports end lines with a lone CR: read as one giant line,
+     * such a file gives a baffling error, so its CRs become line ends. */
+    const char *cr = memchr(rd->buf + rd->beg, '\r', n - rd->beg);
+    const char *lf = memchr(rd->buf + rd->beg, '\n', n - rd->beg);
+    if (cr != NULL && (lf == NULL || cr < lf) && (cr + 1 == rd->buf + n || cr[1] != '\n')) {
+        rd->cr_only = 1;
+        for (char *q = rd->buf + rd->beg; (q = memchr(q, '\r', (size_t)(rd->buf + n - q)));)
+            *q++ = '\n';
+    }
     long line = 1, column = 1;
     for (size_t i = rd->beg; i < n && i < SNIFF_BYTES; i++) {
         unsigned char c = p[i];
@@ -590,7 +743,11 @@ static int parse_number(ingest *g, const char *s, size_t n, double *out)
         mant = mant * 10 + (uint64_t)(s[i] - '0');
     size_t digits = i - first;
     long exp10 = 0;
-    if (i < n && s[i] == '.') {
+    char point = 0;
+    if (i < n && (s[i] == g->decimal ||
+                  (g->decimal == 0 && (s[i] == '.' || (s[i] == ',' && g->delim != ',' &&
+                                                       g->delim != 0))))) {
+        point = s[i];
         size_t frac = ++i;
         for (; i < n && is_digit(s[i]); i++)
             mant = mant * 10 + (uint64_t)(s[i] - '0');
@@ -621,6 +778,8 @@ static int parse_number(ingest *g, const char *s, size_t n, double *out)
     }
     if (i != n)
         return NUM_SYNTAX;
+    if (point != 0 && g->decimal == 0)
+        g->decimal = point;
 #if FLT_EVAL_METHOD == 0
     if (mant == 0) {
         *out = negative ? -0.0 : 0.0;
@@ -640,6 +799,8 @@ static int parse_number(ingest *g, const char *s, size_t n, double *out)
         return NUM_RANGE;
     memcpy(g->numtext, s, n);
     g->numtext[n] = '\0';
+    if (point == ',')
+        *strchr(g->numtext, ',') = '.';
     errno = 0;
     char *end;
     double v = strtod(g->numtext, &end);
@@ -652,7 +813,7 @@ static int parse_number(ingest *g, const char *s, size_t n, double *out)
 }
 
 /* Says why a cell that is not a plain decimal was refused. */
-static const char *number_hint(const char *s, size_t n, char delim, int range)
+static const char *number_hint(const char *s, size_t n, char delim, char decimal, int range)
 {
     if (range)
         return "the value is beyond the range of a double (about 1.8e308); "
@@ -665,8 +826,15 @@ static const char *number_hint(const char *s, size_t n, char delim, int range)
         return "hexadecimal numbers are not accepted; write the value in decimal";
     if (equals_nocase(s + i, n - i, "nan") || (n - i > 3 && equals_nocase(s + i, 4, "nan(")))
         return "write NA (or NaN, without sign or payload) for a missing value";
+    if (decimal == ',' && memchr(s, '.', n) != NULL)
+        return "this log's numbers use a decimal comma (found in an earlier cell): write "
+               "1,5, not 1.5, or give --decimal . if the point is right";
     if (delim != ',' && memchr(s, ',', n) != NULL)
-        return "use a point as the decimal separator (1.5, not 1,5)";
+        return "an earlier cell used a decimal point: write every number alike, or give "
+               "--decimal , for a decimal comma";
+    if (delim == ',' && memchr(s, ',', n) != NULL)
+        return "with commas between cells a decimal comma needs the cell in quotes "
+               "(\"1,5\") and --decimal ,";
     if (i < n && (is_digit(s[i]) || s[i] == '.'))
         return "remove the text after the number (units belong in the header as "
                "\"name [unit]\"), or write NA for a missing value";
@@ -770,7 +938,7 @@ static const char *parse_zone(const char *s, size_t n, size_t *i, iso_time *out)
  * rules (which would make the result depend on the machine). Second 60 (a
  * leap second) is accepted and, as in Unix time, lands on the next
  * minute's second 0. */
-static const char *parse_iso(ingest *g, const char *s, size_t n, iso_time *out)
+static const char *parse_iso(const char *s, size_t n, iso_time *out)
 {
     const char *const shape = "expected a date-time like 2026-03-14T08:00:00.250+01:00";
     size_t i = 0;
@@ -800,12 +968,20 @@ static const char *parse_iso(ingest *g, const char *s, size_t n, iso_time *out)
             return shape;
         if (second > 60)
             return "second out of range 0-60";
-        if (i < n && s[i] == '.') {
-            size_t f = i++;
-            while (i < n && is_digit(s[i]))
-                i++;
-            if (i == f + 1 || parse_number(g, s + f, i - f, &out->frac_s) != NUM_OK)
+        /* ISO 8601 allows a comma before the fraction too. Up to 18
+         * digits count (exact in uint64; 1e18 is exact in a double). */
+        if (i < n && (s[i] == '.' || s[i] == ',')) {
+            size_t f = ++i;
+            uint64_t num = 0;
+            double scale = 1.0;
+            for (; i < n && is_digit(s[i]); i++)
+                if (i - f < 18) {
+                    num = num * 10 + (uint64_t)(s[i] - '0');
+                    scale *= 10.0;
+                }
+            if (i == f)
                 return "expected digits after the decimal point of the seconds";
+            out->frac_s = (double)num / scale;
         }
     }
     const char *why = parse_zone(s, n, &i, out);
@@ -837,9 +1013,12 @@ static el_status add_column(ingest *g, size_t c, const char *s, size_t n)
         if (open != NULL) {
             unit = open + 1;
             unit_n = (size_t)(s + n - 1 - unit);
-            n = (size_t)(open - s);
-            trim(&s, &n);
             trim(&unit, &unit_n);
+            /* "[s]" alone names the column by its unit: keep it whole. */
+            size_t name_n = (size_t)(open - s);
+            trim(&s, &name_n);
+            if (name_n > 0 || unit_n == 0)
+                n = name_n;
         }
     }
     char *name = malloc(n + 1), *u = malloc(unit_n + 1);
@@ -871,28 +1050,62 @@ static void list_columns(const el_table *t, char *out, size_t size)
         memcpy(out + size - 4, "...", 4);
 }
 
+typedef struct {
+    const char *name;
+    size_t index;
+} named_column;
+
+/* Orders columns by name, equal names by index. */
+static int compare_names(const void *a, const void *b)
+{
+    const named_column *x = a, *y = b;
+    int c = strcmp(x->name, y->name);
+    return c != 0 ? c : (x->index > y->index) - (x->index < y->index);
+}
+
+/* Empty and duplicate names. Duplicates are found by sorting the indices
+ * by name (n log n: a header of 100,000 columns is checked in
+ * milliseconds, where comparing every pair took most of a minute); the
+ * one reported is the earliest column that repeats an earlier name, as a
+ * reader scanning the header from the left would find it. */
 static el_status check_names(ingest *g, const record *r)
 {
     el_table *t = g->t;
-    for (size_t c = 0; c < t->n_columns; c++) {
+    for (size_t c = 0; c < t->n_columns; c++)
         if (t->names[c][0] == '\0')
             return fail_at(g, r, g->spans[c].raw,
                            "give every column a name in the header row (a trailing "
                            "delimiter makes an empty one)",
                            "column %zu has an empty name", c + 1);
-        for (size_t k = 0; k < c; k++)
-            if (strcmp(t->names[k], t->names[c]) == 0) {
-                long line, col;
-                locate(r, g->spans[k].raw, &line, &col);
-                char hint[EL_ERROR_TEXT_MAX];
-                snprintf(hint, sizeof hint,
-                         "rename one of the two columns; the first is column %zu "
-                         "(character %ld)", k + 1, col);
-                return fail_at(g, r, g->spans[c].raw, hint,
-                               "duplicate column name \"%.100s\"", t->names[c]);
-            }
+    named_column *order = malloc(t->n_columns * sizeof *order);
+    if (order == NULL)
+        return no_memory(g);
+    for (size_t c = 0; c < t->n_columns; c++)
+        order[c] = (named_column){t->names[c], c};
+    qsort(order, t->n_columns, sizeof *order, compare_names);
+    size_t first = NONE, second = NONE, group = 0;
+    for (size_t i = 1; i < t->n_columns; i++) {
+        if (strcmp(order[i - 1].name, order[i].name) != 0) {
+            group = i;
+            continue;
+        }
+        /* order[group] is the earliest column of this name. */
+        if (second == NONE || order[i].index < second) {
+            first = order[group].index;
+            second = order[i].index;
+        }
     }
-    return EL_OK;
+    free(order);
+    if (second == NONE)
+        return EL_OK;
+    long line, col;
+    locate(r, g->spans[first].raw, &line, &col);
+    char hint[EL_ERROR_TEXT_MAX];
+    snprintf(hint, sizeof hint,
+             "rename one of the two columns; the first is column %zu (character %ld)",
+             first + 1, col);
+    return fail_at(g, r, g->spans[second].raw, hint, "duplicate column name \"%.100s\"",
+                   t->names[second]);
 }
 
 /* A header whose every name reads as a number is the first data row of a
@@ -935,6 +1148,49 @@ static el_status find_time_column(ingest *g, const el_ingest_options *opt)
     return EL_ERR_USAGE;
 }
 
+/* Marks the columns of a comma-separated list as asked for. Names that
+ * are not in the header are left for the caller's selection to report. */
+static el_status mark_list(ingest *g, const char *list)
+{
+    if (list == NULL)
+        return EL_OK;
+    size_t n = strlen(list);
+    char *copy = malloc(n + 1);
+    if (copy == NULL)
+        return no_memory(g);
+    memcpy(copy, list, n + 1);
+    for (char *item = copy, *next; item != NULL; item = next) {
+        next = strchr(item, ',');
+        if (next != NULL)
+            *next++ = '\0';
+        const char *name = item;
+        size_t len = strlen(item);
+        trim(&name, &len);
+        item[name - item + (long)len] = '\0';
+        long c = el_table_find(g->t, name);
+        if (c >= 0)
+            g->wanted[c] = 1;
+    }
+    free(copy);
+    return EL_OK;
+}
+
+static el_status mark_wanted(ingest *g, const el_ingest_options *opt)
+{
+    size_t n = g->n_columns;
+    g->col_kind = calloc(n, sizeof *g->col_kind);
+    g->wanted = calloc(n, sizeof *g->wanted);
+    g->text_line = calloc(n, sizeof *g->text_line);
+    if (g->col_kind == NULL || g->wanted == NULL || g->text_line == NULL)
+        return no_memory(g);
+    g->wanted[g->t->time_column] = 1;
+    if (opt == NULL)
+        return EL_OK;
+    g->channels_listed = opt->channels != NULL && opt->channels[0] != '\0';
+    el_status st = mark_list(g, opt->channels);
+    return st == EL_OK ? mark_list(g, opt->inputs) : st;
+}
+
 static el_status read_header(ingest *g, const el_ingest_options *opt)
 {
     record r;
@@ -967,7 +1223,11 @@ static el_status read_header(ingest *g, const el_ingest_options *opt)
             return st;
     if ((st = check_names(g, &r)) != EL_OK || (st = check_not_data(g, &r)) != EL_OK)
         return st;
-    return find_time_column(g, opt);
+    if ((st = find_time_column(g, opt)) != EL_OK)
+        return st;
+    long line;
+    locate(&r, g->spans[t->time_column].raw, &line, &g->time_header_column);
+    return mark_wanted(g, opt);
 }
 
 /* ------------------------------------------------------------------ */
@@ -1054,7 +1314,7 @@ static el_status parse_time_cell(ingest *g, const record *r, const span *f, doub
                           "date-time like 2026-03-14T08:00:00.250+01:00");
     }
     iso_time it;
-    const char *why = iso ? parse_iso(g, s, n, &it) : NULL;
+    const char *why = iso ? parse_iso(s, n, &it) : NULL;
     if (!iso) {
         double v;
         return time_error(g, r, f, s, n,
@@ -1072,6 +1332,14 @@ static el_status parse_time_cell(ingest *g, const record *r, const span *f, doub
         t->time_is_iso = 1;
         t->time_origin_unix_s = it.unix_s;
         t->time_zone_minutes = it.zone_minutes;
+        t->time_zone_known = it.has_zone;
+    } else if (it.has_zone != t->time_zone_known) {
+        /* Zoned and unzoned times cannot be ordered against each other. */
+        return time_error(g, r, f, s, n,
+                          it.has_zone ? "a date-time with a zone where the first row's had none"
+                                      : "a date-time without a zone where the first row's had one",
+                          "write every time alike: all with a zone (Z, +01:00) or all "
+                          "without");
     }
     /* The whole-second difference is exact; adding the fraction rounds once,
      * so sub-microsecond steps survive for logs spanning years. */
@@ -1096,22 +1364,49 @@ static el_status parse_row(ingest *g, const record *r, size_t n_fields)
                 return st;
             continue;
         }
+        if (g->col_kind[c] == COL_TEXT) {
+            *dst = NAN;
+            continue;
+        }
         const char *s = f->text;
         size_t n = f->length;
         trim(&s, &n);
         int rc = parse_number(g, s, n, dst);
-        if (rc == NUM_OK)
+        if (rc == NUM_OK) {
+            g->col_kind[c] = COL_NUMBER;
             continue;
+        }
         if (rc == NUM_SYNTAX && is_missing(s, n)) {
             *dst = NAN;
             t->missing[c]++;
             continue;
         }
+        /* A status or alarm column nobody asked for is skipped (with a
+         * note), not a reason to refuse the log. A column that began with
+         * numbers is a channel with a bad cell unless --channels left it
+         * out: that stays an error, so a typo never drops a channel. */
+        int skip = rc == NUM_SYNTAX && !g->wanted[c] &&
+                   (g->channels_listed || g->col_kind[c] == COL_UNKNOWN);
+        if (skip && g->skipped_any) {
+            g->col_kind[c] = COL_TEXT;
+            g->text_line[c] = r->line;
+            *dst = NAN;
+            continue;
+        }
         char shown[CELL_SHOW_MAX * 4 + 8];
         show_cell(s, n, shown, sizeof shown);
-        return fail_at(g, r, value_offset(f, s), number_hint(s, n, g->delim, rc == NUM_RANGE),
-                       "cell \"%s\" in column \"%.100s\" is %s", shown, t->names[c],
-                       rc == NUM_RANGE ? "out of range" : "not a number");
+        st = fail_at(g, r, value_offset(f, s),
+                     number_hint(s, n, g->delim, g->decimal, rc == NUM_RANGE),
+                     "cell \"%s\" in column \"%.100s\" is %s", shown, t->names[c],
+                     rc == NUM_RANGE ? "out of range" : "not a number");
+        if (!skip)
+            return st;
+        g->skip_error = *g->err;
+        el_error_clear(g->err);
+        g->skipped_any = 1;
+        g->col_kind[c] = COL_TEXT;
+        g->text_line[c] = r->line;
+        *dst = NAN;
     }
     t->source_line[row] = r->line;
     t->n_rows++;
@@ -1158,6 +1453,212 @@ static void compact(ingest *g)
         t->source_line = lines;
 }
 
+static int unit_from_name(const char *name, double *scale_s, const char **unit,
+                          const char **how);
+
+/* Decides the unit of the time numbers: --time-unit, the header's
+ * "[unit]", a unit in or as the column name, else seconds (assumed). */
+static el_status decide_time_unit(ingest *g, const el_ingest_options *opt)
+{
+    el_table *t = g->t;
+    const char *unit = "s", *how = "assumed";
+    double scale = 1.0;
+    size_t tc = t->time_column;
+    if (t->time_is_iso) {
+        how = "iso8601";
+    } else if (opt != NULL && opt->time_unit != NULL) {
+        if (!el_time_unit_parse(opt->time_unit, &scale, &unit)) {
+            el_error_set(g->err, EL_ERR_USAGE, "\"%.60s\" is not a unit of time",
+                         opt->time_unit);
+            el_error_option(g->err, "--time-unit");
+            el_error_hint(g->err, "give s, ms, us, ns, min, h, d or year");
+            return EL_ERR_USAGE;
+        }
+        how = "--time-unit";
+    } else if (t->units[tc][0] != '\0') {
+        if (!el_time_unit_parse(t->units[tc], &scale, &unit)) {
+            el_error_set(g->err, EL_ERR_DATA,
+                         "the time column \"%.100s\" has the unit \"%.40s\", which is not a "
+                         "unit of time", t->names[tc], t->units[tc]);
+            el_error_at(g->err, g->name, g->header_line, g->time_header_column);
+            el_error_hint(g->err, "give the unit with --time-unit (s, ms, us, min, h, d or "
+                                  "year), or choose the time column with --time");
+            return EL_ERR_DATA;
+        }
+        how = "header";
+    } else if (!unit_from_name(t->names[tc], &scale, &unit, &how)) {
+        unit = "s";
+        scale = 1.0;
+        how = "assumed";
+    }
+    t->time_scale_s = scale;
+    snprintf(t->time_unit, sizeof t->time_unit, "%s", unit);
+    snprintf(t->time_unit_source, sizeof t->time_unit_source, "%s", how);
+    return EL_OK;
+}
+
+/* What one file's read leaves beside its table. */
+typedef struct {
+    long *text_line;    /* n_columns: line of the first text cell of a skipped
+                           column, 0 = a number column (owned) */
+    long header_line;
+} file_info;
+
+/* Reads one stream into *table, every column kept (text columns as NaN),
+ * times as written. */
+static el_status read_one(FILE *stream, const char *name, const el_ingest_options *opt,
+                          el_table *table, file_info *info, el_error *err)
+{
+    memset(table, 0, sizeof *table);
+    memset(info, 0, sizeof *info);
+    snprintf(table->source, sizeof table->source, "%s", name);
+    ingest g;
+    memset(&g, 0, sizeof g);
+    g.rd.stream = stream;
+    g.rd.line = 1;
+    g.name = table->source;
+    g.err = err;
+    g.t = table;
+    if (opt != NULL && (opt->decimal == '.' || opt->decimal == ','))
+        g.decimal = opt->decimal;
+    el_status st = check_start(&g);
+    if (st == EL_OK)
+        st = read_header(&g, opt);
+    if (st == EL_OK)
+        st = read_rows(&g);
+    if (st == EL_OK)
+        compact(&g);
+    if (st == EL_OK && g.skipped_any) {
+        /* Only text beside the time: the first text cell is the error. */
+        size_t numbers = 0;
+        for (size_t c = 0; c < g.n_columns; c++)
+            numbers += c != table->time_column && g.col_kind[c] != COL_TEXT;
+        if (numbers == 0) {
+            *err = g.skip_error;
+            st = EL_ERR_DATA;
+        }
+    }
+    if (st == EL_OK)
+        st = decide_time_unit(&g, opt);
+    table->decimal = g.decimal ? g.decimal : '.';
+    info->header_line = g.header_line;
+    free(g.rd.buf);
+    free(g.rd.raw);
+    if (g.rd.gz_open)
+        inflateEnd(&g.rd.z);
+    free(g.spans);
+    free(g.scratch);
+    free(g.numtext);
+    free(g.col_kind);
+    free(g.wanted);
+    if (st != EL_OK) {
+        free(g.text_line);
+        el_table_free(table);
+        if (err->file[0] == '\0')
+            el_error_at(err, name, err->line, err->column);
+        return st;
+    }
+    info->text_line = g.text_line;
+    return EL_OK;
+}
+
+static el_status table_no_memory(el_error *err, const char *name)
+{
+    el_error_set(err, EL_ERR_NOMEM, "out of memory while reading the log");
+    el_error_at(err, name, 0, 0);
+    el_error_hint(err, "the log is too large for this machine; cut it into parts");
+    return EL_ERR_NOMEM;
+}
+
+/* Removes the skipped text columns and says so in one note. */
+static el_status drop_text_columns(el_table *t, const long *text_line, el_error *err)
+{
+    size_t skipped = 0;
+    char list[400] = "";
+    size_t w = 0;
+    for (size_t c = 0; c < t->n_columns; c++) {
+        if (text_line[c] == 0)
+            continue;
+        if (skipped < 5 && w < sizeof list) {
+            int k = snprintf(list + w, sizeof list - w, "%s\"%.60s\" (text from line %ld)",
+                             skipped ? ", " : "", t->names[c], text_line[c]);
+            w += k > 0 ? (size_t)k : 0;
+        }
+        skipped++;
+    }
+    if (skipped == 0)
+        return EL_OK;
+    if (skipped == t->n_columns - 1) {
+        el_error_set(err, EL_ERR_DATA, "no column but the time holds numbers: %s", list);
+        el_error_at(err, t->source, 0, 0);
+        el_error_hint(err, "check the delimiter and the decimal separator (--decimal)");
+        return EL_ERR_DATA;
+    }
+    el_status st = el_warnings_add(&t->notes,
+                                   "skipped %zu column%s holding text that no option asked "
+                                   "for: %s%s", skipped, skipped == 1 ? "" : "s", list,
+                                   skipped > 5 ? ", ..." : "");
+    if (st != EL_OK)
+        return table_no_memory(err, t->source);
+    size_t n = t->n_rows, kept = 0;
+    for (size_t c = 0; c < t->n_columns; c++) {
+        if (text_line[c] != 0) {
+            free(t->names[c]);
+            free(t->units[c]);
+            continue;
+        }
+        if (c == t->time_column)
+            t->time_column = kept;
+        t->names[kept] = t->names[c];
+        t->units[kept] = t->units[c];
+        t->missing[kept] = t->missing[c];
+        memmove(t->values + kept * n, t->values + c * n, n * sizeof *t->values);
+        kept++;
+    }
+    t->n_columns = kept;
+    return EL_OK;
+}
+
+/* Converts the time column to seconds and writes the notes about time. */
+static el_status finish_table(el_table *t, const long *text_line, el_error *err)
+{
+    el_status st = drop_text_columns(t, text_line, err);
+    if (st != EL_OK)
+        return st;
+    size_t tc = t->time_column;
+    if (t->time_scale_s != 1.0) {
+        double *time = t->values + tc * t->n_rows;
+        for (size_t r = 0; r < t->n_rows; r++)
+            time[r] *= t->time_scale_s;
+    }
+    if (!t->time_is_iso) {
+        char *unit = malloc(2);
+        if (unit == NULL)
+            return table_no_memory(err, t->source);
+        memcpy(unit, "s", 2);
+        free(t->units[tc]);
+        t->units[tc] = unit;
+    }
+    if (strcmp(t->time_unit_source, "assumed") == 0)
+        st = el_warnings_add(&t->notes,
+                             "the time column \"%.100s\" names no unit: its numbers are taken "
+                             "as seconds (give --time-unit, or write the unit in the header "
+                             "as \"%.60s [ms]\")", t->names[tc], t->names[tc]);
+    if (st == EL_OK && t->time_is_iso && !t->time_zone_known)
+        st = el_warnings_add(&t->notes,
+                             "the date-times carry no zone (Z or +01:00): they are read as "
+                             "local time of an unknown zone and shown without an offset; "
+                             "Unix times in JSON count them as if they were UTC");
+    if (st == EL_OK && t->time_scale_s >= 86400.0)
+        st = el_warnings_add(&t->notes,
+                             "the log's time is in %s: rates below are per second and "
+                             "frequencies in Hz (once per %s = %.6g Hz)",
+                             strcmp(t->time_unit, "d") == 0 ? "days" : "years",
+                             strcmp(t->time_unit, "d") == 0 ? "day" : "year",
+                             1.0 / t->time_scale_s);
+    return st == EL_OK ? EL_OK : table_no_memory(err, t->source);
+}
+
 el_status el_table_read_stream(FILE *stream, const char *name,
                                const el_ingest_options *opt, el_table *table,
                                el_error *err)
@@ -1168,34 +1669,35 @@ el_status el_table_read_stream(FILE *stream, const char *name,
     el_error_clear(err);
     if (table == NULL || stream == NULL)
         return el_error_set(err, EL_ERR_INTERNAL, "el_table_read_stream: NULL argument");
-    memset(table, 0, sizeof *table);
-    if (name == NULL)
-        name = "<stream>";
-    snprintf(table->source, sizeof table->source, "%s", name);
-    ingest g;
-    memset(&g, 0, sizeof g);
-    g.rd.stream = stream;
-    g.rd.line = 1;
-    g.name = table->source;
-    g.err = err;
-    g.t = table;
-    el_status st = check_start(&g);
-    if (st == EL_OK)
-        st = read_header(&g, opt);
-    if (st == EL_OK)
-        st = read_rows(&g);
-    if (st == EL_OK)
-        compact(&g);
-    free(g.rd.buf);
-    free(g.spans);
-    free(g.scratch);
-    free(g.numtext);
-    if (st != EL_OK) {
+    file_info info;
+    el_status st = read_one(stream, name != NULL ? name : "<stream>", opt, table, &info, err);
+    if (st != EL_OK)
+        return st;
+    table->n_sources = 1;
+    st = finish_table(table, info.text_line, err);
+    free(info.text_line);
+    if (st != EL_OK)
         el_table_free(table);
-        if (err->file[0] == '\0')
-            el_error_at(err, name, err->line, err->column);
-    }
     return st;
+}
+
+static el_status open_log(const char *path, FILE **fp, el_error *err)
+{
+    if (strcmp(path, "-") == 0) {
+        *fp = stdin;
+        return EL_OK;
+    }
+    *fp = fopen(path, "rb");
+    if (*fp != NULL)
+        return EL_OK;
+    char why[128] = "unknown reason";
+    strerror_r(errno, why, sizeof why);
+    el_error_clear(err);
+    el_error_set(err, EL_ERR_IO, "cannot open %s: %s", path, why);
+    el_error_at(err, path, 0, 0);
+    el_error_hint(err, "check the path and that the file is readable; use - to read "
+                       "standard input");
+    return EL_ERR_IO;
 }
 
 el_status el_table_read(const char *path, const el_ingest_options *opt,
@@ -1203,23 +1705,205 @@ el_status el_table_read(const char *path, const el_ingest_options *opt,
 {
     if (path == NULL || table == NULL)
         return el_error_set(err, EL_ERR_INTERNAL, "el_table_read: NULL argument");
-    if (strcmp(path, "-") == 0)
-        return el_table_read_stream(stdin, "<stdin>", opt, table, err);
     memset(table, 0, sizeof *table);
-    FILE *fp = fopen(path, "rb");
-    if (fp == NULL) {
-        char why[128] = "unknown reason";
-        strerror_r(errno, why, sizeof why);
-        el_error_clear(err);
-        el_error_set(err, EL_ERR_IO, "cannot open %s: %s", path, why);
-        el_error_at(err, path, 0, 0);
-        el_error_hint(err, "check the path and that the file is readable; use - to read "
-                           "standard input");
-        return EL_ERR_IO;
-    }
-    el_status st = el_table_read_stream(fp, path, opt, table, err);
-    fclose(fp);
+    FILE *fp;
+    el_status st = open_log(path, &fp, err);
+    if (st != EL_OK)
+        return st;
+    int is_stdin = fp == stdin;
+    st = el_table_read_stream(fp, is_stdin ? "<stdin>" : path, opt, table, err);
+    if (!is_stdin)
+        fclose(fp);
     return st;
+}
+
+/* ------------------------------------------------------------------ */
+/* Several files as one log                                           */
+
+static el_status differs(el_error *err, const el_table *a, const el_table *b,
+                         long line, const char *what, size_t column)
+{
+    el_error_set(err, EL_ERR_DATA, "%s differs from %s: %s", b->source, a->source, what);
+    el_error_at(err, b->source, line, (long)column + 1);
+    el_error_hint(err, "files read as one log need the same columns in the same order "
+                       "(same names and units) and the same kind of time");
+    return EL_ERR_DATA;
+}
+
+static el_status check_same_columns(const el_table *a, const el_table *b, long line,
+                                    el_error *err)
+{
+    char what[EL_ERROR_TEXT_MAX];
+    if (a->n_columns != b->n_columns) {
+        snprintf(what, sizeof what, "it has %zu columns, the first file %zu", b->n_columns,
+                 a->n_columns);
+        return differs(err, a, b, line, what, 0);
+    }
+    for (size_t c = 0; c < a->n_columns; c++)
+        if (strcmp(a->names[c], b->names[c]) != 0 || strcmp(a->units[c], b->units[c]) != 0) {
+            snprintf(what, sizeof what, "column %zu is \"%.100s [%.30s]\", not \"%.100s [%.30s]\"",
+                     c + 1, b->names[c], b->units[c], a->names[c], a->units[c]);
+            return differs(err, a, b, line, what, c);
+        }
+    if (a->time_column != b->time_column || a->time_is_iso != b->time_is_iso ||
+        a->time_zone_known != b->time_zone_known)
+        return differs(err, a, b, line,
+                       a->time_is_iso != b->time_is_iso
+                           ? "one writes times as date-times, the other as numbers"
+                           : "one writes date-times with a zone, the other without",
+                       b->time_column);
+    return EL_OK;
+}
+
+/* First time of table i on the common clock (ISO: Unix seconds). */
+static double first_time(const el_table *t)
+{
+    double t0 = t->values[t->time_column * t->n_rows];
+    return t->time_is_iso ? (double)t->time_origin_unix_s + t0 : t0;
+}
+
+/* Joins the parts (in order of their first time) into *out. */
+static el_status join_tables(el_table *parts, long **text_lines, size_t n,
+                             const char *const *paths, el_table *out, long *text_line,
+                             el_error *err)
+{
+    size_t *order = malloc(n * sizeof *order);
+    if (order == NULL)
+        return table_no_memory(err, paths[0]);
+    for (size_t i = 0; i < n; i++)
+        order[i] = i;
+    for (size_t i = 1; i < n; i++) /* insertion sort: stable, n is small */
+        for (size_t k = i; k > 0 && first_time(&parts[order[k]]) < first_time(&parts[order[k - 1]]); k--) {
+            size_t tmp = order[k];
+            order[k] = order[k - 1];
+            order[k - 1] = tmp;
+        }
+    const el_table *ref = &parts[order[0]];
+    size_t rows = 0, nc = ref->n_columns;
+    for (size_t i = 0; i < n; i++)
+        rows += parts[i].n_rows;
+    memset(out, 0, sizeof *out);
+    out->values = malloc(rows * nc * sizeof *out->values);
+    out->source_line = malloc(rows * sizeof *out->source_line);
+    out->source_file = malloc(rows * sizeof *out->source_file);
+    out->sources = calloc(n, sizeof *out->sources);
+    out->missing = calloc(nc, sizeof *out->missing);
+    out->names = calloc(nc, sizeof *out->names);
+    out->units = calloc(nc, sizeof *out->units);
+    int ok = out->values && out->source_line && out->source_file && out->sources &&
+             out->missing && out->names && out->units;
+    for (size_t i = 0; ok && i < n; i++)
+        ok = (out->sources[i] = strdup(paths[i])) != NULL;
+    out->n_sources = n;
+    if (!ok) {
+        free(order);
+        return table_no_memory(err, paths[0]);
+    }
+    /* Names and units move from the reference part. */
+    out->n_columns = nc;
+    for (size_t c = 0; c < nc; c++) {
+        out->names[c] = parts[order[0]].names[c];
+        out->units[c] = parts[order[0]].units[c];
+        parts[order[0]].names[c] = parts[order[0]].units[c] = NULL;
+    }
+    size_t row = 0;
+    for (size_t k = 0; k < n; k++) {
+        const el_table *p = &parts[order[k]];
+        double shift = p->time_is_iso ? (double)(p->time_origin_unix_s - ref->time_origin_unix_s)
+                                      : 0.0;
+        for (size_t c = 0; c < nc; c++) {
+            double *dst = out->values + c * rows + row;
+            memcpy(dst, p->values + c * p->n_rows, p->n_rows * sizeof *dst);
+            if (c == ref->time_column && shift != 0.0)
+                for (size_t r = 0; r < p->n_rows; r++)
+                    dst[r] += shift;
+            out->missing[c] += p->missing[c];
+            if (text_line[c] == 0)
+                text_line[c] = text_lines[order[k]][c];
+        }
+        memcpy(out->source_line + row, p->source_line, p->n_rows * sizeof *out->source_line);
+        for (size_t r = 0; r < p->n_rows; r++)
+            out->source_file[row + r] = (unsigned)order[k];
+        row += p->n_rows;
+    }
+    out->n_rows = rows;
+    out->time_column = ref->time_column;
+    out->time_is_iso = ref->time_is_iso;
+    out->time_origin_unix_s = ref->time_origin_unix_s;
+    out->time_zone_minutes = ref->time_zone_minutes;
+    out->time_zone_known = ref->time_zone_known;
+    out->time_scale_s = ref->time_scale_s;
+    memcpy(out->time_unit, ref->time_unit, sizeof out->time_unit);
+    memcpy(out->time_unit_source, ref->time_unit_source, sizeof out->time_unit_source);
+    out->delimiter = ref->delimiter;
+    out->decimal = ref->decimal;
+    snprintf(out->source, sizeof out->source, "%.200s (+%zu file%s)", paths[0], n - 1,
+             n == 2 ? "" : "s");
+    free(order);
+    return EL_OK;
+}
+
+el_status el_table_read_files(const char *const *paths, size_t n_paths,
+                              const el_ingest_options *opt, el_table *table,
+                              el_error *err)
+{
+    el_error local;
+    if (err == NULL)
+        err = &local;
+    el_error_clear(err);
+    if (table == NULL || (paths == NULL && n_paths > 0))
+        return el_error_set(err, EL_ERR_INTERNAL, "el_table_read_files: NULL argument");
+    memset(table, 0, sizeof *table);
+    if (n_paths == 0) {
+        el_error_set(err, EL_ERR_USAGE, "no log file given");
+        el_error_hint(err, "give one or more CSV files, or - for standard input");
+        return EL_ERR_USAGE;
+    }
+    if (n_paths == 1)
+        return el_table_read(paths[0], opt, table, err);
+    el_table *parts = calloc(n_paths, sizeof *parts);
+    long **lines = calloc(n_paths, sizeof *lines);
+    long *text_line = NULL;
+    el_status st = parts != NULL && lines != NULL ? EL_OK : table_no_memory(err, paths[0]);
+    for (size_t i = 0; st == EL_OK && i < n_paths; i++) {
+        FILE *fp;
+        file_info info = {0};
+        if ((st = open_log(paths[i], &fp, err)) != EL_OK)
+            break;
+        int is_stdin = fp == stdin;
+        st = read_one(fp, is_stdin ? "<stdin>" : paths[i], opt, &parts[i], &info, err);
+        if (!is_stdin)
+            fclose(fp);
+        lines[i] = info.text_line;
+        if (st == EL_OK && i > 0)
+            st = check_same_columns(&parts[0], &parts[i], info.header_line, err);
+    }
+    if (st == EL_OK && (text_line = calloc(parts[0].n_columns, sizeof *text_line)) == NULL)
+        st = table_no_memory(err, paths[0]);
+    if (st == EL_OK)
+        st = join_tables(parts, lines, n_paths, paths, table, text_line, err);
+    if (st == EL_OK)
+        st = finish_table(table, text_line, err);
+    for (size_t i = 0; parts != NULL && i < n_paths; i++) {
+        el_table_free(&parts[i]);
+        free(lines[i]);
+    }
+    free(parts);
+    free(lines);
+    free(text_line);
+    if (st != EL_OK)
+        el_table_free(table);
+    return st;
+}
+
+const char *el_table_row_source(const el_table *table, size_t row)
+{
+    if (table == NULL)
+        return "";
+    if (table->n_sources > 1 && table->source_file != NULL && table->sources != NULL &&
+        row < table->n_rows)
+        return table->sources[table->source_file[row]];
+    return table->source;
 }
 
 void el_table_free(el_table *table)
@@ -1232,12 +1916,44 @@ void el_table_free(el_table *table)
         if (table->units != NULL)
             free(table->units[c]);
     }
+    for (size_t i = 0; table->sources != NULL && i < table->n_sources; i++)
+        free(table->sources[i]);
+    free(table->sources);
+    free(table->source_file);
     free(table->names);
     free(table->units);
     free(table->values);
     free(table->source_line);
     free(table->missing);
+    el_warnings_free(&table->notes);
     memset(table, 0, sizeof *table);
+}
+
+/* Splits text into a trimmed name and the trimmed unit of a trailing
+ * "[unit]", as the header reader does ("" unit when there is none). */
+static void split_name_unit(const char *text, const char **name, size_t *name_n,
+                            const char **unit, size_t *unit_n)
+{
+    const char *s = text;
+    size_t n = strlen(text);
+    trim(&s, &n);
+    *name = s;
+    *name_n = n;
+    *unit = s + n;
+    *unit_n = 0;
+    if (n == 0 || s[n - 1] != ']')
+        return;
+    for (size_t i = n - 1; i-- > 0;)
+        if (s[i] == '[') {
+            const char *u = s + i + 1;
+            size_t un = n - 1 - (i + 1), nn = i;
+            trim(&u, &un);
+            trim(&s, &nn);
+            *name_n = nn;
+            *unit = u;
+            *unit_n = un;
+            return;
+        }
 }
 
 long el_table_find(const el_table *table, const char *name)
@@ -1247,22 +1963,135 @@ long el_table_find(const el_table *table, const char *name)
     for (size_t c = 0; c < table->n_columns; c++)
         if (strcmp(table->names[c], name) == 0)
             return (long)c;
+    /* "accel_a [m/s2]" as the header writes it: name and unit both match
+     * (spacing before the bracket may differ). */
+    const char *qn, *qu;
+    size_t qn_n, qu_n;
+    split_name_unit(name, &qn, &qn_n, &qu, &qu_n);
+    if (qu_n == 0 && qn_n == strlen(name))
+        return -1;
+    for (size_t c = 0; c < table->n_columns; c++) {
+        const char *u = table->units != NULL && table->units[c] != NULL ? table->units[c] : "";
+        if (strlen(table->names[c]) == qn_n && memcmp(table->names[c], qn, qn_n) == 0 &&
+            strlen(u) == qu_n && memcmp(u, qu, qu_n) == 0)
+            return (long)c;
+    }
     return -1;
+}
+
+/* ------------------------------------------------------------------ */
+/* Units of time                                                      */
+
+typedef struct {
+    const char *spelling;
+    const char *name;
+    double scale_s;
+} time_unit_word;
+
+/* The Julian year (365.25 d = 31,557,600 s) is the year of astronomy (IAU
+ * 1976) and the mean length of a calendar year to 3 in 10^5 (the
+ * Gregorian mean is 365.2425 d): a monthly or yearly series in decimal
+ * years is converted with it. */
+static const time_unit_word TIME_UNITS[] = {
+    {"s", "s", 1.0},           {"sec", "s", 1.0},          {"secs", "s", 1.0},
+    {"second", "s", 1.0},      {"seconds", "s", 1.0},
+    {"ms", "ms", 1e-3},        {"msec", "ms", 1e-3},       {"msecs", "ms", 1e-3},
+    {"millisecond", "ms", 1e-3}, {"milliseconds", "ms", 1e-3},
+    {"us", "us", 1e-6},        {"\xc2\xb5s", "us", 1e-6},  {"\xce\xbcs", "us", 1e-6},
+    {"usec", "us", 1e-6},      {"usecs", "us", 1e-6},
+    {"microsecond", "us", 1e-6}, {"microseconds", "us", 1e-6},
+    {"ns", "ns", 1e-9},        {"nsec", "ns", 1e-9},
+    {"nanosecond", "ns", 1e-9}, {"nanoseconds", "ns", 1e-9},
+    {"min", "min", 60.0},      {"mins", "min", 60.0},      {"minute", "min", 60.0},
+    {"minutes", "min", 60.0},
+    {"h", "h", 3600.0},        {"hr", "h", 3600.0},        {"hrs", "h", 3600.0},
+    {"hour", "h", 3600.0},     {"hours", "h", 3600.0},
+    {"d", "d", 86400.0},       {"day", "d", 86400.0},      {"days", "d", 86400.0},
+    {"y", "year", 31557600.0}, {"yr", "year", 31557600.0}, {"yrs", "year", 31557600.0},
+    {"year", "year", 31557600.0}, {"years", "year", 31557600.0},
+};
+
+static int unit_lookup(const char *s, size_t n, double *scale_s, const char **name)
+{
+    for (size_t i = 0; i < sizeof TIME_UNITS / sizeof TIME_UNITS[0]; i++)
+        if (equals_nocase(s, n, TIME_UNITS[i].spelling)) {
+            *scale_s = TIME_UNITS[i].scale_s;
+            *name = TIME_UNITS[i].name;
+            return 1;
+        }
+    return 0;
+}
+
+int el_time_unit_parse(const char *text, double *scale_s, const char **name)
+{
+    if (text == NULL)
+        return 0;
+    const char *s = text;
+    size_t n = strlen(text);
+    trim(&s, &n);
+    return unit_lookup(s, n, scale_s, name);
+}
+
+/* The unit a numeric time column's name carries: "t (s)", "time/ms",
+ * "time_s", or a name that is itself a unit ("hours", "year", "ms").
+ * Returns 1 and how it was found ("header" for a written unit, "column
+ * name" for a name that only suggests one), else 0. */
+static int unit_from_name(const char *name, double *scale_s, const char **unit,
+                          const char **how)
+{
+    size_t n = strlen(name);
+    if (n > 2 && name[n - 1] == ')') {
+        const char *open = NULL;
+        for (size_t i = n - 1; i-- > 1;)
+            if (name[i] == '(') {
+                open = name + i;
+                break;
+            }
+        if (open != NULL) {
+            const char *u = open + 1;
+            size_t un = (size_t)(name + n - 1 - u);
+            trim(&u, &un);
+            if (unit_lookup(u, un, scale_s, unit)) {
+                *how = "header";
+                return 1;
+            }
+        }
+    }
+    const char *slash = strrchr(name, '/');
+    if (slash != NULL && slash > name) {
+        const char *u = slash + 1;
+        size_t un = strlen(u);
+        trim(&u, &un);
+        if (unit_lookup(u, un, scale_s, unit)) {
+            *how = "header";
+            return 1;
+        }
+    }
+    const char *under = strrchr(name, '_');
+    if (under != NULL && under > name && unit_lookup(under + 1, strlen(under + 1), scale_s, unit)) {
+        *how = "column name";
+        return 1;
+    }
+    if (unit_lookup(name, n, scale_s, unit)) {
+        *how = "column name";
+        return 1;
+    }
+    return 0;
 }
 
 /* ------------------------------------------------------------------ */
 /* Times on the command line                                          */
 
 /* Reads "YYYY-MM-DD" alone as midnight, so --from 2026-03-14 works. */
-static const char *parse_iso_or_date(ingest *g, const char *s, size_t n, iso_time *out)
+static const char *parse_iso_or_date(const char *s, size_t n, iso_time *out)
 {
     if (n == 10) {
         char full[20];
         memcpy(full, s, 10);
         memcpy(full + 10, "T00:00:00", 9);
-        return parse_iso(g, full, 19, out);
+        return parse_iso(full, 19, out);
     }
-    return parse_iso(g, s, n, out);
+    return parse_iso(s, n, out);
 }
 
 el_status el_table_parse_time(const el_table *table, const char *text,
@@ -1272,17 +2101,27 @@ el_status el_table_parse_time(const el_table *table, const char *text,
         return el_error_set(err, EL_ERR_INTERNAL, "el_table_parse_time: NULL argument");
     ingest g;
     memset(&g, 0, sizeof g);
+    g.decimal = '.';
     const char *s = text;
     size_t n = strlen(text);
     trim(&s, &n);
     double v;
     int rc = parse_number(&g, s, n, &v);
     iso_time it;
-    const char *why = rc == NUM_OK || !table->time_is_iso ? "" : parse_iso_or_date(&g, s, n, &it);
+    const char *why = rc == NUM_OK || !table->time_is_iso ? "" : parse_iso_or_date(s, n, &it);
     free(g.numtext);
     if (rc == NUM_OK) {
-        *time_out = v;
+        /* A number is in the log's own unit (ISO: seconds from the start). */
+        double scale = table->time_is_iso || table->time_scale_s == 0.0 ? 1.0
+                                                                        : table->time_scale_s;
+        *time_out = v * scale;
         return EL_OK;
+    }
+    if (why == NULL && it.has_zone && !table->time_zone_known) {
+        el_error_set(err, EL_ERR_USAGE, "the time \"%.100s\" has a zone, the log's times have none",
+                     text);
+        el_error_hint(err, "give the time without a zone, on the log's own clock");
+        return EL_ERR_USAGE;
     }
     if (why == NULL) {
         /* Without a zone, the time is read on the clock of the file's first
@@ -1298,8 +2137,9 @@ el_status el_table_parse_time(const el_table *table, const char *text,
         el_error_hint(err, "give a date-time like 2026-03-14T08:00:00 (zone optional, "
                            "default that of the log) or seconds from the log's start");
     else
-        el_error_hint(err, "give a number in the unit of the time column \"%.100s\"%s",
+        el_error_hint(err, "give a number in the unit of the time column \"%.100s\" (%s)%s",
                       table->names != NULL ? table->names[table->time_column] : "",
+                      table->time_unit[0] ? table->time_unit : "s",
                       looks_iso(s, n) ? "; this log's time is a plain number, not a date-time"
                                       : "");
     return EL_ERR_USAGE;
@@ -1317,7 +2157,9 @@ char *el_table_format_time(const el_table *table, double t, char *buf, size_t si
         return buf;
     /* 1e14 s is far beyond year 9999 and keeps t * 1000 exact in int64. */
     if (table == NULL || !table->time_is_iso || !isfinite(t) || fabs(t) > 1e14) {
-        snprintf(buf, size, "%.9g", t);
+        double scale = table != NULL && !table->time_is_iso && table->time_scale_s != 0.0
+                           ? table->time_scale_s : 1.0;
+        snprintf(buf, size, "%.9g", t / scale);
         return buf;
     }
     int zone = table->time_zone_minutes;
@@ -1329,10 +2171,13 @@ char *el_table_format_time(const el_table *table, double t, char *buf, size_t si
     int m, d;
     civil_from_days(days, &y, &m, &d);
     int za = zone < 0 ? -zone : zone;
-    snprintf(buf, size, "%04lld-%02d-%02dT%02d:%02d:%02d.%03d%c%02d:%02d", (long long)y, m,
-             d, (int)(in_day / 3600000), (int)(in_day / 60000 % 60),
-             (int)(in_day / 1000 % 60), (int)(in_day % 1000), zone < 0 ? '-' : '+', za / 60,
-             za % 60);
+    int k = snprintf(buf, size, "%04lld-%02d-%02dT%02d:%02d:%02d.%03d", (long long)y, m, d,
+                     (int)(in_day / 3600000), (int)(in_day / 60000 % 60),
+                     (int)(in_day / 1000 % 60), (int)(in_day % 1000));
+    /* No offset for a log without zone: it is not UTC, only unknown. */
+    if (table->time_zone_known && k > 0 && (size_t)k < size)
+        snprintf(buf + k, size - (size_t)k, "%c%02d:%02d", zone < 0 ? '-' : '+', za / 60,
+                 za % 60);
     return buf;
 }
 
@@ -1363,14 +2208,24 @@ static void column_stats(const double *v, size_t n, el_column_stats *s)
     if (present == 0)
         return;
     double mean = sum / (double)present, ss = 0.0;
-    /* Second pass on deviations: no cancellation for large offsets. */
-    for (size_t r = 0; r < n; r++)
-        if (!isnan(v[r]))
-            ss += (v[r] - mean) * (v[r] - mean);
+    if (!isfinite(mean))
+        mean = lo / 2 + hi / 2; /* the sum overflowed: any value inside will do */
+    /* Second pass on deviations scaled by the largest (no cancellation for
+     * large offsets, and no underflow: a channel varying at 1e-170 has a
+     * spread, squares of 1e-170 would not). */
+    double largest = fmax(hi - mean, mean - lo);
+    if (largest > 0.0)
+        for (size_t r = 0; r < n; r++)
+            if (!isnan(v[r])) {
+                double d = (v[r] - mean) / largest;
+                ss += d * d;
+            }
     s->mean = mean;
     s->min = lo;
     s->max = hi;
-    s->std = present > 1 ? sqrt(ss / (double)(present - 1)) : 0.0;
+    s->std = present > 1 && largest > 0.0 ? largest * sqrt(ss / (double)(present - 1)) : 0.0;
+    /* The rule of el_stats_spread, which refuses such a channel in a fit. */
+    s->constant = lo == hi || s->std <= 1e-12 * fabs(mean);
 }
 
 el_status el_scan_table(const el_table *table, el_scan *scan, el_error *err)
@@ -1399,6 +2254,8 @@ el_status el_scan_table(const el_table *table, el_scan *scan, el_error *err)
         steps[r] = t[r + 1] - t[r];
         if (steps[r] <= 0.0 && scan->nonpositive_steps++ == 0)
             first_back = r + 1;
+        scan->backward_steps += steps[r] < 0.0;
+        scan->repeated_steps += steps[r] == 0.0;
     }
     qsort(steps, n - 1, sizeof *steps, compare_double);
     size_t m = n - 1;
@@ -1409,7 +2266,8 @@ el_status el_scan_table(const el_table *table, el_scan *scan, el_error *err)
         el_error_set(err, EL_ERR_DATA,
                      "the time column \"%.100s\" does not increase (median step %.9g)",
                      table->names[table->time_column], median);
-        el_error_at(err, table->source, table->source_line[first_back], 0);
+        el_error_at(err, el_table_row_source(table, first_back), table->source_line[first_back],
+                    0);
         el_error_hint(err, "sort the rows by time, or choose the time column with --time");
         memset(scan, 0, sizeof *scan);
         return EL_ERR_DATA;

@@ -1,6 +1,7 @@
 /* el_lags: --lags auto, the delay depth whose least-squares delay model
  * has the smallest Bayesian information criterion (Schwarz 1978). */
 #include "el_lags.h"
+#include "el_stats.h"
 
 #include <cblas.h>
 #include <float.h>
@@ -18,15 +19,8 @@ static el_status scale_columns(const el_series *s, double *mean, double *scale,
 {
     size_t n = s->n_samples;
     for (size_t c = 0; c < s->n_channels; c++) {
-        const double *x = s->values + c * n;
-        double acc = 0.0;
-        for (size_t k = 0; k < n; k++)
-            acc += x[k];
-        double mu = acc / (double)n, ss = 0.0;
-        for (size_t k = 0; k < n; k++)
-            ss += (x[k] - mu) * (x[k] - mu);
-        double sd = sqrt(ss / (double)n);
-        if (!isfinite(mu) || !isfinite(sd) || sd == 0.0 || sd <= 1e-12 * fabs(mu)) {
+        double mu, sd;
+        if (el_stats_spread(s->values + c * n, n, &mu, &sd) || !isfinite(mu) || !isfinite(sd)) {
             const char *name = s->names != NULL && s->names[c] != NULL ? s->names[c] : "?";
             el_error_set(err, EL_ERR_DATA,
                          "channel '%s' is constant or not finite over the window: it "

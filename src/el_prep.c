@@ -21,6 +21,7 @@ const char *el_prep_detrend_name(el_detrend mode)
     return "unknown";
 }
 
+
 el_status el_prep_parse_detrend(const char *text, el_detrend *mode, el_error *err)
 {
     static const el_detrend modes[] = { EL_DETREND_NONE, EL_DETREND_MEAN, EL_DETREND_LINEAR };

@@ -17,6 +17,7 @@ typedef enum {
     EL_DETREND_LINEAR
 } el_detrend;
 
+
 /* "none", "mean" or "linear"; "unknown" for any other value. Static text. */
 const char *el_prep_detrend_name(el_detrend mode);
 

@@ -43,10 +43,20 @@ static void text_header(const el_assessment *r, el_buf *out)
     el_table_format_time(t, s->t0 + (double)(s->n_samples - 1) * s->dt, b, sizeof b);
     el_buf_printf(out, "eigenlog %s  %s\n\n", EL_VERSION, t->source);
     el_buf_printf(out, "Data\n");
-    el_buf_printf(out, "  window       %s .. %s\n", a, b);
-    el_buf_printf(out, "  samples      %zu at dt = %.6g %s (%zu rows of %zu used)%s\n",
-                  s->n_samples, s->dt, t->time_is_iso ? "s" : "time units",
-                  s->rows_used, t->n_rows, s->resampled ? ", resampled" : "");
+    el_buf_printf(out, "  window       %s .. %s%s%s\n", a, b, t->time_is_iso ? "" : " ",
+                  t->time_is_iso ? "" : t->time_unit[0] ? t->time_unit : "s");
+    el_buf_printf(out, "  samples      %zu at dt = %.6g s (%zu rows of %zu used)%s\n",
+                  s->n_samples, s->dt, s->rows_used, t->n_rows,
+                  s->resampled ? ", resampled" : "");
+    if (t->time_is_iso)
+        el_buf_printf(out, "  time         ISO 8601 date-times, %s\n",
+                      t->time_zone_known ? "with zone" : "local time of an unknown zone");
+    else if (strcmp(t->time_unit_source, "assumed") == 0 || t->time_unit_source[0] == '\0')
+        el_buf_printf(out, "  time unit    s (assumed: the log gives no unit)\n");
+    else
+        el_buf_printf(out, "  time unit    %s (from the %s)\n", t->time_unit,
+                      strcmp(t->time_unit_source, "--time-unit") == 0 ? "option --time-unit"
+                                                                       : t->time_unit_source);
     el_buf_printf(out, "  channels    ");
     for (size_t c = 0; c < s->n_channels; c++)
         el_buf_printf(out, " %s%s%s%s%s", s->names[c], s->units[c][0] ? " [" : "",
@@ -108,7 +118,7 @@ static void text_model(const el_assessment *r, el_buf *out)
         else
             el_buf_printf(out, "  %-20s %12s (I - Ad is singular)", s->names[c], "n/a");
         if (r->detrend_slope[c] != 0.0)
-            el_buf_printf(out, "  (at the window centre; drift %.4g %s per time unit removed)",
+            el_buf_printf(out, "  (at the window centre; drift %.4g %s per s removed)",
                           r->detrend_slope[c], unit_of(s, c));
         el_buf_printf(out, "\n");
     }
@@ -302,6 +312,13 @@ static void json_input(el_json *j, const el_assessment *r)
     json_strings(j, "units", s->units, s->n_channels);
     el_json_string(j, "time_column", t->names[t->time_column]);
     el_json_string(j, "time_format", t->time_is_iso ? "iso8601" : "number");
+    /* The unit the log's times were written in and how it was found;
+     * every time and rate in this report is in s, 1/s and Hz. */
+    el_json_string(j, "time_unit", t->time_is_iso ? "s" : t->time_unit[0] ? t->time_unit : "s");
+    el_json_string(j, "time_unit_source", t->time_unit_source[0] ? t->time_unit_source
+                                                                 : "assumed");
+    if (t->time_is_iso)
+        el_json_bool(j, "time_zone_known", t->time_zone_known);
     el_json_number(j, "dt", s->dt);
     el_json_int(j, "samples", (long long)s->n_samples);
     /* ISO logs: the window in Unix seconds, so machines get absolute time. */

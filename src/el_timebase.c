@@ -77,10 +77,11 @@ static char *format_time(const el_table *table, double t, char *buf, size_t size
     return el_table_format_time(table, t, buf, size);
 }
 
-/* Points the error at a cell of the table (0-based row and column). */
+/* Points the error at a cell of the table (0-based row and column), in
+ * the file the row came from when several files make the log. */
 static void locate(el_error *err, const el_table *table, size_t row, size_t col)
 {
-    el_error_at(err, table->source, row_line(table, row), (long)col + 1);
+    el_error_at(err, el_table_row_source(table, row), row_line(table, row), (long)col + 1);
 }
 
 static char *copy_text(const char *text)
@@ -226,13 +227,16 @@ static el_status check_arguments(const el_table *table, const size_t *channels,
 }
 
 /* The whole table, not just the window: rows out of order would make a
- * window chosen by time value pick an arbitrary set of rows. */
-static el_status check_time_order(const el_table *table, el_error *err)
+ * window chosen by time value pick an arbitrary set of rows. Counts every
+ * step that goes back or repeats (for scan) and reports the first. */
+static el_status check_time_order(const el_table *table, size_t *backward, size_t *repeated,
+                                  el_error *err)
 {
+    *backward = *repeated = 0;
     if (table->n_rows == 0)
         return EL_OK;
     const double *time = table->values + table->time_column * table->n_rows;
-    char a[TIME_TEXT], b[TIME_TEXT];
+    size_t first = 0;
     for (size_t r = 0; r < table->n_rows; r++) {
         if (!isfinite(time[r])) {
             locate(err, table, r, table->time_column);
@@ -241,20 +245,34 @@ static el_status check_time_order(const el_table *table, el_error *err)
         }
         if (r == 0 || time[r] > time[r - 1])
             continue;
-        locate(err, table, r, table->time_column);
-        if (time[r] == time[r - 1]) {
-            el_error_hint(err, "remove the duplicated rows (each time may appear once)");
-            return el_error_set(err, EL_ERR_DATA, "time repeats: %s again (as on line %ld)",
-                                format_time(table, time[r], a, sizeof a),
-                                row_line(table, r - 1));
-        }
-        el_error_hint(err, "sort the log by time, or split it into parts that are each in time order");
-        return el_error_set(err, EL_ERR_DATA, "time goes backwards: %s after %s (line %ld)",
-                            format_time(table, time[r], a, sizeof a),
-                            format_time(table, time[r - 1], b, sizeof b),
-                            row_line(table, r - 1));
+        if (*backward + *repeated == 0)
+            first = r;
+        if (time[r] == time[r - 1])
+            (*repeated)++;
+        else
+            (*backward)++;
     }
-    return EL_OK;
+    if (*backward + *repeated == 0)
+        return EL_OK;
+    size_t r = first;
+    char a[TIME_TEXT], b[TIME_TEXT], more[96] = "";
+    if (*backward + *repeated > 1)
+        snprintf(more, sizeof more, " (%zu step%s back, %zu repeated in all)", *backward,
+                 *backward == 1 ? "" : "s", *repeated);
+    locate(err, table, r, table->time_column);
+    if (time[r] == time[r - 1]) {
+        el_error_hint(err, "remove the duplicated rows (each time may appear once)");
+        return el_error_set(err, EL_ERR_DATA, "time repeats: %s again (as on line %ld)%s",
+                            format_time(table, time[r], a, sizeof a),
+                            row_line(table, r - 1), more);
+    }
+    el_error_hint(err, "sort the log by time, or split it into parts that are each in time "
+                       "order%s", table->n_sources > 1 ? " (files read as one log must not "
+                                                         "overlap in time)" : "");
+    return el_error_set(err, EL_ERR_DATA, "time goes backwards: %s after %s (line %ld)%s",
+                        format_time(table, time[r], a, sizeof a),
+                        format_time(table, time[r - 1], b, sizeof b),
+                        row_line(table, r - 1), more);
 }
 
 /* First index in the increasing time[0..n) with time >= t (or > t when
@@ -314,6 +332,40 @@ static double intervals_of(double step, double dt)
     return floor(step / dt + 0.5);
 }
 
+/* What the steps of rows first..last say about the grid with interval dt:
+ * the same judgement for el_series_build and for el_timebase_survey. */
+typedef struct {
+    double intervals;       /* whole intervals spanned by all steps */
+    double jitter;          /* max |step - m dt| / dt */
+    int on_grid;            /* every step within jitter_limit of m >= 1 intervals */
+    size_t gap_row;         /* first row after a time gap longer than max_gap (0: none) */
+    double gap_missing;     /* samples missing in that gap */
+    double longest_gap;     /* samples missing in the longest time gap */
+} step_survey;
+
+static void survey_steps(const double *time, size_t first, size_t last, double dt,
+                         size_t max_gap, double jitter_limit, step_survey *sv)
+{
+    memset(sv, 0, sizeof *sv);
+    sv->on_grid = 1;
+    for (size_t r = first + 1; r <= last; r++) {
+        double step = time[r] - time[r - 1];
+        double m = intervals_of(step, dt);
+        if (m - 1 > sv->longest_gap)
+            sv->longest_gap = m - 1;
+        if (m - 1 > (double)max_gap && sv->gap_row == 0) {
+            sv->gap_row = r;
+            sv->gap_missing = m - 1;
+        }
+        double deviation = fabs(step - (m >= 1 ? m : 1) * dt) / dt;
+        if (deviation > sv->jitter)
+            sv->jitter = deviation;
+        if (m < 1 || deviation > jitter_limit)
+            sv->on_grid = 0;
+        sv->intervals += m;
+    }
+}
+
 static el_status time_gap_error(const timebase_plan *plan, size_t row, double missing,
                                 el_error *err)
 {
@@ -344,21 +396,13 @@ static el_status plan_grid(timebase_plan *plan, double jitter_limit, double *ste
     plan->dt = dt;
     plan->t0 = time[plan->first];
 
-    double intervals = 0, jitter = 0;
-    int on_grid = 1;
-    for (size_t r = plan->first + 1; r <= plan->last; r++) {
-        double step = time[r] - time[r - 1];
-        double m = intervals_of(step, dt);
-        if (m - 1 > (double)plan->max_gap)
-            return time_gap_error(plan, r, m - 1, err);
-        double deviation = fabs(step - (m >= 1 ? m : 1) * dt) / dt;
-        if (deviation > jitter)
-            jitter = deviation;
-        if (m < 1 || deviation > jitter_limit)
-            on_grid = 0;
-        intervals += m;
-    }
-    plan->jitter = jitter;
+    step_survey sv;
+    survey_steps(time, plan->first, plan->last, dt, plan->max_gap, jitter_limit, &sv);
+    if (sv.gap_row != 0)
+        return time_gap_error(plan, sv.gap_row, sv.gap_missing, err);
+    double intervals = sv.intervals;
+    int on_grid = sv.on_grid;
+    plan->jitter = sv.jitter;
     plan->resample = !on_grid;
     if (on_grid) {
         plan->n_samples = (size_t)intervals + 1;
@@ -611,8 +655,9 @@ static el_status build(const el_table *table, const size_t *channels, size_t n_c
                        el_warnings *warnings, el_error *err)
 {
     el_status st = check_arguments(table, channels, n_channels, opt, err);
+    size_t backward, repeated;
     if (st == EL_OK)
-        st = check_time_order(table, err);
+        st = check_time_order(table, &backward, &repeated, err);
     if (st != EL_OK)
         return st;
     timebase_plan plan = {
@@ -670,4 +715,51 @@ el_status el_series_build(const el_table *table, const size_t *channels,
     if (st != EL_OK)
         el_series_free(series);
     return st;
+}
+
+el_status el_timebase_survey(const el_table *table, const el_timebase_options *opt,
+                             el_time_survey *out, el_error *err)
+{
+    if (table == NULL || out == NULL)
+        return el_error_set(err, EL_ERR_INTERNAL, "el_timebase_survey: NULL argument");
+    memset(out, 0, sizeof *out);
+    el_timebase_options defaults;
+    if (opt == NULL) {
+        el_timebase_defaults(&defaults);
+        opt = &defaults;
+    }
+    if (table->time_column >= table->n_columns || table->values == NULL)
+        return el_error_set(err, EL_ERR_INTERNAL, "el_timebase_survey: no time column");
+    el_error order;
+    el_error_clear(&order);
+    el_status st = check_time_order(table, &out->backward_steps, &out->repeated_steps, &order);
+    if (st != EL_OK) {
+        out->refusal = order;
+        return EL_OK;
+    }
+    if (table->n_rows < 3) {
+        out->refusal.status = EL_ERR_DATA;
+        snprintf(out->refusal.message, sizeof out->refusal.message,
+                 "the log holds %zu row%s; at least 3 are needed", table->n_rows,
+                 table->n_rows == 1 ? "" : "s");
+        return EL_OK;
+    }
+    const double *time = table->values + table->time_column * table->n_rows;
+    size_t n_steps = table->n_rows - 1;
+    double *steps = malloc(n_steps * sizeof *steps);
+    if (steps == NULL)
+        return el_error_set(err, EL_ERR_NOMEM, "out of memory for %zu time steps", n_steps);
+    for (size_t i = 0; i < n_steps; i++)
+        steps[i] = time[i + 1] - time[i];
+    double dt = median(steps, n_steps);
+    free(steps);
+    step_survey sv;
+    survey_steps(time, 0, table->n_rows - 1, dt, opt->max_gap, opt->jitter_limit, &sv);
+    out->usable = 1;
+    out->dt_step = dt;
+    out->jitter = sv.jitter;
+    out->resample = !sv.on_grid;
+    out->longest_gap = sv.longest_gap;
+    out->gap_row = sv.gap_row;
+    return EL_OK;
 }

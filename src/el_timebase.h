@@ -9,7 +9,7 @@
 #include "el_ingest.h"
 
 typedef struct {
-    double from, to;          /* window in table time units; -INFINITY/+INFINITY = open */
+    double from, to;          /* window in table time (s); -INFINITY/+INFINITY = open */
     size_t max_gap;           /* longest run of missing samples filled (default 5) */
     double jitter_limit;      /* relative step variation that triggers resampling (0.01) */
 } el_timebase_options;
@@ -24,8 +24,8 @@ void el_timebase_defaults(el_timebase_options *opt);
 typedef struct {
     size_t n_samples;
     size_t n_channels;
-    double dt;                /* sample interval, table time units */
-    double t0;                /* time of sample 0, table time units */
+    double dt;                /* sample interval, s */
+    double t0;                /* time of sample 0, table time (s) */
     double *values;           /* n_samples * n_channels, owned */
     char **names;             /* n_channels, owned copies */
     char **units;             /* n_channels, owned copies ("" = none) */
@@ -86,6 +86,31 @@ el_status el_series_build(const el_table *table, const size_t *channels,
                           size_t n_channels, const el_timebase_options *opt,
                           el_series *series, el_warnings *warnings,
                           el_error *err);
+
+/* What el_series_build would make of the whole log, for `scan`: the same
+ * rules (time order, median step, jitter judged against whole multiples of
+ * the interval, time gaps) so that scan and assess never disagree. */
+typedef struct {
+    size_t backward_steps;    /* steps where time goes back */
+    size_t repeated_steps;    /* steps where time repeats */
+    int usable;               /* 1: the time column is in order (rules 1 of el_series_build);
+                                 0: refusal says why assess refuses the log */
+    el_error refusal;         /* usable == 0: the error el_series_build gives */
+    double dt_step;           /* median step, s (usable) */
+    double jitter;            /* as el_series.jitter over the whole log */
+    int resample;             /* 1: assess resamples the whole log onto a grid */
+    double longest_gap;       /* samples missing in the longest time gap */
+    size_t gap_row;           /* first row after a time gap longer than opt->max_gap
+                                 (assess refuses a window across it); 0 = none */
+} el_time_survey;
+
+/* Fills *out for the whole table with the rules of el_series_build (opt
+ * NULL: the defaults; from/to are ignored). A log that el_series_build
+ * would refuse for its time order is not an error here: usable = 0 and
+ * out->refusal holds that error (with its location and hint). EL_OK, or
+ * EL_ERR_INTERNAL for NULL arguments, EL_ERR_NOMEM. Nothing to free. */
+el_status el_timebase_survey(const el_table *table, const el_timebase_options *opt,
+                             el_time_survey *out, el_error *err);
 
 /* Frees everything the series owns and zeroes it. NULL is a no-op. */
 void el_series_free(el_series *series);

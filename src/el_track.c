@@ -259,8 +259,11 @@ el_status el_track_run(const el_track_options *opt, el_track_result *result,
     memset(&all, 0, sizeof all);
     st = el_assess_load(&opt->assess, &all, err);
     size_t len = 0, step = 0, count = 0;
+    el_track_options in_s = *opt; /* --window/--step come in the log's own time unit */
+    in_s.window *= all.table.time_is_iso || all.table.time_scale_s == 0.0 ? 1.0 : all.table.time_scale_s;
+    in_s.step *= all.table.time_is_iso || all.table.time_scale_s == 0.0 ? 1.0 : all.table.time_scale_s;
     if (st == EL_OK)
-        st = plan_windows(opt, &all.series, &len, &step, &count, err);
+        st = plan_windows(&in_s, &all.series, &len, &step, &count, err);
     if (st == EL_OK) {
         result->windows = calloc(count, sizeof(el_track_window));
         if (result->windows == NULL)
@@ -283,6 +286,9 @@ el_status el_track_run(const el_track_options *opt, el_track_result *result,
         result->time_origin_s = all.table.time_is_iso ? (double)all.table.time_origin_unix_s
                                                       : 0.0;
         result->level = opt->assess.boot.level;
+        /* What ingest decided (text columns skipped, seconds assumed). */
+        for (size_t i = 0; st == EL_OK && i < all.table.notes.count; i++)
+            st = el_warnings_add(&result->warnings, "%s", all.table.notes.items[i]);
     }
     /* One plan for every window: they all have len samples of the same
      * channels, so the fit and band workspaces are made once. */

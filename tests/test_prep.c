@@ -11,6 +11,7 @@
 
 #include "el_fit.h"
 #include "el_prep.h"
+#include "el_stats.h"
 #include "el_rng.h"
 #include "data/validate_fixture.h"
 
@@ -494,10 +495,85 @@ static void test_check_modes(void **state)
                      EL_ERR_INTERNAL);
 }
 
+
+/* el_stats_spread: closed forms. Values +a and -a in equal numbers have
+ * mean 0 and population standard deviation exactly a, at any scale: at
+ * 1e-170 the squares (1e-340) would underflow, at 1e200 overflow. */
+static void test_spread_any_scale(void **state)
+{
+    (void)state;
+    static const double scales[] = {1.0, 1e-170, 1e-300, 1e200, 1e300};
+    double x[6];
+    for (size_t i = 0; i < sizeof scales / sizeof scales[0]; i++) {
+        for (size_t k = 0; k < 6; k++)
+            x[k] = k % 2 ? -scales[i] : scales[i];
+        double mean, sd;
+        assert_false(el_stats_spread(x, 6, &mean, &sd));
+        assert_close(mean, 0.0, 0, 0);
+        assert_close(sd, scales[i], 1e-15, 0);
+    }
+    /* Constant: no deviation at all, at any scale; or a spread at the
+     * rounding level of the mean (1e-13 relative <= 1e-12). */
+    double c1[] = {1e-170, 1e-170, 1e-170}, c2[] = {5.0, 5.0, 5.0},
+           c3[] = {1.0, 1.0 + 1e-13, 1.0}, c4[] = {1.0, 1.0 + 1e-9, 1.0};
+    double mean, sd;
+    assert_true(el_stats_spread(c1, 3, &mean, &sd));
+    assert_true(el_stats_spread(c2, 3, &mean, &sd));
+    assert_true(el_stats_spread(c3, 3, &mean, &sd));
+    assert_false(el_stats_spread(c4, 3, &mean, &sd));
+    /* Not finite: not constant, and the caller sees it. */
+    double c5[] = {1.0, INFINITY};
+    assert_false(el_stats_spread(c5, 2, &mean, &sd));
+    assert_false(isfinite(mean) && isfinite(sd));
+}
+
+/* A channel that varies at 1e-170 is a channel (issue 9: it was called
+ * constant). Scaling channel 2 by s makes Ad' = D Ad D^-1, D = diag(1, s),
+ * a similarity: trace and determinant are unchanged (closed form). The fit
+ * standardises each channel, so the two problems differ only in rounding:
+ * 1e-9 relative. */
+static void test_fit_tiny_channel(void **state)
+{
+    (void)state;
+    size_t n = 400;
+    el_series a = make_series(n, 2, 0.05), b = make_series(n, 2, 0.05);
+    el_rng rng;
+    el_rng_seed(&rng, 9, 0);
+    double x = 3.0, y = 0.0;
+    for (size_t k = 0; k < n; k++) {
+        a.values[k] = b.values[k] = x;
+        a.values[n + k] = y;
+        b.values[n + k] = 1e-170 * y;
+        double nx = 0.95 * (0.9 * x - 0.3 * y) + 0.1 * el_rng_normal(&rng);
+        double ny = 0.95 * (0.3 * x + 0.9 * y) + 0.1 * el_rng_normal(&rng);
+        x = nx;
+        y = ny;
+    }
+    el_fit_options opt;
+    el_fit_defaults(&opt);
+    el_model ma, mb;
+    memset(&ma, 0, sizeof ma);
+    memset(&mb, 0, sizeof mb);
+    el_error err;
+    el_error_clear(&err);
+    assert_int_equal(el_fit(&a, &opt, &ma, NULL, &err), EL_OK);
+    if (el_fit(&b, &opt, &mb, NULL, &err) != EL_OK)
+        fail_msg("fit of the 1e-170 channel: %s", err.message);
+    assert_close(mb.ad[0] + mb.ad[3], ma.ad[0] + ma.ad[3], 1e-9, 0);
+    assert_close(mb.ad[0] * mb.ad[3] - mb.ad[1] * mb.ad[2],
+                 ma.ad[0] * ma.ad[3] - ma.ad[1] * ma.ad[2], 1e-9, 0);
+    el_model_free(&ma);
+    el_model_free(&mb);
+    free(a.values);
+    free(b.values);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_parse_detrend),
+        cmocka_unit_test(test_spread_any_scale),
+        cmocka_unit_test(test_fit_tiny_channel),
         cmocka_unit_test(test_detrend_linear_against_polyfit),
         cmocka_unit_test(test_detrend_mean_keeps_model),
         cmocka_unit_test(test_detrend_none_and_errors),

@@ -931,6 +931,92 @@ static void test_large_log(void **state)
     free_table(&t);
 }
 
+
+/* scan and assess share one rule (issue 9: scan said "assess will
+ * resample" for a log assess then refused): el_timebase_survey must judge
+ * each log as el_series_build does. */
+static void test_survey_agrees_with_build(void **state)
+{
+    (void)state;
+    size_t ch = COL_A;
+    el_series s;
+    el_error err, build_err;
+    el_time_survey v;
+    /* 1. Steps back and repeated: both refuse, with the same error. */
+    el_table t = uniform_table(50, 0.0, 1.0);
+    *cell(&t, 20, COL_TIME) = 18.5; /* back from 19 */
+    *cell(&t, 30, COL_TIME) = 29.0; /* repeats row 29 */
+    *cell(&t, 31, COL_TIME) = 29.0; /* and again */
+    assert_int_equal(el_timebase_survey(&t, NULL, &v, &err), EL_OK);
+    assert_false(v.usable);
+    assert_int_equal(v.backward_steps, 1);
+    assert_int_equal(v.repeated_steps, 2);
+    assert_int_equal(el_series_build(&t, &ch, 1, NULL, &s, NULL, &build_err), EL_ERR_DATA);
+    assert_string_equal(v.refusal.message, build_err.message);
+    assert_int_equal(v.refusal.line, build_err.line);
+    assert_int_equal(v.refusal.line, 3 + 2 * 20);
+    assert_contains(build_err.message, "1 step back, 2 repeated in all");
+    free_table(&t);
+    /* 2. A time gap of 2 missing rows on the grid: no resampling (scan's
+     * old test, |step - median| > 1%, called it jitter). */
+    t = uniform_table(50, 0.0, 1.0);
+    for (size_t r = 20; r < 50; r++)
+        *cell(&t, r, COL_TIME) += 2.0;
+    assert_int_equal(el_timebase_survey(&t, NULL, &v, &err), EL_OK);
+    assert_true(v.usable);
+    assert_false(v.resample);
+    assert_close(v.longest_gap, 2.0, 0, 0);
+    assert_int_equal(v.gap_row, 0);
+    assert_int_equal(el_series_build(&t, &ch, 1, NULL, &s, NULL, &err), EL_OK);
+    assert_false(s.resampled);
+    el_series_free(&s);
+    /* 3. The same gap with --max-gap 1: both refuse a window across it. */
+    el_timebase_options o;
+    el_timebase_defaults(&o);
+    o.max_gap = 1;
+    assert_int_equal(el_timebase_survey(&t, &o, &v, &err), EL_OK);
+    assert_int_equal(v.gap_row, 20);
+    assert_int_equal(el_series_build(&t, &ch, 1, &o, &s, NULL, &build_err), EL_ERR_DATA);
+    assert_int_equal(build_err.line, 3 + 2 * 20);
+    free_table(&t);
+    /* 4. Jitter of 3% of the interval: both resample. */
+    t = jittered_table(200, 0.0, 1.0, 0.03, 5);
+    assert_int_equal(el_timebase_survey(&t, NULL, &v, &err), EL_OK);
+    assert_true(v.resample);
+    assert_int_equal(el_series_build(&t, &ch, 1, NULL, &s, NULL, &err), EL_OK);
+    assert_true(s.resampled);
+    assert_close(v.jitter, s.jitter, 0, 0);
+    el_series_free(&s);
+    free_table(&t);
+}
+
+/* Files read as one log: an error at a row names the row's own file. */
+static void test_error_names_the_rows_file(void **state)
+{
+    (void)state;
+    el_table t = uniform_table(40, 0.0, 1.0);
+    t.n_sources = 2;
+    t.sources = malloc(2 * sizeof *t.sources);
+    t.source_file = malloc(40 * sizeof *t.source_file);
+    assert_true(t.sources && t.source_file);
+    t.sources[0] = dup_text("day1.csv");
+    t.sources[1] = dup_text("day2.csv");
+    for (size_t r = 0; r < 40; r++)
+        t.source_file[r] = r < 20 ? 0 : 1;
+    *cell(&t, 20, COL_TIME) = 18.0; /* day2 starts before day1 ends */
+    size_t ch = COL_A;
+    el_series s;
+    el_error err;
+    assert_int_equal(el_series_build(&t, &ch, 1, NULL, &s, NULL, &err), EL_ERR_DATA);
+    assert_string_equal(err.file, "day2.csv");
+    assert_contains(err.hint, "overlap");
+    free(t.sources[0]);
+    free(t.sources[1]);
+    free(t.sources);
+    free(t.source_file);
+    free_table(&t);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -955,6 +1041,8 @@ int main(void)
         cmocka_unit_test(test_bad_arguments),
         cmocka_unit_test(test_iso_times_in_messages),
         cmocka_unit_test(test_large_log),
+        cmocka_unit_test(test_survey_agrees_with_build),
+        cmocka_unit_test(test_error_names_the_rows_file),
     };
     return cmocka_run_group_tests_name("timebase", tests, NULL, NULL);
 }
