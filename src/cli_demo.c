@@ -64,6 +64,11 @@ int cli_demo(int argc, char **argv)
         return 0;
     }
     const char *dir = a.value[0] != NULL ? a.value[0] : ".";
+    if (st == EL_OK && dir[0] == '\0') {
+        st = el_error_set(&err, EL_ERR_USAGE, "the folder name is empty");
+        el_error_option(&err, "--output");
+        el_error_hint(&err, "give a folder, e.g. -o /tmp/demo (default: the current folder)");
+    }
     if (st == EL_OK && a.n_positional > 1) {
         st = el_error_set(&err, EL_ERR_USAGE, "give at most one scenario name");
         el_error_hint(&err, "eigenlog demo [NAME] [-o DIR]");

@@ -136,5 +136,9 @@ check "demo -o creates missing folders" $?
 [ $? -eq 4 ] && grep -q "hint" "$tmp/err"
 check "demo -o under a file fails with exit 4 and a hint" $?
 
+"$bin" demo -o "" >/dev/null 2>"$tmp/err"
+[ $? -eq 1 ] && grep -q -- "--output" "$tmp/err"
+check "demo -o '' is a usage error naming --output" $?
+
 echo "e2e_outputs: $passed passed, $failed failed"
 [ "$failed" -eq 0 ]
