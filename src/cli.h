@@ -53,15 +53,38 @@ typedef struct {
     el_buf text;
 } cli_output;
 
-/* Checks every asked path (NULL entries skipped) can be written, so a run
- * fails before minutes of work rather than after. EL_ERR_IO from
- * el_check_writable for the first that cannot. */
-el_status cli_check_outputs(const char *const *paths, size_t n, el_error *err);
+/* An output option as given: its name without dashes ("json") and its
+ * path (NULL: not asked; "-": standard output). */
+#define CLI_MAX_OUTPUTS 8
+typedef struct {
+    const char *name;
+    const char *path;
+} cli_output_path;
 
-/* When built is EL_OK (every text was built), writes each asked output
- * whole (el_write_file_atomic); otherwise writes nothing, so a failure
- * while building leaves no file at all, and returns built. Frees every
- * text either way. */
+/* Checks the outputs before any input is read. Usage errors (EL_ERR_USAGE,
+ * naming the option, with a hint), in this order: two outputs to standard
+ * output; two outputs to one file (same resolved path, or same device and
+ * inode); an output that is one of the inputs (inputs[0..n_inputs), NULL
+ * entries skipped; "-" is standard input, compared when it is a regular
+ * file; standard output likewise). Then that each can be written (EL_ERR_IO
+ * from el_output_resolve / el_check_writable, option named), so a run
+ * fails before minutes of work rather than after. At most CLI_MAX_OUTPUTS
+ * outputs (EL_ERR_INTERNAL else). */
+el_status cli_check_output_paths(const char *const *inputs, size_t n_inputs,
+                                 const cli_output_path *outputs, size_t n_outputs,
+                                 el_error *err);
+
+/* 1 when an output path is "-" (standard output): the text report is then
+ * left out so the output is not mixed with it. NULL gives 0. */
+int cli_is_stdout(const char *path);
+
+/* When built is EL_OK (every text was built), writes all asked outputs
+ * with el_write_files: all or none of the files (temporary files first,
+ * renames last; devices, FIFOs and standard output written in place).
+ * Otherwise writes nothing, so a failure while building leaves no file at
+ * all, and returns built. Ignores SIGXFSZ from then on so a file size limit
+ * is an error (EL_ERR_IO) with the temporary files removed, not a killed
+ * process. Frees every text either way. At most CLI_MAX_OUTPUTS. */
 el_status cli_write_outputs(cli_output *outputs, size_t n, el_status built, el_error *err);
 
 /* Prints "eigenlog: <formatted error>" to stderr. */

@@ -127,8 +127,10 @@ int cli_assess(int argc, char **argv)
     if (st == EL_OK)
         st = parse_assess(&a, &c, &err);
     if (st == EL_OK) {
-        const char *paths[3] = {c.json_path, c.replicates_path, c.html_path};
-        st = cli_check_outputs(paths, 3, &err);
+        const char *inputs[1] = {c.assess.path};
+        const cli_output_path outs[3] = {
+            {"json", c.json_path}, {"replicates", c.replicates_path}, {"html", c.html_path}};
+        st = cli_check_output_paths(inputs, 1, outs, 3, &err);
     }
     if (st != EL_OK) {
         cli_print_error(&err);
@@ -143,7 +145,8 @@ int cli_assess(int argc, char **argv)
     st = el_assess_run(&c.assess, &r, &err);
     if (st == EL_OK)
         st = write_outputs(&c, &r, &err);
-    if (st == EL_OK && !c.quiet && !(c.json_path && strcmp(c.json_path, "-") == 0)) {
+    if (st == EL_OK && !c.quiet && !cli_is_stdout(c.json_path) && !cli_is_stdout(c.html_path) &&
+        !cli_is_stdout(c.replicates_path)) {
         el_buf text = {0};
         st = el_report_text(&r, &c.assess, &text);
         if (st == EL_OK)

@@ -4,6 +4,7 @@
 
 #include <errno.h>
 #include <math.h>
+#include <signal.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -318,24 +319,117 @@ el_status cli_model_options(const cli_args *a, const cli_option *t, size_t n,
     return EL_OK;
 }
 
-el_status cli_check_outputs(const char *const *paths, size_t n, el_error *err)
+/* Completes the usage error already set in err with the output option
+ * (without dashes) and a hint. */
+static el_status output_clash(el_error *err, const char *option, const char *hint)
 {
-    for (size_t i = 0; i < n; i++) {
-        el_status st = el_check_writable(paths[i], err);
-        if (st != EL_OK)
-            return st;
+    set_option(err, option);
+    el_error_hint(err, "%s", hint);
+    return EL_ERR_USAGE;
+}
+
+/* Two outputs to standard output, or two to one file. */
+static el_status outputs_clash(const cli_output_path *outputs, const el_path_id *ids,
+                               size_t n, el_error *err)
+{
+    for (size_t j = 0; j < n; j++) {
+        if (outputs[j].path == NULL)
+            continue;
+        for (size_t i = 0; i < j; i++) {
+            if (outputs[i].path == NULL)
+                continue;
+            int both_stdout = ids[i].kind == EL_OUT_STDOUT && ids[j].kind == EL_OUT_STDOUT;
+            if (both_stdout) {
+                el_error_set(err, EL_ERR_USAGE, "standard output is already taken by --%s",
+                             outputs[i].name);
+                return output_clash(err, outputs[j].name,
+                                    "send at most one output to - and give the others file names");
+            }
+            if (el_path_same(&ids[i], &ids[j])) {
+                el_error_set(err, EL_ERR_USAGE, "writes to the same file as --%s ('%s')",
+                             outputs[i].name, outputs[i].path);
+                return output_clash(err, outputs[j].name, "give each output its own file");
+            }
+        }
     }
     return EL_OK;
+}
+
+el_status cli_check_output_paths(const char *const *inputs, size_t n_inputs,
+                                 const cli_output_path *outputs, size_t n_outputs,
+                                 el_error *err)
+{
+    el_path_id ids[CLI_MAX_OUTPUTS];
+    if (n_outputs > CLI_MAX_OUTPUTS)
+        return el_error_set(err, EL_ERR_INTERNAL, "more than %d outputs", CLI_MAX_OUTPUTS);
+    for (size_t i = 0; i < n_outputs; i++) {
+        if (outputs[i].path == NULL)
+            continue;
+        el_status st = el_output_resolve(outputs[i].path, &ids[i], err);
+        if (st != EL_OK) {
+            set_option(err, outputs[i].name);
+            return st;
+        }
+    }
+    el_status st = outputs_clash(outputs, ids, n_outputs, err);
+    if (st != EL_OK)
+        return st;
+    for (size_t k = 0; k < n_inputs; k++) {
+        if (inputs[k] == NULL)
+            continue;
+        el_path_id in;
+        el_input_identify(inputs[k], &in);
+        for (size_t i = 0; i < n_outputs; i++) {
+            if (outputs[i].path == NULL || !el_path_same(&in, &ids[i]))
+                continue;
+            if (strcmp(inputs[k], "-") == 0)
+                el_error_set(err, EL_ERR_USAGE,
+                             "would write over the input log (the file on standard input)");
+            else
+                el_error_set(err, EL_ERR_USAGE, "would write over the input log '%s'",
+                             inputs[k]);
+            return output_clash(err, outputs[i].name,
+                                ids[i].kind == EL_OUT_STDOUT
+                                    ? "standard output is the input file: redirect it elsewhere"
+                                    : "give the output another name: eigenlog never writes "
+                                      "over its input");
+        }
+    }
+    for (size_t i = 0; i < n_outputs; i++) {
+        if (outputs[i].path == NULL)
+            continue;
+        st = el_check_writable(outputs[i].path, err);
+        if (st != EL_OK) {
+            set_option(err, outputs[i].name);
+            return st;
+        }
+    }
+    return EL_OK;
+}
+
+int cli_is_stdout(const char *path)
+{
+    return path != NULL && strcmp(path, "-") == 0;
 }
 
 el_status cli_write_outputs(cli_output *outputs, size_t n, el_status built, el_error *err)
 {
     el_status st = built;
-    for (size_t i = 0; i < n; i++) {
-        if (st == EL_OK && outputs[i].path != NULL)
-            st = el_write_file_atomic(outputs[i].path, outputs[i].text.data,
-                                      outputs[i].text.length, err);
-        el_buf_free(&outputs[i].text);
+    el_out_file files[CLI_MAX_OUTPUTS];
+    if (st == EL_OK && n > CLI_MAX_OUTPUTS)
+        st = el_error_set(err, EL_ERR_INTERNAL, "more than %d outputs", CLI_MAX_OUTPUTS);
+    if (st == EL_OK) {
+        for (size_t i = 0; i < n; i++) {
+            files[i].path = outputs[i].path;
+            files[i].data = outputs[i].text.data != NULL ? outputs[i].text.data : "";
+            files[i].length = outputs[i].text.length;
+        }
+        /* A file size limit must fail the write (EFBIG), not kill the
+         * program before it can remove its temporary files. */
+        signal(SIGXFSZ, SIG_IGN);
+        st = el_write_files(files, n, err);
     }
+    for (size_t i = 0; i < n; i++)
+        el_buf_free(&outputs[i].text);
     return st;
 }

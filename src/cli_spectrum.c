@@ -157,8 +157,9 @@ static el_status parse(const cli_args *a, el_assess_options *o,
         return st;
     if ((v = val(a, "peaks")) && (st = cli_size("peaks", v, 1, 100, &so->max_peaks, err)))
         return st;
-    const char *paths[2] = {val(a, "json"), val(a, "csv")};
-    return cli_check_outputs(paths, 2, err);
+    const char *inputs[1] = {o->path};
+    const cli_output_path outs[2] = {{"json", val(a, "json")}, {"csv", val(a, "csv")}};
+    return cli_check_output_paths(inputs, 1, outs, 2, err);
 }
 
 static el_status run(const cli_args *a, el_error *err)

@@ -106,7 +106,7 @@ static el_status write_outputs(const track_cli *c, const el_track_result *r, el_
 
 static el_status print_text(const track_cli *c, const el_track_result *r, el_error *err)
 {
-    if (c->quiet || (c->json_path && strcmp(c->json_path, "-") == 0))
+    if (c->quiet || cli_is_stdout(c->json_path) || cli_is_stdout(c->html_path))
         return EL_OK;
     el_buf text = {0};
     el_status st = el_track_report_text(r, &c->track, &text);
@@ -137,8 +137,9 @@ int cli_track(int argc, char **argv)
     if (st == EL_OK)
         st = parse_track(&a, &c, &err);
     if (st == EL_OK) {
-        const char *paths[2] = {c.json_path, c.html_path};
-        st = cli_check_outputs(paths, 2, &err);
+        const char *inputs[1] = {c.track.assess.path};
+        const cli_output_path outs[2] = {{"json", c.json_path}, {"html", c.html_path}};
+        st = cli_check_output_paths(inputs, 1, outs, 2, &err);
     }
     if (st != EL_OK) {
         cli_print_error(&err);

@@ -188,11 +188,11 @@ const el_demo_system *el_demo_system_find(const char *name)
     return s != NULL ? &s->sys : NULL;
 }
 
-/* Rounds x to 40 significant bits. BLAS/LAPACK kernels differ between CPUs
- * in the last bits of Ad and of the noise factor; after this rounding they
- * are the same numbers unless an entry lies within ~2^-52 of a rounding
- * boundary (odds about 2^-12 per differing entry), so the logs match
- * across machines. frexp, ldexp and round are exact. */
+/* Rounds x to 40 significant bits. Ad and the noise factor G come from
+ * el_linalg's plain fixed-order C loops (no BLAS, no pivot ties), so they
+ * are already the same doubles on every CPU; this rounding is a second
+ * guard that would absorb a last-bit difference (unless an entry lies
+ * within ~2^-52 of a rounding boundary). frexp, ldexp and round are exact. */
 static double quantise(double x)
 {
     int e;

@@ -1,15 +1,19 @@
 /* el_linalg: matrix product, matrix exponential and exact discretisation
- * on column-major matrices, built on BLAS/LAPACK. */
+ * on column-major matrices, in plain C loops with a fixed order. */
 #include "el_linalg.h"
 
-#include <cblas.h>
-#include <lapacke.h>
+#include <float.h>
 #include <math.h>
 #include <string.h>
 
-/* The demo logs must be the same on every machine: no fused multiply-add
- * where the source has two roundings (gcc in ISO C mode already compiles
- * with -ffp-contract=off). */
+/* The demo logs must be the same bytes on every machine, so nothing here
+ * calls BLAS or LAPACK: their kernels are chosen at run time by CPU
+ * (OPENBLAS_CORETYPE) and differ in the last bits, and a pivoted Cholesky
+ * factor even changes its pivot order with them. Every sum below runs in a
+ * fixed order of plain IEEE operations, which gives the same doubles on any
+ * x86-64 CPU. No fused multiply-add where the source has two roundings
+ * (gcc in ISO C mode already compiles with -ffp-contract=off). The
+ * matrices are small (2n x 2n for n states), so speed does not matter. */
 #if defined(__clang__)
 #pragma STDC FP_CONTRACT OFF
 #endif
@@ -23,8 +27,13 @@ void el_matmul(size_t m, size_t k, size_t n, const double *a, const double *b,
         memset(c, 0, m * n * sizeof *c);
         return;
     }
-    cblas_dgemm(CblasColMajor, CblasNoTrans, CblasNoTrans, (int)m, (int)n,
-                (int)k, 1.0, a, (int)m, b, (int)k, 0.0, c, (int)m);
+    for (size_t j = 0; j < n; j++)
+        for (size_t i = 0; i < m; i++) {
+            double s = 0.0;
+            for (size_t l = 0; l < k; l++)
+                s += a[i + l * m] * b[l + j * k];
+            c[i + j * m] = s;
+        }
 }
 
 /* Largest 1-norm of A / 2^0 for which the degree-m approximant has
@@ -91,6 +100,57 @@ static int all_finite(size_t count, const double *x)
     return 1;
 }
 
+/* LU factorisation with partial pivoting of the n x n matrix f in place
+ * (Golub & Van Loan, Matrix Computations, outer-product Gaussian
+ * elimination with partial pivoting), then solves F X = B for the n
+ * columns of b in place. The pivot is the first entry of largest
+ * magnitude in its column: a fixed rule on deterministic numbers. Returns
+ * the 1-based index of a zero pivot, or 0. */
+static size_t lu_solve(size_t n, double *f, int *ipiv, double *b)
+{
+    for (size_t k = 0; k < n; k++) {
+        size_t p = k;
+        for (size_t i = k + 1; i < n; i++)
+            if (fabs(f[i + k * n]) > fabs(f[p + k * n]))
+                p = i;
+        ipiv[k] = (int)p;
+        if (f[p + k * n] == 0.0)
+            return k + 1;
+        if (p != k) {
+            for (size_t j = 0; j < n; j++) {
+                double t = f[k + j * n];
+                f[k + j * n] = f[p + j * n];
+                f[p + j * n] = t;
+                t = b[k + j * n];
+                b[k + j * n] = b[p + j * n];
+                b[p + j * n] = t;
+            }
+        }
+        const double pivot = f[k + k * n];
+        for (size_t i = k + 1; i < n; i++)
+            f[i + k * n] /= pivot;
+        for (size_t j = k + 1; j < n; j++)
+            for (size_t i = k + 1; i < n; i++)
+                f[i + j * n] -= f[i + k * n] * f[k + j * n];
+    }
+    for (size_t c = 0; c < n; c++) {
+        double *x = b + c * n;
+        for (size_t i = 1; i < n; i++) {          /* L y = b, unit diagonal */
+            double s = x[i];
+            for (size_t l = 0; l < i; l++)
+                s -= f[i + l * n] * x[l];
+            x[i] = s;
+        }
+        for (size_t i = n; i-- > 0;) {            /* U x = y */
+            double s = x[i];
+            for (size_t l = i + 1; l < n; l++)
+                s -= f[i + l * n] * x[l];
+            x[i] = s / f[i + i * n];
+        }
+    }
+    return 0;
+}
+
 /* Solves (V - U) R = (V + U) with U in u and V in v; R goes to u and v is
  * overwritten by the LU factors. */
 static el_status pade_solve(size_t n, double *u, double *v, int *ipiv,
@@ -102,17 +162,11 @@ static el_status pade_solve(size_t n, double *u, double *v, int *ipiv,
         v[i] = vi - ui;
         u[i] = vi + ui;
     }
-    lapack_int info = LAPACKE_dgesv_work(LAPACK_COL_MAJOR, (lapack_int)n,
-                                         (lapack_int)n, v, (lapack_int)n,
-                                         ipiv, u, (lapack_int)n);
-    if (info < 0)
-        return el_error_set(err, EL_ERR_INTERNAL,
-                            "matrix exponential: dgesv argument %d is invalid",
-                            (int)-info);
-    if (info > 0) {
+    size_t zero = lu_solve(n, v, ipiv, u);
+    if (zero > 0 || !all_finite(nn, u)) {
         el_error_set(err, EL_ERR_NUMERIC,
                      "matrix exponential: the Pade denominator is singular "
-                     "(pivot %d is zero)", (int)info);
+                     "(pivot %zu is zero)", zero);
         el_error_hint(err, "check the matrix for huge or non-finite entries");
         return EL_ERR_NUMERIC;
     }
@@ -237,31 +291,51 @@ static int is_symmetric(size_t n, const double *q)
     return 1;
 }
 
-/* G = P L from dpstrf's pivoted factor P' Qd P = L L', so G G' = Qd.
- * f holds Qd on entry and G on exit; tmp holds n*n doubles. */
-static el_status pivoted_factor(size_t n, double *f, double *tmp, int *piv,
-                                double *work2n, el_error *err)
+/* Lower Cholesky factor G of the symmetric positive semi-definite n x n
+ * matrix f (in place: f holds Qd on entry, G on exit, upper part zero),
+ * unpivoted, column by column in a fixed order (Golub & Van Loan, Matrix
+ * Computations, Algorithm 4.2.1), so G does not depend on ties between
+ * diagonal entries. Semi-definite rule: a column whose remaining diagonal
+ * d = f_kk - sum_j g_kj^2 is at most tol = 4 n eps max_i f_ii (rounding
+ * level) has no independent noise left and is set to zero; in exact
+ * arithmetic a positive semi-definite matrix with d = 0 has the whole
+ * column of its Schur complement zero (|s_ik| <= sqrt(s_ii s_kk)), and with
+ * rounding the dropped part is at most sqrt(tol max_i f_ii) per entry of
+ * G G'. d < -tol means f is not positive semi-definite: EL_ERR_NUMERIC. */
+static el_status cholesky_psd(size_t n, double *f, el_error *err)
 {
-    lapack_int rank = 0;
-    lapack_int info = LAPACKE_dpstrf_work(LAPACK_COL_MAJOR, 'L', (lapack_int)n,
-                                          f, (lapack_int)n, piv, &rank, -1.0,
-                                          work2n);
-    if (info < 0)
-        return el_error_set(err, EL_ERR_INTERNAL,
-                            "el_discretise: dpstrf argument %d is invalid",
-                            (int)-info);
-    /* info > 0 only says Qd is semi-definite (rank < n): the first rank
-     * columns are the factor and the rest is left over, so it is zeroed. */
-    for (size_t j = 0; j < n; j++)
-        for (size_t i = 0; i < n; i++)
-            if (i < j || j >= (size_t)rank)
-                f[i + j * n] = 0.0;
+    double max_diag = 0.0;
+    for (size_t i = 0; i < n; i++)
+        if (f[i + i * n] > max_diag)
+            max_diag = f[i + i * n];
+    const double tol = 4.0 * (double)n * DBL_EPSILON * max_diag;
     for (size_t k = 0; k < n; k++) {
-        size_t row = (size_t)piv[k] - 1;
-        for (size_t j = 0; j < n; j++)
-            tmp[row + j * n] = f[k + j * n];
+        double d = f[k + k * n];
+        for (size_t j = 0; j < k; j++)
+            d -= f[k + j * n] * f[k + j * n];
+        if (d < -tol) {
+            el_error_set(err, EL_ERR_NUMERIC,
+                         "the discrete noise covariance is not positive "
+                         "semi-definite (pivot %zu is %.3g)", k + 1, d);
+            el_error_hint(err, "the noise intensity Q must be positive semi-definite");
+            return EL_ERR_NUMERIC;
+        }
+        if (d <= tol) {
+            for (size_t i = k; i < n; i++)
+                f[i + k * n] = 0.0;
+        } else {
+            const double g = sqrt(d);
+            f[k + k * n] = g;
+            for (size_t i = k + 1; i < n; i++) {
+                double s = f[i + k * n];
+                for (size_t j = 0; j < k; j++)
+                    s -= f[i + j * n] * f[k + j * n];
+                f[i + k * n] = s / g;
+            }
+        }
+        for (size_t i = 0; i < k; i++)     /* the upper part is not G */
+            f[i + k * n] = 0.0;
     }
-    memcpy(f, tmp, n * n * sizeof *f);
     return EL_OK;
 }
 
@@ -282,8 +356,7 @@ el_status el_discretise(size_t n, const double *a, const double *q, double dt_s,
                             "el_discretise: the noise intensity Q is not symmetric");
 
     const size_t nn = n * n, big = 2 * n;
-    double *m = work, *ex = work + 4 * nn, *ew = work + 8 * nn,
-           *w2n = work + 32 * nn;
+    double *m = work, *ex = work + 4 * nn, *ew = work + 8 * nn;
     memset(m, 0, 4 * nn * sizeof *m);
     for (size_t j = 0; j < n; j++) {
         for (size_t i = 0; i < n; i++) {
@@ -314,5 +387,5 @@ el_status el_discretise(size_t n, const double *a, const double *q, double dt_s,
     if (qd_factor == NULL)
         return EL_OK;
     memcpy(qd_factor, qd, nn * sizeof *qd);
-    return pivoted_factor(n, qd_factor, m, iwork, w2n, err);
+    return cholesky_psd(n, qd_factor, err);
 }

@@ -325,6 +325,44 @@ static void step_map(const el_demo_system *s, size_t seg, double *ad, double *qd
                      EL_OK);
 }
 
+static void test_noise_factor_is_lower_triangular(void **state)
+{
+    (void)state;
+    /* The simulation's noise factor is the unpivoted Cholesky factor of Qd
+     * (datasets/README.md): lower triangular with a non-negative diagonal
+     * in every segment. A pivoted factor (the cause of logs that differed
+     * between CPUs: with the fan's isotropic noise the diagonal of Qd ties
+     * and the pivot order followed the BLAS kernel's last bits) is a row
+     * permutation of a triangle and fails this for the booster and the rig,
+     * whose larger diagonal entry is not the first. G G' = Qd to 40-bit
+     * rounding of G (relative 2^-40 = 9e-13 per entry; 1e-11 normwise). */
+    for (size_t d = 0; d < el_demo_count(); d++) {
+        const el_demo_system *s = el_demo_system_find(el_demo_get(d)->name);
+        const size_t n = s->n, segments = s->a_end != NULL ? s->drift_segments : 1;
+        for (size_t seg = 0; seg < segments; seg++) {
+            double ad[16], g[16], ad2[16], qd[16];
+            el_error err;
+            el_error_clear(&err);
+            assert_int_equal(el_demo_segment_map(s, seg, ad, g, &err), EL_OK);
+            step_map(s, seg, ad2, qd);
+            double scale = 0.0;
+            for (size_t i = 0; i < n * n; i++)
+                scale = fmax(scale, fabs(qd[i]));
+            for (size_t j = 0; j < n; j++) {
+                assert_true(g[j + j * n] >= 0.0);
+                for (size_t i = 0; i < j; i++)
+                    assert_close(g[i + j * n], 0.0, 0.0, 0.0);
+                for (size_t i = 0; i < n; i++) {
+                    double ggt = 0.0;
+                    for (size_t l = 0; l < n; l++)
+                        ggt += g[i + l * n] * g[j + l * n];
+                    assert_close(ggt, qd[i + j * n], 0.0, 1e-11 * scale);
+                }
+            }
+        }
+    }
+}
+
 static void test_one_step_residual_covariance(void **state)
 {
     (void)state;
@@ -398,6 +436,7 @@ int main(void)
         cmocka_unit_test(test_committed_datasets_equal_generator),
         cmocka_unit_test(test_rows_header_and_time_column),
         cmocka_unit_test(test_truth_eigenvalues_belong_to_a),
+        cmocka_unit_test(test_noise_factor_is_lower_triangular),
         cmocka_unit_test(test_readme_states_the_truth),
         cmocka_unit_test(test_one_step_residual_covariance),
     };

@@ -226,7 +226,7 @@ static void test_discretise_2x2_against_quadrature(void **state)
          * quadrature error dominates; 1e-11 normwise is 100 times that. */
         assert_normwise(qd, &fx_vl_qd[4 * k], 4, 1e-11);
         assert_close(qd[1], qd[2], 0.0, 0.0);   /* returned symmetric */
-        /* G G' = Qd: pivoted Cholesky is backward stable, error of order
+        /* G G' = Qd: Cholesky is backward stable, error of order
          * n u ||Qd||: 1e-14 normwise. */
         double ggt[4] = {0};
         for (size_t i = 0; i < 2; i++)
@@ -262,6 +262,52 @@ static void test_discretise_semidefinite_noise(void **state)
     }
 }
 
+static void test_discretise_factor_is_unpivoted_cholesky(void **state)
+{
+    (void)state;
+    /* The factor must not depend on which diagonal entry of Qd is larger
+     * (with isotropic noise they tie up to the last bits, and a pivoted
+     * factor then changes with the BLAS kernel). A = 0, Q = diag(1, 2):
+     * Qd = Q dt exactly; a pivoted factor would start with the larger
+     * second entry and put a nonzero in G's upper triangle. The plain
+     * Cholesky factor is diag(sqrt(dt), sqrt(2 dt)) (Golub & Van Loan,
+     * Algorithm 4.2.1): sqrt is correctly rounded, so 1 ulp (2.2e-16
+     * relative) is the whole error; 1e-15 allows the product dt * q. */
+    double a[4] = {0}, q[4] = {1, 0, 0, 2}, ad[4], qd[4], g[4];
+    el_error err;
+    assert_int_equal(discretise(2, a, q, 0.5, ad, qd, g, &err), EL_OK);
+    assert_close(g[2], 0.0, 0.0, 0.0);   /* upper triangle exactly zero */
+    assert_close(g[1], 0.0, 0.0, 1e-16);
+    assert_close(g[0], sqrt(0.5), 1e-15, 0.0);
+    assert_close(g[3], 1.0, 1e-15, 0.0);
+
+    /* A full 2x2 Qd (the fixture system): closed-form Cholesky
+     * g00 = sqrt(q00), g10 = q10 / g00, g11 = sqrt(q11 - g10^2), computed
+     * here from the returned Qd; the same few roundings: 1e-14 relative. */
+    double g2[4];
+    assert_int_equal(discretise(2, fx_vl_a, fx_vl_q, fx_vl_dt[0], ad, qd, g2, &err),
+                     EL_OK);
+    double g00 = sqrt(qd[0]), g10 = qd[1] / g00;
+    double g11 = sqrt(qd[3] - g10 * g10);
+    assert_close(g2[2], 0.0, 0.0, 0.0);
+    assert_close(g2[0], g00, 1e-14, 0.0);
+    assert_close(g2[1], g10, 1e-14, 0.0);
+    assert_close(g2[3], g11, 1e-14, 0.0);
+}
+
+static void test_discretise_indefinite_noise_is_refused(void **state)
+{
+    (void)state;
+    /* Q = diag(1, -1) is symmetric but not positive semi-definite: no real
+     * G with G G' = Qd exists, so a factor must not be returned. */
+    double a[4] = {0}, q[4] = {1, 0, 0, -1}, ad[4], qd[4], g[4];
+    el_error err;
+    assert_int_equal(discretise(2, a, q, 0.1, ad, qd, g, &err), EL_ERR_NUMERIC);
+    assert_non_null(strstr(err.message, "semi-definite"));
+    /* Without a factor asked for, Qd alone is still computed. */
+    assert_int_equal(discretise(2, a, q, 0.1, ad, qd, NULL, &err), EL_OK);
+}
+
 static void test_discretise_bad_arguments(void **state)
 {
     (void)state;
@@ -287,6 +333,8 @@ int main(void)
         cmocka_unit_test(test_discretise_scalar_closed_form),
         cmocka_unit_test(test_discretise_2x2_against_quadrature),
         cmocka_unit_test(test_discretise_semidefinite_noise),
+        cmocka_unit_test(test_discretise_factor_is_unpivoted_cholesky),
+        cmocka_unit_test(test_discretise_indefinite_noise_is_refused),
         cmocka_unit_test(test_discretise_bad_arguments),
     };
     return cmocka_run_group_tests_name("linalg", tests, NULL, NULL);
