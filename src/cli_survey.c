@@ -335,6 +335,13 @@ static int try_cached(const survey_cli *c, log_job *j)
         report_path(c, j->rec.path, path, sizeof path);
         same = old.has_report && access(path, R_OK) == 0;
     }
+    el_survey_row row;
+    if (same && old.exit_code == 0) {
+        /* A record whose JSON cannot be read (edited by hand) is redone. */
+        same = el_survey_row_build(&old, &row, NULL) == EL_OK;
+        if (same)
+            el_survey_row_free(&row);
+    }
     if (same) {
         free(j->rec.error);
         free(j->rec.json);
@@ -500,7 +507,7 @@ static void collect(const survey_cli *c, log_job *j, slot *s)
     /* A log gzip could not decompress: its message, not what assess made
      * of the truncated stream. */
     j->rec.error = code == 0     ? calloc(1, 1)
-                   : gzip_failed ? first_error_line("/nonexistent", fallback)
+                   : gzip_failed ? strdup(fallback)
                                  : first_error_line(s->err_path, fallback);
     j->rec.json = code == 0 ? compact.data : calloc(1, 1);
     if (code != 0)
@@ -941,11 +948,13 @@ static void shell_word(el_buf *out, const char *text)
 }
 
 /* The options a shard task repeats: every option given except the
- * Slurm ones, --jobs (a task uses the CPUs Slurm gave it) and --quiet. */
+ * Slurm ones, --jobs and --threads (a task runs one single-threaded
+ * assess per CPU Slurm gave it; the numbers do not depend on threads)
+ * and --quiet. */
 static void shard_options(const cli_args *a, el_buf *out)
 {
     static const char *const skip[] = {"slurm", "partition", "time-limit", "shards",
-                                       "jobs", "quiet", "sbatch-arg"};
+                                       "jobs", "threads", "quiet", "sbatch-arg"};
     for (size_t i = 0; i < N_OPTIONS; i++) {
         int skipped = 0;
         for (size_t k = 0; k < sizeof skip / sizeof skip[0]; k++)
@@ -978,7 +987,7 @@ static el_status write_scripts(const survey_cli *c, const cli_args *a, size_t sh
     for (size_t i = 0; i < c->n_inputs; i++)
         shell_word(s, c->inputs[i]);
     shard_options(a, s);
-    el_buf_printf(s, " --quiet --jobs \"${SLURM_CPUS_PER_TASK:-1}\" "
+    el_buf_printf(s, " --quiet --jobs \"${SLURM_CPUS_PER_TASK:-1}\" --threads 1 "
                      "--shard \"$SLURM_ARRAY_TASK_ID/%zu\"\nstatus=$?\n"
                      "# A log that failed is a row of the table, not a failed task.\n"
                      "case $status in 0|2|5) exit 0 ;; esac\nexit $status\n", shards);
