@@ -129,15 +129,21 @@ static void figure(el_buf *out, const axis *a, const el_survey_row *r)
     put(out, "</svg>");
 }
 
+/* The shared axis above the figures: its ends and zero, each labelled
+ * unless it would overlap another label. */
 static void axis_figure(el_buf *out, const axis *a)
 {
     el_buf_printf(out, "<svg class=\"fig\" width=\"%.0f\" height=\"%.0f\" viewBox=\"0 0 %.0f %.0f\">",
                   FIG_W, FIG_H, FIG_W, FIG_H);
-    double ticks[3] = {a->lo, 0.0, a->hi};
-    const char *anchor[3] = {"start", "middle", "end"};
-    for (int i = 0; i < 3; i++)
+    double ticks[3] = {a->lo, a->hi, 0.0};
+    const char *anchor[3] = {"start", "end", "middle"};
+    double x_zero = px(a, 0.0);
+    int zero_fits = x_zero - px(a, a->lo) > 50.0 && px(a, a->hi) - x_zero > 50.0;
+    for (int i = 0; i < (zero_fits ? 3 : 2); i++)
         el_buf_printf(out, "<text x=\"%.1f\" y=\"15\" font-size=\"11\" text-anchor=\"%s\">%.3g</text>",
-                      px(a, ticks[i]), anchor[i], ticks[i]);
+                      i == 2 ? x_zero : i == 0 ? 0.0 : FIG_W, anchor[i], ticks[i]);
+    el_buf_printf(out, "<line x1=\"%.1f\" y1=\"17\" x2=\"%.1f\" y2=\"%.0f\" stroke=\"#555\"/>",
+                  x_zero, x_zero, FIG_H);
     put(out, "</svg>");
 }
 
@@ -147,7 +153,7 @@ static void style(el_buf *out)
         "body{font-family:'DejaVu Sans',sans-serif;margin:1.5em;color:#222;max-width:80em}\n"
         "table{border-collapse:collapse;font-size:0.9em}\n"
         "th,td{padding:2px 8px;border-bottom:1px solid #ddd;text-align:left;vertical-align:middle}\n"
-        "td.n{text-align:right;font-variant-numeric:tabular-nums}\n"
+        "td.n{text-align:right;font-variant-numeric:tabular-nums;white-space:nowrap}\n"
         ".flag{font-weight:bold;color:#8a5a00;background:#fff3d6;padding:0 4px;border-radius:3px}\n"
         ".failed{font-weight:bold;color:#fff;background:#c53030;padding:0 4px;border-radius:3px}\n"
         ".caution{border-left:4px solid #b7791f;padding:4px 10px;background:#fffaf0}\n"
@@ -180,15 +186,19 @@ static void file_cell(el_buf *out, const el_survey_row *r, const char *reports_p
     put(out, "</td>");
 }
 
+/* A value with its bounds, to 4 significant digits (the CSV keeps all). */
 static void bounds_cell(el_buf *out, const el_survey_row *r, int c)
 {
+    double v = el_survey_row_number(r, (el_survey_column)c);
+    double lo = el_survey_row_number(r, (el_survey_column)(c + 1));
+    double hi = el_survey_row_number(r, (el_survey_column)(c + 2));
     put(out, "<td class=\"n\">");
-    esc(out, r->field[c][0] ? r->field[c] : "n/a");
-    if (r->field[c + 1][0] && r->field[c + 2][0]) {
-        double lo = el_survey_row_number(r, (el_survey_column)(c + 1));
-        double hi = el_survey_row_number(r, (el_survey_column)(c + 2));
+    if (isfinite(v))
+        el_buf_printf(out, "%.4g", v);
+    else
+        put(out, "n/a");
+    if (isfinite(lo) && isfinite(hi))
         el_buf_printf(out, " [%.4g, %.4g]", lo, hi);
-    }
     put(out, "</td>");
 }
 

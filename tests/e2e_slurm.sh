@@ -160,6 +160,8 @@ jobs_submitted=$(sed -n 's/.*job array \([0-9]*\).*merge job \([0-9]*\).*/\1 \2/
 check "submission names the array job and the merge job" $?
 [ -s "$tmp/cluster/slurm/array.sh" ] && [ -s "$tmp/cluster/slurm/merge.sh" ]
 check "the job scripts are kept in DIR/slurm" $?
+grep -q -- '--jobs "${SLURM_CPUS_PER_TASK:-1}" --threads 1' "$tmp/cluster/slurm/array.sh"
+check "a task runs one single-threaded assess per CPU Slurm gave it" $?
 
 # Bounded wait: both jobs leave the queue and the merged table appears.
 waited=0

@@ -173,6 +173,11 @@ grep -q "(1 assessed now, $((n_logs - 1)) unchanged)" "$tmp/run3.txt"
 check "a changed log is assessed again, the others not" $?
 grep -F "$logs/site_b/rig_1200.csv,ok," "$out/survey.csv" | cut -d, -f5 | grep -qx 2199
 check "the changed log's row is new (2199 rows used)" $?
+rec=$(grep -l "^path $logs/rig_test.csv\$" "$out"/cache/*.rec)
+sed -i 's/^json {/json {broken/' "$rec"
+"$bin" survey "$logs" --out "$out" --jobs 2 $opts >"$tmp/run5.txt" 2>&1
+grep -q "(1 assessed now, $((n_logs - 1)) unchanged)" "$tmp/run5.txt" && grep -q "^json {\"" "$rec"
+check "a cache record whose JSON cannot be read is redone and rewritten" $?
 
 # ---- 7. a manifest with per-log options; --fail-on
 cat >"$tmp/campaign.txt" <<EOF
