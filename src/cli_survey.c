@@ -743,13 +743,19 @@ static void free_jobs(log_job *jobs, size_t n)
     free(jobs);
 }
 
+/* Lists the logs of every input, leaving out the survey's own folder
+ * (made first if missing, so its canonical path is known). */
 static el_status list_inputs(const survey_cli *c, el_survey_list *list, el_error *err)
 {
-    for (size_t i = 0; i < c->n_inputs; i++) {
-        el_status st = el_survey_list_add_input(list, c->inputs[i], err);
-        if (st != EL_OK)
-            return st;
-    }
+    el_status st = make_dirs(c->out_dir, err);
+    char *out_real = st == EL_OK ? realpath(c->out_dir, NULL) : NULL;
+    list->skip_folder = out_real;
+    for (size_t i = 0; st == EL_OK && i < c->n_inputs; i++)
+        st = el_survey_list_add_input(list, c->inputs[i], err);
+    list->skip_folder = NULL;
+    free(out_real);
+    if (st != EL_OK)
+        return st;
     if (list->count == 0) {
         el_error_set(err, EL_ERR_USAGE, "no logs found");
         el_error_hint(err, "folders are searched for *.csv and *.csv.gz; a manifest lists one log per line");

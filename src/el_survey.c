@@ -120,6 +120,7 @@ void el_survey_list_free(el_survey_list *list)
 {
     if (list == NULL)
         return;
+    const char *skip = list->skip_folder;
     for (size_t i = 0; i < list->count; i++) {
         for (size_t k = 0; k < list->logs[i].n_args; k++)
             free(list->logs[i].args[k]);
@@ -128,6 +129,7 @@ void el_survey_list_free(el_survey_list *list)
     }
     free(list->logs);
     memset(list, 0, sizeof *list);
+    list->skip_folder = skip;
 }
 
 static int compare_names(const void *a, const void *b)
@@ -194,6 +196,17 @@ static void free_names(char **names, size_t count)
     free(names);
 }
 
+/* 1 when folder dir is the list's skip_folder (the survey's own outputs). */
+static int skipped_folder(const el_survey_list *list, const char *dir)
+{
+    if (list->skip_folder == NULL)
+        return 0;
+    char *real = realpath(dir, NULL);
+    int same = real != NULL && strcmp(real, list->skip_folder) == 0;
+    free(real);
+    return same;
+}
+
 /* Adds the logs under folder dir; depth guards against symbolic-link loops. */
 static el_status add_folder(el_survey_list *list, const char *dir, int depth, el_error *err)
 {
@@ -209,8 +222,10 @@ static el_status add_folder(el_survey_list *list, const char *dir, int depth, el
         struct stat s;
         if (stat(names[i], &s) != 0)
             continue;   /* a dangling link: not a log */
-        if (S_ISDIR(s.st_mode))
-            st = add_folder(list, names[i], depth + 1, err);
+        if (S_ISDIR(s.st_mode)) {
+            if (!skipped_folder(list, names[i]))
+                st = add_folder(list, names[i], depth + 1, err);
+        }
         else if (S_ISREG(s.st_mode) && el_survey_is_log_name(names[i]))
             st = el_survey_list_append(list, names[i], NULL, 0, err);
     }
@@ -259,7 +274,7 @@ el_status el_survey_list_add_input(el_survey_list *list, const char *input, el_e
         return EL_ERR_IO;
     }
     if (S_ISDIR(s.st_mode))
-        return add_folder(list, input, 0, err);
+        return skipped_folder(list, input) ? EL_OK : add_folder(list, input, 0, err);
     if (el_survey_is_log_name(input))
         return el_survey_list_append(list, input, NULL, 0, err);
     char *text = NULL;

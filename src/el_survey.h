@@ -37,11 +37,14 @@ typedef struct {
 
 /* The logs of a survey in their order: inputs in the order given, a
  * folder's logs sorted by path (byte order), a manifest's in its order;
- * a path listed twice is kept once (first place). Zero-initialise. */
+ * a path listed twice is kept once (first place). Zero-initialise; set
+ * skip_folder to the canonical path (realpath) of the survey's own output
+ * folder, so a folder search never takes the survey's tables for logs. */
 typedef struct {
     el_survey_log *logs;
     size_t count;
     size_t capacity;
+    const char *skip_folder;    /* borrowed; NULL: none */
 } el_survey_list;
 
 /* 1 when path names a log by its name: ends in ".csv" or ".csv.gz". */
@@ -52,7 +55,8 @@ int el_survey_is_gzip_name(const char *path);
 
 /* Adds one INPUT of the command line to list: a folder (recursing; every
  * file named *.csv or *.csv.gz, hidden entries skipped), a file named as
- * a log, or any other file as a manifest (el_survey_parse_manifest).
+ * a log, or any other file as a manifest (el_survey_parse_manifest); the
+ * folder list->skip_folder and everything under it is left out.
  * EL_ERR_IO naming the input when it does not exist or cannot be read;
  * EL_ERR_USAGE (file and line set) for a bad manifest; EL_ERR_NOMEM. */
 el_status el_survey_list_add_input(el_survey_list *list, const char *input, el_error *err);

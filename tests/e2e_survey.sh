@@ -210,6 +210,14 @@ printf 'logs/rig_test.csv --boot 5\n' >"$tmp/bad_manifest.txt"
 [ $? -eq 1 ] && grep -q "bad_manifest.txt:1:19" "$tmp/badman.err" && [ ! -e "$tmp/badman/survey.csv" ]
 check "a manifest with a non per-log option: usage error at line:column, no output" $?
 
+# The survey's own folder inside the searched one: its tables are not logs.
+mkdir -p "$tmp/inner"
+cp "$logs"/site_b/rig_1600.csv "$logs"/site_b/rig_2400.csv "$tmp/inner/"
+"$bin" survey "$tmp/inner" --out "$tmp/inner/campaign" $opts --quiet
+"$bin" survey "$tmp/inner" --out "$tmp/inner/campaign" $opts >"$tmp/inner.txt" 2>&1
+grep -q "^survey: 2 logs (0 assessed now, 2 unchanged)" "$tmp/inner.txt"
+check "an output folder inside the searched folder is not searched" $?
+
 # ---- 8. usage errors
 "$bin" survey "$logs" >/dev/null 2>&1
 check "no --out: exit 1" $(( $? == 1 ? 0 : 1 ))

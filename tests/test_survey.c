@@ -6,6 +6,7 @@
 
 #include <stdlib.h>
 #include <string.h>
+#include <sys/stat.h>
 #include <unistd.h>
 
 #include "el_survey.h"
@@ -109,6 +110,63 @@ static void test_manifest_errors(void **state)
     assert_int_equal(el_survey_parse_manifest(&list, "m.txt", "a.csv b.csv\n", &err), EL_ERR_USAGE);
     assert_int_equal(err.column, 7);
     el_survey_list_free(&list);
+}
+
+static void touch(const char *dir, const char *name)
+{
+    char path[1024];
+    snprintf(path, sizeof path, "%s/%s", dir, name);
+    FILE *f = fopen(path, "w");
+    assert_non_null(f);
+    fputs("t,x\n0,1\n", f);
+    fclose(f);
+}
+
+/* A folder is searched recursively for *.csv and *.csv.gz in sorted
+ * order; other files, hidden entries and the survey's own output folder
+ * (whose survey.csv is not a log) are left out. */
+static void test_folder_listing(void **state)
+{
+    (void)state;
+    char root[] = "/tmp/test_survey_dir_XXXXXX";
+    assert_non_null(mkdtemp(root));
+    char sub[600], out[600], hidden[600];
+    snprintf(sub, sizeof sub, "%s/sub", root);
+    snprintf(out, sizeof out, "%s/out", root);
+    snprintf(hidden, sizeof hidden, "%s/.snap", root);
+    assert_int_equal(mkdir(sub, 0700), 0);
+    assert_int_equal(mkdir(out, 0700), 0);
+    assert_int_equal(mkdir(hidden, 0700), 0);
+    touch(root, "b.csv");
+    touch(root, "a.csv");
+    touch(root, "notes.txt");
+    touch(sub, "c.csv.gz");
+    touch(out, "survey.csv");
+    touch(hidden, "d.csv");
+    el_survey_list list = {0};
+    char *out_real = realpath(out, NULL);
+    list.skip_folder = out_real;
+    el_error err;
+    assert_int_equal(el_survey_list_add_input(&list, root, &err), EL_OK);
+    assert_int_equal(list.count, 3);
+    char want[700];
+    snprintf(want, sizeof want, "%s/a.csv", root);
+    assert_string_equal(list.logs[0].path, want);
+    snprintf(want, sizeof want, "%s/b.csv", root);
+    assert_string_equal(list.logs[1].path, want);
+    snprintf(want, sizeof want, "%s/sub/c.csv.gz", root);
+    assert_string_equal(list.logs[2].path, want);
+    /* Without the skip, the output folder's table would be taken. */
+    el_survey_list_free(&list);
+    list.skip_folder = NULL;
+    assert_int_equal(el_survey_list_add_input(&list, root, &err), EL_OK);
+    assert_int_equal(list.count, 4);
+    el_survey_list_free(&list);
+    assert_int_equal(el_survey_list_add_input(&list, "/nonexistent/x", &err), EL_ERR_IO);
+    free(out_real);
+    char cmd[700];
+    snprintf(cmd, sizeof cmd, "rm -rf '%s'", root);
+    assert_int_equal(system(cmd), 0);
 }
 
 /* Shards are contiguous, cover the list once, in order, sizes within one. */
@@ -389,6 +447,7 @@ int main(void)
         cmocka_unit_test(test_log_names),
         cmocka_unit_test(test_manifest),
         cmocka_unit_test(test_manifest_errors),
+        cmocka_unit_test(test_folder_listing),
         cmocka_unit_test(test_shards),
         cmocka_unit_test(test_record_roundtrip),
         cmocka_unit_test(test_json_compact),
