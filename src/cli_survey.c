@@ -597,77 +597,107 @@ static slot *slot_of(slot *slots, size_t n, pid_t pid)
     return NULL;
 }
 
-/* Runs every log not taken from the cache, n_slots at a time. */
+/* The pool of running assess processes. */
+typedef struct {
+    slot *slots;
+    size_t n_slots;
+    size_t threads;     /* --threads of each assess */
+    size_t next;        /* next log to look at */
+    size_t running;
+} pool;
+
+/* Starts a process in every free slot while logs are left to run. */
+static el_status fill_slots(const survey_cli *c, pool *pl, log_job *jobs, size_t n,
+                            el_error *err)
+{
+    for (size_t i = 0; i < pl->n_slots; i++) {
+        if (pl->slots[i].pid != 0)
+            continue;
+        while (pl->next < n && jobs[pl->next].done)
+            pl->next++;
+        if (pl->next == n)
+            return EL_OK;
+        pl->slots[i].log = pl->next;
+        if (spawn(c, &jobs[pl->next++], pl->threads, &pl->slots[i]) != 0) {
+            pl->slots[i].pid = 0;
+            return el_error_set(err, EL_ERR_IO, "cannot start a process: %s", strerror(errno));
+        }
+        pl->running++;
+    }
+    return EL_OK;
+}
+
+/* Notes that process pid ended with status; when its log's processes have
+ * all ended, collects and saves the log's record. Returns the log's job,
+ * or NULL while the other process of a gzip pair still runs. */
+static log_job *reap(const survey_cli *c, pool *pl, log_job *jobs, pid_t pid, int status,
+                     el_status *st, el_error *err)
+{
+    slot *s = slot_of(pl->slots, pl->n_slots, pid);
+    if (s == NULL)
+        return NULL;
+    /* An ended process's pid is kept negated until its partner ends. */
+    if (pid == s->gzip_pid) {
+        s->gzip_status = status;
+        s->gzip_pid = -s->gzip_pid;
+    } else {
+        s->status = status;
+        s->pid = -s->pid;
+    }
+    if (s->pid > 0 || s->gzip_pid > 0)
+        return NULL;
+    s->gzip_pid = -s->gzip_pid;
+    log_job *j = &jobs[s->log];
+    collect(c, j, s);
+    s->pid = 0;
+    s->gzip_pid = 0;
+    pl->running--;
+    el_status saved = save_record(c, j, err);
+    if (saved != EL_OK && *st == EL_OK)
+        *st = saved;
+    return j;
+}
+
+/* Runs every log not taken from the cache, c->jobs at a time. */
 static el_status run_logs(const survey_cli *c, log_job *jobs, size_t n, progress *p,
                           el_error *err)
 {
     size_t to_run = count_to_run(jobs, n);
-    size_t n_slots = c->jobs < to_run ? c->jobs : to_run;
-    if (n_slots == 0)
+    pool pl = {NULL, c->jobs < to_run ? c->jobs : to_run, 1, 0, 0};
+    if (pl.n_slots == 0)
         return EL_OK;
     long cores = sysconf(_SC_NPROCESSORS_ONLN);
-    size_t threads = c->threads ? c->threads
-                                : (cores > (long)n_slots ? (size_t)cores / n_slots : 1);
-    slot *slots = calloc(n_slots, sizeof *slots);
-    if (slots == NULL)
+    pl.threads = c->threads ? c->threads
+                            : (cores > (long)pl.n_slots ? (size_t)cores / pl.n_slots : 1);
+    if ((pl.slots = calloc(pl.n_slots, sizeof *pl.slots)) == NULL)
         return el_error_set(err, EL_ERR_NOMEM, "out of memory");
-    for (size_t i = 0; i < n_slots; i++) {
-        snprintf(slots[i].json_path, sizeof slots[i].json_path, "%s/cache/tmp-%ld-%zu.json",
-                 c->out_dir, (long)getpid(), i);
-        snprintf(slots[i].err_path, sizeof slots[i].err_path, "%s/cache/tmp-%ld-%zu.err",
-                 c->out_dir, (long)getpid(), i);
+    for (size_t i = 0; i < pl.n_slots; i++) {
+        snprintf(pl.slots[i].json_path, sizeof pl.slots[i].json_path,
+                 "%s/cache/tmp-%ld-%zu.json", c->out_dir, (long)getpid(), i);
+        snprintf(pl.slots[i].err_path, sizeof pl.slots[i].err_path,
+                 "%s/cache/tmp-%ld-%zu.err", c->out_dir, (long)getpid(), i);
     }
-    size_t next = 0, running = 0;
     el_status st = EL_OK;
     for (;;) {
-        for (size_t i = 0; st == EL_OK && i < n_slots; i++) {
-            if (slots[i].pid != 0)
-                continue;
-            while (next < n && jobs[next].done)
-                next++;
-            if (next == n)
-                break;
-            slots[i].log = next;
-            if (spawn(c, &jobs[next++], threads, &slots[i]) != 0) {
-                st = el_error_set(err, EL_ERR_IO, "cannot start a process: %s", strerror(errno));
-                slots[i].pid = 0;
-                break;
-            }
-            running++;
-        }
-        if (running == 0)
+        if (st == EL_OK)
+            st = fill_slots(c, &pl, jobs, n, err);
+        if (pl.running == 0)
             break;
         int status = 0;
         pid_t pid = waitpid(-1, &status, 0);
-        if (pid < 0) {
-            if (errno == EINTR)
-                continue;
-            break;
-        }
-        slot *s = slot_of(slots, n_slots, pid);
-        if (s == NULL)
+        if (pid < 0 && errno == EINTR)
             continue;
-        if (pid == s->gzip_pid)
-            s->gzip_status = status, s->gzip_pid = -s->gzip_pid;
-        else
-            s->status = status, s->pid = -s->pid;
-        if (s->pid > 0 || s->gzip_pid > 0)
-            continue;        /* the other process of the pair still runs */
-        s->gzip_pid = -s->gzip_pid;
-        log_job *j = &jobs[s->log];
-        collect(c, j, s);
-        s->pid = 0;
-        s->gzip_pid = 0;
-        running--;
-        el_status saved = save_record(c, j, err);
-        if (saved != EL_OK && st == EL_OK)
-            st = saved;
-        p->done++;
-        p->run_done++;
-        p->failed += j->rec.exit_code != 0;
-        show(p);
+        if (pid < 0)
+            break;
+        log_job *j = reap(c, &pl, jobs, pid, status, &st, err);
+        if (j != NULL) {
+            p->done++;
+            p->run_done++;
+            p->failed += j->rec.exit_code != 0;
+            show(p);
+        }
     }
-    free(slots);
+    free(pl.slots);
     return st;
 }
 

@@ -218,6 +218,17 @@ cp "$logs"/site_b/rig_1600.csv "$logs"/site_b/rig_2400.csv "$tmp/inner/"
 grep -q "^survey: 2 logs (0 assessed now, 2 unchanged)" "$tmp/inner.txt"
 check "an output folder inside the searched folder is not searched" $?
 
+# A .csv.gz that gzip cannot decompress: an error row saying so, not what
+# assess made of a cut stream.
+mkdir -p "$tmp/gz"
+head -n 2000 datasets/booster_pump.csv | gzip -c >"$tmp/gz/good.csv.gz"
+head -c 3000 "$logs/site_b/rig_packed.csv.gz" >"$tmp/gz/cut.csv.gz"
+"$bin" survey "$tmp/gz" --out "$tmp/gzout" $opts --quiet
+status=$?
+grep -q "^$tmp/gz/cut.csv.gz,error,2,gzip could not decompress" "$tmp/gzout/survey.csv" &&
+    grep -q "^$tmp/gz/good.csv.gz,ok,0,," "$tmp/gzout/survey.csv" && [ "$status" -eq 2 ]
+check "a truncated .csv.gz is an error row naming gzip; the good one is assessed" $?
+
 # ---- 8. usage errors
 "$bin" survey "$logs" >/dev/null 2>&1
 check "no --out: exit 1" $(( $? == 1 ? 0 : 1 ))
