@@ -76,6 +76,14 @@ check "a file not named *.csv / *.csv.gz in a folder is not a log" $?
 [ -z "$(find "$out" -name '*.tmp*' -o -name 'tmp-*')" ]
 check "no temporary file left behind" $?
 
+cores=$(nproc)
+per_log=$((cores / 2))
+[ "$per_log" -ge 1 ] || per_log=1
+[ -z "$(jq -r 'select(.resampling) | .resampling.threads' "$out/survey.jsonl" | grep -vx "$per_log")" ]
+check "--jobs 2 on $cores cores: each log's bootstrap got $per_log thread(s)" $?
+[ ! -s "$tmp/run1.err" ]
+check "no progress line when standard error is not a terminal" $?
+
 # The rows are in listing order: the folder's paths sorted (byte order).
 find "$logs" \( -name '*.csv' -o -name '*.csv.gz' \) | LC_ALL=C sort >"$tmp/expect_order"
 tail -n +2 "$out/survey.csv" | cut -d, -f1 >"$tmp/got_order"
@@ -228,6 +236,15 @@ status=$?
 grep -q "^$tmp/gz/cut.csv.gz,error,2,gzip could not decompress" "$tmp/gzout/survey.csv" &&
     grep -q "^$tmp/gz/good.csv.gz,ok,0,," "$tmp/gzout/survey.csv" && [ "$status" -eq 2 ]
 check "a truncated .csv.gz is an error row naming gzip; the good one is assessed" $?
+
+# The progress line, on a terminal (script(1) gives the run one).
+if command -v script >/dev/null 2>&1; then
+    mkdir -p "$tmp/ttylogs"
+    cp "$logs"/site_b/rig_1600.csv "$logs"/site_b/rig_2400.csv "$tmp/ttylogs/"
+    script -qec "$bin survey $tmp/ttylogs --out $tmp/tty $opts" /dev/null >"$tmp/tty.txt" 2>&1
+    tr '\r' '\n' <"$tmp/tty.txt" | grep -q "^survey: 2 of 2 logs done, 0 failed, 0:00:[0-9][0-9] elapsed"
+    check "on a terminal: one progress line (done of total, failed, elapsed)" $?
+fi
 
 # ---- 8. usage errors
 "$bin" survey "$logs" >/dev/null 2>&1
