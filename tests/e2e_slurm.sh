@@ -186,6 +186,8 @@ if command -v jq >/dev/null 2>&1; then
     jq -cS 'del(.resampling.threads)' "$tmp/cluster/survey.jsonl" >"$tmp/c.jsonl"
     cmp -s "$tmp/l.jsonl" "$tmp/c.jsonl"
     check "merged survey.jsonl the local run's (threads aside)" $?
+else
+    check "jq is installed (make deps) to compare the JSON lines" 1
 fi
 grep -q ',error,2,' "$tmp/cluster/survey.csv"
 check "the broken log is an error row in the merged table" $?
