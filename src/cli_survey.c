@@ -1172,8 +1172,9 @@ static void print_help(void)
                    "(each log's assess JSON) and DIR/index.html (ranked by margin). Folders are\n"
                    "searched for *.csv and *.csv.gz; any other file is a manifest: one log per\n"
                    "line, optionally with its own --time/--from/--to/... options. A re-run skips\n"
-                   "logs whose content and options are unchanged. Exit status 2 when any log\n"
-                   "could not be assessed (see its row), 5 when one matched --fail-on.",
+                   "logs whose content and options are unchanged. --threads defaults to the\n"
+                   "cores shared among the logs run at once. Exit status 2 when any log could\n"
+                   "not be assessed (see its row), 5 when one matched --fail-on.",
                    OPTIONS, N_OPTIONS);
 }
 
