@@ -163,5 +163,6 @@ int cli_track(int argc, char **argv);
 int cli_scan(int argc, char **argv);
 int cli_demo(int argc, char **argv);
 int cli_spectrum(int argc, char **argv);
+int cli_survey(int argc, char **argv);
 
 #endif

@@ -16,6 +16,7 @@ static const subcommand SUBCOMMANDS[] = {
     {"assess", cli_assess, "the main job: model, modes, type and stability of one operating window"},
     {"scan", cli_scan, "channels, units, rows, time span, sample interval and ranges of a log"},
     {"track", cli_track, "margin over sliding windows of a long log: is it shrinking?"},
+    {"survey", cli_survey, "many logs at once: a ranked table, locally or on a Slurm cluster"},
     {"spectrum", cli_spectrum, "power spectral density per channel (Welch) and its peaks"},
     {"demo", cli_demo, "write the invented demo logs"},
 };
