@@ -132,6 +132,8 @@ clean:
 # from -fPIC objects in build/rel/pic), the public header eigenlog.h with
 # the stage headers in include/eigenlog/, and eigenlog.pc. Always the rel
 # flavour. `make uninstall` with the same PREFIX/DESTDIR removes them.
+# e2e_examples.sh runs the Python example; e2e_install.sh renders the man page.
+DEB_PKGS     += python3 groff-base
 VERSION      := $(shell sed -n 's/^\#define EL_VERSION "\(.*\)"/\1/p' src/el_report.h)
 SOVERSION    := $(firstword $(subst ., ,$(VERSION)))
 PREFIX       ?= /usr/local
@@ -203,4 +205,18 @@ uninstall:
 	-rmdir $(DESTDIR)$(INCLUDEDIR)/eigenlog 2>/dev/null
 
 -include $(rel_PICOBJ:.o=.d)
+
+# examples/ (tests/e2e_examples.sh runs them): the C example against the
+# in-tree library of each flavour.
+.PHONY: examples
+examples: build/rel/examples/assess_from_c
+
+build/rel/examples/assess_from_c: examples/assess_from_c.c src/eigenlog.h $(rel_LIB)
+	@mkdir -p $(dir $@)
+	$(CC) $(BASE_CFLAGS) $(OPT_CFLAGS) $< $(rel_LIB) $(LDLIBS_ALL) -o $@
+
+build/san/examples/assess_from_c: examples/assess_from_c.c src/eigenlog.h $(san_LIB)
+	@mkdir -p $(dir $@)
+	$(CC) $(BASE_CFLAGS) $(SAN_CFLAGS) $< $(san_LIB) $(LDLIBS_ALL) -o $@
+-include $(wildcard build/*/examples/*.d)
 # --------------------------------------------------------------- end install

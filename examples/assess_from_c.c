@@ -1,5 +1,5 @@
-/* assess_from_c: calls libeigenlog from C: assesses a log file (or, with no
- * argument, the booster-pump demo log made in memory) and prints the verdict.
+/* Shows: calling libeigenlog from C: assess a log file (or, with no
+ * argument, the booster-pump demo log made in memory) and print the verdict.
  *
  * Build in the source tree:  make examples   (or see examples/README.md)
  * Build against an installed eigenlog:
