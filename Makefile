@@ -124,3 +124,100 @@ fixtures:
 
 clean:
 	rm -rf build
+
+# ---------------------------------------------------------------------------
+# Installing (docs/cli.md, "Installing"). `make install PREFIX=/usr DESTDIR=/tmp/x`
+# installs the program, the eigenlog(1) man page and the bash completion
+# (both generated from the program's --help by tools/, so they cannot
+# drift from it), libeigenlog static and shared (soname libeigenlog.so.MAJOR,
+# from -fPIC objects in build/rel/pic), the public header eigenlog.h with
+# the stage headers in include/eigenlog/, and eigenlog.pc. Always the rel
+# flavour. `make uninstall` with the same PREFIX/DESTDIR removes them.
+# e2e_examples.sh runs the Python example; e2e_install.sh renders the man page.
+DEB_PKGS     += python3 groff-base
+VERSION      := $(shell sed -n 's/^\#define EL_VERSION "\(.*\)"/\1/p' src/el_report.h)
+SOVERSION    := $(firstword $(subst ., ,$(VERSION)))
+PREFIX       ?= /usr/local
+BINDIR       ?= $(PREFIX)/bin
+LIBDIR       ?= $(PREFIX)/lib
+INCLUDEDIR   ?= $(PREFIX)/include
+MANDIR       ?= $(PREFIX)/share/man
+BASHCOMPDIR  ?= $(PREFIX)/share/bash-completion/completions
+PKGCONFIGDIR ?= $(LIBDIR)/pkgconfig
+INSTALL      ?= install
+
+SHLIB_NAME   := libeigenlog.so.$(VERSION)
+SHLIB_SONAME := libeigenlog.so.$(SOVERSION)
+rel_PICOBJ   := $(patsubst src/%.c,build/rel/pic/%.o,$(LIB_SRC))
+rel_SHLIB    := build/rel/$(SHLIB_NAME)
+rel_MAN      := build/rel/eigenlog.1
+rel_BASHCOMP := build/rel/eigenlog.bash
+STAGE_HDRS   := $(sort $(wildcard src/el_*.h))
+
+.PHONY: shared man completion install uninstall
+
+build/rel/pic/%.o: src/%.c Makefile
+	@mkdir -p $(dir $@)
+	$(CC) $(BASE_CFLAGS) $(OPT_CFLAGS) -fPIC -c $< -o $@
+
+$(rel_SHLIB): $(rel_PICOBJ)
+	$(CC) -shared -Wl,-soname,$(SHLIB_SONAME) $(OPT_CFLAGS) $^ $(LDLIBS_ALL) -o $@
+	ln -sf $(SHLIB_NAME) build/rel/$(SHLIB_SONAME)
+	ln -sf $(SHLIB_SONAME) build/rel/libeigenlog.so
+
+$(rel_MAN): $(rel_BIN) tools/gen_man.sh tools/help2roff.awk
+	sh tools/gen_man.sh $(rel_BIN) >$@.tmp && mv $@.tmp $@
+
+$(rel_BASHCOMP): $(rel_BIN) tools/gen_completion.sh
+	sh tools/gen_completion.sh $(rel_BIN) >$@.tmp && mv $@.tmp $@
+
+shared: $(rel_SHLIB)
+man: $(rel_MAN)
+completion: $(rel_BASHCOMP)
+
+# The pkg-config file is written at install time, for the PREFIX given then.
+install: $(rel_BIN) $(rel_LIB) $(rel_SHLIB) $(rel_MAN) $(rel_BASHCOMP)
+	$(INSTALL) -d $(DESTDIR)$(BINDIR) $(DESTDIR)$(LIBDIR) $(DESTDIR)$(PKGCONFIGDIR) \
+	    $(DESTDIR)$(INCLUDEDIR)/eigenlog $(DESTDIR)$(MANDIR)/man1 $(DESTDIR)$(BASHCOMPDIR)
+	$(INSTALL) -m 755 $(rel_BIN) $(DESTDIR)$(BINDIR)/eigenlog
+	$(INSTALL) -m 644 $(rel_LIB) $(DESTDIR)$(LIBDIR)/libeigenlog.a
+	$(INSTALL) -m 755 $(rel_SHLIB) $(DESTDIR)$(LIBDIR)/$(SHLIB_NAME)
+	ln -sf $(SHLIB_NAME) $(DESTDIR)$(LIBDIR)/$(SHLIB_SONAME)
+	ln -sf $(SHLIB_SONAME) $(DESTDIR)$(LIBDIR)/libeigenlog.so
+	$(INSTALL) -m 644 $(STAGE_HDRS) $(DESTDIR)$(INCLUDEDIR)/eigenlog/
+	sed 's|^#include "\(el_[a-z_]*\.h\)"|#include "eigenlog/\1"|' src/eigenlog.h \
+	    >$(DESTDIR)$(INCLUDEDIR)/eigenlog.h
+	chmod 644 $(DESTDIR)$(INCLUDEDIR)/eigenlog.h
+	sed -e 's|@PREFIX@|$(PREFIX)|' -e 's|@LIBDIR@|$(LIBDIR)|' \
+	    -e 's|@INCLUDEDIR@|$(INCLUDEDIR)|' -e 's|@VERSION@|$(VERSION)|' \
+	    -e 's|=$(PREFIX)/|=$${prefix}/|' tools/eigenlog.pc.in \
+	    >$(DESTDIR)$(PKGCONFIGDIR)/eigenlog.pc
+	chmod 644 $(DESTDIR)$(PKGCONFIGDIR)/eigenlog.pc
+	$(INSTALL) -m 644 $(rel_MAN) $(DESTDIR)$(MANDIR)/man1/eigenlog.1
+	$(INSTALL) -m 644 $(rel_BASHCOMP) $(DESTDIR)$(BASHCOMPDIR)/eigenlog
+
+uninstall:
+	rm -f $(DESTDIR)$(BINDIR)/eigenlog $(DESTDIR)$(LIBDIR)/libeigenlog.a \
+	    $(DESTDIR)$(LIBDIR)/$(SHLIB_NAME) $(DESTDIR)$(LIBDIR)/$(SHLIB_SONAME) \
+	    $(DESTDIR)$(LIBDIR)/libeigenlog.so $(DESTDIR)$(PKGCONFIGDIR)/eigenlog.pc \
+	    $(DESTDIR)$(INCLUDEDIR)/eigenlog.h $(DESTDIR)$(MANDIR)/man1/eigenlog.1 \
+	    $(DESTDIR)$(BASHCOMPDIR)/eigenlog \
+	    $(patsubst src/%,$(DESTDIR)$(INCLUDEDIR)/eigenlog/%,$(STAGE_HDRS))
+	-rmdir $(DESTDIR)$(INCLUDEDIR)/eigenlog 2>/dev/null
+
+-include $(rel_PICOBJ:.o=.d)
+
+# examples/ (tests/e2e_examples.sh runs them): the C example against the
+# in-tree library of each flavour.
+.PHONY: examples
+examples: build/rel/examples/assess_from_c
+
+build/rel/examples/assess_from_c: examples/assess_from_c.c src/eigenlog.h $(rel_LIB)
+	@mkdir -p $(dir $@)
+	$(CC) $(BASE_CFLAGS) $(OPT_CFLAGS) $< $(rel_LIB) $(LDLIBS_ALL) -o $@
+
+build/san/examples/assess_from_c: examples/assess_from_c.c src/eigenlog.h $(san_LIB)
+	@mkdir -p $(dir $@)
+	$(CC) $(BASE_CFLAGS) $(SAN_CFLAGS) $< $(san_LIB) $(LDLIBS_ALL) -o $@
+-include $(wildcard build/*/examples/*.d)
+# --------------------------------------------------------------- end install

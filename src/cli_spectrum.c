@@ -28,33 +28,51 @@ static const char *val(const cli_args *a, const char *name)
     return a->value[cli_index(OPTIONS, N_OPTIONS, name)];
 }
 
+/* The layout line: segments, overlap, what the last segment did, so no
+ * reader wonders whether the end of the log was dropped. */
+static void print_layout(const el_assessment *r, const el_spectra *s)
+{
+    printf("%s: Welch spectra,\n  %zu segment%s of %zu samples (Hann, 50%% overlap", r->table.source,
+           s->n_segments, s->n_segments == 1 ? "" : "s", s->segment_length);
+    if (s->n_segments > 1 && s->last_start != (s->n_segments - 1) * s->hop)
+        printf("; the last moved back to end\n  at the last sample, %.0f%% overlap",
+               100.0 * s->last_overlap);
+    printf("): all %zu samples used;\n  resolution %.4g Hz, %.3g degrees of freedom per bin\n\n",
+           s->n_samples, s->df_hz, s->dof);
+}
+
 static void print_table(const el_assessment *r, const el_spectra *s, const el_peaks *p)
 {
-    printf("%s: Welch spectra, %zu segments of %zu samples (50%% overlap, Hann),\n"
-           "  resolution %.4g Hz, %.3g degrees of freedom per bin\n\n",
-           r->table.source, s->n_segments, s->segment_length, s->df_hz, s->dof);
+    print_layout(r, s);
     for (size_t c = 0; c < s->n_channels; c++) {
         const char *unit = r->series.units[c];
-        printf("%s%s%s%s: total power %.4g %s%s\n", r->series.names[c], unit[0] ? " [" : "",
-               unit, unit[0] ? "]" : "", s->total_power[c], unit[0] ? unit : "", unit[0] ? "^2" : "");
+        char power_unit[80], psd_unit[80];
+        el_spectrum_unit(unit, 0, power_unit, sizeof power_unit);
+        el_spectrum_unit(unit, 1, psd_unit, sizeof psd_unit);
+        printf("%s%s%s%s: total power %.4g%s%s\n", r->series.names[c], unit[0] ? " [" : "",
+               unit, unit[0] ? "]" : "", s->total_power[c], power_unit[0] ? " " : "",
+               power_unit);
         if (p->count[c] == 0) {
             printf("  no peak stands out (%.0fx the median level and above the estimator noise)\n\n",
                    10.0);
             continue;
         }
-        printf("  %10s %12s %10s %12s\n", "freq Hz", "height/Hz", "x median", "width Hz");
+        printf("  %-16s %-17s %11s %9s\n", "peak Hz", "half-power band", "PSD", "x median");
         for (size_t i = 0; i < p->count[c]; i++) {
             const el_peak *pk = &p->items[c * p->max_per_channel + i];
-            char width[32];
-            if (pk->width_ok)
-                snprintf(width, sizeof width, "%.4g", pk->width_hz);
+            char freq[40], band[40];
+            snprintf(freq, sizeof freq, "%.4g +- %.2g", pk->frequency_hz, 0.5 * pk->resolution_hz);
+            if (pk->band_ok)
+                snprintf(band, sizeof band, "%.4g-%.4g", pk->band_low_hz, pk->band_high_hz);
             else
-                snprintf(width, sizeof width, "n/a");
-            printf("  %10.4g %12.4g %10.3g %12s\n", pk->frequency_hz, pk->height,
-                   pk->ratio_to_median, width);
+                snprintf(band, sizeof band, "n/a");
+            printf("  %-16s %-17s %11.4g %9.3g\n", freq, band, pk->height, pk->ratio_to_median);
         }
-        printf("\n");
+        printf("  (PSD in %s)\n\n", psd_unit);
     }
+    printf("A peak's frequency is the centre of its half-power band on the smoothed\n"
+           "spectrum (n/a: not resolved from a taller peak; then the tallest bin's),\n"
+           "+- half a bin, the resolution.\n");
 }
 
 static el_status spectra_json(const el_assessment *r, const el_spectra *s,
@@ -78,6 +96,10 @@ static el_status spectra_json(const el_assessment *r, const el_spectra *s,
     el_json_array_end(&j);
     el_json_int(&j, "segment_length", (long long)s->segment_length);
     el_json_int(&j, "segments", (long long)s->n_segments);
+    el_json_int(&j, "samples", (long long)s->n_samples);
+    el_json_int(&j, "samples_unused", 0);
+    el_json_int(&j, "last_segment_start", (long long)s->last_start);
+    el_json_number(&j, "last_segment_overlap", s->last_overlap);
     el_json_number(&j, "df_hz", s->df_hz);
     el_json_number(&j, "dof", s->dof);
     el_json_array_begin(&j, "frequency_hz");
@@ -86,9 +108,14 @@ static el_status spectra_json(const el_assessment *r, const el_spectra *s,
     el_json_array_end(&j);
     el_json_array_begin(&j, "channels");
     for (size_t c = 0; c < s->n_channels; c++) {
+        char power_unit[80], psd_unit[80];
+        el_spectrum_unit(r->series.units[c], 0, power_unit, sizeof power_unit);
+        el_spectrum_unit(r->series.units[c], 1, psd_unit, sizeof psd_unit);
         el_json_object_begin(&j, NULL);
         el_json_string(&j, "name", r->series.names[c]);
         el_json_string(&j, "unit", r->series.units[c]);
+        el_json_string(&j, "power_unit", power_unit);
+        el_json_string(&j, "psd_unit", psd_unit);
         el_json_number(&j, "total_power", s->total_power[c]);
         el_json_array_begin(&j, "psd");
         for (size_t k = 0; k < s->n_bins; k++)
@@ -106,6 +133,16 @@ static el_status spectra_json(const el_assessment *r, const el_spectra *s,
                 el_json_number(&j, "width_hz", pk->width_hz);
             else
                 el_json_null(&j, "width_hz");
+            el_json_number(&j, "resolution_hz", pk->resolution_hz);
+            if (pk->band_ok) {
+                el_json_array_begin(&j, "half_power_band_hz");
+                el_json_number(&j, NULL, pk->band_low_hz);
+                el_json_number(&j, NULL, pk->band_high_hz);
+                el_json_array_end(&j);
+            } else {
+                el_json_null(&j, "half_power_band_hz");
+            }
+            el_json_number(&j, "smoothed_height", pk->smoothed_height);
             el_json_object_end(&j);
         }
         el_json_array_end(&j);
@@ -120,11 +157,9 @@ static el_status spectra_csv(const el_assessment *r, const el_spectra *s, el_buf
 {
     el_buf_printf(out, "frequency_hz");
     for (size_t c = 0; c < s->n_channels; c++) {
-        const char *u = r->series.units[c];
-        if (u[0] != '\0')
-            el_buf_printf(out, ",\"%s [%s^2/Hz]\"", r->series.names[c], u);
-        else
-            el_buf_printf(out, ",\"%s [1/Hz]\"", r->series.names[c]);
+        char psd_unit[80];
+        el_spectrum_unit(r->series.units[c], 1, psd_unit, sizeof psd_unit);
+        el_buf_printf(out, ",\"%s [%s]\"", r->series.names[c], psd_unit);
     }
     el_buf_printf(out, "\n");
     for (size_t k = 0; k < s->n_bins; k++) {

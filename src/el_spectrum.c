@@ -199,14 +199,59 @@ void el_spectra_free(el_spectra *spectra)
     memset(spectra, 0, sizeof *spectra);
 }
 
-/* Equivalent degrees of freedom of a Welch average of K segments whose
- * neighbours overlap with window correlation rho1 (Welch 1967; Percival &
- * Walden 1993, ch. 6): nu = 2K / (1 + 2 (1 - 1/K) rho1^2). Only adjacent
- * segments overlap at 50 %. */
-static double welch_dof(size_t n_segments, double rho1)
+/* Number of segments for n samples: the regular ones at multiples of the
+ * hop, plus one moved back to end at the last sample when the regular ones
+ * leave samples over, so that no sample is dropped. */
+static size_t count_segments(size_t n_samples, size_t L, size_t hop)
 {
+    size_t regular = (n_samples - L) / hop + 1;
+    size_t end = (regular - 1) * hop + L;
+    return regular + (end < n_samples ? 1 : 0);
+}
+
+/* Start of segment s (of count_segments): s * hop, except the moved-back
+ * last one, which starts at n - L. */
+static size_t segment_start(size_t s, size_t n_segments, size_t n_samples, size_t L,
+                            size_t hop)
+{
+    size_t start = s * hop;
+    if (s + 1 == n_segments && start + L != n_samples)
+        start = n_samples - L;
+    return start;
+}
+
+/* Correlation of the window with itself shifted by d samples. */
+static double window_correlation(const el_spectrum_plan *plan, size_t d)
+{
+    double sum = 0.0;
+    for (size_t n = 0; n + d < plan->segment_length; n++)
+        sum += plan->window[n] * plan->window[n + d];
+    return sum / plan->sum_w2;
+}
+
+/* Equivalent degrees of freedom of a Welch average of K segments
+ * (Welch 1967; Percival & Walden 1993, ch. 6): for a white-ish spectrum
+ * the variance of the average relative to one segment's is
+ * (1/K^2) sum_i sum_j rho(s_i - s_j)^2, rho the window's correlation at
+ * the distance of the two starts, so nu = 2 K^2 / sum_i sum_j rho^2. With
+ * every segment at 50 % overlap this is 2K / (1 + 2 (1 - 1/K) rho1^2);
+ * the moved-back last segment overlaps its neighbour by more. */
+static double welch_dof(const el_spectrum_plan *plan, size_t n_segments, size_t n_samples)
+{
+    size_t L = plan->segment_length, hop = plan->hop;
+    double sum = (double)n_segments; /* i == j */
+    for (size_t i = 0; i < n_segments; i++) {
+        size_t si = segment_start(i, n_segments, n_samples, L, hop);
+        for (size_t j = i + 1; j < n_segments; j++) {
+            size_t sj = segment_start(j, n_segments, n_samples, L, hop);
+            if (sj - si >= L)
+                break;
+            double r = sj - si == hop ? plan->rho1 : window_correlation(plan, sj - si);
+            sum += 2.0 * r * r;
+        }
+    }
     double k = (double)n_segments;
-    return 2.0 * k / (1.0 + 2.0 * (1.0 - 1.0 / k) * rho1 * rho1);
+    return 2.0 * k * k / sum;
 }
 
 /* A segment belongs to the first half when its centre lies before the
@@ -224,7 +269,7 @@ static void accumulate_segments(el_spectrum_plan *plan, const double *x,
 {
     size_t L = plan->segment_length;
     for (size_t s = 0; s < n_segments; s++) {
-        size_t start = s * plan->hop;
+        size_t start = segment_start(s, n_segments, n_samples, L, plan->hop);
         const double *seg = x + start;
         double mean = 0.0;
         for (size_t n = 0; n < L; n++)
@@ -285,16 +330,23 @@ static void fill_layout(const el_spectrum_plan *plan, const el_series *series, e
 {
     size_t L = plan->segment_length, n = series->n_samples;
     sp->dt = series->dt;
-    sp->n_segments = (n - L) / plan->hop + 1;
+    sp->n_samples = n;
+    sp->n_segments = count_segments(n, L, plan->hop);
+    sp->last_start = segment_start(sp->n_segments - 1, sp->n_segments, n, L, plan->hop);
+    sp->last_overlap = 0.0;
+    if (sp->n_segments > 1) {
+        size_t before = segment_start(sp->n_segments - 2, sp->n_segments, n, L, plan->hop);
+        sp->last_overlap = (double)(before + L - sp->last_start) / (double)L;
+    }
     sp->df_hz = 1.0 / ((double)L * series->dt);
     sp->enbw_hz = sp->df_hz * (double)L * plan->sum_w2 / (plan->sum_w * plan->sum_w);
-    sp->dof = welch_dof(sp->n_segments, plan->rho1);
+    sp->dof = welch_dof(plan, sp->n_segments, n);
     for (size_t k = 0; k < sp->n_bins; k++)
         sp->frequency_hz[k] = (double)k * sp->df_hz;
     size_t n1 = 0, n2 = 0;
     double centre1 = 0.0, centre2 = 0.0;
     for (size_t s = 0; s < sp->n_segments; s++) {
-        size_t start = s * plan->hop;
+        size_t start = segment_start(s, sp->n_segments, n, L, plan->hop);
         double centre = (double)start + 0.5 * (double)(L - 1);
         if (segment_in_first_half(start, L, n)) {
             n1++;
@@ -360,16 +412,19 @@ el_status el_peaks_create(size_t n_channels, size_t n_bins, size_t max_per_chann
     memset(peaks, 0, sizeof *peaks);
     if (n_channels == 0 || n_bins == 0 || max_per_channel == 0)
         return el_error_set(err, EL_ERR_INTERNAL, "peaks: zero size");
-    if (max_per_channel > ((size_t)-1) / sizeof(el_peak) / n_channels)
+    if (max_per_channel > ((size_t)-1) / sizeof(el_peak) / n_channels
+        || n_bins > ((size_t)-1) / sizeof(double) / n_channels)
         return el_error_set(err, EL_ERR_NOMEM, "peaks: too many");
     peaks->count = calloc(n_channels, sizeof *peaks->count);
     peaks->items = calloc(n_channels * max_per_channel, sizeof *peaks->items);
     peaks->median_psd = calloc(n_channels, sizeof *peaks->median_psd);
     peaks->min_ratio = calloc(n_channels, sizeof *peaks->min_ratio);
+    peaks->smoothed = calloc(n_channels * n_bins, sizeof *peaks->smoothed);
     peaks->scratch = calloc(n_bins, sizeof *peaks->scratch);
     peaks->candidates = calloc(n_bins, sizeof *peaks->candidates);
     if (peaks->count == NULL || peaks->items == NULL || peaks->median_psd == NULL
-        || peaks->min_ratio == NULL || peaks->scratch == NULL || peaks->candidates == NULL) {
+        || peaks->min_ratio == NULL || peaks->smoothed == NULL || peaks->scratch == NULL
+        || peaks->candidates == NULL) {
         el_peaks_free(peaks);
         return el_error_set(err, EL_ERR_NOMEM, "out of memory for spectral peaks");
     }
@@ -387,6 +442,7 @@ void el_peaks_free(el_peaks *peaks)
     free(peaks->items);
     free(peaks->median_psd);
     free(peaks->min_ratio);
+    free(peaks->smoothed);
     free(peaks->scratch);
     free(peaks->candidates);
     memset(peaks, 0, sizeof *peaks);
@@ -499,6 +555,106 @@ static int half_height_width(const double *P, size_t nb, size_t k, double height
     return 1;
 }
 
+/* S[k] = weighted mean of P over bins k-2..k+2 (weights 1 2 3 2 1) that lie
+ * in 1..nb-1; S[0] = P[0]. A short triangular kernel: its half-power width
+ * (3 bins) is that of the Hann main lobe, so a line widens from about 1.5
+ * to 3.5 bins, while the scatter of a bin falls by more than half in
+ * variance. */
+static void smooth_spectrum(const double *P, size_t nb, double *S)
+{
+    static const double weight[5] = {1.0, 2.0, 3.0, 2.0, 1.0};
+    S[0] = P[0];
+    for (size_t k = 1; k < nb; k++) {
+        double sum = 0.0, total = 0.0;
+        for (size_t i = 0; i < 5; i++) {
+            if (k + i < 3 || k + i - 2 >= nb)
+                continue;
+            sum += weight[i] * P[k + i - 2];
+            total += weight[i];
+        }
+        S[k] = sum / total;
+    }
+}
+
+/* From bin k, steps to the higher neighbour while S rises: the top of the
+ * hump k lies on. */
+static size_t climb(const double *S, size_t nb, size_t k)
+{
+    for (;;) {
+        if (k + 1 < nb && S[k + 1] > S[k])
+            k++;
+        else if (k > 1 && S[k - 1] > S[k])
+            k--;
+        else
+            return k;
+    }
+}
+
+/* Half-power band of the hump whose top is bin m of S, in fractional bins
+ * by linear interpolation where S crosses S[m] / 2. Returns 0 (open) when
+ * S reaches an end of the spectrum (bin 0 excluded) or rises above S[m]
+ * before falling to half: the hump is not resolved from a taller one. */
+static int half_power_band(const double *S, size_t nb, size_t m, double *low, double *high)
+{
+    double half = 0.5 * S[m];
+    size_t j = m;
+    while (j >= 1 && S[j] >= half) {
+        if (S[j] > S[m])
+            return 0;
+        j--;
+    }
+    if (j < 1)
+        return 0;
+    *low = (double)j + (half - S[j]) / (S[j + 1] - S[j]);
+    j = m;
+    while (j < nb && S[j] >= half) {
+        if (S[j] > S[m])
+            return 0;
+        j++;
+    }
+    if (j >= nb)
+        return 0;
+    *high = (double)(j - 1) + (S[j - 1] - half) / (S[j - 1] - S[j]);
+    return 1;
+}
+
+/* Keeps one candidate per hump of S (the tallest in P; ties by bin) and
+ * compacts the list. Returns the new count. */
+static size_t one_per_hump(el_peak *cand, size_t n_cand)
+{
+    size_t kept = 0;
+    for (size_t i = 0; i < n_cand; i++) {
+        size_t j = 0;
+        while (j < kept && cand[j].smoothed_bin != cand[i].smoothed_bin)
+            j++;
+        if (j == kept)
+            cand[kept++] = cand[i];
+        else if (cand[i].height > cand[j].height)
+            cand[j] = cand[i];
+    }
+    return kept;
+}
+
+/* Frequency and half-power band of each kept peak (see
+ * el_spectrum_find_peaks). */
+static void place_peaks(const double *S, size_t nb, double df, el_peak *cand, size_t n_cand)
+{
+    for (size_t i = 0; i < n_cand; i++) {
+        el_peak *pk = &cand[i];
+        double low = 0.0, high = 0.0;
+        int ok = half_power_band(S, nb, pk->smoothed_bin, &low, &high);
+        for (size_t j = 0; ok && j < n_cand; j++)
+            if (j != i && (double)cand[j].smoothed_bin >= low
+                && (double)cand[j].smoothed_bin <= high)
+                ok = 0;
+        pk->band_ok = ok;
+        pk->band_low_hz = ok ? low * df : 0.0;
+        pk->band_high_hz = ok ? high * df : 0.0;
+        if (ok)
+            pk->frequency_hz = 0.5 * (low + high) * df;
+    }
+}
+
 static size_t channel_peaks(const el_spectra *sp, const el_spectrum_options *opt,
                             el_peaks *peaks, size_t c)
 {
@@ -512,6 +668,8 @@ static size_t channel_peaks(const el_spectra *sp, const el_spectrum_options *opt
     q = q > 2.0 ? q : 2.0;
     peaks->median_psd[c] = median;
     peaks->min_ratio[c] = q;
+    double *S = peaks->smoothed + c * nb;
+    smooth_spectrum(P, nb, S);
     double threshold = opt->threshold_ratio * median;
     double floor_psd = EL_PSD_FLOOR_RATIO * largest;
     threshold = threshold > floor_psd ? threshold : floor_psd;
@@ -535,7 +693,12 @@ static size_t channel_peaks(const el_spectra *sp, const el_spectrum_options *opt
         pk->prominence = P[k] - base;
         pk->width_ok = half_height_width(P, nb, k, pk->height, &width_bins);
         pk->width_hz = pk->width_ok ? width_bins * sp->df_hz : 0.0;
+        pk->resolution_hz = sp->df_hz;
+        pk->smoothed_bin = climb(S, nb, k);
+        pk->smoothed_height = S[pk->smoothed_bin];
     }
+    n_cand = one_per_hump(peaks->candidates, n_cand);
+    place_peaks(S, nb, sp->df_hz, peaks->candidates, n_cand);
     qsort(peaks->candidates, n_cand, sizeof *peaks->candidates, compare_peak_height);
     size_t keep = n_cand;
     if (keep > opt->max_peaks)
@@ -904,6 +1067,23 @@ el_status el_spectrum_crosscheck(const el_modes *modes, const el_spectra *spectr
     if (st != EL_OK)
         return el_error_set(err, st, "out of memory for a warning");
     return EL_OK;
+}
+
+void el_spectrum_unit(const char *unit, int per_hz, char *out, size_t size)
+{
+    const char *per = per_hz ? "/Hz" : "";
+    if (unit == NULL || unit[0] == '\0') {
+        snprintf(out, size, "%s", per_hz ? "1/Hz" : "");
+        return;
+    }
+    int letters_only = 1;
+    for (const char *p = unit; *p != '\0'; p++)
+        if (!((*p >= 'a' && *p <= 'z') || (*p >= 'A' && *p <= 'Z')))
+            letters_only = 0;
+    if (letters_only)
+        snprintf(out, size, "%s^2%s", unit, per);
+    else
+        snprintf(out, size, "(%s)^2%s", unit, per);
 }
 
 el_status el_spectrum_compute(const el_series *series, const el_spectrum_options *opt,

@@ -72,7 +72,14 @@ typedef struct {
     size_t n_bins;                /* L/2 + 1 (integer division) */
     size_t segment_length;        /* L */
     size_t hop;                   /* L - L/2: 50 % overlap */
-    size_t n_segments;            /* K = floor((n - L) / hop) + 1 */
+    size_t n_segments;            /* K = floor((n - L) / hop) + 1, plus one when
+                                     those leave samples over (see last_start) */
+    size_t n_samples;             /* n: samples of the series, all of them used */
+    size_t last_start;            /* start of the last segment: (K-1) hop, or n - L
+                                     when it was moved back to end at the last
+                                     sample so that no sample is dropped */
+    double last_overlap;          /* fraction of L the last segment shares with
+                                     the one before (0.5 when regular; 0 for K = 1) */
     size_t n_segments_first;      /* segments whose centre lies in the first half */
     size_t n_segments_second;     /* the others */
     int halves_ok;                /* 1 when both halves have >= 1 segment; else
@@ -82,8 +89,8 @@ typedef struct {
     double enbw_hz;               /* equivalent noise bandwidth of the window
                                      (1.5 df for Hann) */
     double dof;                   /* equivalent degrees of freedom nu of each
-                                     bin's estimate (Welch 1967); relative
-                                     standard deviation sqrt(2 / nu) */
+                                     bin's estimate (Welch 1967, any overlap);
+                                     relative standard deviation sqrt(2 / nu) */
     double half_separation;       /* time between the mean centres of the two
                                      halves' segments (0 when !halves_ok) */
     double *frequency_hz;         /* n_bins: k / (L dt) */
@@ -104,8 +111,10 @@ el_status el_spectra_create(const el_spectrum_plan *plan, size_t n_channels,
 void el_spectra_free(el_spectra *spectra);
 
 /* Welch's method (Welch 1967) on each channel of series: segments of L
- * samples with 50 % overlap (hop L - L/2) starting at sample 0, trailing
- * samples that do not fill a segment unused; in each segment the segment's
+ * samples with 50 % overlap (hop L - L/2) starting at sample 0; when they
+ * leave samples over at the end, one more segment ends at the last sample
+ * (overlapping its neighbour by more than half), so every sample is used
+ * and the end of the record weighs like its middle; in each segment the segment's
  * mean is removed, the periodic Hann window applied and |FFT|^2 taken;
  * the average over segments is scaled to a one-sided density,
  * P[k] = c_k dt |X_k|^2 / sum(w^2), c_k = 2 except c = 1 at k = 0 and at
@@ -120,12 +129,23 @@ void el_spectra_free(el_spectra *spectra);
 el_status el_spectrum_execute(el_spectrum_plan *plan, const el_series *series,
                               el_spectra *spectra, el_error *err);
 
-/* One spectral peak. */
+/* One spectral peak: one hump of the smoothed spectrum (see
+ * el_spectrum_find_peaks), described by its tallest bin in the PSD. */
 typedef struct {
     size_t channel;
-    size_t bin;                   /* bin of the local maximum */
-    double frequency_hz;          /* refined by a parabola through the log PSD
-                                     of bins bin-1, bin, bin+1 */
+    size_t bin;                   /* bin of the local maximum of the PSD */
+    double frequency_hz;          /* the centre of the half-power band on the
+                                     smoothed spectrum when band_ok; else
+                                     refined by a parabola through the log
+                                     PSD of bins bin-1, bin, bin+1 */
+    double resolution_hz;         /* bin width 1 / (L dt): the frequency is
+                                     known to about +- half of it at best */
+    int band_ok;                  /* 1: the half-power band below is closed on
+                                     both sides and holds no other peak */
+    double band_low_hz;           /* half-power band of the smoothed spectrum */
+    double band_high_hz;          /* around the peak (0 when !band_ok: null) */
+    size_t smoothed_bin;          /* bin of the hump's top in the smoothed spectrum */
+    double smoothed_height;       /* smoothed PSD there, units^2/Hz */
     double height;                /* PSD at the parabola's vertex, units^2/Hz */
     double ratio_to_median;       /* height / median PSD of the channel (the
                                      median raised to 1e-12 of the largest
@@ -150,6 +170,8 @@ typedef struct {
     el_peak *items;               /* n_channels * max_per_channel */
     double *median_psd;           /* n_channels: median of bins 1..n_bins-1 */
     double *min_ratio;            /* n_channels: height / base factor required */
+    double *smoothed;             /* n_bins * n_channels: each channel's PSD
+                                     smoothed over 5 bins (weights 1 2 3 2 1) */
     double *scratch;              /* n_bins: workspace for the median */
     el_peak *candidates;          /* n_bins: workspace for local maxima */
 } el_peaks;
@@ -164,16 +186,27 @@ el_status el_peaks_create(size_t n_channels, size_t n_bins,
 /* Frees what the peaks own and zeroes the struct. NULL is a no-op. */
 void el_peaks_free(el_peaks *peaks);
 
-/* Finds the peaks of each channel's PSD: bins k with 2 <= k <= n_bins - 2
- * (bins 0 and 1 lie in the window's main lobe around the removed mean)
- * that are local maxima (P[k] > P[k-1], P[k] >= P[k+1]), whose height is at
- * least opt->threshold_ratio times the channel's median PSD and at least
- * 1e-12 times its largest value (below that is FFT rounding), and that
- * stand out from the estimator's noise: P[k] >= q * base, base the higher
- * of the two prominence bases taken on three-bin means of the PSD,
- * q = max(2, exp(2 z / sqrt(dof))), z = opt->significance (calibrated by
- * tests/data/spectrum_peak_calibration.py). Keeps the opt->max_peaks
- * tallest (by interpolated height), capped at peaks->max_per_channel. Allocates nothing. Errors:
+/* Finds the peaks of each channel's PSD. Candidates are bins k with
+ * 2 <= k <= n_bins - 2 (bins 0 and 1 lie in the window's main lobe around
+ * the removed mean) that are local maxima (P[k] > P[k-1], P[k] >= P[k+1]),
+ * whose height is at least opt->threshold_ratio times the channel's median
+ * PSD and at least 1e-12 times its largest value (below that is FFT
+ * rounding), and that stand out from the estimator's noise: P[k] >= q *
+ * base, base the higher of the two prominence bases taken on three-bin
+ * means of the PSD, q = max(2, exp(2 z / sqrt(dof))), z =
+ * opt->significance (calibrated by tests/data/spectrum_peak_calibration.py).
+ * Then on the smoothed spectrum S (P over 5 bins, weights 1 2 3 2 1):
+ * each candidate climbs S to the top of its hump; candidates on the same
+ * hump are one peak, the tallest in P (on a broad, noisy hump the tallest
+ * bin is a draw of the estimator's scatter, not the resonance). The peak's
+ * half-power band is where S stays above half its top; when it closes on
+ * both sides (before an end, before S exceeds the top) and holds no other
+ * peak's top, the frequency is the band's centre (tests/data/
+ * spectrum_peak_location.py: on noise-driven damped modes it scatters
+ * about half as much as the tallest bin), else the parabola through the
+ * log PSD at the tallest bin. Keeps the opt->max_peaks tallest (by
+ * interpolated height), capped at peaks->max_per_channel. Fills
+ * peaks->smoothed. Allocates nothing. Errors:
  * EL_ERR_INTERNAL when the sizes of spectra and peaks differ or an option
  * is out of range (threshold_ratio < 0, significance < 0). */
 el_status el_spectrum_find_peaks(const el_spectra *spectra,
@@ -268,6 +301,14 @@ el_status el_spectrum_crosscheck(const el_modes *modes,
                                  el_spectrum_mode_check *mode_checks,
                                  el_spectrum_peak_check *peak_checks,
                                  el_warnings *warnings, el_error *err);
+
+/* Writes the unit of a power (per_hz 0) or of a power spectral density
+ * (per_hz 1) of a channel measured in unit, squared with the unit in
+ * parentheses unless it is letters only: "m/s2" -> "(m/s2)^2/Hz", "mm" ->
+ * "mm^2/Hz", "" (no unit) -> "1/Hz" or "" (1 for a power). Frequencies
+ * are in cycles per time unit, written Hz. Truncates to size (>= 1).
+ * Can't fail. */
+void el_spectrum_unit(const char *unit, int per_hz, char *out, size_t size);
 
 /* One call for the command line: chooses the segment length (opt NULL =
  * defaults; errors as el_spectrum_choose_segment), creates a plan, fills

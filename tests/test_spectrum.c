@@ -6,6 +6,8 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "el_assess.h"
+#include "el_demo.h"
 #include "el_rng.h"
 #include "el_spectrum.h"
 
@@ -86,13 +88,26 @@ static void test_choose_segment(void **state)
 
 /* ---- against scipy.signal.welch ---------------------------------------- */
 
-static void check_against_scipy(size_t L, size_t n_bins, const double *freq, const double *psd)
+/* The first n samples of both fixture channels, channel after channel. */
+static double *fixture_head(size_t n)
 {
-    double *x = alloc_values(2 * FIX_N);
-    memcpy(x, fix_x, sizeof fix_x);
-    el_series s = make_series(x, FIX_N, 2, FIX_DT);
+    double *x = alloc_values(2 * n);
+    memcpy(x, fix_x, n * sizeof *x);
+    memcpy(x + n, fix_x + FIX_N, n * sizeof *x);
+    return x;
+}
+
+/* scipy.signal.welch drops the samples the regular segments leave over;
+ * on the first n_used samples (where they leave none) eigenlog's segments
+ * are the same, so the PSDs must agree. */
+static void check_against_scipy(size_t L, size_t n_bins, const double *freq, const double *psd,
+                                size_t n_used)
+{
+    double *x = fixture_head(n_used);
+    el_series s = make_series(x, n_used, 2, FIX_DT);
     el_spectra sp = {0};
     welch(&s, L, &sp);
+    assert_int_equal(sp.last_start + L, n_used);      /* no moved-back segment */
     assert_int_equal(sp.n_bins, n_bins);
     /* Bin frequencies k / (L dt): same formula, rounding only. */
     assert_close_array(sp.frequency_hz, freq, n_bins, 1e-13, 1e-12);
@@ -112,13 +127,74 @@ static void check_against_scipy(size_t L, size_t n_bins, const double *freq, con
 static void test_matches_scipy_even(void **state)
 {
     (void)state;
-    check_against_scipy(64, FIX_BINS_64, fix_freq_64, fix_psd_64);
+    check_against_scipy(64, FIX_BINS_64, fix_freq_64, fix_psd_64, FIX_END_64);
 }
 
 static void test_matches_scipy_odd(void **state)
 {
     (void)state;
-    check_against_scipy(45, FIX_BINS_45, fix_freq_45, fix_psd_45);
+    check_against_scipy(45, FIX_BINS_45, fix_freq_45, fix_psd_45, FIX_END_45);
+}
+
+/* All FIX_N samples: the regular segments leave some over, so one more
+ * segment ends at the last sample. Reference: the mean of scipy's Welch
+ * PSD of the regular segments and scipy's PSD of that last segment,
+ * weighted by their segment counts (make_spectrum_fixture.py); degrees of
+ * freedom from Welch's formula evaluated in numpy at the same starts. */
+static void check_all_samples(size_t L, const double *psd, size_t end, double dof)
+{
+    double *x = fixture_head(FIX_N);
+    el_series s = make_series(x, FIX_N, 2, FIX_DT);
+    el_spectra sp = {0};
+    welch(&s, L, &sp);
+    size_t hop = L - L / 2;
+    assert_int_equal(sp.n_samples, FIX_N);
+    assert_int_equal(sp.n_segments, (end - L) / hop + 2);
+    assert_int_equal(sp.last_start, FIX_N - L);
+    /* Overlap of the last two segments: exact integers over L. */
+    assert_close(sp.last_overlap, (double)(end - (FIX_N - L)) / (double)L, 1e-15, 0.0);
+    /* Same sums and the same formula: rounding only (as check_against_scipy). */
+    assert_close(sp.dof, dof, 1e-12, 0.0);
+    for (size_t c = 0; c < 2; c++) {
+        double largest = 0.0;
+        for (size_t k = 0; k < sp.n_bins; k++)
+            largest = fmax(largest, psd[c * sp.n_bins + k]);
+        assert_close_array(sp.psd + c * sp.n_bins, psd + c * sp.n_bins, sp.n_bins, 1e-9,
+                           1e-12 * largest);
+    }
+    el_spectra_free(&sp);
+    free(x);
+}
+
+static void test_all_samples_used_even(void **state)
+{
+    (void)state;
+    check_all_samples(64, fix_psd_all_64, FIX_END_64, FIX_DOF_ALL_64);
+}
+
+static void test_all_samples_used_odd(void **state)
+{
+    (void)state;
+    check_all_samples(45, fix_psd_all_45, FIX_END_45, FIX_DOF_ALL_45);
+}
+
+/* A log that is quiet but for its last 20 samples, which no regular
+ * segment reaches (n = 600, L = 64: they end at 576): its power must show
+ * (it was silently dropped before). Closed form: zero power would mean
+ * those samples were never read. */
+static void test_tail_not_dropped(void **state)
+{
+    (void)state;
+    const size_t n = 600, L = 64;
+    double *x = alloc_values(n);
+    for (size_t k = 580; k < n; k++)
+        x[k] = (k % 2) ? 1.0 : -1.0;
+    el_series s = make_series(x, n, 1, 0.01);
+    el_spectra sp = {0};
+    welch(&s, L, &sp);
+    assert_true(sp.total_power[0] > 0.0);
+    el_spectra_free(&sp);
+    free(x);
 }
 
 /* ---- Parseval --------------------------------------------------------- */
@@ -742,7 +818,7 @@ static void test_compute_one_call(void **state)
     el_warnings w = {0};
     assert_int_equal(el_spectrum_compute(&s, &opt, &sp, &pk, &w, &err), EL_OK);
     /* Same numbers as scipy (tolerance as in check_against_scipy). */
-    assert_close_array(sp.psd, fix_psd_64, 2 * FIX_BINS_64, 1e-9, 1e-12);
+    assert_close_array(sp.psd, fix_psd_all_64, 2 * FIX_BINS_64, 1e-9, 1e-12);
     /* Channel 2 holds a 7.3 Hz tone of amplitude 2 over noise: one peak
      * within a bin (df = 1.5625 Hz) of it; channel 1 is white: none. */
     assert_int_equal(pk.count[0], 0);
@@ -760,12 +836,97 @@ static void test_compute_one_call(void **state)
     free(x);
 }
 
+/* The rig-test demo log (datasets/README.md, "True dynamics"): a growing
+ * mode at f_d = 0.8000007 Hz and a damped one at f_d = 2.396998 Hz
+ * (f_n = 2.400000, zeta = 0.05, so its half-power band is about 2 zeta f_n
+ * = 0.24 Hz wide). With 8 segments (15 dof per bin) the broad 2.4 Hz hump
+ * carries a noise spike at 2.59 Hz that the tallest bin picked before.
+ * Tolerance of the damped mode: 0.08 Hz, the largest error in 200
+ * simulated logs of this mode at this length and segment
+ * (tests/data/spectrum_peak_location.py: 95 % within 0.05 Hz; the tallest
+ * bin: 95 % within 0.09, largest 0.14); the PSD peak of a damped mode
+ * lies between f_d and f_n. The truth must lie in the half-power band.
+ * The growing mode is a line (its width is the window's): within half a
+ * bin. */
+static void test_rig_demo_peaks(void **state)
+{
+    (void)state;
+    el_error err;
+    el_error_clear(&err);
+    el_buf csv = {0};
+    assert_int_equal(el_demo_generate("rig-test", &csv, &err), EL_OK);
+    FILE *f = fmemopen(csv.data, csv.length, "r");
+    assert_non_null(f);
+    el_assess_options opt;
+    el_assess_defaults(&opt);
+    opt.path = "rig_test.csv";
+    opt.stream = f;
+    el_assessment r;
+    memset(&r, 0, sizeof r);
+    assert_int_equal(el_assess_load(&opt, &r, &err), EL_OK);
+    el_spectra sp;
+    el_peaks pk;
+    el_warnings w = {0};
+    assert_int_equal(el_spectrum_compute(&r.series, NULL, &sp, &pk, &w, &err), EL_OK);
+    assert_int_equal(sp.n_samples, 9000);
+    assert_int_equal(sp.last_start, 9000 - sp.segment_length);
+    for (size_t c = 0; c < sp.n_channels; c++) {
+        int seen_damped = 0, seen_growing = 0;
+        for (size_t i = 0; i < pk.count[c]; i++) {
+            const el_peak *p = &pk.items[c * pk.max_per_channel + i];
+            if (fabs(p->frequency_hz - 2.397) < 0.3) {
+                seen_damped++;
+                assert_close(p->frequency_hz, 2.396998, 0.0, 0.08);
+                assert_true(p->band_ok);
+                assert_true(p->band_low_hz < 2.396998 && p->band_high_hz > 2.4);
+            }
+            if (fabs(p->frequency_hz - 0.8) < 0.3) {
+                seen_growing++;
+                assert_close(p->frequency_hz, 0.8000007, 0.0, 0.5 * sp.df_hz);
+            }
+            assert_close(p->resolution_hz, sp.df_hz, 1e-15, 0.0);
+        }
+        /* One peak per hump: the noise on the broad one is not a second. */
+        assert_int_equal(seen_damped, 1);
+        assert_int_equal(seen_growing, 1);
+    }
+    el_spectra_free(&sp);
+    el_peaks_free(&pk);
+    el_warnings_free(&w);
+    el_assessment_free(&r);
+    fclose(f);
+    el_buf_free(&csv);
+}
+
+/* Power units: the channel's unit squared, in parentheses unless it is
+ * letters only, per Hz (cycles per time unit). */
+static void test_units(void **state)
+{
+    (void)state;
+    char u[64];
+    el_spectrum_unit("m/s2", 1, u, sizeof u);
+    assert_string_equal(u, "(m/s2)^2/Hz");
+    el_spectrum_unit("mm/s", 0, u, sizeof u);
+    assert_string_equal(u, "(mm/s)^2");
+    el_spectrum_unit("mm", 1, u, sizeof u);
+    assert_string_equal(u, "mm^2/Hz");
+    el_spectrum_unit("m3/h", 0, u, sizeof u);
+    assert_string_equal(u, "(m3/h)^2");
+    el_spectrum_unit("", 1, u, sizeof u);
+    assert_string_equal(u, "1/Hz");
+    el_spectrum_unit(NULL, 0, u, sizeof u);
+    assert_string_equal(u, "");
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_choose_segment),
         cmocka_unit_test(test_matches_scipy_even),
         cmocka_unit_test(test_matches_scipy_odd),
+        cmocka_unit_test(test_all_samples_used_even),
+        cmocka_unit_test(test_all_samples_used_odd),
+        cmocka_unit_test(test_tail_not_dropped),
         cmocka_unit_test(test_parseval_white_noise),
         cmocka_unit_test(test_parseval_sinusoid),
         cmocka_unit_test(test_white_noise_flat),
@@ -779,6 +940,8 @@ int main(void)
         cmocka_unit_test(test_persistent_in_free_decay),
         cmocka_unit_test(test_execute_errors),
         cmocka_unit_test(test_compute_one_call),
+        cmocka_unit_test(test_rig_demo_peaks),
+        cmocka_unit_test(test_units),
     };
     return cmocka_run_group_tests_name("spectrum", tests, NULL, NULL);
 }

@@ -1,8 +1,9 @@
 #!/usr/bin/python3
 """Writes tests/data/spectrum_fixture.h: Welch PSD references for
 tests/test_spectrum.c, computed by scipy.signal.welch (Hann window, 50 %
-overlap, constant detrend per segment, density scaling, one-sided), and two
-properties of the periodic Hann window computed with numpy.FFT.
+overlap, constant detrend per segment, density scaling, one-sided), the
+same with the extra last segment eigenlog adds so no sample is dropped,
+and two properties of the periodic Hann window computed with numpy.FFT.
 
 Run: /usr/bin/python3 tests/data/make_spectrum_fixture.py   (numpy, scipy)
 """
@@ -81,6 +82,33 @@ for L in (64, 45):
     out.append("#define FIX_BINS_%d %d" % (L, len(f0)))
     out.append(arr("fix_freq_%d" % L, f0))
     out.append(arr("fix_psd_%d" % L, np.concatenate([p0, p1])))
+# Every sample used: when the segments at multiples of the hop leave
+# samples over, eigenlog adds one segment that ends at the last sample.
+# Reference: the mean over all K0 + 1 segments, built from two scipy calls
+# (the K0 regular segments, and the last one alone).
+for L in (64, 45):
+    hop = L - L // 2
+    k0 = (N - L) // hop + 1
+    end = (k0 - 1) * hop + L
+    assert end < N
+    ps = []
+    for x in (ch0, ch1):
+        _, p_reg = welch(x[:end], L)
+        _, p_last = welch(x[N - L:], L)
+        ps.append((k0 * p_reg + p_last) / (k0 + 1))
+    # Equivalent degrees of freedom (Welch 1967): nu = 2 K^2 / sum_ij rho_ij^2,
+    # rho the correlation of the Hann window with itself at the distance of
+    # the two segment starts, evaluated with numpy.
+    starts = [s * hop for s in range(k0)] + [N - L]
+    wl = 0.5 - 0.5 * np.cos(2 * np.pi * np.arange(L) / L)
+    def rho(d):
+        return 0.0 if d >= L else float(np.dot(wl[:L - d], wl[d:]) / np.dot(wl, wl))
+    tot = sum(rho(abs(a - b)) ** 2 for a in starts for b in starts)
+    out.append("/* L = %d: %d regular segments end at sample %d; one more starts at %d */"
+               % (L, k0, end, N - L))
+    out.append("#define FIX_END_%d %d" % (L, end))
+    out.append("#define FIX_DOF_ALL_%d %.17g" % (L, 2 * (k0 + 1) ** 2 / tot))
+    out.append(arr("fix_psd_all_%d" % L, np.concatenate(ps)))
 with open(os.path.join(HERE, "spectrum_fixture.h"), "w") as fh:
     fh.write("\n".join(out))
 print("worst bias", worst_bias, "height", worst_height, "widths", min(widths), max(widths))
