@@ -53,14 +53,21 @@ struct el_subspace_plan {
     double dt;
     double *mean, *scale;
     double *hank, *fchunk, *pchunk, *fbar, *pbar;
+    int cva;                      /* weighting of the last execute */
+    double *sff, *spp;            /* hp x hp Grams of the centred future / past */
+    double *w1, *w1inv, *w2;      /* CVA weights: Sff^-1/2, Sff^1/2, Spp^-1/2 */
+    double *sym_vec, *sym_lam, *sym_work, *tmp;
+    size_t sym_lwork;
     double *sv, *u, *vt, *v;      /* SVD of H; v: hp x nmax right vectors */
     double *svd_work;
     size_t svd_lwork;
-    double *obs;                  /* hp x nmax: U S^1/2 */
+    double *obs;                  /* hp x nmax: W1^-1 U S^1/2 */
+    double *gp;                   /* hp x nmax: W2^-1 V S^1/2 (past side of H) */
+    double *w2inv;                /* CVA: Spp^1/2 */
     double *oup, *odown;          /* (h-1)p x nmax */
     double *ls_work;
     size_t ls_lwork;
-    double *acopy, *wr, *wi, *vr, *ev_work;
+    double *acopy, *wr, *wi, *vr, *vl, *ev_work;
     size_t ev_lwork;
     double *a, *c_scaled, *c_raw;
     el_subspace_pole *poles;
@@ -85,6 +92,8 @@ void el_subspace_defaults(el_subspace_options *opt)
     opt->stab_damp_abs = 0.005;
     opt->stab_mac_min = 0.98;
     opt->stab_min_run = 5;
+    opt->weighting = EL_SUBSPACE_CVA;
+    opt->stab_min_share = 0.003;
 }
 
 /* ------------------------------------------------------------------ */
@@ -277,8 +286,8 @@ static int query_work(el_subspace_plan *pl)
     pl->rep_ls_lwork = ls;
     size_t ev = 1, evn = 1;
     for (size_t ord = 1; ord <= n; ord++) {
-        info = LAPACKE_dgeev_work(LAPACK_COL_MAJOR, 'N', 'V', (lapack_int)ord, &dummy,
-                                  (lapack_int)ord, &dummy, &dummy, &dummy, 1, &dummy,
+        info = LAPACKE_dgeev_work(LAPACK_COL_MAJOR, 'V', 'V', (lapack_int)ord, &dummy,
+                                  (lapack_int)ord, &dummy, &dummy, &dummy, (lapack_int)ord, &dummy,
                                   (lapack_int)ord, &q, -1);
         if (info != 0)
             return 1;
@@ -294,6 +303,11 @@ static int query_work(el_subspace_plan *pl)
     }
     pl->ev_lwork = ev;
     pl->rep_ev_lwork = evn;
+    info = LAPACKE_dsyev_work(LAPACK_COL_MAJOR, 'V', 'L', (lapack_int)hp, &dummy,
+                              (lapack_int)hp, &dummy, &q, -1);
+    if (info != 0)
+        return 1;
+    pl->sym_lwork = ceil_lwork(q);
     return 0;
 }
 
@@ -333,6 +347,15 @@ el_status el_subspace_plan_create(size_t n_channels, size_t max_samples,
     pl->mean = malloc(p * sizeof(double));
     pl->scale = malloc(p * sizeof(double));
     pl->hank = malloc(hp * hp * sizeof(double));
+    pl->sff = malloc(hp * hp * sizeof(double));
+    pl->spp = malloc(hp * hp * sizeof(double));
+    pl->w1 = malloc(hp * hp * sizeof(double));
+    pl->w1inv = malloc(hp * hp * sizeof(double));
+    pl->w2 = malloc(hp * hp * sizeof(double));
+    pl->tmp = malloc(hp * hp * sizeof(double));
+    pl->sym_vec = malloc(hp * hp * sizeof(double));
+    pl->sym_lam = malloc(hp * sizeof(double));
+    pl->sym_work = malloc(pl->sym_lwork * sizeof(double));
     pl->fchunk = malloc(hp * SUB_CHUNK * sizeof(double));
     pl->pchunk = malloc(hp * SUB_CHUNK * sizeof(double));
     pl->fbar = malloc(hp * sizeof(double));
@@ -343,6 +366,8 @@ el_status el_subspace_plan_create(size_t n_channels, size_t max_samples,
     pl->v = malloc(hp * nmax * sizeof(double));
     pl->svd_work = malloc(pl->svd_lwork * sizeof(double));
     pl->obs = malloc(hp * nmax * sizeof(double));
+    pl->gp = malloc(hp * nmax * sizeof(double));
+    pl->w2inv = malloc(hp * hp * sizeof(double));
     pl->oup = malloc(rows * nmax * sizeof(double));
     pl->odown = malloc(rows * nmax * sizeof(double));
     pl->ls_work = malloc(pl->ls_lwork * sizeof(double));
@@ -350,6 +375,7 @@ el_status el_subspace_plan_create(size_t n_channels, size_t max_samples,
     pl->wr = malloc(nmax * sizeof(double));
     pl->wi = malloc(nmax * sizeof(double));
     pl->vr = malloc(nmax * nmax * sizeof(double));
+    pl->vl = malloc(nmax * nmax * sizeof(double));
     pl->ev_work = malloc(pl->ev_lwork * sizeof(double));
     pl->a = malloc(nmax * nmax * sizeof(double));
     pl->c_scaled = malloc(p * nmax * sizeof(double));
@@ -360,10 +386,15 @@ el_status el_subspace_plan_create(size_t n_channels, size_t max_samples,
     pl->chain_len = malloc(pl->max_poles * sizeof(size_t));
     pl->taken = malloc(nmax * sizeof(int));
     pl->first = malloc((nmax + 2) * sizeof(size_t));
+    if (!pl->sff || !pl->spp || !pl->w1 || !pl->w1inv || !pl->w2 || !pl->tmp ||
+        !pl->sym_vec || !pl->sym_lam || !pl->sym_work) {
+        el_subspace_plan_destroy(pl);
+        return el_error_set(err, EL_ERR_NOMEM, "out of memory (subspace plan)");
+    }
     if (!pl->y || !pl->mean || !pl->scale || !pl->hank || !pl->fchunk || !pl->pchunk ||
         !pl->fbar || !pl->pbar || !pl->sv || !pl->u || !pl->vt || !pl->v ||
-        !pl->svd_work || !pl->obs || !pl->oup || !pl->odown || !pl->ls_work ||
-        !pl->acopy || !pl->wr || !pl->wi || !pl->vr || !pl->ev_work || !pl->a ||
+        !pl->svd_work || !pl->obs || !pl->gp || !pl->w2inv || !pl->oup || !pl->odown || !pl->ls_work ||
+        !pl->acopy || !pl->wr || !pl->wi || !pl->vr || !pl->vl || !pl->ev_work || !pl->a ||
         !pl->c_scaled || !pl->c_raw || !pl->poles || !pl->shape_re || !pl->shape_im ||
         !pl->chain_len || !pl->taken || !pl->first) {
         el_subspace_plan_destroy(pl);
@@ -381,6 +412,15 @@ void el_subspace_plan_destroy(el_subspace_plan *pl)
     free(pl->mean);
     free(pl->scale);
     free(pl->hank);
+    free(pl->sff);
+    free(pl->spp);
+    free(pl->w1);
+    free(pl->w1inv);
+    free(pl->w2);
+    free(pl->tmp);
+    free(pl->sym_vec);
+    free(pl->sym_lam);
+    free(pl->sym_work);
     free(pl->fchunk);
     free(pl->pchunk);
     free(pl->fbar);
@@ -391,6 +431,8 @@ void el_subspace_plan_destroy(el_subspace_plan *pl)
     free(pl->v);
     free(pl->svd_work);
     free(pl->obs);
+    free(pl->gp);
+    free(pl->w2inv);
     free(pl->oup);
     free(pl->odown);
     free(pl->ls_work);
@@ -398,6 +440,7 @@ void el_subspace_plan_destroy(el_subspace_plan *pl)
     free(pl->wr);
     free(pl->wi);
     free(pl->vr);
+    free(pl->vl);
     free(pl->ev_work);
     free(pl->a);
     free(pl->c_scaled);
@@ -467,10 +510,65 @@ static void build_hankel(el_subspace_plan *pl)
     for (size_t w0 = 0; w0 < m; w0 += SUB_CHUNK) {
         size_t len = m - w0 < SUB_CHUNK ? m - w0 : SUB_CHUNK;
         fill_chunks(pl, w0, len, pl->fbar, pl->pbar);
+        double beta = w0 == 0 ? 0.0 : 1.0;
         cblas_dgemm(CblasColMajor, CblasNoTrans, CblasTrans, (int)hp, (int)hp, (int)len,
-                    1.0 / (double)m, pl->fchunk, (int)hp, pl->pchunk, (int)hp,
-                    w0 == 0 ? 0.0 : 1.0, pl->hank, (int)hp);
+                    1.0 / (double)m, pl->fchunk, (int)hp, pl->pchunk, (int)hp, beta,
+                    pl->hank, (int)hp);
+        if (pl->cva) {
+            cblas_dsyrk(CblasColMajor, CblasLower, CblasNoTrans, (int)hp, (int)len,
+                        1.0 / (double)m, pl->fchunk, (int)hp, beta, pl->sff, (int)hp);
+            cblas_dsyrk(CblasColMajor, CblasLower, CblasNoTrans, (int)hp, (int)len,
+                        1.0 / (double)m, pl->pchunk, (int)hp, beta, pl->spp, (int)hp);
+        }
     }
+}
+
+/* Eigenvalues of a Gram below this fraction of the largest are zero in
+ * its (pseudo-)inverse and roots: noise-free data make the Grams of the
+ * window vectors exactly singular (rank = system order for a transient),
+ * and rounding leaves those eigenvalues near eps times the largest, six
+ * orders below this cut; sensor noise of any realistic level keeps real
+ * directions far above it. */
+#define SUB_PINV_TOL 1e-10
+
+/* out = V f(Lambda) V' for the symmetric s (lower triangle), f(l) =
+ * l^power above SUB_PINV_TOL * max and 0 below. Returns 0 or 1 (LAPACK). */
+static int sym_power(el_subspace_plan *pl, const double *sm, double power, double *out)
+{
+    size_t n = pl->hp;
+    memcpy(pl->sym_vec, sm, n * n * sizeof(double));
+    lapack_int info = LAPACKE_dsyev_work(LAPACK_COL_MAJOR, 'V', 'L', (lapack_int)n,
+                                         pl->sym_vec, (lapack_int)n, pl->sym_lam,
+                                         pl->sym_work, (lapack_int)pl->sym_lwork);
+    if (info != 0)
+        return 1;
+    double top = pl->sym_lam[n - 1];
+    if (!(top > 0.0) || !isfinite(top))
+        return 1;
+    /* tmp = V f(Lambda), out = tmp V' */
+    for (size_t j = 0; j < n; j++) {
+        double l = pl->sym_lam[j];
+        double f = l > SUB_PINV_TOL * top ? pow(l, power) : 0.0;
+        for (size_t i = 0; i < n; i++)
+            pl->tmp[i + j * n] = pl->sym_vec[i + j * n] * f;
+    }
+    cblas_dgemm(CblasColMajor, CblasNoTrans, CblasTrans, (int)n, (int)n, (int)n, 1.0,
+                pl->tmp, (int)n, pl->sym_vec, (int)n, 0.0, out, (int)n);
+    return 0;
+}
+
+/* CVA: the weights, and hank <- W1 hank W2. Returns 0 or 1. */
+static int cva_weight(el_subspace_plan *pl)
+{
+    size_t n = pl->hp;
+    if (sym_power(pl, pl->sff, -0.5, pl->w1) || sym_power(pl, pl->sff, 0.5, pl->w1inv) ||
+        sym_power(pl, pl->spp, -0.5, pl->w2) || sym_power(pl, pl->spp, 0.5, pl->w2inv))
+        return 1;
+    cblas_dgemm(CblasColMajor, CblasNoTrans, CblasNoTrans, (int)n, (int)n, (int)n, 1.0,
+                pl->w1, (int)n, pl->hank, (int)n, 0.0, pl->tmp, (int)n);
+    cblas_dgemm(CblasColMajor, CblasNoTrans, CblasNoTrans, (int)n, (int)n, (int)n, 1.0,
+                pl->tmp, (int)n, pl->w2, (int)n, 0.0, pl->hank, (int)n);
+    return 0;
 }
 
 /* ------------------------------------------------------------------ */
@@ -543,6 +641,47 @@ static void pole_from_mu(double mu_re, double mu_im, double dt, el_subspace_pole
     }
 }
 
+/* The size of mode k's part of the block Hankel H (in the scaled
+ * channels, unweighted whatever the weighting of the SVD) in the order-n
+ * model: H ~ O G' with O = W1^-1 U S^1/2 (obs) and G = W2^-1 V S^1/2
+ * (gp; W = I unweighted); with A = sum_j phi_j lambda_j u_j^H /
+ * (u_j^H phi_j) (right and left eigenvectors) mode j contributes
+ * (O phi_j)(G u_j)^H / (u_j^H phi_j), whose Frobenius norm is
+ * ||O phi_j|| ||G u_j|| / |u_j^H phi_j|. Measured in H itself because
+ * the noise directions of the CVA-weighted matrix carry canonical
+ * correlations of 0.1-0.3, not small next to the signal's, while in H
+ * they are re-scaled by the data's spectrum and stay ~1e-3 of the
+ * signal's. vr, vl: dgeev's right and left vectors (a pair in columns k,
+ * k+1 as real and imaginary parts). */
+static double contribution(size_t hp, size_t n, const double *obs, const double *gp,
+                           const double *vr, const double *vl, size_t k, int pair)
+{
+    double nr = 0.0, nl = 0.0, cre = 0.0, cim = 0.0;
+    for (size_t r = 0; r < hp; r++) {
+        double xr = 0.0, xi = 0.0, yr = 0.0, yi = 0.0;
+        for (size_t i = 0; i < n; i++) {
+            double o = obs[r + i * hp], g = gp[r + i * hp];
+            xr += o * vr[i + k * n];
+            yr += g * vl[i + k * n];
+            if (pair) {
+                xi += o * vr[i + (k + 1) * n];
+                yi += g * vl[i + (k + 1) * n];
+            }
+        }
+        nr += xr * xr + xi * xi;
+        nl += yr * yr + yi * yi;
+    }
+    for (size_t i = 0; i < n; i++) {
+        double ar = vr[i + k * n], ai = pair ? vr[i + (k + 1) * n] : 0.0;
+        double br = vl[i + k * n], bi = pair ? vl[i + (k + 1) * n] : 0.0;
+        /* u^H phi = (br - i bi)(ar + i ai) */
+        cre += br * ar + bi * ai;
+        cim += br * ai - bi * ar;
+    }
+    double c = hypot(cre, cim);
+    return c > 0.0 ? sqrt(nr) * sqrt(nl) / c : 0.0;
+}
+
 /* MAC of two complex shapes. */
 static double mac(size_t p, const double *ar, const double *ai, const double *br,
                   const double *bi)
@@ -564,12 +703,15 @@ static int order_poles(el_subspace_plan *pl, size_t n, const double *a, size_t *
     size_t p = pl->p;
     memcpy(pl->acopy, a, n * n * sizeof(double));
     double dummy = 0.0;
-    lapack_int info = LAPACKE_dgeev_work(LAPACK_COL_MAJOR, 'N', 'V', (lapack_int)n,
-                                         pl->acopy, (lapack_int)n, pl->wr, pl->wi, &dummy,
-                                         1, pl->vr, (lapack_int)n, pl->ev_work,
+    (void)dummy;
+    lapack_int info = LAPACKE_dgeev_work(LAPACK_COL_MAJOR, 'V', 'V', (lapack_int)n,
+                                         pl->acopy, (lapack_int)n, pl->wr, pl->wi, pl->vl,
+                                         (lapack_int)n, pl->vr, (lapack_int)n, pl->ev_work,
                                          (lapack_int)pl->ev_lwork);
     if (info != 0)
         return 1;
+    size_t first_new = *count;
+    double total = 0.0;
     for (size_t k = 0; k < n; k++) {
         if (pl->wi[k] < 0.0)
             continue;   /* the second member of a pair */
@@ -577,6 +719,9 @@ static int order_poles(el_subspace_plan *pl, size_t n, const double *a, size_t *
         memset(q, 0, sizeof *q);
         q->order = n;
         pole_from_mu(pl->wr[k], pl->wi[k], pl->dt, q);
+        q->contribution = contribution(pl->hp, n, pl->obs, pl->gp, pl->vr, pl->vl, k,
+                                       pl->wi[k] > 0.0);
+        total += (pl->wi[k] > 0.0 ? 2.0 : 1.0) * q->contribution;
         q->shape_offset = *count * p;
         double *sr = pl->shape_re + q->shape_offset, *si = pl->shape_im + q->shape_offset;
         const double *vre = pl->vr + k * n;
@@ -612,6 +757,12 @@ static int order_poles(el_subspace_plan *pl, size_t n, const double *a, size_t *
             si[cmax] = 0.0;
         }
         (*count)++;
+    }
+    for (size_t k = first_new; k < *count; k++) {
+        el_subspace_pole *q = &pl->poles[k];
+        q->contribution = total > 0.0 && isfinite(total)
+                              ? (q->mu_im > 0.0 ? 2.0 : 1.0) * q->contribution / total
+                              : 0.0;
     }
     return 0;
 }
@@ -688,7 +839,8 @@ static void stabilise(el_subspace_plan *pl, const el_subspace_options *o,
     }
     size_t run = o->stab_min_run ? o->stab_min_run : 1;
     for (size_t k = 0; k < n_poles; k++)
-        pl->poles[k].physical = pl->chain_len[pl->poles[k].chain] >= run;
+        pl->poles[k].physical = pl->chain_len[pl->poles[k].chain] >= run &&
+                                pl->poles[k].contribution >= o->stab_min_share;
 }
 
 /* ------------------------------------------------------------------ */
@@ -772,7 +924,11 @@ el_status el_subspace_execute(el_subspace_plan *pl, const el_series *series,
     pl->n_samples = series->n_samples;
     pl->n_windows = series->n_samples - 2 * h + 1;
     pl->dt = series->dt;
+    pl->cva = opt->weighting == EL_SUBSPACE_CVA;
     build_hankel(pl);
+    if (pl->cva && cva_weight(pl))
+        return el_error_set(err, EL_ERR_NUMERIC, "the weights of the block Hankel failed "
+                            "(LAPACK dsyev)");
     lapack_int info = LAPACKE_dgesvd_work(LAPACK_COL_MAJOR, 'S', 'S', (lapack_int)hp,
                                           (lapack_int)hp, pl->hank, (lapack_int)hp, pl->sv,
                                           pl->u, (lapack_int)hp, pl->vt, (lapack_int)hp,
@@ -784,6 +940,19 @@ el_status el_subspace_execute(el_subspace_plan *pl, const el_series *series,
         for (size_t i = 0; i < hp; i++)
             pl->v[i + j * hp] = pl->vt[j + i * hp];
     observability(hp, nmax, pl->u, hp, pl->sv, pl->obs);
+    observability(hp, nmax, pl->v, hp, pl->sv, pl->gp);
+    if (pl->cva) {
+        memcpy(pl->tmp, pl->gp, hp * nmax * sizeof(double));
+        cblas_dgemm(CblasColMajor, CblasNoTrans, CblasNoTrans, (int)hp, (int)nmax, (int)hp,
+                    1.0, pl->w2inv, (int)hp, pl->tmp, (int)hp, 0.0, pl->gp, (int)hp);
+        /* O = W1^-1 U S^1/2; the block sums project the past on W2 V */
+        memcpy(pl->tmp, pl->obs, hp * nmax * sizeof(double));
+        cblas_dgemm(CblasColMajor, CblasNoTrans, CblasNoTrans, (int)hp, (int)nmax, (int)hp,
+                    1.0, pl->w1inv, (int)hp, pl->tmp, (int)hp, 0.0, pl->obs, (int)hp);
+        memcpy(pl->tmp, pl->v, hp * nmax * sizeof(double));
+        cblas_dgemm(CblasColMajor, CblasNoTrans, CblasNoTrans, (int)hp, (int)nmax, (int)hp,
+                    1.0, pl->w2, (int)hp, pl->tmp, (int)hp, 0.0, pl->v, (int)hp);
+    }
 
     size_t *fst = pl->first;
     size_t count = 0;
@@ -895,8 +1064,9 @@ size_t el_subspace_replicate_work(const el_subspace_plan *pl)
         lw = pl->rep_ls_lwork;
     if (pl->rep_ev_lwork > lw)
         lw = pl->rep_ev_lwork;
-    /* hv, u, sv, o, oup, odown, acopy, a, wr, wi, lapack work */
-    return hp * nv + hp * nv + nv + hp * nv + 2 * rows * nv + 2 * nv * nv + 2 * nv + lw;
+    /* hv, u, sv, o, oup, odown, acopy, a, wr, wi, cva scratch, lapack work */
+    return hp * nv + hp * nv + nv + hp * nv + 2 * rows * nv + 2 * nv * nv + 2 * nv +
+           hp * nv + lw;
 }
 
 el_status el_subspace_replicate_solve(const el_subspace_plan *pl, const double *sum,
@@ -931,11 +1101,19 @@ el_status el_subspace_replicate_solve(const el_subspace_plan *pl, const double *
     pool += nv;
     double *wi = pool;
     pool += nv;
+    double *cv = pool;
+    pool += hp * nv;
     double *lw = pool;
     size_t lwork = el_subspace_replicate_work(pl) - (size_t)(pool - work);
     for (size_t j = 0; j < nv; j++)
         for (size_t i = 0; i < hp; i++)
             hv[i + j * hp] = (sfg[i + j * hp] - sf[i] * sg[j] / cnt) / cnt;
+    if (pl->cva) {
+        /* the point's weights (fixed across replicates): W1 Hv */
+        memcpy(cv, hv, hp * nv * sizeof(double));
+        cblas_dgemm(CblasColMajor, CblasNoTrans, CblasNoTrans, (int)hp, (int)nv, (int)hp,
+                    1.0, pl->w1, (int)hp, cv, (int)hp, 0.0, hv, (int)hp);
+    }
     double dummy = 0.0;
     lapack_int info = LAPACKE_dgesvd_work(LAPACK_COL_MAJOR, 'S', 'N', (lapack_int)hp,
                                           (lapack_int)nv, hv, (lapack_int)hp, sv, u,
@@ -943,6 +1121,11 @@ el_status el_subspace_replicate_solve(const el_subspace_plan *pl, const double *
     if (info != 0)
         return el_error_set(err, EL_ERR_NUMERIC, "replicate SVD failed (info %d)", (int)info);
     observability(hp, order, u, hp, sv, o);
+    if (pl->cva) {
+        memcpy(cv, o, hp * order * sizeof(double));
+        cblas_dgemm(CblasColMajor, CblasNoTrans, CblasNoTrans, (int)hp, (int)order, (int)hp,
+                    1.0, pl->w1inv, (int)hp, cv, (int)hp, 0.0, o, (int)hp);
+    }
     if (shift_solve(pl->h, pl->p, order, o, hp, oup, odown, a, lw, lwork))
         return el_error_set(err, EL_ERR_NUMERIC,
                             "replicate shift equations are rank deficient");

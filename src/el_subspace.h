@@ -35,6 +35,14 @@
 /* Default largest model order of the stabilisation analysis. */
 #define EL_SUBSPACE_MAX_ORDER 30
 
+/* Weighting of the block Hankel before its SVD. */
+typedef enum {
+    EL_SUBSPACE_UNWEIGHTED = 0,   /* SVD of H itself */
+    EL_SUBSPACE_CVA = 1           /* canonical variate analysis: SVD of
+                                     Sff^-1/2 H Spp^-1/2 (singular values =
+                                     canonical correlations), O = Sff^1/2 U S^1/2 */
+} el_subspace_weighting;
+
 typedef struct {
     double horizon_time;   /* future = past horizon in the series' time unit;
                               0 = automatic (el_subspace_choose_horizon) */
@@ -49,6 +57,9 @@ typedef struct {
     double stab_mac_min;   /* shape correlation (MAC) at least (0.98) */
     size_t stab_min_run;   /* a mode is physical when it persists over at
                               least this many consecutive orders (5) */
+    el_subspace_weighting weighting;   /* default EL_SUBSPACE_CVA */
+    double stab_min_share; /* a physical pole also carries at least this share
+                              of its order's modal contributions (0.003) */
 } el_subspace_options;
 
 /* Fills opt with the defaults above. opt must not be NULL. Can't fail. */
@@ -91,7 +102,11 @@ typedef struct {
     double natural_hz;     /* |lambda| / 2 pi */
     double damping_ratio;  /* -Re lambda / |lambda| (NaN when lambda = 0 or not finite) */
     int stable;            /* 1: matches a pole of order - 1 by the criteria */
-    int physical;          /* 1: on a chain of >= stab_min_run consecutive orders */
+    double contribution;   /* share of the order's modal contributions to
+                              the (weighted) block Hankel (a pair counts
+                              both members), 0..1 */
+    int physical;          /* 1: on a chain of >= stab_min_run consecutive
+                              orders and contribution >= stab_min_share */
     size_t chain;          /* chain id (poles linked across consecutive orders) */
     size_t shape_offset;   /* its shape: shape_re/im[shape_offset + c], c < p */
 } el_subspace_pole;

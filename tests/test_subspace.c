@@ -173,9 +173,8 @@ static int cmp_mu(const void *x, const void *y)
  * (about 1e3 here) in the subspace and by the eigenvalue condition
  * (modest: distinct, well separated modes); 1e-8 relative on lambda
  * leaves a wide margin over that and still fails for any real error. */
-static void test_noise_free_exact(void **state)
+static void noise_free_case(el_subspace_weighting weighting)
 {
-    (void)state;
     double fn[2] = { 1.30, 0.384 }, zeta[2] = { 0.03, 0.252 }, a[16], dt = 0.01;
     modal_a(2, fn, zeta, a);
     size_t n = 1000;
@@ -183,17 +182,31 @@ static void test_noise_free_exact(void **state)
     ts_init(&ts, n, 6, dt, simulate6(a, dt, n, 0, -1.0, 1));
     el_subspace_options opt;
     el_subspace_defaults(&opt);
+    opt.weighting = weighting;
     opt.horizon_time = 0.2;   /* 20 block rows */
     opt.max_order = 12;
+    /* CVA on noise-free data: the window Grams have rank 4, so every
+     * order above 4 has no direction to add (its shift equations are rank
+     * deficient and skipped) and no chain can grow: the order is given. */
+    if (weighting == EL_SUBSPACE_CVA)
+        opt.order = 4;
     run_t r;
     run_subspace(&ts.s, &opt, &r);
     assert_int_equal(r.res.horizon, 20);
     assert_int_equal(r.res.order, 4);
-    assert_int_equal(r.res.order_was_auto, 1);
-    assert_int_equal(r.res.n_physical, 2);
-    /* rank 4: the fifth singular value is rounding (below 1e-12 of s1) */
-    assert_true(r.res.singular[4] < 1e-12 * r.res.singular[0]);
-    assert_true(r.res.singular[3] > 1e-6 * r.res.singular[0]);
+    if (weighting == EL_SUBSPACE_UNWEIGHTED) {
+        assert_int_equal(r.res.order_was_auto, 1);
+        assert_int_equal(r.res.n_physical, 2);
+        /* rank 4: the fifth singular value is rounding (below 1e-12 of s1) */
+        assert_true(r.res.singular[4] < 1e-12 * r.res.singular[0]);
+        assert_true(r.res.singular[3] > 1e-6 * r.res.singular[0]);
+    } else {
+        /* noise-free: the 4 canonical correlations of future and past are
+         * 1 (the state is a function of either), the rest 0 */
+        for (size_t k = 0; k < 4; k++)
+            assert_close(r.res.singular[k], 1.0, 0.0, 1e-8);
+        assert_true(r.res.singular[4] < 1e-6);
+    }
     for (size_t m = 0; m < 2; m++) {
         double w = 2.0 * TEST_PI * fn[m];
         double lre = -zeta[m] * w, lim = w * sqrt(1.0 - zeta[m] * zeta[m]);
@@ -205,7 +218,8 @@ static void test_noise_free_exact(void **state)
         assert_close(q->mu_im, exp(lre * dt) * sin(lim * dt), 1e-10, 1e-12);
         assert_close(q->natural_hz, fn[m], 1e-8, 0.0);
         assert_close(q->damping_ratio, zeta[m], 1e-7, 0.0);
-        assert_int_equal(q->physical, 1);
+        if (weighting == EL_SUBSPACE_UNWEIGHTED)
+            assert_int_equal(q->physical, 1);
     }
     /* C in raw units is C scaled times each channel's standard deviation */
     for (size_t j = 0; j < 4; j++)
@@ -215,6 +229,13 @@ static void test_noise_free_exact(void **state)
     assert_close(r.res.channel_mean[2], 16.0, 0.05, 0.0);   /* operating point 10 + 3c */
     el_subspace_plan_destroy(r.plan);
     ts_free(&ts);
+}
+
+static void test_noise_free_exact(void **state)
+{
+    (void)state;
+    noise_free_case(EL_SUBSPACE_UNWEIGHTED);
+    noise_free_case(EL_SUBSPACE_CVA);
 }
 
 /* ------------------------------------------------------------------ */
@@ -228,25 +249,23 @@ static void test_noise_free_exact(void **state)
  * 6: the subspace is conditioned by the gap s_n - s_n+1 (s6 - s7 is 4e-4
  * of s1 here), so rounding reaches ~1e-12; 1e-9 absolute on mu (|mu| ~ 1)
  * leaves a margin and fails on any difference of method. */
-static void test_numpy_fixture(void **state)
+static void fixture_case(const test_series *ts, el_subspace_weighting weighting)
 {
-    (void)state;
-    double *v = malloc(sizeof sub_fix_y);
-    assert_non_null(v);
-    memcpy(v, sub_fix_y, sizeof sub_fix_y);
-    test_series ts;
-    ts_init(&ts, SUB_FIX_N, SUB_FIX_P, SUB_FIX_DT, v);
     el_subspace_options opt;
     el_subspace_defaults(&opt);
+    opt.weighting = weighting;
     opt.horizon_time = SUB_FIX_H * SUB_FIX_DT;
     opt.order = 4;
     run_t r;
-    run_subspace(&ts.s, &opt, &r);
+    run_subspace(&ts->s, &opt, &r);
     assert_int_equal(r.res.horizon, SUB_FIX_H);
     assert_int_equal(r.res.n_singular, SUB_FIX_H * SUB_FIX_P);
+    int cva = weighting == EL_SUBSPACE_CVA;
+    const double *sv = cva ? sub_fix_cc : sub_fix_sv;
     for (size_t k = 0; k < r.res.n_singular; k++)
-        assert_close(r.res.singular[k], sub_fix_sv[k], 0.0, 1e-10 * sub_fix_sv[0]);
-    const double *want[2] = { sub_fix_mu4, sub_fix_mu6 };
+        assert_close(r.res.singular[k], sv[k], 0.0, 1e-10 * sv[0]);
+    const double *want[2] = { cva ? sub_fix_cva_mu4 : sub_fix_mu4,
+                              cva ? sub_fix_cva_mu6 : sub_fix_mu6 };
     for (size_t oi = 0; oi < 2; oi++) {
         size_t order = oi == 0 ? 4 : 6;
         double mu[12];
@@ -268,13 +287,27 @@ static void test_numpy_fixture(void **state)
         qsort(mu, nm, 2 * sizeof(double), cmp_mu);
         assert_close_array(mu, want[oi], 2 * order, 0.0, 1e-9);
     }
-    /* the order-4 model is the system within the scatter of 2000 samples
-     * at 20 dB (|mu - mu_true| ~ 5e-3 for this record: numpy's value; the
-     * check that the data hold the system, 1e-2) */
-    assert_close_array(sub_fix_mu4, sub_fix_mu_true, 8, 0.0, 1e-2);
     el_subspace_plan_destroy(r.plan);
+}
+
+static void test_numpy_fixture(void **state)
+{
+    (void)state;
+    double *v = malloc(sizeof sub_fix_y);
+    assert_non_null(v);
+    memcpy(v, sub_fix_y, sizeof sub_fix_y);
+    test_series ts;
+    ts_init(&ts, SUB_FIX_N, SUB_FIX_P, SUB_FIX_DT, v);
+    fixture_case(&ts, EL_SUBSPACE_UNWEIGHTED);
+    fixture_case(&ts, EL_SUBSPACE_CVA);
+    /* the order-4 models are the system within the scatter of 2000
+     * samples at 20 dB (|mu - mu_true| ~ 5e-3 for this record: numpy's
+     * values; the check that the data hold the system, 1e-2) */
+    assert_close_array(sub_fix_mu4, sub_fix_mu_true, 8, 0.0, 1e-2);
+    assert_close_array(sub_fix_cva_mu4, sub_fix_mu_true, 8, 0.0, 1e-2);
 
     /* the automatic horizon, as numpy computes the rule */
+    el_subspace_options opt;
     el_subspace_defaults(&opt);
     el_subspace_horizon hz;
     el_error err;
