@@ -1,0 +1,211 @@
+/* el_subspace: data-driven block-Hankel subspace identification of the
+ * output-only model x[t+1] = A x[t] + w[t], y[t] = C x[t] + v[t] (Van
+ * Overschee & De Moor 1996, "Subspace Identification for Linear Systems",
+ * Kluwer; Peeters & De Roeck 1999, "Reference-based stochastic subspace
+ * identification for output-only modal analysis", Mech. Syst. Signal
+ * Process. 13(6)), with a stabilisation analysis across model orders and
+ * the per-block sums a block bootstrap needs. docs/subspace.md has the
+ * method, its choices and the measured accuracy.
+ *
+ * Data: the channels centred by their means and divided by their standard
+ * deviations (every channel weighs the same whatever its unit). With
+ * horizon h (block rows, future and past alike) and p channels:
+ *   future f_t = [y_t; y_t+1; ...; y_t+h-1]      (hp)
+ *   past   p_t = [y_t-1; y_t-2; ...; y_t-h]      (hp)
+ * over the one range t = h .. N - h (m = N - 2h + 1 windows), and
+ *   H = (1/m) sum_t (f_t - fbar)(p_t - pbar)',
+ * the window vectors centred by their own means over the range (then a
+ * constant offset such as a transient's fixed point minus the window mean
+ * drops out exactly, and no eigenvalue appears at 1 for it). Lag 0 never
+ * enters H (the closest future/past samples are one step apart), so white
+ * sensor noise does not bias it. SVD H = U S V'; for order n the
+ * observability matrix O = U_n S_n^(1/2), C = its first block row, and A
+ * from shift invariance by least squares over h - 1 block rows:
+ * A = O_up^+ O_down (Householder QR, LAPACK dgels; no pivoting). */
+#ifndef EL_SUBSPACE_H
+#define EL_SUBSPACE_H
+
+#include <stddef.h>
+
+#include "el_error.h"
+#include "el_timebase.h"
+
+/* Default cost cap of the automatic horizon: h * n_channels <= this. */
+#define EL_SUBSPACE_MAX_ROWS 200
+/* Default largest model order of the stabilisation analysis. */
+#define EL_SUBSPACE_MAX_ORDER 30
+
+/* Weighting of the block Hankel before its SVD. */
+typedef enum {
+    EL_SUBSPACE_UNWEIGHTED = 0,   /* SVD of H itself */
+    EL_SUBSPACE_CVA = 1           /* canonical variate analysis: SVD of
+                                     Sff^-1/2 H Spp^-1/2 (singular values =
+                                     canonical correlations), O = Sff^1/2 U S^1/2 */
+} el_subspace_weighting;
+
+typedef struct {
+    double horizon_time;   /* future = past horizon in the series' time unit;
+                              0 = automatic (el_subspace_choose_horizon) */
+    size_t max_rows;       /* automatic horizon: h * n_channels <= max_rows
+                              (0 = EL_SUBSPACE_MAX_ROWS) */
+    size_t max_order;      /* stabilisation up to this order (0 = default
+                              EL_SUBSPACE_MAX_ORDER), lowered to (h-1) p / 2 */
+    size_t order;          /* model order; 0 = automatic from stabilisation */
+    double stab_freq_rel;  /* consecutive orders: natural frequency within (0.01) */
+    double stab_damp_rel;  /* damping ratio within this relative (0.05) ... */
+    double stab_damp_abs;  /* ... or this absolute difference (0.005) */
+    double stab_mac_min;   /* shape correlation (MAC) at least (0.98) */
+    size_t stab_min_run;   /* a mode is physical when it persists over at
+                              least this many consecutive orders (5) */
+    el_subspace_weighting weighting;   /* default EL_SUBSPACE_CVA */
+    double stab_min_share; /* a physical pole also carries at least this share
+                              of its order's modal contributions (0.003) */
+} el_subspace_options;
+
+/* Fills opt with the defaults above. opt must not be NULL. Can't fail. */
+void el_subspace_defaults(el_subspace_options *opt);
+
+/* The automatic horizon and why. */
+typedef struct {
+    size_t rows;           /* h, block rows of the future and of the past */
+    double time;           /* h dt, series time unit */
+    size_t scale_lags;     /* the data's slowest time scale seen (samples) */
+    int capped;            /* 1: the cost cap or the record length set h */
+    char reason[256];      /* one sentence for a report */
+} el_subspace_horizon;
+
+/* Chooses the horizon h. Manual (opt->horizon_time > 0): h =
+ * round(horizon_time / dt). Automatic: from the mean over the channels of
+ * their autocorrelations r(k), k = 0 .. L (L = the cost cap + 1), the
+ * slowest time scale seen is the larger of (a) the first lag at which the
+ * envelope max_{k' >= k} |r(k')| falls below 1/e (the correlation time of
+ * the least damped mode) and (b) four times the first zero crossing of r
+ * (about one period of the dominant slow oscillation); h is that many
+ * samples, capped at max_rows / n_channels. Either way h is raised to
+ * h_min = max(3, 1 + ceil(24 / p)) (24 rows in the shift equations: room
+ * for orders up to 12) and must leave m >= 4 h p windows (automatic: lowered to
+ * that; manual: an error). Errors: EL_ERR_INTERNAL for NULL arguments;
+ * EL_ERR_DATA when a channel is constant or the record is too short even
+ * for h_min (hint: a longer window); EL_ERR_USAGE (option "--horizon")
+ * when a manual horizon leaves too few windows. */
+el_status el_subspace_choose_horizon(const el_series *series,
+                                     const el_subspace_options *opt,
+                                     el_subspace_horizon *out, el_error *err);
+
+/* One pole of the stabilisation analysis (a complex pair is one pole,
+ * Im lambda > 0 shown; a real eigenvalue is a pole of its own). */
+typedef struct {
+    size_t order;          /* model order it belongs to */
+    double mu_re, mu_im;   /* discrete eigenvalue */
+    double lambda_re, lambda_im;  /* ln(mu) / dt */
+    double frequency_hz;   /* damped: lambda_im / 2 pi (per time unit) */
+    double natural_hz;     /* |lambda| / 2 pi */
+    double damping_ratio;  /* -Re lambda / |lambda| (NaN when lambda = 0 or not finite) */
+    int stable;            /* 1: matches a pole of order - 1 by the criteria */
+    double contribution;   /* share of the order's modal contributions to
+                              the (weighted) block Hankel (a pair counts
+                              both members), 0..1 */
+    int physical;          /* 1: on a chain of >= stab_min_run consecutive
+                              orders and contribution >= stab_min_share */
+    size_t chain;          /* chain id (poles linked across consecutive orders) */
+    size_t shape_offset;   /* its shape: shape_re/im[shape_offset + c], c < p */
+} el_subspace_pole;
+
+/* The result of el_subspace_execute. Every array belongs to the plan and
+ * stays valid until the next execute on that plan or its destruction. */
+typedef struct {
+    size_t n_channels, horizon, n_windows;
+    double dt;
+    const double *channel_mean;    /* p */
+    const double *channel_scale;   /* p: standard deviations */
+    size_t n_singular;             /* h p */
+    const double *singular;        /* of H, descending */
+    size_t max_order;              /* stabilisation ran for orders 1 .. max_order */
+    size_t order;                  /* chosen (0: no persistent mode found and
+                                      no order given: a, c are empty) */
+    int order_was_auto;
+    size_t n_physical;             /* physical modes (distinct chains) */
+    const double *a;               /* order x order, column-major */
+    const double *c_scaled;        /* p x order: C for the scaled channels */
+    const double *c_raw;           /* p x order: diag(channel_scale) C */
+    size_t n_poles;                /* all orders */
+    const el_subspace_pole *poles; /* order 1 first; within an order, dgeev order */
+    const double *shape_re, *shape_im;  /* C phi in scaled units, largest
+                                           magnitude 1 with phase 0 */
+    size_t first_pole, n_order_poles;   /* the chosen order's poles */
+} el_subspace_result;
+
+typedef struct el_subspace_plan el_subspace_plan;
+
+/* Sizes and allocates everything for records of up to max_samples samples
+ * of n_channels channels with horizon h (from el_subspace_choose_horizon)
+ * and stabilisation up to max_order (0: EL_SUBSPACE_MAX_ORDER; lowered to
+ * (h - 1) n_channels / 2: orders near the row count of the shift
+ * equations fit the noise, with poles near the unit circle that can
+ * persist across orders). Execute, block sums and replicate solves then
+ * allocate nothing. *out is NULL on error. Errors: EL_ERR_INTERNAL for
+ * NULL out, n_channels == 0, h < 2 or max_samples < 2 h + 1;
+ * EL_ERR_NUMERIC when a LAPACK workspace query fails; EL_ERR_NOMEM. */
+el_status el_subspace_plan_create(size_t n_channels, size_t max_samples,
+                                  size_t horizon, size_t max_order,
+                                  el_subspace_plan **out, el_error *err);
+
+/* Frees the plan. NULL is a no-op. */
+void el_subspace_plan_destroy(el_subspace_plan *plan);
+
+/* Identifies the model of series (n_channels as the plan, n_samples <=
+ * the plan's and >= 2 h + 1): scales the channels, accumulates H, its SVD,
+ * the models of orders 1 .. max_order with their poles, the stabilisation
+ * labels, the order (opt->order, or automatic: the smallest order at which
+ * the largest number of physical chains is present at once; 0 when no
+ * chain is physical) and that order's A and C. opt NULL = defaults (only
+ * the order and stab_* fields are read). Keeps the scaled data and the
+ * leading right singular vectors V (hp x max_order) for
+ * el_subspace_block_sums. Errors: EL_ERR_INTERNAL for NULL or mismatched
+ * arguments; EL_ERR_DATA for a constant or non-finite channel;
+ * EL_ERR_USAGE (option "--order") for an order above max_order;
+ * EL_ERR_NUMERIC when LAPACK fails or the order's shift equations are
+ * rank deficient. */
+el_status el_subspace_execute(el_subspace_plan *plan, const el_series *series,
+                              const el_subspace_options *opt,
+                              el_subspace_result *result, el_error *err);
+
+/* Length of one block-sum record (doubles) for the plan:
+ * 1 + hp + n_v + hp n_v with n_v = max_order. */
+size_t el_subspace_sum_doubles(const el_subspace_plan *plan);
+
+/* The bootstrap's additive features over the windows t_begin <= w < t_end
+ * (window w is t = h + w; 0 <= t_begin <= t_end <= n_windows of the last
+ * execute), with g_w = V' p_w (V: the leading max_order right singular
+ * vectors of the point H, p_w the scaled past): sum[0] = count, then
+ * sum f_w (hp), then sum g_w (n_v), then sum f_w g_w' (hp x n_v,
+ * column-major). Adding the records of several runs gives the record of
+ * their union (with weights: a weighted sum), so a block bootstrap sums
+ * the records of its drawn blocks. sum has el_subspace_sum_doubles(plan)
+ * doubles and is overwritten. Errors: EL_ERR_INTERNAL without a previous
+ * execute or for a bad range. */
+el_status el_subspace_block_sums(const el_subspace_plan *plan, size_t t_begin,
+                                 size_t t_end, double *sum, el_error *err);
+
+/* Doubles of workspace el_subspace_replicate_solve needs. */
+size_t el_subspace_replicate_work(const el_subspace_plan *plan);
+
+/* A replicate's model of the given order (1 <= order <= max_order) from a
+ * (weighted) sum of block-sum records: the centred cross-product
+ * Hv = (S_fg - sum_f sum_g' / count) / count (= H V over those windows),
+ * its SVD U S W', O = U_n S_n^(1/2), A = O_up^+ O_down, and A's
+ * eigenvalues. With the records of all windows once this is the point
+ * estimate (H V = U S on the point data: same singular values and
+ * vectors up to sign, so the same A up to a diagonal sign similarity and
+ * the same eigenvalues to rounding). Outputs: a (order x order,
+ * column-major), mu_re and mu_im (order each, dgeev order); each may be
+ * NULL. work: el_subspace_replicate_work(plan) doubles (caller-owned, so
+ * threads may share one plan with their own work). Returns EL_OK;
+ * EL_ERR_INTERNAL for bad arguments; EL_ERR_NUMERIC when the count is not
+ * positive, LAPACK fails or the shift equations are rank deficient (the
+ * replicate is then dropped). err may be NULL (hot loop). */
+el_status el_subspace_replicate_solve(const el_subspace_plan *plan, const double *sum,
+                                      size_t order, double *a, double *mu_re,
+                                      double *mu_im, double *work, el_error *err);
+
+#endif
