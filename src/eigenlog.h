@@ -31,7 +31,7 @@
 #include "el_timebase.h"
 #include "el_prep.h"
 #include "el_fit.h"
-#include "el_estimators.h"
+#include "el_estimator.h"
 #include "el_modes.h"
 #include "el_verdict.h"
 #include "el_spectrum.h"

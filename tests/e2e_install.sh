@@ -98,7 +98,7 @@ pc() { pkg-config --define-variable=prefix="$p" "$@"; }
 [ "$(pc --modversion eigenlog)" = "$version" ]
 check "pkg-config --modversion eigenlog = $version" $?
 grep -q "^prefix=$prefix\$" "$PKG_CONFIG_PATH/eigenlog.pc" &&
-    grep -q '^Requires.private: lapacke openblas fftw3$' "$PKG_CONFIG_PATH/eigenlog.pc"
+    grep -q '^Requires.private: lapacke openblas fftw3 zlib$' "$PKG_CONFIG_PATH/eigenlog.pc"
 check "eigenlog.pc names PREFIX and the private dependencies" $?
 
 # --- a program built against the installed library, shared and static.

@@ -25,7 +25,7 @@ run() { # run SUBCOMMAND [ARGS...]: the subcommand on $in with quick settings
     shift
     case $sub in
         assess) "$bin" assess "$in" --boot 0 --quiet "$@" ;;
-        track) "$bin" track "$in" --window 120 --boot 50 --quiet "$@" ;;
+        track) "$bin" track "$in" --window 120 --boot 100 --quiet "$@" ;;
         spectrum) "$bin" spectrum "$in" --quiet "$@" ;;
     esac
 }
@@ -123,7 +123,7 @@ done
 [ $? -eq 0 ] && head -c 15 "$tmp/stdout.html" | grep -q -i "<!doctype html" &&
     ! grep -q "Caution:" "$tmp/stdout.html"
 check "assess --html -: the page alone on standard output, no text report mixed in" $?
-"$bin" track "$in" --window 120 --boot 50 --html - >"$tmp/stdout.html"
+"$bin" track "$in" --window 120 --boot 100 --html - >"$tmp/stdout.html"
 [ $? -eq 0 ] && head -c 15 "$tmp/stdout.html" | grep -q -i "<!doctype html" &&
     ! grep -q "Caution:" "$tmp/stdout.html"
 check "track --html -: the page alone on standard output" $?

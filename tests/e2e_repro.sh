@@ -64,7 +64,7 @@ for core in Prescott Nehalem Sandybridge Haswell SkylakeX Zen; do
     for run in 1 2; do
         "$bin" assess datasets/booster_pump.csv --boot 200 --quiet --html "$out/report$run.html" \
             >/dev/null 2>&1
-        "$bin" track datasets/fan_warmup.csv --to 1200 --window 300 --boot 50 --quiet \
+        "$bin" track datasets/fan_warmup.csv --to 1200 --window 300 --boot 100 --quiet \
             --html "$out/track$run.html" >/dev/null 2>&1
     done
     cmp -s "$out/report1.html" "$out/report2.html" && [ -s "$out/report1.html" ]
