@@ -27,6 +27,10 @@ struct el_assess_plan {
     size_t band_samples;
     double band_dt, band_lo, band_hi;
     el_warnings band_warnings;    /* what making it said, repeated for every window */
+    el_regime *regime;            /* lent to the results (parts_borrowed) */
+    size_t regime_samples, regime_channels;
+    el_validation *validation;    /* lent to the results (parts_borrowed) */
+    size_t validation_channels, validation_lags, validation_samples;
 };
 
 void el_assess_defaults(el_assess_options *opt)
@@ -264,14 +268,26 @@ static el_status prepare(el_assess_plan *ap, const el_assess_options *opt,
     return st;
 }
 
-static el_status detect_regime(const el_assess_options *opt, el_assessment *r,
-                               el_error *err)
+/* The plan's regime detector for this window's size (made or remade
+ * here), lent to the result. */
+static el_status detect_regime(el_assess_plan *ap, const el_assess_options *opt,
+                               el_assessment *r, el_error *err)
 {
     el_regime_options ro;
     el_regime_defaults(&ro);
     ro.driven = opt->inputs != NULL;
-    el_status st = el_regime_create(r->series.n_samples, r->series.n_channels,
-                                    &r->regime, err);
+    el_status st = EL_OK;
+    if (ap->regime == NULL || ap->regime_samples != r->series.n_samples ||
+        ap->regime_channels != r->series.n_channels) {
+        el_regime_destroy(ap->regime);
+        ap->regime = NULL;
+        st = el_regime_create(r->series.n_samples, r->series.n_channels, &ap->regime,
+                              err);
+        ap->regime_samples = r->series.n_samples;
+        ap->regime_channels = r->series.n_channels;
+    }
+    r->regime = ap->regime;
+    r->parts_borrowed = 1;
     if (st == EL_OK)
         st = el_regime_run(r->regime, &r->series, &ro, &r->warnings, err);
     return st;
@@ -305,10 +321,24 @@ static el_status veto_growth(el_assessment *r, el_error *err)
     return el_regime_growth_warning(r->regime, &r->series, &r->warnings, err);
 }
 
-static el_status validate(el_assessment *r, el_error *err)
+/* The plan's validation for this window's size and lags (made or remade
+ * here), lent to the result. */
+static el_status validate(el_assess_plan *ap, el_assessment *r, el_error *err)
 {
-    el_status st = el_validation_create(r->series.n_channels, r->model.lags,
-                                        r->series.n_samples, &r->validation, err);
+    el_status st = EL_OK;
+    if (ap->validation == NULL || ap->validation_channels != r->series.n_channels ||
+        ap->validation_lags != r->model.lags ||
+        ap->validation_samples != r->series.n_samples) {
+        el_validation_destroy(ap->validation);
+        ap->validation = NULL;
+        st = el_validation_create(r->series.n_channels, r->model.lags,
+                                  r->series.n_samples, &ap->validation, err);
+        ap->validation_channels = r->series.n_channels;
+        ap->validation_lags = r->model.lags;
+        ap->validation_samples = r->series.n_samples;
+    }
+    r->validation = ap->validation;
+    r->parts_borrowed = 1;
     if (st == EL_OK) {
         el_validation_set_inputs(r->validation, r->has_inputs ? &r->inputs : NULL);
         el_validation_set_band_limited(r->validation, r->has_band);
@@ -531,6 +561,8 @@ void el_assess_plan_destroy(el_assess_plan *ap)
         el_fit_plan_destroy(ap->fits[i].plan);
     el_prep_band_plan_destroy(ap->band);
     el_warnings_free(&ap->band_warnings);
+    el_regime_destroy(ap->regime);
+    el_validation_destroy(ap->validation);
     free(ap);
 }
 
@@ -624,6 +656,14 @@ el_status el_assess_analyse(const el_assess_options *opt, el_assessment *r,
                                          err);
     if (st == EL_OK)
         st = el_assess_execute(ap, opt, r, err);
+    /* The result keeps what the plan lent it. */
+    if (ap != NULL && r->parts_borrowed) {
+        if (r->regime == ap->regime)
+            ap->regime = NULL;
+        if (r->validation == ap->validation)
+            ap->validation = NULL;
+        r->parts_borrowed = 0;
+    }
     el_assess_plan_destroy(ap);
     return st;
 }
@@ -635,7 +675,7 @@ el_status el_assess_execute(el_assess_plan *ap, const el_assess_options *opt,
         return el_error_set(err, EL_ERR_INTERNAL, "el_assess_execute: NULL argument");
     el_status st = prepare(ap, opt, r, err);
     if (st == EL_OK)
-        st = detect_regime(opt, r, err);
+        st = detect_regime(ap, opt, r, err);
     el_fit_options fit = opt->fit;
     fit.inputs = r->has_inputs ? &r->inputs : NULL;
     r->cross_p_stable = NAN;
@@ -680,7 +720,7 @@ el_status el_assess_execute(el_assess_plan *ap, const el_assess_options *opt,
     if (st == EL_OK)
         st = veto_growth(r, err);
     if (st == EL_OK)
-        st = validate(r, err);
+        st = validate(ap, r, err);
     /* Problems found after ingest (constant channel, too short a window)
      * are still about this file: name it when the stage could not. */
     if (st != EL_OK && err != NULL && err->file[0] == '\0' && err->option[0] == '\0')
@@ -708,8 +748,10 @@ void el_assessment_free(el_assessment *r)
     free(r->detrend_level);
     free(r->detrend_slope);
     free(r->operating_point);
-    el_regime_destroy(r->regime);
-    el_validation_destroy(r->validation);
+    if (!r->parts_borrowed) {
+        el_regime_destroy(r->regime);
+        el_validation_destroy(r->validation);
+    }
     el_warnings_free(&r->input_warnings);
     el_warnings_free(&r->warnings);
     memset(r, 0, sizeof *r);
