@@ -444,6 +444,28 @@ static el_status withhold_too_few(const el_assess_options *opt, el_assessment *r
     return EL_OK;
 }
 
+/* el_verdict_compute; without the bootstrap because too few replicates
+ * were asked, its "bounds not yet computed" warning is left out: it reads
+ * 'marginal' as a numerical tolerance, while withhold_too_few makes the
+ * result marginal for want of replicates and says so itself. */
+static el_status verdict(const el_assess_options *opt, int boot_run, el_assessment *r,
+                         el_error *err)
+{
+    if (boot_run || opt->boot.replicates == 0)
+        return el_verdict_compute(&r->modes, &r->model, boot_run ? &r->boot : NULL,
+                                  opt->boot.level, &r->verdict, &r->warnings, err);
+    static const char no_bounds[] = "bounds not yet computed";
+    el_warnings vw = {0};
+    el_status st = el_verdict_compute(&r->modes, &r->model, NULL, opt->boot.level,
+                                      &r->verdict, &vw, err);
+    for (size_t i = 0; st == EL_OK && i < vw.count; i++)
+        if (strncmp(vw.items[i], no_bounds, sizeof no_bounds - 1) != 0 &&
+            el_warnings_add(&r->warnings, "%s", vw.items[i]) != EL_OK)
+            st = el_error_set(err, EL_ERR_NOMEM, "out of memory for a warning");
+    el_warnings_free(&vw);
+    return st;
+}
+
 /* Fits the cross-check estimator on the same prepared data and compares
  * its stability class with the verdict. Asymmetric on purpose: the most
  * harmful answer is a confident "stable" for a system that is not, so a
@@ -709,8 +731,7 @@ el_status el_assess_execute(el_assess_plan *ap, const el_assess_options *opt,
         st = el_boot_run(&r->series, &fit, &r->model, &r->modes, &opt->boot,
                          &r->boot, &r->warnings, err);
     if (st == EL_OK)
-        st = el_verdict_compute(&r->modes, &r->model, boot_run ? &r->boot : NULL,
-                                opt->boot.level, &r->verdict, &r->warnings, err);
+        st = verdict(opt, boot_run, r, err);
     if (st == EL_OK && opt->boot.replicates > 0 && !boot_run)
         st = withhold_too_few(opt, r, err);
     else if (st == EL_OK && boot_run && r->boot.replicates == 0)
