@@ -86,7 +86,7 @@ void cli_print_help(const char *usage, const char *description,
      "measured input columns: excitation, not state (z[k+1] = Ad z + B u + c)"},              \
     {"lags", "K|auto", "delay copies of every channel in the state (default 0; auto: by BIC)"}, \
     {"rank", "R|auto|full",                                                                   \
-     "DMD rank: a number, auto, or full (every state with every method); default "          \
+     "DMD rank: a number, auto, or full (every state with every method); default "            \
      "every state for ls/fb/tls, the rank test's for iv/ssi"},                                \
     {"method", "auto|ls|fb|tls|iv|ssi",                                                       \
      "estimator (default auto: chosen by the data's regime, cross-checked)"},                 \
