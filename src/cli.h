@@ -116,11 +116,12 @@ void cli_print_help(const char *usage, const char *description,
      "measured input columns: excitation, not state (z[k+1] = Ad z + B u + c)"},              \
     {"lags", "K|auto", "delay copies of every channel in the state (default 0; auto: by BIC)"}, \
     {"rank", "R|auto|full",                                                                   \
-     "DMD rank: a number, auto (optimal hard threshold) or full (default)"},                  \
+     "DMD rank: a number, auto, or full (every state with every method); default "            \
+     "every state for ls/fb/tls, the rank test's for iv/ssi"},                                \
     {"method", "auto|ls|fb|tls|iv|ssi",                                                       \
      "estimator (default auto: chosen by the data's regime, cross-checked)"},                 \
     {"depth", "N", "iv/ssi: block rows of past measurements (default lags + 1)"},             \
-    {"boot", "N", "bootstrap replicates (default 1000; 0 turns bounds off)"},                 \
+    {"boot", "N", "bootstrap replicates (default 1000; 0 or below 100: no bounds)"},          \
     {"resample", "blocks|model", "bootstrap scheme (default blocks)"},                        \
     {"block", "L|auto", "block length of the bootstrap (default auto)"},                      \
     {"no-bias-correction", NULL,                                                              \

@@ -27,6 +27,10 @@ struct el_assess_plan {
     size_t band_samples;
     double band_dt, band_lo, band_hi;
     el_warnings band_warnings;    /* what making it said, repeated for every window */
+    el_regime *regime;            /* lent to the results (parts_borrowed) */
+    size_t regime_samples, regime_channels;
+    el_validation *validation;    /* lent to the results (parts_borrowed) */
+    size_t validation_channels, validation_lags, validation_samples;
 };
 
 void el_assess_defaults(el_assess_options *opt)
@@ -271,14 +275,26 @@ static el_status prepare(el_assess_plan *ap, const el_assess_options *opt,
     return st;
 }
 
-static el_status detect_regime(const el_assess_options *opt, el_assessment *r,
-                               el_error *err)
+/* The plan's regime detector for this window's size (made or remade
+ * here), lent to the result. */
+static el_status detect_regime(el_assess_plan *ap, const el_assess_options *opt,
+                               el_assessment *r, el_error *err)
 {
     el_regime_options ro;
     el_regime_defaults(&ro);
     ro.driven = opt->inputs != NULL;
-    el_status st = el_regime_create(r->series.n_samples, r->series.n_channels,
-                                    &r->regime, err);
+    el_status st = EL_OK;
+    if (ap->regime == NULL || ap->regime_samples != r->series.n_samples ||
+        ap->regime_channels != r->series.n_channels) {
+        el_regime_destroy(ap->regime);
+        ap->regime = NULL;
+        st = el_regime_create(r->series.n_samples, r->series.n_channels, &ap->regime,
+                              err);
+        ap->regime_samples = r->series.n_samples;
+        ap->regime_channels = r->series.n_channels;
+    }
+    r->regime = ap->regime;
+    r->parts_borrowed = 1;
     if (st == EL_OK)
         st = el_regime_run(r->regime, &r->series, &ro, &r->warnings, err);
     return st;
@@ -312,10 +328,24 @@ static el_status veto_growth(el_assessment *r, el_error *err)
     return el_regime_growth_warning(r->regime, &r->series, &r->warnings, err);
 }
 
-static el_status validate(el_assessment *r, el_error *err)
+/* The plan's validation for this window's size and lags (made or remade
+ * here), lent to the result. */
+static el_status validate(el_assess_plan *ap, el_assessment *r, el_error *err)
 {
-    el_status st = el_validation_create(r->series.n_channels, r->model.lags,
-                                        r->series.n_samples, &r->validation, err);
+    el_status st = EL_OK;
+    if (ap->validation == NULL || ap->validation_channels != r->series.n_channels ||
+        ap->validation_lags != r->model.lags ||
+        ap->validation_samples != r->series.n_samples) {
+        el_validation_destroy(ap->validation);
+        ap->validation = NULL;
+        st = el_validation_create(r->series.n_channels, r->model.lags,
+                                  r->series.n_samples, &ap->validation, err);
+        ap->validation_channels = r->series.n_channels;
+        ap->validation_lags = r->model.lags;
+        ap->validation_samples = r->series.n_samples;
+    }
+    r->validation = ap->validation;
+    r->parts_borrowed = 1;
     if (st == EL_OK) {
         el_validation_set_inputs(r->validation, r->has_inputs ? &r->inputs : NULL);
         el_validation_set_band_limited(r->validation, r->has_band);
@@ -419,6 +449,28 @@ static el_status withhold_too_few(const el_assess_options *opt, el_assessment *r
                         EL_BOOT_MIN_REPLICATES) != EL_OK)
         return el_error_set(err, EL_ERR_NOMEM, "out of memory for a warning");
     return EL_OK;
+}
+
+/* el_verdict_compute; without the bootstrap because too few replicates
+ * were asked, its "bounds not yet computed" warning is left out: it reads
+ * 'marginal' as a numerical tolerance, while withhold_too_few makes the
+ * result marginal for want of replicates and says so itself. */
+static el_status verdict(const el_assess_options *opt, int boot_run, el_assessment *r,
+                         el_error *err)
+{
+    if (boot_run || opt->boot.replicates == 0)
+        return el_verdict_compute(&r->modes, &r->model, boot_run ? &r->boot : NULL,
+                                  opt->boot.level, &r->verdict, &r->warnings, err);
+    static const char no_bounds[] = "bounds not yet computed";
+    el_warnings vw = {0};
+    el_status st = el_verdict_compute(&r->modes, &r->model, NULL, opt->boot.level,
+                                      &r->verdict, &vw, err);
+    for (size_t i = 0; st == EL_OK && i < vw.count; i++)
+        if (strncmp(vw.items[i], no_bounds, sizeof no_bounds - 1) != 0 &&
+            el_warnings_add(&r->warnings, "%s", vw.items[i]) != EL_OK)
+            st = el_error_set(err, EL_ERR_NOMEM, "out of memory for a warning");
+    el_warnings_free(&vw);
+    return st;
 }
 
 /* Fits the cross-check estimator on the same prepared data and compares
@@ -538,6 +590,8 @@ void el_assess_plan_destroy(el_assess_plan *ap)
         el_fit_plan_destroy(ap->fits[i].plan);
     el_prep_band_plan_destroy(ap->band);
     el_warnings_free(&ap->band_warnings);
+    el_regime_destroy(ap->regime);
+    el_validation_destroy(ap->validation);
     free(ap);
 }
 
@@ -631,6 +685,14 @@ el_status el_assess_analyse(const el_assess_options *opt, el_assessment *r,
                                          err);
     if (st == EL_OK)
         st = el_assess_execute(ap, opt, r, err);
+    /* The result keeps what the plan lent it. */
+    if (ap != NULL && r->parts_borrowed) {
+        if (r->regime == ap->regime)
+            ap->regime = NULL;
+        if (r->validation == ap->validation)
+            ap->validation = NULL;
+        r->parts_borrowed = 0;
+    }
     el_assess_plan_destroy(ap);
     return st;
 }
@@ -642,7 +704,7 @@ el_status el_assess_execute(el_assess_plan *ap, const el_assess_options *opt,
         return el_error_set(err, EL_ERR_INTERNAL, "el_assess_execute: NULL argument");
     el_status st = prepare(ap, opt, r, err);
     if (st == EL_OK)
-        st = detect_regime(opt, r, err);
+        st = detect_regime(ap, opt, r, err);
     el_fit_options fit = opt->fit;
     fit.inputs = r->has_inputs ? &r->inputs : NULL;
     r->cross_p_stable = NAN;
@@ -676,8 +738,7 @@ el_status el_assess_execute(el_assess_plan *ap, const el_assess_options *opt,
         st = el_boot_run(&r->series, &fit, &r->model, &r->modes, &opt->boot,
                          &r->boot, &r->warnings, err);
     if (st == EL_OK)
-        st = el_verdict_compute(&r->modes, &r->model, boot_run ? &r->boot : NULL,
-                                opt->boot.level, &r->verdict, &r->warnings, err);
+        st = verdict(opt, boot_run, r, err);
     if (st == EL_OK && opt->boot.replicates > 0 && !boot_run)
         st = withhold_too_few(opt, r, err);
     else if (st == EL_OK && boot_run && r->boot.replicates == 0)
@@ -687,7 +748,7 @@ el_status el_assess_execute(el_assess_plan *ap, const el_assess_options *opt,
     if (st == EL_OK)
         st = veto_growth(r, err);
     if (st == EL_OK)
-        st = validate(r, err);
+        st = validate(ap, r, err);
     /* Problems found after ingest (constant channel, too short a window)
      * are still about this file: name it when the stage could not. */
     if (st != EL_OK && err != NULL && err->file[0] == '\0' && err->option[0] == '\0')
@@ -715,8 +776,10 @@ void el_assessment_free(el_assessment *r)
     free(r->detrend_level);
     free(r->detrend_slope);
     free(r->operating_point);
-    el_regime_destroy(r->regime);
-    el_validation_destroy(r->validation);
+    if (!r->parts_borrowed) {
+        el_regime_destroy(r->regime);
+        el_validation_destroy(r->validation);
+    }
     el_warnings_free(&r->input_warnings);
     el_warnings_free(&r->warnings);
     memset(r, 0, sizeof *r);

@@ -78,9 +78,13 @@ typedef struct {
     el_prep_band band;
     double *operating_point;      /* n_channels, physical units (detrend level added back) */
     int operating_point_ok;       /* 0: I - Ad singular: no operating point */
-    el_regime *regime;            /* data regime of the prepared window (owned) */
+    el_regime *regime;            /* data regime of the prepared window (owned, or the
+                                     plan's when parts_borrowed) */
     int growth_veto;              /* 1: the envelope grows: "stable" was withheld */
-    el_validation *validation;    /* one-step, free run, Ljung-Box (owned) */
+    el_validation *validation;    /* one-step, free run, Ljung-Box (owned, or the plan's
+                                     when parts_borrowed) */
+    int parts_borrowed;           /* 1: regime and validation belong to the
+                                     el_assess_plan that filled this result */
     int has_spectra;              /* 1: spectra and peaks below are filled */
     el_spectra spectra;           /* Welch spectra of the window (cross-check, report) */
     el_peaks peaks;
@@ -140,13 +144,14 @@ el_status el_assess_analyse(const el_assess_options *opt, el_assessment *result,
 
 /* Plan for assessing many windows of the same size (el_track): the fit
  * workspaces (el_fit_plan: snapshot matrices, SVD and estimator
- * workspaces) and the band-limit plan (FFTW) are made at the first window
+ * workspaces), the band-limit plan (FFTW), the regime detector (its FFTW
+ * plans) and the validation (prediction plan) are made at the first window
  * that needs them and reused for every later window of the same sizes and
- * options (a window with other sizes or another method gets its own, the
- * least recently used of ASSESS_FIT_PLANS = 4 being replaced). What
- * depends on a window's data (regime tests, spectra, the bootstrap engine
- * with its prefix sums, validation) is computed per window. Opaque; one
- * thread at a time (FFTW planning is not thread-safe). */
+ * options (a window with other sizes or another method gets its own; of
+ * the fit plans the least recently used of 4 is replaced). Made per window
+ * still: the spectra (an output the result owns) and the bootstrap (its
+ * engine holds prefix sums of the window's own data). Opaque; one thread
+ * at a time (FFTW planning is not thread-safe). */
 typedef struct el_assess_plan el_assess_plan;
 
 /* Creates an empty plan for windows of n_samples x n_channels with
@@ -158,8 +163,11 @@ el_status el_assess_plan_create(size_t n_samples, size_t n_channels, size_t n_in
 
 /* el_assess_analyse through the plan: the same results, warnings and
  * errors, bit for bit, as el_assess_analyse on the same result and
- * options, without remaking the plan's workspaces. EL_ERR_INTERNAL for a
- * NULL argument. */
+ * options, without remaking the plan's workspaces. The result's regime and
+ * validation are the plan's (result->parts_borrowed = 1): they hold this
+ * window's numbers until the next el_assess_execute with the plan or
+ * el_assess_plan_destroy; el_assessment_free leaves them to the plan.
+ * EL_ERR_INTERNAL for a NULL argument. */
 el_status el_assess_execute(el_assess_plan *plan, const el_assess_options *opt,
                             el_assessment *result, el_error *err);
 

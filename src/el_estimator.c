@@ -68,8 +68,10 @@ const char *el_estimator_names(char *buf, size_t size)
     for (size_t i = 0; i < N_ESTIMATORS; i++) {
         int n = snprintf(buf + used, size - used, "%s%s", i > 0 ? ", " : "",
                          estimators[i]->name);
-        if (n < 0 || (size_t)n >= size - used)
+        if (n < 0 || (size_t)n >= size - used) {
+            buf[used] = '\0'; /* no half entry */
             break;
+        }
         used += (size_t)n;
     }
     return buf;

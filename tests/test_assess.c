@@ -327,12 +327,21 @@ static void assert_same_bits(const el_assessment *a, const el_assessment *b)
     assert_memory_equal(&a->cross_p_stable, &b->cross_p_stable, sizeof(double));
     assert_int_equal(a->warnings.count, b->warnings.count);
     assert_int_equal(a->input_warnings.count, b->input_warnings.count);
+    assert_int_equal(a->regime->regime, b->regime->regime);
+    assert_memory_equal(&a->regime->growth_p, &b->regime->growth_p, sizeof(double));
+    for (size_t c = 0; c < a->series.n_channels; c++) {
+        assert_memory_equal(&a->validation->r2_one_step[c], &b->validation->r2_one_step[c],
+                            sizeof(double));
+        assert_memory_equal(&a->validation->ljung_box_p[c], &b->validation->ljung_box_p[c],
+                            sizeof(double));
+    }
 }
 
 /* Plan/execute (what track does per window) must give the same bits as a
  * fresh el_assess_analyse: window A analysed alone, and A again through a
  * plan that window B (same size) made and used first. Any state a reused
- * fit or band plan carried over from B would show in A's numbers. */
+ * fit, band, regime or validation plan carried over from B would show in
+ * A's numbers. */
 static void test_plan_reuse_is_bitwise(void **state)
 {
     (void)state;

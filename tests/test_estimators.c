@@ -1045,6 +1045,47 @@ static void test_provider_inputs_with_lags(void **state)
     free(u);
 }
 
+/* The estimator table (el_estimator.c) is what --method, the fit and the
+ * bootstrap read: every method has one complete entry, found by its value
+ * and by its name, and the names parse back to the value. The expected
+ * names are the documented --method spellings (docs/cli.md). */
+static void test_estimator_table(void **state)
+{
+    (void)state;
+    static const char *const names[EL_METHOD_COUNT] = {"ls", "fb", "tls", "iv", "ssi"};
+    for (int mi = 0; mi < EL_METHOD_COUNT; mi++) {
+        const el_estimator_type *t = el_estimator_for((el_method)mi);
+        assert_non_null(t);
+        assert_int_equal(t->method, mi);
+        assert_string_equal(t->name, names[mi]);
+        assert_ptr_equal(el_estimator_find(names[mi]), t);
+        assert_non_null(t->description);
+        assert_non_null(t->plan_create);
+        assert_non_null(t->plan_destroy);
+        assert_non_null(t->fit);
+        assert_non_null(t->provider);
+        assert_non_null(t->boot_states);
+        el_method parsed = EL_METHOD_COUNT;
+        el_error err;
+        el_error_clear(&err);
+        assert_int_equal(el_method_parse(names[mi], &parsed, &err), EL_OK);
+        assert_int_equal(parsed, mi);
+    }
+    assert_null(el_estimator_for((el_method)EL_METHOD_COUNT));
+    assert_null(el_estimator_find("auto"));
+    /* Only ls and iv take measured inputs (docs/cli.md, --input); only ls
+     * allows model-based replicates; the reference is ls. */
+    assert_true(el_estimator_for(EL_METHOD_LS)->takes_inputs);
+    assert_true(el_estimator_for(EL_METHOD_IV)->takes_inputs);
+    assert_false(el_estimator_for(EL_METHOD_SSI)->takes_inputs);
+    assert_true(el_estimator_for(EL_METHOD_LS)->model_resampling);
+    assert_false(el_estimator_for(EL_METHOD_FB)->model_resampling);
+    assert_ptr_equal(el_estimator_reference(), el_estimator_for(EL_METHOD_LS));
+    char buf[64];
+    assert_string_equal(el_estimator_names(buf, sizeof buf), "ls, fb, tls, iv, ssi");
+    assert_string_equal(el_estimator_names(buf, 6), "ls");
+}
+
 static void test_provider_table(void **state)
 {
     (void)state;
@@ -1260,6 +1301,7 @@ int main(void)
         cmocka_unit_test(test_fixture_estimators),
         cmocka_unit_test(test_providers_reproduce_point),
         cmocka_unit_test(test_provider_table),
+        cmocka_unit_test(test_estimator_table),
         cmocka_unit_test(test_provider_accumulate),
         cmocka_unit_test(test_provider_inputs_with_lags),
         cmocka_unit_test(test_plan_reuse_methods),
