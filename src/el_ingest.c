@@ -1364,7 +1364,8 @@ static el_status parse_row(ingest *g, const record *r, size_t n_fields)
                 return st;
             continue;
         }
-        if (g->col_kind[c] == COL_TEXT) {
+        unsigned char kind = g->col_kind[c];
+        if (kind == COL_TEXT) {
             *dst = NAN;
             continue;
         }
@@ -1373,7 +1374,8 @@ static el_status parse_row(ingest *g, const record *r, size_t n_fields)
         trim(&s, &n);
         int rc = parse_number(g, s, n, dst);
         if (rc == NUM_OK) {
-            g->col_kind[c] = COL_NUMBER;
+            if (kind == COL_UNKNOWN)
+                g->col_kind[c] = COL_NUMBER;
             continue;
         }
         if (rc == NUM_SYNTAX && is_missing(s, n)) {

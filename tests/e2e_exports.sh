@@ -216,5 +216,24 @@ check "a 1e-170 channel is assessed, not called constant" $?
 [ $? -ne 0 ]
 check "scan does not call the 1e-170 channel constant" $?
 
+# 12. Errors of the new inputs keep the house style: location, hint, status.
+# expect NAME STATUS LOCATION_REGEX -- ARGS...
+expect() {
+    name=$1 want=$2 where=$3
+    shift 4
+    "$bin" "$@" >"$tmp/out" 2>"$tmp/err"
+    got=$?
+    [ "$got" -eq "$want" ] && grep -q -E -e "$where" "$tmp/err" && grep -q "hint:" "$tmp/err"
+    check "$name (exit $got, want $want)" $?
+}
+sed '1s/^t \[s\]/t [samples]/' "$log" >"$tmp/samples.csv"
+expect "time unit that is not one of time" 2 "samples\.csv:1:1:" -- assess "$tmp/samples.csv" --boot 0
+expect "--time-unit that is not a unit" 1 "--time-unit" -- assess "$log" --time-unit fortnight
+expect "--decimal that is not a separator" 1 "--decimal" -- assess "$log" --decimal x
+head -c 20000 "$tmp/rig.csv.gz" >"$tmp/cut.csv.gz"
+expect "gzip cut short" 2 "cut\.csv\.gz" -- assess "$tmp/cut.csv.gz" --boot 0
+expect "--from with a zone on a log without" 1 "--from" -- assess "$tmp/iso.csv" --boot 0 \
+    --from 2026-03-14T08:01:00Z
+
 echo "e2e_exports: $passed passed, $failed failed"
 [ "$failed" -eq 0 ]
