@@ -1113,14 +1113,19 @@ static el_status check_names(ingest *g, const record *r)
 static el_status check_not_data(ingest *g, const record *r)
 {
     el_table *t = g->t;
+    /* A header cell must not decide the decimal separator. */
+    char decimal = g->decimal;
     for (size_t c = 0; c < t->n_columns; c++) {
         double v;
         const char *s = g->spans[c].text;
         size_t n = g->spans[c].length;
         trim(&s, &n);
-        if (parse_number(g, s, n, &v) != NUM_OK)
+        if (parse_number(g, s, n, &v) != NUM_OK) {
+            g->decimal = decimal;
             return EL_OK;
+        }
     }
+    g->decimal = decimal;
     return fail_at(g, r, 0,
                    "add a header row with one name per column, e.g. time,x,y "
                    "(a unit may follow a name as \"x [m]\")",
