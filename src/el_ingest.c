@@ -1903,6 +1903,13 @@ el_status el_table_read_files(const char *const *paths, size_t n_paths,
     return st;
 }
 
+double el_table_time_unit_s(const el_table *table)
+{
+    if (table == NULL || table->time_is_iso || table->time_scale_s == 0.0)
+        return 1.0;
+    return table->time_scale_s;
+}
+
 const char *el_table_row_source(const el_table *table, size_t row)
 {
     if (table == NULL)
@@ -2119,9 +2126,7 @@ el_status el_table_parse_time(const el_table *table, const char *text,
     free(g.numtext);
     if (rc == NUM_OK) {
         /* A number is in the log's own unit (ISO: seconds from the start). */
-        double scale = table->time_is_iso || table->time_scale_s == 0.0 ? 1.0
-                                                                        : table->time_scale_s;
-        *time_out = v * scale;
+        *time_out = v * el_table_time_unit_s(table);
         return EL_OK;
     }
     if (why == NULL && it.has_zone && !table->time_zone_known) {
@@ -2164,9 +2169,7 @@ char *el_table_format_time(const el_table *table, double t, char *buf, size_t si
         return buf;
     /* 1e14 s is far beyond year 9999 and keeps t * 1000 exact in int64. */
     if (table == NULL || !table->time_is_iso || !isfinite(t) || fabs(t) > 1e14) {
-        double scale = table != NULL && !table->time_is_iso && table->time_scale_s != 0.0
-                           ? table->time_scale_s : 1.0;
-        snprintf(buf, size, "%.9g", t / scale);
+        snprintf(buf, size, "%.9g", t / el_table_time_unit_s(table));
         return buf;
     }
     int zone = table->time_zone_minutes;
