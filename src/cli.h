@@ -98,9 +98,7 @@ void cli_print_help(const char *usage, const char *description,
  * that fits (assess, track): rows to put at the head of its table. */
 #define CLI_INPUT_OPTION_ROWS                                                                 \
     {"time", "COL", "time column (default: the first column)"},                               \
-    {"time-unit", "UNIT",                                                                     \
-     "unit of the time numbers: s, ms, us, ns, min, h, d, year (default: from the header, "   \
-     "else s)"},                                                                              \
+    {"time-unit", "UNIT", "s, ms, us, ns, min, h, d or year (default: the header's, else s)"}, \
     {"decimal", ".|,", "decimal separator of the numbers (default: detected)"}
 
 #define CLI_MODEL_OPTION_ROWS                                                                 \

@@ -16,8 +16,8 @@ static const cli_option OPTIONS[] = {
 /* "%.6g unit" of a time in seconds, written in the log's own unit. */
 static const char *in_log_unit(const el_table *t, double seconds, char *buf, size_t size)
 {
-    double scale = t->time_is_iso || t->time_scale_s == 0.0 ? 1.0 : t->time_scale_s;
-    snprintf(buf, size, "%.6g %s", seconds / scale, t->time_is_iso ? "s" : t->time_unit);
+    snprintf(buf, size, "%.6g %s", seconds / el_table_time_unit_s(t),
+             t->time_is_iso ? "s" : t->time_unit);
     return buf;
 }
 

@@ -1113,14 +1113,19 @@ static el_status check_names(ingest *g, const record *r)
 static el_status check_not_data(ingest *g, const record *r)
 {
     el_table *t = g->t;
+    /* A header cell must not decide the decimal separator. */
+    char decimal = g->decimal;
     for (size_t c = 0; c < t->n_columns; c++) {
         double v;
         const char *s = g->spans[c].text;
         size_t n = g->spans[c].length;
         trim(&s, &n);
-        if (parse_number(g, s, n, &v) != NUM_OK)
+        if (parse_number(g, s, n, &v) != NUM_OK) {
+            g->decimal = decimal;
             return EL_OK;
+        }
     }
+    g->decimal = decimal;
     return fail_at(g, r, 0,
                    "add a header row with one name per column, e.g. time,x,y "
                    "(a unit may follow a name as \"x [m]\")",
@@ -1364,7 +1369,8 @@ static el_status parse_row(ingest *g, const record *r, size_t n_fields)
                 return st;
             continue;
         }
-        if (g->col_kind[c] == COL_TEXT) {
+        unsigned char kind = g->col_kind[c];
+        if (kind == COL_TEXT) {
             *dst = NAN;
             continue;
         }
@@ -1373,7 +1379,8 @@ static el_status parse_row(ingest *g, const record *r, size_t n_fields)
         trim(&s, &n);
         int rc = parse_number(g, s, n, dst);
         if (rc == NUM_OK) {
-            g->col_kind[c] = COL_NUMBER;
+            if (kind == COL_UNKNOWN)
+                g->col_kind[c] = COL_NUMBER;
             continue;
         }
         if (rc == NUM_SYNTAX && is_missing(s, n)) {
@@ -1896,6 +1903,13 @@ el_status el_table_read_files(const char *const *paths, size_t n_paths,
     return st;
 }
 
+double el_table_time_unit_s(const el_table *table)
+{
+    if (table == NULL || table->time_is_iso || table->time_scale_s == 0.0)
+        return 1.0;
+    return table->time_scale_s;
+}
+
 const char *el_table_row_source(const el_table *table, size_t row)
 {
     if (table == NULL)
@@ -2112,9 +2126,7 @@ el_status el_table_parse_time(const el_table *table, const char *text,
     free(g.numtext);
     if (rc == NUM_OK) {
         /* A number is in the log's own unit (ISO: seconds from the start). */
-        double scale = table->time_is_iso || table->time_scale_s == 0.0 ? 1.0
-                                                                        : table->time_scale_s;
-        *time_out = v * scale;
+        *time_out = v * el_table_time_unit_s(table);
         return EL_OK;
     }
     if (why == NULL && it.has_zone && !table->time_zone_known) {
@@ -2157,9 +2169,7 @@ char *el_table_format_time(const el_table *table, double t, char *buf, size_t si
         return buf;
     /* 1e14 s is far beyond year 9999 and keeps t * 1000 exact in int64. */
     if (table == NULL || !table->time_is_iso || !isfinite(t) || fabs(t) > 1e14) {
-        double scale = table != NULL && !table->time_is_iso && table->time_scale_s != 0.0
-                           ? table->time_scale_s : 1.0;
-        snprintf(buf, size, "%.9g", t / scale);
+        snprintf(buf, size, "%.9g", t / el_table_time_unit_s(table));
         return buf;
     }
     int zone = table->time_zone_minutes;

@@ -90,6 +90,10 @@ el_status el_table_read_files(const char *const *paths, size_t n_paths,
                               const el_ingest_options *opt, el_table *table,
                               el_error *err);
 
+/* Seconds per unit of the log's own time numbers: time_scale_s, or 1 for
+ * ISO tables and tables not made by ingest (time_scale_s 0). NULL: 1. */
+double el_table_time_unit_s(const el_table *table);
+
 /* The file row r of the table came from (table->source for one file). */
 const char *el_table_row_source(const el_table *table, size_t row);
 

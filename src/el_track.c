@@ -260,8 +260,8 @@ el_status el_track_run(const el_track_options *opt, el_track_result *result,
     st = el_assess_load(&opt->assess, &all, err);
     size_t len = 0, step = 0, count = 0;
     el_track_options in_s = *opt; /* --window/--step come in the log's own time unit */
-    in_s.window *= all.table.time_is_iso || all.table.time_scale_s == 0.0 ? 1.0 : all.table.time_scale_s;
-    in_s.step *= all.table.time_is_iso || all.table.time_scale_s == 0.0 ? 1.0 : all.table.time_scale_s;
+    in_s.window *= el_table_time_unit_s(&all.table);
+    in_s.step *= el_table_time_unit_s(&all.table);
     if (st == EL_OK)
         st = plan_windows(&in_s, &all.series, &len, &step, &count, err);
     if (st == EL_OK) {

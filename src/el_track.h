@@ -15,7 +15,7 @@
 typedef struct {
     el_assess_options assess;     /* per window; from/to bound the span tracked, the
                                      bootstrap must be on (replicates > 0) */
-    double window;                /* window length, time-column units; 0 = span / 8 */
+    double window;                /* window length, log's own time unit; 0 = span / 8 */
     double step;                  /* start-to-start distance; 0 = window (no overlap) */
     /* Called from the calling thread after each window; may be NULL. */
     void (*progress)(void *ctx, size_t done, size_t total);
@@ -39,7 +39,7 @@ const char *el_trend_name(el_trend_class trend);
  * -max Re lambda (1/time unit): positive for a stable operating point,
  * zero at the stability boundary. */
 typedef struct {
-    double t_from, t_to;          /* time-column units (ISO logs: seconds from time_origin_s) */
+    double t_from, t_to;          /* s (ISO logs: seconds from time_origin_s)        */
     char from_text[48], to_text[48];  /* as the log writes times (ISO 8601 or a number) */
     int ok;                       /* 0: the assessment failed; error says why */
     char error[EL_ERROR_TEXT_MAX];

@@ -994,6 +994,10 @@ static void test_decimal_comma(void **state)
                                &t, &e), EL_OK);
     assert_close(cell(&t, 1, 0), 0.25, 0, 0);
     el_table_free(&t);
+    /* A header cell that reads as a number does not decide the separator. */
+    assert_int_equal(read_text("t;0,5\n0;1.5\n", &t, &e), EL_OK);
+    assert_close(cell(&t, 0, 1), 1.5, 0, 0);
+    el_table_free(&t);
     /* Forced: --decimal , in a tab file; --decimal . refuses a comma. */
     el_ingest_options opt = {.decimal = ','};
     assert_int_equal(read_with("t\tx\n0\t3,5\n", &opt, &t, &e), EL_OK);
