@@ -111,7 +111,7 @@ static void test_rig_test_truth(void **state)
  * roots (spiral sink) with period near 9.8 years. Through the whole
  * pipeline from a CSV with a prepared log10 column; the tolerances (0.03 on
  * coefficients, 0.3 years on the period) are justified in
- * ../shared/reference/README.md: least squares on this file differs from
+ * tests/data/README.md: least squares on this file differs from
  * Moran's estimator by up to 0.026 in the coefficients and 0.04 years. */
 static void test_lynx_moran_end_to_end(void **state)
 {
