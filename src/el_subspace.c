@@ -702,8 +702,6 @@ static int order_poles(el_subspace_plan *pl, size_t n, const double *a, size_t *
 {
     size_t p = pl->p;
     memcpy(pl->acopy, a, n * n * sizeof(double));
-    double dummy = 0.0;
-    (void)dummy;
     lapack_int info = LAPACKE_dgeev_work(LAPACK_COL_MAJOR, 'V', 'V', (lapack_int)n,
                                          pl->acopy, (lapack_int)n, pl->wr, pl->wi, pl->vl,
                                          (lapack_int)n, pl->vr, (lapack_int)n, pl->ev_work,
@@ -1073,7 +1071,8 @@ el_status el_subspace_replicate_solve(const el_subspace_plan *pl, const double *
                                       size_t order, double *a_out, double *mu_re,
                                       double *mu_im, double *work, el_error *err)
 {
-    if (pl == NULL || sum == NULL || work == NULL || order == 0 || order > pl->nmax)
+    if (pl == NULL || sum == NULL || work == NULL || order == 0 || order > pl->nmax ||
+        !pl->executed)
         return el_error_set(err, EL_ERR_INTERNAL, "el_subspace_replicate_solve: bad arguments");
     size_t hp = pl->hp, nv = pl->nmax, rows = (pl->h - 1) * pl->p;
     double cnt = sum[0];

@@ -125,7 +125,8 @@ typedef struct {
     const double *channel_mean;    /* p */
     const double *channel_scale;   /* p: standard deviations */
     size_t n_singular;             /* h p */
-    const double *singular;        /* of H, descending */
+    const double *singular;        /* of W1 H W2, descending (CVA: the canonical
+                                      correlations of future and past) */
     size_t max_order;              /* stabilisation ran for orders 1 .. max_order */
     size_t order;                  /* chosen (0: no persistent mode found and
                                       no order given: a, c are empty) */
@@ -213,13 +214,14 @@ size_t el_subspace_replicate_work(const el_subspace_plan *plan);
  * and A's eigenvalues. With the records of all windows once this is the
  * point estimate (W1 H W2 V = U S on the point data: the same singular
  * values and vectors up to sign, so the same A up to a diagonal sign
- * similarity and the same eigenvalues to rounding). Outputs: a (order x order,
- * column-major), mu_re and mu_im (order each, dgeev order); each may be
+ * similarity and the same eigenvalues to rounding). Outputs: a (order x
+ * order, column-major), mu_re and mu_im (order each, dgeev order); each may be
  * NULL. work: el_subspace_replicate_work(plan) doubles (caller-owned, so
  * threads may share one plan with their own work). Returns EL_OK;
  * EL_ERR_INTERNAL for bad arguments; EL_ERR_NUMERIC when the count is not
  * positive, LAPACK fails or the shift equations are rank deficient (the
- * replicate is then dropped). err may be NULL (hot loop). */
+ * replicate is then dropped); EL_ERR_INTERNAL also before any execute.
+ * err may be NULL (hot loop). */
 el_status el_subspace_replicate_solve(const el_subspace_plan *plan, const double *sum,
                                       size_t order, double *a, double *mu_re,
                                       double *mu_im, double *work, el_error *err);

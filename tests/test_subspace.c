@@ -580,6 +580,11 @@ static void test_bad_arguments(void **state)
     assert_int_equal(el_subspace_choose_horizon(&ts.s, &opt, &hz, &err), EL_ERR_DATA);
     assert_int_equal(el_subspace_plan_create(2, n, 5, 0, &pl, &err), EL_OK);
     assert_int_equal(el_subspace_block_sums(pl, 0, 1, v, &err), EL_ERR_INTERNAL);
+    double *rw = malloc(el_subspace_replicate_work(pl) * sizeof *rw);
+    assert_non_null(rw);
+    assert_int_equal(el_subspace_replicate_solve(pl, v, 1, NULL, NULL, NULL, rw, &err),
+                     EL_ERR_INTERNAL);   /* before any execute */
+    free(rw);
     el_subspace_result res;
     assert_int_equal(el_subspace_execute(pl, &ts.s, &opt, &res, &err), EL_ERR_DATA);
     assert_non_null(strstr(err.message, "constant"));
