@@ -172,7 +172,8 @@ void el_subspace_plan_destroy(el_subspace_plan *plan);
  * stab_damp_abs) in damping ratio and stab_mac_min in MAC of the scaled
  * shapes (one to one, nearest frequency first); matched poles form
  * chains; a pole is physical when its chain spans >= stab_min_run orders
- * and its modal contribution (the Frobenius norm of its part of H in the
+ * (or reaches the last order that has a model when the orders above it
+ * have none: exact data) and its modal contribution (the Frobenius norm of its part of H in the
  * scaled channels, as a share of its order's total) is >= stab_min_share.
  * opt NULL = defaults (the horizon fields are not read: the plan has the
  * horizon). Keeps the scaled data, the weights and the projection of the
