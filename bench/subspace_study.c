@@ -18,7 +18,13 @@
  * standard deviation 10^(-SNR/20) of each clean channel's, at 30, 20 and
  * 10 dB (the same draws scaled).
  *
- * Usage: subspace_study [--systems N] [--verbose]   (default 48 systems) */
+ * Usage: subspace_study [--systems N] [--seed S] [--unweighted] [--share X]
+ *                       [--verbose] [--poles]
+ * Default: 48 systems from seed 20261204, the el_subspace defaults.
+ * --seed draws another family (a check that the defaults were not tuned
+ * to one draw); --unweighted and --share X change the subspace options;
+ * --verbose prints one line per log, --poles also the chosen order's
+ * poles. */
 #include <cblas.h>
 #include <math.h>
 #include <stdint.h>
@@ -56,11 +62,17 @@ static double now_s(void)
     return (double)ts.tv_sec + 1e-9 * (double)ts.tv_nsec;
 }
 
-static void make_system(size_t id, st_system *s)
+typedef struct {
+    uint64_t seed;
+    int unweighted, verbose, poles;
+    double share;             /* < 0: the default */
+} st_options;
+
+static void make_system(size_t id, uint64_t seed, st_system *s)
 {
     static const double spp_list[] = { 20, 50, 100, 200, 300 };
     el_rng rng;
-    el_rng_seed(&rng, 20261204, id);
+    el_rng_seed(&rng, seed, id);
     memset(s, 0, sizeof *s);
     s->n_sensors = 2 + (size_t)el_rng_below(&rng, 7);
     s->n_modes = 1 + (size_t)el_rng_below(&rng, 3);
@@ -91,8 +103,8 @@ static void make_system(size_t id, st_system *s)
 }
 
 /* Clean channels (n_samples x p, column-major) and unit noise draws. */
-static int simulate(size_t id, const st_system *s, double **clean, double **noise,
-                    double *sd)
+static int simulate(size_t id, uint64_t seed, const st_system *s, double **clean,
+                    double **noise, double *sd)
 {
     size_t n = 2 * s->n_modes, p = s->n_sensors, N = s->n_samples;
     double a[ST_MAX_STATES * ST_MAX_STATES] = { 0 }, q[ST_MAX_STATES * ST_MAX_STATES] = { 0 };
@@ -122,7 +134,7 @@ static int simulate(size_t id, const st_system *s, double **clean, double **nois
     if (*clean == NULL || *noise == NULL)
         return 1;
     el_rng rng;
-    el_rng_seed(&rng, 777, id);
+    el_rng_seed(&rng, seed + 777, id);
     double x[ST_MAX_STATES], xn[ST_MAX_STATES], z[ST_MAX_STATES];
     for (size_t i = 0; i < n; i++)
         x[i] = s->growing ? el_rng_normal(&rng) : 0.0;
@@ -278,16 +290,17 @@ static void run_pipeline(const st_system *s, el_series *series, st_outcome *o)
     o->seconds = now_s() - t0;
 }
 
-static void run_subspace(const st_system *s, const el_series *series, st_outcome *o)
+static void run_subspace(const st_system *s, const el_series *series,
+                         const st_options *so, st_outcome *o)
 {
     memset(o, 0, sizeof *o);
     double t0 = now_s();
     el_subspace_options opt;
     el_subspace_defaults(&opt);
-    if (getenv("ST_UNWEIGHTED"))
+    if (so->unweighted)
         opt.weighting = EL_SUBSPACE_UNWEIGHTED;
-    if (getenv("ST_SHARE"))
-        opt.stab_min_share = atof(getenv("ST_SHARE"));
+    if (so->share >= 0.0)
+        opt.stab_min_share = so->share;
     el_subspace_horizon hz;
     el_error err;
     el_error_clear(&err);
@@ -316,16 +329,8 @@ static void run_subspace(const st_system *s, const el_series *series, st_outcome
         }
         o->extra = ne > s->n_modes;
         o->ok = all_modes_ok(s, ne, lre, lim, &o->wf, &o->wz);
-        if (getenv("ST_CHAINS"))
-            for (size_t k = 0; k < res.n_poles; k++) {
-                const el_subspace_pole *q = &res.poles[k];
-                if (q->contribution > 0.005 && q->order <= 14)
-                    printf("   n%2zu fn %.4f zeta %.4f share %.3f stable %d chain %zu phys %d\n",
-                           q->order, q->natural_hz, q->damping_ratio, q->contribution,
-                           q->stable, q->chain, q->physical);
-            }
-        if (getenv("ST_DEBUG"))
-            for (size_t k = 0; k < ne; k++) {
+        if (so->poles)
+            for (size_t k = 0; k < res.n_order_poles; k++) {
                 const el_subspace_pole *q = &res.poles[res.first_pole + k];
                 printf("   pole %zu: fn %.4f zeta %.4f mu %.4f%+.4fi phys %d stable %d chain %zu share %.4f\n",
                        k, q->natural_hz, q->damping_ratio, q->mu_re, q->mu_im, q->physical,
@@ -345,14 +350,23 @@ static void run_subspace(const st_system *s, const el_series *series, st_outcome
 int main(int argc, char **argv)
 {
     size_t n_sys = 48;
-    int verbose = 0;
+    st_options so = { 20261204, 0, 0, 0, -1.0 };
     for (int i = 1; i < argc; i++) {
         if (strcmp(argv[i], "--systems") == 0 && i + 1 < argc)
             n_sys = (size_t)strtoul(argv[++i], NULL, 10);
+        else if (strcmp(argv[i], "--seed") == 0 && i + 1 < argc)
+            so.seed = strtoull(argv[++i], NULL, 10);
+        else if (strcmp(argv[i], "--share") == 0 && i + 1 < argc)
+            so.share = atof(argv[++i]);
+        else if (strcmp(argv[i], "--unweighted") == 0)
+            so.unweighted = 1;
         else if (strcmp(argv[i], "--verbose") == 0)
-            verbose = 1;
+            so.verbose = 1;
+        else if (strcmp(argv[i], "--poles") == 0)
+            so.verbose = so.poles = 1;
         else {
-            fprintf(stderr, "usage: subspace_study [--systems N] [--verbose]\n");
+            fprintf(stderr, "usage: subspace_study [--systems N] [--seed S] [--unweighted] "
+                            "[--share X] [--verbose] [--poles]\n");
             return 1;
         }
     }
@@ -363,25 +377,13 @@ int main(int argc, char **argv)
     double t_start = now_s();
     for (size_t id = 0; id < n_sys; id++) {
         st_system s;
-        make_system(id, &s);
+        make_system(id, so.seed, &s);
         double *clean = NULL, *noise = NULL, sd[ST_MAX_SENSORS];
-        if (simulate(id, &s, &clean, &noise, sd)) {
+        if (simulate(id, so.seed, &s, &clean, &noise, sd)) {
             fprintf(stderr, "subspace_study: simulation %zu failed\n", id);
             return 3;
         }
         n_grow += s.growing != 0;
-        if (getenv("ST_DEBUG") && s.growing) {
-            size_t N = s.n_samples, q = N / 10;
-            double e0 = 0, e1 = 0;
-            for (size_t k = 0; k < q; k++) {
-                e0 += clean[k] * clean[k];
-                e1 += clean[N - 1 - k] * clean[N - 1 - k];
-            }
-            printf("growing system %zu: zeta", id);
-            for (size_t m = 0; m < s.n_modes; m++)
-                printf(" %.4f", s.zeta[m]);
-            printf(", rms last/first tenth %.2f\n", sqrt(e1 / e0));
-        }
         for (size_t k = 0; k < N_SNR; k++) {
             el_series ser;
             st_outcome out[2];
@@ -389,7 +391,7 @@ int main(int argc, char **argv)
                 fprintf(stderr, "subspace_study: out of memory\n");
                 return 4;
             }
-            run_subspace(&s, &ser, &out[1]);
+            run_subspace(&s, &ser, &so, &out[1]);
             run_pipeline(&s, &ser, &out[0]);
             el_series_free(&ser);
             for (size_t m = 0; m < 2; m++) {
@@ -398,7 +400,7 @@ int main(int argc, char **argv)
                 secs[m] += out[m].seconds;
             }
             extra[k] += out[1].extra != 0;
-            if (verbose)
+            if (so.verbose)
                 printf("sys %2zu p %zu modes %zu spp %3.0f N %5zu %s %2.0f dB | auto %s "
                        "f %.3f z %.3f (%s) | subspace %s f %.3f z %.3f (%s)\n",
                        id, s.n_sensors, s.n_modes, s.spp, s.n_samples,
@@ -409,8 +411,8 @@ int main(int argc, char **argv)
         free(clean);
         free(noise);
     }
-    printf("subspace_study: %zu systems (%zu growing), 3 SNRs, %.0f s\n", n_sys, n_grow,
-           now_s() - t_start);
+    printf("subspace_study: %zu systems (%zu growing) from seed %llu, 3 SNRs, %.0f s\n",
+           n_sys, n_grow, (unsigned long long)so.seed, now_s() - t_start);
     printf("every mode within 5 %% natural frequency and 0.05 damping ratio:\n");
     printf("| SNR | default --method auto | subspace (el_subspace) |\n");
     printf("| --- | --- | --- |\n");

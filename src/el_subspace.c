@@ -74,6 +74,7 @@ struct el_subspace_plan {
     size_t max_poles;
     double *shape_re, *shape_im;
     size_t *chain_len;
+    unsigned char *taken_chain;   /* per chain: present at the last solvable order */
     size_t *first;                /* nmax + 2: index of each order's first pole */
     int *taken;
     /* replicate solve sizes */
@@ -384,6 +385,7 @@ el_status el_subspace_plan_create(size_t n_channels, size_t max_samples,
     pl->shape_re = malloc(pl->max_poles * p * sizeof(double));
     pl->shape_im = malloc(pl->max_poles * p * sizeof(double));
     pl->chain_len = malloc(pl->max_poles * sizeof(size_t));
+    pl->taken_chain = malloc(pl->max_poles);
     pl->taken = malloc(nmax * sizeof(int));
     pl->first = malloc((nmax + 2) * sizeof(size_t));
     if (!pl->sff || !pl->spp || !pl->w1 || !pl->w1inv || !pl->w2 || !pl->tmp ||
@@ -396,7 +398,7 @@ el_status el_subspace_plan_create(size_t n_channels, size_t max_samples,
         !pl->svd_work || !pl->obs || !pl->gp || !pl->w2inv || !pl->oup || !pl->odown || !pl->ls_work ||
         !pl->acopy || !pl->wr || !pl->wi || !pl->vr || !pl->vl || !pl->ev_work || !pl->a ||
         !pl->c_scaled || !pl->c_raw || !pl->poles || !pl->shape_re || !pl->shape_im ||
-        !pl->chain_len || !pl->taken || !pl->first) {
+        !pl->chain_len || !pl->taken_chain || !pl->taken || !pl->first) {
         el_subspace_plan_destroy(pl);
         return el_error_set(err, EL_ERR_NOMEM, "out of memory (subspace plan)");
     }
@@ -449,6 +451,7 @@ void el_subspace_plan_destroy(el_subspace_plan *pl)
     free(pl->shape_re);
     free(pl->shape_im);
     free(pl->chain_len);
+    free(pl->taken_chain);
     free(pl->taken);
     free(pl->first);
     free(pl);
@@ -702,8 +705,6 @@ static int order_poles(el_subspace_plan *pl, size_t n, const double *a, size_t *
 {
     size_t p = pl->p;
     memcpy(pl->acopy, a, n * n * sizeof(double));
-    double dummy = 0.0;
-    (void)dummy;
     lapack_int info = LAPACKE_dgeev_work(LAPACK_COL_MAJOR, 'V', 'V', (lapack_int)n,
                                          pl->acopy, (lapack_int)n, pl->wr, pl->wi, pl->vl,
                                          (lapack_int)n, pl->vr, (lapack_int)n, pl->ev_work,
@@ -838,9 +839,24 @@ static void stabilise(el_subspace_plan *pl, const el_subspace_options *o,
             pl->chain_len[pl->poles[k].chain]++;
     }
     size_t run = o->stab_min_run ? o->stab_min_run : 1;
-    for (size_t k = 0; k < n_poles; k++)
-        pl->poles[k].physical = pl->chain_len[pl->poles[k].chain] >= run &&
+    /* Exact data: when no order above n_top has a model (the shift
+     * equations are rank deficient there: the record holds no further
+     * direction, as for a noise-free log), no chain can grow to `run`
+     * orders; the chains present at n_top then count as persistent. */
+    size_t n_top = 0;
+    for (size_t n = 1; n <= pl->nmax; n++)
+        if (first[n + 1] > first[n])
+            n_top = n;
+    for (size_t k = 0; k < nchains; k++)
+        pl->taken_chain[k] = 0;
+    if (n_top > 0 && n_top < pl->nmax)
+        for (size_t k = first[n_top]; k < first[n_top + 1]; k++)
+            pl->taken_chain[pl->poles[k].chain] = 1;
+    for (size_t k = 0; k < n_poles; k++) {
+        size_t c = pl->poles[k].chain;
+        pl->poles[k].physical = (pl->chain_len[c] >= run || pl->taken_chain[c]) &&
                                 pl->poles[k].contribution >= o->stab_min_share;
+    }
 }
 
 /* ------------------------------------------------------------------ */
@@ -1073,7 +1089,8 @@ el_status el_subspace_replicate_solve(const el_subspace_plan *pl, const double *
                                       size_t order, double *a_out, double *mu_re,
                                       double *mu_im, double *work, el_error *err)
 {
-    if (pl == NULL || sum == NULL || work == NULL || order == 0 || order > pl->nmax)
+    if (pl == NULL || sum == NULL || work == NULL || order == 0 || order > pl->nmax ||
+        !pl->executed)
         return el_error_set(err, EL_ERR_INTERNAL, "el_subspace_replicate_solve: bad arguments");
     size_t hp = pl->hp, nv = pl->nmax, rows = (pl->h - 1) * pl->p;
     double cnt = sum[0];

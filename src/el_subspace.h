@@ -18,10 +18,16 @@
  * constant offset such as a transient's fixed point minus the window mean
  * drops out exactly, and no eigenvalue appears at 1 for it). Lag 0 never
  * enters H (the closest future/past samples are one step apart), so white
- * sensor noise does not bias it. SVD H = U S V'; for order n the
- * observability matrix O = U_n S_n^(1/2), C = its first block row, and A
- * from shift invariance by least squares over h - 1 block rows:
- * A = O_up^+ O_down (Householder QR, LAPACK dgels; no pivoting). */
+ * sensor noise does not bias it. Weighting (default: canonical variate
+ * analysis, CVA): W1 = Sff^-1/2, W2 = Spp^-1/2 with Sff, Spp the centred
+ * Grams (1/m) sum (f - fbar)(f - fbar)' and the same for the past
+ * (pseudo-inverse roots: eigenvalues below 1e-10 of the largest are
+ * dropped); unweighted: W1 = W2 = I. SVD W1 H W2 = U S V' (with CVA the
+ * singular values are the canonical correlations of future and past); for
+ * order n the observability matrix O = W1^-1 U_n S_n^(1/2), C = its first
+ * block row, and A from shift invariance by least squares over h - 1
+ * block rows: A = O_up^+ O_down (Householder QR, LAPACK dgels; no
+ * pivoting). All orders come from the one SVD (nested columns of O). */
 #ifndef EL_SUBSPACE_H
 #define EL_SUBSPACE_H
 
@@ -119,7 +125,8 @@ typedef struct {
     const double *channel_mean;    /* p */
     const double *channel_scale;   /* p: standard deviations */
     size_t n_singular;             /* h p */
-    const double *singular;        /* of H, descending */
+    const double *singular;        /* of W1 H W2, descending (CVA: the canonical
+                                      correlations of future and past) */
     size_t max_order;              /* stabilisation ran for orders 1 .. max_order */
     size_t order;                  /* chosen (0: no persistent mode found and
                                       no order given: a, c are empty) */
@@ -154,14 +161,24 @@ el_status el_subspace_plan_create(size_t n_channels, size_t max_samples,
 void el_subspace_plan_destroy(el_subspace_plan *plan);
 
 /* Identifies the model of series (n_channels as the plan, n_samples <=
- * the plan's and >= 2 h + 1): scales the channels, accumulates H, its SVD,
- * the models of orders 1 .. max_order with their poles, the stabilisation
- * labels, the order (opt->order, or automatic: the smallest order at which
- * the largest number of physical chains is present at once; 0 when no
- * chain is physical) and that order's A and C. opt NULL = defaults (only
- * the order and stab_* fields are read). Keeps the scaled data and the
- * leading right singular vectors V (hp x max_order) for
- * el_subspace_block_sums. Errors: EL_ERR_INTERNAL for NULL or mismatched
+ * the plan's and >= 2 h + 1): scales the channels, accumulates H (and the
+ * Grams for CVA), the SVD, the models of orders 1 .. max_order with their
+ * poles, the stabilisation labels, the order (opt->order, or automatic:
+ * the smallest order at which the largest number of physical poles is
+ * present at once; 0 when no pole is physical: no model from nothing) and
+ * that order's A and C. Stabilisation: a pole of order n is stable when a
+ * pole of order n - 1 of the same kind (pair or real) matches it within
+ * stab_freq_rel in natural frequency, max(stab_damp_rel relative,
+ * stab_damp_abs) in damping ratio and stab_mac_min in MAC of the scaled
+ * shapes (one to one, nearest frequency first); matched poles form
+ * chains; a pole is physical when its chain spans >= stab_min_run orders
+ * (or reaches the last order that has a model when the orders above it
+ * have none: exact data) and its modal contribution (the Frobenius norm of its part of H in the
+ * scaled channels, as a share of its order's total) is >= stab_min_share.
+ * opt NULL = defaults (the horizon fields are not read: the plan has the
+ * horizon). Keeps the scaled data, the weights and the projection of the
+ * past V2 = W2 V_n (hp x max_order, V the leading right singular vectors)
+ * for el_subspace_block_sums. Errors: EL_ERR_INTERNAL for NULL or mismatched
  * arguments; EL_ERR_DATA for a constant or non-finite channel;
  * EL_ERR_USAGE (option "--order") for an order above max_order;
  * EL_ERR_NUMERIC when LAPACK fails or the order's shift equations are
@@ -176,8 +193,8 @@ size_t el_subspace_sum_doubles(const el_subspace_plan *plan);
 
 /* The bootstrap's additive features over the windows t_begin <= w < t_end
  * (window w is t = h + w; 0 <= t_begin <= t_end <= n_windows of the last
- * execute), with g_w = V' p_w (V: the leading max_order right singular
- * vectors of the point H, p_w the scaled past): sum[0] = count, then
+ * execute), with g_w = V2' p_w (V2 = W2 V of el_subspace_execute, p_w the
+ * scaled past, in the plan's internal row order): sum[0] = count, then
  * sum f_w (hp), then sum g_w (n_v), then sum f_w g_w' (hp x n_v,
  * column-major). Adding the records of several runs gives the record of
  * their union (with weights: a weighted sum), so a block bootstrap sums
@@ -192,18 +209,20 @@ size_t el_subspace_replicate_work(const el_subspace_plan *plan);
 
 /* A replicate's model of the given order (1 <= order <= max_order) from a
  * (weighted) sum of block-sum records: the centred cross-product
- * Hv = (S_fg - sum_f sum_g' / count) / count (= H V over those windows),
- * its SVD U S W', O = U_n S_n^(1/2), A = O_up^+ O_down, and A's
- * eigenvalues. With the records of all windows once this is the point
- * estimate (H V = U S on the point data: same singular values and
- * vectors up to sign, so the same A up to a diagonal sign similarity and
- * the same eigenvalues to rounding). Outputs: a (order x order,
- * column-major), mu_re and mu_im (order each, dgeev order); each may be
+ * Hv = (S_fg - sum_f sum_g' / count) / count (= H W2 V over those
+ * windows), the SVD of W1 Hv = U S W' (the point estimate's weights, kept
+ * fixed across replicates), O = W1^-1 U_n S_n^(1/2), A = O_up^+ O_down,
+ * and A's eigenvalues. With the records of all windows once this is the
+ * point estimate (W1 H W2 V = U S on the point data: the same singular
+ * values and vectors up to sign, so the same A up to a diagonal sign
+ * similarity and the same eigenvalues to rounding). Outputs: a (order x
+ * order, column-major), mu_re and mu_im (order each, dgeev order); each may be
  * NULL. work: el_subspace_replicate_work(plan) doubles (caller-owned, so
  * threads may share one plan with their own work). Returns EL_OK;
  * EL_ERR_INTERNAL for bad arguments; EL_ERR_NUMERIC when the count is not
  * positive, LAPACK fails or the shift equations are rank deficient (the
- * replicate is then dropped). err may be NULL (hot loop). */
+ * replicate is then dropped); EL_ERR_INTERNAL also before any execute.
+ * err may be NULL (hot loop). */
 el_status el_subspace_replicate_solve(const el_subspace_plan *plan, const double *sum,
                                       size_t order, double *a, double *mu_re,
                                       double *mu_im, double *work, el_error *err);
