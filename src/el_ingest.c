@@ -8,11 +8,19 @@
 #include <stdarg.h>
 #include <stdlib.h>
 #include <string.h>
+#include <unistd.h>
 
+#include "el_chunks.h"
 #include "el_number.h"
 #include "el_source.h"
 #include "el_text.h"
 #include "el_timefmt.h"
+
+/* A mapped file is read by several threads only when each gets at least
+ * this many bytes: below, starting threads costs more than it saves. */
+#define MIN_CHUNK_BYTES ((size_t)1 << 20)
+/* At most this many parts (el_chunks runs at most 16 threads). */
+#define MAX_CHUNKS 16
 
 /* How much of an offending cell an error message quotes. */
 #define CELL_SHOW_MAX 40
@@ -51,6 +59,16 @@ typedef struct {
 
 enum { TIME_UNKNOWN, TIME_NUMBER, TIME_ISO };
 
+/* One part of a mapped file read on the fast path by a thread of its own
+ * into a block of its own (column-major, cap rows per column). */
+typedef struct {
+    const char *begin, *end;  /* begin at a line start, end after a '\n' */
+    double *values;
+    size_t cap, rows;
+    const char *stop;         /* where the fast path stopped (end: all read) */
+    int failed;               /* 1: no memory (the part is read again) */
+} row_chunk;
+
 typedef struct {
     el_source rd;
     const char *name;
@@ -77,6 +95,11 @@ typedef struct {
     el_error skip_error;      /* the error the first skipped text cell would have
                                  been: given when no number column is left */
     int skipped_any;
+    size_t first_row_bytes;   /* length of the first data row (size estimates) */
+    size_t threads;           /* el_ingest_options.threads, 0 resolved */
+    int chunks_tried;         /* 1: the parallel read was considered */
+    row_chunk chunks[MAX_CHUNKS]; /* parts 1..n_chunks-1 (part 0 is the table's) */
+    size_t n_chunks, next_chunk;
 } ingest;
 
 enum { COL_UNKNOWN, COL_NUMBER, COL_TEXT };
@@ -689,14 +712,28 @@ static el_status read_header(ingest *g, const el_ingest_options *opt)
 /* ------------------------------------------------------------------ */
 /* Data rows                                                          */
 
+/* Rows a mapped file will give, from its size and the first row's bytes
+ * (+1/8 as margin for rows that grow longer): the columns are allocated
+ * once instead of moved at every doubling. Streams start small. */
+static size_t estimate_rows(const ingest *g, size_t first_row_bytes)
+{
+    if (!g->rd.mapped)
+        return 256;
+    size_t left = g->rd.end - g->rd.beg + first_row_bytes + 1;
+    size_t rows = left / (first_row_bytes + 1);
+    return rows + rows / 8 + 256;
+}
+
 /* Makes room for one more row: the column-major block keeps a capacity of
- * cap rows per column and is reshaped in place when it doubles. */
-static el_status grow_rows(ingest *g)
+ * cap rows per column and is reshaped in place when it doubles.
+ * first_row_bytes: the length of the row about to be stored (used for the
+ * first allocation only). */
+static el_status grow_rows(ingest *g, size_t first_row_bytes)
 {
     el_table *t = g->t;
     if (t->n_rows < g->cap_rows)
         return EL_OK;
-    size_t cap = g->cap_rows ? 2 * g->cap_rows : 256;
+    size_t cap = g->cap_rows ? 2 * g->cap_rows : estimate_rows(g, first_row_bytes);
     size_t ncol = g->n_columns;
     if (cap > SIZE_MAX / sizeof(double) / ncol)
         return no_memory(g);
@@ -807,7 +844,9 @@ static el_status parse_row(ingest *g, const record *r, size_t n_fields)
 {
     if (n_fields != g->n_columns)
         return ragged(g, r, n_fields);
-    el_status st = grow_rows(g);
+    if (g->t->n_rows == 0)
+        g->first_row_bytes = r->length;
+    el_status st = grow_rows(g, r->length);
     if (st != EL_OK)
         return st;
     el_table *t = g->t;
@@ -871,13 +910,275 @@ static el_status parse_row(ingest *g, const record *r, size_t n_fields)
     return EL_OK;
 }
 
+/* The fused fast path. A row of plain numbers (the common case of a
+ * logger's export) is read in one pass: the number scan's stop byte says
+ * whether the cell ends at the delimiter, the line end or something else.
+ * Anything else (quotes, blanks, missing or text cells, comments, blank
+ * lines, a ragged row, an ISO time, a number the scan refuses) leaves the
+ * row untouched for the general reader (next_record, split_record,
+ * parse_row), which then gives the same values or the same error it
+ * always gave: the fast path stores only what parse_row would store. */
+
+/* 1 when rows may take the fast path: the first row decided the time
+ * column holds numbers and every other column holds numbers (parse_row
+ * then only calls el_number_parse on each trimmed cell). */
+static int fast_rows_ok(const ingest *g)
+{
+    if (g->time_kind != TIME_NUMBER || g->n_columns == 0)
+        return 0;
+    for (size_t c = 0; c < g->n_columns; c++)
+        if (c != g->t->time_column && g->col_kind[c] != COL_NUMBER)
+            return 0;
+    return 1;
+}
+
+/* Reads the row of n numbers at p (a '\n' lies at or after p before lim)
+ * into dst[0], dst[stride], ... and returns the byte after its line end,
+ * or NULL when the row needs the general reader (dst then holds junk that
+ * no row count covers). *decimal as in el_number_parse, decided by the
+ * first separator met. Touches nothing else: threads call it. */
+static const char *scan_row(const char *p, const char *lim, size_t n, char delim,
+                            char *decimal, double *dst, size_t stride)
+{
+    char dec = *decimal;
+    for (size_t c = 0; c < n; c++, dst += stride) {
+        char point;
+        const char *e = el_number_scan(p, lim, dec, delim, dst, &point);
+        if (e == NULL)
+            return NULL;
+        if (c + 1 < n) {
+            if (*e != delim)
+                return NULL;
+        } else if (*e != '\n') {
+            if (*e != '\r' || e[1] != '\n')
+                return NULL;
+            e++;
+        }
+        /* The first separator decides, cell by cell as parse_row does. */
+        if (point != 0 && dec == 0)
+            dec = point;
+        p = e + 1;
+    }
+    *decimal = dec;
+    return p;
+}
+
+/* scan_row into row t->n_rows of the table (capacity reserved). */
+static const char *fast_row(ingest *g, const char *p, const char *lim)
+{
+    el_table *t = g->t;
+    size_t row = t->n_rows;
+    p = scan_row(p, lim, g->n_columns, g->delim, &g->decimal, t->values + row, g->cap_rows);
+    if (p == NULL)
+        return NULL;
+    t->source_line[row] = g->rd.line;
+    t->n_rows++;
+    return p;
+}
+
+/* Reads rows on the fast path from the source's unconsumed bytes up to
+ * its last complete line, until a row needs the general reader. */
+static el_status fast_rows(ingest *g)
+{
+    el_source *rd = &g->rd;
+    if (rd->beg >= rd->end || !fast_rows_ok(g))
+        return EL_OK;
+    /* The last line end is near the end: a short backward search. */
+    const char *first = rd->buf + rd->beg, *lim = rd->buf + rd->end, *stop = lim;
+    while (stop > first && stop[-1] != '\n')
+        stop--;
+    if (stop == first)
+        return EL_OK;
+    /* Not past a part being read by another thread: it is taken there. */
+    if (g->next_chunk < g->n_chunks && g->chunks[g->next_chunk].begin < stop)
+        stop = g->chunks[g->next_chunk].begin;
+    const char *p = rd->buf + rd->beg;
+    while (p < stop) {
+        if (g->t->n_rows == g->cap_rows) {
+            el_status st = grow_rows(g, 0);
+            if (st != EL_OK)
+                return st;
+        }
+        const char *next = fast_row(g, p, lim);
+        if (next == NULL)
+            break;
+        p = next;
+        rd->line++;
+    }
+    rd->beg = (size_t)(p - rd->buf);
+    return EL_OK;
+}
+
+/* ------------------------------------------------------------------ */
+/* Parts of a mapped file read by several threads                     */
+
+/* Grows a part's block to twice its rows per column (columns moved up). */
+static int grow_chunk(row_chunk *k, size_t n_columns)
+{
+    size_t cap = 2 * k->cap;
+    if (cap > SIZE_MAX / sizeof(double) / n_columns)
+        return 0;
+    double *v = realloc(k->values, cap * n_columns * sizeof *v);
+    if (v == NULL)
+        return 0;
+    for (size_t c = n_columns; c-- > 1;)
+        memmove(v + c * cap, v + c * k->cap, k->rows * sizeof *v);
+    k->values = v;
+    k->cap = cap;
+    return 1;
+}
+
+/* Reads part k (>= 1) on the fast path into its own block until its end
+ * or the first row the fast path does not take. Only reads g. */
+static void read_chunk(const ingest *g, row_chunk *k)
+{
+    size_t n = g->n_columns;
+    size_t per_row = g->first_row_bytes + 1;
+    k->cap = (size_t)(k->end - k->begin) / per_row;
+    k->cap += k->cap / 8 + 256;
+    k->values = k->cap <= SIZE_MAX / sizeof(double) / n ? malloc(k->cap * n * sizeof(double))
+                                                        : NULL;
+    const char *p = k->begin, *lim = g->rd.buf + g->rd.end;
+    k->failed = k->values == NULL;
+    char decimal = g->decimal;
+    while (!k->failed && p < k->end) {
+        if (k->rows == k->cap && !grow_chunk(k, n)) {
+            k->failed = 1;
+            break;
+        }
+        const char *next = scan_row(p, lim, n, g->delim, &decimal, k->values + k->rows, k->cap);
+        if (next == NULL)
+            break;
+        p = next;
+        k->rows++;
+    }
+    k->stop = p;
+}
+
+typedef struct {
+    ingest *g;
+    el_status status; /* of part 0 */
+} chunk_run;
+
+static void run_chunk(void *ctx, size_t chunk, size_t slot)
+{
+    (void)slot;
+    chunk_run *run = ctx;
+    if (chunk == 0)
+        run->status = fast_rows(run->g); /* stops at part 1's begin */
+    else
+        read_chunk(run->g, &run->g->chunks[chunk - 1]);
+}
+
+/* Once, when the rows after the first are plain numbers of a mapped file
+ * with the decimal separator decided: splits the rest at line ends into
+ * parts of at least MIN_CHUNK_BYTES, one per thread, and reads them all
+ * on the fast path at once (part 0 into the table, the others into
+ * blocks of their own that take_chunks appends in order). A part whose
+ * text holds a quote, a comment or anything else the fast path does not
+ * take simply stops there; the sequential reader goes on from there. */
+static el_status read_in_parts(ingest *g)
+{
+    el_source *rd = &g->rd;
+    if (g->chunks_tried || !rd->mapped || g->decimal == 0 || !fast_rows_ok(g))
+        return EL_OK;
+    g->chunks_tried = 1;
+    size_t left = rd->end - rd->beg;
+    size_t parts = left / MIN_CHUNK_BYTES;
+    parts = parts < g->threads ? parts : g->threads;
+    parts = parts < MAX_CHUNKS + 1 ? parts : MAX_CHUNKS + 1;
+    if (parts < 2)
+        return EL_OK;
+    const char *base = rd->buf + rd->beg, *end = rd->buf + rd->end;
+    size_t n = 0;
+    for (size_t j = 1; j < parts; j++) {
+        const char *at = base + left / parts * j;
+        const char *nl = memchr(at, '\n', (size_t)(end - at));
+        if (nl == NULL || nl + 1 >= end || (n > 0 && nl + 1 <= g->chunks[n - 1].begin))
+            break;
+        g->chunks[n] = (row_chunk){nl + 1, NULL, NULL, 0, 0, NULL, 0};
+        n++;
+    }
+    for (size_t j = 0; j < n; j++) {
+        /* A part ends after the last line end before the next part (the
+         * last part: before the end of the file's last full line). */
+        const char *e = j + 1 < n ? g->chunks[j + 1].begin : end;
+        while (e > g->chunks[j].begin && e[-1] != '\n')
+            e--;
+        g->chunks[j].end = e;
+    }
+    g->n_chunks = n;
+    g->next_chunk = 0;
+    if (n == 0)
+        return EL_OK;
+    chunk_run run = {g, EL_OK};
+    el_chunks_run(n + 1, n + 1, run_chunk, &run);
+    return run.status;
+}
+
+/* Appends the parts the sequential reader has reached: a part is taken
+ * when the reader stands exactly at its first byte (a record starts
+ * there) and the state its rows were read with still holds; then its
+ * rows are the rows the reader would have read. A part the reader went
+ * past (a quoted line end, a skipped line) or whose state changed is
+ * dropped and read again the ordinary way. */
+static el_status take_chunks(ingest *g)
+{
+    el_source *rd = &g->rd;
+    el_table *t = g->t;
+    while (g->next_chunk < g->n_chunks) {
+        row_chunk *k = &g->chunks[g->next_chunk];
+        const char *at = rd->buf + rd->beg;
+        if (at < k->begin)
+            return EL_OK;
+        if (at == k->begin && !k->failed && fast_rows_ok(g) && k->rows > 0) {
+            while (g->cap_rows - t->n_rows < k->rows) {
+                size_t had = t->n_rows;
+                t->n_rows = g->cap_rows; /* grow_rows grows a full block */
+                el_status st = grow_rows(g, 0);
+                t->n_rows = had;
+                if (st != EL_OK)
+                    return st;
+            }
+            for (size_t c = 0; c < g->n_columns; c++)
+                memcpy(t->values + c * g->cap_rows + t->n_rows, k->values + c * k->cap,
+                       k->rows * sizeof *t->values);
+            for (size_t i = 0; i < k->rows; i++)
+                t->source_line[t->n_rows + i] = rd->line + (long)i;
+            t->n_rows += k->rows;
+            rd->line += (long)k->rows;
+            rd->beg = (size_t)(k->stop - rd->buf);
+        }
+        free(k->values);
+        k->values = NULL;
+        g->next_chunk++;
+    }
+    return EL_OK;
+}
+
+/* Frees the blocks of parts not taken (after an error). */
+static void free_chunks(ingest *g)
+{
+    for (size_t j = 0; j < g->n_chunks; j++) {
+        free(g->chunks[j].values);
+        g->chunks[j].values = NULL;
+    }
+}
+
 static el_status read_rows(ingest *g)
 {
     for (;;) {
         record r;
         int found;
         size_t n;
-        el_status st = next_record(g, &r, &found);
+        el_status st = read_in_parts(g);
+        if (st == EL_OK)
+            st = take_chunks(g);
+        if (st == EL_OK)
+            st = fast_rows(g);
+        if (st != EL_OK)
+            return st;
+        st = next_record(g, &r, &found);
         if (st != EL_OK)
             return st;
         if (!found)
@@ -962,7 +1263,7 @@ typedef struct {
 /* Reads one stream into *table, every column kept (text columns as NaN),
  * times as written. */
 static el_status read_one(FILE *stream, const char *name, const el_ingest_options *opt,
-                          el_table *table, file_info *info, el_error *err)
+                          size_t threads, el_table *table, file_info *info, el_error *err)
 {
     memset(table, 0, sizeof *table);
     memset(info, 0, sizeof *info);
@@ -975,6 +1276,11 @@ static el_status read_one(FILE *stream, const char *name, const el_ingest_option
     g.t = table;
     if (opt != NULL && (opt->decimal == '.' || opt->decimal == ','))
         g.decimal = opt->decimal;
+    g.threads = threads;
+    if (g.threads == 0) {
+        long cores = sysconf(_SC_NPROCESSORS_ONLN);
+        g.threads = cores > 0 ? (size_t)cores : 1;
+    }
     el_status st = el_source_start(&g.rd);
     if (st == EL_OK)
         st = read_header(&g, opt);
@@ -996,6 +1302,7 @@ static el_status read_one(FILE *stream, const char *name, const el_ingest_option
         st = decide_time_unit(&g, opt);
     table->decimal = g.decimal ? g.decimal : '.';
     info->header_line = g.header_line;
+    free_chunks(&g);
     el_source_close(&g.rd);
     free(g.spans);
     free(g.scratch);
@@ -1012,9 +1319,9 @@ static el_status read_one(FILE *stream, const char *name, const el_ingest_option
     return EL_OK;
 }
 
-el_status el_table_read_stream(FILE *stream, const char *name,
-                               const el_ingest_options *opt, el_table *table,
-                               el_error *err)
+/* el_table_read_stream with a thread count (el_table_read_threads). */
+static el_status read_stream(FILE *stream, const char *name, const el_ingest_options *opt,
+                             size_t threads, el_table *table, el_error *err)
 {
     el_error local;
     if (err == NULL)
@@ -1023,7 +1330,8 @@ el_status el_table_read_stream(FILE *stream, const char *name,
     if (table == NULL || stream == NULL)
         return el_error_set(err, EL_ERR_INTERNAL, "el_table_read_stream: NULL argument");
     file_info info;
-    el_status st = read_one(stream, name != NULL ? name : "<stream>", opt, table, &info, err);
+    el_status st = read_one(stream, name != NULL ? name : "<stream>", opt, threads, table, &info,
+                            err);
     if (st != EL_OK)
         return st;
     table->n_sources = 1;
@@ -1032,6 +1340,13 @@ el_status el_table_read_stream(FILE *stream, const char *name,
     if (st != EL_OK)
         el_table_free(table);
     return st;
+}
+
+el_status el_table_read_stream(FILE *stream, const char *name,
+                               const el_ingest_options *opt, el_table *table,
+                               el_error *err)
+{
+    return read_stream(stream, name, opt, 0, table, err);
 }
 
 static el_status open_log(const char *path, FILE **fp, el_error *err)
@@ -1053,8 +1368,8 @@ static el_status open_log(const char *path, FILE **fp, el_error *err)
     return EL_ERR_IO;
 }
 
-el_status el_table_read(const char *path, const el_ingest_options *opt,
-                        el_table *table, el_error *err)
+el_status el_table_read_threads(const char *path, const el_ingest_options *opt,
+                                size_t threads, el_table *table, el_error *err)
 {
     if (path == NULL || table == NULL)
         return el_error_set(err, EL_ERR_INTERNAL, "el_table_read: NULL argument");
@@ -1064,10 +1379,16 @@ el_status el_table_read(const char *path, const el_ingest_options *opt,
     if (st != EL_OK)
         return st;
     int is_stdin = fp == stdin;
-    st = el_table_read_stream(fp, is_stdin ? "<stdin>" : path, opt, table, err);
+    st = read_stream(fp, is_stdin ? "<stdin>" : path, opt, threads, table, err);
     if (!is_stdin)
         fclose(fp);
     return st;
+}
+
+el_status el_table_read(const char *path, const el_ingest_options *opt,
+                        el_table *table, el_error *err)
+{
+    return el_table_read_threads(path, opt, 0, table, err);
 }
 
 /* ------------------------------------------------------------------ */
@@ -1109,7 +1430,7 @@ el_status el_table_read_files(const char *const *paths, size_t n_paths,
         if ((st = open_log(paths[i], &fp, err)) != EL_OK)
             break;
         int is_stdin = fp == stdin;
-        st = read_one(fp, is_stdin ? "<stdin>" : paths[i], opt, &parts[i], &info, err);
+        st = read_one(fp, is_stdin ? "<stdin>" : paths[i], opt, 0, &parts[i], &info, err);
         if (!is_stdin)
             fclose(fp);
         lines[i] = info.text_line;

@@ -83,6 +83,15 @@ el_status el_table_read_files(const char *const *paths, size_t n_paths,
 el_status el_table_read(const char *path, const el_ingest_options *opt,
                         el_table *table, el_error *err);
 
+/* As el_table_read with a thread count for the rows of a large regular
+ * file (mapped; at least 1 MiB per thread): 0 = one per online core (what
+ * el_table_read and el_table_read_stream use), 1 = none. The table is the
+ * same whatever the count: a part read by a thread is taken only where
+ * the sequential reader stands at its first byte with the same state, so
+ * its rows are the rows the sequential reader would have read. */
+el_status el_table_read_threads(const char *path, const el_ingest_options *opt,
+                                size_t threads, el_table *table, el_error *err);
+
 /* As el_table_read, from an open stream; name is used in messages. The
  * stream is read to its end and not closed. */
 el_status el_table_read_stream(FILE *stream, const char *name,

@@ -19,6 +19,20 @@ enum { EL_NUM_OK, EL_NUM_SYNTAX, EL_NUM_RANGE };
  * value below the smallest subnormal rounds as strtod does (to 0). */
 int el_number_parse(const char *s, size_t n, char *decimal, char delim, double *out);
 
+/* The scan of the fused row reader: reads the longest plain decimal at s
+ * ([+-]digits[sep digits][(e|E)[+-]digits], sep as in el_number_parse
+ * with decimal and delim; decimal 0 = not decided) and returns the first
+ * byte after it (the caller decides whether that byte ends the cell), with
+ * *out the value el_number_parse gives for exactly s[0..returned) (bit for
+ * bit: the same fast path, else el_number_parse itself) and *point_out the
+ * separator met (0: none; the caller records the decision). NULL when no
+ * number starts at s, an exponent has no digits, or the value is out of
+ * range: the caller then reads the cell the slow way. Reads bytes from s
+ * up to the first that is not part of a number, so s's text must hold such
+ * a byte (a line end); bytes before lim may be loaded 8 at a time. */
+const char *el_number_scan(const char *s, const char *lim, char decimal, char delim,
+                           double *out, char *point_out);
+
 /* 1 when the trimmed cell s[0..n) is a missing value: empty, NA or NaN in
  * any case; else 0. */
 int el_number_is_missing(const char *s, size_t n);

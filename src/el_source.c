@@ -1,10 +1,14 @@
-/* el_source: the bytes of a log, read chunk by chunk from a stream and
- * decompressed on the fly when they are gzip data. */
+/* el_source: the bytes of a log: a regular file mapped into memory whole,
+ * else read chunk by chunk from a stream and decompressed on the fly when
+ * they are gzip data. */
 #include "el_source.h"
 
 #include <errno.h>
+#include <stdint.h>
 #include <stdlib.h>
 #include <string.h>
+#include <sys/mman.h>
+#include <sys/stat.h>
 #include <zlib.h>
 
 /* Bytes asked of the stream per read. The buffer holds the unconsumed part
@@ -27,7 +31,11 @@ void el_source_close(el_source *src)
 {
     if (src == NULL)
         return;
-    free(src->buf);
+    if (src->mapped)
+        munmap(src->buf, src->cap);
+    else
+        free(src->buf);
+    src->mapped = 0;
     free(src->raw);
     if (src->z != NULL) {
         inflateEnd(src->z);
@@ -191,6 +199,10 @@ static el_status raw_read(el_source *rd, char *dst, size_t want, size_t *got)
 /* Moves the unconsumed bytes to the front and reads one more chunk. */
 el_status el_source_refill(el_source *rd)
 {
+    if (rd->mapped) {
+        rd->eof = 1; /* the whole file is there already */
+        return EL_OK;
+    }
     if (rd->beg > 0) {
         memmove(rd->buf, rd->buf + rd->beg, rd->end - rd->beg);
         rd->end -= rd->beg;
@@ -215,12 +227,64 @@ el_status el_source_refill(el_source *rd)
     return EL_OK;
 }
 
+/* Old Mac exports end lines with a lone CR: read as one giant line, such
+ * a file gives a baffling error, so its CRs become line ends. Decided on
+ * the first chunk text[beg, n): its first CR comes before any LF and is
+ * not followed by one. */
+static int cr_only_text(const char *text, size_t beg, size_t n)
+{
+    const char *cr = memchr(text + beg, '\r', n - beg);
+    const char *lf = memchr(text + beg, '\n', n - beg);
+    return cr != NULL && (lf == NULL || cr < lf) && (cr + 1 == text + n || cr[1] != '\n');
+}
+
+/* Maps a regular file that is neither gzip data nor a CR-only text whole
+ * (read-only, private): the bytes are read where the page cache holds
+ * them, with no copy and no chunk bookkeeping. Anything else (pipes,
+ * stdin from a terminal, a stream already partly read, gzip, an empty
+ * file, a failed mmap) keeps the streaming reader: returns 0 and leaves
+ * the stream untouched. CR-only files stream because their CRs are
+ * rewritten as read, which a read-only map cannot take. A file cut short
+ * while mapped would fault; a log being appended to is read up to the
+ * size it had here, as the streaming reader would read a snapshot. */
+static int try_map(el_source *rd)
+{
+    int fd = fileno(rd->stream);
+    struct stat sb;
+    if (fd < 0 || fstat(fd, &sb) != 0 || !S_ISREG(sb.st_mode) || sb.st_size <= 0 ||
+        (uintmax_t)sb.st_size > (uintmax_t)SIZE_MAX || ftello(rd->stream) != 0)
+        return 0;
+    size_t size = (size_t)sb.st_size;
+    void *map = mmap(NULL, size, PROT_READ, MAP_PRIVATE, fd, 0);
+    if (map == MAP_FAILED)
+        return 0;
+    const unsigned char *p = map;
+    size_t bom = size >= 3 && p[0] == 0xEF && p[1] == 0xBB && p[2] == 0xBF ? 3 : 0;
+    if ((size >= 2 && p[0] == 0x1f && p[1] == 0x8b) ||
+        cr_only_text(map, bom, size < READ_CHUNK ? size : READ_CHUNK)) {
+        munmap(map, size);
+        return 0;
+    }
+    /* Read-ahead of the whole file: the reader goes through it once. */
+    posix_madvise(map, size, POSIX_MADV_SEQUENTIAL);
+    rd->buf = map;
+    rd->cap = size;
+    rd->beg = 0;
+    rd->end = size;
+    rd->eof = 1;
+    rd->mapped = 1;
+    rd->started = 1;
+    rd->raw_eof = 1;
+    return 1;
+}
+
 /* Fills the first chunk, skips a UTF-8 byte-order mark and refuses data
  * that is not text: a NUL byte or a control character other than tab, CR
  * and LF within the first bytes means a binary or UTF-16 file, which would
  * otherwise produce confusing errors about cells. */
 el_status el_source_start(el_source *rd)
 {
+    try_map(rd);
     while (!rd->eof && rd->end < SNIFF_BYTES) {
         el_status st = el_source_refill(rd);
         if (st != EL_OK)
@@ -231,11 +295,9 @@ el_status el_source_start(el_source *rd)
     if (n >= 3 && p[0] == 0xEF && p[1] == 0xBB && p[2] == 0xBF)
         rd->beg = 3;
     int utf16 = n >= 2 && ((p[0] == 0xFF && p[1] == 0xFE) || (p[0] == 0xFE && p[1] == 0xFF));
-    /* Old Mac exports end lines with a lone CR: read as one giant line,
-     * such a file gives a baffling error, so its CRs become line ends. */
-    const char *cr = memchr(rd->buf + rd->beg, '\r', n - rd->beg);
-    const char *lf = memchr(rd->buf + rd->beg, '\n', n - rd->beg);
-    if (cr != NULL && (lf == NULL || cr < lf) && (cr + 1 == rd->buf + n || cr[1] != '\n')) {
+    /* A mapped file is never CR-only (try_map refused it, deciding on
+     * the same first chunk a stream would have read). */
+    if (!rd->mapped && cr_only_text(rd->buf, rd->beg, n)) {
         rd->cr_only = 1;
         for (char *q = rd->buf + rd->beg; (q = memchr(q, '\r', (size_t)(rd->buf + n - q)));)
             *q++ = '\n';

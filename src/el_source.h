@@ -1,6 +1,6 @@
-/* el_source: the bytes of a log, read chunk by chunk from a stream (file,
- * pipe, stdin) and decompressed on the fly when they are gzip data. The
- * CSV reader (el_ingest) consumes them record by record. */
+/* el_source: the bytes of a log: a regular file mapped whole, else read
+ * chunk by chunk from a stream (pipe, terminal, gzip data decompressed on
+ * the fly). The CSV reader (el_ingest) consumes them record by record. */
 #ifndef EL_SOURCE_H
 #define EL_SOURCE_H
 
@@ -26,6 +26,7 @@ typedef struct {
     long line;          /* 1-based line number of buf[beg] */
     int cr_only;        /* 1: line ends are lone CRs, turned into LFs as read */
     /* Raw bytes from the stream; decompressed from here when gzip. */
+    int mapped;         /* 1: buf is the whole file mapped read-only (eof set) */
     int started;        /* 0 until the first raw bytes were looked at */
     int gz;             /* 1: the stream is gzip data */
     int gz_done;        /* 1: the last gzip member ended */
@@ -39,7 +40,9 @@ typedef struct {
  * owned) must outlive it. Can't fail; nothing is read yet. */
 void el_source_init(el_source *src, FILE *stream, const char *name, el_error *err);
 
-/* Reads the first bytes (at least 4 KiB or all there is), skips a UTF-8
+/* Maps the stream's file whole when it is a regular file at offset 0 that
+ * is neither gzip data nor CR-only text (buf is then read-only, eof set);
+ * else reads the first bytes (at least 4 KiB or all there is). Skips a UTF-8
  * byte-order mark (beg = 3), detects CR-only line ends (turned into LFs
  * from here on) and refuses binary content: EL_ERR_DATA with line and
  * column of the first control byte (NUL, or < 0x20 other than tab, CR,

@@ -397,10 +397,53 @@ char *el_table_format_time(const el_table *table, double t, char *buf, size_t si
 /* ------------------------------------------------------------------ */
 /* Scan                                                               */
 
-static int compare_double(const void *a, const void *b)
+/* The k-th smallest of a[0..n) (k < n; no NaN), found by selection in
+ * linear expected time (Hoare's FIND with a median-of-three pivot): a
+ * moves around, the multiset stays, so the result is the value a full
+ * sort would put at index k. */
+static double select_kth(double *a, size_t n, size_t k)
 {
-    double x = *(const double *)a, y = *(const double *)b;
-    return (x > y) - (x < y);
+    size_t lo = 0, hi = n - 1;
+    while (lo < hi) {
+        size_t mid = lo + (hi - lo) / 2;
+        double x = a[lo], y = a[mid], z = a[hi];
+        double pivot = x < y ? (y < z ? y : (x < z ? z : x)) : (x < z ? x : (y < z ? z : y));
+        size_t i = lo, j = hi;
+        for (;;) {
+            while (a[i] < pivot)
+                i++;
+            while (pivot < a[j])
+                j--;
+            if (i >= j)
+                break;
+            double t = a[i];
+            a[i] = a[j];
+            a[j] = t;
+            i++;
+            j--;
+        }
+        /* a[lo..j] <= pivot <= a[j+1..hi] */
+        if (k <= j)
+            hi = j;
+        else
+            lo = j + 1;
+    }
+    return a[k];
+}
+
+/* Median of a[0..n) (n >= 1, no NaN); reorders a. For even n the mean of
+ * the two middle values: after selecting the upper one, the lower is the
+ * largest of the part below it. */
+static double median_select(double *a, size_t n)
+{
+    size_t h = n / 2;
+    double upper = select_kth(a, n, h);
+    if (n % 2)
+        return upper;
+    double lower = a[0];
+    for (size_t i = 1; i < h; i++)
+        lower = a[i] > lower ? a[i] : lower;
+    return 0.5 * (lower + upper);
 }
 
 static void column_stats(const double *v, size_t n, el_column_stats *s)
@@ -463,16 +506,18 @@ el_status el_scan_table(const el_table *table, el_scan *scan, el_error *err)
         return el_error_set(err, EL_ERR_NOMEM, "out of memory in scan");
     }
     size_t first_back = 0;
+    double lo = INFINITY, hi = -INFINITY;
     for (size_t r = 0; r + 1 < n; r++) {
         steps[r] = t[r + 1] - t[r];
         if (steps[r] <= 0.0 && scan->nonpositive_steps++ == 0)
             first_back = r + 1;
         scan->backward_steps += steps[r] < 0.0;
         scan->repeated_steps += steps[r] == 0.0;
+        lo = steps[r] < lo ? steps[r] : lo;
+        hi = steps[r] > hi ? steps[r] : hi;
     }
-    qsort(steps, n - 1, sizeof *steps, compare_double);
     size_t m = n - 1;
-    double median = m % 2 ? steps[m / 2] : 0.5 * (steps[m / 2 - 1] + steps[m / 2]);
+    double median = median_select(steps, m);
     if (!(median > 0.0)) {
         free(steps);
         free(cols);
@@ -489,8 +534,8 @@ el_status el_scan_table(const el_table *table, el_scan *scan, el_error *err)
     scan->time_first = t[0];
     scan->time_last = t[n - 1];
     scan->dt_median = median;
-    scan->dt_min = steps[0];
-    scan->dt_max = steps[m - 1];
+    scan->dt_min = lo;
+    scan->dt_max = hi;
     for (size_t r = 0; r < m; r++) {
         double dev = fabs(steps[r] - median) / median;
         scan->jitter = dev > scan->jitter ? dev : scan->jitter;
