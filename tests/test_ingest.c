@@ -308,7 +308,18 @@ static void test_numbers_match_strtod(void **state)
         "1.7976931348623157e308", "4.9e-324",  "2.2250738585072014e-308",
         "123456789012345678901234567890",      "0.000000000000000000000000012345",
         "9007199254740993",       "9007199254740992", "1e22", "1e23", "1e-22",
-        "1e-999",  "00012.50",  "-.75",        "1e0400000000000000000000000000"};
+        "1e-999",  "00012.50",  "-.75",
+        /* Halfway cases (ties to even), 17+ digits, subnormals, 8-digit
+         * runs (one SWAR step) and their neighbours (values from the
+         * binary64 format, IEEE 754-2008, worked by hand: 1 + 2^-53 is
+         * 1.00000000000000011102230246251565404236316680908203125). */
+        "1.00000000000000011102230246251565404236316680908203125",
+        "1.00000000000000011102230246251565404236316680908203126",
+        "9007199254740995", "2.4703282292062327e-324", "2.4703282292062328e-324",
+        "2.2250738585072011e-308", "123456789012345678", "1234567890123456789",
+        "12345678901234567890", "12345678", "123456789", "1234567.8", "87654321.12345678",
+        "0.00000001", "99999999999999999999e-20", "4.35679659e-320",
+        "1e0400000000000000000000000000"};
     size_t nfixed = sizeof fixed / sizeof fixed[0] - 1; /* last is an overflow */
     const size_t nrand = 30000;
     size_t cap = 64 * (nfixed + nrand) + 64, n = 0;
@@ -1206,6 +1217,252 @@ static void test_scan_counts_and_tiny_spread(void **state)
     el_table_free(&t);
 }
 
+/* ------------------------------------------------------------------ */
+/* The fused fast path, the mapped file and the threads               */
+
+/* xorshift64 (Marsaglia 2003): test data that is the same on every run. */
+static uint64_t next_random(uint64_t *s)
+{
+    *s ^= *s << 13;
+    *s ^= *s >> 7;
+    *s ^= *s << 17;
+    return *s;
+}
+
+/* One number cell in one of several formats (digits 1..19, exponents,
+ * signs, leading zeros), as loggers and printf write them. */
+static int write_number(char *out, size_t size, uint64_t *seed)
+{
+    uint64_t r = next_random(seed);
+    double u = (double)(r >> 11) / 9007199254740992.0 - 0.5;
+    double v = u * pow(10.0, (double)((int)(r % 13) - 6));
+    switch (r % 7) {
+    case 0: return snprintf(out, size, "%.17g", v);
+    case 1: return snprintf(out, size, "%.6f", v);
+    case 2: return snprintf(out, size, "%.3e", v);
+    case 3: return snprintf(out, size, "%lld", (long long)(v * 1e6));
+    case 4: return snprintf(out, size, "%+.9g", v);
+    case 5: return snprintf(out, size, "%08.3f", fabs(v));
+    default: return snprintf(out, size, "%.4f", 10.0 + v);
+    }
+}
+
+static void assert_same_table(const el_table *a, const el_table *b)
+{
+    assert_int_equal(a->n_rows, b->n_rows);
+    assert_int_equal(a->n_columns, b->n_columns);
+    assert_int_equal(a->time_column, b->time_column);
+    assert_int_equal(a->decimal, b->decimal);
+    assert_memory_equal(a->values, b->values, a->n_rows * a->n_columns * sizeof(double));
+    assert_memory_equal(a->source_line, b->source_line, a->n_rows * sizeof(long));
+    assert_memory_equal(a->missing, b->missing, a->n_columns * sizeof(size_t));
+    for (size_t c = 0; c < a->n_columns; c++)
+        assert_string_equal(a->names[c], b->names[c]);
+    assert_int_equal(a->notes.count, b->notes.count);
+}
+
+/* Rows of plain numbers go through the fused one-pass reader; the same
+ * numbers with a blank after each cell go through the general reader
+ * (split, trim, parse). Both must equal strtod of each cell bit for bit,
+ * for LF and CRLF line ends, read from a mapped file and from a stream
+ * (fmemopen: 64 KiB chunks, rows cut at chunk ends). */
+static void test_fast_path_matches_general_reader(void **state)
+{
+    (void)state;
+    const size_t rows = 20000, cols = 4;
+    size_t cap = rows * cols * 40 + 64;
+    char *plain = malloc(cap), *blank = malloc(cap), *crlf = malloc(cap);
+    double *want = malloc(rows * cols * sizeof *want);
+    assert_true(plain && blank && crlf && want);
+    size_t np = (size_t)sprintf(plain, "t,a,b,c\n"), nb = (size_t)sprintf(blank, "t,a,b,c\n");
+    size_t nc = (size_t)sprintf(crlf, "t,a,b,c\r\n");
+    uint64_t seed = 0x9E3779B97F4A7C15u;
+    for (size_t r = 0; r < rows; r++)
+        for (size_t c = 0; c < cols; c++) {
+            char cell[64];
+            if (c == 0)
+                snprintf(cell, sizeof cell, "%zu.%03zu", r / 1000, r % 1000);
+            else
+                write_number(cell, sizeof cell, &seed);
+            want[c * rows + r] = strtod(cell, NULL);
+            const char *end = c + 1 < cols ? "," : "\n";
+            np += (size_t)sprintf(plain + np, "%s%s", cell, end);
+            nb += (size_t)sprintf(blank + nb, "%s %s", cell, end);
+            nc += (size_t)sprintf(crlf + nc, "%s%s", cell, c + 1 < cols ? "," : "\r\n");
+        }
+    el_table a = {0}, b = {0}, c = {0}, d = {0};
+    el_error e;
+    assert_int_equal(read_bytes(plain, np, NULL, &a, &e), EL_OK);
+    assert_int_equal(read_bytes(blank, nb, NULL, &b, &e), EL_OK);
+    assert_int_equal(read_bytes(crlf, nc, NULL, &c, &e), EL_OK);
+    FILE *fp = fmemopen(plain, np, "r");
+    assert_non_null(fp);
+    assert_int_equal(el_table_read_stream(fp, "test.csv", NULL, &d, &e), EL_OK);
+    fclose(fp);
+    assert_int_equal(a.n_rows, rows);
+    for (size_t i = 0; i < rows * cols; i++)
+        if (memcmp(&a.values[i], &want[i], sizeof want[i]) != 0)
+            fail_msg("row %zu column %zu: got %.17g, strtod %.17g", i % rows, i / rows,
+                     a.values[i], want[i]);
+    assert_same_table(&a, &b);
+    assert_same_table(&a, &c);
+    assert_same_table(&a, &d);
+    el_table_free(&a);
+    el_table_free(&b);
+    el_table_free(&c);
+    el_table_free(&d);
+    free(plain);
+    free(blank);
+    free(crlf);
+    free(want);
+}
+
+/* Writes text to a temporary file and returns its path (caller unlinks). */
+static char *temp_file(const char *text, size_t n)
+{
+    char *path = malloc(64);
+    assert_non_null(path);
+    snprintf(path, 64, "/tmp/test_ingest_XXXXXX");
+    int fd = mkstemp(path);
+    assert_true(fd >= 0);
+    assert_int_equal(write(fd, text, n), (ssize_t)n);
+    close(fd);
+    return path;
+}
+
+/* Reads path with 1, 2, 3, 4, 5 and 8 threads: the tables must be
+ * identical (values bit for bit, source lines, missing counts, notes),
+ * and equal to the table read from a stream. */
+static void assert_same_for_thread_counts(const char *text, size_t n, el_status expect)
+{
+    char *path = temp_file(text, n);
+    el_table one = {0};
+    el_error e1, e;
+    el_status st1 = el_table_read_threads(path, NULL, 1, &one, &e1);
+    if (st1 != expect) {
+        char buf[1200];
+        print_error("%s\n", el_error_format(&e1, buf, sizeof buf));
+    }
+    assert_int_equal(st1, expect);
+    static const size_t counts[] = {2, 3, 4, 5, 8};
+    for (size_t i = 0; i < sizeof counts / sizeof counts[0]; i++) {
+        el_table t = {0};
+        el_status st = el_table_read_threads(path, NULL, counts[i], &t, &e);
+        assert_int_equal(st, st1);
+        if (st == EL_OK) {
+            assert_same_table(&one, &t);
+        } else {
+            assert_string_equal(e.message, e1.message);
+            assert_int_equal(e.line, e1.line);
+            assert_int_equal(e.column, e1.column);
+        }
+        el_table_free(&t);
+    }
+    FILE *fp = fmemopen((void *)text, n, "r");
+    assert_non_null(fp);
+    el_table s = {0};
+    assert_int_equal(el_table_read_stream(fp, path, NULL, &s, &e), st1);
+    fclose(fp);
+    if (st1 == EL_OK)
+        assert_same_table(&one, &s);
+    el_table_free(&s);
+    el_table_free(&one);
+    unlink(path);
+    free(path);
+}
+
+/* A log of several MiB (so that it is cut into parts of >= 1 MiB) read
+ * with several thread counts: plain rows; with comments, blank lines and
+ * NA cells sprinkled in (parts stop there and the reader goes on); with a
+ * quoted cell holding line ends (a part may start inside it: an error
+ * there, the same whatever the count); with a column missing in the first
+ * half (the fast path and the parts start only once it holds numbers);
+ * with a bad cell near the end (the same error whatever the count). */
+static void test_threads_same_table(void **state)
+{
+    (void)state;
+    const size_t rows = 90000;
+    size_t cap = rows * 80 + 256;
+    char *text = malloc(cap);
+    assert_non_null(text);
+    for (int variant = 0; variant < 5; variant++) {
+        uint64_t seed = 12345u + (uint64_t)variant;
+        size_t w = (size_t)sprintf(text, "t [s],a,b,c,d,note\n");
+        for (size_t r = 0; r < rows; r++) {
+            uint64_t x = next_random(&seed);
+            if (variant == 1 && x % 997 == 0)
+                w += (size_t)sprintf(text + w, x % 2 ? "# comment, with 1,2,3\n" : "\n");
+            w += (size_t)sprintf(text + w, "%zu.%03zu", r / 1000, r % 1000);
+            for (int c = 0; c < 4; c++) {
+                text[w++] = ',';
+                if (variant == 1 && (x >> (8 * c)) % 1009 == 0)
+                    w += (size_t)sprintf(text + w, "NA");
+                else
+                    w += (size_t)write_number(text + w, 64, &seed);
+            }
+            text[w++] = ',';
+            if (variant == 2 && r % 20011 == 7)
+                w += (size_t)sprintf(text + w, "\"1,2\n3,4,5,6,7,8\n9\"");
+            else if (variant == 3 && r < rows / 2)
+                w += (size_t)sprintf(text + w, "NA");
+            else
+                w += (size_t)sprintf(text + w, "%d", (int)(x % 3));
+            if (variant == 4 && r == rows - 10)
+                w += (size_t)sprintf(text + w, "x");
+            text[w++] = '\n';
+        }
+        assert_true(w > 4 * ((size_t)1 << 20) && w < cap);
+        assert_same_for_thread_counts(text, w, variant == 2 || variant == 4 ? EL_ERR_DATA : EL_OK);
+    }
+    free(text);
+}
+
+/* The median step by selection equals the middle of the sorted steps
+ * (qsort here), for odd and even counts, with repeated steps. */
+static int compare_steps(const void *a, const void *b)
+{
+    double x = *(const double *)a, y = *(const double *)b;
+    return (x > y) - (x < y);
+}
+
+static void test_median_step_selection(void **state)
+{
+    (void)state;
+    uint64_t seed = 777;
+    for (size_t n = 2; n < 400; n += 1 + n / 7) {
+        double *time = malloc(n * sizeof *time), *steps = malloc(n * sizeof *steps);
+        assert_true(time && steps);
+        char *text = malloc(n * 40 + 16);
+        assert_non_null(text);
+        size_t w = (size_t)sprintf(text, "t,x\n");
+        double t = 0.0;
+        for (size_t r = 0; r < n; r++) {
+            uint64_t x = next_random(&seed);
+            /* Few distinct steps (repeats, ties at the middle), some long. */
+            t += (double)(1 + x % 4) * 0.25 + (x % 17 == 0 ? 3.0 : 0.0);
+            w += (size_t)sprintf(text + w, "%.17g,1\n", t);
+        }
+        el_table tab = {0};
+        el_error e;
+        el_scan s = {0};
+        assert_int_equal(read_text(text, &tab, &e), EL_OK);
+        assert_int_equal(el_scan_table(&tab, &s, &e), EL_OK);
+        for (size_t r = 0; r + 1 < n; r++)
+            steps[r] = tab.values[r + 1] - tab.values[r];
+        qsort(steps, n - 1, sizeof *steps, compare_steps);
+        size_t m = n - 1;
+        double median = m % 2 ? steps[m / 2] : 0.5 * (steps[m / 2 - 1] + steps[m / 2]);
+        assert_close(s.dt_median, median, 0, 0);
+        assert_close(s.dt_min, steps[0], 0, 0);
+        assert_close(s.dt_max, steps[m - 1], 0, 0);
+        el_scan_free(&s);
+        el_table_free(&tab);
+        free(text);
+        free(time);
+        free(steps);
+    }
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -1242,6 +1499,9 @@ int main(void)
         cmocka_unit_test(test_several_files),
         cmocka_unit_test(test_many_columns),
         cmocka_unit_test(test_scan_counts_and_tiny_spread),
+        cmocka_unit_test(test_fast_path_matches_general_reader),
+        cmocka_unit_test(test_threads_same_table),
+        cmocka_unit_test(test_median_step_selection),
     };
     return cmocka_run_group_tests_name("ingest", tests, NULL, NULL);
 }

@@ -1,0 +1,301 @@
+/* el_number: the plain decimal numbers of a log's cells, read exactly
+ * (the correctly rounded double, as strtod gives) without locale. */
+#include "el_number.h"
+
+#include <errno.h>
+#include <float.h>
+#include <math.h>
+#include <stdint.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "el_text.h"
+
+/* Numbers up to this many characters are copied to the stack for strtod;
+ * longer ones (rare: 17 significant digits need 25) to the heap. */
+#define NUMTEXT_STACK 96
+
+static int is_digit(char c)
+{
+    return c >= '0' && c <= '9';
+}
+
+int el_number_is_missing(const char *s, size_t n)
+{
+    return n == 0 || el_text_equals_nocase(s, n, "na") || el_text_equals_nocase(s, n, "nan");
+}
+
+/* Hands the text to strtod (after the syntax check made that safe): a
+ * NUL-terminated copy with a decimal comma made a point. */
+static int parse_strtod(const char *s, size_t n, char point, double *out)
+{
+    char local[NUMTEXT_STACK];
+    char *text = n < sizeof local ? local : malloc(n + 1);
+    if (text == NULL)
+        return EL_NUM_RANGE;
+    memcpy(text, s, n);
+    text[n] = '\0';
+    if (point == ',')
+        *strchr(text, ',') = '.';
+    errno = 0;
+    char *end;
+    double v = strtod(text, &end);
+    int ok = end == text + n && isfinite(v);
+    if (text != local)
+        free(text);
+    if (!ok)
+        return EL_NUM_RANGE;
+    /* Underflow (ERANGE with a tiny result) keeps the nearest value, 0 or
+     * subnormal: a reading that small is zero for every later stage. */
+    *out = v;
+    return EL_NUM_OK;
+}
+
+/* Parses a plain decimal [+-]digits[.digits][(e|E)[+-]digits] spanning all
+ * of s[0..n). Hex, inf, nan and anything else are syntax errors: strtod
+ * alone would accept them. Clinger's fast path gives the correctly rounded
+ * result without strtod when the significand fits in 53 bits and the
+ * power of ten is exact (|e| <= 22): one IEEE operation on exact operands.
+ * Otherwise strtod (which the syntax check has made safe) does the work;
+ * it assumes the C locale's decimal point, the library never changes it. */
+int el_number_parse(const char *s, size_t n, char *decimal, char delim, double *out)
+{
+    static const double pow10[] = {1e0,  1e1,  1e2,  1e3,  1e4,  1e5,  1e6,  1e7,
+                                   1e8,  1e9,  1e10, 1e11, 1e12, 1e13, 1e14, 1e15,
+                                   1e16, 1e17, 1e18, 1e19, 1e20, 1e21, 1e22};
+    size_t i = 0;
+    int negative = 0;
+    if (i < n && (s[i] == '+' || s[i] == '-'))
+        negative = s[i++] == '-';
+    /* Digits accumulate without checks (uint64 wraps, which is defined);
+     * the count of significant digits below says whether mant is exact. */
+    uint64_t mant = 0;
+    size_t first = i;
+    for (; i < n && is_digit(s[i]); i++)
+        mant = mant * 10 + (uint64_t)(s[i] - '0');
+    size_t digits = i - first;
+    long exp10 = 0;
+    char point = 0;
+    if (i < n && (s[i] == *decimal ||
+                  (*decimal == 0 &&
+                   (s[i] == '.' || (s[i] == ',' && delim != ',' && delim != 0))))) {
+        point = s[i];
+        size_t frac = ++i;
+        for (; i < n && is_digit(s[i]); i++)
+            mant = mant * 10 + (uint64_t)(s[i] - '0');
+        digits += i - frac;
+        exp10 = -(long)(i - frac);
+    }
+    if (digits == 0)
+        return EL_NUM_SYNTAX;
+    int exact = 1;
+    if (digits > 19) {
+        size_t zeros = 0;
+        for (size_t k = first; k < i && (s[k] == '0' || s[k] == '.'); k++)
+            zeros += s[k] == '0';
+        exact = digits - zeros <= 19;
+    }
+    if (i < n && (s[i] == 'e' || s[i] == 'E')) {
+        i++;
+        int eneg = 0;
+        if (i < n && (s[i] == '+' || s[i] == '-'))
+            eneg = s[i++] == '-';
+        if (i == n || !is_digit(s[i]))
+            return EL_NUM_SYNTAX;
+        long e = 0;
+        for (; i < n && is_digit(s[i]); i++)
+            if (e < 100000)
+                e = e * 10 + (s[i] - '0');
+        exp10 += eneg ? -e : e;
+    }
+    if (i != n)
+        return EL_NUM_SYNTAX;
+    if (point != 0 && *decimal == 0)
+        *decimal = point;
+#if FLT_EVAL_METHOD == 0
+    if (mant == 0) {
+        *out = negative ? -0.0 : 0.0;
+        return EL_NUM_OK;
+    }
+    if (exact && mant <= ((uint64_t)1 << 53) && exp10 >= -22 && exp10 <= 22) {
+        double v = (double)mant;
+        v = exp10 < 0 ? v / pow10[-exp10] : v * pow10[exp10];
+        *out = negative ? -v : v;
+        return EL_NUM_OK;
+    }
+#else
+    (void)exact;
+    (void)pow10;
+#endif
+    return parse_strtod(s, n, point, out);
+}
+
+/* ------------------------------------------------------------------ */
+/* The fast scan of the fused row reader                              */
+
+#if defined(__BYTE_ORDER__) && __BYTE_ORDER__ == __ORDER_LITTLE_ENDIAN__ && \
+    (defined(__GNUC__) || defined(__clang__))
+#define EL_SWAR 1
+#else
+#define EL_SWAR 0
+#endif
+
+static const uint64_t POW10_U64[] = {1u, 10u, 100u, 1000u, 10000u, 100000u, 1000000u,
+                                     10000000u, 100000000u};
+
+#if EL_SWAR
+/* SWAR ("SIMD within a register"): eight characters in one 64-bit word,
+ * the first character in the lowest byte (little-endian load). */
+static uint64_t load8(const char *p)
+{
+    uint64_t v;
+    memcpy(&v, p, sizeof v);
+    return v;
+}
+
+/* How many of the 8 bytes (from the lowest) are ASCII digits, 0..8. With
+ * d = v ^ '0' in every byte, a digit byte is 0..9: d + 0x76 keeps its top
+ * bit clear exactly then, and d's own top bit catches bytes >= 0x80. A
+ * carry out of a byte only reaches bytes above the first non-digit, so
+ * the lowest flagged byte is always right. */
+static unsigned digit_run(uint64_t d)
+{
+    uint64_t m = (d | (d + 0x7676767676767676u)) & 0x8080808080808080u;
+    return m != 0 ? (unsigned)__builtin_ctzll(m) >> 3 : 8u;
+}
+
+/* The value of the first k (1..8) digit bytes of d (digit values 0..9):
+ * shifted up so they become the low digits of an 8-digit number with
+ * leading zeros, then combined pairwise (10a + b), by pairs of pairs (100)
+ * and by halves (10^4) in three multiplications, the usual word-parallel
+ * decimal conversion. */
+static uint64_t digits_value(uint64_t d, unsigned k)
+{
+    d <<= 8 * (8 - k);
+    d = (d * (1 + (10u << 8))) >> 8;
+    d = ((d & 0x00FF00FF00FF00FFu) * (1 + (100u << 16))) >> 16;
+    return ((d & 0x0000FFFF0000FFFFu) * (1 + ((uint64_t)10000 << 32))) >> 32;
+}
+#endif
+
+/* Reads the digits at p into *mant (wrapping, as the exact parser does)
+ * and counts them in *digits; returns the first non-digit. lim: bytes
+ * before it may be loaded eight at a time. */
+static const char *scan_digits(const char *p, const char *lim, uint64_t *mant, size_t *digits)
+{
+#if EL_SWAR
+    while (lim - p >= 8) {
+        uint64_t d = load8(p) ^ 0x3030303030303030u;
+        unsigned k = digit_run(d);
+        if (k == 0)
+            return p;
+        *mant = *mant * POW10_U64[k] + digits_value(d, k);
+        *digits += k;
+        p += k;
+        if (k < 8)
+            return p;
+    }
+#else
+    (void)lim;
+#endif
+    for (; is_digit(*p); p++, (*digits)++)
+        *mant = *mant * 10 + (uint64_t)(*p - '0');
+    return p;
+}
+
+const char *el_number_scan(const char *s, const char *lim, char decimal, char delim,
+                           double *out, char *point_out)
+{
+    static const double pow10[] = {1e0,  1e1,  1e2,  1e3,  1e4,  1e5,  1e6,  1e7,
+                                   1e8,  1e9,  1e10, 1e11, 1e12, 1e13, 1e14, 1e15,
+                                   1e16, 1e17, 1e18, 1e19, 1e20, 1e21, 1e22};
+    const char *p = s;
+    int negative = 0;
+    if (*p == '+' || *p == '-')
+        negative = *p++ == '-';
+    uint64_t mant = 0;
+    size_t digits = 0;
+    p = scan_digits(p, lim, &mant, &digits);
+    long exp10 = 0;
+    char point = 0;
+    if (*p == decimal ||
+        (decimal == 0 && (*p == '.' || (*p == ',' && delim != ',' && delim != 0)))) {
+        point = *p++;
+        const char *frac = p;
+        p = scan_digits(p, lim, &mant, &digits);
+        exp10 = -(long)(p - frac);
+    }
+    if (digits == 0)
+        return NULL;
+    if (*p == 'e' || *p == 'E') {
+        const char *e = p + 1;
+        int eneg = 0;
+        if (*e == '+' || *e == '-')
+            eneg = *e++ == '-';
+        if (!is_digit(*e))
+            return NULL;
+        long x = 0;
+        for (; is_digit(*e); e++)
+            if (x < 100000)
+                x = x * 10 + (*e - '0');
+        exp10 += eneg ? -x : x;
+        p = e;
+    }
+    *point_out = point;
+#if FLT_EVAL_METHOD == 0
+    /* The same Clinger fast path as el_number_parse, on the same operands:
+     * up to 19 digits the mantissa is exact in uint64. */
+    if (digits <= 19) {
+        if (mant == 0) {
+            *out = negative ? -0.0 : 0.0;
+            return p;
+        }
+        if (mant <= ((uint64_t)1 << 53) && exp10 >= -22 && exp10 <= 22) {
+            double v = (double)mant;
+            v = exp10 < 0 ? v / pow10[-exp10] : v * pow10[exp10];
+            *out = negative ? -v : v;
+            return p;
+        }
+    }
+#else
+    (void)pow10;
+#endif
+    /* Everything else (long mantissas, large exponents, subnormals) is
+     * el_number_parse's, which is exact: the same text, the same double. */
+    char dec = decimal;
+    return el_number_parse(s, (size_t)(p - s), &dec, delim, out) == EL_NUM_OK ? p : NULL;
+}
+
+/* Says why a cell that is not a plain decimal was refused. */
+const char *el_number_hint(const char *s, size_t n, char delim, char decimal, int range)
+{
+    if (range)
+        return "the value is beyond the range of a double (about 1.8e308); "
+               "check the cell, or write NA for a missing value";
+    size_t i = (n > 0 && (s[0] == '+' || s[0] == '-')) ? 1 : 0;
+    const char *rest = s + i;
+    size_t rest_n = n - i;
+    if (el_text_equals_nocase(rest, rest_n, "inf") ||
+        el_text_equals_nocase(rest, rest_n, "infinity"))
+        return "infinite values are not allowed; write NA for a missing or invalid "
+               "reading";
+    if (n - i >= 2 && s[i] == '0' && el_text_lower(s[i + 1]) == 'x')
+        return "hexadecimal numbers are not accepted; write the value in decimal";
+    if (el_text_equals_nocase(rest, rest_n, "nan") ||
+        (rest_n > 3 && el_text_equals_nocase(rest, 4, "nan(")))
+        return "write NA (or NaN, without sign or payload) for a missing value";
+    if (decimal == ',' && memchr(s, '.', n) != NULL)
+        return "this log's numbers use a decimal comma (found in an earlier cell): write "
+               "1,5, not 1.5, or give --decimal . if the point is right";
+    if (delim != ',' && memchr(s, ',', n) != NULL)
+        return "an earlier cell used a decimal point: write every number alike, or give "
+               "--decimal , for a decimal comma";
+    if (delim == ',' && memchr(s, ',', n) != NULL)
+        return "with commas between cells a decimal comma needs the cell in quotes "
+               "(\"1,5\") and --decimal ,";
+    if (i < n && (is_digit(s[i]) || s[i] == '.'))
+        return "remove the text after the number (units belong in the header as "
+               "\"name [unit]\"), or write NA for a missing value";
+    return "use NA for a missing value; any other cell must be a decimal number "
+           "such as 1.5 or -2e-3";
+}

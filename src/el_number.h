@@ -1,0 +1,45 @@
+/* el_number: plain decimal numbers of a log's cells, read exactly. */
+#ifndef EL_NUMBER_H
+#define EL_NUMBER_H
+
+#include <stddef.h>
+
+/* What el_number_parse found. */
+enum { EL_NUM_OK, EL_NUM_SYNTAX, EL_NUM_RANGE };
+
+/* Parses a plain decimal [+-]digits[.digits][(e|E)[+-]digits] spanning all
+ * of s[0..n) (the caller trims blanks) into *out: the correctly rounded
+ * double, bit for bit what strtod gives for the same text. Returns
+ * EL_NUM_OK; EL_NUM_SYNTAX for anything else (hex, inf, nan, trailing
+ * text, no digit; *out untouched); EL_NUM_RANGE when the value overflows a
+ * double (or no memory for a very long number). The decimal separator is
+ * *decimal ('.' or ','); when *decimal is 0 it is not decided yet: a '.'
+ * is one, and a ',' is one when delim (the cell delimiter, 0 = not known)
+ * is neither ',' nor 0; the first separator met is stored in *decimal. A
+ * value below the smallest subnormal rounds as strtod does (to 0). */
+int el_number_parse(const char *s, size_t n, char *decimal, char delim, double *out);
+
+/* The scan of the fused row reader: reads the longest plain decimal at s
+ * ([+-]digits[sep digits][(e|E)[+-]digits], sep as in el_number_parse
+ * with decimal and delim; decimal 0 = not decided) and returns the first
+ * byte after it (the caller decides whether that byte ends the cell), with
+ * *out the value el_number_parse gives for exactly s[0..returned) (bit for
+ * bit: the same fast path, else el_number_parse itself) and *point_out the
+ * separator met (0: none; the caller records the decision). NULL when no
+ * number starts at s, an exponent has no digits, or the value is out of
+ * range: the caller then reads the cell the slow way. Reads bytes from s
+ * up to the first that is not part of a number, so s's text must hold such
+ * a byte (a line end); bytes before lim may be loaded 8 at a time. */
+const char *el_number_scan(const char *s, const char *lim, char decimal, char delim,
+                           double *out, char *point_out);
+
+/* 1 when the trimmed cell s[0..n) is a missing value: empty, NA or NaN in
+ * any case; else 0. */
+int el_number_is_missing(const char *s, size_t n);
+
+/* The hint for a cell s[0..n) that el_number_parse refused (range: 1 when
+ * it said EL_NUM_RANGE), given the file's delimiter and decimal separator
+ * (0 = not decided): why it was refused and how to write it. Static text. */
+const char *el_number_hint(const char *s, size_t n, char delim, char decimal, int range);
+
+#endif

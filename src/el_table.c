@@ -1,0 +1,557 @@
+/* el_table: a log in memory once read: several files joined as one log,
+ * the finishing touches of a read (text columns dropped, time in seconds,
+ * notes), accessors, times on the command line, and the scan summary. */
+#include "el_table.h"
+
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "el_number.h"
+#include "el_text.h"
+#include "el_timefmt.h"
+
+static el_status table_no_memory(el_error *err, const char *name)
+{
+    el_error_set(err, EL_ERR_NOMEM, "out of memory while reading the log");
+    el_error_at(err, name, 0, 0);
+    el_error_hint(err, "the log is too large for this machine; cut it into parts");
+    return EL_ERR_NOMEM;
+}
+
+/* Removes the skipped text columns and says so in one note. */
+static el_status drop_text_columns(el_table *t, const long *text_line, el_error *err)
+{
+    size_t skipped = 0;
+    char list[400] = "";
+    size_t w = 0;
+    for (size_t c = 0; c < t->n_columns; c++) {
+        if (text_line[c] == 0)
+            continue;
+        if (skipped < 5 && w < sizeof list) {
+            int k = snprintf(list + w, sizeof list - w, "%s\"%.60s\" (text from line %ld)",
+                             skipped ? ", " : "", t->names[c], text_line[c]);
+            w += k > 0 ? (size_t)k : 0;
+        }
+        skipped++;
+    }
+    if (skipped == 0)
+        return EL_OK;
+    if (skipped == t->n_columns - 1) {
+        el_error_set(err, EL_ERR_DATA, "no column but the time holds numbers: %s", list);
+        el_error_at(err, t->source, 0, 0);
+        el_error_hint(err, "check the delimiter and the decimal separator (--decimal)");
+        return EL_ERR_DATA;
+    }
+    el_status st = el_warnings_add(&t->notes,
+                                   "skipped %zu column%s holding text that no option asked "
+                                   "for: %s%s", skipped, skipped == 1 ? "" : "s", list,
+                                   skipped > 5 ? ", ..." : "");
+    if (st != EL_OK)
+        return table_no_memory(err, t->source);
+    size_t n = t->n_rows, kept = 0;
+    for (size_t c = 0; c < t->n_columns; c++) {
+        if (text_line[c] != 0) {
+            free(t->names[c]);
+            free(t->units[c]);
+            continue;
+        }
+        if (c == t->time_column)
+            t->time_column = kept;
+        t->names[kept] = t->names[c];
+        t->units[kept] = t->units[c];
+        t->missing[kept] = t->missing[c];
+        memmove(t->values + kept * n, t->values + c * n, n * sizeof *t->values);
+        kept++;
+    }
+    t->n_columns = kept;
+    return EL_OK;
+}
+
+/* Converts the time column to seconds and writes the notes about time. */
+el_status el_table_finish(el_table *t, const long *text_line, el_error *err)
+{
+    el_status st = drop_text_columns(t, text_line, err);
+    if (st != EL_OK)
+        return st;
+    size_t tc = t->time_column;
+    if (t->time_scale_s != 1.0) {
+        double *time = t->values + tc * t->n_rows;
+        for (size_t r = 0; r < t->n_rows; r++)
+            time[r] *= t->time_scale_s;
+    }
+    if (!t->time_is_iso) {
+        char *unit = malloc(2);
+        if (unit == NULL)
+            return table_no_memory(err, t->source);
+        memcpy(unit, "s", 2);
+        free(t->units[tc]);
+        t->units[tc] = unit;
+    }
+    if (strcmp(t->time_unit_source, "assumed") == 0)
+        st = el_warnings_add(&t->notes,
+                             "the time column \"%.100s\" names no unit: its numbers are taken "
+                             "as seconds (give --time-unit, or write the unit in the header "
+                             "as \"%.60s [ms]\")", t->names[tc], t->names[tc]);
+    if (st == EL_OK && t->time_is_iso && !t->time_zone_known)
+        st = el_warnings_add(&t->notes,
+                             "the date-times carry no zone (Z or +01:00): they are read as "
+                             "local time of an unknown zone and shown without an offset; "
+                             "Unix times in JSON count them as if they were UTC");
+    if (st == EL_OK && t->time_scale_s >= 86400.0)
+        st = el_warnings_add(&t->notes,
+                             "the log's time is in %s: rates below are per second and "
+                             "frequencies in Hz (once per %s = %.6g Hz)",
+                             strcmp(t->time_unit, "d") == 0 ? "days" : "years",
+                             strcmp(t->time_unit, "d") == 0 ? "day" : "year",
+                             1.0 / t->time_scale_s);
+    return st == EL_OK ? EL_OK : table_no_memory(err, t->source);
+}
+
+/* ------------------------------------------------------------------ */
+/* Several files as one log                                           */
+
+static el_status differs(el_error *err, const el_table *a, const el_table *b,
+                         long line, const char *what, size_t column)
+{
+    el_error_set(err, EL_ERR_DATA, "%s differs from %s: %s", b->source, a->source, what);
+    el_error_at(err, b->source, line, (long)column + 1);
+    el_error_hint(err, "files read as one log need the same columns in the same order "
+                       "(same names and units) and the same kind of time");
+    return EL_ERR_DATA;
+}
+
+el_status el_table_check_same(const el_table *a, const el_table *b, long line,
+                              el_error *err)
+{
+    char what[EL_ERROR_TEXT_MAX];
+    if (a->n_columns != b->n_columns) {
+        snprintf(what, sizeof what, "it has %zu columns, the first file %zu", b->n_columns,
+                 a->n_columns);
+        return differs(err, a, b, line, what, 0);
+    }
+    for (size_t c = 0; c < a->n_columns; c++)
+        if (strcmp(a->names[c], b->names[c]) != 0 || strcmp(a->units[c], b->units[c]) != 0) {
+            snprintf(what, sizeof what, "column %zu is \"%.100s [%.30s]\", not \"%.100s [%.30s]\"",
+                     c + 1, b->names[c], b->units[c], a->names[c], a->units[c]);
+            return differs(err, a, b, line, what, c);
+        }
+    if (a->time_column != b->time_column || a->time_is_iso != b->time_is_iso ||
+        a->time_zone_known != b->time_zone_known)
+        return differs(err, a, b, line,
+                       a->time_is_iso != b->time_is_iso
+                           ? "one writes times as date-times, the other as numbers"
+                           : "one writes date-times with a zone, the other without",
+                       b->time_column);
+    return EL_OK;
+}
+
+/* First time of table i on the common clock (ISO: Unix seconds). */
+static double first_time(const el_table *t)
+{
+    double t0 = t->values[t->time_column * t->n_rows];
+    return t->time_is_iso ? (double)t->time_origin_unix_s + t0 : t0;
+}
+
+/* Joins the parts (in order of their first time) into *out. */
+el_status el_table_join(el_table *parts, long *const *text_lines, size_t n,
+                        const char *const *paths, el_table *out, long *text_line,
+                        el_error *err)
+{
+    if (parts == NULL || text_lines == NULL || paths == NULL || out == NULL || n == 0)
+        return el_error_set(err, EL_ERR_INTERNAL, "el_table_join: nothing to join");
+    size_t *order = malloc(n * sizeof *order);
+    if (order == NULL)
+        return table_no_memory(err, paths[0]);
+    for (size_t i = 0; i < n; i++)
+        order[i] = i;
+    for (size_t i = 1; i < n; i++) /* insertion sort: stable, n is small */
+        for (size_t k = i; k > 0 && first_time(&parts[order[k]]) < first_time(&parts[order[k - 1]]); k--) {
+            size_t tmp = order[k];
+            order[k] = order[k - 1];
+            order[k - 1] = tmp;
+        }
+    const el_table *ref = &parts[order[0]];
+    size_t rows = 0, nc = ref->n_columns;
+    for (size_t i = 0; i < n; i++)
+        rows += parts[i].n_rows;
+    memset(out, 0, sizeof *out);
+    out->values = malloc(rows * nc * sizeof *out->values);
+    out->source_line = malloc(rows * sizeof *out->source_line);
+    out->source_file = malloc(rows * sizeof *out->source_file);
+    out->sources = calloc(n, sizeof *out->sources);
+    out->missing = calloc(nc, sizeof *out->missing);
+    out->names = calloc(nc, sizeof *out->names);
+    out->units = calloc(nc, sizeof *out->units);
+    int ok = out->values && out->source_line && out->source_file && out->sources &&
+             out->missing && out->names && out->units;
+    for (size_t i = 0; ok && i < n; i++)
+        ok = (out->sources[i] = strdup(paths[i])) != NULL;
+    out->n_sources = n;
+    if (!ok) {
+        free(order);
+        return table_no_memory(err, paths[0]);
+    }
+    /* Names and units move from the reference part. */
+    out->n_columns = nc;
+    for (size_t c = 0; c < nc; c++) {
+        out->names[c] = parts[order[0]].names[c];
+        out->units[c] = parts[order[0]].units[c];
+        parts[order[0]].names[c] = parts[order[0]].units[c] = NULL;
+    }
+    size_t row = 0;
+    for (size_t k = 0; k < n; k++) {
+        const el_table *p = &parts[order[k]];
+        double shift = p->time_is_iso ? (double)(p->time_origin_unix_s - ref->time_origin_unix_s)
+                                      : 0.0;
+        for (size_t c = 0; c < nc; c++) {
+            double *dst = out->values + c * rows + row;
+            memcpy(dst, p->values + c * p->n_rows, p->n_rows * sizeof *dst);
+            if (c == ref->time_column && shift != 0.0)
+                for (size_t r = 0; r < p->n_rows; r++)
+                    dst[r] += shift;
+            out->missing[c] += p->missing[c];
+            if (text_line[c] == 0)
+                text_line[c] = text_lines[order[k]][c];
+        }
+        memcpy(out->source_line + row, p->source_line, p->n_rows * sizeof *out->source_line);
+        for (size_t r = 0; r < p->n_rows; r++)
+            out->source_file[row + r] = (unsigned)order[k];
+        row += p->n_rows;
+    }
+    out->n_rows = rows;
+    out->time_column = ref->time_column;
+    out->time_is_iso = ref->time_is_iso;
+    out->time_origin_unix_s = ref->time_origin_unix_s;
+    out->time_zone_minutes = ref->time_zone_minutes;
+    out->time_zone_known = ref->time_zone_known;
+    out->time_scale_s = ref->time_scale_s;
+    memcpy(out->time_unit, ref->time_unit, sizeof out->time_unit);
+    memcpy(out->time_unit_source, ref->time_unit_source, sizeof out->time_unit_source);
+    out->delimiter = ref->delimiter;
+    out->decimal = ref->decimal;
+    snprintf(out->source, sizeof out->source, "%.200s (+%zu file%s)", paths[0], n - 1,
+             n == 2 ? "" : "s");
+    free(order);
+    return EL_OK;
+}
+
+double el_table_time_unit_s(const el_table *table)
+{
+    if (table == NULL || table->time_is_iso || table->time_scale_s == 0.0)
+        return 1.0;
+    return table->time_scale_s;
+}
+
+const char *el_table_row_source(const el_table *table, size_t row)
+{
+    if (table == NULL)
+        return "";
+    if (table->n_sources > 1 && table->source_file != NULL && table->sources != NULL &&
+        row < table->n_rows)
+        return table->sources[table->source_file[row]];
+    return table->source;
+}
+
+void el_table_free(el_table *table)
+{
+    if (table == NULL)
+        return;
+    for (size_t c = 0; c < table->n_columns; c++) {
+        if (table->names != NULL)
+            free(table->names[c]);
+        if (table->units != NULL)
+            free(table->units[c]);
+    }
+    for (size_t i = 0; table->sources != NULL && i < table->n_sources; i++)
+        free(table->sources[i]);
+    free(table->sources);
+    free(table->source_file);
+    free(table->names);
+    free(table->units);
+    free(table->values);
+    free(table->source_line);
+    free(table->missing);
+    el_warnings_free(&table->notes);
+    memset(table, 0, sizeof *table);
+}
+
+/* Splits text into a trimmed name and the trimmed unit of a trailing
+ * "[unit]", as the header reader does ("" unit when there is none). */
+static void split_name_unit(const char *text, const char **name, size_t *name_n,
+                            const char **unit, size_t *unit_n)
+{
+    const char *s = text;
+    size_t n = strlen(text);
+    el_text_trim(&s, &n);
+    *name = s;
+    *name_n = n;
+    *unit = s + n;
+    *unit_n = 0;
+    if (n == 0 || s[n - 1] != ']')
+        return;
+    for (size_t i = n - 1; i-- > 0;)
+        if (s[i] == '[') {
+            const char *u = s + i + 1;
+            size_t un = n - 1 - (i + 1), nn = i;
+            el_text_trim(&u, &un);
+            el_text_trim(&s, &nn);
+            *name_n = nn;
+            *unit = u;
+            *unit_n = un;
+            return;
+        }
+}
+
+long el_table_find(const el_table *table, const char *name)
+{
+    if (table == NULL || name == NULL || table->names == NULL)
+        return -1;
+    for (size_t c = 0; c < table->n_columns; c++)
+        if (strcmp(table->names[c], name) == 0)
+            return (long)c;
+    /* "accel_a [m/s2]" as the header writes it: name and unit both match
+     * (spacing before the bracket may differ). */
+    const char *qn, *qu;
+    size_t qn_n, qu_n;
+    split_name_unit(name, &qn, &qn_n, &qu, &qu_n);
+    if (qu_n == 0 && qn_n == strlen(name))
+        return -1;
+    for (size_t c = 0; c < table->n_columns; c++) {
+        const char *u = table->units != NULL && table->units[c] != NULL ? table->units[c] : "";
+        if (strlen(table->names[c]) == qn_n && memcmp(table->names[c], qn, qn_n) == 0 &&
+            strlen(u) == qu_n && memcmp(u, qu, qu_n) == 0)
+            return (long)c;
+    }
+    return -1;
+}
+
+/* ------------------------------------------------------------------ */
+
+/* ------------------------------------------------------------------ */
+/* Times on the command line                                          */
+
+el_status el_table_parse_time(const el_table *table, const char *text,
+                              double *time_out, el_error *err)
+{
+    if (table == NULL || text == NULL || time_out == NULL)
+        return el_error_set(err, EL_ERR_INTERNAL, "el_table_parse_time: NULL argument");
+    char decimal = '.';
+    const char *s = text;
+    size_t n = strlen(text);
+    el_text_trim(&s, &n);
+    double v;
+    int rc = el_number_parse(s, n, &decimal, 0, &v);
+    el_iso_time it;
+    const char *why = rc == EL_NUM_OK || !table->time_is_iso ? "" : el_iso_parse_or_date(s, n, &it);
+    if (rc == EL_NUM_OK) {
+        /* A number is in the log's own unit (ISO: seconds from the start). */
+        *time_out = v * el_table_time_unit_s(table);
+        return EL_OK;
+    }
+    if (why == NULL && it.has_zone && !table->time_zone_known) {
+        el_error_set(err, EL_ERR_USAGE, "the time \"%.100s\" has a zone, the log's times have none",
+                     text);
+        el_error_hint(err, "give the time without a zone, on the log's own clock");
+        return EL_ERR_USAGE;
+    }
+    if (why == NULL) {
+        /* Without a zone, the time is read on the clock of the file's first
+         * row, which is what a person copying a time from the log means. */
+        if (!it.has_zone)
+            it.unix_s -= (int64_t)table->time_zone_minutes * 60;
+        *time_out = (double)(it.unix_s - table->time_origin_unix_s) + it.frac_s;
+        return EL_OK;
+    }
+    el_error_set(err, EL_ERR_USAGE, "cannot read the time \"%.100s\"%s%s", text,
+                 *why ? ": " : "", why);
+    if (table->time_is_iso)
+        el_error_hint(err, "give a date-time like 2026-03-14T08:00:00 (zone optional, "
+                           "default that of the log) or seconds from the log's start");
+    else
+        el_error_hint(err, "give a number in the unit of the time column \"%.100s\" (%s)%s",
+                      table->names != NULL ? table->names[table->time_column] : "",
+                      table->time_unit[0] ? table->time_unit : "s",
+                      el_iso_looks(s, n) ? "; this log's time is a plain number, not a date-time"
+                                      : "");
+    return EL_ERR_USAGE;
+}
+
+char *el_table_format_time(const el_table *table, double t, char *buf, size_t size)
+{
+    if (buf == NULL || size == 0)
+        return buf;
+    /* 1e14 s is far beyond year 9999 and keeps t * 1000 exact in int64. */
+    if (table == NULL || !table->time_is_iso || !isfinite(t) || fabs(t) > 1e14) {
+        snprintf(buf, size, "%.9g", t / el_table_time_unit_s(table));
+        return buf;
+    }
+    int zone = table->time_zone_minutes;
+    int64_t ms = (int64_t)floor(t * 1000.0 + 0.5) +
+                 (table->time_origin_unix_s + (int64_t)zone * 60) * 1000;
+    el_iso_format(ms, zone, table->time_zone_known, buf, size);
+    return buf;
+}
+
+/* ------------------------------------------------------------------ */
+/* Scan                                                               */
+
+/* The k-th smallest of a[0..n) (k < n; no NaN), found by selection in
+ * linear expected time (Hoare's FIND with a median-of-three pivot): a
+ * moves around, the multiset stays, so the result is the value a full
+ * sort would put at index k. */
+static double select_kth(double *a, size_t n, size_t k)
+{
+    size_t lo = 0, hi = n - 1;
+    while (lo < hi) {
+        size_t mid = lo + (hi - lo) / 2;
+        double x = a[lo], y = a[mid], z = a[hi];
+        double pivot = x < y ? (y < z ? y : (x < z ? z : x)) : (x < z ? x : (y < z ? z : y));
+        size_t i = lo, j = hi;
+        for (;;) {
+            while (a[i] < pivot)
+                i++;
+            while (pivot < a[j])
+                j--;
+            if (i >= j)
+                break;
+            double t = a[i];
+            a[i] = a[j];
+            a[j] = t;
+            i++;
+            j--;
+        }
+        /* a[lo..j] <= pivot <= a[j+1..hi] */
+        if (k <= j)
+            hi = j;
+        else
+            lo = j + 1;
+    }
+    return a[k];
+}
+
+/* Median of a[0..n) (n >= 1, no NaN); reorders a. For even n the mean of
+ * the two middle values: after selecting the upper one, the lower is the
+ * largest of the part below it. */
+static double median_select(double *a, size_t n)
+{
+    size_t h = n / 2;
+    double upper = select_kth(a, n, h);
+    if (n % 2)
+        return upper;
+    double lower = a[0];
+    for (size_t i = 1; i < h; i++)
+        lower = a[i] > lower ? a[i] : lower;
+    return 0.5 * (lower + upper);
+}
+
+static void column_stats(const double *v, size_t n, el_column_stats *s)
+{
+    double sum = 0.0, lo = INFINITY, hi = -INFINITY;
+    size_t present = 0;
+    for (size_t r = 0; r < n; r++) {
+        if (isnan(v[r]))
+            continue;
+        present++;
+        sum += v[r];
+        lo = v[r] < lo ? v[r] : lo;
+        hi = v[r] > hi ? v[r] : hi;
+    }
+    memset(s, 0, sizeof *s);
+    s->present = present;
+    s->missing = n - present;
+    if (present == 0)
+        return;
+    double mean = sum / (double)present, ss = 0.0;
+    if (!isfinite(mean))
+        mean = lo / 2 + hi / 2; /* the sum overflowed: any value inside will do */
+    /* Second pass on deviations scaled by the largest (no cancellation for
+     * large offsets, and no underflow: a channel varying at 1e-170 has a
+     * spread, squares of 1e-170 would not). */
+    double largest = fmax(hi - mean, mean - lo);
+    if (largest > 0.0)
+        for (size_t r = 0; r < n; r++)
+            if (!isnan(v[r])) {
+                double d = (v[r] - mean) / largest;
+                ss += d * d;
+            }
+    s->mean = mean;
+    s->min = lo;
+    s->max = hi;
+    s->std = present > 1 && largest > 0.0 ? largest * sqrt(ss / (double)(present - 1)) : 0.0;
+    /* The rule of el_stats_spread, which refuses such a channel in a fit. */
+    s->constant = lo == hi || s->std <= 1e-12 * fabs(mean);
+}
+
+el_status el_scan_table(const el_table *table, el_scan *scan, el_error *err)
+{
+    if (table == NULL || scan == NULL)
+        return el_error_set(err, EL_ERR_INTERNAL, "el_scan_table: NULL argument");
+    memset(scan, 0, sizeof *scan);
+    size_t n = table->n_rows;
+    if (n < 2) {
+        el_error_set(err, EL_ERR_DATA, "the log has %zu row%s; a scan needs at least 2", n,
+                     n == 1 ? "" : "s");
+        el_error_at(err, table->source, n == 1 ? table->source_line[0] : 0, 0);
+        el_error_hint(err, "give a log with at least two samples");
+        return EL_ERR_DATA;
+    }
+    const double *t = table->values + table->time_column * n;
+    double *steps = malloc((n - 1) * sizeof *steps);
+    el_column_stats *cols = calloc(table->n_columns, sizeof *cols);
+    if (steps == NULL || cols == NULL) {
+        free(steps);
+        free(cols);
+        return el_error_set(err, EL_ERR_NOMEM, "out of memory in scan");
+    }
+    size_t first_back = 0;
+    double lo = INFINITY, hi = -INFINITY;
+    for (size_t r = 0; r + 1 < n; r++) {
+        steps[r] = t[r + 1] - t[r];
+        if (steps[r] <= 0.0 && scan->nonpositive_steps++ == 0)
+            first_back = r + 1;
+        scan->backward_steps += steps[r] < 0.0;
+        scan->repeated_steps += steps[r] == 0.0;
+        lo = steps[r] < lo ? steps[r] : lo;
+        hi = steps[r] > hi ? steps[r] : hi;
+    }
+    size_t m = n - 1;
+    double median = median_select(steps, m);
+    if (!(median > 0.0)) {
+        free(steps);
+        free(cols);
+        el_error_set(err, EL_ERR_DATA,
+                     "the time column \"%.100s\" does not increase (median step %.9g)",
+                     table->names[table->time_column], median);
+        el_error_at(err, el_table_row_source(table, first_back), table->source_line[first_back],
+                    0);
+        el_error_hint(err, "sort the rows by time, or choose the time column with --time");
+        memset(scan, 0, sizeof *scan);
+        return EL_ERR_DATA;
+    }
+    scan->n_rows = n;
+    scan->time_first = t[0];
+    scan->time_last = t[n - 1];
+    scan->dt_median = median;
+    scan->dt_min = lo;
+    scan->dt_max = hi;
+    for (size_t r = 0; r < m; r++) {
+        double dev = fabs(steps[r] - median) / median;
+        scan->jitter = dev > scan->jitter ? dev : scan->jitter;
+        scan->long_steps += steps[r] > 1.5 * median;
+    }
+    free(steps);
+    for (size_t c = 0; c < table->n_columns; c++)
+        column_stats(table->values + c * n, n, &cols[c]);
+    scan->columns = cols;
+    return EL_OK;
+}
+
+void el_scan_free(el_scan *scan)
+{
+    if (scan == NULL)
+        return;
+    free(scan->columns);
+    memset(scan, 0, sizeof *scan);
+}
