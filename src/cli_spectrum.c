@@ -75,13 +75,40 @@ static void print_table(const el_assessment *r, const el_spectra *s, const el_pe
            "+- half a bin, the resolution.\n");
 }
 
-static el_status spectra_json(const el_assessment *r, const el_spectra *s,
-                              const el_peaks *p, el_buf *out)
+/* The envelope's `input` (docs/json.md): the keys `file` and
+ * `time_unit` also stay at the top level, where they were first. */
+static void spectra_json_input(el_json *j, const el_assessment *r, const el_assess_options *o)
+{
+    const el_series *se = &r->series;
+    el_json_object_begin(j, "input");
+    el_json_string(j, "file", r->table.source);
+    el_envelope_input(j, o->path, o->paths, o->n_paths, se->names, se->n_channels);
+    el_json_array_begin(j, "channels");
+    for (size_t c = 0; c < se->n_channels; c++)
+        el_json_string(j, NULL, se->names[c]);
+    el_json_array_end(j);
+    el_json_array_begin(j, "units");
+    for (size_t c = 0; c < se->n_channels; c++)
+        el_json_string(j, NULL, se->units[c]);
+    el_json_array_end(j);
+    el_json_string(j, "time_unit", r->table.time_is_iso ? "s" : r->table.time_unit);
+    el_json_string(j, "time_unit_source", r->table.time_unit_source);
+    el_json_number(j, "dt", se->dt);
+    el_json_int(j, "samples", (long long)se->n_samples);
+    el_json_object_end(j);
+}
+
+static el_status spectra_json(const el_assessment *r, const el_assess_options *o,
+                              const el_spectra *s, const el_peaks *p, el_buf *out)
 {
     el_json j;
     el_json_init(&j, out);
     el_json_object_begin(&j, NULL);
     el_json_string(&j, "eigenlog", EL_VERSION);
+    el_envelope_head(&j, "spectrum");
+    spectra_json_input(&j, r, o);
+    const el_warnings *lists[2] = {&r->input_warnings, &r->warnings};
+    el_envelope_warnings(&j, "warning_details", lists, 2);
     el_json_string(&j, "file", r->table.source);
     el_json_number(&j, "dt", s->dt);
     /* dt is in s and frequencies in Hz whatever the log's unit; the unit
@@ -218,7 +245,7 @@ static el_status run(const cli_args *a, el_error *err)
     cli_output out[2] = {{json, {0}}, {csv, {0}}};
     el_status built = EL_OK;
     if (st == EL_OK && json != NULL)
-        built = spectra_json(&r, &s, &p, &out[0].text);
+        built = spectra_json(&r, &o, &s, &p, &out[0].text);
     if (st == EL_OK && built == EL_OK && csv != NULL)
         built = spectra_csv(&r, &s, &out[1].text);
     if (st == EL_OK && built != EL_OK)

@@ -297,7 +297,7 @@ static void json_strings(el_json *j, const char *key, char *const *items, size_t
     el_json_array_end(j);
 }
 
-static void json_input(el_json *j, const el_assessment *r)
+static void json_input(el_json *j, const el_assessment *r, const el_assess_options *opt)
 {
     const el_table *t = &r->table;
     const el_series *s = &r->series;
@@ -306,6 +306,7 @@ static void json_input(el_json *j, const el_assessment *r)
     char a[64], b[64];
     el_json_object_begin(j, "input");
     el_json_string(j, "file", t->source);
+    el_envelope_input(j, opt->path, opt->paths, opt->n_paths, s->names, s->n_channels);
     el_json_int(j, "rows_read", (long long)t->n_rows);
     el_json_int(j, "rows_used", (long long)s->rows_used);
     json_strings(j, "channels", s->names, s->n_channels);
@@ -645,7 +646,11 @@ el_status el_report_json(const el_assessment *r, const el_assess_options *opt,
     el_json_init(&j, out);
     el_json_object_begin(&j, NULL);
     el_json_string(&j, "eigenlog", EL_VERSION);
-    json_input(&j, r);
+    el_envelope_head(&j, "assess");
+    json_input(&j, r, opt);
+    const el_warnings *lists[2] = {&r->input_warnings, &r->warnings};
+    el_envelope_warnings(&j, "warnings", lists, 2);
+    el_envelope_warnings(&j, "warning_details", lists, 2);
     json_model(&j, r);
     json_modes(&j, r);
     json_plane(&j, r);
@@ -682,4 +687,100 @@ el_status el_report_replicates_csv(const el_assessment *r, el_buf *out,
     if (out->failed)
         return el_error_set(err, EL_ERR_NOMEM, "out of memory");
     return EL_OK;
+}
+
+/* ------------------------------------------------------------ envelope */
+
+/* Warning codes: the first row whose phrase the message contains. The
+ * phrases are fragments of the messages written by the stages (el_ingest,
+ * el_timebase, el_regime, el_fit, el_verdict, ...); a new warning gets a
+ * row here and a line in docs/json.md, and tests/e2e_schema.sh fails when a
+ * demo log's warning falls through to "other". More specific rows first. */
+static const struct {
+    const char *code;
+    const char *phrase;
+} WARNING_CODES[] = {
+    {"forced_oscillation", "forced oscillation"},
+    {"time_unit_assumed", "names no unit"},
+    {"time_zone_unknown", "carry no zone"},
+    {"time_unit_not_seconds", "the log's time is in"},
+    {"text_columns_skipped", "holding text that no option asked"},
+    {"resampled", "resampled onto a uniform grid"},
+    {"gaps_filled", "missing sample"},
+    {"few_samples", "too few to tell a"},
+    {"no_variation", "no channel varies"},
+    {"growth", "grows by a factor"},
+    {"few_segments", "spectrum: only"},
+    {"spectral_check_skipped", "spectral cross-check skipped"},
+    {"estimators_disagree", "the estimators disagree"},
+    {"cross_check_failed", "could not be run"},
+    {"no_bounds", "no bounds could be computed"},
+    {"no_bounds", "bootstrap replicates cannot support"},
+    {"no_bounds", "bounds not yet computed"},
+    {"bootstrap_basis_fixed", "keep the rank-"},
+    {"bootstrap_failed_replicates", "singular refit"},
+    {"mode_swap", "modes could swap"},
+    {"bootstrap_not_bias_corrected", "not bias-corrected"},
+    {"bootstrap_reduced", "does not reproduce the point estimate"},
+    {"band_edge", "--band"},
+    {"nyquist", "Nyquist"},
+    {"near_integrator", "nearly singular"},
+    {"few_pairs", "snapshot pairs for"},
+    {"fb_branch", "square-root branch"},
+    {"rank_limited", "rank"},
+    {"residuals_correlated", "residuals strongly correlated"},
+    {"free_run_diverges", "free run diverges"},
+    {"explains_little", "explains little"},
+    {"ambiguous", "ambiguous"},
+    {"ambiguous", "not determined by the data"},
+    {"mixed_estimators", "not all fitted by the same estimator"},
+    {"trend_widened", "widened"},
+    {"trend_not_linear", "does not follow a straight line"},
+    {"extrapolation", "straight-line extrapolation"},
+};
+
+const char *el_warning_code(const char *message)
+{
+    if (message == NULL)
+        return "other";
+    for (size_t i = 0; i < sizeof WARNING_CODES / sizeof WARNING_CODES[0]; i++)
+        if (strstr(message, WARNING_CODES[i].phrase) != NULL)
+            return WARNING_CODES[i].code;
+    return "other";
+}
+
+void el_envelope_head(el_json *j, const char *command)
+{
+    el_json_string(j, "tool", "eigenlog");
+    el_json_string(j, "version", EL_VERSION);
+    el_json_string(j, "command", command);
+}
+
+void el_envelope_input(el_json *j, const char *first, const char *const *paths, size_t n,
+                       char *const *names, size_t n_names)
+{
+    el_json_array_begin(j, "files");
+    if (n == 0)
+        el_json_string(j, NULL, first ? first : "");
+    for (size_t i = 0; i < n; i++)
+        el_json_string(j, NULL, paths[i]);
+    el_json_array_end(j);
+    json_strings(j, "channel_names", names, n_names);
+}
+
+void el_envelope_warnings(el_json *j, const char *key, const el_warnings *const *lists,
+                          size_t n)
+{
+    el_json_array_begin(j, key);
+    for (size_t l = 0; l < n; l++) {
+        if (lists[l] == NULL)
+            continue;
+        for (size_t i = 0; i < lists[l]->count; i++) {
+            el_json_object_begin(j, NULL);
+            el_json_string(j, "code", el_warning_code(lists[l]->items[i]));
+            el_json_string(j, "message", lists[l]->items[i]);
+            el_json_object_end(j);
+        }
+    }
+    el_json_array_end(j);
 }

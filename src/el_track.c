@@ -51,6 +51,7 @@ void el_track_free(el_track_result *result)
         free(result->windows[i].margin_samples);
     free(result->windows);
     el_warnings_free(&result->warnings);
+    el_warnings_free(&result->channel_names);
     memset(result, 0, sizeof *result);
 }
 
@@ -275,6 +276,8 @@ el_status el_track_run(const el_track_options *opt, el_track_result *result,
         result->span_from = all.series.t0;
         result->span_to = all.series.t0 + (double)all.series.n_samples * all.series.dt;
         result->n_channels = all.series.n_channels;
+        for (size_t c = 0; st == EL_OK && c < all.series.n_channels; c++)
+            st = el_warnings_add(&result->channel_names, "%s", all.series.names[c]);
         result->time_is_iso = all.table.time_is_iso;
         const el_table *t = &all.table;
         const char *unit = t->time_is_iso ? "s"
@@ -705,10 +708,12 @@ el_status el_track_report_json(const el_track_result *r, const el_track_options 
     el_json_init(&j, out);
     el_json_object_begin(&j, NULL);
     el_json_string(&j, "eigenlog", EL_VERSION);
-    el_json_string(&j, "command", "track");
+    el_envelope_head(&j, "track");
     el_json_object_begin(&j, "input");
     el_json_string(&j, "file", opt->assess.path ? opt->assess.path : "");
     el_json_int(&j, "channels", (long long)r->n_channels);
+    el_envelope_input(&j, opt->assess.path, opt->assess.paths, opt->assess.n_paths,
+                      r->channel_names.items, r->channel_names.count);
     el_json_string(&j, "time_format", r->time_is_iso ? "iso8601" : "number");
     el_json_string(&j, "time_unit", r->time_unit);
     el_json_pair(&j, "span", r->time_origin_s + r->span_from, r->time_origin_s + r->span_to);
@@ -739,6 +744,8 @@ el_status el_track_report_json(const el_track_result *r, const el_track_options 
     for (size_t i = 0; i < r->warnings.count; i++)
         el_json_string(&j, NULL, r->warnings.items[i]);
     el_json_array_end(&j);
+    const el_warnings *lists[1] = {&r->warnings};
+    el_envelope_warnings(&j, "warning_details", lists, 1);
     el_json_string(&j, "caution", el_assess_caution());
     el_json_object_end(&j);
     return el_json_finish(&j);

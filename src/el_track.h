@@ -67,6 +67,7 @@ typedef struct {
                                      its header gives it ("" when it gives none) */
     double time_origin_s;         /* ISO: the Unix time (s) that time 0 stands for */
     size_t n_channels;
+    el_warnings channel_names;    /* the channels' names (a list of strings, owned) */
     double level;
     /* Trend of the margin over the windows' mid times (weighted least
      * squares, weights 1 / margin_sd^2). */
