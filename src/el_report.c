@@ -689,6 +689,50 @@ el_status el_report_replicates_csv(const el_assessment *r, el_buf *out,
     return EL_OK;
 }
 
+/* ------------------------------------------------------------ modes CSV */
+
+/* ",%.10g", or "," alone for a value that does not exist. */
+static void csv_number(el_buf *out, double v)
+{
+    if (isfinite(v))
+        el_buf_printf(out, ",%.10g", v);
+    else
+        el_buf_printf(out, ",");
+}
+
+el_status el_report_modes_csv(const el_assessment *r, el_buf *out)
+{
+    el_buf_printf(out, "mode,lambda_re,lambda_im,frequency_hz,damping_ratio,decay_rate,"
+                       "time_constant_s,time_constant_kind,level,re_lo,re_hi,"
+                       "frequency_hz_lo,frequency_hz_hi,damping_ratio_lo,damping_ratio_hi,"
+                       "decay_rate_lo,decay_rate_hi\n");
+    for (size_t i = 0; i < r->modes.n_modes; i++) {
+        const el_mode *md = &r->modes.modes[i];
+        el_buf_printf(out, "%zu", i + 1);
+        csv_number(out, md->instantaneous ? -INFINITY : md->lambda_re);
+        csv_number(out, md->lambda_im);
+        csv_number(out, md->at_nyquist ? NAN : md->frequency_hz);
+        csv_number(out, md->damping_ratio);
+        csv_number(out, md->decay_rate);
+        csv_number(out, md->time_constant_s);
+        el_buf_printf(out, ",%s", !isfinite(md->time_constant_s) ? ""
+                                  : md->decay_rate < 0 ? "doubling" : "decay");
+        int has = boot_ran(r) && i < r->boot.n_modes;
+        const el_mode_bounds *b = has ? &r->boot.bounds[i] : NULL;
+        csv_number(out, has ? r->boot.level : NAN);
+        csv_number(out, has ? b->re.lo : NAN);
+        csv_number(out, has ? b->re.hi : NAN);
+        csv_number(out, has ? b->frequency_hz.lo : NAN);
+        csv_number(out, has ? b->frequency_hz.hi : NAN);
+        csv_number(out, has ? b->damping_ratio.lo : NAN);
+        csv_number(out, has ? b->damping_ratio.hi : NAN);
+        csv_number(out, has ? b->decay_rate.lo : NAN);
+        csv_number(out, has ? b->decay_rate.hi : NAN);
+        el_buf_printf(out, "\n");
+    }
+    return out->failed ? EL_ERR_NOMEM : EL_OK;
+}
+
 /* ------------------------------------------------------------ envelope */
 
 /* Warning codes: the first row whose phrase the message contains. The
@@ -717,6 +761,7 @@ static const struct {
     {"no_bounds", "no bounds could be computed"},
     {"no_bounds", "bootstrap replicates cannot support"},
     {"no_bounds", "bounds not yet computed"},
+    {"no_bounds", "bounds are off"},
     {"bootstrap_basis_fixed", "keep the rank-"},
     {"bootstrap_failed_replicates", "singular refit"},
     {"mode_swap", "modes could swap"},

@@ -27,6 +27,16 @@ el_status el_report_json(const el_assessment *r, const el_assess_options *opt,
 el_status el_report_replicates_csv(const el_assessment *r, el_buf *out,
                                    el_error *err);
 
+/* Appends the mode table as CSV to out, one row per mode, least damped
+ * first (docs/cli.md, "--modes-csv"): header
+ * `mode,lambda_re,lambda_im,frequency_hz,damping_ratio,decay_rate,
+ * time_constant_s,time_constant_kind,level,re_lo,re_hi,frequency_hz_lo,
+ * frequency_hz_hi,damping_ratio_lo,damping_ratio_hi,decay_rate_lo,
+ * decay_rate_hi`; numbers with 10 significant digits, an empty field for a
+ * value that does not exist (no bootstrap: every bound and the level).
+ * EL_OK or EL_ERR_NOMEM. */
+el_status el_report_modes_csv(const el_assessment *r, el_buf *out);
+
 /* ------------------------------------------------ the JSON envelope
  * Every subcommand's JSON starts with the same envelope (docs/json.md):
  * `tool`, `version`, `command`, `input` {`file`, `files`, `channel_names`,
