@@ -4,6 +4,7 @@
 
 #include "cli.h"
 #include "el_assess.h"
+#include "el_html_spectrum.h"
 #include "el_io.h"
 #include "el_json.h"
 #include "el_report.h"
@@ -19,6 +20,7 @@ static const cli_option OPTIONS[] = {
     {"peaks", "N", "at most N peaks per channel (default 5)"},
     {"json", "FILE", "write spectra and peaks as JSON (- = standard output)"},
     {"csv", "FILE", "write the spectra as CSV, one column per channel (- = standard output)"},
+    {"html", "FILE", "write a self-contained HTML page: PSD per channel with its peaks"},
     {"quiet", NULL, "print nothing but errors"},
 };
 #define N_OPTIONS (sizeof OPTIONS / sizeof OPTIONS[0])
@@ -219,9 +221,9 @@ static el_status parse(const cli_args *a, el_assess_options *o,
         return st;
     if ((v = val(a, "peaks")) && (st = cli_size("peaks", v, 1, 100, &so->max_peaks, err)))
         return st;
-    const char *inputs[1] = {o->path};
-    const cli_output_path outs[2] = {{"json", val(a, "json")}, {"csv", val(a, "csv")}};
-    return cli_check_output_paths(inputs, 1, outs, 2, err);
+    const cli_output_path outs[3] = {
+        {"json", val(a, "json")}, {"csv", val(a, "csv")}, {"html", val(a, "html")}};
+    return cli_check_output_paths(o->paths, o->n_paths, outs, 3, err);
 }
 
 static el_status run(const cli_args *a, el_error *err)
@@ -240,9 +242,9 @@ static el_status run(const cli_args *a, el_error *err)
     st = el_assess_load(&o, &r, err);
     if (st == EL_OK)
         st = el_spectrum_compute(&r.series, &so, &s, &p, &r.warnings, err);
-    const char *json = val(a, "json"), *csv = val(a, "csv");
-    /* Both built before either is written: a failure leaves no file. */
-    cli_output out[2] = {{json, {0}}, {csv, {0}}};
+    const char *json = val(a, "json"), *csv = val(a, "csv"), *html = val(a, "html");
+    /* All built before any is written: a failure leaves no file. */
+    cli_output out[3] = {{json, {0}}, {csv, {0}}, {html, {0}}};
     el_status built = EL_OK;
     if (st == EL_OK && json != NULL)
         built = spectra_json(&r, &o, &s, &p, &out[0].text);
@@ -250,8 +252,10 @@ static el_status run(const cli_args *a, el_error *err)
         built = spectra_csv(&r, &s, &out[1].text);
     if (st == EL_OK && built != EL_OK)
         st = el_error_set(err, built, "could not build the output");
-    st = cli_write_outputs(out, 2, st, err);
-    int to_stdout = (json && strcmp(json, "-") == 0) || (csv && strcmp(csv, "-") == 0);
+    if (st == EL_OK && html != NULL)
+        st = el_html_spectrum_report(&r, &s, &p, &out[2].text, err);
+    st = cli_write_outputs(out, 3, st, err);
+    int to_stdout = cli_is_stdout(json) || cli_is_stdout(csv) || cli_is_stdout(html);
     if (st == EL_OK && val(a, "quiet") == NULL && !to_stdout) {
         print_table(&r, &s, &p);
         for (size_t i = 0; i < r.input_warnings.count; i++)
