@@ -75,15 +75,6 @@ static el_status parse_assess(const cli_args *a, assess_cli *c, el_error *err)
     return st;
 }
 
-static void show_progress(void *ctx, size_t done, size_t total)
-{
-    (void)ctx;
-    fprintf(stderr, "\rbootstrap: %zu of %zu replicates", done, total);
-    if (done == total)
-        fprintf(stderr, "\r%50s\r", "");
-    fflush(stderr);
-}
-
 /* Builds every requested output in memory first, then writes each file
  * whole (temp file + rename), so a failure while building leaves none. */
 static el_status write_outputs(const assess_cli *c, const el_assessment *r,
@@ -147,13 +138,17 @@ int cli_assess(int argc, char **argv)
         cli_print_error(&err);
         return el_exit_code(st);
     }
-    if (!c.quiet && isatty(fileno(stderr))) {
-        c.assess.boot.progress = show_progress;
-        c.assess.boot.progress_ctx = NULL;
-    }
+    int any_stdout = cli_is_stdout(c.json_path) || cli_is_stdout(c.html_path) ||
+                     cli_is_stdout(c.replicates_path) || cli_is_stdout(c.modes_csv_path);
+    cli_progress *progress = cli_progress_start(cli_progress_wanted(c.quiet) && !any_stdout);
+    c.assess.boot.progress = progress ? cli_progress_replicates : NULL;
+    c.assess.boot.progress_ctx = progress;
+    c.assess.stage_progress = progress ? cli_progress_stage : NULL;
+    c.assess.stage_ctx = progress;
     el_assessment r;
     memset(&r, 0, sizeof r);
     st = el_assess_run(&c.assess, &r, &err);
+    cli_progress_stop(progress);
     if (st == EL_OK)
         st = write_outputs(&c, &r, &err);
     if (st == EL_OK && !c.quiet && !cli_is_stdout(c.json_path) && !cli_is_stdout(c.html_path) &&
@@ -161,7 +156,7 @@ int cli_assess(int argc, char **argv)
         el_buf text = {0};
         st = el_report_text(&r, &c.assess, &text);
         if (st == EL_OK)
-            fputs(text.data, stdout);
+            cli_print_text(text.data);
         else
             el_error_set(&err, st, "could not build the report");
         el_buf_free(&text);

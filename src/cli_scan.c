@@ -25,85 +25,103 @@ static const char *in_log_unit(const el_table *t, double seconds, char *buf, siz
     return buf;
 }
 
-static void print_time(const el_table *t, const el_scan *s)
+static void print_time(FILE *o, const el_table *t, const el_scan *s)
 {
     char a[64], b[64], c[64];
-    printf("  time column  %s (%s", t->names[t->time_column],
+    fprintf(o, "  time column  %s (%s", t->names[t->time_column],
            t->time_is_iso ? "ISO 8601 date-times" : "numbers");
     if (t->time_is_iso)
-        printf(", %s)\n", t->time_zone_known ? "with zone" : "no zone: local time, zone unknown");
+        fprintf(o, ", %s)\n", t->time_zone_known ? "with zone" : "no zone: local time, zone unknown");
     else
-        printf(" in %s, %s)\n", t->time_unit,
+        fprintf(o, " in %s, %s)\n", t->time_unit,
                strcmp(t->time_unit_source, "assumed") == 0 ? "assumed: no unit given"
                                                            : t->time_unit_source);
-    printf("  time span    %s .. %s (%s)\n",
+    fprintf(o, "  time span    %s .. %s (%s)\n",
            el_table_format_time(t, s->time_first, a, sizeof a),
            el_table_format_time(t, s->time_last, b, sizeof b),
            in_log_unit(t, s->time_last - s->time_first, c, sizeof c));
-    printf("  interval     %s (median step; min %s, max %s)\n",
+    fprintf(o, "  interval     %s (median step; min %s, max %s)\n",
            in_log_unit(t, s->dt_median, a, sizeof a), in_log_unit(t, s->dt_min, b, sizeof b),
            in_log_unit(t, s->dt_max, c, sizeof c));
-    printf("  sample rate  %.6g Hz", 1.0 / s->dt_median);
+    fprintf(o, "  sample rate  %.6g Hz", 1.0 / s->dt_median);
     if (!t->time_is_iso && strcmp(t->time_unit, "s") != 0)
-        printf(" (%.6g per %s)", t->time_scale_s / s->dt_median, t->time_unit);
-    printf("\n");
+        fprintf(o, " (%.6g per %s)", t->time_scale_s / s->dt_median, t->time_unit);
+    fprintf(o, "\n");
 }
 
 /* What assess will do with the time column: the rules of el_series_build
  * (el_timebase_survey), so the two never disagree. */
-static void print_order(const el_table *t, const el_scan *s, const el_time_survey *v,
+static void print_order(FILE *o, const el_table *t, const el_scan *s, const el_time_survey *v,
                         size_t max_gap)
 {
     if (v->backward_steps + v->repeated_steps > 0)
-        printf("  time order   %zu step%s back, %zu repeated\n", v->backward_steps,
+        fprintf(o, "  time order   %zu step%s back, %zu repeated\n", v->backward_steps,
                v->backward_steps == 1 ? "" : "s", v->repeated_steps);
     if (!v->usable) {
         char text[1024];
         el_error_format(&v->refusal, text, sizeof text);
-        printf("  assess       refuses this log: %s\n", text);
+        fprintf(o, "  assess       refuses this log: %s\n", text);
         return;
     }
-    printf("  jitter       %.3g%% of the interval (largest deviation from a whole number of "
+    fprintf(o, "  jitter       %.3g%% of the interval (largest deviation from a whole number of "
            "intervals)%s\n", 100.0 * v->jitter, v->resample ? ": assess will resample" : "");
     if (s->long_steps > 0)
-        printf("  time gaps    %zu steps longer than 1.5 intervals; longest %.0f missing "
+        fprintf(o, "  time gaps    %zu steps longer than 1.5 intervals; longest %.0f missing "
                "sample%s%s\n", s->long_steps, v->longest_gap, v->longest_gap == 1 ? "" : "s",
                v->gap_row != 0 ? "" : " (assess fills them)");
     if (v->gap_row != 0)
-        printf("  assess       refuses a window across the gap before line %ld of %s (more "
+        fprintf(o, "  assess       refuses a window across the gap before line %ld of %s (more "
                "than --max-gap %zu samples): choose --from/--to beside it\n",
                t->source_line[v->gap_row], el_table_row_source(t, v->gap_row), max_gap);
 }
 
-static void print_scan(const el_table *t, const el_scan *s, const el_time_survey *v,
+static void print_scan(FILE *o, const el_table *t, const el_scan *s, const el_time_survey *v,
                        size_t max_gap)
 {
-    printf("%s\n", t->source);
+    fprintf(o, "%s\n", t->source);
     if (t->n_sources > 1)
-        printf("  files        %zu, read as one log in order of time\n", t->n_sources);
-    printf("  rows         %zu\n", t->n_rows);
-    printf("  delimiter    %s%s\n", t->delimiter == '\t' ? "tab"
+        fprintf(o, "  files        %zu, read as one log in order of time\n", t->n_sources);
+    fprintf(o, "  rows         %zu\n", t->n_rows);
+    fprintf(o, "  delimiter    %s%s\n", t->delimiter == '\t' ? "tab"
                                   : t->delimiter == ';' ? "semicolon" : "comma",
            t->decimal == ',' ? ", decimal comma" : "");
-    print_time(t, s);
-    print_order(t, s, v, max_gap);
+    print_time(o, t, s);
+    print_order(o, t, s, v, max_gap);
     for (size_t i = 0; i < t->notes.count; i++)
-        printf("  ! %s\n", t->notes.items[i]);
-    printf("\n  %-24s %-10s %8s %12s %12s %12s %12s\n", "channel", "unit", "missing",
+        fprintf(o, "  ! %s\n", t->notes.items[i]);
+    /* 79 columns with names up to 16 characters: fits 80 unwrapped. */
+    fprintf(o, "\n  %-16s %-8s %7s %10s %10s %10s %10s\n", "channel", "unit", "missing",
            "min", "mean", "std", "max");
     for (size_t c = 0; c < t->n_columns; c++) {
         if (c == t->time_column)
             continue;
         const el_column_stats *cs = &s->columns[c];
         if (cs->present == 0) {
-            printf("  %-24s %-10s %8zu %12s %12s %12s %12s\n", t->names[c], t->units[c],
+            fprintf(o, "  %-16s %-8s %7zu %10s %10s %10s %10s\n", t->names[c], t->units[c],
                    cs->missing, "-", "-", "-", "-");
             continue;
         }
-        printf("  %-24s %-10s %8zu %12.6g %12.6g %12.6g %12.6g%s\n", t->names[c],
+        fprintf(o, "  %-16s %-8s %7zu %10.4g %10.4g %10.4g %10.4g%s\n", t->names[c],
                t->units[c], cs->missing, cs->min, cs->mean, cs->std, cs->max,
                cs->constant ? "  constant" : "");
     }
+}
+
+/* The text report, wrapped to the terminal (cli_print_text). */
+static void print_wrapped(const el_table *t, const el_scan *s, const el_time_survey *v,
+                          size_t max_gap)
+{
+    char *text = NULL;
+    size_t size = 0;
+    FILE *o = open_memstream(&text, &size);
+    if (o == NULL) {
+        print_scan(stdout, t, s, v, max_gap);
+        return;
+    }
+    print_scan(o, t, s, v, max_gap);
+    if (fclose(o) == 0 && text != NULL)
+        cli_print_text(text);
+    free(text);
 }
 
 /* The data channels' names (every column but time), pointing into t. */
@@ -261,15 +279,22 @@ int cli_scan(int argc, char **argv)
     el_time_survey survey;
     memset(&table, 0, sizeof table);
     memset(&scan, 0, sizeof scan);
+    const char *json = cli_value(&a, OPTIONS, N_OPTIONS, "json");
+    cli_progress *progress = cli_progress_start(st == EL_OK && cli_progress_wanted(0) &&
+                                                !cli_is_stdout(json));
     if (st == EL_OK) {
         in.time_column = cli_value(&a, OPTIONS, N_OPTIONS, "time");
+        cli_progress_stage(progress, "reading the log", 0, 1);
         st = el_table_read_files(files.paths, files.n_paths, &in, &table, &err);
+        cli_progress_stage(progress, "reading the log", 1, 1);
     }
+    cli_progress_stage(progress, "scanning", 0, 1);
     if (st == EL_OK)
         st = el_scan_table(&table, &scan, &err);
     if (st == EL_OK)
         st = el_timebase_survey(&table, &tb, &survey, &err);
-    const char *json = cli_value(&a, OPTIONS, N_OPTIONS, "json");
+    cli_progress_stage(progress, "scanning", 1, 1);
+    cli_progress_stop(progress);
     if (st == EL_OK && json != NULL) {
         cli_output out[1] = {{json, {0}}};
         el_status built = scan_json(&table, &scan, &survey, tb.max_gap, &files, &out[0].text);
@@ -278,7 +303,7 @@ int cli_scan(int argc, char **argv)
         st = cli_write_outputs(out, 1, built, &err);
     }
     if (st == EL_OK && !cli_is_stdout(json))
-        print_scan(&table, &scan, &survey, tb.max_gap);
+        print_wrapped(&table, &scan, &survey, tb.max_gap);
     else if (st != EL_OK)
         cli_print_error(&err);
     el_scan_free(&scan);

@@ -114,15 +114,6 @@ static int fail_on_exit(const track_cli *c, const el_track_result *r)
     return 0;
 }
 
-static void show_progress(void *ctx, size_t done, size_t total)
-{
-    (void)ctx;
-    fprintf(stderr, "\rtrack: %zu of %zu windows", done, total);
-    if (done == total)
-        fprintf(stderr, "\r%40s\r", "");
-    fflush(stderr);
-}
-
 /* Builds every requested file in memory first, then writes each whole
  * (temp file + rename), so a failure while building leaves none. */
 static el_status write_outputs(const track_cli *c, const el_track_result *r, el_error *err)
@@ -143,7 +134,7 @@ static el_status print_text(const track_cli *c, const el_track_result *r, el_err
     el_buf text = {0};
     el_status st = el_track_report_text(r, &c->track, &text);
     if (st == EL_OK)
-        fputs(text.data, stdout);
+        cli_print_text(text.data);
     else
         el_error_set(err, st, "could not build the report");
     el_buf_free(&text);
@@ -179,13 +170,16 @@ int cli_track(int argc, char **argv)
         cli_print_error(&err);
         return el_exit_code(st);
     }
-    if (!c.quiet && isatty(fileno(stderr))) {
-        c.track.progress = show_progress;
-        c.track.progress_ctx = NULL;
-    }
+    int any_stdout = cli_is_stdout(c.json_path) || cli_is_stdout(c.html_path);
+    cli_progress *progress = cli_progress_start(cli_progress_wanted(c.quiet) && !any_stdout);
+    c.track.progress = progress ? cli_progress_windows : NULL;
+    c.track.progress_ctx = progress;
+    c.track.assess.stage_progress = progress ? cli_progress_stage : NULL;
+    c.track.assess.stage_ctx = progress;
     el_track_result r;
     memset(&r, 0, sizeof r);
     st = el_track_run(&c.track, &r, &err);
+    cli_progress_stop(progress);
     if (st == EL_OK)
         st = write_outputs(&c, &r, &err);
     if (st == EL_OK)

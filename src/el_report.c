@@ -231,8 +231,16 @@ static void text_checks(const el_assessment *r, el_buf *out)
                               ? "deviation from its level" : "envelope",
                           r->series.names[g->growth_channel], g->growth_factor,
                           num(a, 32, g->growth_p));
-        else if (isfinite(g->trend_p))
-            el_buf_printf(out, "; p of no amplitude change %s", num(a, 32, g->trend_p));
+        else if (isfinite(g->trend_p)) {
+            /* Say which way the test went: a p of 0.0146 beside "stationary"
+             * read as a contradiction without the level it is held to. */
+            el_regime_options ro;
+            el_regime_defaults(&ro);
+            el_buf_printf(out, "; amplitude-change test p = %s (%s p < %g)",
+                          num(a, 32, g->trend_p),
+                          g->trend_p < ro.level ? "a change:" : "no change shown: a change needs",
+                          ro.level);
+        }
         el_buf_printf(out, "\n");
     }
     if (v != NULL) {

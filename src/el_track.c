@@ -207,6 +207,7 @@ static el_status assess_window(const el_track_options *opt, const el_assessment 
     el_assess_options o = opt->assess;
     o.boot.seed = opt->assess.boot.seed + (uint64_t)i * TRACK_SEED_STEP;
     o.boot.progress = NULL;
+    o.stage_progress = NULL;      /* the run reports windows, not their stages */
     el_error werr;
     el_error_clear(&werr);
     st = el_assess_execute(plan, &o, &a, &werr);
@@ -677,7 +678,7 @@ el_status el_track_report_text(const el_track_result *r, const el_track_options 
     el_buf_printf(out, "eigenlog %s track  %s\n", EL_VERSION,
                   opt->assess.path ? opt->assess.path : "");
     const char *wu = r->time_unit[0] != '\0' ? r->time_unit : "time units";
-    el_buf_printf(out, "Windows       %zu windows, each %.6g %s long, starting every %.6g %s "
+    el_buf_printf(out, "Windows       %zu, each %.6g %s long, starting every %.6g %s "
                        "from %s; %zu assessed\n",
                   r->n_windows, r->window, wu, r->step, wu,
                   r->n_windows > 0 ? r->windows[0].from_text : "", r->n_ok);
