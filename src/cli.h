@@ -87,6 +87,51 @@ int cli_is_stdout(const char *path);
  * process. Frees every text either way. At most CLI_MAX_OUTPUTS. */
 el_status cli_write_outputs(cli_output *outputs, size_t n, el_status built, el_error *err);
 
+/* Columns to wrap standard output's text to: COLUMNS when it holds a
+ * number (20..1000; the user's or shell's word wins), else the
+ * terminal's width (TIOCGWINSZ) when standard output is a terminal, else
+ * 80. */
+size_t cli_term_width(void);
+
+/* Writes text to standard output wrapped to cli_term_width (el_term_wrap);
+ * unwrapped when out of memory. */
+void cli_print_text(const char *text);
+
+/* printf into memory, then cli_print_text. */
+void cli_printf_wrapped(const char *fmt, ...)
+#if defined(__GNUC__)
+    __attribute__((format(printf, 1, 2)))
+#endif
+    ;
+
+/* Stage progress on standard error (one line, redrawn in place): a CLI
+ * thread draws the current stage's label and count once the stage has
+ * run for 1 s, and clears the line when the stage ends or another
+ * begins, so a stage shorter than 1 s shows nothing and every stage has
+ * its own label. Off (every call a no-op) unless enabled, which callers
+ * give only when standard error is a terminal, without --quiet and when
+ * no output goes to standard output. */
+typedef struct cli_progress cli_progress;
+
+/* Starts the drawing thread; NULL when not enabled or when the thread
+ * cannot start (progress is then simply not shown). */
+cli_progress *cli_progress_start(int enabled);
+
+/* The library's stage callback (el_assess_options.stage_progress): ctx is
+ * a cli_progress (NULL: no-op). done == total ends the stage. */
+void cli_progress_stage(void *ctx, const char *stage, size_t done, size_t total);
+
+/* Adapters for the per-item callbacks (bootstrap replicates, track
+ * windows): the same as cli_progress_stage with "bootstrap" / "windows". */
+void cli_progress_replicates(void *ctx, size_t done, size_t total);
+void cli_progress_windows(void *ctx, size_t done, size_t total);
+
+/* Clears the line and stops the thread. NULL is a no-op. */
+void cli_progress_stop(cli_progress *p);
+
+/* 1 when progress may be drawn: standard error is a terminal and not quiet. */
+int cli_progress_wanted(int quiet);
+
 /* Prints "eigenlog: <formatted error>" to stderr. */
 void cli_print_error(const el_error *err);
 

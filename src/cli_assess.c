@@ -15,6 +15,7 @@ static const cli_option OPTIONS[] = {
     {"json", "FILE", "write the full result as JSON (- = standard output)"},
     {"html", "FILE", "write a self-contained HTML report with plots"},
     {"replicates", "FILE", "write every replicate's matched eigenvalues as CSV"},
+    {"modes-csv", "FILE", "write the mode table as CSV, one row per mode with its bounds"},
     {"fail-on", "unstable|ambiguous", "exit with status 5 when the verdict matches"},
     {"quiet", NULL, "print nothing but errors"},
 };
@@ -31,6 +32,7 @@ typedef struct {
     const char *json_path;
     const char *html_path;
     const char *replicates_path;
+    const char *modes_csv_path;
     int fail_on;
     int quiet;
 } assess_cli;
@@ -59,6 +61,7 @@ static el_status parse_assess(const cli_args *a, assess_cli *c, el_error *err)
     c->json_path = opt_value(a, "json");
     c->html_path = opt_value(a, "html");
     c->replicates_path = opt_value(a, "replicates");
+    c->modes_csv_path = opt_value(a, "modes-csv");
     c->quiet = opt_value(a, "quiet") != NULL;
     el_status st = cli_model_options(a, OPTIONS, N_OPTIONS, &c->assess, err);
     if (st == EL_OK)
@@ -72,21 +75,13 @@ static el_status parse_assess(const cli_args *a, assess_cli *c, el_error *err)
     return st;
 }
 
-static void show_progress(void *ctx, size_t done, size_t total)
-{
-    (void)ctx;
-    fprintf(stderr, "\rbootstrap: %zu of %zu replicates", done, total);
-    if (done == total)
-        fprintf(stderr, "\r%50s\r", "");
-    fflush(stderr);
-}
-
 /* Builds every requested output in memory first, then writes each file
  * whole (temp file + rename), so a failure while building leaves none. */
 static el_status write_outputs(const assess_cli *c, const el_assessment *r,
                                el_error *err)
 {
-    cli_output out[3] = {{c->json_path, {0}}, {c->html_path, {0}}, {c->replicates_path, {0}}};
+    cli_output out[4] = {{c->json_path, {0}}, {c->html_path, {0}}, {c->replicates_path, {0}},
+                         {c->modes_csv_path, {0}}};
     el_status st = EL_OK;
     if (c->json_path != NULL && (st = el_report_json(r, &c->assess, &out[0].text)) != EL_OK)
         el_error_set(err, st, "could not build the JSON report");
@@ -95,7 +90,10 @@ static el_status write_outputs(const assess_cli *c, const el_assessment *r,
                             err);
     if (st == EL_OK && c->replicates_path != NULL)
         st = el_report_replicates_csv(r, &out[2].text, err);
-    return cli_write_outputs(out, 3, st, err);
+    if (st == EL_OK && c->modes_csv_path != NULL &&
+        (st = el_report_modes_csv(r, &out[3].text)) != EL_OK)
+        el_error_set(err, st, "could not build the modes CSV");
+    return cli_write_outputs(out, 4, st, err);
 }
 
 static int verdict_exit(const assess_cli *c, const el_assessment *r)
@@ -127,30 +125,38 @@ int cli_assess(int argc, char **argv)
     if (st == EL_OK)
         st = parse_assess(&a, &c, &err);
     if (st == EL_OK) {
-        const char *inputs[1] = {c.assess.path};
-        const cli_output_path outs[3] = {
-            {"json", c.json_path}, {"replicates", c.replicates_path}, {"html", c.html_path}};
-        st = cli_check_output_paths(inputs, 1, outs, 3, &err);
+        /* Every input file, not only the first, may not be an output. */
+        const char *const *inputs = c.assess.paths;
+        size_t n_inputs = c.assess.n_paths;
+        const cli_output_path outs[4] = {{"json", c.json_path},
+                                         {"replicates", c.replicates_path},
+                                         {"html", c.html_path},
+                                         {"modes-csv", c.modes_csv_path}};
+        st = cli_check_output_paths(inputs, n_inputs, outs, 4, &err);
     }
     if (st != EL_OK) {
         cli_print_error(&err);
         return el_exit_code(st);
     }
-    if (!c.quiet && isatty(fileno(stderr))) {
-        c.assess.boot.progress = show_progress;
-        c.assess.boot.progress_ctx = NULL;
-    }
+    int any_stdout = cli_is_stdout(c.json_path) || cli_is_stdout(c.html_path) ||
+                     cli_is_stdout(c.replicates_path) || cli_is_stdout(c.modes_csv_path);
+    cli_progress *progress = cli_progress_start(cli_progress_wanted(c.quiet) && !any_stdout);
+    c.assess.boot.progress = progress ? cli_progress_replicates : NULL;
+    c.assess.boot.progress_ctx = progress;
+    c.assess.stage_progress = progress ? cli_progress_stage : NULL;
+    c.assess.stage_ctx = progress;
     el_assessment r;
     memset(&r, 0, sizeof r);
     st = el_assess_run(&c.assess, &r, &err);
+    cli_progress_stop(progress);
     if (st == EL_OK)
         st = write_outputs(&c, &r, &err);
     if (st == EL_OK && !c.quiet && !cli_is_stdout(c.json_path) && !cli_is_stdout(c.html_path) &&
-        !cli_is_stdout(c.replicates_path)) {
+        !cli_is_stdout(c.replicates_path) && !cli_is_stdout(c.modes_csv_path)) {
         el_buf text = {0};
         st = el_report_text(&r, &c.assess, &text);
         if (st == EL_OK)
-            fputs(text.data, stdout);
+            cli_print_text(text.data);
         else
             el_error_set(&err, st, "could not build the report");
         el_buf_free(&text);

@@ -873,7 +873,7 @@ static int run_survey(survey_cli *c, el_error *err)
                           c->shard_k ? shard_text : NULL, err);
     int code = st == EL_OK ? table_exit(&t, c->fail_on) : el_exit_code(st);
     if (st == EL_OK && !c->quiet)
-        printf("survey: %zu logs (%zu assessed now, %zu unchanged), %zu failed; %s/survey.csv\n",
+        cli_printf_wrapped("survey: %zu logs (%zu assessed now, %zu unchanged), %zu failed; %s/survey.csv\n",
                end - begin, p.run_total, end - begin - p.run_total, p.failed, dir);
     free_jobs(jobs, end - begin);
     el_survey_table_free(&t);
@@ -960,7 +960,7 @@ static int run_merge(const survey_cli *c, el_error *err)
         st = write_tables(c->out_dir, &t, &jsonl, any_reports ? "reports/" : NULL, NULL, err);
     int code = st == EL_OK ? table_exit(&t, c->fail_on) : el_exit_code(st);
     if (st == EL_OK && !c->quiet)
-        printf("survey: merged %zu shards, %zu logs; %s/survey.csv\n", n, t.count, c->out_dir);
+        cli_printf_wrapped("survey: merged %zu shards, %zu logs; %s/survey.csv\n", n, t.count, c->out_dir);
     el_survey_table_free(&t);
     el_buf_free(&jsonl);
     if (st != EL_OK)
@@ -1152,7 +1152,7 @@ static int run_slurm(survey_cli *c, const cli_args *a, el_error *err)
         st = sbatch(argv, merge_id, sizeof merge_id, err);
     }
     if (st == EL_OK && !c->quiet)
-        printf("survey: submitted job array %s (%zu shards of %zu logs) and merge job %s;\n"
+        cli_printf_wrapped("survey: submitted job array %s (%zu shards of %zu logs) and merge job %s;\n"
                "        the merge writes %s/survey.csv, survey.jsonl and index.html\n",
                array_id, shards, list.count, merge_id, c->out_dir);
     el_survey_list_free(&list);

@@ -1,4 +1,5 @@
 /* cli_track: `eigenlog track FILE [options]`. */
+#include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -15,7 +16,9 @@ static const cli_option OPTIONS[] = {
     {"step", "LEN", "distance between window starts (default: the window, no overlap)"},
     {"json", "FILE", "write the windows and the trend as JSON (- = standard output)"},
     {"html", "FILE", "write a self-contained HTML report with plots"},
-    {"fail-on", "shrinking", "exit with status 5 when the margin is shrinking"},
+    {"fail-on", "unstable|shrinking|undecided",
+     "exit with status 5 when a window is unstable, the margin is shrinking, or a window is "
+     "undecided (ambiguous, without bounds, or failed)"},
     {"quiet", NULL, "print nothing but errors"},
 };
 #define N_OPTIONS (sizeof OPTIONS / sizeof OPTIONS[0])
@@ -24,7 +27,7 @@ typedef struct {
     el_track_options track;
     const char *json_path;
     const char *html_path;
-    int fail_on_shrinking;
+    int fail_on;                  /* 0 none, 1 unstable, 2 shrinking, 3 undecided */
     int quiet;
 } track_cli;
 
@@ -62,7 +65,7 @@ static el_status parse_lengths(const cli_args *a, track_cli *c, el_error *err)
 
 static el_status parse_track(const cli_args *a, track_cli *c, el_error *err)
 {
-    static const char *const fails[] = {"shrinking"};
+    static const char *const fails[] = {"unstable", "shrinking", "undecided"};
     memset(c, 0, sizeof *c);
     el_track_defaults(&c->track);
     el_status files = cli_log_files(a, "eigenlog track FILE... [options]", &c->track.assess,
@@ -77,18 +80,38 @@ static el_status parse_track(const cli_args *a, track_cli *c, el_error *err)
         st = parse_lengths(a, c, err);
     const char *v = opt_value(a, "fail-on");
     int choice = 0;
-    if (st == EL_OK && v != NULL && (st = cli_choice("fail-on", v, fails, 1, &choice, err)) == EL_OK)
-        c->fail_on_shrinking = 1;
+    if (st == EL_OK && v != NULL && (st = cli_choice("fail-on", v, fails, 3, &choice, err)) == EL_OK)
+        c->fail_on = choice + 1;
+    if (st == EL_OK && c->fail_on == 2 && c->track.assess.boot.replicates == 0) {
+        el_error_set(err, EL_ERR_USAGE, "a shrinking margin needs bounds, but --boot is 0");
+        el_error_option(err, "--fail-on");
+        el_error_hint(err, "drop --boot 0 (a few hundred replicates per window are enough)");
+        return EL_ERR_USAGE;
+    }
     return st;
 }
 
-static void show_progress(void *ctx, size_t done, size_t total)
+/* A window no gate may pass as decided: it failed, has no bounds (--boot
+ * 0), or its verdict is ambiguous or undecided. */
+static int window_undecided(const el_track_window *w)
 {
-    (void)ctx;
-    fprintf(stderr, "\rtrack: %zu of %zu windows", done, total);
-    if (done == total)
-        fprintf(stderr, "\r%40s\r", "");
-    fflush(stderr);
+    return !w->ok || w->ambiguous || !isfinite(w->p_stable) ||
+           (w->stability != EL_STABLE && w->stability != EL_UNSTABLE);
+}
+
+/* Exit status 5 when the run matches --fail-on, else 0. */
+static int fail_on_exit(const track_cli *c, const el_track_result *r)
+{
+    if (c->fail_on == 2)
+        return r->trend == EL_TREND_SHRINKING ? 5 : 0;
+    for (size_t i = 0; i < r->n_windows; i++) {
+        const el_track_window *w = &r->windows[i];
+        if (c->fail_on == 1 && w->ok && w->stability == EL_UNSTABLE)
+            return 5;
+        if (c->fail_on == 3 && window_undecided(w))
+            return 5;
+    }
+    return 0;
 }
 
 /* Builds every requested file in memory first, then writes each whole
@@ -111,7 +134,7 @@ static el_status print_text(const track_cli *c, const el_track_result *r, el_err
     el_buf text = {0};
     el_status st = el_track_report_text(r, &c->track, &text);
     if (st == EL_OK)
-        fputs(text.data, stdout);
+        cli_print_text(text.data);
     else
         el_error_set(err, st, "could not build the report");
     el_buf_free(&text);
@@ -137,28 +160,31 @@ int cli_track(int argc, char **argv)
     if (st == EL_OK)
         st = parse_track(&a, &c, &err);
     if (st == EL_OK) {
-        const char *inputs[1] = {c.track.assess.path};
+        /* Every input file, not only the first, may not be an output. */
+        const char *const *inputs = c.track.assess.paths;
+        size_t n_inputs = c.track.assess.n_paths;
         const cli_output_path outs[2] = {{"json", c.json_path}, {"html", c.html_path}};
-        st = cli_check_output_paths(inputs, 1, outs, 2, &err);
+        st = cli_check_output_paths(inputs, n_inputs, outs, 2, &err);
     }
     if (st != EL_OK) {
         cli_print_error(&err);
         return el_exit_code(st);
     }
-    if (!c.quiet && isatty(fileno(stderr))) {
-        c.track.progress = show_progress;
-        c.track.progress_ctx = NULL;
-    }
+    int any_stdout = cli_is_stdout(c.json_path) || cli_is_stdout(c.html_path);
+    cli_progress *progress = cli_progress_start(cli_progress_wanted(c.quiet) && !any_stdout);
+    c.track.progress = progress ? cli_progress_windows : NULL;
+    c.track.progress_ctx = progress;
+    c.track.assess.stage_progress = progress ? cli_progress_stage : NULL;
+    c.track.assess.stage_ctx = progress;
     el_track_result r;
     memset(&r, 0, sizeof r);
     st = el_track_run(&c.track, &r, &err);
+    cli_progress_stop(progress);
     if (st == EL_OK)
         st = write_outputs(&c, &r, &err);
     if (st == EL_OK)
         st = print_text(&c, &r, &err);
-    int code = st != EL_OK ? el_exit_code(st)
-               : c.fail_on_shrinking && r.trend == EL_TREND_SHRINKING ? 5
-                                                                      : 0;
+    int code = st != EL_OK ? el_exit_code(st) : fail_on_exit(&c, &r);
     if (st != EL_OK)
         cli_print_error(&err);
     el_track_free(&r);

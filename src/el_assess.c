@@ -186,8 +186,27 @@ static el_status build_series(const el_assess_options *opt, el_assessment *r,
     return st;
 }
 
+static el_status assess_load(const el_assess_options *opt, el_assessment *r,
+                             el_error *err);
+
+/* Stage progress: begin (done 0) and end (done 1) of a named stage. */
+static void stage(const el_assess_options *opt, const char *name, int end)
+{
+    if (opt->stage_progress != NULL)
+        opt->stage_progress(opt->stage_ctx, name, end ? 1 : 0, 1);
+}
+
 el_status el_assess_load(const el_assess_options *opt, el_assessment *r,
                          el_error *err)
+{
+    stage(opt, "reading the log", 0);
+    el_status loaded = assess_load(opt, r, err);
+    stage(opt, "reading the log", 1);
+    return loaded;
+}
+
+static el_status assess_load(const el_assess_options *opt, el_assessment *r,
+                             el_error *err)
 {
     el_ingest_options in = {opt->time_column, opt->time_unit, opt->decimal, opt->channels,
                             opt->inputs};
@@ -702,6 +721,7 @@ el_status el_assess_execute(el_assess_plan *ap, const el_assess_options *opt,
 {
     if (ap == NULL || opt == NULL || r == NULL)
         return el_error_set(err, EL_ERR_INTERNAL, "el_assess_execute: NULL argument");
+    stage(opt, "fitting the model", 0);
     el_status st = prepare(ap, opt, r, err);
     if (st == EL_OK)
         st = detect_regime(ap, opt, r, err);
@@ -731,9 +751,14 @@ el_status el_assess_execute(el_assess_plan *ap, const el_assess_options *opt,
         st = el_prep_band_check_modes(&r->band, &r->modes, &r->warnings, NULL, err);
     if (st == EL_OK)
         st = crosscheck_spectra(r, err);
+    stage(opt, "fitting the model", 1);
     /* Below the minimum count no bootstrap runs: its bounds and P(stable)
      * would claim a precision a handful of replicates does not have. */
     int boot_run = opt->boot.replicates >= EL_BOOT_MIN_REPLICATES;
+    /* The bootstrap's stage begins before its bias round, which reports
+     * no counts; boot.progress continues it under the same label. */
+    if (st == EL_OK && boot_run)
+        stage(opt, "bootstrap replicates", 0);
     if (st == EL_OK && boot_run)
         st = el_boot_run(&r->series, &fit, &r->model, &r->modes, &opt->boot,
                          &r->boot, &r->warnings, err);
@@ -743,12 +768,17 @@ el_status el_assess_execute(el_assess_plan *ap, const el_assess_options *opt,
         st = withhold_too_few(opt, r, err);
     else if (st == EL_OK && boot_run && r->boot.replicates == 0)
         st = withhold_unbounded(r, err);
-    if (st == EL_OK && r->method_was_auto)
+    if (st == EL_OK && r->method_was_auto) {
+        stage(opt, "cross-check fit", 0);
         st = cross_check(ap, opt, &fit, r, err);
+        stage(opt, "cross-check fit", 1);
+    }
+    stage(opt, "checking the model", 0);
     if (st == EL_OK)
         st = veto_growth(r, err);
     if (st == EL_OK)
         st = validate(ap, r, err);
+    stage(opt, "checking the model", 1);
     /* Problems found after ingest (constant channel, too short a window)
      * are still about this file: name it when the stage could not. */
     if (st != EL_OK && err != NULL && err->file[0] == '\0' && err->option[0] == '\0')

@@ -45,6 +45,15 @@ typedef struct {
     const char *band_text;        /* --band LO:HI as written; NULL = no band limit */
     el_fit_options fit;
     el_boot_options boot;         /* boot.replicates == 0: no bootstrap */
+    /* Stage progress (may be NULL; the library never prints, a front end
+     * draws): called on the calling thread with done 0 when a stage
+     * begins and done == total (1) when it ends. Stages: "reading the
+     * log", "fitting the model", "bootstrap replicates" (begun here
+     * with total 1, then continued by boot.progress with the replicate
+     * counts: a front end should report both under this label),
+     * "cross-check fit" (--method auto), "checking the model". */
+    void (*stage_progress)(void *ctx, const char *stage, size_t done, size_t total);
+    void *stage_ctx;
 } el_assess_options;
 
 /* Fills opt with the defaults (all channels, open window, max_gap 5, the

@@ -231,8 +231,16 @@ static void text_checks(const el_assessment *r, el_buf *out)
                               ? "deviation from its level" : "envelope",
                           r->series.names[g->growth_channel], g->growth_factor,
                           num(a, 32, g->growth_p));
-        else if (isfinite(g->trend_p))
-            el_buf_printf(out, "; p of no amplitude change %s", num(a, 32, g->trend_p));
+        else if (isfinite(g->trend_p)) {
+            /* Say which way the test went: a p of 0.0146 beside "stationary"
+             * read as a contradiction without the level it is held to. */
+            el_regime_options ro;
+            el_regime_defaults(&ro);
+            el_buf_printf(out, "; amplitude-change test p = %s (%s p < %g)",
+                          num(a, 32, g->trend_p),
+                          g->trend_p < ro.level ? "a change:" : "no change shown: a change needs",
+                          ro.level);
+        }
         el_buf_printf(out, "\n");
     }
     if (v != NULL) {
@@ -297,7 +305,7 @@ static void json_strings(el_json *j, const char *key, char *const *items, size_t
     el_json_array_end(j);
 }
 
-static void json_input(el_json *j, const el_assessment *r)
+static void json_input(el_json *j, const el_assessment *r, const el_assess_options *opt)
 {
     const el_table *t = &r->table;
     const el_series *s = &r->series;
@@ -306,6 +314,7 @@ static void json_input(el_json *j, const el_assessment *r)
     char a[64], b[64];
     el_json_object_begin(j, "input");
     el_json_string(j, "file", t->source);
+    el_envelope_input(j, opt->path, opt->paths, opt->n_paths, s->names, s->n_channels);
     el_json_int(j, "rows_read", (long long)t->n_rows);
     el_json_int(j, "rows_used", (long long)s->rows_used);
     json_strings(j, "channels", s->names, s->n_channels);
@@ -645,7 +654,11 @@ el_status el_report_json(const el_assessment *r, const el_assess_options *opt,
     el_json_init(&j, out);
     el_json_object_begin(&j, NULL);
     el_json_string(&j, "eigenlog", EL_VERSION);
-    json_input(&j, r);
+    el_envelope_head(&j, "assess");
+    json_input(&j, r, opt);
+    const el_warnings *lists[2] = {&r->input_warnings, &r->warnings};
+    el_envelope_warnings(&j, "warnings", lists, 2);
+    el_envelope_warnings(&j, "warning_details", lists, 2);
     json_model(&j, r);
     json_modes(&j, r);
     json_plane(&j, r);
@@ -682,4 +695,145 @@ el_status el_report_replicates_csv(const el_assessment *r, el_buf *out,
     if (out->failed)
         return el_error_set(err, EL_ERR_NOMEM, "out of memory");
     return EL_OK;
+}
+
+/* ------------------------------------------------------------ modes CSV */
+
+/* ",%.10g", or "," alone for a value that does not exist. */
+static void csv_number(el_buf *out, double v)
+{
+    if (isfinite(v))
+        el_buf_printf(out, ",%.10g", v);
+    else
+        el_buf_printf(out, ",");
+}
+
+el_status el_report_modes_csv(const el_assessment *r, el_buf *out)
+{
+    el_buf_printf(out, "mode,lambda_re,lambda_im,frequency_hz,damping_ratio,decay_rate,"
+                       "time_constant_s,time_constant_kind,level,re_lo,re_hi,"
+                       "frequency_hz_lo,frequency_hz_hi,damping_ratio_lo,damping_ratio_hi,"
+                       "decay_rate_lo,decay_rate_hi\n");
+    for (size_t i = 0; i < r->modes.n_modes; i++) {
+        const el_mode *md = &r->modes.modes[i];
+        el_buf_printf(out, "%zu", i + 1);
+        csv_number(out, md->instantaneous ? -INFINITY : md->lambda_re);
+        csv_number(out, md->lambda_im);
+        csv_number(out, md->at_nyquist ? NAN : md->frequency_hz);
+        csv_number(out, md->damping_ratio);
+        csv_number(out, md->decay_rate);
+        csv_number(out, md->time_constant_s);
+        el_buf_printf(out, ",%s", !isfinite(md->time_constant_s) ? ""
+                                  : md->decay_rate < 0 ? "doubling" : "decay");
+        int has = boot_ran(r) && i < r->boot.n_modes;
+        const el_mode_bounds *b = has ? &r->boot.bounds[i] : NULL;
+        csv_number(out, has ? r->boot.level : NAN);
+        csv_number(out, has ? b->re.lo : NAN);
+        csv_number(out, has ? b->re.hi : NAN);
+        csv_number(out, has ? b->frequency_hz.lo : NAN);
+        csv_number(out, has ? b->frequency_hz.hi : NAN);
+        csv_number(out, has ? b->damping_ratio.lo : NAN);
+        csv_number(out, has ? b->damping_ratio.hi : NAN);
+        csv_number(out, has ? b->decay_rate.lo : NAN);
+        csv_number(out, has ? b->decay_rate.hi : NAN);
+        el_buf_printf(out, "\n");
+    }
+    return out->failed ? EL_ERR_NOMEM : EL_OK;
+}
+
+/* ------------------------------------------------------------ envelope */
+
+/* Warning codes: the first row whose phrase the message contains. The
+ * phrases are fragments of the messages written by the stages (el_ingest,
+ * el_timebase, el_regime, el_fit, el_verdict, ...); a new warning gets a
+ * row here and a line in docs/json.md, and tests/e2e_schema.sh fails when a
+ * demo log's warning falls through to "other". More specific rows first. */
+static const struct {
+    const char *code;
+    const char *phrase;
+} WARNING_CODES[] = {
+    {"forced_oscillation", "forced oscillation"},
+    {"time_unit_assumed", "names no unit"},
+    {"time_zone_unknown", "carry no zone"},
+    {"time_unit_not_seconds", "the log's time is in"},
+    {"text_columns_skipped", "holding text that no option asked"},
+    {"resampled", "resampled onto a uniform grid"},
+    {"gaps_filled", "missing sample"},
+    {"few_samples", "too few to tell a"},
+    {"no_variation", "no channel varies"},
+    {"growth", "grows by a factor"},
+    {"few_segments", "spectrum: only"},
+    {"spectral_check_skipped", "spectral cross-check skipped"},
+    {"estimators_disagree", "the estimators disagree"},
+    {"cross_check_failed", "could not be run"},
+    {"no_bounds", "no bounds could be computed"},
+    {"no_bounds", "bootstrap replicates cannot support"},
+    {"no_bounds", "bounds not yet computed"},
+    {"no_bounds", "bounds are off"},
+    {"bootstrap_basis_fixed", "keep the rank-"},
+    {"bootstrap_failed_replicates", "singular refit"},
+    {"mode_swap", "modes could swap"},
+    {"bootstrap_not_bias_corrected", "not bias-corrected"},
+    {"bootstrap_reduced", "does not reproduce the point estimate"},
+    {"band_edge", "--band"},
+    {"nyquist", "Nyquist"},
+    {"near_integrator", "nearly singular"},
+    {"few_pairs", "snapshot pairs for"},
+    {"fb_branch", "square-root branch"},
+    {"rank_limited", "rank"},
+    {"residuals_correlated", "residuals strongly correlated"},
+    {"free_run_diverges", "free run diverges"},
+    {"explains_little", "explains little"},
+    {"ambiguous", "ambiguous"},
+    {"ambiguous", "not determined by the data"},
+    {"mixed_estimators", "not all fitted by the same estimator"},
+    {"trend_widened", "widened"},
+    {"trend_not_linear", "does not follow a straight line"},
+    {"extrapolation", "straight-line extrapolation"},
+};
+
+const char *el_warning_code(const char *message)
+{
+    if (message == NULL)
+        return "other";
+    for (size_t i = 0; i < sizeof WARNING_CODES / sizeof WARNING_CODES[0]; i++)
+        if (strstr(message, WARNING_CODES[i].phrase) != NULL)
+            return WARNING_CODES[i].code;
+    return "other";
+}
+
+void el_envelope_head(el_json *j, const char *command)
+{
+    el_json_string(j, "tool", "eigenlog");
+    el_json_string(j, "version", EL_VERSION);
+    el_json_string(j, "command", command);
+}
+
+void el_envelope_input(el_json *j, const char *first, const char *const *paths, size_t n,
+                       char *const *names, size_t n_names)
+{
+    el_json_array_begin(j, "files");
+    if (n == 0)
+        el_json_string(j, NULL, first ? first : "");
+    for (size_t i = 0; i < n; i++)
+        el_json_string(j, NULL, paths[i]);
+    el_json_array_end(j);
+    json_strings(j, "channel_names", names, n_names);
+}
+
+void el_envelope_warnings(el_json *j, const char *key, const el_warnings *const *lists,
+                          size_t n)
+{
+    el_json_array_begin(j, key);
+    for (size_t l = 0; l < n; l++) {
+        if (lists[l] == NULL)
+            continue;
+        for (size_t i = 0; i < lists[l]->count; i++) {
+            el_json_object_begin(j, NULL);
+            el_json_string(j, "code", el_warning_code(lists[l]->items[i]));
+            el_json_string(j, "message", lists[l]->items[i]);
+            el_json_object_end(j);
+        }
+    }
+    el_json_array_end(j);
 }

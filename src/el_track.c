@@ -51,6 +51,7 @@ void el_track_free(el_track_result *result)
         free(result->windows[i].margin_samples);
     free(result->windows);
     el_warnings_free(&result->warnings);
+    el_warnings_free(&result->channel_names);
     memset(result, 0, sizeof *result);
 }
 
@@ -206,6 +207,7 @@ static el_status assess_window(const el_track_options *opt, const el_assessment 
     el_assess_options o = opt->assess;
     o.boot.seed = opt->assess.boot.seed + (uint64_t)i * TRACK_SEED_STEP;
     o.boot.progress = NULL;
+    o.stage_progress = NULL;      /* the run reports windows, not their stages */
     el_error werr;
     el_error_clear(&werr);
     st = el_assess_execute(plan, &o, &a, &werr);
@@ -238,13 +240,6 @@ static el_status check_options(const el_track_options *opt, el_error *err)
                            "e.g. --boot 300)", EL_BOOT_MIN_REPLICATES);
         return EL_ERR_USAGE;
     }
-    if (opt->assess.boot.replicates == 0) {
-        el_error_set(err, EL_ERR_USAGE, "tracking needs bootstrap replicates, but --boot is 0");
-        el_error_option(err, "--boot");
-        el_error_hint(err, "drop --boot 0 (a few hundred replicates per window are enough, "
-                           "e.g. --boot 300)");
-        return EL_ERR_USAGE;
-    }
     return EL_OK;
 }
 
@@ -275,6 +270,8 @@ el_status el_track_run(const el_track_options *opt, el_track_result *result,
         result->span_from = all.series.t0;
         result->span_to = all.series.t0 + (double)all.series.n_samples * all.series.dt;
         result->n_channels = all.series.n_channels;
+        for (size_t c = 0; st == EL_OK && c < all.series.n_channels; c++)
+            st = el_warnings_add(&result->channel_names, "%s", all.series.names[c]);
         result->time_is_iso = all.table.time_is_iso;
         const el_table *t = &all.table;
         const char *unit = t->time_is_iso ? "s"
@@ -286,6 +283,7 @@ el_status el_track_run(const el_track_options *opt, el_track_result *result,
         result->time_origin_s = all.table.time_is_iso ? (double)all.table.time_origin_unix_s
                                                       : 0.0;
         result->level = opt->assess.boot.level;
+        result->bounds_off = opt->assess.boot.replicates == 0;
         /* What ingest decided (text columns skipped, seconds assumed). */
         for (size_t i = 0; st == EL_OK && i < all.table.notes.count; i++)
             st = el_warnings_add(&result->warnings, "%s", all.table.notes.items[i]);
@@ -374,11 +372,12 @@ static el_status trend_data_make(const el_track_result *r, trend_data *d, el_err
     d->y = d->c + r->n_windows + 1;
     for (size_t i = 0; i < r->n_windows; i++) {
         const el_track_window *w = &r->windows[i];
-        if (!w->ok || w->n_replicates == 0 || !isfinite(w->margin))
+        if (!w->ok || (w->n_replicates == 0 && !r->bounds_off) || !isfinite(w->margin))
             continue;
         d->win[d->n] = w;
         d->t[d->n] = 0.5 * (w->t_from + w->t_to);
-        d->w[d->n] = 1.0 / (w->margin_sd * w->margin_sd);
+        /* Bounds off: no spread to weight by, so equal weights. */
+        d->w[d->n] = r->bounds_off ? 1.0 : 1.0 / (w->margin_sd * w->margin_sd);
         d->y[d->n] = w->margin;
         d->n++;
     }
@@ -460,6 +459,21 @@ static el_status warn_mixed_methods(el_track_result *r, el_error *err)
     return EL_OK;
 }
 
+/* --boot 0: the least-squares line through the point margins (equal
+ * weights: d->w is 1) and nothing that needs replicates. */
+static el_status unweighted_trend(el_track_result *r, const trend_data *d, double tw)
+{
+    r->slope = 0.0;
+    for (size_t i = 0; i < d->n; i++)
+        r->slope += d->c[i] * d->y[i];
+    r->margin_now = line_at(d, d->y, r->slope, tw, d->t[d->n - 1]);
+    r->has_trend = 1;
+    return el_warnings_add(&r->warnings,
+                           "bounds are off (--boot 0): the trend is an unweighted "
+                           "least-squares line through the windows' point margins, with "
+                           "no bounds, no P(shrinking), no class and no time to zero");
+}
+
 el_status el_track_fit_trend(el_track_result *r, el_error *err)
 {
     r->has_trend = 0;
@@ -476,6 +490,11 @@ el_status el_track_fit_trend(el_track_result *r, el_error *err)
     if (d.n < TRACK_MIN_WINDOWS || !slope_coefficients(d.n, d.t, d.w, d.c, &tw)) {
         trend_data_free(&d);
         return EL_OK;
+    }
+    if (r->bounds_off) {
+        st = unweighted_trend(r, &d, tw);
+        trend_data_free(&d);
+        return st == EL_OK ? warn_mixed_methods(r, err) : el_error_set(err, st, "out of memory (trend)");
     }
     size_t n_rep = 0;
     for (size_t i = 0; i < d.n; i++)
@@ -606,14 +625,30 @@ static const char *unit_of(const el_track_result *r)
     return r->time_unit[0] != '\0' ? r->time_unit : "time unit";
 }
 
+/* "%.4g" of v, or "n/a" when it does not exist. */
+static const char *num_or_na(char *buf, size_t size, double v)
+{
+    if (isfinite(v))
+        snprintf(buf, size, "%.4g", v);
+    else
+        snprintf(buf, size, "n/a");
+    return buf;
+}
+
 static void text_trend(el_buf *out, const el_track_result *r)
 {
     double pct = 100.0 * r->level;
     const char *u = unit_of(r);
+    char lo[32], hi[32], p[32];
     el_buf_printf(out, "Trend         margin changes by %.4g 1/%s per %s, %.0f%% bounds "
-                       "[%.4g, %.4g]\n", r->slope, u, u, pct, r->slope_lo, r->slope_hi);
-    el_buf_printf(out, "              P(shrinking) = %.3f; margin at the last window "
-                       "(on the line) %.4g 1/%s\n", r->p_shrinking, r->margin_now, u);
+                       "[%s, %s]\n", r->slope, u, u, pct,
+                  num_or_na(lo, sizeof lo, r->slope_lo), num_or_na(hi, sizeof hi, r->slope_hi));
+    if (isfinite(r->p_shrinking))
+        snprintf(p, sizeof p, "%.3f", r->p_shrinking);
+    else
+        snprintf(p, sizeof p, "n/a");
+    el_buf_printf(out, "              P(shrinking) = %s; margin at the last window "
+                       "(on the line) %.4g 1/%s\n", p, r->margin_now, u);
     if (isfinite(r->time_to_zero)) {
         el_buf_printf(out, "              at this rate it reaches zero %.4g %s after "
                            "the last window's middle, %.0f%% bounds [%.4g, ",
@@ -630,6 +665,8 @@ static void text_trend(el_buf *out, const el_track_result *r)
     else if (r->trend == EL_TREND_GROWING)
         el_buf_printf(out, "Verdict       GROWING MARGIN  (P(shrinking) %.3f <= %.3g)\n",
                       r->p_shrinking, 1.0 - r->level);
+    else if (r->bounds_off)
+        el_buf_printf(out, "Verdict       NOT CLASSIFIED  (bounds are off: --boot 0)\n");
     else
         el_buf_printf(out, "Verdict       NO CLEAR TREND  (a call needs P(shrinking) >= %.3g "
                            "or <= %.3g)\n", r->level, 1.0 - r->level);
@@ -640,9 +677,10 @@ el_status el_track_report_text(const el_track_result *r, const el_track_options 
 {
     el_buf_printf(out, "eigenlog %s track  %s\n", EL_VERSION,
                   opt->assess.path ? opt->assess.path : "");
-    el_buf_printf(out, "Windows       %zu of %.6g every %.6g %s from %s; %zu assessed\n",
-                  r->n_windows, r->window, r->step,
-                  r->time_unit[0] != '\0' ? r->time_unit : "time units",
+    const char *wu = r->time_unit[0] != '\0' ? r->time_unit : "time units";
+    el_buf_printf(out, "Windows       %zu, each %.6g %s long, starting every %.6g %s "
+                       "from %s; %zu assessed\n",
+                  r->n_windows, r->window, wu, r->step, wu,
                   r->n_windows > 0 ? r->windows[0].from_text : "", r->n_ok);
     el_buf_printf(out, "Margin = decay rate of the least-damped mode (1/%s; "
                        "below 0: growing)\n", unit_of(r));
@@ -705,10 +743,12 @@ el_status el_track_report_json(const el_track_result *r, const el_track_options 
     el_json_init(&j, out);
     el_json_object_begin(&j, NULL);
     el_json_string(&j, "eigenlog", EL_VERSION);
-    el_json_string(&j, "command", "track");
+    el_envelope_head(&j, "track");
     el_json_object_begin(&j, "input");
     el_json_string(&j, "file", opt->assess.path ? opt->assess.path : "");
     el_json_int(&j, "channels", (long long)r->n_channels);
+    el_envelope_input(&j, opt->assess.path, opt->assess.paths, opt->assess.n_paths,
+                      r->channel_names.items, r->channel_names.count);
     el_json_string(&j, "time_format", r->time_is_iso ? "iso8601" : "number");
     el_json_string(&j, "time_unit", r->time_unit);
     el_json_pair(&j, "span", r->time_origin_s + r->span_from, r->time_origin_s + r->span_to);
@@ -739,6 +779,8 @@ el_status el_track_report_json(const el_track_result *r, const el_track_options 
     for (size_t i = 0; i < r->warnings.count; i++)
         el_json_string(&j, NULL, r->warnings.items[i]);
     el_json_array_end(&j);
+    const el_warnings *lists[1] = {&r->warnings};
+    el_envelope_warnings(&j, "warning_details", lists, 1);
     el_json_string(&j, "caution", el_assess_caution());
     el_json_object_end(&j);
     return el_json_finish(&j);

@@ -13,8 +13,9 @@
 #include "el_io.h"
 
 typedef struct {
-    el_assess_options assess;     /* per window; from/to bound the span tracked, the
-                                     bootstrap must be on (replicates > 0) */
+    el_assess_options assess;     /* per window; from/to bound the span tracked;
+                                     replicates 0 turns bounds off (bounds_off);
+                                     1..99 are refused (too few for bounds) */
     double window;                /* window length, log's own time unit; 0 = span / 8 */
     double step;                  /* start-to-start distance; 0 = window (no overlap) */
     /* Called from the calling thread after each window; may be NULL. */
@@ -67,6 +68,9 @@ typedef struct {
                                      its header gives it ("" when it gives none) */
     double time_origin_s;         /* ISO: the Unix time (s) that time 0 stands for */
     size_t n_channels;
+    el_warnings channel_names;    /* the channels' names (a list of strings, owned) */
+    int bounds_off;               /* --boot 0: no bounds; the trend is an unweighted
+                                     least-squares line, not classified */
     double level;
     /* Trend of the margin over the windows' mid times (weighted least
      * squares, weights 1 / margin_sd^2). */
@@ -89,11 +93,12 @@ typedef struct {
  * resampling), then fits the trend (el_track_fit_trend). A window whose
  * assessment fails is kept with ok = 0 and its message; the others carry
  * on. *result must be zero-initialised (free with el_track_free, also on
- * error). Errors: those of el_assess_load; EL_ERR_USAGE (option
- * "--window", "--step" or "--boot") for a window longer than the span or
- * under 20 samples, a negative step, fewer than 3 windows, or no
- * bootstrap; EL_ERR_NUMERIC when fewer than 3 windows give a margin;
- * EL_ERR_NOMEM. */
+ * error). Replicates 0 (--boot 0) turns bounds off: the windows' point
+ * margins only, and the trend as el_track_fit_trend says for bounds_off.
+ * Errors: those of el_assess_load; EL_ERR_USAGE (option "--window",
+ * "--step" or "--boot") for a window longer than the span or under 20
+ * samples, a negative step, fewer than 3 windows, or 1 to 99 replicates;
+ * EL_ERR_NUMERIC when fewer than 3 windows give a margin; EL_ERR_NOMEM. */
 el_status el_track_run(const el_track_options *opt, el_track_result *result,
                        el_error *err);
 
@@ -111,8 +116,12 @@ el_status el_track_run(const el_track_options *opt, el_track_result *result,
  * last window divided by -slope when shrinking, its bounds from the
  * replicate slopes (+inf when some do not fall). Adds warnings for
  * widening, extrapolation, and windows fitted by different estimators
- * (--method auto chooses per window; their biases differ). Fewer than 3 usable windows: has_trend = 0
- * and EL_OK. EL_ERR_NOMEM. */
+ * (--method auto chooses per window; their biases differ). With
+ * result->bounds_off (no replicates): an ordinary (unweighted) least-squares
+ * line through the windows' point margins gives slope and margin_now only;
+ * bounds, p_shrinking, scatter_ratio and time_to_zero stay NaN, the class
+ * stays undecided, and a warning says so. Fewer than 3 usable windows:
+ * has_trend = 0 and EL_OK. EL_ERR_NOMEM. */
 el_status el_track_fit_trend(el_track_result *result, el_error *err);
 
 /* Text report (terminal) and JSON report of a track run. EL_OK or

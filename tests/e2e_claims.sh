@@ -12,6 +12,8 @@
 # 2^31 - 1, exact in awk's doubles) and Box-Muller, so they are the same
 # on every machine. Run by tests/run.sh with EIGENLOG set.
 set -u
+# The checks read whole sentences: no wrapping (e2e_term.sh tests it).
+export COLUMNS=1000
 bin=${EIGENLOG:-build/rel/eigenlog}
 tmp=$(mktemp -d)
 trap 'rm -rf "$tmp"' EXIT

@@ -198,4 +198,44 @@ check "track screenshot is not blank ($psize bytes)" '[ "$psize" -gt 100000 ]'
 check "no console messages while rendering the track page" \
     '! grep -q ":CONSOLE" "$tmp/track_shot.log"'
 
+
+# 6. The spectrum page: the rig-test demo (4 channels, peaks near 0.80 and
+# 2.40 Hz: datasets/README.md), PSD per channel with banded peaks.
+sp_html=$tmp/spectrum.html
+sp_dom=$tmp/spectrum_dom.html
+"$bin" spectrum datasets/rig_test.csv --html "$sp_html" --quiet >"$tmp/sp.out" 2>"$tmp/sp.err"
+status=$?
+check "eigenlog spectrum --html exits 0 (got $status)" '[ "$status" -eq 0 ]'
+check "spectrum page written" '[ -s "$sp_html" ]'
+"$bin" spectrum datasets/rig_test.csv --html "$tmp/spectrum2.html" --quiet >/dev/null 2>&1
+check "spectrum page: same bytes on a second run" 'cmp -s "$sp_html" "$tmp/spectrum2.html"'
+check "no script in the spectrum page" '! grep -q "<script" "$sp_html"'
+check "no reference outside the spectrum page" \
+    '! grep -q -E "(src|href)=|url\\((http|file|//)|https?:" "$sp_html"'
+load_dom spectrum "spectrum page"
+for k in 1 2 3 4; do
+    check "spectrum figure fig-psd-$k in the DOM with a PSD line" \
+        'figure_text "fig-psd-$k" "$sp_dom" | grep -q "class=\"line psd\""'
+    n=$(figure_text "fig-psd-$k" "$sp_dom" | grep -o 'class="peak-band"' | wc -l)
+    check "fig-psd-$k shades the half-power bands of its 2 peaks (got $n)" '[ "$n" -eq 2 ]'
+    check "peak table peaks-$k in the DOM" 'figure_text "peaks-$k" "$sp_dom" | grep -q "<td"'
+done
+check "spectrum page carries the caution" 'grep -q "class=\"caution" "$sp_dom"'
+check "no non-finite number in the spectrum page" \
+    '! grep -q -i -w -E "nan|inf|infinity" "$sp_dom"'
+if [ "${EL_SAVE_SCREENSHOT:-0}" = 1 ]; then
+    sp_png=$(pwd)/docs/spectrum.png
+else
+    sp_png=$tmp/spectrum.png
+fi
+rm -f "$sp_png"
+run_browser --screenshot="$sp_png" --window-size=1280,2200 --hide-scrollbars \
+    "file://$(cd "$tmp" && pwd)/spectrum.html" >"$tmp/sp_shot.out" 2>"$tmp/sp_shot.log"
+sig=$(od -A n -t x1 -N 8 "$sp_png" 2>/dev/null | tr -d ' \n')
+check "spectrum screenshot is a PNG" '[ "$sig" = "89504e470d0a1a0a" ]'
+psize=$(wc -c <"$sp_png" 2>/dev/null || echo 0)
+check "spectrum screenshot is not blank ($psize bytes)" '[ "$psize" -gt 100000 ]'
+check "no console messages while rendering the spectrum page" \
+    '! grep -q ":CONSOLE" "$tmp/sp_shot.log"'
+
 finish

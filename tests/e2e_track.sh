@@ -84,10 +84,10 @@ check "ISO log: text report labels windows with ISO times" $?
 status=$?
 [ "$status" -eq 1 ] && grep -q -- "--window" "$tmp/err.txt"
 check "window longer than the log: exit 1 naming --window (got $status)" $?
-"$bin" track datasets/booster_pump.csv --boot 0 2>"$tmp/err.txt"
+"$bin" track datasets/booster_pump.csv --boot 50 2>"$tmp/err.txt"
 status=$?
 [ "$status" -eq 1 ] && grep -q -- "--boot" "$tmp/err.txt"
-check "no bootstrap: exit 1 naming --boot (got $status)" $?
+check "too few replicates: exit 1 naming --boot (got $status)" $?
 "$bin" track datasets/booster_pump.csv --step -3 2>"$tmp/err.txt"
 [ $? -eq 1 ] && grep -q -- "--step" "$tmp/err.txt"
 check "negative step: exit 1 naming --step" $?

@@ -295,9 +295,17 @@ static void test_errors(void **state)
     assert_string_equal(err.option, "--window");
     el_track_free(&r);
     el_error_clear(&err);
-    /* No bootstrap: no bounds, no trend. */
-    assert_int_equal(run_track(csv, len, 5.0, 0, &r, &err), EL_ERR_USAGE);
+    /* 1 to 99 replicates: too few for bounds, refused. */
+    assert_int_equal(run_track(csv, len, 5.0, 50, &r, &err), EL_ERR_USAGE);
     assert_string_equal(err.option, "--boot");
+    el_track_free(&r);
+    el_error_clear(&err);
+    /* --boot 0 turns bounds off (its help says so): the windows' point
+     * margins and an unweighted slope, nothing that needs replicates. */
+    assert_int_equal(run_track(csv, len, 5.0, 0, &r, &err), EL_OK);
+    assert_true(r.bounds_off && r.has_trend);
+    assert_true(isfinite(r.slope) && isnan(r.p_shrinking) && isnan(r.slope_lo));
+    assert_int_equal(r.trend, EL_TREND_UNDECIDED);
     el_track_free(&r);
     free(csv);
 }

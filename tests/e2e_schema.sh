@@ -1,0 +1,118 @@
+#!/bin/sh
+# End-to-end: every subcommand's JSON validates against its JSON Schema in
+# docs/schema/ (the envelope of docs/json.md plus the subcommand's body),
+# checked with Debian's python3-jsonschema (draft 2020-12, the validator
+# outside the project): scan, assess (several estimators, --input, a
+# 1-state log, --boot 0 without bounds), track, spectrum, and survey's JSON
+# lines (one log's assess JSON and one survey_error line). Every warning
+# carries a documented code, never "other" on the demo logs. Negative
+# checks: mutated documents fail, so the validation itself can fail.
+# Run by tests/run.sh with EIGENLOG set.
+set -u
+bin=${EIGENLOG:-build/rel/eigenlog}
+py=/usr/bin/python3
+tmp=$(mktemp -d)
+trap 'rm -rf "$tmp"' EXIT
+passed=0
+failed=0
+check() { # check NAME CONDITION-EXIT-STATUS
+    if [ "$2" -eq 0 ]; then passed=$((passed + 1)); else failed=$((failed + 1)); echo "FAIL $1"; fi
+}
+if ! "$py" -c 'import jsonschema' 2>/dev/null; then
+    echo "FAIL e2e_schema: python3-jsonschema is not installed (make deps)"
+    exit 1
+fi
+valid() { # valid COMMAND FILE [--lines]
+    "$py" tests/validate_json.py docs/schema "$@"
+}
+for s in docs/schema/*.schema.json; do
+    "$py" -c 'import json,sys,jsonschema; jsonschema.Draft202012Validator.check_schema(json.load(open(sys.argv[1])))' "$s"
+    check "$s is a valid draft 2020-12 schema" $?
+done
+
+# ---- scan
+for log in rig_test booster_pump fan_warmup; do
+    "$bin" scan "datasets/$log.csv" --json "$tmp/scan_$log.json" >/dev/null &&
+        valid scan "$tmp/scan_$log.json"
+    check "scan --json of $log validates" $?
+done
+"$bin" scan datasets/rig_test.csv --json - >"$tmp/scan_stdout.json" && valid scan "$tmp/scan_stdout.json"
+check "scan --json - writes only the JSON to standard output" $?
+"$bin" scan datasets/rig_test.csv --json datasets/rig_test.csv >/dev/null 2>&1
+[ $? -eq 1 ]
+check "scan --json onto its input is a usage error" $?
+
+# ---- assess
+i=0
+while read -r log opts; do
+    i=$((i + 1))
+    # shellcheck disable=SC2086
+    "$bin" assess "datasets/$log.csv" $opts --json "$tmp/assess_$i.json" --quiet &&
+        valid assess "$tmp/assess_$i.json"
+    check "assess $log $opts validates" $?
+done <<'CASES'
+booster_pump --boot 100
+rig_test --method ls --boot 50
+fan_warmup --method fb --boot 50
+rig_test --method ssi --lags 1 --boot 50
+rig_test --input accel_a --boot 50
+booster_pump --channels flow --boot 50
+fan_warmup --boot 0
+CASES
+grep -q '"bounds_computed": false' "$tmp/assess_7.json" && grep -q '"p_stable": null' "$tmp/assess_7.json"
+check "assess --boot 0: no bounds, p_stable null, still valid" $?
+grep -q '"channels": \[' "$tmp/assess_6.json" && [ "$(grep -c '"lambda": {' "$tmp/assess_6.json")" -eq 1 ]
+check "1-state log: one mode" $?
+
+# ---- track, spectrum
+"$bin" track datasets/fan_warmup.csv --boot 100 --json "$tmp/track.json" --quiet &&
+    valid track "$tmp/track.json"
+check "track --json validates" $?
+"$bin" spectrum datasets/rig_test.csv --json "$tmp/spectrum.json" --quiet &&
+    valid spectrum "$tmp/spectrum.json"
+check "spectrum --json validates" $?
+
+# ---- survey's JSON lines: one good log, one that cannot be read
+mkdir -p "$tmp/logs"
+cp datasets/booster_pump.csv "$tmp/logs/a.csv"
+printf 't,x\n0,1\n' >"$tmp/logs/b.csv"
+"$bin" survey "$tmp/logs" --out "$tmp/sv" --boot 50 --jobs 1 --quiet >/dev/null 2>&1
+valid assess "$tmp/sv/survey.jsonl" --lines
+check "survey.jsonl lines validate (assess schema, survey_error shape)" $?
+grep -q '"survey_error"' "$tmp/sv/survey.jsonl"
+check "survey.jsonl holds the broken log's survey_error line" $?
+
+# ---- every warning has a documented code, none falls through to "other"
+cat "$tmp"/*.json "$tmp/sv/survey.jsonl" | grep -o '"code": *"[a-z_0-9]*"' | sed 's/.*"\([a-z_0-9]*\)"$/\1/' |
+    sort -u >"$tmp/codes.txt"
+[ -s "$tmp/codes.txt" ] && ! grep -qx other "$tmp/codes.txt"
+check "every demo warning has a specific code ($(tr '\n' ' ' <"$tmp/codes.txt"))" $?
+missing=""
+for c in $(cat "$tmp/codes.txt"); do
+    grep -q "^| \`$c\`" docs/json.md || missing="$missing $c"
+done
+[ -z "$missing" ]
+check "every code seen is documented in docs/json.md (missing:$missing)" $?
+
+# ---- negative checks: the validation can fail
+mutate() { # mutate IN OUT PYTHON-STATEMENT-ON-d
+    "$py" -c "import json,sys; d=json.load(open(sys.argv[1])); $3; json.dump(d, open(sys.argv[2], 'w'))" "$1" "$2"
+}
+mutate "$tmp/assess_1.json" "$tmp/bad1.json" 'd["verdict"]["stability"] = "fine"'
+! valid assess "$tmp/bad1.json" 2>/dev/null
+check "an unknown verdict word fails validation" $?
+mutate "$tmp/assess_1.json" "$tmp/bad2.json" 'd["warnings"] = ["a bare string"]'
+! valid assess "$tmp/bad2.json" 2>/dev/null
+check "warnings as strings fail the assess schema" $?
+mutate "$tmp/track.json" "$tmp/bad3.json" 'del d["tool"]'
+! valid track "$tmp/bad3.json" 2>/dev/null
+check "a document without the envelope's tool fails" $?
+mutate "$tmp/spectrum.json" "$tmp/bad4.json" 'd["input"]["files"] = "x.csv"'
+! valid spectrum "$tmp/bad4.json" 2>/dev/null
+check "input.files not a list fails" $?
+mutate "$tmp/scan_rig_test.json" "$tmp/bad5.json" 'd["warning_details"] = [{"code": "x"}]'
+! valid scan "$tmp/bad5.json" 2>/dev/null
+check "a warning without its message fails" $?
+
+echo "e2e_schema: $passed passed, $failed failed"
+[ "$failed" -eq 0 ]
