@@ -476,7 +476,7 @@ static void fig_damping(ctx *c, const track_axis *a)
 
 static const char *stability_word(el_stability s)
 {
-    return s == EL_STABLE ? "stable" : s == EL_UNSTABLE ? "unstable" : "marginal";
+    return el_stability_name(s);
 }
 
 static void num_cell(ctx *c, double v, int sig)

@@ -297,6 +297,50 @@ static void json_strings(el_json *j, const char *key, char *const *items, size_t
     el_json_array_end(j);
 }
 
+/* Table time -> the time base of input.window (Unix seconds for ISO logs). */
+static double json_time(const el_assessment *r, double t)
+{
+    return r->table.time_is_iso ? (double)r->table.time_origin_unix_s + t : t;
+}
+
+/* input.nonstationarity: what breaks the one-operating-point assumption,
+ * and the split-half check behind "drift" (docs/cli.md). */
+static void json_nonstationarity(el_json *j, const el_assessment *r)
+{
+    const el_split_check *sc = &r->split;
+    char when[64];
+    el_json_object_begin(j, "nonstationarity");
+    el_json_string(j, "kind", el_nonstat_name(r->nonstat));
+    el_json_number(j, "where_s", r->nonstat == EL_NONSTAT_NONE ? NAN
+                                 : json_time(r, r->nonstat_t));
+    el_json_string(j, "where_text", r->nonstat == EL_NONSTAT_NONE || !isfinite(r->nonstat_t)
+                                        ? NULL
+                                        : el_table_format_time(&r->table, r->nonstat_t,
+                                                               when, sizeof when));
+    el_json_string(j, "channel", r->nonstat == EL_NONSTAT_LEVEL_SHIFT ||
+                                         r->nonstat == EL_NONSTAT_LEVEL_TREND
+                                     ? r->series.names[r->nonstat_channel]
+                                     : NULL);
+    el_json_object_begin(j, "split_halves");
+    el_json_bool(j, "tested", sc->tested);
+    el_json_string(j, "not_tested", sc->tested ? NULL : sc->not_tested);
+    el_json_number(j, "split_s", sc->tested ? json_time(r, sc->split_t) : NAN);
+    el_json_pair(j, "decay_rate", sc->tested ? sc->decay_rate[0] : NAN,
+                 sc->tested ? sc->decay_rate[1] : NAN);
+    el_json_pair(j, "decay_rate_sd", sc->tested ? sc->decay_sd[0] : NAN,
+                 sc->tested ? sc->decay_sd[1] : NAN);
+    el_json_pair(j, "frequency_hz", sc->tested ? sc->frequency_hz[0] : NAN,
+                 sc->tested ? sc->frequency_hz[1] : NAN);
+    el_json_pair(j, "frequency_hz_sd", sc->tested ? sc->frequency_sd[0] : NAN,
+                 sc->tested ? sc->frequency_sd[1] : NAN);
+    el_json_number(j, "z_decay_rate", sc->z_decay);
+    el_json_number(j, "z_frequency", sc->z_frequency);
+    el_json_number(j, "z_threshold", EL_ASSESS_SPLIT_Z);
+    el_json_bool(j, "drift", sc->drift);
+    el_json_object_end(j);
+    el_json_object_end(j);
+}
+
 static void json_input(el_json *j, const el_assessment *r)
 {
     const el_table *t = &r->table;
@@ -331,6 +375,7 @@ static void json_input(el_json *j, const el_assessment *r)
     el_json_number(j, "step_jitter", s->jitter);
     el_json_int(j, "filled_cells", (long long)s->filled_cells);
     json_strings(j, "warnings", r->input_warnings.items, r->input_warnings.count);
+    json_nonstationarity(j, r);
     el_json_object_end(j);
 }
 

@@ -40,7 +40,7 @@ const char *el_trend_name(el_trend_class trend)
 
 static const char *stability_name(el_stability s)
 {
-    return s == EL_STABLE ? "stable" : s == EL_UNSTABLE ? "unstable" : "marginal";
+    return el_stability_name(s);
 }
 
 void el_track_free(el_track_result *result)
