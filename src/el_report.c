@@ -5,6 +5,7 @@
 #include <stdio.h>
 #include <string.h>
 
+#include "el_advice.h"
 #include "el_json.h"
 
 static const char *resample_name(el_resample_kind k)
@@ -167,7 +168,10 @@ static void text_modes(const el_assessment *r, el_buf *out)
     el_buf_printf(out, "\n");
 }
 
-static void text_verdict(const el_assessment *r, el_buf *out)
+static void text_wrapped(el_buf *out, const char *prefix, const char *text);
+
+static void text_verdict(const el_assessment *r, const el_assess_options *opt,
+                         el_buf *out)
 {
     const el_verdict *v = &r->verdict;
     char a[32], b[32], c[32];
@@ -188,17 +192,19 @@ static void text_verdict(const el_assessment *r, el_buf *out)
                               r->boot.region_probability[k]);
         el_buf_printf(out, "\n");
     }
+    /* The word leads; then one line of reason, one of next step, the
+     * support in words (docs/method.md, "Verdict words"). */
+    el_advice adv;
+    el_advice_assess(r, opt != NULL ? opt->boot.level : NAN, &adv);
     char verdict_word[32];
     snprintf(verdict_word, sizeof verdict_word, "%s", v->stability_name);
     for (char *p = verdict_word; *p; p++)
         *p = (char)(*p >= 'a' && *p <= 'z' ? *p - 32 : *p);
-    el_buf_printf(out, "Verdict       %s%s", verdict_word, v->ambiguous ? " (AMBIGUOUS)" : "");
-    if (isfinite(v->p_stable))
-        el_buf_printf(out, "   P(stable) = %.3f from %zu replicates", v->p_stable,
-                      r->boot.replicates);
-    else
-        el_buf_printf(out, "   P(stable) n/a (no bootstrap ran)");
-    el_buf_printf(out, "\nMargin        decay rate %s 1/s, damping ratio %s (least damped mode)\n\n",
+    el_buf_printf(out, "Verdict       %s\n", verdict_word);
+    text_wrapped(out, "  reason      ", adv.reason);
+    text_wrapped(out, "  next step   ", adv.next_step);
+    text_wrapped(out, "  support     ", adv.support);
+    el_buf_printf(out, "Margin        decay rate %s 1/s, damping ratio %s (least damped mode)\n\n",
                   num(a, 32, v->margin_decay_rate), num(b, 32, v->margin_damping_ratio));
 }
 
@@ -276,14 +282,17 @@ static void text_wrapped(el_buf *out, const char *prefix, const char *text)
 el_status el_report_text(const el_assessment *r, const el_assess_options *opt,
                          el_buf *out)
 {
-    (void)opt;
     text_header(r, out);
     text_model(r, out);
     text_modes(r, out);
-    text_verdict(r, out);
+    text_verdict(r, opt, out);
     text_checks(r, out);
     text_warnings(r, out);
-    text_wrapped(out, "Caution: ", el_assess_caution());
+    el_advice adv;
+    el_advice_assess(r, opt != NULL ? opt->boot.level : NAN, &adv);
+    el_buf_printf(out, "Cautions\n");
+    for (size_t i = 0; i < adv.n_cautions; i++)
+        text_wrapped(out, "  - ", adv.cautions[i]);
     return out->failed ? EL_ERR_NOMEM : EL_OK;
 }
 
@@ -548,7 +557,7 @@ static void json_plane(el_json *j, const el_assessment *r)
     el_json_object_end(j);
 }
 
-static void json_verdict(el_json *j, const el_assessment *r)
+static void json_verdict(el_json *j, const el_assessment *r, const el_assess_options *opt)
 {
     const el_verdict *v = &r->verdict;
     el_json_object_begin(j, "verdict");
@@ -573,6 +582,16 @@ static void json_verdict(el_json *j, const el_assessment *r)
     el_json_object_end(j);
     json_strings(j, "warnings", r->warnings.items, r->warnings.count);
     el_json_string(j, "caution", el_assess_caution());
+    el_advice adv;
+    el_advice_assess(r, opt != NULL ? opt->boot.level : NAN, &adv);
+    el_json_string(j, "cause", el_verdict_cause_code(v->cause));
+    el_json_string(j, "reason", adv.reason);
+    el_json_string(j, "next_step", adv.next_step);
+    el_json_string(j, "support", adv.support);
+    el_json_array_begin(j, "cautions");
+    for (size_t i = 0; i < adv.n_cautions; i++)
+        el_json_string(j, NULL, adv.cautions[i]);
+    el_json_array_end(j);
     el_json_object_end(j);
 }
 
@@ -694,7 +713,7 @@ el_status el_report_json(const el_assessment *r, const el_assess_options *opt,
     json_model(&j, r);
     json_modes(&j, r);
     json_plane(&j, r);
-    json_verdict(&j, r);
+    json_verdict(&j, r, opt);
     json_resampling(&j, r, opt);
     json_prep(&j, r, opt);
     json_regime(&j, r);

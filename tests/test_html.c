@@ -555,7 +555,7 @@ static void test_no_nonfinite_text(void **state)
     f.r.verdict.p_stable = NAN;
     html = report(&f, NULL);
     assert_no_nonfinite_text(html);
-    assert_non_null(strstr(html, "P(stable)</div><div class=\"tv\">n/a"));
+    assert_non_null(strstr(html, "bootstrap support</div><div class=\"tv\">n/a"));
     assert_int_equal(count_of(html, "<path class=\"cloud\""), 0);
     free(html);
     fixture_free(&f);
@@ -781,10 +781,22 @@ static void test_track_ordered(void **state)
         assert_int_equal(count_of(p->html, ids[i]), 1);
         prev = at;
     }
-    el_buf caution = {0};
-    assert_int_equal(el_html_escape(&caution, el_assess_caution()), EL_OK);
-    assert_non_null(strstr(p->html, caution.data));
-    el_buf_free(&caution);
+    /* The track's cautions (el_track_cautions), whole and escaped: they
+     * speak of the windows shown, not of "this window only" (which the
+     * single-window caution says and a track of many windows must not). */
+    char cautions[EL_ADVICE_MAX_CAUTIONS][EL_ADVICE_TEXT_MAX];
+    size_t n_cautions = el_track_cautions(&p->r, cautions);
+    assert_true(n_cautions >= 3);
+    for (size_t i = 0; i < n_cautions; i++) {
+        el_buf caution = {0};
+        assert_int_equal(el_html_escape(&caution, cautions[i]), EL_OK);
+        assert_non_null(strstr(p->html, caution.data));
+        el_buf_free(&caution);
+    }
+    assert_non_null(strstr(p->html, "covers the windows shown only"));
+    assert_non_null(strstr(p->html, "may be lost sooner"));
+    assert_non_null(strstr(p->html, "licensed engineering judgement"));
+    assert_null(strstr(p->html, "window only"));
     assert_non_null(strstr(p->html, "SHRINKING MARGIN"));
     assert_non_null(strstr(p->html, "style=\"--v:var(--unstable)\""));
     assert_non_null(strstr(p->html, "straight-line extrapolation"));
