@@ -622,7 +622,6 @@ static void level_channel(const el_regime *r, const double *x, double t0, double
             double ss = (double)k * (lo - mean) * (lo - mean) +
                         (double)(m - k) * (hi - mean) * (hi - mean);
             shift.z = z;
-            shift.change = hi - lo;
             shift.share = (double)len * ss / sst;
             shift.r2 = ss / sbb;
             best_k = k;
@@ -630,7 +629,11 @@ static void level_channel(const el_regime *r, const double *x, double t0, double
     }
     if (best_k > 0) {
         size_t j = locate_step(x, n, off + (best_k - 1) * len, off + (best_k + 1) * len);
+        double before = 0.0, after = 0.0;
+        for (size_t k = 0; k < n; k++)
+            *(k < j ? &before : &after) += x[k];
         shift.step_t = t0 + ((double)j - 0.5) * dt;
+        shift.change = after / (double)(n - j) - before / (double)j;
     }
     const level_move *cand[2] = {&shift, &trend};
     for (size_t i = 0; i < 2; i++) {

@@ -218,8 +218,9 @@ typedef struct {
     size_t level_channel;
     double level_step_t;        /* shift: halfway between the last sample of the old
                                    level and the first of the new (table time); NaN else */
-    double level_change;        /* shift: new minus old level; trend: the line's rise
-                                   over the window (channel units); NaN when none */
+    double level_change;        /* shift: mean after the located step minus mean
+                                   before it (whole window); trend: the block line's
+                                   rise over the window (channel units); NaN: none */
     double level_move_z;        /* the step's or the slope's z against the block noise */
     double level_share;         /* fraction of the channel's variance it explains */
     double level_fit_r2;        /* fraction of the block means' variance it explains */

@@ -201,7 +201,7 @@ check "manifest survey, no unstable log, --fail-on unstable: exit 0 (got $status
 "$bin" survey "$tmp/campaign.txt" --out "$tmp/man" $opts --fail-on ambiguous >"$tmp/man.txt" 2>&1
 status=$?
 [ "$status" -eq 5 ] && grep -q "(0 assessed now, 3 unchanged)" "$tmp/man.txt"
-check "the marginal fan log matches --fail-on ambiguous: exit 5 (got $status), from the cache" $?
+check "the undecided fan log matches --fail-on ambiguous: exit 5 (got $status), from the cache" $?
 want=$("$bin" assess "$logs/rig_test.csv" $opts --channels accel_a,accel_b --json - | canon)
 got=$(sed -n 1p "$tmp/man/survey.jsonl" | canon)
 [ "$got" = "$want" ] && [ -n "$want" ]
