@@ -239,6 +239,9 @@ static void text_checks(const el_assessment *r, el_buf *out)
                           num(a, 32, g->growth_p));
         else if (isfinite(g->trend_p))
             el_buf_printf(out, "; p of no amplitude change %s", num(a, 32, g->trend_p));
+        if (g->level_kind != EL_REGIME_LEVEL_NONE)
+            el_buf_printf(out, "; but the level of %s %s", r->series.names[g->level_channel],
+                          g->level_kind == EL_REGIME_LEVEL_SHIFT ? "steps" : "trends");
         el_buf_printf(out, "\n");
     }
     if (v != NULL) {
@@ -330,6 +333,19 @@ static void json_nonstationarity(el_json *j, const el_assessment *r)
                                          r->nonstat == EL_NONSTAT_LEVEL_TREND
                                      ? r->series.names[r->nonstat_channel]
                                      : NULL);
+    const el_regime *g = r->regime;
+    if (g != NULL && g->level_kind != EL_REGIME_LEVEL_NONE) {
+        el_json_object_begin(j, "level");
+        el_json_string(j, "kind", g->level_kind == EL_REGIME_LEVEL_SHIFT ? "shift" : "trend");
+        el_json_string(j, "channel", r->series.names[g->level_channel]);
+        el_json_number(j, "change", g->level_change);
+        el_json_number(j, "z", g->level_move_z);
+        el_json_number(j, "share", g->level_share);
+        el_json_number(j, "block_r2", g->level_fit_r2);
+        el_json_object_end(j);
+    } else {
+        el_json_null(j, "level");
+    }
     el_json_object_begin(j, "split_halves");
     el_json_bool(j, "tested", sc->tested);
     el_json_string(j, "not_tested", sc->tested ? NULL : sc->not_tested);
