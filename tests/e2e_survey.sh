@@ -70,6 +70,8 @@ head -n 1 "$out/survey.csv" | grep -q '^file,status,exit_code,error,rows_used,ve
 check "survey.csv header is the documented one (docs/cli.md)" $?
 [ "$(grep -c "" "$out/survey.csv")" -eq $((n_logs + 1)) ]
 check "survey.csv: header and one row per log" $?
+grep -q '/fan_warmup.csv,ok,0,,24000,undecided,true,' "$out/survey.csv"
+check "survey.csv: the drifting fan log's verdict column says undecided" $?
 grep -q "site_a/notes.txt" "$out/survey.csv"
 [ $? -ne 0 ]
 check "a file not named *.csv / *.csv.gz in a folder is not a log" $?

@@ -401,6 +401,28 @@ static void test_well_formed_and_ordered(void **state)
         prev = at;
     }
     assert_null(strstr(html, "fig-timeseries-2"));
+    /* The verdict leads with its word, then one line of reason and one of
+     * next step (el_advice), inside the verdict box; the support is a
+     * count of replicates in words, not a bare probability; the stable
+     * verdict's caution comes first in the cautions. */
+    const char *box = strstr(html, "id=\"verdict\"");
+    const char *word = strstr(html, "<div class=\"vword\">STABLE</div>");
+    const char *why = strstr(html, "<b>Reason:</b>");
+    const char *next = strstr(html, "<b>Next step:</b>");
+    assert_non_null(word);
+    assert_non_null(why);
+    assert_non_null(next);
+    assert_true(box < word && word < why && why < next && next < strstr(html, "id=\"warnings\""));
+    char support[96];
+    size_t n = f.r.boot.replicates;
+    snprintf(support, sizeof support, "%zu <small>of %zu</small>",
+             (size_t)llround(0.97 * (double)n), n);
+    assert_non_null(strstr(html, support));
+    assert_non_null(strstr(html, "(model error not included)"));
+    const char *cautions = strstr(html, "id=\"caution\"");
+    assert_non_null(cautions);
+    assert_non_null(strstr(cautions, "not a licence to raise load, change settings or bypass "
+                                     "protection"));
     /* The caution is the library's text, whole (escaped: it holds an
      * apostrophe). */
     el_buf caution = {0};
