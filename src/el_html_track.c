@@ -515,7 +515,7 @@ static void window_row(ctx *c, size_t i)
         el_svg_put(c, "n/a");
     el_svg_put(c, "</td>");
     el_buf_printf(c->o, "<td>%s%s", stability_word(w->stability),
-                  w->ambiguous ? " (ambiguous)" : "");
+                  w->ambiguous && w->stability != EL_UNDECIDED ? " (ambiguous)" : "");
     if (w->n_warnings > 0)
         el_buf_printf(c->o, "<div class=\"iv\">%zu warning%s</div>", w->n_warnings,
                       w->n_warnings == 1 ? "" : "s");

@@ -610,7 +610,8 @@ static void text_window(el_buf *out, const el_track_window *w, int width)
     else
         el_buf_printf(out, "%6s  ", "n/a");
     el_buf_printf(out, "%s%s  %s\n", stability_name(w->stability),
-                  w->ambiguous ? " (ambiguous)" : "", el_method_name(w->method));
+                  w->ambiguous && w->stability != EL_UNDECIDED ? " (ambiguous)" : "",
+                  el_method_name(w->method));
 }
 
 /* The time unit, "time unit" when the log does not say. */
@@ -756,9 +757,11 @@ el_status el_track_report_json(const el_track_result *r, const el_track_options 
     for (size_t i = 0; i < r->warnings.count; i++)
         el_json_string(&j, NULL, r->warnings.items[i]);
     el_json_array_end(&j);
-    el_json_string(&j, "caution", el_assess_caution());
+    /* The general caution of many windows (the last of the track's
+     * cautions), not the single window's "this window only". */
     char cautions[EL_ADVICE_MAX_CAUTIONS][EL_ADVICE_TEXT_MAX];
     size_t n_cautions = el_track_cautions(r, cautions);
+    el_json_string(&j, "caution", cautions[n_cautions - 1]);
     el_json_array_begin(&j, "cautions");
     for (size_t i = 0; i < n_cautions; i++)
         el_json_string(&j, NULL, cautions[i]);
