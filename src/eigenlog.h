@@ -36,6 +36,7 @@
 #include "el_verdict.h"
 #include "el_spectrum.h"
 #include "el_assess.h"
+#include "el_advice.h"
 #include "el_report.h"
 #include "el_track.h"
 #include "el_demo.h"

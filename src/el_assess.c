@@ -31,6 +31,8 @@ struct el_assess_plan {
     size_t regime_samples, regime_channels;
     el_validation *validation;    /* lent to the results (parts_borrowed) */
     size_t validation_channels, validation_lags, validation_samples;
+    double *half_values;          /* the split-half check's copy of one half */
+    size_t half_capacity;         /* doubles in half_values */
 };
 
 void el_assess_defaults(el_assess_options *opt)
@@ -341,9 +343,7 @@ static el_status veto_growth(el_assessment *r, el_error *err)
         r->verdict.stability != EL_STABLE)
         return EL_OK;
     r->growth_veto = 1;
-    r->verdict.stability = EL_MARGINAL;
-    r->verdict.stability_name = "marginal";
-    r->verdict.ambiguous = 1;
+    el_verdict_set_undecided(&r->verdict, EL_CAUSE_GROWTH);
     return el_regime_growth_warning(r->regime, &r->series, &r->warnings, err);
 }
 
@@ -439,9 +439,7 @@ static el_status withhold_unbounded(el_assessment *r, el_error *err)
 {
     (void)err;
     const char *point = r->verdict.stability_name;
-    r->verdict.stability = EL_MARGINAL;
-    r->verdict.stability_name = "marginal";
-    r->verdict.ambiguous = 1;
+    el_verdict_set_undecided(&r->verdict, EL_CAUSE_NO_BOUNDS);
     return el_warnings_add(&r->warnings,
                            "no bounds could be computed, so no class is confirmed at the "
                            "asked level: the point estimate alone says %s; run without "
@@ -456,9 +454,7 @@ static el_status withhold_too_few(const el_assess_options *opt, el_assessment *r
                                   el_error *err)
 {
     const char *point = r->verdict.stability_name;
-    r->verdict.stability = EL_MARGINAL;
-    r->verdict.stability_name = "marginal";
-    r->verdict.ambiguous = 1;
+    el_verdict_set_undecided(&r->verdict, EL_CAUSE_TOO_FEW_REPLICATES);
     if (el_warnings_add(&r->warnings,
                         "--boot %zu: fewer than %d bootstrap replicates cannot support "
                         "bounds or a probability, so none are given (n/a) and no class "
@@ -559,9 +555,7 @@ static el_status cross_check(el_assess_plan *ap, const el_assess_options *opt,
     if (r->cross_agrees)
         return EL_OK;
     const el_mode *m = r->cross_modes.n_modes > 0 ? &r->cross_modes.modes[0] : NULL;
-    r->verdict.stability = EL_MARGINAL;
-    r->verdict.stability_name = "marginal";
-    r->verdict.ambiguous = 1;
+    el_verdict_set_undecided(&r->verdict, EL_CAUSE_ESTIMATORS_DISAGREE);
     char p_text[32] = "no bootstrap";
     if (isfinite(r->cross_p_stable))
         snprintf(p_text, sizeof p_text, "P(stable) %.3f", r->cross_p_stable);
@@ -574,6 +568,242 @@ static el_status cross_check(el_assess_plan *ap, const el_assess_options *opt,
                            el_method_name(r->model.method),
                            main_class == 1 ? "stable" : "unstable",
                            el_method_name(cf.method), p_text, m ? m->lambda_re : NAN);
+}
+
+/* ---- one operating point: split halves, level shift and trend ------- */
+
+const char *el_nonstat_name(el_nonstat_kind kind)
+{
+    static const char *const names[] = {"none", "drift", "level_shift", "level_trend"};
+    return (unsigned)kind < sizeof names / sizeof names[0] ? names[kind] : "unknown";
+}
+
+/* Half h (0: first, 1: second) of s, floor(N / 2) samples, copied into buf
+ * (column-major like s); names, units and columns are borrowed from s, so
+ * *half must never go through el_series_free. */
+static void half_series(const el_series *s, size_t h, double *buf, el_series *half)
+{
+    size_t m = s->n_samples / 2, off = h == 0 ? 0 : s->n_samples - m;
+    for (size_t c = 0; c < s->n_channels; c++)
+        memcpy(buf + c * m, s->values + c * s->n_samples + off, m * sizeof *buf);
+    memset(half, 0, sizeof *half);
+    half->n_samples = m;
+    half->n_channels = s->n_channels;
+    half->dt = s->dt;
+    half->t0 = s->t0 + (double)off * s->dt;
+    half->values = buf;
+    half->names = s->names;
+    half->units = s->units;
+    half->source_column = s->source_column;
+    half->rows_used = m;
+}
+
+/* Standard deviation over the replicates of mode 0's decay rate and
+ * frequency (matched to the half's point modes by the bootstrap). */
+static void replicate_spread(const el_boot_result *b, double *sd_decay, double *sd_freq)
+{
+    double n = (double)b->replicates, md = 0.0, mf = 0.0, vd = 0.0, vf = 0.0;
+    for (size_t k = 0; k < b->replicates; k++) {
+        md += -b->lambda_re[k * b->n_modes];
+        mf += fabs(b->lambda_im[k * b->n_modes]) / (2.0 * M_PI);
+    }
+    md /= n;
+    mf /= n;
+    for (size_t k = 0; k < b->replicates; k++) {
+        double d = -b->lambda_re[k * b->n_modes] - md;
+        double f = fabs(b->lambda_im[k * b->n_modes]) / (2.0 * M_PI) - mf;
+        vd += d * d;
+        vf += f * f;
+    }
+    *sd_decay = sqrt(vd / (n - 1.0));
+    *sd_freq = sqrt(vf / (n - 1.0));
+}
+
+/* Fits and bootstraps one half; EL_OK with sc->not_tested set when the
+ * half cannot be fitted (too short for the model): the check is then not
+ * made. Only memory and internal errors stop the assessment. */
+static el_status fit_half(el_assess_plan *ap, const el_assess_options *opt,
+                          el_fit_options *fit, const el_series *half, size_t h,
+                          el_split_check *sc, el_error *err)
+{
+    el_model model = {0};
+    el_modes modes = {0};
+    el_boot_result boot = {0};
+    el_warnings quiet = {0};
+    el_error local;
+    el_error_clear(&local);
+    el_status st = plan_fit(ap, half, fit, &model, &quiet, &local);
+    if (st == EL_OK)
+        st = el_modes_compute(&model, &modes, &quiet, &local);
+    if (st == EL_OK) {
+        el_boot_options bo = opt->boot;
+        bo.progress = NULL;
+        bo.replicates = EL_ASSESS_SPLIT_REPLICATES;
+        st = el_boot_run(half, fit, &model, &modes, &bo, &boot, &quiet, &local);
+    }
+    if (st == EL_OK && (boot.replicates < 2 || boot.lambda_re == NULL))
+        snprintf(sc->not_tested, sizeof sc->not_tested,
+                 "the bootstrap of half %zu gave no replicates", h + 1);
+    else if (st == EL_OK) {
+        const el_mode *m = &modes.modes[0];
+        sc->decay_rate[h] = m->decay_rate;
+        sc->frequency_hz[h] = m->pair && !m->at_nyquist ? m->frequency_hz : 0.0;
+        replicate_spread(&boot, &sc->decay_sd[h], &sc->frequency_sd[h]);
+    }
+    el_model_free(&model);
+    el_modes_free(&modes);
+    el_boot_free(&boot);
+    el_warnings_free(&quiet);
+    if (st == EL_ERR_NOMEM || st == EL_ERR_INTERNAL) {
+        *err = local;
+        return st;
+    }
+    if (st != EL_OK)
+        snprintf(sc->not_tested, sizeof sc->not_tested, "half %zu could not be fitted: %.100s",
+                 h + 1, local.message);
+    return EL_OK;
+}
+
+/* The split-half check (el_split_check in el_assess.h). Needs the
+ * bootstrap (its spread is the yardstick) and inputs cut the same way. */
+static el_status split_check(el_assess_plan *ap, const el_assess_options *opt,
+                             const el_fit_options *window_fit, el_assessment *r,
+                             el_error *err)
+{
+    el_split_check *sc = &r->split;
+    const el_series *s = &r->series;
+    size_t m = s->n_samples / 2, nu = r->has_inputs ? r->inputs.n_channels : 0;
+    sc->z_decay = sc->z_frequency = NAN;
+    sc->split_t = s->t0 + 0.5 * (double)(s->n_samples - 1) * s->dt;
+    if (opt->boot.replicates < EL_BOOT_MIN_REPLICATES) {
+        snprintf(sc->not_tested, sizeof sc->not_tested,
+                 "no bootstrap, whose spread the check needs");
+        return EL_OK;
+    }
+    size_t need = m * (s->n_channels + nu);
+    if (ap->half_capacity < need) {
+        free(ap->half_values);
+        ap->half_capacity = 0;
+        ap->half_values = malloc(need * sizeof *ap->half_values);
+        if (ap->half_values == NULL)
+            return el_error_set(err, EL_ERR_NOMEM, "out of memory");
+        ap->half_capacity = need;
+    }
+    el_fit_options fit = *window_fit;
+    fit.rank = (long)r->model.rank;   /* the same modes in both halves */
+    fit.lags = r->model.lags;
+    el_status st = EL_OK;
+    for (size_t h = 0; h < 2 && st == EL_OK && sc->not_tested[0] == '\0'; h++) {
+        el_series half, half_inputs;
+        half_series(s, h, ap->half_values, &half);
+        fit.inputs = NULL;
+        if (nu > 0) {
+            half_series(&r->inputs, h, ap->half_values + m * s->n_channels, &half_inputs);
+            fit.inputs = &half_inputs;
+        }
+        sc->half_t[h][0] = half.t0;
+        sc->half_t[h][1] = half.t0 + (double)(m - 1) * s->dt;
+        st = fit_half(ap, opt, &fit, &half, h, sc, err);
+    }
+    if (st != EL_OK || sc->not_tested[0] != '\0')
+        return st;
+    sc->tested = 1;
+    double sd = hypot(sc->decay_sd[0], sc->decay_sd[1]);
+    double sf = hypot(sc->frequency_sd[0], sc->frequency_sd[1]);
+    sc->z_decay = sd > 0.0 ? (sc->decay_rate[1] - sc->decay_rate[0]) / sd : 0.0;
+    sc->z_frequency = sf > 0.0 ? (sc->frequency_hz[1] - sc->frequency_hz[0]) / sf : 0.0;
+    sc->drift = fabs(sc->z_decay) >= EL_ASSESS_SPLIT_Z ||
+                fabs(sc->z_frequency) >= EL_ASSESS_SPLIT_Z;
+    return EL_OK;
+}
+
+/* A table time as the reports write it: ISO text, or the number and the
+ * log's time unit. */
+static const char *when(const el_table *t, double time, char *buf, size_t size)
+{
+    char num[64];
+    el_table_format_time(t, time, num, sizeof num);
+    snprintf(buf, size, "%.40s%s%.15s", num, t->time_is_iso ? "" : " ",
+             t->time_is_iso ? "" : t->time_unit[0] ? t->time_unit : "s");
+    return buf;
+}
+
+/* What breaks one operating point, first found of a level shift, a level
+ * trend (either can make the halves differ) and drift,
+ * with a warning that names it; a "stable" (or a class withheld for a
+ * reason this explains) becomes undecided for that cause. An "unstable"
+ * stays: the conservative answer needs no second look before acting. */
+static el_status judge_one_point(el_assessment *r, el_error *err)
+{
+    const el_regime *g = r->regime;
+    const el_split_check *sc = &r->split;
+    el_verdict_cause cause = EL_CAUSE_NONE;
+    el_status st = EL_OK;
+    char a[64], b[64];
+    r->nonstat_t = NAN;
+    if (g != NULL && g->level_kind == EL_REGIME_LEVEL_SHIFT) {
+        r->nonstat = EL_NONSTAT_LEVEL_SHIFT;
+        r->nonstat_t = g->level_step_t;
+        r->nonstat_channel = g->level_channel;
+        cause = EL_CAUSE_LEVEL_SHIFT;
+        st = el_warnings_add(
+            &r->warnings,
+            "the level of %s steps by %.4g%s%s at about %s (z = %.2f; the step explains "
+            "%.0f%% of its variance): the window holds two operating points",
+            r->series.names[g->level_channel], g->level_change,
+            r->series.units[g->level_channel][0] ? " " : "", r->series.units[g->level_channel],
+            when(&r->table, g->level_step_t, a, sizeof a), g->level_move_z,
+            100.0 * g->level_share);
+    } else if (g != NULL && g->level_kind == EL_REGIME_LEVEL_TREND) {
+        r->nonstat = EL_NONSTAT_LEVEL_TREND;
+        r->nonstat_channel = g->level_channel;
+        cause = EL_CAUSE_LEVEL_TREND;
+        const el_series *s = &r->series;
+        st = el_warnings_add(
+            &r->warnings,
+            "the level of %s trends by %.4g%s%s from %s to %s (z = %.2f; the line explains "
+            "%.0f%% of its variance): the operating point moves through the window",
+            s->names[g->level_channel], g->level_change,
+            s->units[g->level_channel][0] ? " " : "", s->units[g->level_channel],
+            when(&r->table, s->t0, a, sizeof a),
+            when(&r->table, s->t0 + (double)(s->n_samples - 1) * s->dt, b, sizeof b),
+            g->level_move_z, 100.0 * g->level_share);
+    } else if (sc->drift) {
+        r->nonstat = EL_NONSTAT_DRIFT;
+        r->nonstat_t = sc->split_t;
+        cause = EL_CAUSE_DRIFT;
+        st = el_warnings_add(
+            &r->warnings,
+            "the dynamics drift inside the window: the least damped mode decays at %.4g "
+            "1/s in the first half and %.4g 1/s in the second (z = %.2f), at %.4g and "
+            "%.4g Hz (z = %.2f), split at %s; one linear model cannot describe both "
+            "halves (split-half check, |z| >= %.3g)",
+            sc->decay_rate[0], sc->decay_rate[1], sc->z_decay, sc->frequency_hz[0],
+            sc->frequency_hz[1], sc->z_frequency,
+            when(&r->table, sc->split_t, a, sizeof a), EL_ASSESS_SPLIT_Z);
+    }
+    if (st != EL_OK)
+        return el_error_set(err, st, "out of memory for a warning");
+    if (cause != EL_CAUSE_NONE && r->verdict.stability != EL_UNSTABLE)
+        el_verdict_set_undecided(&r->verdict, cause);
+    return EL_OK;
+}
+
+/* Why the bounds could not decide, once the validation is known: too few
+ * cycles of the least damped mode in the window, or too little of the
+ * data explained by the model (docs/method.md, "Verdict words"). */
+static void refine_bounds_cause(el_assessment *r)
+{
+    if (r->verdict.cause != EL_CAUSE_BOUNDS || r->modes.n_modes == 0)
+        return;
+    const el_mode *m = &r->modes.modes[0];
+    const el_series *s = &r->series;
+    double span_s = (double)s->n_samples * s->dt;
+    double cycles = m->pair && !m->at_nyquist ? m->frequency_hz * span_s : 0.0;
+    if (r->validation != NULL && r->validation->explains_little)
+        r->verdict.cause = EL_CAUSE_LOW_EXCITATION;
+    else if (cycles < EL_ASSESS_FEW_CYCLES)
+        r->verdict.cause = EL_CAUSE_FEW_CYCLES;
 }
 
 el_status el_assess_run(const el_assess_options *opt, el_assessment *r,
@@ -611,6 +841,7 @@ void el_assess_plan_destroy(el_assess_plan *ap)
     el_warnings_free(&ap->band_warnings);
     el_regime_destroy(ap->regime);
     el_validation_destroy(ap->validation);
+    free(ap->half_values);
     free(ap);
 }
 
@@ -777,7 +1008,13 @@ el_status el_assess_execute(el_assess_plan *ap, const el_assess_options *opt,
     if (st == EL_OK)
         st = veto_growth(r, err);
     if (st == EL_OK)
+        st = split_check(ap, opt, &fit, r, err);
+    if (st == EL_OK)
+        st = judge_one_point(r, err);
+    if (st == EL_OK)
         st = validate(ap, r, err);
+    if (st == EL_OK)
+        refine_bounds_cause(r);
     stage(opt, "checking the model", 1);
     /* Problems found after ingest (constant channel, too short a window)
      * are still about this file: name it when the stage could not. */

@@ -60,6 +60,54 @@ typedef struct {
  * fit and bootstrap defaults). */
 void el_assess_defaults(el_assess_options *opt);
 
+/* The split-half check of the one-operating-point assumption
+ * (docs/method.md, "Drift inside the window"): the window is cut into two
+ * halves of floor(N / 2) samples (the middle sample of an odd N is left
+ * out), each half is fitted with the window's estimator, lags and rank and
+ * bootstrapped (EL_ASSESS_SPLIT_REPLICATES replicates, the window's block
+ * rule and seed), and the least damped modes of the halves are compared:
+ * z = (half 2 - half 1) / sqrt(sd1^2 + sd2^2) for the decay rate and the
+ * frequency, sd the standard deviation of the half's matched replicates.
+ * The dynamics drift when |z| >= EL_ASSESS_SPLIT_Z for either. */
+#define EL_ASSESS_SPLIT_REPLICATES 200
+/* Two two-sided tests at a family-wise 1%: 2.807 is the normal quantile
+ * 1 - 0.0025 (Bonferroni); the bootstrap spread of half logs is an
+ * estimate, so the threshold is rounded up to 3 (calibration in
+ * docs/method.md: the steady demo logs give |z| <= 1.4). */
+#define EL_ASSESS_SPLIT_Z 3.0
+
+/* Bounds that straddle the boundary are put down to "too few cycles" when
+ * the least damped mode is real or completes fewer than this many cycles
+ * in the window (project convention: with 20 cycles a lightly damped mode's
+ * decay is usually resolved, docs/method.md "Verdict words"). */
+#define EL_ASSESS_FEW_CYCLES 20.0
+
+typedef struct {
+    int tested;                   /* 1: both halves were fitted and bootstrapped */
+    char not_tested[160];         /* why not, when tested == 0 ("" when tested) */
+    double split_t;               /* table time where the halves meet */
+    double half_t[2][2];          /* [half][start, end] table time */
+    double decay_rate[2];         /* least damped mode of each half, 1/s */
+    double decay_sd[2];           /* its bootstrap standard deviation */
+    double frequency_hz[2];       /* 0 for a real mode */
+    double frequency_sd[2];
+    double z_decay, z_frequency;  /* (half 2 - half 1) / combined sd (NaN: untested) */
+    int drift;                    /* 1: |z| >= EL_ASSESS_SPLIT_Z for either */
+} el_split_check;
+
+/* What breaks the one-operating-point assumption (JSON
+ * input.nonstationarity): the first found of drift (split halves), a level
+ * shift and a level trend (el_regime). */
+typedef enum {
+    EL_NONSTAT_NONE = 0,
+    EL_NONSTAT_DRIFT,
+    EL_NONSTAT_LEVEL_SHIFT,
+    EL_NONSTAT_LEVEL_TREND
+} el_nonstat_kind;
+
+/* "none", "drift", "level_shift", "level_trend". Static text. */
+const char *el_nonstat_name(el_nonstat_kind kind);
+
 /* Everything a report needs. Zero-initialise before el_assess_run. */
 typedef struct {
     el_table table;
@@ -99,6 +147,11 @@ typedef struct {
     el_peaks peaks;
     el_spectrum_mode_check *mode_checks;   /* modes.n_modes, owned (NULL without spectra) */
     el_spectrum_peak_check *peak_checks;   /* per peak slot, owned */
+    el_split_check split;         /* the split-half drift check */
+    el_nonstat_kind nonstat;      /* what breaks one operating point (NONE: nothing found) */
+    double nonstat_t;             /* table time: the split (drift), the step (shift);
+                                     NaN for a trend (it runs through the window) */
+    size_t nonstat_channel;       /* channel of a level shift or trend */
     el_warnings input_warnings;   /* about the data: resampling, filled gaps */
     el_warnings warnings;         /* about the model and the verdict */
 } el_assessment;

@@ -6,6 +6,7 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "el_advice.h"
 #include "el_html.h"
 #include "el_predict.h"
 #include "el_report.h"
@@ -54,10 +55,14 @@ static void verdict_tiles(ctx *c)
     const el_assessment *r = c->r;
     const el_verdict *v = &r->verdict;
     el_svg_put(c, "<div class=\"tiles\">");
-    el_svg_tile_begin(c, "P(stable)");
+    /* Words for the number: a count of replicates, not a bare
+     * probability (docs/method.md, "Verdict words"). */
+    el_svg_tile_begin(c, "bootstrap support");
     if (isfinite(v->p_stable)) {
-        el_buf_printf(c->o, "%.3f</div><div class=\"ts\">share of %zu bootstrap replicates "
-                      "whose least damped mode decays</div>", v->p_stable, r->boot.replicates);
+        size_t n = r->boot.replicates, n_stable = (size_t)llround(v->p_stable * (double)n);
+        el_buf_printf(c->o, "%zu <small>of %zu</small></div><div class=\"ts\">replicates "
+                      "whose least damped mode decays (model error not included)</div>",
+                      n_stable, n);
         el_svg_p_meter(c, v->p_stable, "P(stable)");
     } else {
         el_svg_put(c, "n/a</div><div class=\"ts\">no bootstrap was run: no bounds</div>");
@@ -87,17 +92,37 @@ static void verdict_section(ctx *c)
 {
     const el_verdict *v = &c->r->verdict;
     el_svg_verdict_open(c, el_svg_verdict_colour(v), v->stability_name ? v->stability_name : "n/a");
-    if (v->ambiguous)
+    /* The word leads, then one line of reason and one of next step. An
+     * undecided word says "ambiguous" itself; a decided one with an open
+     * type keeps the tag. */
+    if (v->ambiguous && v->stability != EL_UNDECIDED)
         el_svg_put(c, "<span class=\"vtag\">ambiguous</span>");
-    el_svg_put(c, "<div class=\"vtype\">fixed point: <b>");
+    el_advice adv;
+    el_advice_assess(c->r, c->level, &adv);
+    el_svg_put(c, "<div class=\"vtype\"><b>Reason:</b> ");
+    el_svg_esc(c, adv.reason);
+    el_svg_put(c, "</div><div class=\"vtype\"><b>Next step:</b> ");
+    el_svg_esc(c, adv.next_step);
+    el_svg_put(c, "</div><div class=\"vtype\">fixed point: <b>");
     el_svg_esc(c, v->type[0] ? v->type : "n/a");
-    el_svg_put(c, "</b></div>");
-    if (v->ambiguous && isfinite(c->level))
-        el_buf_printf(c->o, "<div class=\"ts\">the data do not decide at the %.3g %% level"
-                      "</div>", 100.0 * c->level);
-    el_svg_put(c, "</div>\n");
+    el_svg_put(c, "</b></div><div class=\"ts\">");
+    el_svg_esc(c, adv.support);
+    el_svg_put(c, "</div></div>\n");
     verdict_tiles(c);
     el_svg_put(c, "</section>\n");
+}
+
+/* The cautions by verdict (el_advice), the general one last. */
+static void cautions_section(ctx *c)
+{
+    el_advice adv;
+    el_advice_assess(c->r, c->level, &adv);
+    el_svg_put(c, "<aside class=\"caution\" id=\"caution\"><b>Cautions.</b>");
+    for (size_t i = 0; i < adv.n_cautions; i++) {
+        el_svg_put(c, " ");
+        el_svg_esc(c, adv.cautions[i]);
+    }
+    el_svg_put(c, "</aside>\n");
 }
 
 static void warnings_section(ctx *c)
@@ -1161,7 +1186,7 @@ el_status el_html_report(const el_assessment *r, const el_assess_options *opt,
     el_svg_page_begin(&c);
     verdict_section(&c);
     warnings_section(&c);
-    el_svg_caution_section(&c);
+    cautions_section(&c);
     el_svg_put(&c, "<h2 class=\"section\">Eigenvalues</h2>\n");
     fig_eigenvalues(&c, scratch);
     if (r->verdict.has_plane)

@@ -476,7 +476,7 @@ static void fig_damping(ctx *c, const track_axis *a)
 
 static const char *stability_word(el_stability s)
 {
-    return s == EL_STABLE ? "stable" : s == EL_UNSTABLE ? "unstable" : "marginal";
+    return el_stability_name(s);
 }
 
 static void num_cell(ctx *c, double v, int sig)
@@ -515,7 +515,7 @@ static void window_row(ctx *c, size_t i)
         el_svg_put(c, "n/a");
     el_svg_put(c, "</td>");
     el_buf_printf(c->o, "<td>%s%s", stability_word(w->stability),
-                  w->ambiguous ? " (ambiguous)" : "");
+                  w->ambiguous && w->stability != EL_UNDECIDED ? " (ambiguous)" : "");
     if (w->n_warnings > 0)
         el_buf_printf(c->o, "<div class=\"iv\">%zu warning%s</div>", w->n_warnings,
                       w->n_warnings == 1 ? "" : "s");
@@ -695,7 +695,14 @@ el_status el_html_track_report(const el_track_result *r, const el_track_options 
     track_tiles(&c);
     el_svg_put(&c, "</section>\n");
     el_svg_warnings_box(&c, (const el_warnings *const[]){&r->warnings}, 1);
-    el_svg_caution_section(&c);
+    char cautions[EL_ADVICE_MAX_CAUTIONS][EL_ADVICE_TEXT_MAX];
+    size_t n_cautions = el_track_cautions(r, cautions);
+    el_svg_put(&c, "<aside class=\"caution\" id=\"caution\"><b>Cautions.</b>");
+    for (size_t i = 0; i < n_cautions; i++) {
+        el_svg_put(&c, " ");
+        el_svg_esc(&c, cautions[i]);
+    }
+    el_svg_put(&c, "</aside>\n");
     el_svg_put(&c, "<h2 class=\"section\">Margin over time</h2>\n");
     fig_margin(&c, &a);
     el_svg_put(&c, "<h2 class=\"section\">Damping and frequency</h2>\n");

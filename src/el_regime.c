@@ -530,6 +530,148 @@ static void decide(el_regime *r, const el_regime_options *opt)
     r->direction = r->growth ? 1 : changed ? r->change_direction[change_channel] : 0;
 }
 
+/* ---- level check (step 7) --------------------------------------------- */
+
+#define LEVEL_MAX_SEGMENTS 256
+/* Median of a chi-square variable with one degree of freedom. */
+#define CHI2_1_MEDIAN 0.454936423119573
+
+static int cmp_double(const void *a, const void *b)
+{
+    double x = *(const double *)a, y = *(const double *)b;
+    return (x > y) - (x < y);
+}
+
+/* One channel's candidate movement. */
+typedef struct {
+    el_regime_level kind;
+    double z, share, r2, change, step_t;
+} level_move;
+
+/* The least-squares split of x[lo..hi) (j samples before it, within the
+ * whole window x[0..n)): maximises j (n - j) (mean after - mean before)^2. */
+static size_t locate_step(const double *x, size_t n, size_t lo, size_t hi)
+{
+    double total = 0.0, before = 0.0, best = -1.0;
+    size_t best_j = lo;
+    for (size_t k = 0; k < n; k++)
+        total += x[k];
+    for (size_t k = 0; k < lo; k++)
+        before += x[k];
+    for (size_t j = lo; j < hi && j < n; j++) {
+        if (j > 0) {
+            double d = (total - before) / (double)(n - j) - before / (double)j;
+            double score = (double)j * (double)(n - j) * d * d;
+            if (score > best) {
+                best = score;
+                best_j = j;
+            }
+        }
+        before += x[j];
+    }
+    return best_j;
+}
+
+static void level_channel(const el_regime *r, const double *x, double t0, double dt,
+                          level_move *out)
+{
+    size_t m = r->segments, len = r->segment_length, n = r->n_samples;
+    size_t off = (n - m * len) / 2;
+    double b[LEVEL_MAX_SEGMENTS], d2[LEVEL_MAX_SEGMENTS];
+    out->kind = EL_REGIME_LEVEL_NONE;
+    double mean = 0.0, sst = 0.0;
+    for (size_t a = 0; a < m; a++) {
+        double sum = 0.0;
+        for (size_t k = 0; k < len; k++)
+            sum += x[off + a * len + k];
+        b[a] = sum / (double)len;
+        mean += sum;
+    }
+    mean /= (double)(m * len);
+    for (size_t k = off; k < off + m * len; k++)
+        sst += (x[k] - mean) * (x[k] - mean);
+    for (size_t a = 0; a + 1 < m; a++)
+        d2[a] = (b[a + 1] - b[a]) * (b[a + 1] - b[a]);
+    qsort(d2, m - 1, sizeof *d2, cmp_double);
+    double med = (m - 1) % 2 ? d2[(m - 1) / 2] : 0.5 * (d2[(m - 1) / 2 - 1] + d2[(m - 1) / 2]);
+    double v = med / (2.0 * CHI2_1_MEDIAN);
+    double abar = 0.5 * (double)(m - 1), saa = 0.0, sab = 0.0, sbb = 0.0;
+    for (size_t a = 0; a < m; a++) {
+        saa += ((double)a - abar) * ((double)a - abar);
+        sab += ((double)a - abar) * (b[a] - mean);
+        sbb += (b[a] - mean) * (b[a] - mean);
+    }
+    if (!(v > 0.0) || !(sst > 0.0) || !(sbb > 0.0))
+        return;
+    /* Trend. */
+    double slope = sab / saa;
+    level_move trend = {EL_REGIME_LEVEL_TREND, slope / sqrt(v / saa),
+                        (double)len * slope * slope * saa / sst, slope * slope * saa / sbb,
+                        slope * (double)n / (double)len, NAN};
+    /* Step: the best split of the blocks. */
+    level_move shift = {EL_REGIME_LEVEL_SHIFT, 0.0, 0.0, 0.0, NAN, NAN};
+    size_t best_k = 0;
+    for (size_t k = 2; k + 2 <= m; k++) {
+        double lo = 0.0, hi = 0.0;
+        for (size_t a = 0; a < m; a++)
+            *(a < k ? &lo : &hi) += b[a];
+        lo /= (double)k;
+        hi /= (double)(m - k);
+        double z = (hi - lo) / sqrt(v * (1.0 / (double)k + 1.0 / (double)(m - k)));
+        if (fabs(z) > fabs(shift.z)) {
+            double ss = (double)k * (lo - mean) * (lo - mean) +
+                        (double)(m - k) * (hi - mean) * (hi - mean);
+            shift.z = z;
+            shift.share = (double)len * ss / sst;
+            shift.r2 = ss / sbb;
+            best_k = k;
+        }
+    }
+    if (best_k > 0) {
+        size_t j = locate_step(x, n, off + (best_k - 1) * len, off + (best_k + 1) * len);
+        double before = 0.0, after = 0.0;
+        for (size_t k = 0; k < n; k++)
+            *(k < j ? &before : &after) += x[k];
+        shift.step_t = t0 + ((double)j - 0.5) * dt;
+        shift.change = after / (double)(n - j) - before / (double)j;
+    }
+    const level_move *cand[2] = {&shift, &trend};
+    for (size_t i = 0; i < 2; i++) {
+        const level_move *c = cand[i];
+        if (fabs(c->z) >= EL_REGIME_LEVEL_Z && c->share >= EL_REGIME_LEVEL_SHARE &&
+            c->r2 >= EL_REGIME_LEVEL_BLOCK_R2 &&
+            (out->kind == EL_REGIME_LEVEL_NONE || c->r2 > out->r2))
+            *out = *c;
+    }
+}
+
+/* Step 7 over the tested channels: the movement with the largest share. */
+static void level_check(el_regime *r, const el_series *series)
+{
+    r->level_kind = EL_REGIME_LEVEL_NONE;
+    r->level_channel = 0;
+    r->level_step_t = r->level_change = r->level_move_z = NAN;
+    r->level_share = r->level_fit_r2 = NAN;
+    if (r->segments < MIN_SEGMENTS || r->segments > LEVEL_MAX_SEGMENTS)
+        return;
+    for (size_t c = 0; c < r->n_channels; c++) {
+        if (!r->tested[c])
+            continue;
+        level_move mv;
+        level_channel(r, series->values + c * r->n_samples, series->t0, series->dt, &mv);
+        if (mv.kind == EL_REGIME_LEVEL_NONE ||
+            (r->level_kind != EL_REGIME_LEVEL_NONE && !(mv.share > r->level_share)))
+            continue;
+        r->level_kind = mv.kind;
+        r->level_channel = c;
+        r->level_step_t = mv.step_t;
+        r->level_change = mv.change;
+        r->level_move_z = mv.z;
+        r->level_share = mv.share;
+        r->level_fit_r2 = mv.r2;
+    }
+}
+
 el_status el_regime_run(el_regime *r, const el_series *series,
                         const el_regime_options *opt, el_warnings *warnings,
                         el_error *err)
@@ -565,6 +707,10 @@ el_status el_regime_run(el_regime *r, const el_series *series,
     r->segment_length = r->segments ? n / segs : 0;
     for (size_t c = 0; c < r->n_channels; c++)
         set_untested(r, c);
+    r->level_kind = EL_REGIME_LEVEL_NONE;
+    r->level_channel = 0;
+    r->level_step_t = r->level_change = r->level_move_z = NAN;
+    r->level_share = r->level_fit_r2 = NAN;
     el_status st = EL_OK;
     if (r->segments == 0) {
         st = el_warnings_add(warnings, "the window has %zu samples, too few to tell a "
@@ -579,6 +725,7 @@ el_status el_regime_run(el_regime *r, const el_series *series,
                 set_untested(r, c);
         }
         decide(r, opt);
+        level_check(r, series);
         if (r->regime == EL_REGIME_UNDETERMINED)
             st = el_warnings_add(warnings, "no channel varies over the window: its regime "
                                  "cannot be determined");

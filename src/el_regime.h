@@ -26,6 +26,22 @@ typedef enum {
                                       level runs away (monotone, non-oscillatory) */
 } el_regime_growth_test;
 
+/* What the level check found (el_regime_run, step 7). */
+typedef enum {
+    EL_REGIME_LEVEL_NONE = 0,
+    EL_REGIME_LEVEL_SHIFT,        /* the level steps once inside the window */
+    EL_REGIME_LEVEL_TREND         /* the level follows a straight line */
+} el_regime_level;
+
+/* Thresholds of the level check, project conventions calibrated by
+ * tests/data/level_check_calibration.py (docs/method.md): |z| of the step
+ * or slope against the block-to-block noise, the share of the channel's
+ * variance the movement explains, and the share of the block means'
+ * variance it explains (a steady movement, not a wandering one). */
+#define EL_REGIME_LEVEL_Z 4.0
+#define EL_REGIME_LEVEL_SHARE 0.25
+#define EL_REGIME_LEVEL_BLOCK_R2 0.75
+
 /* "stationary", "transient", "driven", "undetermined"; "unknown" else.
  * Static text. */
 const char *el_regime_name(el_regime_class regime);
@@ -118,6 +134,25 @@ void el_regime_defaults(el_regime_options *opt);
  *    a false alarm with probability <= level and the transient decision
  *    <= 2 level (union bound), up to the normal approximation and the
  *    Monte Carlo table; measured in tests/test_regime.c.
+ * 7. Level check (one operating point), per tested channel, on the M
+ *    segment means b_a (raw units): the block noise v (variance of one
+ *    block mean under stationarity) is estimated from successive
+ *    differences, v = median((b_{a+1} - b_a)^2) / (2 x 0.4549) (the
+ *    median of a chi-square with 1 degree of freedom; successive
+ *    differences after von Neumann 1941, Ann. Math. Statist. 12, so a
+ *    steady trend or a single step hardly enters). Trend: the
+ *    least-squares slope of b against a, z = slope / sqrt(v / sum (a -
+ *    abar)^2). Shift: the split k in [2, M - 2] with the largest |z| =
+ *    |mean(b_a, a >= k) - mean(b_a, a < k)| / sqrt(v (1/k + 1/(M - k))),
+ *    then located to the sample by least squares (the split j within one
+ *    segment of k maximising j (N - j) (mean after - mean before)^2). A
+ *    movement is found when |z| >= EL_REGIME_LEVEL_Z, it explains at least
+ *    EL_REGIME_LEVEL_SHARE of the channel's variance over the segments and
+ *    at least EL_REGIME_LEVEL_BLOCK_R2 of the block means' variance; when
+ *    both qualify, the one with the larger block R^2 is named; over
+ *    channels, the one with the largest share. A stationary motion slower
+ *    than about a sixteenth of the window can pass for a level movement
+ *    (measured rates in docs/method.md): one window cannot tell them apart.
  * Limits: these are second-order tests of one window. A change slower
  *    than about a quarter of the window (a non-oscillatory return with a
  *    time constant of T/4 or more, a growth by less than about 5x over a
@@ -176,6 +211,19 @@ typedef struct {
     double *drift_factor;       /* rho^31 (NaN as drift_rate) */
     double *drift_z;            /* Phillips-Perron statistic (NaN: N < 256) */
     double *drift_p_growth;     /* one-sided, per channel, unadjusted (NaN: N < 256) */
+    /* The level check (docs/method.md, "A level that moves"): the channel
+     * whose level moves most, as a step or a straight line; see
+     * el_regime_run, step 7. */
+    el_regime_level level_kind;  /* EL_REGIME_LEVEL_NONE when nothing is found */
+    size_t level_channel;
+    double level_step_t;        /* shift: halfway between the last sample of the old
+                                   level and the first of the new (table time); NaN else */
+    double level_change;        /* shift: mean after the located step minus mean
+                                   before it (whole window); trend: the block line's
+                                   rise over the window (channel units); NaN: none */
+    double level_move_z;        /* the step's or the slope's z against the block noise */
+    double level_share;         /* fraction of the channel's variance it explains */
+    double level_fit_r2;        /* fraction of the block means' variance it explains */
     struct el_regime_work *work;/* FFT plans and scratch */
 } el_regime;
 

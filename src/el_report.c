@@ -5,6 +5,7 @@
 #include <stdio.h>
 #include <string.h>
 
+#include "el_advice.h"
 #include "el_json.h"
 
 static const char *resample_name(el_resample_kind k)
@@ -167,7 +168,10 @@ static void text_modes(const el_assessment *r, el_buf *out)
     el_buf_printf(out, "\n");
 }
 
-static void text_verdict(const el_assessment *r, el_buf *out)
+static void text_wrapped(el_buf *out, const char *prefix, const char *text);
+
+static void text_verdict(const el_assessment *r, const el_assess_options *opt,
+                         el_buf *out)
 {
     const el_verdict *v = &r->verdict;
     char a[32], b[32], c[32];
@@ -188,17 +192,19 @@ static void text_verdict(const el_assessment *r, el_buf *out)
                               r->boot.region_probability[k]);
         el_buf_printf(out, "\n");
     }
+    /* The word leads; then one line of reason, one of next step, the
+     * support in words (docs/method.md, "Verdict words"). */
+    el_advice adv;
+    el_advice_assess(r, opt != NULL ? opt->boot.level : NAN, &adv);
     char verdict_word[32];
     snprintf(verdict_word, sizeof verdict_word, "%s", v->stability_name);
     for (char *p = verdict_word; *p; p++)
         *p = (char)(*p >= 'a' && *p <= 'z' ? *p - 32 : *p);
-    el_buf_printf(out, "Verdict       %s%s", verdict_word, v->ambiguous ? " (AMBIGUOUS)" : "");
-    if (isfinite(v->p_stable))
-        el_buf_printf(out, "   P(stable) = %.3f from %zu replicates", v->p_stable,
-                      r->boot.replicates);
-    else
-        el_buf_printf(out, "   P(stable) n/a (no bootstrap ran)");
-    el_buf_printf(out, "\nMargin        decay rate %s 1/s, damping ratio %s (least damped mode)\n\n",
+    el_buf_printf(out, "Verdict       %s\n", verdict_word);
+    text_wrapped(out, "  reason      ", adv.reason);
+    text_wrapped(out, "  next step   ", adv.next_step);
+    text_wrapped(out, "  support     ", adv.support);
+    el_buf_printf(out, "Margin        decay rate %s 1/s, damping ratio %s (least damped mode)\n\n",
                   num(a, 32, v->margin_decay_rate), num(b, 32, v->margin_damping_ratio));
 }
 
@@ -241,6 +247,9 @@ static void text_checks(const el_assessment *r, el_buf *out)
                           g->trend_p < ro.level ? "a change:" : "no change shown: a change needs",
                           ro.level);
         }
+        if (g->level_kind != EL_REGIME_LEVEL_NONE)
+            el_buf_printf(out, "; but the level of %s %s", r->series.names[g->level_channel],
+                          g->level_kind == EL_REGIME_LEVEL_SHIFT ? "steps" : "trends");
         el_buf_printf(out, "\n");
     }
     if (v != NULL) {
@@ -284,14 +293,17 @@ static void text_wrapped(el_buf *out, const char *prefix, const char *text)
 el_status el_report_text(const el_assessment *r, const el_assess_options *opt,
                          el_buf *out)
 {
-    (void)opt;
     text_header(r, out);
     text_model(r, out);
     text_modes(r, out);
-    text_verdict(r, out);
+    text_verdict(r, opt, out);
     text_checks(r, out);
     text_warnings(r, out);
-    text_wrapped(out, "Caution: ", el_assess_caution());
+    el_advice adv;
+    el_advice_assess(r, opt != NULL ? opt->boot.level : NAN, &adv);
+    el_buf_printf(out, "Cautions\n");
+    for (size_t i = 0; i < adv.n_cautions; i++)
+        text_wrapped(out, "  - ", adv.cautions[i]);
     return out->failed ? EL_ERR_NOMEM : EL_OK;
 }
 
@@ -303,6 +315,63 @@ static void json_strings(el_json *j, const char *key, char *const *items, size_t
     for (size_t i = 0; i < n; i++)
         el_json_string(j, NULL, items[i]);
     el_json_array_end(j);
+}
+
+/* Table time -> the time base of input.window (Unix seconds for ISO logs). */
+static double json_time(const el_assessment *r, double t)
+{
+    return r->table.time_is_iso ? (double)r->table.time_origin_unix_s + t : t;
+}
+
+/* input.nonstationarity: what breaks the one-operating-point assumption,
+ * and the split-half check behind "drift" (docs/cli.md). */
+static void json_nonstationarity(el_json *j, const el_assessment *r)
+{
+    const el_split_check *sc = &r->split;
+    char when[64];
+    el_json_object_begin(j, "nonstationarity");
+    el_json_string(j, "kind", el_nonstat_name(r->nonstat));
+    el_json_number(j, "where_s", r->nonstat == EL_NONSTAT_NONE ? NAN
+                                 : json_time(r, r->nonstat_t));
+    el_json_string(j, "where_text", r->nonstat == EL_NONSTAT_NONE || !isfinite(r->nonstat_t)
+                                        ? NULL
+                                        : el_table_format_time(&r->table, r->nonstat_t,
+                                                               when, sizeof when));
+    el_json_string(j, "channel", r->nonstat == EL_NONSTAT_LEVEL_SHIFT ||
+                                         r->nonstat == EL_NONSTAT_LEVEL_TREND
+                                     ? r->series.names[r->nonstat_channel]
+                                     : NULL);
+    const el_regime *g = r->regime;
+    if (g != NULL && g->level_kind != EL_REGIME_LEVEL_NONE) {
+        el_json_object_begin(j, "level");
+        el_json_string(j, "kind", g->level_kind == EL_REGIME_LEVEL_SHIFT ? "shift" : "trend");
+        el_json_string(j, "channel", r->series.names[g->level_channel]);
+        el_json_number(j, "change", g->level_change);
+        el_json_number(j, "z", g->level_move_z);
+        el_json_number(j, "share", g->level_share);
+        el_json_number(j, "block_r2", g->level_fit_r2);
+        el_json_object_end(j);
+    } else {
+        el_json_null(j, "level");
+    }
+    el_json_object_begin(j, "split_halves");
+    el_json_bool(j, "tested", sc->tested);
+    el_json_string(j, "not_tested", sc->tested ? NULL : sc->not_tested);
+    el_json_number(j, "split_s", sc->tested ? json_time(r, sc->split_t) : NAN);
+    el_json_pair(j, "decay_rate", sc->tested ? sc->decay_rate[0] : NAN,
+                 sc->tested ? sc->decay_rate[1] : NAN);
+    el_json_pair(j, "decay_rate_sd", sc->tested ? sc->decay_sd[0] : NAN,
+                 sc->tested ? sc->decay_sd[1] : NAN);
+    el_json_pair(j, "frequency_hz", sc->tested ? sc->frequency_hz[0] : NAN,
+                 sc->tested ? sc->frequency_hz[1] : NAN);
+    el_json_pair(j, "frequency_hz_sd", sc->tested ? sc->frequency_sd[0] : NAN,
+                 sc->tested ? sc->frequency_sd[1] : NAN);
+    el_json_number(j, "z_decay_rate", sc->z_decay);
+    el_json_number(j, "z_frequency", sc->z_frequency);
+    el_json_number(j, "z_threshold", EL_ASSESS_SPLIT_Z);
+    el_json_bool(j, "drift", sc->drift);
+    el_json_object_end(j);
+    el_json_object_end(j);
 }
 
 static void json_input(el_json *j, const el_assessment *r, const el_assess_options *opt)
@@ -340,6 +409,7 @@ static void json_input(el_json *j, const el_assessment *r, const el_assess_optio
     el_json_number(j, "step_jitter", s->jitter);
     el_json_int(j, "filled_cells", (long long)s->filled_cells);
     json_strings(j, "warnings", r->input_warnings.items, r->input_warnings.count);
+    json_nonstationarity(j, r);
     el_json_object_end(j);
 }
 
@@ -512,7 +582,7 @@ static void json_plane(el_json *j, const el_assessment *r)
     el_json_object_end(j);
 }
 
-static void json_verdict(el_json *j, const el_assessment *r)
+static void json_verdict(el_json *j, const el_assessment *r, const el_assess_options *opt)
 {
     const el_verdict *v = &r->verdict;
     el_json_object_begin(j, "verdict");
@@ -537,6 +607,16 @@ static void json_verdict(el_json *j, const el_assessment *r)
     el_json_object_end(j);
     json_strings(j, "warnings", r->warnings.items, r->warnings.count);
     el_json_string(j, "caution", el_assess_caution());
+    el_advice adv;
+    el_advice_assess(r, opt != NULL ? opt->boot.level : NAN, &adv);
+    el_json_string(j, "cause", el_verdict_cause_code(v->cause));
+    el_json_string(j, "reason", adv.reason);
+    el_json_string(j, "next_step", adv.next_step);
+    el_json_string(j, "support", adv.support);
+    el_json_array_begin(j, "cautions");
+    for (size_t i = 0; i < adv.n_cautions; i++)
+        el_json_string(j, NULL, adv.cautions[i]);
+    el_json_array_end(j);
     el_json_object_end(j);
 }
 
@@ -662,7 +742,7 @@ el_status el_report_json(const el_assessment *r, const el_assess_options *opt,
     json_model(&j, r);
     json_modes(&j, r);
     json_plane(&j, r);
-    json_verdict(&j, r);
+    json_verdict(&j, r, opt);
     json_resampling(&j, r, opt);
     json_prep(&j, r, opt);
     json_regime(&j, r);

@@ -40,7 +40,20 @@ const char *el_trend_name(el_trend_class trend)
 
 static const char *stability_name(el_stability s)
 {
-    return s == EL_STABLE ? "stable" : s == EL_UNSTABLE ? "unstable" : "marginal";
+    return el_stability_name(s);
+}
+
+size_t el_track_cautions(const el_track_result *r, char out[][EL_ADVICE_TEXT_MAX])
+{
+    double mid = NAN;
+    for (size_t i = 0; i < r->n_windows; i++) {
+        const el_track_window *w = &r->windows[i];
+        if (w->ok && w->n_replicates > 0 && isfinite(w->margin))
+            mid = 0.5 * (w->t_from + w->t_to);
+    }
+    double zero = r->time_is_iso ? r->time_origin_s + mid + r->time_to_zero : NAN;
+    return el_advice_track_cautions(r->trend == EL_TREND_SHRINKING, r->time_is_iso, zero,
+                                    out);
 }
 
 void el_track_free(el_track_result *result)
@@ -580,8 +593,8 @@ el_status el_track_fit_trend(el_track_result *r, el_error *err)
     if (st == EL_OK && isfinite(r->time_to_zero))
         st = el_warnings_add(&r->warnings,
                              "the time to zero margin is a straight-line extrapolation of "
-                             "the trend beyond the log: a forecast under the assumption that "
-                             "nothing changes, not a prediction");
+                             "the trend beyond the log, which assumes the margin keeps "
+                             "falling at the same rate: it may be lost sooner");
     trend_data_free(&d);
     if (st != EL_OK)
         return el_error_set(err, st, "out of memory (trend)");
@@ -616,7 +629,8 @@ static void text_window(el_buf *out, const el_track_window *w, int width)
     else
         el_buf_printf(out, "%6s  ", "n/a");
     el_buf_printf(out, "%s%s  %s\n", stability_name(w->stability),
-                  w->ambiguous ? " (ambiguous)" : "", el_method_name(w->method));
+                  w->ambiguous && w->stability != EL_UNDECIDED ? " (ambiguous)" : "",
+                  el_method_name(w->method));
 }
 
 /* The time unit, "time unit" when the log does not say. */
@@ -697,7 +711,11 @@ el_status el_track_report_text(const el_track_result *r, const el_track_options 
         text_trend(out, r);
     for (size_t i = 0; i < r->warnings.count; i++)
         el_buf_printf(out, "  ! %s\n", r->warnings.items[i]);
-    el_buf_printf(out, "Caution: %s\n", el_assess_caution());
+    char cautions[EL_ADVICE_MAX_CAUTIONS][EL_ADVICE_TEXT_MAX];
+    size_t n_cautions = el_track_cautions(r, cautions);
+    el_buf_printf(out, "Cautions\n");
+    for (size_t i = 0; i < n_cautions; i++)
+        el_buf_printf(out, "  - %s\n", cautions[i]);
     return out->failed ? EL_ERR_NOMEM : EL_OK;
 }
 
@@ -781,7 +799,15 @@ el_status el_track_report_json(const el_track_result *r, const el_track_options 
     el_json_array_end(&j);
     const el_warnings *lists[1] = {&r->warnings};
     el_envelope_warnings(&j, "warning_details", lists, 1);
-    el_json_string(&j, "caution", el_assess_caution());
+    /* The general caution of many windows (the last of the track's
+     * cautions), not the single window's "this window only". */
+    char cautions[EL_ADVICE_MAX_CAUTIONS][EL_ADVICE_TEXT_MAX];
+    size_t n_cautions = el_track_cautions(r, cautions);
+    el_json_string(&j, "caution", cautions[n_cautions - 1]);
+    el_json_array_begin(&j, "cautions");
+    for (size_t i = 0; i < n_cautions; i++)
+        el_json_string(&j, NULL, cautions[i]);
+    el_json_array_end(&j);
     el_json_object_end(&j);
     return el_json_finish(&j);
 }

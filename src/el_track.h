@@ -8,6 +8,7 @@
 
 #include <stddef.h>
 
+#include "el_advice.h"
 #include "el_assess.h"
 #include "el_error.h"
 #include "el_io.h"
@@ -123,6 +124,12 @@ el_status el_track_run(const el_track_options *opt, el_track_result *result,
  * stays undecided, and a warning says so. Fewer than 3 usable windows:
  * has_trend = 0 and EL_OK. EL_ERR_NOMEM. */
 el_status el_track_fit_trend(el_track_result *result, el_error *err);
+
+/* The cautions of a track report (el_advice_track_cautions) into out:
+ * the time-to-zero note when the margin is shrinking, with its clock time
+ * (UTC) for ISO logs: the last usable window's middle plus time_to_zero.
+ * Returns the count (<= EL_ADVICE_MAX_CAUTIONS). Can't fail. */
+size_t el_track_cautions(const el_track_result *r, char out[][EL_ADVICE_TEXT_MAX]);
 
 /* Text report (terminal) and JSON report of a track run. EL_OK or
  * EL_ERR_NOMEM. */

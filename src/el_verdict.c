@@ -322,11 +322,34 @@ static el_status check_args(const el_modes *modes, const el_model *model,
     return EL_OK;
 }
 
+const char *el_stability_name(el_stability s)
+{
+    static const char *const names[] = {"stable", "unstable", "marginal", "undecided"};
+    return (unsigned)s < sizeof names / sizeof names[0] ? names[s] : "unknown";
+}
+
+const char *el_verdict_cause_code(el_verdict_cause cause)
+{
+    static const char *const codes[] = {
+        "none", "on_boundary", "bounds", "few_cycles", "low_excitation",
+        "estimators_disagree", "drift", "level_trend", "level_shift", "growth",
+        "too_few_replicates", "no_bounds", "nyquist", "type_open", "no_bootstrap"};
+    return (unsigned)cause < sizeof codes / sizeof codes[0] ? codes[cause] : "unknown";
+}
+
 static void set_stability(el_verdict *v, el_stability s)
 {
-    static const char *const names[] = {"stable", "unstable", "marginal"};
     v->stability = s;
-    v->stability_name = names[s];
+    v->stability_name = el_stability_name(s);
+}
+
+void el_verdict_set_undecided(el_verdict *v, el_verdict_cause cause)
+{
+    if (v == NULL)
+        return;
+    set_stability(v, EL_UNDECIDED);
+    v->ambiguous = 1;
+    v->cause = cause;
 }
 
 el_status el_verdict_compute(const el_modes *modes, const el_model *model,
@@ -357,13 +380,13 @@ el_status el_verdict_compute(const el_modes *modes, const el_model *model,
         set_stability(v, first == SIDE_STABLE     ? EL_STABLE
                          : first == SIDE_UNSTABLE ? EL_UNSTABLE
                                                   : EL_MARGINAL);
+        v->cause = first == SIDE_MARGINAL ? EL_CAUSE_ON_BOUNDARY : EL_CAUSE_NO_BOOTSTRAP;
     } else if (boot->p_stable >= level) {
         set_stability(v, EL_STABLE);
     } else if (1.0 - boot->p_stable >= level) {
         set_stability(v, EL_UNSTABLE);
     } else {
-        set_stability(v, EL_MARGINAL);
-        v->ambiguous = 1;
+        el_verdict_set_undecided(v, EL_CAUSE_BOUNDS);
     }
 
     type_from_counts(v);
@@ -388,5 +411,13 @@ el_status el_verdict_compute(const el_modes *modes, const el_model *model,
     }
     if (st == EL_OK)
         st = warn_nyquist(modes, v, warnings, err);
+    /* A class that holds with an open type or a mode at the Nyquist limit
+     * keeps its word; the cause says what is open. */
+    if (v->ambiguous && (v->cause == EL_CAUSE_NONE || v->cause == EL_CAUSE_NO_BOOTSTRAP)) {
+        int nyquist = 0;
+        for (size_t i = 0; i < modes->n_modes; i++)
+            nyquist |= modes->modes[i].at_nyquist;
+        v->cause = nyquist ? EL_CAUSE_NYQUIST : EL_CAUSE_TYPE_OPEN;
+    }
     return st;
 }

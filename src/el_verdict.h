@@ -13,11 +13,44 @@
 
 struct el_boot_result;
 
-typedef enum { EL_STABLE = 0, EL_UNSTABLE, EL_MARGINAL } el_stability;
+/* The stability word. marginal: the point estimate sits on the boundary
+ * (|Re lambda| within the numerical tolerance); undecided: the bounds, the
+ * estimators or a broken one-operating-point assumption leave the class
+ * open. New values are only appended (callers store the number). */
+typedef enum { EL_STABLE = 0, EL_UNSTABLE, EL_MARGINAL, EL_UNDECIDED } el_stability;
+
+/* Why the verdict is what it is (JSON verdict.cause, the reason and next
+ * step lines of the reports). Values are only appended. */
+typedef enum {
+    EL_CAUSE_NONE = 0,           /* the class holds at the level */
+    EL_CAUSE_ON_BOUNDARY,        /* point estimate within tolerance of Re lambda = 0 */
+    EL_CAUSE_BOUNDS,             /* the replicates fall on both sides */
+    EL_CAUSE_FEW_CYCLES,         /* ... because the window holds too few time constants */
+    EL_CAUSE_LOW_EXCITATION,     /* ... because the model explains little of the data */
+    EL_CAUSE_ESTIMATORS_DISAGREE,/* the cross-check estimator leans the other way */
+    EL_CAUSE_DRIFT,              /* the dynamics drift inside the window (split halves) */
+    EL_CAUSE_LEVEL_TREND,        /* the level trends through the window */
+    EL_CAUSE_LEVEL_SHIFT,        /* the level steps inside the window */
+    EL_CAUSE_GROWTH,             /* the amplitude grows while the model says stable */
+    EL_CAUSE_TOO_FEW_REPLICATES, /* --boot below the minimum: no bounds */
+    EL_CAUSE_NO_BOUNDS,          /* bounds asked for but none could be computed */
+    EL_CAUSE_NYQUIST,            /* a mode at the Nyquist limit */
+    EL_CAUSE_TYPE_OPEN,          /* stability holds, the fixed point type does not */
+    EL_CAUSE_NO_BOOTSTRAP        /* --boot 0: the point estimate alone */
+} el_verdict_cause;
+
+/* "stable", "unstable", "marginal", "undecided"; "unknown" else. Static. */
+const char *el_stability_name(el_stability s);
+
+/* The cause's code for JSON: "none", "on_boundary", "bounds", "few_cycles",
+ * "low_excitation", "estimators_disagree", "drift", "level_trend",
+ * "level_shift", "growth", "too_few_replicates", "no_bounds", "nyquist",
+ * "type_open", "no_bootstrap"; "unknown" else. Static text. */
+const char *el_verdict_cause_code(el_verdict_cause cause);
 
 typedef struct {
     el_stability stability;
-    const char *stability_name;   /* "stable" | "unstable" | "marginal" (static) */
+    const char *stability_name;   /* el_stability_name(stability) (static) */
     char type[96];                /* fixed point type, e.g. "spiral sink", "saddle" */
     int ambiguous;                /* 1: the class does not hold with prob >= level */
     double p_stable;              /* NaN when no bootstrap was run (-> JSON null) */
@@ -32,14 +65,22 @@ typedef struct {
     int has_plane;                /* 1 for a 2-state model with two eigenvalues */
     double trace, determinant, discriminant;   /* of the continuous-time matrix */
     el_region region;
+    el_verdict_cause cause;       /* why (EL_CAUSE_NONE: the class holds) */
 } el_verdict;
+
+/* Sets the word to undecided (ambiguous) for cause. The pipeline's later
+ * checks (cross-check, growth veto, drift) use it to withhold a class.
+ * Can't fail; NULL v is a no-op. */
+void el_verdict_set_undecided(el_verdict *v, el_verdict_cause cause);
 
 /* Classifies. Without a bootstrap (boot == NULL or boot->replicates == 0):
  * a mode is marginal when |Re lambda| <= marginal_tolerance = 1e-9 / dt
- * (numerical tolerance), stability follows from the least damped mode, and
- * a warning says bounds are not computed. With a bootstrap: stable or
+ * (numerical tolerance), stability follows from the least damped mode
+ * (marginal, cause EL_CAUSE_ON_BOUNDARY, when it is marginal; else cause
+ * EL_CAUSE_NO_BOOTSTRAP), and a warning says bounds are not computed. With a bootstrap: stable or
  * unstable only when that class holds with probability >= level
- * (p_stable = boot->p_stable), otherwise marginal and ambiguous with
+ * (p_stable = boot->p_stable), otherwise undecided (cause
+ * EL_CAUSE_BOUNDS) and ambiguous with
  * warnings naming the boundary the bounds straddle and what would resolve
  * it; each mode counts as stable/unstable when the fraction of its matched
  * replicates (boot->lambda_re, or else its bounds) on that side is >= level,
@@ -55,7 +96,9 @@ typedef struct {
  * "sink"/"spiral sink" (all stable, without/with oscillatory modes),
  * "source"/"spiral source", "saddle" (both sides), or "marginal". A mode at
  * the Nyquist limit counts as oscillatory; its modes add a warning and make
- * the result ambiguous. trace, determinant, discriminant are NaN without a
+ * the result ambiguous (cause EL_CAUSE_NYQUIST unless another is set). A
+ * decided class with an ambiguous plane region keeps its word, with cause
+ * EL_CAUSE_TYPE_OPEN. trace, determinant, discriminant are NaN without a
  * plane. Returns EL_OK; EL_ERR_USAGE (option "--level") for a level
  * outside (0.5, 1) when a bootstrap is given; EL_ERR_INTERNAL for missing
  * arguments, a model without modes or a bootstrap of another model;

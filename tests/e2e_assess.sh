@@ -53,6 +53,43 @@ check "rig test is unstable and --fail-on unstable exits 5 (got $status)" $?
 grep -q '"stability": "unstable"' "$tmp/rig.json"
 check "rig test verdict unstable (datasets/README.md truth)" $?
 
+# The drifting demo log (datasets/README.md: its damping falls all along):
+# undecided, for drift, pointing to track (issue 11's done-when); --fail-on
+# ambiguous counts undecided, --fail-on unstable does not.
+"$bin" assess datasets/fan_warmup.csv --boot 300 --json "$tmp/fan.json" >"$tmp/fan.txt"
+check "assess fan warm-up exits 0" $?
+grep -q '^Verdict       UNDECIDED$' "$tmp/fan.txt" && grep -q 'next step   run `eigenlog track`' "$tmp/fan.txt"
+check "fan warm-up text: UNDECIDED, next step names track" $?
+grep -q 'stable in 300 of 300 bootstrap replicates (model error not' "$tmp/fan.txt" &&
+    ! grep -q 'P(stable) =' "$tmp/fan.txt"
+check "text gives the support in words, not a bare P(stable)" $?
+jq -e '.verdict.stability == "undecided" and .verdict.cause == "drift" and .verdict.ambiguous
+       and (.verdict.next_step | test("eigenlog track")) and (.verdict.reason | length > 0)
+       and (.verdict.cautions | length >= 2) and (.verdict.p_stable == 1)
+       and .input.nonstationarity.kind == "drift"
+       and .input.nonstationarity.split_halves.drift
+       and (.input.nonstationarity.where_s | . > 1199 and . < 1201)' "$tmp/fan.json" >/dev/null
+check "fan warm-up JSON: undecided, cause drift, next step, cautions, where" $?
+"$bin" assess datasets/fan_warmup.csv --boot 300 --fail-on ambiguous >/dev/null
+status=$?
+[ "$status" -eq 5 ]
+check "--fail-on ambiguous counts undecided: exit 5 (got $status)" $?
+"$bin" assess datasets/fan_warmup.csv --boot 300 --fail-on unstable >/dev/null
+status=$?
+[ "$status" -eq 0 ]
+check "--fail-on unstable does not count undecided: exit 0 (got $status)" $?
+jq -e '.verdict.cause == "none" and (.verdict.cautions[0] | test("not a licence to raise load"))
+       and .input.nonstationarity.kind == "none"' "$tmp/pump.json" >/dev/null
+check "booster pump: no cause, the stable caution, nothing non-stationary" $?
+jq -e '.verdict.cautions[0] | test("follow your site.s procedures and inform the responsible engineer")' \
+    "$tmp/rig.json" >/dev/null
+check "rig test: the unstable caution" $?
+# A real series with a documented step (R's Nile, tests/data/README.md).
+"$bin" assess tests/data/nile_1871_1970.csv --time-unit year --boot 200 --json "$tmp/nile.json" >/dev/null
+jq -e '.input.nonstationarity.kind == "level_shift" and .input.nonstationarity.where_text == "1898.5"
+       and .verdict.cause == "level_shift"' "$tmp/nile.json" >/dev/null
+check "Nile: a level shift at 1898.5 (Cobb 1978: after 1898)" $?
+
 "$bin" assess - --boot 0 --json - <datasets/booster_pump.csv >"$tmp/stdin.json"
 check "assess reads stdin and writes JSON to stdout" $?
 grep -q '"file": "<stdin>"' "$tmp/stdin.json" && grep -q '"p_stable": null' "$tmp/stdin.json"

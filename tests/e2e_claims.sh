@@ -88,7 +88,7 @@ for b in 1 99; do
         grep -q '"replicates": 0,' "$tmp/few.json" &&
         ! grep -q '"stability": "stable"' "$tmp/few.json"
     check "--boot $b: JSON has no P(stable), no bounds, no confident class (exit $status)" $?
-    grep -q "P(stable) n/a" "$tmp/few.txt" && ! grep -q "from $b replicates" "$tmp/few.txt" &&
+    grep -q "no bootstrap support" "$tmp/few.txt" && ! grep -q "of $b replicates" "$tmp/few.txt" &&
         grep -q -- "--boot $b: fewer than 100 bootstrap replicates" "$tmp/few.txt" &&
         ! grep -q "bounds not yet computed" "$tmp/few.txt"
     check "--boot $b: text says n/a and why (and not that marginal is a tolerance)" $?

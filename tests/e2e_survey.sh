@@ -70,6 +70,8 @@ head -n 1 "$out/survey.csv" | grep -q '^file,status,exit_code,error,rows_used,ve
 check "survey.csv header is the documented one (docs/cli.md)" $?
 [ "$(grep -c "" "$out/survey.csv")" -eq $((n_logs + 1)) ]
 check "survey.csv: header and one row per log" $?
+grep -q '/fan_warmup.csv,ok,0,,24000,undecided,true,' "$out/survey.csv"
+check "survey.csv: the drifting fan log's verdict column says undecided" $?
 grep -q "site_a/notes.txt" "$out/survey.csv"
 [ $? -ne 0 ]
 check "a file not named *.csv / *.csv.gz in a folder is not a log" $?
@@ -201,7 +203,7 @@ check "manifest survey, no unstable log, --fail-on unstable: exit 0 (got $status
 "$bin" survey "$tmp/campaign.txt" --out "$tmp/man" $opts --fail-on ambiguous >"$tmp/man.txt" 2>&1
 status=$?
 [ "$status" -eq 5 ] && grep -q "(0 assessed now, 3 unchanged)" "$tmp/man.txt"
-check "the marginal fan log matches --fail-on ambiguous: exit 5 (got $status), from the cache" $?
+check "the undecided fan log matches --fail-on ambiguous: exit 5 (got $status), from the cache" $?
 want=$("$bin" assess "$logs/rig_test.csv" $opts --channels accel_a,accel_b --json - | canon)
 got=$(sed -n 1p "$tmp/man/survey.jsonl" | canon)
 [ "$got" = "$want" ] && [ -n "$want" ]

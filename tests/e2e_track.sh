@@ -41,6 +41,12 @@ grep -q '"class": "shrinking"' "$tmp/drift.json"
 check "falling margin is called shrinking" $?
 grep -q "SHRINKING MARGIN" "$tmp/drift.txt" && grep -q "Caution" "$tmp/drift.txt"
 check "text report has the verdict and the caution" $?
+grep -q "covers the windows shown only" "$tmp/drift.txt" &&
+    grep -q "straight-line extrapolation: the margin may be lost sooner" "$tmp/drift.txt" &&
+    ! grep -q "window only" "$tmp/drift.txt"
+check "track cautions: the windows shown only, time to zero may come sooner, no 'window only'" $?
+jq -e '(.cautions | length == 3) and (.caution | test("window only") | not)' "$tmp/drift.json" >/dev/null
+check "track JSON: cautions[] and a caution for many windows" $?
 for key in '"command": "track"' '"windowing"' '"windows"' '"margin_bounds"' '"trend"' \
            '"slope_bounds"' '"p_shrinking"' '"time_to_zero"' '"caution"'; do
     grep -q "$key" "$tmp/drift.json"

@@ -11,10 +11,30 @@
 #include <string.h>
 #include <unistd.h>
 
+#include "el_advice.h"
 #include "el_assess.h"
 #include "el_linalg.h"
 #include "el_rng.h"
 #include "el_report.h"
+
+/* Runs the default pipeline on a log whose times are in the given unit
+ * (--time-unit). */
+static el_assessment run_unit(const char *path, const char *unit, size_t replicates)
+{
+    el_assess_options opt;
+    el_assess_defaults(&opt);
+    opt.path = path;
+    opt.time_unit = unit;
+    opt.boot.replicates = replicates;
+    opt.boot.threads = 2;
+    opt.boot.seed = 7;
+    el_assessment r;
+    memset(&r, 0, sizeof r);
+    el_error err;
+    el_error_clear(&err);
+    assert_int_equal(el_assess_run(&opt, &r, &err), EL_OK);
+    return r;
+}
 
 /* Runs the pipeline; method_auto 0 means plain least squares. */
 static el_assessment run_with(const char *path, size_t lags, size_t replicates,
@@ -147,6 +167,98 @@ static void test_lynx_moran_end_to_end(void **state)
     el_assessment_free(&r);
 }
 
+/* The split-half drift check (docs/method.md, "Drift inside the window")
+ * on the demo logs, whose truth is known (datasets/README.md). fan_warmup:
+ * the decay rate falls on a straight line from 0.40 to 0.08 1/s, so the
+ * halves' mean true decay rates are 0.32 and 0.16 1/s; a half's fit
+ * estimates about that mean, within 3 of its bootstrap sd (normal
+ * quantiles; the sd is the check's own yardstick). The halves must be
+ * found different (|z| >= 3), the verdict undecided for drift, and the
+ * next step must name `eigenlog track` (the issue's done-when). The
+ * booster pump and the rig test have constant dynamics: no drift, their
+ * words stay stable and unstable. */
+static void test_split_halves_on_demo_logs(void **state)
+{
+    (void)state;
+    el_assessment fan = run("datasets/fan_warmup.csv", 0, 300);
+    const el_split_check *sc = &fan.split;
+    assert_true(sc->tested);
+    assert_true(sc->drift);
+    assert_true(sc->z_decay <= -EL_ASSESS_SPLIT_Z);
+    assert_close(sc->decay_rate[0], 0.32, 0.0, 3.0 * sc->decay_sd[0]);
+    assert_close(sc->decay_rate[1], 0.16, 0.0, 3.0 * sc->decay_sd[1]);
+    /* 0.8 Hz throughout: the frequency does not drift. */
+    assert_true(fabs(sc->z_frequency) < EL_ASSESS_SPLIT_Z);
+    assert_int_equal(fan.verdict.stability, EL_UNDECIDED);
+    assert_string_equal(fan.verdict.stability_name, "undecided");
+    assert_int_equal(fan.verdict.cause, EL_CAUSE_DRIFT);
+    assert_int_equal(fan.nonstat, EL_NONSTAT_DRIFT);
+    /* Halves of 12000 samples: split between 1199.9 and 1200.0 s. */
+    assert_close(fan.nonstat_t, 1199.95, 0.0, 1e-9);
+    el_advice adv;
+    el_advice_assess(&fan, 0.95, &adv);
+    assert_non_null(strstr(adv.next_step, "eigenlog track"));
+    assert_non_null(strstr(adv.reason, "drift"));
+    assert_non_null(strstr(adv.support, "of 300 bootstrap replicates"));
+    el_assessment_free(&fan);
+    const char *steady[2] = {"datasets/booster_pump.csv", "datasets/rig_test.csv"};
+    el_stability word[2] = {EL_STABLE, EL_UNSTABLE};
+    for (int i = 0; i < 2; i++) {
+        el_assessment r = run(steady[i], 0, 300);
+        assert_true(r.split.tested);
+        assert_false(r.split.drift);
+        assert_true(fabs(r.split.z_decay) < EL_ASSESS_SPLIT_Z);
+        assert_true(fabs(r.split.z_frequency) < EL_ASSESS_SPLIT_Z);
+        assert_int_equal(r.nonstat, EL_NONSTAT_NONE);
+        assert_int_equal(r.verdict.stability, word[i]);
+        assert_int_equal(r.verdict.cause, EL_CAUSE_NONE);
+        el_advice_assess(&r, 0.95, &adv);
+        assert_non_null(strstr(adv.support, "bootstrap support 300 of 300 replicates"));
+        assert_non_null(strstr(adv.cautions[0], i == 0 ? "not a licence to raise load"
+                                                       : "inform the responsible engineer"));
+        el_assessment_free(&r);
+    }
+}
+
+/* Real series from R's `datasets` (tests/data/README.md). Nile: annual
+ * flow at Aswan 1871-1970, whose level drops after 1898 (Cobb 1978,
+ * Biometrika 65; the dam works began then): the check must name a level
+ * shift between 1898 and 1899, within one year (one sample), and its size
+ * must be the difference of the two regimes' means computed here from the
+ * file (1871-1898 and 1899-1970), to rounding. co2: monthly Mauna Loa
+ * concentrations 1959-1997 (Keeling), which rise through all 39 years: a
+ * level trend, whose rise per year must match R's lm(co2 ~ time(co2))
+ * slope, 1.307497 ppm per year, within 2% (the check's line runs through
+ * 16 block means of 29 months, not through every month, and the seasonal
+ * cycle leaves up to half a month's swing in each block). Both were
+ * called stationary before the check. */
+static void test_level_shift_nile_and_trend_co2(void **state)
+{
+    (void)state;
+    const double year_s = 31557600.0;
+    el_assessment nile = run_unit("tests/data/nile_1871_1970.csv", "year", 200);
+    assert_int_equal(nile.nonstat, EL_NONSTAT_LEVEL_SHIFT);
+    assert_close(nile.nonstat_t / year_s, 1898.5, 0.0, 1.0);
+    double before = 0, after = 0;
+    for (size_t k = 0; k < 100; k++)
+        *(k < 28 ? &before : &after) += nile.series.values[k];
+    assert_close(nile.regime->level_change, after / 72.0 - before / 28.0, 0.0, 1e-9);
+    assert_true(nile.verdict.stability != EL_STABLE);
+    el_advice adv;
+    el_advice_assess(&nile, 0.95, &adv);
+    assert_non_null(strstr(adv.next_step, "--from 1898.5"));
+    el_assessment_free(&nile);
+    el_assessment co2 = run_unit("tests/data/co2_mauna_loa_1959_1997.csv", "year", 200);
+    assert_int_equal(co2.nonstat, EL_NONSTAT_LEVEL_TREND);
+    double span_years = (double)co2.series.n_samples * co2.series.dt / year_s;
+    assert_close(co2.regime->level_change / span_years, 1.307497, 0.02, 0.0);
+    assert_int_equal(co2.verdict.stability, EL_UNDECIDED);
+    assert_int_equal(co2.verdict.cause, EL_CAUSE_LEVEL_TREND);
+    el_advice_assess(&co2, 0.95, &adv);
+    assert_non_null(strstr(adv.next_step, "--detrend linear"));
+    el_assessment_free(&co2);
+}
+
 /* DESIGN.md: "a value that does not exist is null, never NaN". Without a
  * bootstrap p_stable does not exist; the JSON must say null and contain no
  * nan/inf token anywhere. */
@@ -266,6 +378,91 @@ static void test_near_marginal_short_log_is_ambiguous(void **state)
     remove(path);
     assert_true(r.verdict.ambiguous);
     assert_true(r.verdict.p_stable > 0.05 && r.verdict.p_stable < 0.95);
+    assert_int_equal(r.verdict.stability, EL_UNDECIDED);
+    el_assessment_free(&r);
+}
+
+/* The cause behind bounds that straddle zero: the same near-marginal
+ * 0.5 Hz mode observed for 20 s holds 10 cycles, under the 20 the advice
+ * asks for (EL_ASSESS_FEW_CYCLES, docs/method.md "Verdict words"): the
+ * cause is "too few cycles" and the next step names the length of 20
+ * cycles of 0.5 Hz, 40 s (a closed form: 20 / f). */
+/* Low excitation: the same near-marginal mode in white sensor noise as
+ * large as the signal (0 dB). Noise that size cannot be predicted, so the
+ * one-step residuals keep about half the variance and the validation finds
+ * that the model explains little (section 12 of docs/method.md); the
+ * bounds straddle zero for that reason: the cause is low excitation, the
+ * next step asks for more excitation and the cautions carry the
+ * authorisation note. */
+static void test_low_excitation_cause(void **state)
+{
+    (void)state;
+    char path[] = "/tmp/eigenlog_lowXXXXXX";
+    int fd = mkstemp(path);
+    assert_true(fd >= 0);
+    close(fd);
+    write_oscillator(path, -0.002, 0.5, 0.05, 1600, 0.0, 11);
+    el_assessment r = run_with(path, 0, 300, 1);
+    remove(path);
+    assert_true(r.validation->explains_little);
+    assert_int_equal(r.verdict.stability, EL_UNDECIDED);
+    assert_int_equal(r.verdict.cause, EL_CAUSE_LOW_EXCITATION);
+    el_advice adv;
+    el_advice_assess(&r, 0.95, &adv);
+    assert_non_null(strstr(adv.next_step, "more excitation"));
+    int authorisation = 0;
+    for (size_t i = 0; i < adv.n_cautions; i++)
+        authorisation |= strstr(adv.cautions[i], "site authorisation") != NULL;
+    assert_true(authorisation);
+    el_assessment_free(&r);
+}
+
+/* The words of causes the demo logs do not reach, on a hand-made
+ * assessment: estimators that disagree point to the family neither
+ * belongs to (--method ssi); too few replicates to --boot 100; a mode at
+ * the Nyquist limit to faster sampling. */
+static void test_advice_words(void **state)
+{
+    (void)state;
+    el_mode mode = {.pair = 1, .lambda_re = -0.1, .lambda_im = 3.0, .frequency_hz = 0.477};
+    el_assessment r;
+    memset(&r, 0, sizeof r);
+    r.modes.modes = &mode;
+    r.modes.n_modes = 1;
+    r.model.method = EL_METHOD_IV;
+    r.cross_method = EL_METHOD_LS;
+    r.verdict.p_stable = NAN;
+    el_verdict_set_undecided(&r.verdict, EL_CAUSE_ESTIMATORS_DISAGREE);
+    el_advice adv;
+    el_advice_assess(&r, 0.95, &adv);
+    assert_non_null(strstr(adv.reason, "iv and the independent cross-check by ls"));
+    assert_non_null(strstr(adv.next_step, "--method ssi"));
+    assert_non_null(strstr(adv.support, "no bootstrap support"));
+    assert_non_null(strstr(adv.cautions[0], "Undecided is not stable"));
+    r.verdict.cause = EL_CAUSE_TOO_FEW_REPLICATES;
+    el_advice_assess(&r, 0.95, &adv);
+    assert_non_null(strstr(adv.next_step, "--boot 100 or more"));
+    r.verdict.cause = EL_CAUSE_NYQUIST;
+    el_advice_assess(&r, 0.95, &adv);
+    assert_non_null(strstr(adv.next_step, "sample faster"));
+}
+
+static void test_few_cycles_cause(void **state)
+{
+    (void)state;
+    char path[] = "/tmp/eigenlog_fewXXXXXX";
+    int fd = mkstemp(path);
+    assert_true(fd >= 0);
+    close(fd);
+    write_oscillator(path, -0.002, 0.5, 0.05, 400, 30.0, 11);
+    el_assessment r = run_with(path, 0, 300, 1);
+    remove(path);
+    assert_int_equal(r.verdict.stability, EL_UNDECIDED);
+    assert_int_equal(r.verdict.cause, EL_CAUSE_FEW_CYCLES);
+    el_advice adv;
+    el_advice_assess(&r, 0.95, &adv);
+    assert_non_null(strstr(adv.reason, "too few cycles"));
+    assert_non_null(strstr(adv.next_step, "a longer log: at least 20 cycles (40 s)"));
     el_assessment_free(&r);
 }
 
@@ -329,6 +526,8 @@ static void assert_same_bits(const el_assessment *a, const el_assessment *b)
     assert_int_equal(a->input_warnings.count, b->input_warnings.count);
     assert_int_equal(a->regime->regime, b->regime->regime);
     assert_memory_equal(&a->regime->growth_p, &b->regime->growth_p, sizeof(double));
+    assert_memory_equal(&a->split.z_decay, &b->split.z_decay, sizeof(double));
+    assert_memory_equal(&a->split.decay_sd, &b->split.decay_sd, sizeof a->split.decay_sd);
     for (size_t c = 0; c < a->series.n_channels; c++) {
         assert_memory_equal(&a->validation->r2_one_step[c], &b->validation->r2_one_step[c],
                             sizeof(double));
@@ -376,6 +575,11 @@ int main(void)
         cmocka_unit_test(test_auto_policy),
         cmocka_unit_test(test_near_marginal_short_log_is_ambiguous),
         cmocka_unit_test(test_plan_reuse_is_bitwise),
+        cmocka_unit_test(test_low_excitation_cause),
+        cmocka_unit_test(test_advice_words),
+        cmocka_unit_test(test_few_cycles_cause),
+        cmocka_unit_test(test_split_halves_on_demo_logs),
+        cmocka_unit_test(test_level_shift_nile_and_trend_co2),
     };
     return cmocka_run_group_tests_name("assess", tests, NULL, NULL);
 }

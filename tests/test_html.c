@@ -401,6 +401,28 @@ static void test_well_formed_and_ordered(void **state)
         prev = at;
     }
     assert_null(strstr(html, "fig-timeseries-2"));
+    /* The verdict leads with its word, then one line of reason and one of
+     * next step (el_advice), inside the verdict box; the support is a
+     * count of replicates in words, not a bare probability; the stable
+     * verdict's caution comes first in the cautions. */
+    const char *box = strstr(html, "id=\"verdict\"");
+    const char *word = strstr(html, "<div class=\"vword\">STABLE</div>");
+    const char *why = strstr(html, "<b>Reason:</b>");
+    const char *next = strstr(html, "<b>Next step:</b>");
+    assert_non_null(word);
+    assert_non_null(why);
+    assert_non_null(next);
+    assert_true(box < word && word < why && why < next && next < strstr(html, "id=\"warnings\""));
+    char support[96];
+    size_t n = f.r.boot.replicates;
+    snprintf(support, sizeof support, "%zu <small>of %zu</small>",
+             (size_t)llround(0.97 * (double)n), n);
+    assert_non_null(strstr(html, support));
+    assert_non_null(strstr(html, "(model error not included)"));
+    const char *cautions = strstr(html, "id=\"caution\"");
+    assert_non_null(cautions);
+    assert_non_null(strstr(cautions, "not a licence to raise load, change settings or bypass "
+                                     "protection"));
     /* The caution is the library's text, whole (escaped: it holds an
      * apostrophe). */
     el_buf caution = {0};
@@ -555,7 +577,7 @@ static void test_no_nonfinite_text(void **state)
     f.r.verdict.p_stable = NAN;
     html = report(&f, NULL);
     assert_no_nonfinite_text(html);
-    assert_non_null(strstr(html, "P(stable)</div><div class=\"tv\">n/a"));
+    assert_non_null(strstr(html, "bootstrap support</div><div class=\"tv\">n/a"));
     assert_int_equal(count_of(html, "<path class=\"cloud\""), 0);
     free(html);
     fixture_free(&f);
@@ -781,10 +803,22 @@ static void test_track_ordered(void **state)
         assert_int_equal(count_of(p->html, ids[i]), 1);
         prev = at;
     }
-    el_buf caution = {0};
-    assert_int_equal(el_html_escape(&caution, el_assess_caution()), EL_OK);
-    assert_non_null(strstr(p->html, caution.data));
-    el_buf_free(&caution);
+    /* The track's cautions (el_track_cautions), whole and escaped: they
+     * speak of the windows shown, not of "this window only" (which the
+     * single-window caution says and a track of many windows must not). */
+    char cautions[EL_ADVICE_MAX_CAUTIONS][EL_ADVICE_TEXT_MAX];
+    size_t n_cautions = el_track_cautions(&p->r, cautions);
+    assert_true(n_cautions >= 3);
+    for (size_t i = 0; i < n_cautions; i++) {
+        el_buf caution = {0};
+        assert_int_equal(el_html_escape(&caution, cautions[i]), EL_OK);
+        assert_non_null(strstr(p->html, caution.data));
+        el_buf_free(&caution);
+    }
+    assert_non_null(strstr(p->html, "covers the windows shown only"));
+    assert_non_null(strstr(p->html, "may be lost sooner"));
+    assert_non_null(strstr(p->html, "licensed engineering judgement"));
+    assert_null(strstr(p->html, "window only"));
     assert_non_null(strstr(p->html, "SHRINKING MARGIN"));
     assert_non_null(strstr(p->html, "style=\"--v:var(--unstable)\""));
     assert_non_null(strstr(p->html, "straight-line extrapolation"));

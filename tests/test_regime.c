@@ -516,6 +516,73 @@ static void test_slow_swings_do_not_veto(void **state)
 }
 
 /* Too short a window, a constant channel, bad options. */
+/* The level check (el_regime_run, step 7) on white noise (sd 1, el_rng)
+ * of 1600 samples with, in turn: nothing, a straight rise of 3 over the
+ * window, and a step of 1.5 at sample 640 (40%). The truth is the added
+ * line or step. Tolerances: white noise moves the block line's rise by
+ * sd sqrt(12 / (M^3 L)) x M ~ 0.04 and the step's mean difference by
+ * sqrt(1/640 + 1/960) = 0.05, so 0.3 and 0.25 (5 sd) leave room for the
+ * trim of the window's ends; the least-squares split of a 1.5 sd step in
+ * white noise lands within a few samples (Bai 1994, Ann. Statist. 22:
+ * the error is O(1) in samples), so 16 samples (1%) is generous. */
+static void test_level_trend_and_shift(void **state)
+{
+    (void)state;
+    size_t n = 1600;
+    fixture f;
+    fixture_init(&f, n, 1, 0.1);
+    el_rng rng;
+    el_rng_seed(&rng, 20261204, 0);
+    double *noise = malloc(n * sizeof *noise);
+    assert_non_null(noise);
+    for (size_t k = 0; k < n; k++)
+        noise[k] = el_rng_normal(&rng);
+    memcpy(f.series.values, noise, n * sizeof *noise);
+    run(&f, NULL);
+    assert_int_equal(f.regime->level_kind, EL_REGIME_LEVEL_NONE);
+    assert_true(isnan(f.regime->level_change));
+    for (size_t k = 0; k < n; k++)
+        f.series.values[k] = noise[k] + 3.0 * (double)k / (double)(n - 1);
+    run(&f, NULL);
+    assert_int_equal(f.regime->level_kind, EL_REGIME_LEVEL_TREND);
+    assert_close(f.regime->level_change, 3.0, 0.0, 0.3);
+    assert_true(f.regime->level_move_z >= EL_REGIME_LEVEL_Z);
+    assert_true(f.regime->level_share >= EL_REGIME_LEVEL_SHARE);
+    for (size_t k = 0; k < n; k++)
+        f.series.values[k] = noise[k] + (k >= 640 ? 1.5 : 0.0);
+    run(&f, NULL);
+    assert_int_equal(f.regime->level_kind, EL_REGIME_LEVEL_SHIFT);
+    assert_close(f.regime->level_change, 1.5, 0.0, 0.25);
+    /* The step sits between samples 639 and 640: t = 639.5 dt. */
+    assert_close(f.regime->level_step_t, 639.5 * 0.1, 0.0, 16 * 0.1);
+    free(noise);
+    fixture_free(&f);
+}
+
+/* The level check must not fire on stationary motion whose time scale is
+ * well inside the window: the well and the lightly damped oscillator of
+ * the null tests (60 s windows, 1 Hz: 60 periods), 200 seeds each. A
+ * stationary motion slower than about T/16 can pass for a level movement
+ * (docs/method.md, measured rates); these are far from it, so none of the
+ * 400 windows may be flagged. */
+static void test_level_check_quiet_on_stationary(void **state)
+{
+    (void)state;
+    const oscillator os[2] = { { 1.0, 0.3, 1.0, 0.0, 0.0 }, { 1.0, 0.02, 1.0, 0.0, 0.0 } };
+    fixture f;
+    fixture_init(&f, 1200, 1, 0.05);
+    int flagged = 0;
+    for (int i = 0; i < 2; i++)
+        for (int s = 0; s < 200; s++) {
+            simulate(&os[i], 1200, 0.05, 777, (uint64_t)s, f.series.values);
+            run(&f, NULL);
+            flagged += f.regime->level_kind != EL_REGIME_LEVEL_NONE;
+        }
+    print_message("level check: %d of 400 stationary windows flagged\n", flagged);
+    assert_int_equal(flagged, 0);
+    fixture_free(&f);
+}
+
 static void test_undetermined_and_errors(void **state)
 {
     (void)state;
@@ -575,6 +642,8 @@ int main(void)
         cmocka_unit_test(test_slow_autoregression_is_stationary),
         cmocka_unit_test(test_drift_test_calibration),
         cmocka_unit_test(test_slow_swings_do_not_veto),
+        cmocka_unit_test(test_level_trend_and_shift),
+        cmocka_unit_test(test_level_check_quiet_on_stationary),
         cmocka_unit_test(test_undetermined_and_errors),
     };
     return cmocka_run_group_tests_name("regime", tests, NULL, NULL);

@@ -310,6 +310,50 @@ static void test_errors(void **state)
     free(csv);
 }
 
+/* The track's cautions: the windows shown only, always; when the margin
+ * is shrinking, the time-to-zero note, with the UTC clock time for an ISO
+ * log. Origin 1773471600 s (2026-03-14T07:00:00Z), one window 0..1000 s
+ * (middle 500 s), time to zero 500.5 s: the line reaches zero at Unix
+ * 1773472600.5, 2026-03-14T07:16:40.5Z (Python's datetime.utcfromtimestamp,
+ * an outside clock); the report gives whole seconds. */
+static void test_cautions_clock_time(void **state)
+{
+    (void)state;
+    el_track_window w;
+    memset(&w, 0, sizeof w);
+    w.ok = 1;
+    w.n_replicates = 10;
+    w.margin = 0.1;
+    w.t_from = 0.0;
+    w.t_to = 1000.0;
+    el_track_result r;
+    memset(&r, 0, sizeof r);
+    r.windows = &w;
+    r.n_windows = 1;
+    r.time_is_iso = 1;
+    r.time_origin_s = 1773471600.0;
+    r.trend = EL_TREND_SHRINKING;
+    r.time_to_zero = 500.5;
+    char c[EL_ADVICE_MAX_CAUTIONS][EL_ADVICE_TEXT_MAX];
+    size_t n = el_track_cautions(&r, c);
+    assert_int_equal(n, 3);
+    assert_non_null(strstr(c[0], "covers the windows shown only"));
+    assert_non_null(strstr(c[1], "straight-line extrapolation"));
+    assert_non_null(strstr(c[1], "may be lost sooner"));
+    assert_non_null(strstr(c[1], "2026-03-14T07:16:40Z"));
+    assert_non_null(strstr(c[2], "licensed engineering judgement"));
+    /* A log in plain numbers: no clock time. */
+    r.time_is_iso = 0;
+    n = el_track_cautions(&r, c);
+    assert_null(strstr(c[1], "reaches zero at"));
+    /* Not shrinking: no time-to-zero note. */
+    r.trend = EL_TREND_UNDECIDED;
+    n = el_track_cautions(&r, c);
+    assert_int_equal(n, 2);
+    for (size_t i = 0; i < n; i++)
+        assert_null(strstr(c[i], "extrapolation"));
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -320,6 +364,7 @@ int main(void)
         cmocka_unit_test(test_drifting_margin),
         cmocka_unit_test(test_steady_margin),
         cmocka_unit_test(test_errors),
+        cmocka_unit_test(test_cautions_clock_time),
     };
     return cmocka_run_group_tests_name("track", tests, NULL, NULL);
 }

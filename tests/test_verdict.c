@@ -389,7 +389,12 @@ static void test_boot_ambiguous(void **state)
     assert_int_equal(el_verdict_compute(&f.modes, &f.model, &tb.b, 0.95, &v, &f.warnings,
                                         &err),
                      EL_OK);
-    assert_int_equal(v.stability, EL_MARGINAL);
+    /* The bounds cannot decide: undecided (not marginal, which is kept for
+     * a point estimate on the boundary), for the cause "bounds". */
+    assert_int_equal(v.stability, EL_UNDECIDED);
+    assert_string_equal(v.stability_name, "undecided");
+    assert_int_equal(v.cause, EL_CAUSE_BOUNDS);
+    assert_string_equal(el_verdict_cause_code(v.cause), "bounds");
     assert_true(v.ambiguous);
     assert_int_equal(v.n_marginal_oscillatory, 2);
     assert_true(has_warning(&f.warnings, "stability boundary Re lambda = 0 for mode 1"));
@@ -416,6 +421,7 @@ static void test_boot_plane_ambiguous(void **state)
                      EL_OK);
     assert_int_equal(v.stability, EL_STABLE);
     assert_true(v.ambiguous);
+    assert_int_equal(v.cause, EL_CAUSE_TYPE_OPEN);   /* the word stays "stable" */
     assert_true(has_warning(&f.warnings, "discriminant"));
     assert_true(has_warning(&f.warnings, "next most likely: sink"));
     fitted_free(&f);
@@ -457,6 +463,30 @@ static void test_boot_samples_and_wide(void **state)
     assert_int_equal(v.n_stable_oscillatory, 2);
     assert_int_equal(v.stability, EL_STABLE);
     fitted_free(&f);
+}
+
+/* The words and codes are a contract (JSON verdict.stability and
+ * verdict.cause, docs/cli.md): each value has its own text, and a value
+ * out of range is "unknown", never a neighbour's word. */
+static void test_words_and_codes(void **state)
+{
+    (void)state;
+    assert_string_equal(el_stability_name(EL_STABLE), "stable");
+    assert_string_equal(el_stability_name(EL_UNSTABLE), "unstable");
+    assert_string_equal(el_stability_name(EL_MARGINAL), "marginal");
+    assert_string_equal(el_stability_name(EL_UNDECIDED), "undecided");
+    assert_string_equal(el_stability_name((el_stability)9), "unknown");
+    assert_string_equal(el_verdict_cause_code(EL_CAUSE_DRIFT), "drift");
+    assert_string_equal(el_verdict_cause_code(EL_CAUSE_LEVEL_SHIFT), "level_shift");
+    assert_string_equal(el_verdict_cause_code(EL_CAUSE_NO_BOOTSTRAP), "no_bootstrap");
+    assert_string_equal(el_verdict_cause_code((el_verdict_cause)99), "unknown");
+    el_verdict v;
+    memset(&v, 0, sizeof v);
+    el_verdict_set_undecided(&v, EL_CAUSE_ESTIMATORS_DISAGREE);
+    assert_int_equal(v.stability, EL_UNDECIDED);
+    assert_string_equal(v.stability_name, "undecided");
+    assert_true(v.ambiguous);
+    assert_int_equal(v.cause, EL_CAUSE_ESTIMATORS_DISAGREE);
 }
 
 static void test_bad_arguments(void **state)
@@ -507,6 +537,8 @@ static void test_nstate_types_and_nyquist(void **state)
     assert_int_equal(el_verdict_compute(&modes, &model, NULL, 0.95, &v, &w, NULL), EL_OK);
     assert_string_equal(v.type, "marginal");
     assert_int_equal(v.stability, EL_MARGINAL);
+    assert_string_equal(v.stability_name, "marginal");
+    assert_int_equal(v.cause, EL_CAUSE_ON_BOUNDARY);
     assert_close(v.marginal_tolerance, 1e-8, 1e-15, 0.0);
     /* A growing real mode (least damped, so first) with the stable pair:
      * saddle, unstable. */
@@ -526,6 +558,7 @@ static void test_nstate_types_and_nyquist(void **state)
     assert_true(v.ambiguous);
     assert_true(has_warning(&w, "Nyquist"));
     assert_int_equal(v.stability, EL_STABLE);
+    assert_int_equal(v.cause, EL_CAUSE_NYQUIST);
     el_warnings_free(&w);
 }
 
@@ -540,6 +573,7 @@ int main(void)
         cmocka_unit_test(test_boot_ambiguous),
         cmocka_unit_test(test_boot_plane_ambiguous),
         cmocka_unit_test(test_boot_samples_and_wide),
+        cmocka_unit_test(test_words_and_codes),
         cmocka_unit_test(test_bad_arguments),
         cmocka_unit_test(test_nstate_types_and_nyquist),
     };
