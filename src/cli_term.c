@@ -57,7 +57,9 @@ void cli_printf_wrapped(const char *fmt, ...)
 
 /* ---------------------------------------------------------------- progress */
 
-/* A stage is drawn once it has run this long (s): shorter ones stay silent. */
+/* A stage is drawn once it has run this long (s): shorter ones stay silent.
+ * EIGENLOG_PROGRESS_DELAY (seconds, 0 to 60) overrides it, so a test can see
+ * the line on a machine fast enough to finish a stage within a second. */
 #define PROGRESS_DELAY_S 1.0
 /* Redraw period (ns) of the drawing thread. */
 #define PROGRESS_TICK_NS 200000000L
@@ -74,6 +76,7 @@ struct cli_progress {
     size_t done, total;
     struct timespec started;
     size_t drawn;                 /* columns on screen now (0: nothing drawn) */
+    double delay_s;               /* a stage is drawn after running this long */
 };
 
 int cli_progress_wanted(int quiet)
@@ -118,7 +121,7 @@ static void *draw_loop(void *arg)
     cli_progress *p = arg;
     pthread_mutex_lock(&p->mu);
     while (!p->stop) {
-        if (p->active && since(&p->started) >= PROGRESS_DELAY_S)
+        if (p->active && since(&p->started) >= p->delay_s)
             draw_line(p);
         struct timespec until;
         clock_gettime(CLOCK_REALTIME, &until);
@@ -141,6 +144,14 @@ cli_progress *cli_progress_start(int enabled)
     cli_progress *p = calloc(1, sizeof *p);
     if (p == NULL)
         return NULL;
+    p->delay_s = PROGRESS_DELAY_S;
+    const char *env = getenv("EIGENLOG_PROGRESS_DELAY");
+    if (env != NULL && *env != '\0') {
+        char *end;
+        double v = strtod(env, &end);
+        if (*end == '\0' && v >= 0.0 && v <= 60.0)
+            p->delay_s = v;
+    }
     pthread_mutex_init(&p->mu, NULL);
     pthread_cond_init(&p->cv, NULL);
     if (pthread_create(&p->thread, NULL, draw_loop, p) != 0) {

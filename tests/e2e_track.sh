@@ -41,9 +41,11 @@ grep -q '"class": "shrinking"' "$tmp/drift.json"
 check "falling margin is called shrinking" $?
 grep -q "SHRINKING MARGIN" "$tmp/drift.txt" && grep -q "Caution" "$tmp/drift.txt"
 check "text report has the verdict and the caution" $?
-grep -q "covers the windows shown only" "$tmp/drift.txt" &&
-    grep -q "straight-line extrapolation: the margin may be lost sooner" "$tmp/drift.txt" &&
-    ! grep -q "window only" "$tmp/drift.txt"
+# Text is wrapped to 80 columns: search the words with the line breaks folded.
+tr '\n' ' ' <"$tmp/drift.txt" | tr -s ' ' >"$tmp/drift_flat.txt"
+grep -q "covers the windows shown only" "$tmp/drift_flat.txt" &&
+    grep -q "straight-line extrapolation: the margin may be lost sooner" "$tmp/drift_flat.txt" &&
+    ! grep -q "window only" "$tmp/drift_flat.txt"
 check "track cautions: the windows shown only, time to zero may come sooner, no 'window only'" $?
 jq -e '(.cautions | length == 3) and (.caution | test("window only") | not)' "$tmp/drift.json" >/dev/null
 check "track JSON: cautions[] and a caution for many windows" $?
