@@ -696,6 +696,11 @@ el_status el_html_track_report(const el_track_result *r, const el_track_options 
     el_svg_put(&c, "</section>\n");
     el_svg_warnings_box(&c, (const el_warnings *const[]){&r->warnings}, 1);
     el_svg_caution_section(&c);
+    if (opt != NULL && opt->caution_extra != NULL) {
+        el_svg_put(&c, "<aside class=\"caution\" id=\"caution-follow\"><b>Watching.</b> ");
+        el_svg_esc(&c, opt->caution_extra);
+        el_svg_put(&c, "</aside>\n");
+    }
     el_svg_put(&c, "<h2 class=\"section\">Margin over time</h2>\n");
     fig_margin(&c, &a);
     el_svg_put(&c, "<h2 class=\"section\">Damping and frequency</h2>\n");

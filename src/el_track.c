@@ -701,9 +701,10 @@ static void json_interval(el_json *j, const char *key, double lo, double hi)
 }
 
 /* from/to: table time, for ISO logs Unix seconds (as assess's window). */
-void el_track_window_json(el_json *j, const el_track_window *w, double origin)
+void el_track_window_json(el_json *j, const char *key, const el_track_window *w,
+                          double origin)
 {
-    el_json_object_begin(j, NULL);
+    el_json_object_begin(j, key);
     el_json_number(j, "from", origin + w->t_from);
     el_json_number(j, "to", origin + w->t_to);
     el_json_string(j, "from_text", w->from_text);
@@ -766,7 +767,7 @@ el_status el_track_report_json(const el_track_result *r, const el_track_options 
     el_json_object_end(&j);
     el_json_array_begin(&j, "windows");
     for (size_t i = 0; i < r->n_windows; i++)
-        el_track_window_json(&j, &r->windows[i], r->time_origin_s);
+        el_track_window_json(&j, NULL, &r->windows[i], r->time_origin_s);
     el_json_array_end(&j);
     el_track_trend_json(&j, r);
     el_json_array_begin(&j, "warnings");

@@ -21,6 +21,9 @@ typedef struct {
     /* Called from the calling thread after each window; may be NULL. */
     void (*progress)(void *ctx, size_t done, size_t total);
     void *progress_ctx;
+    /* A second caution shown after the usual one in the HTML page (`track
+     * --follow` says there what an alarm is not); NULL = none. */
+    const char *caution_extra;
 } el_track_options;
 
 /* Fills opt with the defaults: el_assess_defaults, automatic window and
@@ -158,12 +161,14 @@ el_status el_track_describe(el_track_result *result, const el_table *t, size_t n
 /* The pieces of the reports, for a caller that writes windows one at a
  * time (`track --follow`): one window's line of the text table (columns
  * width wide for the times), the trend lines of the text report, one
- * window's JSON object (times plus origin: Unix seconds for ISO logs) and
+ * window's JSON object under key (NULL inside an array; times plus origin:
+ * Unix seconds for ISO logs) and
  * the "trend" object. Out-of-memory sticks in the buffer (out->failed) or
  * the writer (j->failed). */
 void el_track_window_text(el_buf *out, const el_track_window *w, int width);
 void el_track_trend_text(el_buf *out, const el_track_result *r);
-void el_track_window_json(el_json *j, const el_track_window *w, double origin);
+void el_track_window_json(el_json *j, const char *key, const el_track_window *w,
+                          double origin);
 void el_track_trend_json(el_json *j, const el_track_result *r);
 
 /* Frees what the result owns and zeroes it. NULL is a no-op. */
