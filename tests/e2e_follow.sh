@@ -58,10 +58,11 @@ same_numbers() {
             }
         } END { exit bad }'
 }
-# wait_lines FILE N: until FILE has N lines with "record":"window" (20 s at most).
+# wait_windows FILE N: until FILE has N lines with "record":"window" (60 s
+# at most: the sanitizer build is several times slower).
 wait_windows() {
     i=0
-    while [ "$i" -lt 200 ]; do
+    while [ "$i" -lt 600 ]; do
         [ -f "$1" ] && [ "$(grep -c '"record": "window"' "$1")" -ge "$2" ] && return 0
         sleep 0.1
         i=$((i + 1))
@@ -163,7 +164,11 @@ head -1 "$fan" >"$tmp/rot.csv"
     mv "$tmp/rot.csv" "$tmp/rot.1.csv"            # rotation: a new file
     sleep 0.3
     { head -1 "$fan"; sed -n '7002,14001p' "$fan"; } >"$tmp/rot.csv"
-    sleep 0.6
+    # A truncation is seen when the file is found shorter than what was
+    # read: truncate only once the follower has read this file (its 4th
+    # window ends at 1200 s), so a slow run cannot miss it.
+    wait_windows "$tmp/rot.jsonl" 4
+    sleep 0.3
     : >"$tmp/rot.csv"                             # truncation in place
     sleep 0.6
     { head -1 "$fan"; sed -n '14002,24001p' "$fan"; } >>"$tmp/rot.csv"
