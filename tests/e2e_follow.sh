@@ -218,6 +218,30 @@ check "bad row, --on-bad-row skip: exit 0" $?
 grep -q ":5000:.*skipped" "$tmp/skip.err" && [ "$(grep -c '"record": "window"' "$tmp/skip.jsonl")" -eq 8 ]
 check "bad row skipped: noted with its line, the windows go on" $?
 
+# --- Memory stays flat ----------------------------------------------------
+# A simulated 2-channel log at 50 Hz (a 0.8 Hz oscillation plus a linear
+# congruential noise, Knuth's MMIX constants) piped in at full speed: the
+# peak RSS after 3 h of data must not exceed the peak after 10 min by more
+# than 10% + 2 MB (what the allocator's arenas may add; the rows held are
+# one window, the trend keeps at most --trend-windows windows).
+gen_log() { # gen_log ROWS
+    awk -v n="$1" 'BEGIN {
+        print "time [s],a,b"; s = 12345
+        for (k = 0; k < n; k++) {
+            s = (s * 1103515245 + 12345) % 2147483648; e = s / 2147483648 - 0.5
+            x = sin(2 * 3.14159265 * 0.8 * k * 0.02)
+            printf "%.2f,%.5f,%.5f\n", k * 0.02, x + 0.3 * e, 0.5 * x - 0.2 * e
+        } }'
+}
+rss() { # rss ROWS: peak RSS (KiB) of a follow run on ROWS rows
+    gen_log "$1" | /usr/bin/time -f "%M" "$bin" track - --follow --window 60 --step 600 \
+        --boot 100 --trend-windows 5 --quiet 2>&1 >/dev/null | tail -n 1
+}
+short=$(rss 30000)
+long=$(rss 540000)
+[ -n "$short" ] && [ -n "$long" ] && [ "$long" -le $((short + short / 10 + 2048)) ]
+check "memory stays flat: peak RSS ${short} KiB after 10 min of data, ${long} KiB after 3 h" $?
+
 # --- Usage --------------------------------------------------------------
 "$bin" track "$fan" --alarm shrinking >/dev/null 2>&1
 check "--alarm without --follow: exit 1" $([ $? -eq 1 ] && echo 0 || echo 1)
