@@ -33,12 +33,13 @@ opts="--window 300 --boot 200 --seed 3"
 # each (from offline JSON or from JSON lines).
 offline_numbers() {
     jq -r '.windows[] | [.from, .to, .margin, .margin_bounds[0], .margin_bounds[1],
-        .damping_ratio, .frequency_hz, .p_stable, .replicates, .method, .stability] | @tsv' "$1"
+        .damping_ratio, .frequency_hz, .p_stable, .replicates, .method, .stability,
+        .warnings, .from_text, .to_text] | @tsv' "$1"
 }
 follow_numbers() {
     jq -r 'select(.record == "window") | .window | [.from, .to, .margin, .margin_bounds[0],
         .margin_bounds[1], .damping_ratio, .frequency_hz, .p_stable, .replicates, .method,
-        .stability] | @tsv' "$1"
+        .stability, .warnings, .from_text, .to_text] | @tsv' "$1"
 }
 # same_numbers A B: same lines, numbers within 1e-9 relative (the interval
 # is refined over the whole log offline and over each window when
@@ -148,6 +149,12 @@ check "steady pump log: exit 0" $?
 [ "$(grep -c '"record": "window"' "$tmp/pump.jsonl")" -eq 10 ] &&
     ! grep -q '"record": "alarm"' "$tmp/pump.jsonl" && ! grep -q ALARM "$tmp/pump.err"
 check "steady pump log: 10 windows, no alarm" $?
+# ISO 8601 times (the pump log): windows as offline track's too.
+"$bin" track "$pump" --window 60 --boot 200 --json "$tmp/pump_off.json" >/dev/null
+offline_numbers "$tmp/pump_off.json" >"$tmp/pump_off.tsv"
+follow_numbers "$tmp/pump.jsonl" >"$tmp/pump.tsv"
+same_numbers "$tmp/pump_off.tsv" "$tmp/pump.tsv"
+check "ISO 8601 log: each window equals offline track" $?
 
 # --- --fail-on alarm: exit 5 at the first alarm --------------------------
 cat "$fan" | "$bin" track - --follow $opts --alarm shrinking --fail-on alarm --json - \
