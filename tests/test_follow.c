@@ -139,6 +139,23 @@ static void test_reader_stream(void **state)
         total += ev == EL_FOLLOW_LINES ? n : 0;
     assert_int_equal(total, 3);
     el_follow_reader_close(&rd);
+    /* A file redirected to standard input is read to its end too, not
+     * polled for growth (`track - --follow <log.csv` ends). */
+    char path[] = "/tmp/el_follow_stdin_XXXXXX";
+    int fd = mkstemp(path);
+    assert_true(fd >= 0);
+    assert_int_equal(write(fd, "t,x\n0,1\n", 8), 8);
+    lseek(fd, 0, SEEK_SET);
+    dup2(fd, STDIN_FILENO);
+    close(fd);
+    assert_int_equal(el_follow_reader_open(&rd, "-", &err), EL_OK);
+    assert_true(rd.is_stream);
+    total = 0;
+    while ((ev = poll_once(&rd, &lines, &n, &first)) != EL_FOLLOW_END)
+        total += ev == EL_FOLLOW_LINES ? n : 0;
+    assert_int_equal(total, 2);
+    el_follow_reader_close(&rd);
+    unlink(path);
     dup2(saved, STDIN_FILENO);
     close(saved);
 }
