@@ -7,7 +7,7 @@ PKGS    := lapacke openblas fftw3 zlib
 # Debian packages the build and the tests need (make deps installs the missing).
 DEB_PKGS := build-essential pkg-config liblapacke-dev libopenblas-dev \
             libfftw3-dev libcmocka-dev zlib1g-dev chromium fonts-dejavu-core \
-            jq slurm-wlm munge python3-jsonschema
+            jq slurm-wlm munge python3-jsonschema time
 
 PKG_CFLAGS := $(shell pkg-config --cflags $(PKGS) 2>/dev/null)
 PKG_LIBS   := $(shell pkg-config --libs $(PKGS) 2>/dev/null || echo -llapacke -lopenblas -lfftw3 -lz)

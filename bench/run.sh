@@ -17,4 +17,16 @@ echo "assess (same log, 1000 bootstrap replicates): $(awk "BEGIN{printf \"%.2f\"
 for t in build/rel/bench/bench_boot; do
     [ -x "$t" ] && "$t"
 done
+# track --follow: latency from a window's last row to its result, then
+# memory over a simulated stream piped in at full speed. The 24 h check
+# runs at 50 Hz (4.3 million rows of 8 channels; 1 kHz would be 86 million)
+# and assesses a 60 s window every 600 s, so the reading of every row and
+# the dropping of rows are what runs, in a minute rather than an hour.
+build/rel/bench/bench_follow latency
+for hours in 1 24; do
+    rss=$( { build/rel/bench/bench_follow gen 50 $hours 8 |
+        /usr/bin/time -f "%M" "$bin" track - --follow --window 60 --step 600 --boot 100 \
+            --quiet; } 2>&1 | tail -n 1)
+    echo "track --follow memory: $hours h of 8 channels at 50 Hz through a pipe (60 s windows every 600 s, 100 replicates): peak RSS $rss KiB"
+done
 exit 0

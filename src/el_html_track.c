@@ -703,6 +703,11 @@ el_status el_html_track_report(const el_track_result *r, const el_track_options 
         el_svg_esc(&c, cautions[i]);
     }
     el_svg_put(&c, "</aside>\n");
+    if (opt != NULL && opt->caution_extra != NULL) {
+        el_svg_put(&c, "<aside class=\"caution\" id=\"caution-follow\"><b>Watching.</b> ");
+        el_svg_esc(&c, opt->caution_extra);
+        el_svg_put(&c, "</aside>\n");
+    }
     el_svg_put(&c, "<h2 class=\"section\">Margin over time</h2>\n");
     fig_margin(&c, &a);
     el_svg_put(&c, "<h2 class=\"section\">Damping and frequency</h2>\n");

@@ -56,6 +56,14 @@ size_t el_track_cautions(const el_track_result *r, char out[][EL_ADVICE_TEXT_MAX
                                     out);
 }
 
+void el_track_window_free(el_track_window *w)
+{
+    if (w == NULL)
+        return;
+    free(w->margin_samples);
+    memset(w, 0, sizeof *w);
+}
+
 void el_track_free(el_track_result *result)
 {
     if (result == NULL)
@@ -196,34 +204,31 @@ static el_status summarise(const el_assessment *a, double level, el_track_window
     return EL_OK;
 }
 
-/* Assesses window i (samples k0 .. k0 + len - 1 of the loaded series)
- * through the run's assessment plan. */
-static el_status assess_window(const el_track_options *opt, const el_assessment *all,
-                               el_assess_plan *plan, size_t i, size_t k0, size_t len,
-                               el_track_window *w, el_error *err)
+el_status el_track_assess_window(const el_track_options *opt, el_assess_plan *plan,
+                                 const el_table *times, size_t index, el_series *series,
+                                 el_series *inputs, el_track_window *w, el_error *err)
 {
     el_assessment a;
     memset(&a, 0, sizeof a);
-    w->t_from = all->series.t0 + (double)k0 * all->series.dt;
-    w->t_to = w->t_from + (double)len * all->series.dt;
-    el_table_format_time(&all->table, w->t_from, w->from_text, sizeof w->from_text);
-    el_table_format_time(&all->table, w->t_to, w->to_text, sizeof w->to_text);
-    el_status st = slice_series(&all->series, k0, len, &a.series, err);
-    if (st == EL_OK && all->has_inputs) {
-        st = slice_series(&all->inputs, k0, len, &a.inputs, err);
-        a.has_inputs = st == EL_OK;
+    /* The assessment owns the series from here on (freed with it). */
+    a.series = *series;
+    memset(series, 0, sizeof *series);
+    if (inputs != NULL) {
+        a.inputs = *inputs;
+        memset(inputs, 0, sizeof *inputs);
+        a.has_inputs = 1;
     }
-    if (st != EL_OK) {
-        el_assessment_free(&a);
-        return st;
-    }
+    w->t_from = a.series.t0;
+    w->t_to = w->t_from + (double)a.series.n_samples * a.series.dt;
+    el_table_format_time(times, w->t_from, w->from_text, sizeof w->from_text);
+    el_table_format_time(times, w->t_to, w->to_text, sizeof w->to_text);
     el_assess_options o = opt->assess;
-    o.boot.seed = opt->assess.boot.seed + (uint64_t)i * TRACK_SEED_STEP;
+    o.boot.seed = opt->assess.boot.seed + (uint64_t)index * TRACK_SEED_STEP;
     o.boot.progress = NULL;
     o.stage_progress = NULL;      /* the run reports windows, not their stages */
     el_error werr;
     el_error_clear(&werr);
-    st = el_assess_execute(plan, &o, &a, &werr);
+    el_status st = el_assess_execute(plan, &o, &a, &werr);
     if (st == EL_OK) {
         st = summarise(&a, opt->assess.boot.level, w, err);
     } else if (st != EL_ERR_NOMEM && st != EL_ERR_INTERNAL && st != EL_ERR_USAGE) {
@@ -240,7 +245,24 @@ static el_status assess_window(const el_track_options *opt, const el_assessment 
     return st;
 }
 
-static el_status check_options(const el_track_options *opt, el_error *err)
+/* Assesses window i (samples k0 .. k0 + len - 1 of the loaded series)
+ * through the run's assessment plan. */
+static el_status assess_window(const el_track_options *opt, const el_assessment *all,
+                               el_assess_plan *plan, size_t i, size_t k0, size_t len,
+                               el_track_window *w, el_error *err)
+{
+    el_series s, in;
+    memset(&in, 0, sizeof in);
+    el_status st = slice_series(&all->series, k0, len, &s, err);
+    if (st == EL_OK && all->has_inputs && (st = slice_series(&all->inputs, k0, len, &in, err)))
+        el_series_free(&s);
+    if (st != EL_OK)
+        return st;
+    return el_track_assess_window(opt, plan, &all->table, i, &s,
+                                  all->has_inputs ? &in : NULL, w, err);
+}
+
+el_status el_track_check_options(const el_track_options *opt, el_error *err)
 {
     if (opt->assess.boot.replicates > 0 &&
         opt->assess.boot.replicates < EL_BOOT_MIN_REPLICATES) {
@@ -256,11 +278,38 @@ static el_status check_options(const el_track_options *opt, el_error *err)
     return EL_OK;
 }
 
+el_status el_track_describe(el_track_result *result, const el_table *t,
+                            const char *const *names, size_t n_channels, double level,
+                            int bounds_off, el_error *err)
+{
+    result->n_channels = n_channels;
+    result->time_is_iso = t->time_is_iso;
+    const char *unit = t->time_is_iso ? "s"
+                       : t->units != NULL && t->time_column < t->n_columns
+                               && t->units[t->time_column] != NULL
+                           ? t->units[t->time_column]
+                           : "";
+    snprintf(result->time_unit, sizeof result->time_unit, "%s", unit);
+    result->time_origin_s = t->time_is_iso ? (double)t->time_origin_unix_s : 0.0;
+    result->level = level;
+    result->bounds_off = bounds_off;
+    /* Called again after every window in follow mode: refill, not append. */
+    el_warnings_free(&result->channel_names);
+    for (size_t c = 0; c < n_channels; c++)
+        if (el_warnings_add(&result->channel_names, "%s", names[c]) != EL_OK)
+            return el_error_set(err, EL_ERR_NOMEM, "out of memory (tracking)");
+    /* What ingest decided (text columns skipped, seconds assumed). */
+    for (size_t i = 0; i < t->notes.count; i++)
+        if (el_warnings_add(&result->warnings, "%s", t->notes.items[i]) != EL_OK)
+            return el_error_set(err, EL_ERR_NOMEM, "out of memory (tracking)");
+    return EL_OK;
+}
+
 el_status el_track_run(const el_track_options *opt, el_track_result *result,
                        el_error *err)
 {
     memset(result, 0, sizeof *result);
-    el_status st = check_options(opt, err);
+    el_status st = el_track_check_options(opt, err);
     if (st != EL_OK)
         return st;
     el_assessment all;
@@ -282,24 +331,9 @@ el_status el_track_run(const el_track_options *opt, el_track_result *result,
         result->step = (double)step * all.series.dt;
         result->span_from = all.series.t0;
         result->span_to = all.series.t0 + (double)all.series.n_samples * all.series.dt;
-        result->n_channels = all.series.n_channels;
-        for (size_t c = 0; st == EL_OK && c < all.series.n_channels; c++)
-            st = el_warnings_add(&result->channel_names, "%s", all.series.names[c]);
-        result->time_is_iso = all.table.time_is_iso;
-        const el_table *t = &all.table;
-        const char *unit = t->time_is_iso ? "s"
-                           : t->units != NULL && t->time_column < t->n_columns
-                                   && t->units[t->time_column] != NULL
-                               ? t->units[t->time_column]
-                               : "";
-        snprintf(result->time_unit, sizeof result->time_unit, "%s", unit);
-        result->time_origin_s = all.table.time_is_iso ? (double)all.table.time_origin_unix_s
-                                                      : 0.0;
-        result->level = opt->assess.boot.level;
-        result->bounds_off = opt->assess.boot.replicates == 0;
-        /* What ingest decided (text columns skipped, seconds assumed). */
-        for (size_t i = 0; st == EL_OK && i < all.table.notes.count; i++)
-            st = el_warnings_add(&result->warnings, "%s", all.table.notes.items[i]);
+        st = el_track_describe(result, &all.table, (const char *const *)all.series.names,
+                               all.series.n_channels, opt->assess.boot.level,
+                               opt->assess.boot.replicates == 0, err);
     }
     /* One plan for every window: they all have len samples of the same
      * channels, so the fit and band workspaces are made once. */
@@ -604,7 +638,7 @@ el_status el_track_fit_trend(el_track_result *r, el_error *err)
 /* ------------------------------------------------------------------ */
 /* Reports. */
 
-static void text_window(el_buf *out, const el_track_window *w, int width)
+void el_track_window_text(el_buf *out, const el_track_window *w, int width)
 {
     el_buf_printf(out, "  %*s %*s  ", width, w->from_text, width, w->to_text);
     if (!w->ok) {
@@ -649,7 +683,7 @@ static const char *num_or_na(char *buf, size_t size, double v)
     return buf;
 }
 
-static void text_trend(el_buf *out, const el_track_result *r)
+void el_track_trend_text(el_buf *out, const el_track_result *r)
 {
     double pct = 100.0 * r->level;
     const char *u = unit_of(r);
@@ -706,9 +740,9 @@ el_status el_track_report_text(const el_track_result *r, const el_track_options 
     el_buf_printf(out, "  %*s %*s  %10s  %-22s  %7s  %8s  %6s  %s\n", width, "from", width,
                   "to", "margin", "bounds", "zeta", "f Hz", "P(st)", "verdict, method");
     for (size_t i = 0; i < r->n_windows; i++)
-        text_window(out, &r->windows[i], width);
+        el_track_window_text(out, &r->windows[i], width);
     if (r->has_trend)
-        text_trend(out, r);
+        el_track_trend_text(out, r);
     for (size_t i = 0; i < r->warnings.count; i++)
         el_buf_printf(out, "  ! %s\n", r->warnings.items[i]);
     char cautions[EL_ADVICE_MAX_CAUTIONS][EL_ADVICE_TEXT_MAX];
@@ -728,9 +762,10 @@ static void json_interval(el_json *j, const char *key, double lo, double hi)
 }
 
 /* from/to: table time, for ISO logs Unix seconds (as assess's window). */
-static void json_window(el_json *j, const el_track_window *w, double origin)
+void el_track_window_json(el_json *j, const char *key, const el_track_window *w,
+                          double origin)
 {
-    el_json_object_begin(j, NULL);
+    el_json_object_begin(j, key);
     el_json_number(j, "from", origin + w->t_from);
     el_json_number(j, "to", origin + w->t_to);
     el_json_string(j, "from_text", w->from_text);
@@ -751,6 +786,22 @@ static void json_window(el_json *j, const el_track_window *w, double origin)
     el_json_bool(j, "ambiguous", w->ambiguous);
     el_json_int(j, "replicates", (long long)w->n_replicates);
     el_json_int(j, "warnings", (long long)w->n_warnings);
+    el_json_object_end(j);
+}
+
+void el_track_trend_json(el_json *j, const el_track_result *r)
+{
+    el_json_object_begin(j, "trend");
+    el_json_string(j, "class", el_trend_name(r->trend));
+    el_json_number(j, "level", r->level);
+    el_json_number(j, "slope", r->slope);
+    json_interval(j, "slope_bounds", r->slope_lo, r->slope_hi);
+    el_json_number(j, "p_shrinking", r->p_shrinking);
+    el_json_number(j, "margin_now", r->margin_now);
+    el_json_number(j, "scatter_ratio", r->scatter_ratio);
+    el_json_number(j, "widening", r->widening);
+    el_json_number(j, "time_to_zero", r->time_to_zero);
+    json_interval(j, "time_to_zero_bounds", r->time_to_zero_lo, r->time_to_zero_hi);
     el_json_object_end(j);
 }
 
@@ -779,20 +830,9 @@ el_status el_track_report_json(const el_track_result *r, const el_track_options 
     el_json_object_end(&j);
     el_json_array_begin(&j, "windows");
     for (size_t i = 0; i < r->n_windows; i++)
-        json_window(&j, &r->windows[i], r->time_origin_s);
+        el_track_window_json(&j, NULL, &r->windows[i], r->time_origin_s);
     el_json_array_end(&j);
-    el_json_object_begin(&j, "trend");
-    el_json_string(&j, "class", el_trend_name(r->trend));
-    el_json_number(&j, "level", r->level);
-    el_json_number(&j, "slope", r->slope);
-    json_interval(&j, "slope_bounds", r->slope_lo, r->slope_hi);
-    el_json_number(&j, "p_shrinking", r->p_shrinking);
-    el_json_number(&j, "margin_now", r->margin_now);
-    el_json_number(&j, "scatter_ratio", r->scatter_ratio);
-    el_json_number(&j, "widening", r->widening);
-    el_json_number(&j, "time_to_zero", r->time_to_zero);
-    json_interval(&j, "time_to_zero_bounds", r->time_to_zero_lo, r->time_to_zero_hi);
-    el_json_object_end(&j);
+    el_track_trend_json(&j, r);
     el_json_array_begin(&j, "warnings");
     for (size_t i = 0; i < r->warnings.count; i++)
         el_json_string(&j, NULL, r->warnings.items[i]);

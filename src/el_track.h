@@ -12,6 +12,7 @@
 #include "el_assess.h"
 #include "el_error.h"
 #include "el_io.h"
+#include "el_json.h"
 
 typedef struct {
     el_assess_options assess;     /* per window; from/to bound the span tracked;
@@ -22,6 +23,9 @@ typedef struct {
     /* Called from the calling thread after each window; may be NULL. */
     void (*progress)(void *ctx, size_t done, size_t total);
     void *progress_ctx;
+    /* A second caution shown after the usual one in the HTML page (`track
+     * --follow` says there what an alarm is not); NULL = none. */
+    const char *caution_extra;
 } el_track_options;
 
 /* Fills opt with the defaults: el_assess_defaults, automatic window and
@@ -137,6 +141,55 @@ el_status el_track_report_text(const el_track_result *r, const el_track_options 
                                el_buf *out);
 el_status el_track_report_json(const el_track_result *r, const el_track_options *opt,
                                el_buf *out);
+
+/* The checks el_track_run makes of its options before any work: the
+ * bootstrap must be on with at least EL_BOOT_MIN_REPLICATES replicates.
+ * EL_OK, or EL_ERR_USAGE with option "--boot" and a hint. */
+el_status el_track_check_options(const el_track_options *opt, el_error *err);
+
+/* Assesses one window, the routine el_track_run runs for each of its
+ * windows and `track --follow` (el_follow) for each completed window:
+ * el_assess_execute through plan on *series (and *inputs when not NULL)
+ * with the bootstrap seed opt->assess.boot.seed + index times a fixed odd
+ * constant, then the window's summary into *w (zero-initialised by the
+ * caller): t_from = series->t0, t_to = t_from + n_samples dt, their texts
+ * written as the log writes times (el_table_format_time on times, whose
+ * other parts may be empty), the margin, its bounds and replicates. The
+ * series (and inputs) are taken over and freed, also on error (they are
+ * left zeroed). A window whose assessment fails for its own data (too
+ * flat, singular) gives w->ok = 0 with the message and EL_OK; EL_ERR_USAGE,
+ * EL_ERR_NOMEM and EL_ERR_INTERNAL stop (err says why). Free w with
+ * el_track_window_free. */
+el_status el_track_assess_window(const el_track_options *opt, el_assess_plan *plan,
+                                 const el_table *times, size_t index, el_series *series,
+                                 el_series *inputs, el_track_window *w, el_error *err);
+
+/* Frees what the window owns (its replicate margins) and zeroes it. NULL
+ * is a no-op. */
+void el_track_window_free(el_track_window *w);
+
+/* Fills the log's description into *result: n_channels, channel_names
+ * (names[0..n_channels), replacing any names already there), time_is_iso,
+ * time_unit (from the table's time column), time_origin_s, level,
+ * bounds_off, and the table's ingest notes as warnings (appended: the
+ * caller empties result->warnings first when it describes again). EL_OK
+ * or EL_ERR_NOMEM. */
+el_status el_track_describe(el_track_result *result, const el_table *t,
+                            const char *const *names, size_t n_channels, double level,
+                            int bounds_off, el_error *err);
+
+/* The pieces of the reports, for a caller that writes windows one at a
+ * time (`track --follow`): one window's line of the text table (columns
+ * width wide for the times), the trend lines of the text report, one
+ * window's JSON object under key (NULL inside an array; times plus origin:
+ * Unix seconds for ISO logs) and
+ * the "trend" object. Out-of-memory sticks in the buffer (out->failed) or
+ * the writer (j->failed). */
+void el_track_window_text(el_buf *out, const el_track_window *w, int width);
+void el_track_trend_text(el_buf *out, const el_track_result *r);
+void el_track_window_json(el_json *j, const char *key, const el_track_window *w,
+                          double origin);
+void el_track_trend_json(el_json *j, const el_track_result *r);
 
 /* Frees what the result owns and zeroes it. NULL is a no-op. */
 void el_track_free(el_track_result *result);

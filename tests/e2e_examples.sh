@@ -22,7 +22,7 @@ python=/usr/bin/python3
 [ -x "$python" ] || python=python3
 
 for f in examples/rig_gate.sh examples/read_json.py examples/assess_from_c.c \
-         examples/track_long_log.sh; do
+         examples/track_long_log.sh examples/watch_logger.service examples/on_alarm.sh; do
     head -4 "$f" | grep -q "Shows: "
     check "$f says what it shows at its top" $?
 done
@@ -65,6 +65,19 @@ sh examples/track_long_log.sh "$tmp/fan" >"$tmp/track.txt" 2>&1
 check "track_long_log.sh runs" $?
 grep -q '<svg' "$tmp/fan/track.html" 2>/dev/null && grep -q '"class": "shrinking"' "$tmp/fan/track.json" 2>/dev/null
 check "track_long_log.sh writes the HTML page and the JSON, margin shrinking (datasets/README.md)" $?
+
+# The service unit needs systemd; its ExecStart options are checked here
+# (track accepts them), and the alarm script is run as --on-alarm runs it.
+opts=$(sed -n '/^ExecStart=/,/^[A-Z]/p' examples/watch_logger.service | tr -d '\\\n' |
+    sed 's/^ExecStart=[^ ]* track [^ ]* //; s/Environment=.*//; s/--html [^ ]*//; s/--json [^ ]*//; s/--on-alarm "[^"]*"//')
+# shellcheck disable=SC2086
+eval "\"$bin\" track - $opts --quiet" <datasets/booster_pump.csv >/dev/null 2>&1
+check "watch_logger.service: track accepts its ExecStart options" $?
+cat datasets/fan_warmup.csv | ALARM_LOG="$tmp/alarms.log" "$bin" track - --follow --window 300 \
+    --boot 200 --alarm shrinking --on-alarm "sh examples/on_alarm.sh" --quiet 2>/dev/null
+check "on_alarm.sh: follow on the fan log runs" $?
+[ "$(grep -c ' ALARM shrinking on <stdin>: window .* margin 0\.[0-9]* \[.*P(stable) .*never replaces' "$tmp/alarms.log" 2>/dev/null)" -eq 1 ]
+check "on_alarm.sh: one line per episode with the facts (fan log shrinks, datasets/README.md)" $?
 
 echo "e2e_examples: $passed passed, $failed failed"
 [ "$failed" -eq 0 ]
