@@ -322,7 +322,8 @@ static void test_create_refuses(void **state)
     assert_int_equal(el_follow_create(&fo, &f, &err), EL_ERR_USAGE);
     assert_string_equal(err.option, "--from");
     fo.track.assess.from_text = NULL;
-    fo.track.assess.boot.replicates = 0;
+    /* 1..99 replicates are too few for bounds (--boot 0 turns them off). */
+    fo.track.assess.boot.replicates = 50;
     assert_int_equal(el_follow_create(&fo, &f, &err), EL_ERR_USAGE);
     assert_string_equal(err.option, "--boot");
     assert_null(f);
