@@ -261,12 +261,22 @@ typedef struct {
     char path_shown[4096];
 } follow_run;
 
-static void json_envelope(el_json *j, const char *record)
+/* The common envelope (docs/json.md) of every line: tool, version,
+ * command, input {file, files, channel_names, time_unit}, the warnings so
+ * far as {code, message}, then the record's kind. */
+static void json_envelope(el_json *j, const follow_run *fr, const el_track_result *r,
+                          const char *record)
 {
     el_json_object_begin(j, NULL);
-    el_json_string(j, "tool", "eigenlog");
-    el_json_string(j, "version", EL_VERSION);
-    el_json_string(j, "command", "track");
+    el_envelope_head(j, "track");
+    el_json_object_begin(j, "input");
+    el_json_string(j, "file", fr->path_shown);
+    el_envelope_input(j, fr->path_shown, NULL, 0, r->channel_names.items,
+                      r->channel_names.count);
+    el_json_string(j, "time_unit", r->time_unit[0] ? r->time_unit : "s");
+    el_json_object_end(j);
+    const el_warnings *lists[1] = {&r->warnings};
+    el_envelope_warnings(j, "warning_details", lists, 1);
     el_json_string(j, "record", record);
 }
 
@@ -311,7 +321,7 @@ static el_status emit_window(follow_run *fr, const el_track_window *w, size_t in
     el_buf b = {0};
     el_json j;
     el_json_init(&j, &b);
-    json_envelope(&j, "window");
+    json_envelope(&j, fr, r, "window");
     el_json_int(&j, "index", (long long)index);
     el_json_string(&j, "file", fr->path_shown);
     el_json_string(&j, "time_unit", r->time_unit);
@@ -343,7 +353,7 @@ static el_status emit_trend(follow_run *fr, const el_track_result *r, int final,
     el_buf b = {0};
     el_json j;
     el_json_init(&j, &b);
-    json_envelope(&j, "trend");
+    json_envelope(&j, fr, r, "trend");
     el_json_bool(&j, "final", final);
     el_json_int(&j, "windows", (long long)r->n_windows);
     el_json_int(&j, "assessed", (long long)r->n_ok);
@@ -439,7 +449,7 @@ static el_status alarm_record(follow_run *fr, const char *event, const char *nam
     el_buf b = {0};
     el_json j;
     el_json_init(&j, &b);
-    json_envelope(&j, "alarm");
+    json_envelope(&j, fr, r, "alarm");
     el_json_string(&j, "event", event);
     el_json_string(&j, "conditions", names);
     el_json_int(&j, "index", (long long)index);
