@@ -1,6 +1,9 @@
 /* el_ingest: streaming CSV reader (RFC 4180 quoting, header with units,
  * delimiter detection, number and ISO 8601 time cells) from a byte source
  * (el_source) into a table (el_table). */
+/* madvise and MADV_HUGEPAGE (Linux) are outside strict POSIX: ask glibc
+ * for them; used only when defined. */
+#define _DEFAULT_SOURCE 1
 #include "el_ingest.h"
 
 #include <errno.h>
@@ -8,6 +11,7 @@
 #include <stdarg.h>
 #include <stdlib.h>
 #include <string.h>
+#include <sys/mman.h>
 #include <unistd.h>
 
 #include "el_chunks.h"
@@ -724,6 +728,23 @@ static size_t estimate_rows(const ingest *g, size_t first_row_bytes)
     return rows + rows / 8 + 256;
 }
 
+/* Asks for large pages for a block of column values: a table of tens of
+ * MB otherwise costs a page fault (and a page clear) per 4 KiB. Only the
+ * whole pages inside the block are advised; a hint, so failure is fine. */
+static void advise_large_pages(void *block, size_t bytes)
+{
+#if defined(MADV_HUGEPAGE)
+    const uintptr_t page = 4096;
+    uintptr_t a = ((uintptr_t)block + page - 1) & ~(page - 1);
+    uintptr_t b = ((uintptr_t)block + bytes) & ~(page - 1);
+    if (bytes >= ((size_t)4 << 20) && b > a)
+        (void)madvise((void *)a, (size_t)(b - a), MADV_HUGEPAGE);
+#else
+    (void)block;
+    (void)bytes;
+#endif
+}
+
 /* Makes room for one more row: the column-major block keeps a capacity of
  * cap rows per column and is reshaped in place when it doubles.
  * first_row_bytes: the length of the row about to be stored (used for the
@@ -740,6 +761,7 @@ static el_status grow_rows(ingest *g, size_t first_row_bytes)
     double *v = realloc(t->values, cap * ncol * sizeof *v);
     if (v == NULL)
         return no_memory(g);
+    advise_large_pages(v, cap * ncol * sizeof *v);
     t->values = v;
     for (size_t c = ncol; c-- > 1;)
         memmove(v + c * cap, v + c * g->cap_rows, t->n_rows * sizeof *v);
@@ -1038,6 +1060,8 @@ static void read_chunk(const ingest *g, row_chunk *k)
     k->cap += k->cap / 8 + 256;
     k->values = k->cap <= SIZE_MAX / sizeof(double) / n ? malloc(k->cap * n * sizeof(double))
                                                         : NULL;
+    if (k->values != NULL)
+        advise_large_pages(k->values, k->cap * n * sizeof(double));
     const char *p = k->begin, *lim = g->rd.buf + g->rd.end;
     k->failed = k->values == NULL;
     char decimal = g->decimal;
