@@ -276,6 +276,9 @@ static int try_map(el_source *rd)
     }
     /* Read-ahead of the whole file: the reader goes through it once. */
     posix_madvise(map, size, POSIX_MADV_SEQUENTIAL);
+    /* The stream ends where a streaming read would have left it: at the
+     * end of what was read (a caller may go on from there). */
+    (void)fseeko(rd->stream, (off_t)size, SEEK_SET);
     rd->buf = map;
     rd->cap = size;
     rd->beg = 0;
