@@ -12,6 +12,7 @@
 
 #include "el_chunks.h"
 #include "el_number.h"
+#include "el_rows.h"
 #include "el_source.h"
 #include "el_text.h"
 #include "el_timefmt.h"
@@ -59,16 +60,6 @@ typedef struct {
 
 enum { TIME_UNKNOWN, TIME_NUMBER, TIME_ISO };
 
-/* One part of a mapped file read on the fast path by a thread of its own
- * into a block of its own (column-major, cap rows per column). */
-typedef struct {
-    const char *begin, *end;  /* begin at a line start, end after a '\n' */
-    double *values;
-    size_t cap, rows;
-    const char *stop;         /* where the fast path stopped (end: all read) */
-    int failed;               /* 1: no memory (the part is read again) */
-} row_chunk;
-
 typedef struct {
     el_source rd;
     const char *name;
@@ -98,7 +89,7 @@ typedef struct {
     size_t first_row_bytes;   /* length of the first data row (size estimates) */
     size_t threads;           /* el_ingest_options.threads, 0 resolved */
     int chunks_tried;         /* 1: the parallel read was considered */
-    row_chunk chunks[MAX_CHUNKS]; /* parts 1..n_chunks-1 (part 0 is the table's) */
+    el_row_part chunks[MAX_CHUNKS]; /* parts 1..n_chunks-1 (part 0 is the table's) */
     size_t n_chunks, next_chunk;
 } ingest;
 
@@ -740,6 +731,7 @@ static el_status grow_rows(ingest *g, size_t first_row_bytes)
     double *v = realloc(t->values, cap * ncol * sizeof *v);
     if (v == NULL)
         return no_memory(g);
+    el_rows_advise_large(v, cap * ncol * sizeof *v);
     t->values = v;
     for (size_t c = ncol; c-- > 1;)
         memmove(v + c * cap, v + c * g->cap_rows, t->n_rows * sizeof *v);
@@ -932,43 +924,13 @@ static int fast_rows_ok(const ingest *g)
     return 1;
 }
 
-/* Reads the row of n numbers at p (a '\n' lies at or after p before lim)
- * into dst[0], dst[stride], ... and returns the byte after its line end,
- * or NULL when the row needs the general reader (dst then holds junk that
- * no row count covers). *decimal as in el_number_parse, decided by the
- * first separator met. Touches nothing else: threads call it. */
-static const char *scan_row(const char *p, const char *lim, size_t n, char delim,
-                            char *decimal, double *dst, size_t stride)
-{
-    char dec = *decimal;
-    for (size_t c = 0; c < n; c++, dst += stride) {
-        char point;
-        const char *e = el_number_scan(p, lim, dec, delim, dst, &point);
-        if (e == NULL)
-            return NULL;
-        if (c + 1 < n) {
-            if (*e != delim)
-                return NULL;
-        } else if (*e != '\n') {
-            if (*e != '\r' || e[1] != '\n')
-                return NULL;
-            e++;
-        }
-        /* The first separator decides, cell by cell as parse_row does. */
-        if (point != 0 && dec == 0)
-            dec = point;
-        p = e + 1;
-    }
-    *decimal = dec;
-    return p;
-}
-
-/* scan_row into row t->n_rows of the table (capacity reserved). */
+/* el_rows_scan into row t->n_rows of the table (capacity reserved). */
 static const char *fast_row(ingest *g, const char *p, const char *lim)
 {
     el_table *t = g->t;
     size_t row = t->n_rows;
-    p = scan_row(p, lim, g->n_columns, g->delim, &g->decimal, t->values + row, g->cap_rows);
+    p = el_rows_scan(p, lim, g->n_columns, g->delim, &g->decimal, t->values + row,
+                     g->cap_rows);
     if (p == NULL)
         return NULL;
     t->source_line[row] = g->rd.line;
@@ -1012,49 +974,6 @@ static el_status fast_rows(ingest *g)
 /* ------------------------------------------------------------------ */
 /* Parts of a mapped file read by several threads                     */
 
-/* Grows a part's block to twice its rows per column (columns moved up). */
-static int grow_chunk(row_chunk *k, size_t n_columns)
-{
-    size_t cap = 2 * k->cap;
-    if (cap > SIZE_MAX / sizeof(double) / n_columns)
-        return 0;
-    double *v = realloc(k->values, cap * n_columns * sizeof *v);
-    if (v == NULL)
-        return 0;
-    for (size_t c = n_columns; c-- > 1;)
-        memmove(v + c * cap, v + c * k->cap, k->rows * sizeof *v);
-    k->values = v;
-    k->cap = cap;
-    return 1;
-}
-
-/* Reads part k (>= 1) on the fast path into its own block until its end
- * or the first row the fast path does not take. Only reads g. */
-static void read_chunk(const ingest *g, row_chunk *k)
-{
-    size_t n = g->n_columns;
-    size_t per_row = g->first_row_bytes + 1;
-    k->cap = (size_t)(k->end - k->begin) / per_row;
-    k->cap += k->cap / 8 + 256;
-    k->values = k->cap <= SIZE_MAX / sizeof(double) / n ? malloc(k->cap * n * sizeof(double))
-                                                        : NULL;
-    const char *p = k->begin, *lim = g->rd.buf + g->rd.end;
-    k->failed = k->values == NULL;
-    char decimal = g->decimal;
-    while (!k->failed && p < k->end) {
-        if (k->rows == k->cap && !grow_chunk(k, n)) {
-            k->failed = 1;
-            break;
-        }
-        const char *next = scan_row(p, lim, n, g->delim, &decimal, k->values + k->rows, k->cap);
-        if (next == NULL)
-            break;
-        p = next;
-        k->rows++;
-    }
-    k->stop = p;
-}
-
 typedef struct {
     ingest *g;
     el_status status; /* of part 0 */
@@ -1067,7 +986,9 @@ static void run_chunk(void *ctx, size_t chunk, size_t slot)
     if (chunk == 0)
         run->status = fast_rows(run->g); /* stops at part 1's begin */
     else
-        read_chunk(run->g, &run->g->chunks[chunk - 1]);
+        el_rows_read_part(&run->g->chunks[chunk - 1], run->g->rd.buf + run->g->rd.end,
+                          run->g->n_columns, run->g->delim, run->g->decimal,
+                          run->g->first_row_bytes);
 }
 
 /* Once, when the rows after the first are plain numbers of a mapped file
@@ -1089,24 +1010,7 @@ static el_status read_in_parts(ingest *g)
     parts = parts < MAX_CHUNKS + 1 ? parts : MAX_CHUNKS + 1;
     if (parts < 2)
         return EL_OK;
-    const char *base = rd->buf + rd->beg, *end = rd->buf + rd->end;
-    size_t n = 0;
-    for (size_t j = 1; j < parts; j++) {
-        const char *at = base + left / parts * j;
-        const char *nl = memchr(at, '\n', (size_t)(end - at));
-        if (nl == NULL || nl + 1 >= end || (n > 0 && nl + 1 <= g->chunks[n - 1].begin))
-            break;
-        g->chunks[n] = (row_chunk){nl + 1, NULL, NULL, 0, 0, NULL, 0};
-        n++;
-    }
-    for (size_t j = 0; j < n; j++) {
-        /* A part ends after the last line end before the next part (the
-         * last part: before the end of the file's last full line). */
-        const char *e = j + 1 < n ? g->chunks[j + 1].begin : end;
-        while (e > g->chunks[j].begin && e[-1] != '\n')
-            e--;
-        g->chunks[j].end = e;
-    }
+    size_t n = el_rows_split(rd->buf + rd->beg, left, parts, g->chunks);
     g->n_chunks = n;
     g->next_chunk = 0;
     if (n == 0)
@@ -1127,7 +1031,7 @@ static el_status take_chunks(ingest *g)
     el_source *rd = &g->rd;
     el_table *t = g->t;
     while (g->next_chunk < g->n_chunks) {
-        row_chunk *k = &g->chunks[g->next_chunk];
+        el_row_part *k = &g->chunks[g->next_chunk];
         const char *at = rd->buf + rd->beg;
         if (at < k->begin)
             return EL_OK;
@@ -1159,10 +1063,7 @@ static el_status take_chunks(ingest *g)
 /* Frees the blocks of parts not taken (after an error). */
 static void free_chunks(ingest *g)
 {
-    for (size_t j = 0; j < g->n_chunks; j++) {
-        free(g->chunks[j].values);
-        g->chunks[j].values = NULL;
-    }
+    el_rows_free_parts(g->chunks, g->n_chunks);
 }
 
 static el_status read_rows(ingest *g)

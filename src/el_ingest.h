@@ -47,7 +47,10 @@ el_status el_table_read_files(const char *const *paths, size_t n_paths,
                               el_error *err);
 
 /* Reads a CSV log from path ("-" = stdin) into *table (which must be
- * zero-initialised or freed). Rules: gzip-compressed input (by its magic
+ * zero-initialised or freed). A regular uncompressed file is mapped into
+ * memory and, when large, its rows are read by one thread per core (see
+ * el_table_read_threads; the table does not depend on it); anything else
+ * is streamed. Rules: gzip-compressed input (by its magic
  * bytes; also several gzip members one after another) is decompressed as
  * it is read (zlib); RFC 4180 quoting; first non-comment
  * row is the header, each name optionally followed by a unit written
@@ -93,7 +96,8 @@ el_status el_table_read_threads(const char *path, const el_ingest_options *opt,
                                 size_t threads, el_table *table, el_error *err);
 
 /* As el_table_read, from an open stream; name is used in messages. The
- * stream is read to its end and not closed. */
+ * stream is read to its end (a regular file at offset 0 is mapped, and
+ * the stream then left at the end of what was read) and not closed. */
 el_status el_table_read_stream(FILE *stream, const char *name,
                                const el_ingest_options *opt, el_table *table,
                                el_error *err);

@@ -136,8 +136,12 @@ int el_number_parse(const char *s, size_t n, char *decimal, char delim, double *
 #if defined(__BYTE_ORDER__) && __BYTE_ORDER__ == __ORDER_LITTLE_ENDIAN__ && \
     (defined(__GNUC__) || defined(__clang__))
 #define EL_SWAR 1
+/* The digit loop runs once or twice per cell: inlined, the compiler keeps
+ * mant and the digit count in registers across the whole number. */
+#define HOT_INLINE __attribute__((always_inline)) inline
 #else
 #define EL_SWAR 0
+#define HOT_INLINE inline
 #endif
 
 static const uint64_t POW10_U64[] = {1u, 10u, 100u, 1000u, 10000u, 100000u, 1000000u,
@@ -146,7 +150,7 @@ static const uint64_t POW10_U64[] = {1u, 10u, 100u, 1000u, 10000u, 100000u, 1000
 #if EL_SWAR
 /* SWAR ("SIMD within a register"): eight characters in one 64-bit word,
  * the first character in the lowest byte (little-endian load). */
-static uint64_t load8(const char *p)
+static HOT_INLINE uint64_t load8(const char *p)
 {
     uint64_t v;
     memcpy(&v, p, sizeof v);
@@ -158,7 +162,7 @@ static uint64_t load8(const char *p)
  * bit clear exactly then, and d's own top bit catches bytes >= 0x80. A
  * carry out of a byte only reaches bytes above the first non-digit, so
  * the lowest flagged byte is always right. */
-static unsigned digit_run(uint64_t d)
+static HOT_INLINE unsigned digit_run(uint64_t d)
 {
     uint64_t m = (d | (d + 0x7676767676767676u)) & 0x8080808080808080u;
     return m != 0 ? (unsigned)__builtin_ctzll(m) >> 3 : 8u;
@@ -169,7 +173,7 @@ static unsigned digit_run(uint64_t d)
  * leading zeros, then combined pairwise (10a + b), by pairs of pairs (100)
  * and by halves (10^4) in three multiplications, the usual word-parallel
  * decimal conversion. */
-static uint64_t digits_value(uint64_t d, unsigned k)
+static HOT_INLINE uint64_t digits_value(uint64_t d, unsigned k)
 {
     d <<= 8 * (8 - k);
     d = (d * (1 + (10u << 8))) >> 8;
@@ -181,7 +185,8 @@ static uint64_t digits_value(uint64_t d, unsigned k)
 /* Reads the digits at p into *mant (wrapping, as the exact parser does)
  * and counts them in *digits; returns the first non-digit. lim: bytes
  * before it may be loaded eight at a time. */
-static const char *scan_digits(const char *p, const char *lim, uint64_t *mant, size_t *digits)
+static HOT_INLINE const char *scan_digits(const char *p, const char *lim, uint64_t *mant,
+                                          size_t *digits)
 {
 #if EL_SWAR
     while (lim - p >= 8) {

@@ -1317,6 +1317,44 @@ static void test_fast_path_matches_general_reader(void **state)
     free(want);
 }
 
+/* A stream is left at the end of what was read, mapped or not (callers
+ * may read on from there), and a stream not at its start is not mapped:
+ * reading goes on from where it stands. */
+static void test_stream_left_at_end(void **state)
+{
+    (void)state;
+    const char *text = "t,x\n0,1\n1,2\n2,4\n";
+    const char *second = "x,y\n0,1\n1,2\n";
+    FILE *fp = tmpfile();
+    assert_non_null(fp);
+    assert_true(fputs(text, fp) >= 0 && fputs(second, fp) >= 0);
+    long total = (long)(strlen(text) + strlen(second));
+    rewind(fp);
+    el_table t = {0};
+    el_error e;
+    /* From the start: "x,y" is a row whose time cell is not a number. */
+    assert_int_equal(el_table_read_stream(fp, "test.csv", NULL, &t, &e), EL_ERR_DATA);
+    assert_int_equal(e.line, 5);
+    /* From the second log's first byte: its own header, two rows. */
+    assert_int_equal(fseek(fp, (long)strlen(text), SEEK_SET), 0);
+    assert_int_equal(el_table_read_stream(fp, "test.csv", NULL, &t, &e), EL_OK);
+    assert_string_equal(t.names[0], "x");
+    assert_int_equal(t.n_rows, 2);
+    assert_int_equal(ftell(fp), total);
+    el_table_free(&t);
+    fclose(fp);
+    /* Mapped (a regular file at its start): left at the end as well. */
+    fp = tmpfile();
+    assert_non_null(fp);
+    assert_true(fputs(text, fp) >= 0);
+    rewind(fp);
+    assert_int_equal(el_table_read_stream(fp, "test.csv", NULL, &t, &e), EL_OK);
+    assert_int_equal(t.n_rows, 3);
+    assert_int_equal(ftell(fp), (long)strlen(text));
+    el_table_free(&t);
+    fclose(fp);
+}
+
 /* Writes text to a temporary file and returns its path (caller unlinks). */
 static char *temp_file(const char *text, size_t n)
 {
@@ -1501,6 +1539,7 @@ int main(void)
         cmocka_unit_test(test_scan_counts_and_tiny_spread),
         cmocka_unit_test(test_fast_path_matches_general_reader),
         cmocka_unit_test(test_threads_same_table),
+        cmocka_unit_test(test_stream_left_at_end),
         cmocka_unit_test(test_median_step_selection),
     };
     return cmocka_run_group_tests_name("ingest", tests, NULL, NULL);
