@@ -680,7 +680,7 @@ typedef struct {
     double worst_freq_pct, worst_zeta_pct;   /* largest |error| over the seeds */
     size_t covered, with_bounds, raw_wrong, no_input;
     size_t right;            /* verdict word = the true class (flagged or not) */
-    size_t undecided;        /* verdict word "marginal": the class is left open */
+    size_t undecided;        /* verdict word "undecided" or "marginal": the class is left open */
     size_t wrong;            /* wrong class, not flagged AMBIGUOUS: confident and wrong */
     size_t ambiguous;        /* flagged AMBIGUOUS for any reason (class, type, Nyquist) */
     size_t regime_count[4];
@@ -1279,7 +1279,7 @@ int main(int argc, char **argv)
     printf("- cover: truth Re lambda inside the 95%% bounds of that mode (- : no bootstrap "
            "ran)\n");
     printf("- verdicts, counts of logs: right: the verdict word is the true class (stable or "
-           "unstable), flagged AMBIGUOUS or not; undec: the word is \"marginal\", the class is "
+           "unstable), flagged AMBIGUOUS or not; undec: the word is \"undecided\" or \"marginal\", the class is "
            "left open; WRONG: the wrong class, not flagged AMBIGUOUS (confident and wrong); "
            "wrong, flagged: the wrong class, flagged AMBIGUOUS (e.g. for the plane region); "
            "raw wrong: the estimator's own bootstrap alone (P(stable) >= 0.95 or <= 0.05) says "

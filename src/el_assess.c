@@ -556,9 +556,11 @@ static el_status cross_check(el_assess_plan *ap, const el_assess_options *opt,
         return EL_OK;
     const el_mode *m = r->cross_modes.n_modes > 0 ? &r->cross_modes.modes[0] : NULL;
     el_verdict_set_undecided(&r->verdict, EL_CAUSE_ESTIMATORS_DISAGREE);
-    char p_text[32] = "no bootstrap";
+    char p_text[80] = "no bootstrap";
     if (isfinite(r->cross_p_stable))
-        snprintf(p_text, sizeof p_text, "P(stable) %.3f", r->cross_p_stable);
+        snprintf(p_text, sizeof p_text, "stable in %.0f of its %zu bootstrap replicates",
+                 r->cross_p_stable * (double)r->cross_boot.replicates,
+                 r->cross_boot.replicates);
     return el_warnings_add(&r->warnings,
                            "the estimators disagree: %s says %s, but the independent "
                            "cross-check by %s leans the other way (%s; its least damped "

@@ -194,8 +194,13 @@ el_status el_assess_run(const el_assess_options *opt, el_assessment *result,
                         el_error *err);
 
 /* Everything after el_assess_load, on the series (and inputs, when
- * has_inputs) already in *result: prepare, regime, fit, modes, spectra,
- * bootstrap, verdict, cross-check, growth veto, validation. el_assess_run
+ * has_inputs) already in *result: prepare, regime (with the level check),
+ * fit, modes, spectra, bootstrap, verdict, cross-check, growth veto, the
+ * split-half drift check (result->split), what breaks one operating point
+ * (result->nonstat: a level shift, a level trend or drift, each making a
+ * "stable" undecided with that cause, never an "unstable"), validation,
+ * and the cause of bounds that straddle zero (few cycles, low
+ * excitation). el_assess_run
  * is el_assess_load then this; a caller that builds the series itself
  * (el_track, one window at a time) fills result->series, result->inputs
  * and has_inputs (owned by the result from then on) and calls this. The

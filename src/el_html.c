@@ -1083,7 +1083,9 @@ static void details_section(ctx *c)
             el_buf_printf(c->o, "; cross-check by %s %s", el_method_name(r->cross_method),
                           r->cross_agrees ? "agrees" : "disagrees");
             if (isfinite(r->cross_p_stable))
-                el_buf_printf(c->o, " (P(stable) %.3f)", r->cross_p_stable);
+                el_buf_printf(c->o, " (stable in %.0f of its %zu bootstrap replicates)",
+                              r->cross_p_stable * (double)r->cross_boot.replicates,
+                              r->cross_boot.replicates);
         }
         el_svg_put(c, "</td></tr>");
     }

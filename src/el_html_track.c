@@ -609,8 +609,8 @@ static void track_tiles(ctx *c)
     if (isfinite(r->time_to_zero)) {
         el_svg_tile_value(c, "time to zero margin", r->time_to_zero,
                    r->time_unit[0] != '\0' ? c->time_unit : "time units");
-        el_svg_put(c, "after the last window's middle, a <b>straight-line extrapolation</b>, not a "
-               "prediction");
+        el_svg_put(c, "after the last window's middle, on a <b>straight-line extrapolation</b>: "
+               "the margin may be lost sooner");
         level_bounds(c, r->time_to_zero_lo, r->time_to_zero_hi);
         el_svg_put(c, "</div></div>");
     }

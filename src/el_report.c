@@ -77,9 +77,11 @@ static void text_model(const el_assessment *r, el_buf *out)
         el_buf_printf(out, "  estimator    %s, chosen for %s\n", el_method_name(m->method),
                       r->method_reason);
         if (r->cross_ran) {
-            char p[48] = "";
+            char p[80] = "";
             if (isfinite(r->cross_p_stable))
-                snprintf(p, sizeof p, ", P(stable) %.3f", r->cross_p_stable);
+                snprintf(p, sizeof p, ", stable in %.0f of its %zu bootstrap replicates",
+                         r->cross_p_stable * (double)r->cross_boot.replicates,
+                         r->cross_boot.replicates);
             el_buf_printf(out, "  cross-check  %s %s%s\n", el_method_name(r->cross_method),
                           r->cross_agrees ? "agrees" : "DISAGREES", p);
         }

@@ -192,12 +192,13 @@ static el_status warn_stability(const el_modes *modes, const el_boot_result *b,
         }
     }
     return checked(err, el_warnings_add(w,
-                                "stability is ambiguous: P(stable) = %.3f, so "
-                                "neither stable nor unstable holds with "
-                                "probability %.3g; the replicates fall on both "
-                                "sides of the stability boundary Re lambda = 0 "
-                                "for %s; %s",
-                                b->p_stable, level, list, EL_VERDICT_REMEDY));
+                                "stability is undecided: the least damped mode "
+                                "decays in %.0f of %zu bootstrap replicates, so "
+                                "neither stable nor unstable holds in %.3g%% of "
+                                "them; the replicates fall on both sides of the "
+                                "stability boundary Re lambda = 0 for %s; %s",
+                                b->p_stable * (double)b->replicates, b->replicates,
+                                100.0 * level, list, EL_VERDICT_REMEDY));
 }
 
 #define BOUNDARY_DET "det = 0 (the line between saddles and nodes)"

@@ -398,6 +398,10 @@ static void test_boot_ambiguous(void **state)
     assert_true(v.ambiguous);
     assert_int_equal(v.n_marginal_oscillatory, 2);
     assert_true(has_warning(&f.warnings, "stability boundary Re lambda = 0 for mode 1"));
+    /* Words for the number: a count of the 100 replicates, no bare
+     * probability. */
+    assert_true(has_warning(&f.warnings, "decays in 50 of 100 bootstrap replicates"));
+    assert_false(has_warning(&f.warnings, "P(stable) ="));
     assert_true(has_warning(&f.warnings, "a longer log"));
     assert_true(has_warning(&f.warnings, "trace = 0"));
     fitted_free(&f);
