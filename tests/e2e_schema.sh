@@ -74,6 +74,9 @@ check "1-state log: one mode" $?
 "$bin" track datasets/fan_warmup.csv --boot 100 --json "$tmp/track.json" --quiet &&
     valid track "$tmp/track.json"
 check "track --json validates" $?
+"$bin" track datasets/fan_warmup.csv --boot 0 --json "$tmp/track0.json" --quiet &&
+    valid track "$tmp/track0.json"
+check "track --boot 0 --json (bounds off) validates" $?
 "$bin" spectrum datasets/rig_test.csv --json "$tmp/spectrum.json" --quiet &&
     valid spectrum "$tmp/spectrum.json"
 check "spectrum --json validates" $?
