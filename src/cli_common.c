@@ -145,17 +145,27 @@ void cli_print_error(const el_error *err)
 void cli_print_help(const char *usage, const char *description,
                     const cli_option *table, size_t n_options)
 {
-    printf("usage: %s\n\n%s\n", usage, description);
+    /* Built in memory, then wrapped to the terminal (cli_print_text): an
+     * option's help continues deeper than the option column, the layout
+     * tools/help2roff.awk and tools/gen_completion.sh read. */
+    char *text = NULL;
+    size_t size = 0;
+    FILE *mem = open_memstream(&text, &size);
+    FILE *o = mem != NULL ? mem : stdout;
+    fprintf(o, "usage: %s\n\n%s\n", usage, description);
     if (n_options > 0)
-        printf("\noptions:\n");
+        fprintf(o, "\noptions:\n");
     for (size_t i = 0; i < n_options; i++) {
         char left[64];
         snprintf(left, sizeof left, "--%s%s%s", table[i].name,
                  table[i].value_name ? " " : "",
                  table[i].value_name ? table[i].value_name : "");
-        printf("  %-24s %s\n", left, table[i].help);
+        fprintf(o, "  %-24s %s\n", left, table[i].help);
     }
-    printf("  %-24s %s\n", "-h, --help", "show this help");
+    fprintf(o, "  %-24s %s\n", "-h, --help", "show this help");
+    if (mem != NULL && fclose(mem) == 0 && text != NULL)
+        cli_print_text(text);
+    free(text);
 }
 
 const char *cli_value(const cli_args *args, const cli_option *table, size_t n_options,

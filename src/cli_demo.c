@@ -35,7 +35,7 @@ static el_status write_demos(const el_demo_info *const *demos, size_t n, const c
         st = el_make_folders(dir, err);
     st = cli_write_outputs(out, n, st, err);
     for (size_t i = 0; i < n && st == EL_OK; i++)
-        printf("wrote %s  (%s)\n  truth: %s\n", paths[i], demos[i]->summary,
+        cli_printf_wrapped("wrote %s  (%s)\n  truth: %s\n", paths[i], demos[i]->summary,
                demos[i]->truth);
     return st;
 }
@@ -48,9 +48,9 @@ static void print_help(void)
                    "in datasets/README.md). Without NAME every scenario is written; all files\n"
                    "are written or none.",
                    OPTIONS, N_OPTIONS);
-    printf("\nscenarios:\n");
+    cli_printf_wrapped("\nscenarios:\n");
     for (size_t i = 0; i < el_demo_count(); i++)
-        printf("  %-14s %s\n", el_demo_get(i)->name, el_demo_get(i)->summary);
+        cli_printf_wrapped("  %-14s %s\n", el_demo_get(i)->name, el_demo_get(i)->summary);
 }
 
 int cli_demo(int argc, char **argv)

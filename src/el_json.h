@@ -24,7 +24,7 @@ void el_json_object_end(el_json *j);
 void el_json_array_begin(el_json *j, const char *key);
 void el_json_array_end(el_json *j);
 /* A number; NaN and infinities are written as null (a value that does not
- * exist is null, never NaN: DESIGN.md). */
+ * exist is null, never NaN: docs/json.md). */
 void el_json_number(el_json *j, const char *key, double value);
 void el_json_int(el_json *j, const char *key, long long value);
 /* A string, escaped per RFC 8259; NULL is written as null. */

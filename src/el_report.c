@@ -140,7 +140,8 @@ static void text_mode(const el_assessment *r, size_t i, el_buf *out)
     else
         snprintf(lam, sizeof lam, "%.4g", md->lambda_re);
     const char *tc_kind = md->decay_rate < 0 ? "doubling" : "decay";
-    el_buf_printf(out, "  %-2zu %-26s %9s %9s %10s %9s %-8s\n", i + 1, lam,
+    /* 79 columns (80 with the report's wrapping): lambda gets 24. */
+    el_buf_printf(out, "  %-2zu %-24s %9s %9s %10s %9s %-8s\n", i + 1, lam,
                   md->at_nyquist ? "Nyquist" : num(f, sizeof f, md->frequency_hz),
                   num(z, sizeof z, md->damping_ratio), num(d, sizeof d, md->decay_rate),
                   num(tc, sizeof tc, md->time_constant_s),
@@ -163,7 +164,7 @@ static void text_mode(const el_assessment *r, size_t i, el_buf *out)
 static void text_modes(const el_assessment *r, el_buf *out)
 {
     el_buf_printf(out, "Modes, least damped first (lambda in 1/s, time constant in s)\n");
-    el_buf_printf(out, "  %-2s %-26s %9s %9s %10s %9s\n", "#", "lambda", "freq Hz",
+    el_buf_printf(out, "  %-2s %-24s %9s %9s %10s %9s\n", "#", "lambda", "freq Hz",
                   "damping", "decay 1/s", "time");
     for (size_t i = 0; i < r->modes.n_modes; i++)
         text_mode(r, i, out);

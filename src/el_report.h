@@ -1,5 +1,5 @@
 /* el_report: the assess result as text for a terminal and as JSON for
- * machines (keys per DESIGN.md). */
+ * machines (keys and envelope: docs/json.md). */
 #ifndef EL_REPORT_H
 #define EL_REPORT_H
 
@@ -16,7 +16,7 @@
 el_status el_report_text(const el_assessment *r, const el_assess_options *opt,
                          el_buf *out);
 
-/* Appends the JSON document of r to out (DESIGN.md contract; values that
+/* Appends the JSON document of r to out (docs/json.md; values that
  * do not exist are null). Returns EL_OK, EL_ERR_NOMEM or EL_ERR_INTERNAL. */
 el_status el_report_json(const el_assessment *r, const el_assess_options *opt,
                          el_buf *out);

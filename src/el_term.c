@@ -29,6 +29,10 @@ static size_t prefix_fitting(const char *s, size_t n, size_t cols)
     return i;
 }
 
+/* The longest label a hanging indent lines up with ("one-step R2",
+ * "time unit"); a run of spaces further in is inside the text. */
+#define LABEL_MAX 16
+
 /* The hanging indent of a line (see el_term_wrap). */
 static size_t hanging_indent(const char *line, size_t n, size_t width)
 {
@@ -41,9 +45,11 @@ static size_t hanging_indent(const char *line, size_t n, size_t width)
     } else if (n - lead > 9 && strncmp(line + lead, "Caution: ", 9) == 0) {
         indent = lead + 9;
     } else {
-        /* The first run of two or more spaces after the label ("one-step
-         * R2  0.98 ..." continues under "0.98"). */
-        for (size_t i = lead; i + 1 < n; i++) {
+        /* A label of at most LABEL_MAX columns, then a run of two or more
+         * spaces: continue under the value ("  estimator    iv, ..." under
+         * "iv"). Otherwise two columns in from an indented line's start. */
+        indent = lead > 0 ? lead + 2 : 0;
+        for (size_t i = lead; i + 1 < n && i <= lead + LABEL_MAX; i++) {
             if (line[i] == ' ' && line[i + 1] == ' ') {
                 size_t gap = i;
                 while (gap < n && line[gap] == ' ')

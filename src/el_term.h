@@ -16,10 +16,11 @@
 /* Appends text to out with every line longer than width columns (bytes;
  * a UTF-8 character counts as one column) broken at spaces. A
  * continuation line is indented to where the first line's text starts
- * after its label: the leading spaces, then text up to the first run of
- * two or more spaces ("  estimator    iv, ..." continues under "iv"), or
- * after "! " / "Caution: ", or by the leading spaces plus 2 when that
- * would leave less than half the width. A word longer than the room left
+ * after its label: the leading spaces, then a label of at most 16
+ * columns and a run of two or more spaces ("  estimator    iv, ..."
+ * continues under "iv"), or after "! " / "Caution: "; else the leading
+ * spaces plus 2 (none for a line without leading spaces), and likewise
+ * when the indent would leave less than half the width. A word longer than the room left
  * is cut at the width. Lines that fit are copied unchanged; so is the
  * end: text without a final newline gets none. width below
  * EL_TERM_MIN_WIDTH counts as EL_TERM_MIN_WIDTH. Returns EL_OK or

@@ -22,17 +22,19 @@ static const subcommand SUBCOMMANDS[] = {
 };
 static const size_t N_SUBCOMMANDS = sizeof SUBCOMMANDS / sizeof SUBCOMMANDS[0];
 
+/* Wrapped to the terminal like every text (cli_print_text); the title
+ * line stays whole (tools/help2roff.awk reads it as the man page's name). */
 static void print_main_help(void)
 {
     printf("eigenlog %s: is this operating point stable, with what margin, and how sure?\n\n",
            EL_VERSION);
-    printf("usage: eigenlog SUBCOMMAND [FILE] [options]   (FILE may be - for stdin)\n\n");
-    printf("subcommands:\n");
+    cli_printf_wrapped("usage: eigenlog SUBCOMMAND [FILE] [options]   (FILE may be - for "
+                       "stdin)\n\nsubcommands:\n");
     for (size_t i = 0; i < N_SUBCOMMANDS; i++)
-        printf("  %-10s %s\n", SUBCOMMANDS[i].name, SUBCOMMANDS[i].summary);
-    printf("\n'eigenlog SUBCOMMAND --help' lists the options of one subcommand.\n");
-    printf("Exit status: 0 done, 1 usage error, 2 bad input data, 3 numerical failure,\n"
-           "4 input/output error, 5 verdict matched --fail-on.\n");
+        cli_printf_wrapped("  %-10s %s\n", SUBCOMMANDS[i].name, SUBCOMMANDS[i].summary);
+    cli_printf_wrapped("\n'eigenlog SUBCOMMAND --help' lists the options of one subcommand.\n"
+                       "Exit status: 0 done, 1 usage error, 2 bad input data, 3 numerical "
+                       "failure,\n4 input/output error, 5 verdict matched --fail-on.\n");
 }
 
 int main(int argc, char **argv)

@@ -36,6 +36,12 @@ for log in rig_test booster_pump fan_warmup; do
         valid scan "$tmp/scan_$log.json"
     check "scan --json of $log validates" $?
 done
+# A log assess refuses (time goes back): scan still describes it.
+printf 't [s],x [V]\n0,1\n1,2\n0.5,3\n2,4\n3,5\n4,6\n' >"$tmp/back.csv"
+"$bin" scan "$tmp/back.csv" --json "$tmp/scan_back.json" >/dev/null && valid scan "$tmp/scan_back.json" &&
+    jq -e '.assess_would.usable == false and (.assess_would.refusal | test("time goes backwards"))' \
+        "$tmp/scan_back.json" >/dev/null
+check "scan --json of a refused log validates and gives the refusal" $?
 "$bin" scan datasets/rig_test.csv --json - >"$tmp/scan_stdout.json" && valid scan "$tmp/scan_stdout.json"
 check "scan --json - writes only the JSON to standard output" $?
 "$bin" scan datasets/rig_test.csv --json datasets/rig_test.csv >/dev/null 2>&1
@@ -68,6 +74,9 @@ check "1-state log: one mode" $?
 "$bin" track datasets/fan_warmup.csv --boot 100 --json "$tmp/track.json" --quiet &&
     valid track "$tmp/track.json"
 check "track --json validates" $?
+"$bin" track datasets/fan_warmup.csv --boot 0 --json "$tmp/track0.json" --quiet &&
+    valid track "$tmp/track0.json"
+check "track --boot 0 --json (bounds off) validates" $?
 "$bin" spectrum datasets/rig_test.csv --json "$tmp/spectrum.json" --quiet &&
     valid spectrum "$tmp/spectrum.json"
 check "spectrum --json validates" $?

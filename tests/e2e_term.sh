@@ -43,6 +43,19 @@ spectrum datasets/rig_test.csv
 scan datasets/booster_pump.csv
 survey "$tmp/logs" --out "$tmp/sv" --boot 100 --jobs 1 --seed 2
 CMDS
+# Every --help, and demo's list of what it wrote.
+for s in "" scan assess track spectrum survey demo; do
+    # shellcheck disable=SC2086
+    "$bin" $s --help >"$tmp/help.txt" 2>&1
+    w=$(widest "$tmp/help.txt")
+    [ "$w" -le 80 ]
+    check "eigenlog $s --help is at most 80 columns wide (got $w)" $?
+done
+"$bin" demo -o "$tmp/demo" >"$tmp/demo.txt" 2>&1
+w=$(widest "$tmp/demo.txt")
+[ "$w" -le 80 ]
+check "demo's report is at most 80 columns wide (got $w)" $?
+
 # The words survive wrapping: the same text with line breaks made spaces.
 tr -s ' \n' '  ' <"$tmp/out80_1.txt" >"$tmp/w80"
 tr -s ' \n' '  ' <"$tmp/out60_1.txt" >"$tmp/w60"

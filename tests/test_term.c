@@ -79,6 +79,18 @@ static void test_label_hanging_indent(void **state)
     free(w);
 }
 
+static void test_long_label_falls_back(void **state)
+{
+    (void)state;
+    /* Two spaces far into the text are not a label's end: continue two
+     * columns in from the line's start (written out by hand). */
+    char *w = wrap("     95% bounds: Re [0.02792, 0.03161]  f [0.7998, 0.8004] Hz  zeta "
+                   "[-0.006287, -0.005554]\n", 80);
+    assert_string_equal(w, "     95% bounds: Re [0.02792, 0.03161]  f [0.7998, 0.8004] Hz  "
+                           "zeta [-0.006287,\n       -0.005554]\n");
+    free(w);
+}
+
 static void test_warning_indent_and_width(void **state)
 {
     (void)state;
@@ -125,6 +137,7 @@ int main(void)
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_short_lines_unchanged),
         cmocka_unit_test(test_label_hanging_indent),
+        cmocka_unit_test(test_long_label_falls_back),
         cmocka_unit_test(test_warning_indent_and_width),
         cmocka_unit_test(test_long_word_cut),
         cmocka_unit_test(test_narrow_width_floor),

@@ -7,6 +7,8 @@
 # what follows an option: FILE -> file names, DIR -> folders, a|b|c -> the
 # lower-case choices, anything else -> nothing offered.
 set -eu
+# The help unwrapped, whatever terminal width the build runs in.
+export COLUMNS=1000
 bin=$1
 subs=$("$bin" --help | awk '/^subcommands:/ { on = 1; next } /^$/ { on = 0 } on && /^  [^ ]/ { print $1 }')
 [ -n "$subs" ] || { echo "gen_completion.sh: no subcommands in '$bin --help'" >&2; exit 1; }

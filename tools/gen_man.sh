@@ -6,6 +6,8 @@
 # every result. The page is made at build time, so it cannot drift from
 # --help. Fails (status 1) when the program gives no help.
 set -eu
+# The help unwrapped, whatever terminal width the build runs in.
+export COLUMNS=1000
 bin=$1
 here=$(dirname "$0")
 tmp=$(mktemp)
