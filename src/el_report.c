@@ -836,6 +836,9 @@ static const struct {
     const char *phrase;
 } WARNING_CODES[] = {
     {"forced_oscillation", "forced oscillation"},
+    {"drift", "the dynamics drift inside the window"},
+    {"level_shift", "steps by"},
+    {"level_trend", "trends by"},
     {"time_unit_assumed", "names no unit"},
     {"time_zone_unknown", "carry no zone"},
     {"time_unit_not_seconds", "the log's time is in"},

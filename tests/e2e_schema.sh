@@ -64,7 +64,15 @@ rig_test --method ssi --lags 1 --boot 50
 rig_test --input accel_a --boot 50
 booster_pump --channels flow --boot 50
 fan_warmup --boot 0
+fan_warmup --boot 100
 CASES
+# Real series with a step and a trend in the level (tests/data/README.md):
+# their warnings must carry codes too (checked with the others below).
+for real in nile_1871_1970 co2_mauna_loa_1959_1997; do
+    "$bin" assess "tests/data/$real.csv" --boot 100 --json "$tmp/assess_$real.json" --quiet &&
+        valid assess "$tmp/assess_$real.json"
+    check "assess $real validates" $?
+done
 grep -q '"bounds_computed": false' "$tmp/assess_7.json" && grep -q '"p_stable": null' "$tmp/assess_7.json"
 check "assess --boot 0: no bounds, p_stable null, still valid" $?
 grep -q '"channels": \[' "$tmp/assess_6.json" && [ "$(grep -c '"lambda": {' "$tmp/assess_6.json")" -eq 1 ]
