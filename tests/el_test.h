@@ -1,5 +1,5 @@
 /* el_test: shared helpers for the cmocka tests (cmocka 1.1.5 has no double
- * comparison, see ../shared/STYLE.md). Include this instead of cmocka.h. */
+ * comparison: assert_float_equal compares as float). Include this instead of cmocka.h. */
 #ifndef EL_TEST_H
 #define EL_TEST_H
 

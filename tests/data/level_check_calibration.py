@@ -3,7 +3,7 @@
 "A level that moves"): how often it flags stationary processes of several
 time scales, and how often it finds a real trend or step, for the
 thresholds EL_REGIME_LEVEL_Z = 4, EL_REGIME_LEVEL_SHARE = 0.25 and
-EL_REGIME_LEVEL_BLOCK_R2 = 0.75. A numpy transcription of the C rule (M =
+EL_REGIME_LEVEL_BLOCK_R2 = 0.75. A numpy rewrite of the C rule (M =
 min(16, N / 8) blocks of L = N / M samples, block noise from the median of
 squared successive differences of the block means, slope and best split z,
 share of the variance, R^2 of the block means). 200 logs of N = 2000 per
