@@ -15,6 +15,6 @@ start=$(date +%s.%N)
 end=$(date +%s.%N)
 echo "assess (same log, 1000 bootstrap replicates): $(awk "BEGIN{printf \"%.2f\", $end - $start}") s wall"
 for t in build/rel/bench/bench_boot; do
-    [ -x "$t" ] && "$t"
+    [ -x "$t" ] && "$t" && "$t" hankel
 done
 exit 0
