@@ -116,6 +116,8 @@ calibrate: deps
 accuracy: deps
 	@$(MAKE) --no-print-directory build/rel/bench/accuracy
 	./build/rel/bench/accuracy
+	@$(MAKE) --no-print-directory build/rel/bench/subspace_study
+	./build/rel/bench/subspace_study --family --boot 200
 
 # Regenerates the numpy/scipy fixtures (needs Debian's python3-numpy and
 # python3-scipy; not part of make test). Each script writes its own file.

@@ -1,6 +1,8 @@
 /* bench_boot: cost of 1,000 bootstrap replicates on a 100,000-sample x
  * 8-channel log, against one point fit of the same log, and the speed-up
- * from 1 to 2 threads. Prints figures; not a pass/fail test. */
+ * from 1 to 2 threads. Prints figures; not a pass/fail test.
+ * Usage: bench_boot [METHOD] (default ls; e.g. hankel, as --method spells
+ * it). */
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -90,7 +92,7 @@ static double run_boot(const el_series *s, const el_fit_options *fo, const el_mo
     return best;
 }
 
-int main(void)
+int main(int argc, char **argv)
 {
     /* As the eigenlog program does: the bootstrap's own threads, not
      * OpenBLAS's, share the cores. */
@@ -100,6 +102,14 @@ int main(void)
         return 4;
     el_fit_options fo;
     el_fit_defaults(&fo);
+    if (argc > 1) {
+        el_error perr;
+        el_error_clear(&perr);
+        if (el_method_parse(argv[1], &fo.method, &perr) != EL_OK) {
+            fprintf(stderr, "bench_boot: %s\n", perr.message);
+            return 1;
+        }
+    }
     el_model m;
     el_modes modes;
     memset(&m, 0, sizeof m);
@@ -133,8 +143,9 @@ int main(void)
     int same = one.replicates == two.replicates &&
                memcmp(one.lambda_re, two.lambda_re,
                       sizeof(double) * one.replicates * one.n_modes) == 0;
-    printf("bootstrap: %d replicates on %d samples x %d channels (block length %zu), "
-           "best of %d runs\n", N_REPLICATES, N_SAMPLES, N_CH, one.block_length, BEST_OF);
+    printf("bootstrap (--method %s, rank %zu): %d replicates on %d samples x %d channels "
+           "(block length %zu), best of %d runs\n", el_method_name(fo.method), m.rank,
+           N_REPLICATES, N_SAMPLES, N_CH, one.block_length, BEST_OF);
     printf("  one point fit           %.4f s\n", fit_s);
     printf("  1 thread                %.4f s = %.2f point fits (set-up %.4f s, replicates "
            "%.4f s)\n", t1, t1 / fit_s, set1, rep1);

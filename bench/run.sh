@@ -17,7 +17,7 @@ start=$(date +%s.%N)
 end=$(date +%s.%N)
 echo "assess (same log, 1000 bootstrap replicates): $(awk "BEGIN{printf \"%.2f\", $end - $start}") s wall"
 for t in build/rel/bench/bench_boot; do
-    [ -x "$t" ] && "$t"
+    [ -x "$t" ] && "$t" && "$t" hankel
 done
 # track --follow: latency from a window's last row to its result, then
 # memory over a simulated stream piped in at full speed. The 24 h check

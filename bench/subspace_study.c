@@ -19,12 +19,18 @@
  * 10 dB (the same draws scaled).
  *
  * Usage: subspace_study [--systems N] [--seed S] [--unweighted] [--share X]
- *                       [--verbose] [--poles]
+ *                       [--verbose] [--poles] [--boot N] [--family]
  * Default: 48 systems from seed 20261204, the el_subspace defaults.
  * --seed draws another family (a check that the defaults were not tuned
  * to one draw); --unweighted and --share X change the subspace options;
  * --verbose prints one line per log, --poles also the chosen order's
- * poles. */
+ * poles. --boot N runs the default pipeline with N bootstrap replicates
+ * and adds its verdicts and bounds to the table: confidently wrong
+ * verdicts (P >= 0.95 on the wrong side), undecided ones (marginal or
+ * ambiguous) and the coverage of the 95 % bounds of Re lambda of every
+ * true mode. --family runs the default pipeline only (the accuracy
+ * study's multi-sensor family M: `make accuracy` runs it with --boot 200,
+ * docs/accuracy.md). */
 #include <cblas.h>
 #include <math.h>
 #include <stdint.h>
@@ -66,6 +72,8 @@ typedef struct {
     uint64_t seed;
     int unweighted, verbose, poles;
     double share;             /* < 0: the default */
+    size_t boot;              /* replicates of the default pipeline (0: none) */
+    int pipeline_only;        /* --family: the default pipeline only */
 } st_options;
 
 static void make_system(size_t id, uint64_t seed, st_system *s)
@@ -248,13 +256,57 @@ static int all_modes_ok(const st_system *s, size_t n_est, const double *lre,
 
 typedef struct {
     int ok;
+    int confident_wrong;      /* verdict with P >= 0.95 on the wrong side */
+    int undecided;            /* marginal / ambiguous verdict */
+    size_t covered, n_bounds; /* true Re lambda inside the mode's 95 % bounds */
     double wf, wz, seconds;
     int growing_found;        /* growing systems: the growing mode has Re > 0 */
     int extra;                /* subspace: more physical poles than true modes */
     char note[96];
 } st_outcome;
 
-static void run_pipeline(const st_system *s, el_series *series, st_outcome *o)
+/* Verdict and bounds of the default pipeline against the truth: a
+ * verdict is confidently wrong when it says stable (unstable) with
+ * P(stable) (1 - P(stable)) >= 0.95 for a system that grows (decays);
+ * undecided when marginal or ambiguous. Coverage: each true mode's Re
+ * lambda inside the 95 % bounds of the mode matched to it. */
+static void verdict_stats(const st_system *s, const el_assessment *r, st_outcome *o)
+{
+    int truly_stable = !s->growing;
+    double p = r->verdict.p_stable;
+    if (r->verdict.ambiguous || r->verdict.stability == EL_MARGINAL)
+        o->undecided = 1;
+    else if (truly_stable && r->verdict.stability == EL_UNSTABLE && isfinite(p) && p <= 0.05)
+        o->confident_wrong = 1;
+    else if (!truly_stable && r->verdict.stability == EL_STABLE && isfinite(p) && p >= 0.95)
+        o->confident_wrong = 1;
+    if (r->boot.replicates == 0 || r->boot.bounds == NULL)
+        return;
+    int used[64] = { 0 };
+    for (size_t m = 0; m < s->n_modes; m++) {
+        double w = 2.0 * ST_PI * s->fn_hz[m];
+        double tre = -s->zeta[m] * w, tim = w * sqrt(1.0 - s->zeta[m] * s->zeta[m]);
+        long best = -1;
+        double bd = INFINITY;
+        for (size_t k = 0; k < r->modes.n_modes && k < 64; k++) {
+            const el_mode *md = &r->modes.modes[k];
+            double d = hypot(md->lambda_re - tre, fabs(md->lambda_im) - tim);
+            if (!used[k] && d < bd) {
+                bd = d;
+                best = (long)k;
+            }
+        }
+        if (best < 0)
+            continue;
+        used[best] = 1;
+        const el_interval *b = &r->boot.bounds[best].re;
+        o->n_bounds++;
+        o->covered += b->lo <= tre && tre <= b->hi;
+    }
+}
+
+static void run_pipeline(const st_system *s, el_series *series, size_t boot,
+                         st_outcome *o)
 {
     memset(o, 0, sizeof *o);
     double t0 = now_s();
@@ -262,7 +314,8 @@ static void run_pipeline(const st_system *s, el_series *series, st_outcome *o)
     el_assess_defaults(&opt);
     opt.path = "simulated";
     opt.method_auto = 1;
-    opt.boot.replicates = 0;
+    opt.boot.replicates = boot;
+    opt.boot.threads = 1;
     el_assessment r;
     memset(&r, 0, sizeof r);
     r.series = *series;   /* owned by the result from here on */
@@ -280,10 +333,14 @@ static void run_pipeline(const st_system *s, el_series *series, st_outcome *o)
                 o->growing_found = 1;
         }
         o->ok = all_modes_ok(s, ne, lre, lim, &o->wf, &o->wz);
-        snprintf(o->note, sizeof o->note, "%s rank %zu lags %zu",
-                 el_method_name(r.model.method), r.model.rank, r.model.lags);
+        verdict_stats(s, &r, o);
+        snprintf(o->note, sizeof o->note, "%s rank %zu lags %zu %s%s P %.3f",
+                 el_method_name(r.model.method), r.model.rank, r.model.lags,
+                 r.verdict.stability_name, r.verdict.ambiguous ? " (amb)" : "",
+                 r.verdict.p_stable);
     } else {
         o->wf = o->wz = INFINITY;
+        o->undecided = 1;
         snprintf(o->note, sizeof o->note, "error: %.80s", err.message);
     }
     el_assessment_free(&r);
@@ -350,7 +407,7 @@ static void run_subspace(const st_system *s, const el_series *series,
 int main(int argc, char **argv)
 {
     size_t n_sys = 48;
-    st_options so = { 20261204, 0, 0, 0, -1.0 };
+    st_options so = { 20261204, 0, 0, 0, -1.0, 0, 0 };
     for (int i = 1; i < argc; i++) {
         if (strcmp(argv[i], "--systems") == 0 && i + 1 < argc)
             n_sys = (size_t)strtoul(argv[++i], NULL, 10);
@@ -358,6 +415,10 @@ int main(int argc, char **argv)
             so.seed = strtoull(argv[++i], NULL, 10);
         else if (strcmp(argv[i], "--share") == 0 && i + 1 < argc)
             so.share = atof(argv[++i]);
+        else if (strcmp(argv[i], "--boot") == 0 && i + 1 < argc)
+            so.boot = (size_t)strtoul(argv[++i], NULL, 10);
+        else if (strcmp(argv[i], "--family") == 0)
+            so.pipeline_only = 1;
         else if (strcmp(argv[i], "--unweighted") == 0)
             so.unweighted = 1;
         else if (strcmp(argv[i], "--verbose") == 0)
@@ -366,13 +427,14 @@ int main(int argc, char **argv)
             so.verbose = so.poles = 1;
         else {
             fprintf(stderr, "usage: subspace_study [--systems N] [--seed S] [--unweighted] "
-                            "[--share X] [--verbose] [--poles]\n");
+                            "[--share X] [--verbose] [--poles] [--boot N] [--family]\n");
             return 1;
         }
     }
     openblas_set_num_threads(1);
     size_t ok[2][N_SNR] = { { 0 } }, grow_ok[2][N_SNR] = { { 0 } }, n_grow = 0;
-    size_t extra[N_SNR] = { 0 };
+    size_t extra[N_SNR] = { 0 }, wrong[N_SNR] = { 0 }, undecided[N_SNR] = { 0 };
+    size_t covered[N_SNR] = { 0 }, n_bounds[N_SNR] = { 0 };
     double secs[2] = { 0, 0 };
     double t_start = now_s();
     for (size_t id = 0; id < n_sys; id++) {
@@ -391,8 +453,15 @@ int main(int argc, char **argv)
                 fprintf(stderr, "subspace_study: out of memory\n");
                 return 4;
             }
-            run_subspace(&s, &ser, &so, &out[1]);
-            run_pipeline(&s, &ser, &out[0]);
+            if (so.pipeline_only)
+                memset(&out[1], 0, sizeof out[1]);
+            else
+                run_subspace(&s, &ser, &so, &out[1]);
+            run_pipeline(&s, &ser, so.boot, &out[0]);
+            wrong[k] += out[0].confident_wrong != 0;
+            undecided[k] += out[0].undecided != 0;
+            covered[k] += out[0].covered;
+            n_bounds[k] += out[0].n_bounds;
             el_series_free(&ser);
             for (size_t m = 0; m < 2; m++) {
                 ok[m][k] += out[m].ok != 0;
@@ -413,6 +482,8 @@ int main(int argc, char **argv)
     }
     printf("subspace_study: %zu systems (%zu growing) from seed %llu, 3 SNRs, %.0f s\n",
            n_sys, n_grow, (unsigned long long)so.seed, now_s() - t_start);
+    if (so.pipeline_only)
+        goto pipeline;
     printf("every mode within 5 %% natural frequency and 0.05 damping ratio:\n");
     printf("| SNR | default --method auto | subspace (el_subspace) |\n");
     printf("| --- | --- | --- |\n");
@@ -426,6 +497,16 @@ int main(int argc, char **argv)
            grow_ok[1][1], grow_ok[1][2]);
     printf("subspace logs with more physical modes than the truth, 30/20/10 dB: "
            "%zu/%zu/%zu\n", extra[0], extra[1], extra[2]);
+pipeline:
+    printf("default pipeline (%zu replicates): confidently wrong verdicts, undecided "
+           "(marginal or ambiguous), coverage of the 95 %% bounds of Re lambda:\n", so.boot);
+    printf("| SNR | every mode within 5 %% / 0.05 | confidently wrong | undecided | coverage |\n");
+    printf("| --- | --- | --- | --- | --- |\n");
+    for (size_t k = 0; k < N_SNR; k++)
+        printf("| %.0f dB | %.0f %% | %zu | %zu (%.0f %%) | %s%.3f (%zu modes) |\n", snr_list[k],
+               100.0 * (double)ok[0][k] / (double)n_sys, wrong[k], undecided[k],
+               100.0 * (double)undecided[k] / (double)n_sys, n_bounds[k] ? "" : "n/a ",
+               n_bounds[k] ? (double)covered[k] / (double)n_bounds[k] : 0.0, n_bounds[k]);
     printf("mean seconds per log: auto %.2f, subspace %.2f\n",
            secs[0] / (double)(n_sys * N_SNR), secs[1] / (double)(n_sys * N_SNR));
     return 0;

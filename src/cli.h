@@ -161,9 +161,11 @@ void cli_print_help(const char *usage, const char *description,
     {"rank", "R|auto|full",                                                                   \
      "DMD rank: a number, auto, or full (every state with every method); default "            \
      "every state for ls/fb/tls, the rank test's for iv/ssi"},                                \
-    {"method", "auto|ls|fb|tls|iv|ssi",                                                       \
+    {"method", "auto|ls|fb|tls|iv|ssi|hankel",                                                \
      "estimator (default auto: chosen by the data's regime, cross-checked)"},                 \
-    {"depth", "N", "iv/ssi: block rows of past measurements (default lags + 1)"},             \
+    {"depth", "N", "iv/ssi: past block rows of the instruments' basis (default lags + 1)"},   \
+    {"horizon", "T", "hankel: future/past horizon, in the log's time unit (default auto)"},   \
+    {"order", "N|auto", "hankel: model order (default auto: the persistent modes)"},          \
     {"boot", "N", "bootstrap replicates (default 1000; 0 or below 100: no bounds)"},          \
     {"resample", "blocks|model", "bootstrap scheme (default blocks)"},                        \
     {"block", "L|auto", "block length of the bootstrap (default auto)"},                      \

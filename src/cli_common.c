@@ -229,6 +229,12 @@ static el_status model_numbers(const cli_args *a, const cli_option *t, size_t n,
         return st;
     if ((st = parse_rank(cli_value(a, t, n, "rank"), &o->fit.rank, err)))
         return st;
+    if ((v = cli_value(a, t, n, "horizon")) &&
+        (st = cli_double("horizon", v, 1e-300, 1e300, &o->fit.horizon_time, err)))
+        return st;
+    if ((v = cli_value(a, t, n, "order")) && strcmp(v, "auto") != 0 &&
+        (st = cli_size("order", v, 1, 1000, &o->fit.order, err)))
+        return st;
     if ((v = cli_value(a, t, n, "boot")) && (st = cli_size("boot", v, 0, 1000000, &o->boot.replicates, err)))
         return st;
     if ((v = cli_value(a, t, n, "block")) && strcmp(v, "auto") != 0 &&

@@ -417,11 +417,11 @@ static void est_plan_destroy(void *state)
 
 const el_estimator_type el_estimator_fb = {
     EL_METHOD_FB, "fb", "forward-backward DMD", 0, 0,
-    fb_plan_create, est_plan_destroy, fb_tls_fit, &fb_provider, el_est_boot_states, 0
+    fb_plan_create, est_plan_destroy, fb_tls_fit, &fb_provider, el_est_boot_states, 0, NULL, NULL
 };
 
 const el_estimator_type el_estimator_tls = {
     EL_METHOD_TLS, "tls", "total-least-squares DMD", 0, 0,
     tls_plan_create, est_plan_destroy, fb_tls_fit, &tls_provider,
-    el_est_boot_states_isotropic, 1
+    el_est_boot_states_isotropic, 1, NULL, NULL
 };

@@ -146,5 +146,5 @@ static void iv_plan_destroy(void *state)
 
 const el_estimator_type el_estimator_iv = {
     EL_METHOD_IV, "iv", "instrumental variables", 1, 0,
-    iv_plan_create, iv_plan_destroy, iv_fit, &iv_provider, el_est_boot_states, 0
+    iv_plan_create, iv_plan_destroy, iv_fit, &iv_provider, el_est_boot_states, 0, NULL, NULL
 };

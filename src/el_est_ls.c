@@ -322,5 +322,5 @@ static el_status ls_fit(el_fit_plan *plan, const el_series *series,
 
 const el_estimator_type el_estimator_ls = {
     EL_METHOD_LS, "ls", "affine least squares", 1, 1,
-    ls_plan_create, ls_plan_destroy, ls_fit, &ls_provider, el_est_boot_states, 0
+    ls_plan_create, ls_plan_destroy, ls_fit, &ls_provider, el_est_boot_states, 0, NULL, NULL
 };

@@ -237,5 +237,5 @@ static void ssi_plan_destroy(void *state)
 
 const el_estimator_type el_estimator_ssi = {
     EL_METHOD_SSI, "ssi", "covariance-driven subspace identification", 0, 0,
-    ssi_plan_create, ssi_plan_destroy, ssi_fit, &ssi_provider, el_est_boot_states, 0
+    ssi_plan_create, ssi_plan_destroy, ssi_fit, &ssi_provider, el_est_boot_states, 0, NULL, NULL
 };

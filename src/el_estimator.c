@@ -14,6 +14,7 @@ extern const el_estimator_type el_estimator_fb;
 extern const el_estimator_type el_estimator_tls;
 extern const el_estimator_type el_estimator_iv;
 extern const el_estimator_type el_estimator_ssi;
+extern const el_estimator_type el_estimator_hankel;
 
 /* In el_method order (the enum is the index; el_estimator_for checks it). */
 static const el_estimator_type *const estimators[] = {
@@ -22,6 +23,7 @@ static const el_estimator_type *const estimators[] = {
     &el_estimator_tls,
     &el_estimator_iv,
     &el_estimator_ssi,
+    &el_estimator_hankel,
 };
 
 #define N_ESTIMATORS (sizeof estimators / sizeof estimators[0])
@@ -40,6 +42,15 @@ const el_estimator_type *el_estimator_find(const char *name)
         if (strcmp(name, estimators[i]->name) == 0)
             return estimators[i];
     return NULL;
+}
+
+el_status el_estimator_prepare(const el_series *series, el_fit_options *opt,
+                               el_error *err)
+{
+    const el_estimator_type *t = opt != NULL ? el_estimator_for(opt->method) : NULL;
+    if (t == NULL || t->prepare == NULL)
+        return EL_OK;
+    return t->prepare(series, opt, err);
 }
 
 const el_estimator_type *el_estimator_reference(void)

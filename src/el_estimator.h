@@ -17,6 +17,12 @@
 #include "el_model.h"
 #include "el_timebase.h"
 
+/* Declared in el_modes.h, el_resample.h and el_boot_bounds.h (which
+ * include this header): only pointers pass here. */
+struct el_modes;
+struct el_boot_options;
+struct el_boot_result;
+
 /* The shape of the reduced data a provider reads and solves for.
  *   r:        reduced dimension (the solve writes an r x r matrix);
  *   n_inputs: measured input values stored after the r state values of
@@ -107,7 +113,17 @@ const el_boot_provider *el_boot_provider_ls(void);
  *                     estimator's (el_estimator_reference) whitened states,
  *                     so the bootstrap must build them (tls: a scalar
  *                     scale); 0 when the reference states serve as they
- *                     are. */
+ *                     are;
+ *   prepare:          may be NULL; called by el_estimator_prepare before
+ *                     the fit is planned, it may change the fit options
+ *                     from the data (hankel: the lags its model's state
+ *                     needs for the order the data support); errors as
+ *                     the fit's;
+ *   boot_run:         may be NULL; a bootstrap of its own that replaces
+ *                     the engine of provider and boot_states (hankel:
+ *                     block sums of the subspace stage, el_est_hankel.h),
+ *                     with el_boot_run's contract (el_resample.h), which
+ *                     calls it. */
 typedef struct el_estimator_type {
     el_method method;
     const char *name;
@@ -125,7 +141,18 @@ typedef struct el_estimator_type {
                              const el_model *model, double **states, size_t *n_states,
                              el_error *err);
     int own_boot_states;
+    el_status (*prepare)(const el_series *series, el_fit_options *opt, el_error *err);
+    el_status (*boot_run)(const el_series *series, const el_fit_options *opt_fit,
+                          const el_model *model, const struct el_modes *modes,
+                          const struct el_boot_options *opt,
+                          struct el_boot_result *result, el_warnings *warnings,
+                          el_error *err);
 } el_estimator_type;
+
+/* Runs the method's prepare hook on opt (nothing when it has none or
+ * the method is unknown: the fit reports that). */
+el_status el_estimator_prepare(const el_series *series, el_fit_options *opt,
+                               el_error *err);
 
 /* The estimator of a method, NULL for a value outside the table. */
 const el_estimator_type *el_estimator_for(el_method m);

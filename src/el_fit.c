@@ -627,6 +627,10 @@ el_status el_fit_plan_execute_inputs(el_fit_plan *plan, const el_series *series,
     model->dt = series->dt;
     model->depth = 0;
     model->n_canonical = 0;
+    model->subspace_order = 0;
+    model->subspace_rows = 0;
+    model->subspace_physical = 0;
+    model->subspace_horizon_time = 0.0;
     if ((st = channel_scaling(series, model, err)) != EL_OK)
         return st;
     if (inputs != NULL) {
@@ -656,8 +660,16 @@ el_status el_fit(const el_series *series, const el_fit_options *opt,
     if (series == NULL || model == NULL)
         return el_error_set(err, EL_ERR_INTERNAL, "el_fit: NULL argument");
     el_fit_plan *plan = NULL;
-    el_status st = el_fit_plan_create(series->n_samples, series->n_channels, opt,
-                                      &plan, err);
+    el_fit_options prepared;
+    if (opt == NULL)
+        el_fit_defaults(&prepared);
+    else
+        prepared = *opt;
+    /* An estimator may size its model from the data (hankel: the lags). */
+    el_status st = el_estimator_prepare(series, &prepared, err);
+    if (st == EL_OK)
+        st = el_fit_plan_create(series->n_samples, series->n_channels, &prepared,
+                                &plan, err);
     if (st == EL_OK)
         st = el_fit_plan_execute(plan, series, model, warnings, err);
     el_fit_plan_destroy(plan);

@@ -20,16 +20,22 @@
  * iv  instrumental variables with lagged measurements as instruments
  *     (Soderstrom & Stoica 1983); takes inputs;
  * ssi covariance-driven stochastic subspace identification (Van Overschee
- *     & De Moor 1996; Peeters & De Roeck 1999). */
+ *     & De Moor 1996; Peeters & De Roeck 1999);
+ * hankel data-driven block-Hankel subspace identification with CVA
+ *     weighting, an automatic horizon in time and the model order from
+ *     stabilisation across orders (el_subspace.h, el_est_hankel.h). */
 typedef enum {
     EL_METHOD_LS = 0,
     EL_METHOD_FB = 1,
     EL_METHOD_TLS = 2,
     EL_METHOD_IV = 3,
-    EL_METHOD_SSI = 4
+    EL_METHOD_SSI = 4,
+    EL_METHOD_HANKEL = 5
 } el_method;
 
-#define EL_METHOD_COUNT 5
+#define EL_METHOD_COUNT 6
+/* ls .. ssi: the estimators of lagged snapshot pairs (a pair provider each). */
+#define EL_METHOD_PAIR_COUNT 5
 
 /* Rank options: a positive rank, or
  *   EL_RANK_FULL (the default): every state for ls, fb and tls; iv and ssi
@@ -57,6 +63,10 @@ typedef struct {
                                  same grid (n_samples equal) whose channels enter as
                                  z[k+1] = Ad z[k] + B u[k] + c; ls and iv only. Read by
                                  el_fit and el_fit_plan_execute; must outlive the plan */
+    double horizon_time;      /* hankel: future = past horizon in the series' time unit
+                                 (--horizon); 0 = automatic (el_subspace_choose_horizon) */
+    size_t order;             /* hankel: model order of the subspace stage (--order);
+                                 0 = automatic from the stabilisation across orders */
 } el_fit_options;
 
 /* Fills opt with the defaults: no lags, full rank, least squares, depth
@@ -121,6 +131,12 @@ typedef struct {
     double *channel_r2;       /* n_channels: one-step R^2 per channel; NaN (null) when
                                  the channel does not vary over the fitted pairs */
     double *residual_rms;     /* n_channels: one-step residual RMS, physical units */
+    /* hankel only (0 otherwise): the subspace stage's model order (all its
+     * poles, physical or not; rank counts the physical eigenvalues kept),
+     * its horizon in block rows and in time, and its count of physical
+     * modes. */
+    size_t subspace_order, subspace_rows, subspace_physical;
+    double subspace_horizon_time;
 } el_model;
 
 /* Frees everything the model owns and zeroes it. NULL is a no-op. */

@@ -33,7 +33,7 @@ typedef struct {
     double *shape_phase_deg;      /* n_channels, relative to the largest, (-180, 180] */
 } el_mode;
 
-typedef struct {
+typedef struct el_modes {
     size_t n_modes;               /* one per real eigenvalue or conjugate pair */
     size_t n_eigenvalues;         /* counting both members of each pair */
     size_t n_channels;

@@ -447,6 +447,15 @@ static void json_model(el_json *j, const el_assessment *r)
         json_numbers(j, "canonical_correlations", m->canonical_corr, m->n_canonical);
     else
         el_json_null(j, "canonical_correlations");
+    if (m->method == EL_METHOD_HANKEL) {
+        /* Only for hankel: the other methods' JSON stays as it was. */
+        el_json_object_begin(j, "subspace");
+        el_json_int(j, "order", (long long)m->subspace_order);
+        el_json_int(j, "horizon_rows", (long long)m->subspace_rows);
+        el_json_number(j, "horizon_time", m->subspace_horizon_time);
+        el_json_int(j, "physical_modes", (long long)m->subspace_physical);
+        el_json_object_end(j);
+    }
     el_json_array_begin(j, "inputs");
     for (size_t i = 0; i < m->n_inputs; i++) {
         el_json_object_begin(j, NULL);

@@ -1029,6 +1029,11 @@ el_status el_boot_run(const el_series *series, const el_fit_options *opt_fit,
     result->n_modes = modes->n_modes;
     if (opt->replicates == 0)
         return EL_OK;
+    /* An estimator with a bootstrap of its own (hankel: block sums of the
+     * subspace stage) runs it under this contract. */
+    const el_estimator_type *own = el_estimator_for(model->method);
+    if (own != NULL && own->boot_run != NULL)
+        return own->boot_run(series, opt_fit, model, modes, opt, result, warnings, err);
     if (modes->n_modes == 0 || modes->n_eigenvalues != model->rank)
         return el_error_set(err, EL_ERR_INTERNAL,
                             "el_boot_run: %zu eigenvalues for a rank-%zu model",

@@ -42,7 +42,7 @@
  * recalled from memory). el_boot_run itself runs any count. */
 #define EL_BOOT_MIN_REPLICATES 100
 
-typedef struct {
+typedef struct el_boot_options {
     size_t replicates;            /* 0 = no bootstrap (default 1000) */
     el_resample_kind kind;        /* default EL_RESAMPLE_BLOCKS */
     size_t block_length;          /* 0 = automatic (Politis & White 2004, corrected 2009) */

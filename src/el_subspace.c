@@ -1028,6 +1028,31 @@ el_status el_subspace_execute(el_subspace_plan *pl, const el_series *series,
     return EL_OK;
 }
 
+el_status el_subspace_set_order(el_subspace_plan *pl, size_t order,
+                                el_subspace_result *res, el_error *err)
+{
+    if (pl == NULL || res == NULL || !pl->executed || order == 0 || order > pl->nmax)
+        return el_error_set(err, EL_ERR_INTERNAL, "el_subspace_set_order: bad order %zu",
+                            order);
+    size_t p = pl->p, hp = pl->hp;
+    if (shift_solve(pl->h, p, order, pl->obs, hp, pl->oup, pl->odown, pl->a, pl->ls_work,
+                    pl->ls_lwork)) {
+        el_error_set(err, EL_ERR_NUMERIC, "the shift equations of order %zu are rank "
+                     "deficient", order);
+        el_error_hint(err, "a lower order");
+        return EL_ERR_NUMERIC;
+    }
+    for (size_t j = 0; j < order; j++)
+        for (size_t c = 0; c < p; c++) {
+            pl->c_scaled[c + j * p] = pl->obs[c + j * hp];
+            pl->c_raw[c + j * p] = pl->obs[c + j * hp] * pl->scale[c];
+        }
+    res->order = order;
+    res->first_pole = pl->first[order];
+    res->n_order_poles = pl->first[order + 1] - pl->first[order];
+    return EL_OK;
+}
+
 /* ------------------------------------------------------------------ */
 /* Bootstrap building blocks                                          */
 /* ------------------------------------------------------------------ */

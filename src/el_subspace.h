@@ -187,6 +187,16 @@ el_status el_subspace_execute(el_subspace_plan *plan, const el_series *series,
                               const el_subspace_options *opt,
                               el_subspace_result *result, el_error *err);
 
+/* After an execute: the model of another order (1 <= order <= max_order)
+ * from the same SVD: A and C of that order (result->a, c_scaled, c_raw
+ * overwritten) and result->order, first_pole, n_order_poles set to it;
+ * the poles and their labels (all orders) are unchanged. Used to take the
+ * lowest order that holds a chosen set of physical modes. Errors:
+ * EL_ERR_INTERNAL before an execute or for an order out of range;
+ * EL_ERR_NUMERIC when that order's shift equations are rank deficient. */
+el_status el_subspace_set_order(el_subspace_plan *plan, size_t order,
+                                el_subspace_result *result, el_error *err);
+
 /* Length of one block-sum record (doubles) for the plan:
  * 1 + hp + n_v + hp n_v with n_v = max_order. */
 size_t el_subspace_sum_doubles(const el_subspace_plan *plan);

@@ -74,7 +74,7 @@ miss=""
 for o in $want; do case " $got " in *" $o "*) ;; *) miss="$miss $o" ;; esac; done
 [ -z "$miss" ]
 check "completion offers every assess option of --help (missing:$miss)" $?
-[ "$(complete_words assess --method "")" = "auto ls fb tls iv ssi" ]
+[ "$(complete_words assess --method "")" = "auto ls fb tls iv ssi hankel" ]
 check "completion: assess --method -> the estimators" $?
 [ "$(complete_words demo "")" = "booster-pump rig-test fan-warmup" ]
 check "completion: demo -> the scenario names" $?

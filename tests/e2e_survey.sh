@@ -198,8 +198,11 @@ logs/booster_pump.csv --to=2026-03-14T08:05:00+01:00
 EOF
 "$bin" survey "$tmp/campaign.txt" --out "$tmp/man" $opts --fail-on unstable >/dev/null 2>&1
 status=$?
-[ "$status" -eq 0 ]
-check "manifest survey, no unstable log, --fail-on unstable: exit 0 (got $status)" $?
+# The rig's two accelerometers see its growing 0.8 Hz mode (datasets/
+# README.md: the rig is unstable); the default estimator for two sensors
+# (the subspace stage) resolves its four states from two channels.
+[ "$status" -eq 5 ]
+check "manifest survey, the unstable rig log, --fail-on unstable: exit 5 (got $status)" $?
 "$bin" survey "$tmp/campaign.txt" --out "$tmp/man" $opts --fail-on ambiguous >"$tmp/man.txt" 2>&1
 status=$?
 [ "$status" -eq 5 ] && grep -q "(0 assessed now, 3 unchanged)" "$tmp/man.txt"
