@@ -667,6 +667,30 @@ static el_status fit_half(el_assess_plan *ap, const el_assess_options *opt,
     return EL_OK;
 }
 
+/* Fits and bootstraps both halves with fit (its inputs are set here);
+ * sc->not_tested says why when a half could not be fitted. */
+static el_status fit_halves(el_assess_plan *ap, const el_assess_options *opt,
+                            el_fit_options *fit, el_assessment *r, size_t m, size_t nu,
+                            el_error *err)
+{
+    el_split_check *sc = &r->split;
+    const el_series *s = &r->series;
+    el_status st = EL_OK;
+    for (size_t h = 0; h < 2 && st == EL_OK && sc->not_tested[0] == '\0'; h++) {
+        el_series half, half_inputs;
+        half_series(s, h, ap->half_values, &half);
+        fit->inputs = NULL;
+        if (nu > 0) {
+            half_series(&r->inputs, h, ap->half_values + m * s->n_channels, &half_inputs);
+            fit->inputs = &half_inputs;
+        }
+        sc->half_t[h][0] = half.t0;
+        sc->half_t[h][1] = half.t0 + (double)(m - 1) * s->dt;
+        st = fit_half(ap, opt, fit, &half, h, sc, err);
+    }
+    return st;
+}
+
 /* The split-half check (el_split_check in el_assess.h). Needs the
  * bootstrap (its spread is the yardstick) and inputs cut the same way. */
 static el_status split_check(el_assess_plan *ap, const el_assess_options *opt,
@@ -693,25 +717,26 @@ static el_status split_check(el_assess_plan *ap, const el_assess_options *opt,
         ap->half_capacity = need;
     }
     el_fit_options fit = *window_fit;
-    fit.rank = (long)r->model.rank;   /* the same modes in both halves */
-    fit.lags = r->model.lags;
-    el_status st = EL_OK;
-    for (size_t h = 0; h < 2 && st == EL_OK && sc->not_tested[0] == '\0'; h++) {
-        el_series half, half_inputs;
-        half_series(s, h, ap->half_values, &half);
-        fit.inputs = NULL;
-        if (nu > 0) {
-            half_series(&r->inputs, h, ap->half_values + m * s->n_channels, &half_inputs);
-            fit.inputs = &half_inputs;
-        }
-        sc->half_t[h][0] = half.t0;
-        sc->half_t[h][1] = half.t0 + (double)(m - 1) * s->dt;
-        st = fit_half(ap, opt, &fit, &half, h, sc, err);
+    if (fit.method != EL_METHOD_HANKEL) {
+        fit.rank = (long)r->model.rank;   /* the same modes in both halves */
+        fit.lags = r->model.lags;
+    }
+    el_status st = fit_halves(ap, opt, &fit, r, m, nu, err);
+    if (st == EL_OK && sc->not_tested[0] != '\0' && fit.method == EL_METHOD_HANKEL) {
+        /* A half of a drifting log may hold no mode that persists across
+         * model orders, and the check needs both halves: both are then
+         * fitted by iv, the estimator auto falls back to, each at the rank
+         * its test gives. */
+        sc->not_tested[0] = '\0';
+        sc->halves_by_iv = 1;
+        fit.method = EL_METHOD_IV;
+        fit.lags = 0;
+        fit.rank = EL_RANK_AUTO;
+        st = fit_halves(ap, opt, &fit, r, m, nu, err);
     }
     if (st != EL_OK || sc->not_tested[0] != '\0')
         return st;
-    sc->tested = 1;
-    double sd = hypot(sc->decay_sd[0], sc->decay_sd[1]);
+    sc->tested = 1;    double sd = hypot(sc->decay_sd[0], sc->decay_sd[1]);
     double sf = hypot(sc->frequency_sd[0], sc->frequency_sd[1]);
     sc->z_decay = sd > 0.0 ? (sc->decay_rate[1] - sc->decay_rate[0]) / sd : 0.0;
     sc->z_frequency = sf > 0.0 ? (sc->frequency_hz[1] - sc->frequency_hz[0]) / sf : 0.0;
@@ -1044,8 +1069,26 @@ el_status el_assess_execute(el_assess_plan *ap, const el_assess_options *opt,
             fit.lags = r->lags_choice.lags;
         }
     }
+    char regime_reason[sizeof r->method_reason];
+    snprintf(regime_reason, sizeof regime_reason, "%s", r->method_reason);
     if (st == EL_OK && r->method_was_auto)
         choose_subspace(r, &fit);
+    /* The block-Hankel estimator assumes one stationary operating point.
+     * When it cannot fit a half of the window and the halves, fitted by iv
+     * instead, disagree, auto keeps iv, which does not assume it; the drift
+     * is then the verdict's cause either way. */
+    int split_done = 0;
+    if (st == EL_OK && r->method_was_auto && fit.method == EL_METHOD_HANKEL &&
+        opt->boot.replicates >= EL_BOOT_MIN_REPLICATES) {
+        st = split_check(ap, opt, &fit, r, err);
+        split_done = 1;
+        if (st == EL_OK && r->split.drift && r->split.halves_by_iv) {
+            fit.method = EL_METHOD_IV;
+            snprintf(r->method_reason, sizeof r->method_reason,
+                     "%.200s; not hankel: the dynamics drift between the halves",
+                     regime_reason);
+        }
+    }
     if (st == EL_OK)
         st = plan_fit(ap, &r->series, &fit, &r->model, &r->warnings, err);
     if (st != EL_OK && r->method_was_auto && fit.method == EL_METHOD_HANKEL)
@@ -1083,7 +1126,7 @@ el_status el_assess_execute(el_assess_plan *ap, const el_assess_options *opt,
     stage(opt, "checking the model", 0);
     if (st == EL_OK)
         st = veto_growth(r, err);
-    if (st == EL_OK)
+    if (st == EL_OK && !split_done)
         st = split_check(ap, opt, &fit, r, err);
     if (st == EL_OK)
         st = judge_one_point(r, err);

@@ -93,6 +93,8 @@ typedef struct {
     double frequency_sd[2];
     double z_decay, z_frequency;  /* (half 2 - half 1) / combined sd (NaN: untested) */
     int drift;                    /* 1: |z| >= EL_ASSESS_SPLIT_Z for either */
+    int halves_by_iv;             /* 1: the window's estimator (hankel) could not fit
+                                     a half, so both were fitted by iv */
 } el_split_check;
 
 /* What breaks the one-operating-point assumption (JSON

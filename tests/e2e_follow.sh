@@ -124,7 +124,7 @@ wait "$follower"
 check "SIGTERM: exit 0" $?
 grep -q '"final": true' "$tmp/live.jsonl"
 check "SIGTERM: a final trend line" $?
-grep -q '^Trend ' "$tmp/live.txt" && [ "$(grep -c ' iv$\| ls$\| fb$\| tls$\| ssi$' "$tmp/live.txt")" -eq 8 ]
+grep -q '^Trend ' "$tmp/live.txt" && [ "$(grep -c ' iv$\| ls$\| fb$\| tls$\| ssi$\| hankel$' "$tmp/live.txt")" -eq 8 ]
 check "a text line per window and the final trend on the terminal" $?
 follow_numbers "$tmp/live.jsonl" >"$tmp/live.tsv"
 same_numbers "$tmp/off.tsv" "$tmp/live.tsv"

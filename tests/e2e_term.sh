@@ -65,7 +65,8 @@ check "wrapping at 60 or 80 columns keeps every word in order" $?
 # A pseudo-terminal of 70 columns: the terminal's width is used.
 if command -v script >/dev/null 2>&1; then
     script -qec "stty cols 70; \"$bin\" assess datasets/booster_pump.csv --boot 200" "$tmp/pty.txt" >/dev/null 2>&1
-    tr -d '\r' <"$tmp/pty.txt" | grep -v '^Script ' >"$tmp/pty_clean.txt"
+    # Carriage returns end the progress line: split there, not glue it on.
+    tr '\r' '\n' <"$tmp/pty.txt" | grep -v '^Script ' >"$tmp/pty_clean.txt"
     w=$(widest "$tmp/pty_clean.txt")
     [ "$w" -le 70 ] && [ "$w" -gt 60 ] && grep -q 'Verdict' "$tmp/pty_clean.txt"
     check "on a 70-column terminal the report is at most 70 wide (got $w)" $?
