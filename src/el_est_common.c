@@ -1109,3 +1109,22 @@ el_status el_est_boot_states_isotropic(const el_series *series, const el_series 
 {
     return boot_states(series, inputs, model, 1, states, n_states, err);
 }
+
+el_status el_est_instrument_fit(el_fit_plan *plan, const el_series *series,
+                                const el_series *inputs, el_model *model,
+                                int zero_offset, el_warnings *warnings, el_error *err)
+{
+    el_status st = el_est_instrument_basis(plan->est, series, plan->rank_opt, model,
+                                           warnings, err);
+    if (st != EL_OK)
+        return st;
+    st = el_est_reduced_fit(plan->est, series, inputs, model, plan->bred, warnings, err);
+    if (st == EL_OK)
+        el_fit_projected_model(plan, model, zero_offset);
+    return st;
+}
+
+void el_est_plan_destroy_state(void *state)
+{
+    el_est_plan_destroy(state);
+}

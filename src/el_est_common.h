@@ -273,4 +273,16 @@ el_status el_est_reduced_fit(el_est_plan *plan, const el_series *series,
                              double *b_reduced, el_warnings *warnings,
                              el_error *err);
 
+/* The whole fit of an estimator whose basis comes from the instruments
+ * (iv, ssi): el_est_instrument_basis, el_est_reduced_fit, then the model in
+ * the channels' coordinates (el_fit_projected_model; zero_offset 1 for an
+ * estimator that takes the channel means as the operating point). plan is
+ * the fit plan whose est is an el_est_plan. Errors as those two steps. */
+el_status el_est_instrument_fit(el_fit_plan *plan, const el_series *series,
+                                const el_series *inputs, el_model *model,
+                                int zero_offset, el_warnings *warnings, el_error *err);
+
+/* Destroys an el_est_plan passed as an estimator type's opaque state. */
+void el_est_plan_destroy_state(void *state);
+
 #endif

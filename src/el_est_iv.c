@@ -121,14 +121,7 @@ static el_status iv_fit(el_fit_plan *plan, const el_series *series,
                         const el_series *inputs, el_model *model,
                         el_warnings *warnings, el_error *err)
 {
-    el_status st = el_est_instrument_basis(plan->est, series, plan->rank_opt, model,
-                                           warnings, err);
-    if (st != EL_OK)
-        return st;
-    st = el_est_reduced_fit(plan->est, series, inputs, model, plan->bred, warnings, err);
-    if (st == EL_OK)
-        el_fit_projected_model(plan, model, 0);
-    return st;
+    return el_est_instrument_fit(plan, series, inputs, model, 0, warnings, err);
 }
 
 static el_status iv_plan_create(const el_fit_options *opt, size_t n_samples,
@@ -139,12 +132,8 @@ static el_status iv_plan_create(const el_fit_options *opt, size_t n_samples,
                               (el_est_plan **)state, err);
 }
 
-static void iv_plan_destroy(void *state)
-{
-    el_est_plan_destroy(state);
-}
 
 const el_estimator_type el_estimator_iv = {
     EL_METHOD_IV, "iv", "instrumental variables", 1, 0,
-    iv_plan_create, iv_plan_destroy, iv_fit, &iv_provider, el_est_boot_states, 0, NULL, NULL
+    iv_plan_create, el_est_plan_destroy_state, iv_fit, &iv_provider, el_est_boot_states, 0, NULL, NULL
 };

@@ -212,14 +212,7 @@ static el_status ssi_fit(el_fit_plan *plan, const el_series *series,
                         const el_series *inputs, el_model *model,
                         el_warnings *warnings, el_error *err)
 {
-    el_status st = el_est_instrument_basis(plan->est, series, plan->rank_opt, model,
-                                           warnings, err);
-    if (st != EL_OK)
-        return st;
-    st = el_est_reduced_fit(plan->est, series, inputs, model, plan->bred, warnings, err);
-    if (st == EL_OK)
-        el_fit_projected_model(plan, model, 1);
-    return st;
+    return el_est_instrument_fit(plan, series, inputs, model, 1, warnings, err);
 }
 
 static el_status ssi_plan_create(const el_fit_options *opt, size_t n_samples,
@@ -230,12 +223,8 @@ static el_status ssi_plan_create(const el_fit_options *opt, size_t n_samples,
                               (el_est_plan **)state, err);
 }
 
-static void ssi_plan_destroy(void *state)
-{
-    el_est_plan_destroy(state);
-}
 
 const el_estimator_type el_estimator_ssi = {
     EL_METHOD_SSI, "ssi", "covariance-driven subspace identification", 0, 0,
-    ssi_plan_create, ssi_plan_destroy, ssi_fit, &ssi_provider, el_est_boot_states, 0, NULL, NULL
+    ssi_plan_create, el_est_plan_destroy_state, ssi_fit, &ssi_provider, el_est_boot_states, 0, NULL, NULL
 };

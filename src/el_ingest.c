@@ -95,21 +95,6 @@ typedef struct {
 
 enum { COL_UNKNOWN, COL_NUMBER, COL_TEXT };
 
-/* Reserves a buffer of at least need bytes, growing geometrically. */
-static int reserve(void **p, size_t *cap, size_t need, size_t elem)
-{
-    if (need <= *cap)
-        return 1;
-    size_t n = *cap ? *cap : 16;
-    while (n < need)
-        n *= 2;
-    void *q = realloc(*p, n * elem);
-    if (q == NULL)
-        return 0;
-    *p = q;
-    *cap = n;
-    return 1;
-}
 
 static el_status no_memory(ingest *g)
 {
@@ -325,7 +310,7 @@ static el_status push_span(ingest *g, size_t *n, const char *text, size_t length
                            size_t raw, int quoted)
 {
     void *p = g->spans;
-    if (!reserve(&p, &g->spans_cap, *n + 1, sizeof *g->spans))
+    if (!el_source_reserve(&p, &g->spans_cap, *n + 1, sizeof *g->spans))
         return no_memory(g);
     g->spans = p;
     g->spans[*n] = (span){text, length, raw, quoted};
@@ -397,7 +382,7 @@ static el_status split_quoted(ingest *g, const record *r, size_t q, size_t *w,
 /* Splits a record that holds quotes (RFC 4180). */
 static el_status split_quoting(ingest *g, const record *r, size_t *n_fields)
 {
-    if (!reserve((void **)&g->scratch, &g->scratch_cap, r->length + 1, 1))
+    if (!el_source_reserve((void **)&g->scratch, &g->scratch_cap, r->length + 1, 1))
         return no_memory(g);
     const char *p = r->text;
     size_t i = 0, n = 0, w = 0;

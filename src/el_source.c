@@ -49,8 +49,7 @@ void el_source_close(el_source *src)
     src->z = NULL;
 }
 
-/* Reserves a buffer of at least need bytes, growing geometrically. */
-static int reserve(void **p, size_t *cap, size_t need, size_t elem)
+int el_source_reserve(void **p, size_t *cap, size_t need, size_t elem)
 {
     if (need <= *cap)
         return 1;
@@ -213,7 +212,7 @@ el_status el_source_refill(el_source *rd)
     }
     if (rd->cap < rd->end + READ_CHUNK + 1) {
         void *p = rd->buf;
-        if (!reserve(&p, &rd->cap, rd->end + READ_CHUNK + 1, 1))
+        if (!el_source_reserve(&p, &rd->cap, rd->end + READ_CHUNK + 1, 1))
             return no_memory(rd);
         rd->buf = p;
     }

@@ -60,4 +60,10 @@ el_status el_source_refill(el_source *src);
  * calling it twice is harmless. */
 void el_source_close(el_source *src);
 
+/* Grows the buffer *p of *cap elements of elem bytes to hold at least need
+ * elements, doubling (from 16) so repeated growth costs amortised O(1).
+ * Returns 1, or 0 when realloc fails (then *p and *cap are unchanged and
+ * the caller still owns *p). */
+int el_source_reserve(void **p, size_t *cap, size_t need, size_t elem);
+
 #endif
