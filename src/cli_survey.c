@@ -4,6 +4,7 @@
  * its JSON to a temporary file; the table, the JSON lines and the overview
  * page are built from those JSON texts. Also the shard/merge steps and the
  * submission to Slurm. */
+#include <dirent.h>
 #include <errno.h>
 #include <fcntl.h>
 #include <signal.h>
@@ -29,6 +30,7 @@ static const cli_option OPTIONS[] = {
     {"reports", NULL, "also write each log's HTML report as DIR/reports/NAME.html"},
     {"fail-on", "unstable|ambiguous", "exit with status 5 when a log's verdict matches"},
     {"quiet", NULL, "print nothing but errors"},
+    {"log-timeout", "SECONDS", "stop a log's assess after this long; its row says so (default: no limit)"},
     {"shard", "K/N", "assess only shard K of N of the logs, into DIR/shards/K"},
     {"merge", "DIR", "build DIR's outputs from its shards (DIR/shards/1..N)"},
     {"slurm", NULL, "submit the survey to Slurm: a job array of shards and a merge job"},
@@ -43,6 +45,12 @@ static const cli_option OPTIONS[] = {
 /* Exit status of a survey whose logs did not all get assessed. */
 #define EXIT_LOG_FAILED 2
 
+/* A log's exit code in its row when --log-timeout stopped its assess. */
+#define EXIT_TIMED_OUT 124
+
+/* Seconds between SIGTERM and SIGKILL for a log over its time limit. */
+#define STOP_GRACE_S 2.0
+
 typedef struct {
     const char *out_dir;
     const char **inputs;
@@ -56,6 +64,7 @@ typedef struct {
     int reports;
     int fail_on;             /* 0 none, 1 unstable, 2 ambiguous */
     int quiet;
+    double log_timeout_s;    /* 0: no limit */
     size_t shard_k, shard_n; /* 0: not a shard */
     const char *merge_dir;
     int slurm;
@@ -202,6 +211,9 @@ static el_status parse_survey(const cli_args *a, survey_cli *c, el_error *err)
     c->jobs = cores > 0 ? (size_t)cores : 1;
     const char *v;
     if ((v = opt_value(a, "jobs")) && (st = cli_size("jobs", v, 1, 4096, &c->jobs, err)))
+        return st;
+    if ((v = opt_value(a, "log-timeout")) &&
+        (st = cli_double("log-timeout", v, 0.01, 1e7, &c->log_timeout_s, err)))
         return st;
     int choice = 0;
     if ((v = opt_value(a, "fail-on"))) {
@@ -366,12 +378,41 @@ static void key_log(log_job *j)
     j->keyed = 1;
 }
 
+/* Removes target's leftover temporary files (el_io writes TARGET.tmpXXXXXX
+ * then renames it), left by an assess that was stopped by a signal. */
+static void remove_temporaries(const char *target)
+{
+    char dir[4200];
+    snprintf(dir, sizeof dir, "%s", target);
+    char *slash = strrchr(dir, '/');
+    const char *base = slash ? slash + 1 : target;
+    if (slash)
+        *slash = '\0';
+    char prefix[4300];
+    snprintf(prefix, sizeof prefix, "%s.tmp", base);
+    DIR *d = opendir(slash ? (dir[0] ? dir : "/") : ".");
+    if (d == NULL)
+        return;
+    struct dirent *e;
+    size_t n = strlen(prefix);
+    while ((e = readdir(d)) != NULL) {
+        if (strncmp(e->d_name, prefix, n) != 0 || strlen(e->d_name) != n + 6)
+            continue;
+        char path[8600];
+        snprintf(path, sizeof path, "%s/%s", slash ? (dir[0] ? dir : "") : ".", e->d_name);
+        unlink(path);
+    }
+    closedir(d);
+}
+
 /* ------------------------------------------------------------ processes */
 
 typedef struct {
     pid_t pid, gzip_pid;
     int status, gzip_status;
     size_t log;
+    struct timespec started;   /* CLOCK_MONOTONIC at spawn */
+    int stop_sent;             /* 0, 1: SIGTERM sent, 2: SIGKILL sent */
     char json_path[4200], err_path[4200];
 } slot;
 
@@ -447,6 +488,8 @@ static int spawn(const survey_cli *c, log_job *j, size_t threads, slot *s)
         close(fds[1]);
     }
     s->status = s->gzip_status = -1;
+    s->stop_sent = 0;
+    clock_gettime(CLOCK_MONOTONIC, &s->started);
     return s->pid < 0 || s->gzip_pid < 0 ? -1 : 0;
 }
 
@@ -489,7 +532,14 @@ static void collect(const survey_cli *c, log_job *j, slot *s)
     int gzip_failed = s->gzip_pid > 0 && !(WIFEXITED(s->gzip_status) && WEXITSTATUS(s->gzip_status) == 0) &&
                       !(WIFSIGNALED(s->gzip_status) && WTERMSIG(s->gzip_status) == SIGPIPE && code != 0);
     el_buf json = {0}, compact = {0};
-    if (gzip_failed) {
+    if (s->stop_sent) {
+        /* The limit, not the log, ended the run: say so rather than name
+         * the signal (timeout(1)'s status 124 for the same event). */
+        code = EXIT_TIMED_OUT;
+        gzip_failed = 0;
+        snprintf(fallback, sizeof fallback,
+                 "assess was stopped after the --log-timeout of %g s", c->log_timeout_s);
+    } else if (gzip_failed) {
         code = EL_ERR_DATA;
         snprintf(fallback, sizeof fallback, "gzip could not decompress the log (status %d)",
                  status_code(s->gzip_status));
@@ -506,9 +556,9 @@ static void collect(const survey_cli *c, log_job *j, slot *s)
     j->rec.exit_code = code;
     /* A log gzip could not decompress: its message, not what assess made
      * of the truncated stream. */
-    j->rec.error = code == 0     ? calloc(1, 1)
-                   : gzip_failed ? strdup(fallback)
-                                 : first_error_line(s->err_path, fallback);
+    j->rec.error = code == 0                     ? calloc(1, 1)
+                   : gzip_failed || s->stop_sent ? strdup(fallback)
+                                                 : first_error_line(s->err_path, fallback);
     j->rec.json = code == 0 ? compact.data : calloc(1, 1);
     if (code != 0)
         el_buf_free(&compact);
@@ -652,10 +702,60 @@ static log_job *reap(const survey_cli *c, pool *pl, log_job *jobs, pid_t pid, in
     s->pid = 0;
     s->gzip_pid = 0;
     pl->running--;
+    if (s->stop_sent) {
+        /* assess had no chance to remove its temporary outputs. */
+        remove_temporaries(s->json_path);
+        if (c->reports) {
+            char report[4200];
+            report_path(c, j->rec.path, report, sizeof report);
+            remove_temporaries(report);
+        }
+        return j;   /* not cached: the limit, not the content, decided it */
+    }
     el_status saved = save_record(c, j, err);
     if (saved != EL_OK && *st == EL_OK)
         *st = saved;
     return j;
+}
+
+/* Sends SIGTERM to the processes of a log over --log-timeout, and
+ * SIGKILL STOP_GRACE_S later to one that is still there. */
+static void enforce_limit(const survey_cli *c, pool *pl)
+{
+    for (size_t i = 0; i < pl->n_slots; i++) {
+        slot *s = &pl->slots[i];
+        if (s->pid <= 0 && s->gzip_pid <= 0)
+            continue;
+        double t = seconds_since(&s->started);
+        int sig = 0;
+        if (s->stop_sent == 0 && t > c->log_timeout_s)
+            sig = SIGTERM;
+        else if (s->stop_sent == 1 && t > c->log_timeout_s + STOP_GRACE_S)
+            sig = SIGKILL;
+        if (sig == 0)
+            continue;
+        if (s->pid > 0)
+            kill(s->pid, sig);
+        if (s->gzip_pid > 0)
+            kill(s->gzip_pid, sig);
+        s->stop_sent++;
+    }
+}
+
+/* Waits for a child to end. With --log-timeout it polls, every 20 ms,
+ * so a log over its limit is stopped while the others run on. */
+static pid_t wait_child(const survey_cli *c, pool *pl, int *status)
+{
+    if (c->log_timeout_s <= 0)
+        return waitpid(-1, status, 0);
+    for (;;) {
+        pid_t pid = waitpid(-1, status, WNOHANG);
+        if (pid != 0)
+            return pid;
+        enforce_limit(c, pl);
+        struct timespec nap = {0, 20000000L};
+        nanosleep(&nap, NULL);
+    }
 }
 
 /* Runs every log not taken from the cache, c->jobs at a time. */
@@ -684,7 +784,7 @@ static el_status run_logs(const survey_cli *c, log_job *jobs, size_t n, progress
         if (pl.running == 0)
             break;
         int status = 0;
-        pid_t pid = waitpid(-1, &status, 0);
+        pid_t pid = wait_child(c, &pl, &status);
         if (pid < 0 && errno == EINTR)
             continue;
         if (pid < 0)

@@ -251,6 +251,33 @@ if command -v script >/dev/null 2>&1; then
     check "on a terminal: one progress line (done of total, failed, elapsed)" $?
 fi
 
+# ---- 7b. --log-timeout: a log over the limit is stopped, its row says so,
+# nothing of it is left or cached, and the other logs are assessed.
+mkdir -p "$tmp/slow"
+cp datasets/rig_test.csv "$tmp/slow/quick.csv"
+# About 300,000 rows: ingest alone takes longer than the 0.3 s limit here.
+awk 'BEGIN { print "time,a,b,c"; for (i = 0; i < 300000; i++)
+             printf "%.3f,%.6f,%.6f,%.6f\n", i * 0.001, sin(i * 0.01), cos(i * 0.013), sin(i * 0.007) }' \
+    >"$tmp/slow/big.csv"
+start=$(date +%s)
+"$bin" survey "$tmp/slow/big.csv" --out "$tmp/slowout" --log-timeout 0.3 --reports --boot 1000 \
+    --quiet >/dev/null 2>&1
+status=$?
+took=$(( $(date +%s) - start ))
+grep -q "^$tmp/slow/big.csv,error,124,assess was stopped after the --log-timeout of 0.3 s," "$tmp/slowout/survey.csv" &&
+    [ "$status" -eq 2 ] && [ "$took" -le 20 ]
+check "--log-timeout 0.3: the slow log is an error row with code 124 and the limit (exit $status, ${took} s)" $?
+[ -z "$(find "$tmp/slowout" -name '*.tmp*' -o -name 'tmp-*')" ] &&
+    [ -z "$(find "$tmp/slowout/cache" -type f)" ]
+check "--log-timeout: no temporary file and no cached record of the stopped log" $?
+"$bin" survey "$tmp/slow/quick.csv" --out "$tmp/slowout2" --log-timeout 60 $opts --quiet >/dev/null 2>&1
+status=$?
+grep -q "^$tmp/slow/quick.csv,ok,0,," "$tmp/slowout2/survey.csv" && [ "$status" -eq 0 ]
+check "--log-timeout 60: a quick log is assessed as usual (exit $status)" $?
+"$bin" survey "$tmp/slow/quick.csv" --out "$tmp/slowout3" --log-timeout 0 >/dev/null 2>"$tmp/to.err"
+[ $? -eq 1 ] && grep -q "log-timeout" "$tmp/to.err" && [ ! -e "$tmp/slowout3/survey.csv" ]
+check "--log-timeout 0: a usage error naming the option, no output" $?
+
 # ---- 8. usage errors
 "$bin" survey "$logs" >/dev/null 2>&1
 check "no --out: exit 1" $(( $? == 1 ? 0 : 1 ))
