@@ -144,8 +144,22 @@ int el_number_parse(const char *s, size_t n, char *decimal, char delim, double *
 #define HOT_INLINE inline
 #endif
 
-static const uint64_t POW10_U64[] = {1u, 10u, 100u, 1000u, 10000u, 100000u, 1000000u,
-                                     10000000u, 100000000u};
+static const uint64_t POW10_U64[] = {1u,
+                                     10u,
+                                     100u,
+                                     1000u,
+                                     10000u,
+                                     100000u,
+                                     1000000u,
+                                     10000000u,
+                                     100000000u,
+                                     1000000000u,
+                                     10000000000u,
+                                     100000000000u,
+                                     1000000000000u,
+                                     10000000000000u,
+                                     100000000000000u,
+                                     1000000000000000u};
 
 #if EL_SWAR
 /* SWAR ("SIMD within a register"): eight characters in one 64-bit word,
@@ -208,8 +222,106 @@ static HOT_INLINE const char *scan_digits(const char *p, const char *lim, uint64
     return p;
 }
 
-const char *el_number_scan(const char *s, const char *lim, char decimal, char delim,
-                           double *out, char *point_out)
+#if EL_SWAR && FLT_EVAL_METHOD == 0
+#define EL_SCAN16 1
+/* How far ahead of a cell scan16 may load: its 16-byte window and, for
+ * the digit runs, 8-byte loads starting inside it. */
+#define SCAN16_READS 32
+
+/* The value of the first k (0..8) digits at p (ASCII digits; the bytes
+ * after them may be anything): digits_value, with k = 0 giving 0 (two
+ * shifts of at most 32 bits each, so no shift by 64). */
+static HOT_INLINE uint64_t lead_value(uint64_t d, unsigned k)
+{
+    unsigned half = 4 * (8 - k);
+    d = (d << half) << half;
+    d = (d * (1 + (10u << 8))) >> 8;
+    d = ((d & 0x00FF00FF00FF00FFu) * (1 + (100u << 16))) >> 16;
+    return ((d & 0x0000FFFF0000FFFFu) * (1 + ((uint64_t)10000 << 32))) >> 32;
+}
+
+static HOT_INLINE uint64_t lead_digits(const char *p, unsigned k)
+{
+    return lead_value(load8(p) ^ 0x3030303030303030u, k);
+}
+
+/* The value of the k (0..16) digits at p. */
+static HOT_INLINE uint64_t run_value(const char *p, unsigned k)
+{
+    if (k <= 8)
+        return lead_digits(p, k);
+    return lead_digits(p, 8) * POW10_U64[k - 8] + lead_digits(p + 8, k - 8);
+}
+
+/* Index (0..15) of the lowest flagged byte of the 16-byte mask lo, hi;
+ * 16 when none is. */
+static HOT_INLINE unsigned first_flag(uint64_t lo, uint64_t hi)
+{
+    if (lo != 0)
+        return (unsigned)__builtin_ctzll(lo) >> 3;
+    return hi != 0 ? 8 + ((unsigned)__builtin_ctzll(hi) >> 3) : 16;
+}
+
+/* The common cell in one step: [+-]digits[sep digits] ending inside the
+ * 16 bytes at s (the caller checked SCAN16_READS bytes may be loaded).
+ * Where it ends comes from one mask of non-digit bytes over the whole
+ * window (the first flagged byte, or the second when the first is the
+ * separator), not from digit runs read one after another: the next cell
+ * need not wait for this one's digits, and the cells of a row overlap in
+ * the CPU. The stop byte is the same as the general scan's (a second
+ * separator, like any other byte, ends the number). Returns the end, or
+ * NULL when the cell needs the general scan (an exponent, no digit, no
+ * end inside the window). The value is Clinger's (at most 15 digits: the
+ * significand is below 2^53 and 10^frac exact): the same operands and
+ * the same operation as el_number_parse, so the same double. */
+static HOT_INLINE const char *scan16(const char *s, unsigned char dec, double *out,
+                                     char *point_out)
+{
+    static const double pow10[] = {1e0, 1e1, 1e2,  1e3,  1e4,  1e5,  1e6, 1e7,
+                                   1e8, 1e9, 1e10, 1e11, 1e12, 1e13, 1e14, 1e15};
+    const uint64_t zeros = 0x3030303030303030u, top = 0x8080808080808080u;
+    uint64_t d0 = load8(s) ^ zeros, d1 = load8(s + 8) ^ zeros;
+    unsigned sign = s[0] == '-' || s[0] == '+';
+    /* Non-digit bytes; a sign is allowed in byte 0 only. */
+    uint64_t nd0 = (d0 | (d0 + 0x7676767676767676u)) & top & ~(uint64_t)(sign << 7);
+    uint64_t nd1 = (d1 | (d1 + 0x7676767676767676u)) & top;
+    unsigned first = first_flag(nd0, nd1), end = first, nfrac = 0;
+    if (first < 16 && (unsigned char)s[first] == dec) {
+        if (nd0 != 0)
+            nd0 &= nd0 - 1;
+        else
+            nd1 &= nd1 - 1;
+        end = first_flag(nd0, nd1);
+        nfrac = end - first - 1;
+    }
+    unsigned nint = first - sign;
+    if (end >= 16 || nint + nfrac == 0 || (s[end] | 0x20) == 'e')
+        return NULL;
+    uint64_t mant;
+    if (end - sign <= 8) {
+        /* The whole cell in one word: the separator byte taken out, the
+         * digits after it moved down one byte, one conversion. */
+        uint64_t d = load8(s + sign) ^ zeros;
+        if (end != first) {
+            uint64_t below = ((uint64_t)1 << (8 * nint)) - 1; /* nint <= 7 */
+            d = (d & below) | ((d >> 8) & ~below);
+        }
+        mant = lead_value(d, nint + nfrac);
+    } else {
+        mant = run_value(s + sign, nint) * POW10_U64[nfrac] + run_value(s + first + 1, nfrac);
+    }
+    double v = (double)mant / pow10[nfrac];
+    *out = sign && s[0] == '-' ? -v : v;
+    *point_out = end != first ? (char)dec : 0;
+    return s + end;
+}
+#else
+#define EL_SCAN16 0
+#endif
+
+/* The scan of any plain decimal, digit run by digit run. */
+static const char *scan_general(const char *s, const char *lim, char decimal, char delim,
+                                double *out, char *point_out)
 {
     static const double pow10[] = {1e0,  1e1,  1e2,  1e3,  1e4,  1e5,  1e6,  1e7,
                                    1e8,  1e9,  1e10, 1e11, 1e12, 1e13, 1e14, 1e15,
@@ -269,6 +381,53 @@ const char *el_number_scan(const char *s, const char *lim, char decimal, char de
      * el_number_parse's, which is exact: the same text, the same double. */
     char dec = decimal;
     return el_number_parse(s, (size_t)(p - s), &dec, delim, out) == EL_NUM_OK ? p : NULL;
+}
+
+/* scan16 where it applies, else the general scan. */
+static HOT_INLINE const char *scan_cell(const char *s, const char *lim, char decimal, char delim,
+                                        double *out, char *point_out)
+{
+#if EL_SCAN16
+    if (decimal != 0 && lim - s >= SCAN16_READS) {
+        const char *e = scan16(s, (unsigned char)decimal, out, point_out);
+        if (e != NULL)
+            return e;
+    }
+#endif
+    return scan_general(s, lim, decimal, delim, out, point_out);
+}
+
+const char *el_number_scan(const char *s, const char *lim, char decimal, char delim,
+                           double *out, char *point_out)
+{
+    return scan_cell(s, lim, decimal, delim, out, point_out);
+}
+
+const char *el_number_scan_row(const char *p, const char *lim, size_t n, char delim,
+                               char *decimal, double *dst, size_t stride)
+{
+    char dec = *decimal;
+    for (size_t c = 0; c < n; c++, dst += stride) {
+        char point;
+        const char *e = scan_cell(p, lim, dec, delim, dst, &point);
+        if (e == NULL)
+            return NULL;
+        if (c + 1 < n) {
+            if (*e != delim)
+                return NULL;
+        } else if (*e != '\n') {
+            if (*e != '\r' || e[1] != '\n')
+                return NULL;
+            e++;
+        }
+        /* The first separator decides, cell by cell as the general reader
+         * (el_ingest's parse_row) does. */
+        if (point != 0 && dec == 0)
+            dec = point;
+        p = e + 1;
+    }
+    *decimal = dec;
+    return p;
 }
 
 /* Says why a cell that is not a plain decimal was refused. */

@@ -33,6 +33,13 @@ int el_number_parse(const char *s, size_t n, char *decimal, char delim, double *
 const char *el_number_scan(const char *s, const char *lim, char decimal, char delim,
                            double *out, char *point_out);
 
+/* The row loop of the fused reader (el_rows_scan's contract, which see):
+ * n cells by el_number_scan, separated by delim and ended by LF or CRLF,
+ * into dst[0], dst[stride], ...; returns the byte after the line end or
+ * NULL. Here so that the scan of each cell is inlined into the loop. */
+const char *el_number_scan_row(const char *p, const char *lim, size_t n, char delim,
+                               char *decimal, double *dst, size_t stride);
+
 /* 1 when the trimmed cell s[0..n) is a missing value: empty, NA or NaN in
  * any case; else 0. */
 int el_number_is_missing(const char *s, size_t n);

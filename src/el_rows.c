@@ -15,28 +15,7 @@
 const char *el_rows_scan(const char *p, const char *lim, size_t n, char delim,
                          char *decimal, double *dst, size_t stride)
 {
-    char dec = *decimal;
-    for (size_t c = 0; c < n; c++, dst += stride) {
-        char point;
-        const char *e = el_number_scan(p, lim, dec, delim, dst, &point);
-        if (e == NULL)
-            return NULL;
-        if (c + 1 < n) {
-            if (*e != delim)
-                return NULL;
-        } else if (*e != '\n') {
-            if (*e != '\r' || e[1] != '\n')
-                return NULL;
-            e++;
-        }
-        /* The first separator decides, cell by cell as the general reader
-         * (el_ingest's parse_row) does. */
-        if (point != 0 && dec == 0)
-            dec = point;
-        p = e + 1;
-    }
-    *decimal = dec;
-    return p;
+    return el_number_scan_row(p, lim, n, delim, decimal, dst, stride);
 }
 
 void el_rows_advise_large(void *block, size_t bytes)

@@ -446,40 +446,75 @@ static double median_select(double *a, size_t n)
     return 0.5 * (lower + upper);
 }
 
+/* One cell into a lane of column_stats: a missing cell (NaN) adds 0
+ * and fails both comparisons. */
+static inline void stat_lane(double x, double *sum, double *lo, double *hi, size_t *present)
+{
+    int ok = !isnan(x);
+    *present += (size_t)ok;
+    *sum += ok ? x : 0.0;
+    *lo = x < *lo ? x : *lo;
+    *hi = x > *hi ? x : *hi;
+}
+
+/* Four lanes (cells r, r+1, r+2, r+3 go to lanes 0..3): four independent
+ * chains of additions, so a pass runs at the speed of its loads rather
+ * than of one addition's latency (one chain with a division per cell was
+ * a sixth of `scan`'s CPU time on 1e6 x 8). */
 static void column_stats(const double *v, size_t n, el_column_stats *s)
 {
-    double sum = 0.0, lo = INFINITY, hi = -INFINITY;
-    size_t present = 0;
-    for (size_t r = 0; r < n; r++) {
-        if (isnan(v[r]))
-            continue;
-        present++;
-        sum += v[r];
-        lo = v[r] < lo ? v[r] : lo;
-        hi = v[r] > hi ? v[r] : hi;
+    double s0 = 0.0, s1 = 0.0, s2 = 0.0, s3 = 0.0;
+    double l0 = INFINITY, l1 = INFINITY, l2 = INFINITY, l3 = INFINITY;
+    double h0 = -INFINITY, h1 = -INFINITY, h2 = -INFINITY, h3 = -INFINITY;
+    size_t p0 = 0, p1 = 0, p2 = 0, p3 = 0, r = 0;
+    for (; r + 4 <= n; r += 4) {
+        stat_lane(v[r], &s0, &l0, &h0, &p0);
+        stat_lane(v[r + 1], &s1, &l1, &h1, &p1);
+        stat_lane(v[r + 2], &s2, &l2, &h2, &p2);
+        stat_lane(v[r + 3], &s3, &l3, &h3, &p3);
     }
+    for (; r < n; r++)
+        stat_lane(v[r], &s0, &l0, &h0, &p0);
+    double sum = (s0 + s1) + (s2 + s3);
+    double lo = fmin(fmin(l0, l1), fmin(l2, l3)), hi = fmax(fmax(h0, h1), fmax(h2, h3));
+    size_t present = p0 + p1 + p2 + p3;
     memset(s, 0, sizeof *s);
     s->present = present;
     s->missing = n - present;
     if (present == 0)
         return;
-    double mean = sum / (double)present, ss = 0.0;
+    double mean = sum / (double)present;
     if (!isfinite(mean))
         mean = lo / 2 + hi / 2; /* the sum overflowed: any value inside will do */
-    /* Second pass on deviations scaled by the largest (no cancellation for
-     * large offsets, and no underflow: a channel varying at 1e-170 has a
-     * spread, squares of 1e-170 would not). */
+    /* Second pass on deviations scaled by a power of two near the largest
+     * (exact, unlike a division; no cancellation for large offsets, and
+     * no underflow: a channel varying at 1e-170 has a spread, squares of
+     * 1e-170 would not). */
     double largest = fmax(hi - mean, mean - lo);
-    if (largest > 0.0)
-        for (size_t r = 0; r < n; r++)
-            if (!isnan(v[r])) {
-                double d = (v[r] - mean) / largest;
-                ss += d * d;
-            }
+    int e2 = 0;
+    double ss = 0.0;
+    if (largest > 0.0) {
+        (void)frexp(largest, &e2);
+        double scale = ldexp(1.0, -e2);
+        double q0 = 0.0, q1 = 0.0, q2 = 0.0, q3 = 0.0;
+        for (r = 0; r + 4 <= n; r += 4) {
+            double d0 = (v[r] - mean) * scale, d1 = (v[r + 1] - mean) * scale;
+            double d2 = (v[r + 2] - mean) * scale, d3 = (v[r + 3] - mean) * scale;
+            q0 += isnan(d0) ? 0.0 : d0 * d0;
+            q1 += isnan(d1) ? 0.0 : d1 * d1;
+            q2 += isnan(d2) ? 0.0 : d2 * d2;
+            q3 += isnan(d3) ? 0.0 : d3 * d3;
+        }
+        for (; r < n; r++) {
+            double d = (v[r] - mean) * scale;
+            q0 += isnan(d) ? 0.0 : d * d;
+        }
+        ss = (q0 + q1) + (q2 + q3);
+    }
     s->mean = mean;
     s->min = lo;
     s->max = hi;
-    s->std = present > 1 && largest > 0.0 ? largest * sqrt(ss / (double)(present - 1)) : 0.0;
+    s->std = present > 1 && largest > 0.0 ? ldexp(sqrt(ss / (double)(present - 1)), e2) : 0.0;
     /* The rule of el_stats_spread, which refuses such a channel in a fit. */
     s->constant = lo == hi || s->std <= 1e-12 * fabs(mean);
 }

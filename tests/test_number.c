@@ -1,0 +1,247 @@
+/* test_number: el_number_scan (the cell scan of the fused row reader) and
+ * el_number_scan_row against glibc's strtod, an independent correctly
+ * rounding implementation: the value must be the same double bit for bit
+ * (tolerance 0: correct rounding leaves no freedom) and the scan must stop
+ * where strtod stops for a plain decimal. The cells are placed so that
+ * each path of the scan is taken: the one-window path (cells of at most
+ * 15 bytes with room for its loads), the general digit-run scan (longer
+ * cells, exponents, cells near the end of the text) and el_number_parse's
+ * strtod fallback (more than 15 digits, large exponents, subnormals). */
+#include "el_test.h"
+
+#include <stdlib.h>
+#include <string.h>
+
+#include "el_number.h"
+
+/* Bytes after a cell that the scan may load (its window is 16 bytes and
+ * it loads 8-byte words starting inside it; 40 leaves room). */
+#define PAD 40
+
+static uint64_t next_random(uint64_t *s)
+{
+    /* xorshift64 (Marsaglia 2003, "Xorshift RNGs"). */
+    *s ^= *s << 13;
+    *s ^= *s >> 7;
+    *s ^= *s << 17;
+    return *s;
+}
+
+/* strtod of text[0..n) with a decimal comma made a point; *end_n: how
+ * many bytes strtod read. */
+static double strtod_n(const char *text, size_t n, size_t *end_n)
+{
+    char buf[128];
+    assert_true(n < sizeof buf);
+    memcpy(buf, text, n);
+    buf[n] = '\0';
+    char *comma = strchr(buf, ',');
+    if (comma != NULL)
+        *comma = '.';
+    char *end;
+    double v = strtod(buf, &end);
+    *end_n = (size_t)(end - buf);
+    return v;
+}
+
+/* Scans cell followed by stop and PAD bytes of filler, with the window
+ * (room) and without (lim right after the stop byte), for decimal '.'
+ * decided and not yet decided; all four must agree with strtod. */
+static void check_cell(const char *cell, char stop, char dec, char delim)
+{
+    char buf[128 + PAD];
+    size_t n = strlen(cell);
+    assert_true(n + 1 + PAD < sizeof buf);
+    memcpy(buf, cell, n);
+    buf[n] = stop;
+    memset(buf + n + 1, '7', PAD); /* digits after the stop: must not be read as the cell's */
+    size_t want_n;
+    double want = strtod_n(cell, n, &want_n);
+    const char *lims[2] = {buf + n + 1 + PAD, buf + n + 1};
+    char decs[2] = {dec, 0};
+    for (int l = 0; l < 2; l++)
+        for (int d = 0; d < 2; d++) {
+            double got = -12345.0;
+            char point = 'x';
+            const char *e = el_number_scan(buf, lims[l], decs[d], delim, &got, &point);
+            if (e == NULL)
+                fail_msg("cell \"%s\" (lim %d, decimal %d): refused", cell, l, d);
+            if ((size_t)(e - buf) != n || want_n != n)
+                fail_msg("cell \"%s\": scan stopped after %td bytes, strtod after %zu", cell,
+                         e - buf, want_n);
+            if (memcmp(&got, &want, sizeof got) != 0)
+                fail_msg("cell \"%s\" (lim %d, decimal %d): got %.17g, strtod %.17g", cell, l, d,
+                         got, want);
+            int has_point = memchr(cell, dec, n) != NULL;
+            assert_int_equal(point, has_point ? dec : 0);
+        }
+}
+
+/* Worked edge cases: the window's limits (15 and 16 bytes, the separator
+ * first and last, the sign), ties to even and 19+ digit significands
+ * (the strtod fallback), subnormals and the exponent range's edges (IEEE
+ * 754 binary64: 2^-1074 = 4.94e-324, DBL_MAX = 1.7976931348623157e308,
+ * 2^53 = 9007199254740992). */
+static void test_edge_cells_match_strtod(void **state)
+{
+    (void)state;
+    static const char *cells[] = {
+        "0", "-0", "+0", "-0.0", "0.", ".0", ".5", "-.5", "+.5", "5.", "-5.", "7",
+        "10.0571", "9.96033", "0.001", "999.999", "-9.96033", "+12.25", "00012.50",
+        /* 15 bytes: the longest cell of the one-window path */
+        "123456789012345", "1234567.8901234", "-12345678.90123", "0.0000000000001",
+        ".12345678901234", "12345678901234.", "-1234567890123.",
+        /* 16 bytes and more: the general scan */
+        "1234567890123456", "-123456789012345", "0.00000000000001", "1234567.89012345",
+        "9007199254740993", "9007199254740992", "9007199254740995",
+        "1.00000000000000011102230246251565404236316680908203125",
+        "1.00000000000000011102230246251565404236316680908203126",
+        "123456789012345678", "1234567890123456789", "12345678901234567890",
+        "99999999999999999999", "0.30000000000000004",
+        /* exponents: always the general scan */
+        "1e5", "1E-5", "-2.5e-3", "1e22", "1e23", "1e-22", "1e308", "1.7976931348623157e308",
+        "4.9e-324", "2.4703282292062327e-324", "2.4703282292062328e-324",
+        "2.2250738585072014e-308", "2.2250738585072011e-308", "1e-400", "4.35679659e-320",
+        /* 8-digit runs and their neighbours */
+        "12345678", "123456789", "87654321.12345678", "0.00000001", "1234567.8"};
+    const char stops[] = {',', '\n', '\r', ';', '"', ' '};
+    for (size_t i = 0; i < sizeof cells / sizeof cells[0]; i++)
+        for (size_t k = 0; k < sizeof stops; k++)
+            check_cell(cells[i], stops[k], '.', ',');
+}
+
+/* A decimal comma (cells separated by ';'): the same values as with a
+ * point. */
+static void test_decimal_comma_cells(void **state)
+{
+    (void)state;
+    static const char *cells[] = {"10,0571", "-0,5", ",25", "5,", "123456,789012345",
+                                  "1234567,89012345", "0,30000000000000004"};
+    for (size_t i = 0; i < sizeof cells / sizeof cells[0]; i++)
+        check_cell(cells[i], ';', ',', ';');
+}
+
+/* Where the number ends is where strtod's reading of a plain decimal
+ * ends, whatever follows: a second separator, a sign, a letter. */
+static void test_scan_stops_like_strtod(void **state)
+{
+    (void)state;
+    static const struct {
+        const char *text;
+        size_t end;
+    } cases[] = {{"1.2.3,", 3}, {"12-3,", 2}, {"-1.5+2,", 4}, {"0.25x,", 4},
+                 {"7..,", 2},   {"123456789012345.5,", 17}, {"1.5e,", 0}, {"-,", 0},
+                 {".,", 0},     {"+-1,", 0}, {"1e+,", 0}};
+    for (size_t i = 0; i < sizeof cases / sizeof cases[0]; i++) {
+        char buf[64 + PAD];
+        size_t n = strlen(cases[i].text);
+        memcpy(buf, cases[i].text, n);
+        memset(buf + n, '\n', PAD);
+        double v = 0.0;
+        char point;
+        const char *e = el_number_scan(buf, buf + n + PAD, '.', ',', &v, &point);
+        if (cases[i].end == 0) {
+            /* No number, or an exponent without digits: refused. */
+            assert_null(e);
+            continue;
+        }
+        assert_non_null(e);
+        assert_int_equal((size_t)(e - buf), cases[i].end);
+        size_t want_n;
+        double want = strtod_n(buf, cases[i].end, &want_n);
+        assert_int_equal(want_n, cases[i].end);
+        assert_memory_equal(&v, &want, sizeof v);
+    }
+}
+
+/* Random digit strings of 1 to 17 digits with the point anywhere (or
+ * none) and a random sign: every split of the window's two words. */
+static void test_random_digit_strings(void **state)
+{
+    (void)state;
+    uint64_t seed = 0x2545F4914F6CDD1Du;
+    for (int i = 0; i < 200000; i++) {
+        char cell[40];
+        size_t n = 0;
+        uint64_t r = next_random(&seed);
+        if (r % 4 == 0)
+            cell[n++] = r % 8 == 0 ? '-' : '+';
+        unsigned digits = 1 + (unsigned)((r >> 8) % 17);
+        unsigned point = (unsigned)((r >> 16) % (digits + 2)); /* digits + 1: none */
+        for (unsigned k = 0; k <= digits; k++) {
+            if (k == point)
+                cell[n++] = '.';
+            if (k < digits)
+                cell[n++] = (char)('0' + next_random(&seed) % 10);
+        }
+        cell[n] = '\0';
+        check_cell(cell, (r >> 24) % 2 ? ',' : '\n', '.', ',');
+    }
+}
+
+/* Random doubles printed the ways loggers print them. */
+static void test_random_printed_values(void **state)
+{
+    (void)state;
+    uint64_t seed = 0x9E3779B97F4A7C15u;
+    for (int i = 0; i < 200000; i++) {
+        uint64_t r = next_random(&seed);
+        double u = (double)(r >> 11) / 9007199254740992.0 - 0.5;
+        double v = u * pow(10.0, (double)((int)(next_random(&seed) % 31) - 15));
+        char cell[64];
+        switch (i % 8) {
+        case 0: snprintf(cell, sizeof cell, "%.17g", v); break;
+        case 1: snprintf(cell, sizeof cell, "%.6f", v); break;
+        case 2: snprintf(cell, sizeof cell, "%.15g", v); break;
+        case 3: snprintf(cell, sizeof cell, "%.6g", 10.0 + v); break;
+        case 4: snprintf(cell, sizeof cell, "%.9g", v); break;
+        case 5: snprintf(cell, sizeof cell, "%.3f", fabs(v) * 1e3); break;
+        case 6: snprintf(cell, sizeof cell, "%.16g", v); break;
+        default: snprintf(cell, sizeof cell, "%.10e", v); break;
+        }
+        check_cell(cell, ',', '.', ',');
+    }
+}
+
+/* A row through el_number_scan_row: cells, delimiters, CRLF, and a row
+ * the fast path must refuse (a missing cell, a text cell, too many). */
+static void test_scan_row(void **state)
+{
+    (void)state;
+    char buf[256];
+    double dst[8];
+    const char *rows[] = {"0.001,10.0571,-9.96033\n", "1,2.5,3\r\n", "1e3,.5,-0\n"};
+    const double want[][3] = {{0.001, 10.0571, -9.96033}, {1, 2.5, 3}, {1e3, .5, -0.0}};
+    for (size_t i = 0; i < 3; i++) {
+        size_t n = strlen(rows[i]);
+        memcpy(buf, rows[i], n);
+        memset(buf + n, '\n', PAD);
+        char dec = '.';
+        const char *e = el_number_scan_row(buf, buf + n + PAD, 3, ',', &dec, dst, 2);
+        assert_non_null(e);
+        assert_int_equal((size_t)(e - buf), n);
+        for (size_t c = 0; c < 3; c++)
+            assert_memory_equal(&dst[2 * c], &want[i][c], sizeof(double));
+    }
+    const char *bad[] = {"1,,3\n", "1,x,3\n", "1,2,3,4\n", "1,2\n", "1,2,3 \n", "1,2,3\r\r\n"};
+    for (size_t i = 0; i < sizeof bad / sizeof bad[0]; i++) {
+        size_t n = strlen(bad[i]);
+        memcpy(buf, bad[i], n);
+        memset(buf + n, '\n', PAD);
+        char dec = '.';
+        assert_null(el_number_scan_row(buf, buf + n + PAD, 3, ',', &dec, dst, 1));
+    }
+}
+
+int main(void)
+{
+    const struct CMUnitTest tests[] = {
+        cmocka_unit_test(test_edge_cells_match_strtod),
+        cmocka_unit_test(test_decimal_comma_cells),
+        cmocka_unit_test(test_scan_stops_like_strtod),
+        cmocka_unit_test(test_random_digit_strings),
+        cmocka_unit_test(test_random_printed_values),
+        cmocka_unit_test(test_scan_row),
+    };
+    return cmocka_run_group_tests(tests, NULL, NULL);
+}
