@@ -698,9 +698,28 @@ static el_status fit_halves(el_assess_plan *ap, const el_assess_options *opt,
 
 /* The split-half check (el_split_check in el_assess.h). Needs the
  * bootstrap (its spread is the yardstick) and inputs cut the same way. */
+static el_status split_halves(el_assess_plan *ap, const el_assess_options *opt,
+                              const el_fit_options *window_fit, el_assessment *r,
+                              el_error *err);
+
+/* The split-half check; a single window's copy of its halves is freed
+ * when it is done. */
 static el_status split_check(el_assess_plan *ap, const el_assess_options *opt,
                              const el_fit_options *window_fit, el_assessment *r,
                              el_error *err)
+{
+    el_status st = split_halves(ap, opt, window_fit, r, err);
+    if (ap->one_shot) {
+        free(ap->half_values);
+        ap->half_values = NULL;
+        ap->half_capacity = 0;
+    }
+    return st;
+}
+
+static el_status split_halves(el_assess_plan *ap, const el_assess_options *opt,
+                              const el_fit_options *window_fit, el_assessment *r,
+                              el_error *err)
 {
     el_split_check *sc = &r->split;
     const el_series *s = &r->series;
