@@ -34,6 +34,9 @@ struct el_assess_plan {
     size_t validation_channels, validation_lags, validation_samples;
     double *half_values;          /* the split-half check's copy of one half */
     size_t half_capacity;         /* doubles in half_values */
+    int one_shot;                 /* 1: one window only (el_assess_analyse): each
+                                     stage's workspace is freed when the stage is
+                                     done, so the stages' memory does not add up */
 };
 
 void el_assess_defaults(el_assess_options *opt)
@@ -319,6 +322,8 @@ static el_status detect_regime(el_assess_plan *ap, const el_assess_options *opt,
     r->parts_borrowed = 1;
     if (st == EL_OK)
         st = el_regime_run(r->regime, &r->series, &ro, &r->warnings, err);
+    if (ap->one_shot)
+        el_regime_release_work(r->regime);
     return st;
 }
 
@@ -693,9 +698,28 @@ static el_status fit_halves(el_assess_plan *ap, const el_assess_options *opt,
 
 /* The split-half check (el_split_check in el_assess.h). Needs the
  * bootstrap (its spread is the yardstick) and inputs cut the same way. */
+static el_status split_halves(el_assess_plan *ap, const el_assess_options *opt,
+                              const el_fit_options *window_fit, el_assessment *r,
+                              el_error *err);
+
+/* The split-half check; a single window's copy of its halves is freed
+ * when it is done. */
 static el_status split_check(el_assess_plan *ap, const el_assess_options *opt,
                              const el_fit_options *window_fit, el_assessment *r,
                              el_error *err)
+{
+    el_status st = split_halves(ap, opt, window_fit, r, err);
+    if (ap->one_shot) {
+        free(ap->half_values);
+        ap->half_values = NULL;
+        ap->half_capacity = 0;
+    }
+    return st;
+}
+
+static el_status split_halves(el_assess_plan *ap, const el_assess_options *opt,
+                              const el_fit_options *window_fit, el_assessment *r,
+                              el_error *err)
 {
     el_split_check *sc = &r->split;
     const el_series *s = &r->series;
@@ -838,6 +862,10 @@ el_status el_assess_run(const el_assess_options *opt, el_assessment *r,
                         el_error *err)
 {
     el_status st = el_assess_load(opt, r, err);
+    /* The series holds what the analysis reads: the rows are not kept
+     * through the fit (the reports use the table's description only). */
+    if (st == EL_OK)
+        el_table_release_rows(&r->table);
     if (st == EL_OK)
         st = el_assess_analyse(opt, r, err);
     return st;
@@ -957,6 +985,10 @@ static el_status plan_fit(el_assess_plan *ap, const el_series *s,
     st = el_fit_plan_execute_inputs(slot->plan, s, fit->inputs, model, warnings, err);
     if (st != EL_OK)
         el_model_free(model);
+    if (ap->one_shot) {
+        el_fit_plan_destroy(slot->plan);
+        slot->plan = NULL;
+    }
     return st;
 }
 
@@ -967,8 +999,10 @@ el_status el_assess_analyse(const el_assess_options *opt, el_assessment *r,
     el_status st = el_assess_plan_create(r->series.n_samples, r->series.n_channels,
                                          r->has_inputs ? r->inputs.n_channels : 0, &ap,
                                          err);
-    if (st == EL_OK)
+    if (st == EL_OK) {
+        ap->one_shot = 1;
         st = el_assess_execute(ap, opt, r, err);
+    }
     /* The result keeps what the plan lent it. */
     if (ap != NULL && r->parts_borrowed) {
         if (r->regime == ap->regime)

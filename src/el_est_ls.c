@@ -155,22 +155,24 @@ const el_boot_provider *el_boot_provider_ls(void)
 /* ------------------------------------------------------------------ */
 /* The fit. */
 
-/* Workspace of the input regression (with inputs only). */
+/* Workspace of the input regression (with inputs only): small, d + nu
+ * rows, because the regression runs on the snapshots' triangular factor
+ * (el_fit_plan: [X' U' Y'] = Q R), never on the window's rows. */
 typedef struct {
-    double *uperp;     /* n_pairs x n_inputs: uc minus its part in span(V_r) */
-    double *ybuf;      /* n_pairs x d: right-hand sides of the input regression */
+    double *uperp;     /* (d + nu) x nu: Uc minus its part in span(V_r), in Q's basis */
+    double *ybuf;      /* (d + nu) x d: Y' in Q's basis, then Y' - Uc B_s' projected */
     double *gels_work;
     lapack_int gels_lwork;
 } ls_state;
 
 
 /* Workspace of dgels for the input regression (ls with inputs). */
-static el_status query_gels_work(lapack_int p, lapack_int nu, lapack_int d,
+static el_status query_gels_work(lapack_int rows, lapack_int nu, lapack_int d,
                                  lapack_int *lwork, el_error *err)
 {
     double q = 0.0, dummy = 0.0;
-    lapack_int info = LAPACKE_dgels_work(LAPACK_COL_MAJOR, 'N', p, nu, d, &dummy, p,
-                                         &dummy, p, &q, -1);
+    lapack_int info = LAPACKE_dgels_work(LAPACK_COL_MAJOR, 'N', rows, nu, d, &dummy, rows,
+                                         &dummy, rows, &q, -1);
     if (info != 0)
         return el_error_set(err, EL_ERR_INTERNAL,
                             "dgels workspace query failed (info %d)", (int)info);
@@ -193,12 +195,13 @@ static el_status ls_plan_create(const el_fit_options *opt, size_t n_samples,
                                 size_t n_channels, size_t n_inputs, void **state,
                                 el_error *err)
 {
+    (void)n_samples;
     *state = NULL;
     if (n_inputs == 0)
         return EL_OK;
-    size_t d = n_channels * (opt->lags + 1), p = n_samples - opt->lags - 1;
+    size_t d = n_channels * (opt->lags + 1), rows = d + n_inputs;
     lapack_int gels_lwork = 0;
-    el_status st = query_gels_work((lapack_int)p, (lapack_int)n_inputs, (lapack_int)d,
+    el_status st = query_gels_work((lapack_int)rows, (lapack_int)n_inputs, (lapack_int)d,
                                    &gels_lwork, err);
     if (st != EL_OK)
         return st;
@@ -206,29 +209,29 @@ static el_status ls_plan_create(const el_fit_options *opt, size_t n_samples,
     if (ls == NULL)
         return el_error_set(err, EL_ERR_NOMEM, "out of memory");
     ls->gels_lwork = gels_lwork;
-    ls->uperp = malloc(p * n_inputs * sizeof(double));
-    ls->ybuf = malloc(p * d * sizeof(double));
+    ls->uperp = malloc(rows * n_inputs * sizeof(double));
+    ls->ybuf = malloc(rows * d * sizeof(double));
     ls->gels_work = malloc((size_t)gels_lwork * sizeof(double));
     if (!ls->uperp || !ls->ybuf || !ls->gels_work) {
         ls_plan_destroy(ls);
-        return el_error_set(err, EL_ERR_NOMEM,
-                            "out of memory for a fit of %zu pairs x %zu states", p, d);
+        return el_error_set(err, EL_ERR_NOMEM, "out of memory");
     }
     *state = ls;
     return EL_OK;
 }
 
 
-/* Exact DMD (Tu et al. 2014) on the centred scaled snapshots, with yt the
- * responses (p x d, transposed: plan->ytc, or Y - B_s U with inputs):
- * lift = Yc V_r S_r^-1, a_reduced = U_r' lift, Ad_s = lift U_r',
- * c_s = mean(Y) - Ad_s mean(X). */
-static void exact_dmd(el_fit_plan *plan, el_model *m, const double *yt)
+/* Exact DMD (Tu et al. 2014) on the centred scaled snapshots: lift = Yc
+ * V_r S_r^-1, a_reduced = U_r' lift, Ad_s = lift U_r', c_s = mean(Y) -
+ * Ad_s mean(X). The right singular vectors of X are V = Q_x svd_ur
+ * (el_fit_plan), so Yc V_r = M' svd_ur_r with M = Q_x' Y' (d x d, leading
+ * dimension ldm): the block R_xy of the factor, or R_xy - R_xu B_s' with
+ * inputs. */
+static void exact_dmd(el_fit_plan *plan, el_model *m, const double *mq, int ldm)
 {
-    int p = (int)plan->n_pairs, d = (int)plan->state_dim, r = (int)m->rank;
-    /* Yc V_r = (Y')' V_r: d x r. */
-    cblas_dgemm(CblasColMajor, CblasTrans, CblasNoTrans, d, r, p, 1.0, yt, p,
-                plan->svd_u, p, 0.0, plan->yv, d);
+    int d = (int)plan->state_dim, r = (int)m->rank;
+    cblas_dgemm(CblasColMajor, CblasTrans, CblasNoTrans, d, r, d, 1.0, mq, ldm,
+                plan->svd_ur, d, 0.0, plan->yv, d);
     for (int q = 0; q < r; q++) {
         double inv = 1.0 / m->singular_values[q];
         for (int i = 0; i < d; i++) {
@@ -251,29 +254,38 @@ static void exact_dmd(el_fit_plan *plan, el_model *m, const double *yt)
  * Y' = V_r G1 + Uc B_s' + residual, solved as two orthogonal steps (V_r is
  * orthonormal): B_s' = Uperp^+ Y' with Uperp = Uc - V_r V_r' Uc (Householder
  * QR, dgels), then G1 = V_r' (Y' - Uc B_s'); lift = G1' S_r^-1. Without
- * truncation this is the least-squares [Ad B] of Y on [X; U]. */
+ * truncation this is the least-squares [Ad B] of Y on [X; U]. With the
+ * factor [X' U' Y'] = [Q_x Q_u Q_y] R the whole regression lives in the
+ * orthonormal basis: Uc = Q_x R_xu + Q_u R_uu, Y' = Q_x R_xy + Q_u R_uy +
+ * Q_y R_yy, V_r = Q_x svd_ur_r; Uperp has no Q_y part, so the rows of R_yy
+ * drop out of the least-squares problem and it has d + nu rows. */
 static el_status exact_dmd_inputs(el_fit_plan *plan, ls_state *ls, el_model *m,
                                   el_error *err)
 {
-    int p = (int)plan->n_pairs, d = (int)plan->state_dim, r = (int)m->rank;
-    int nu = (int)plan->n_inputs;
-    /* uperp = uc - V_r (V_r' uc); bred (r x nu) holds V_r' uc for now. */
-    memcpy(ls->uperp, plan->uc, (size_t)p * (size_t)nu * sizeof(double));
-    cblas_dgemm(CblasColMajor, CblasTrans, CblasNoTrans, r, nu, p, 1.0, plan->svd_u, p,
-                plan->uc, p, 0.0, plan->bred, r);
-    cblas_dgemm(CblasColMajor, CblasNoTrans, CblasNoTrans, p, nu, r, -1.0, plan->svd_u,
-                p, plan->bred, r, 1.0, ls->uperp, p);
-    memcpy(ls->ybuf, plan->ytc, (size_t)p * (size_t)d * sizeof(double));
-    lapack_int info = LAPACKE_dgels_work(LAPACK_COL_MAJOR, 'N', p, nu, d, ls->uperp, p,
-                                         ls->ybuf, p, ls->gels_work,
+    int d = (int)plan->state_dim, r = (int)m->rank, nu = (int)plan->n_inputs;
+    int g = (int)plan->rcols, rows = d + nu;
+    const double *rxu = plan->rfac + (size_t)g * d, *rxy = plan->rfac + (size_t)g * (d + nu);
+    /* bred (r x nu) holds V_r' Uc = svd_ur_r' R_xu for now. */
+    cblas_dgemm(CblasColMajor, CblasTrans, CblasNoTrans, r, nu, d, 1.0, plan->svd_ur, d,
+                rxu, g, 0.0, plan->bred, r);
+    for (int j = 0; j < nu; j++) {
+        memcpy(ls->uperp + (size_t)rows * j, rxu + (size_t)g * j, (size_t)rows * sizeof(double));
+    }
+    cblas_dgemm(CblasColMajor, CblasNoTrans, CblasNoTrans, d, nu, r, -1.0, plan->svd_ur,
+                d, plan->bred, r, 1.0, ls->uperp, rows);
+    for (int i = 0; i < d; i++)
+        memcpy(ls->ybuf + (size_t)rows * i, rxy + (size_t)g * i, (size_t)rows * sizeof(double));
+    lapack_int info = LAPACKE_dgels_work(LAPACK_COL_MAJOR, 'N', rows, nu, d, ls->uperp,
+                                         rows, ls->ybuf, rows, ls->gels_work,
                                          ls->gels_lwork);
     int collinear = info > 0;
     /* R of the QR of Uperp sits in its upper triangle: a diagonal at
-     * 1e-10 of the input's own spread means that input is (nearly) a
-     * combination of the state and the other inputs. */
+     * 1e-10 of the input's own spread (the norm of its column of the
+     * factor, = ||Uc_j||) means that input is (nearly) a combination of
+     * the state and the other inputs. */
     for (int j = 0; j < nu && !collinear; j++) {
-        double ref = cblas_dnrm2(p, plan->uc + (size_t)p * j, 1);
-        if (!(fabs(ls->uperp[j + (size_t)p * j]) > 1e-10 * ref))
+        double ref = cblas_dnrm2(rows, rxu + (size_t)g * j, 1);
+        if (!(fabs(ls->uperp[j + (size_t)rows * j]) > 1e-10 * ref))
             collinear = 1;
     }
     if (info < 0)
@@ -292,12 +304,13 @@ static el_status exact_dmd_inputs(el_fit_plan *plan, ls_state *ls, el_model *m,
     /* ybuf rows 0..nu-1 hold B_s' (nu x d). */
     for (int j = 0; j < nu; j++)
         for (int i = 0; i < d; i++)
-            m->input_b_scaled[i + (size_t)d * j] = ls->ybuf[j + (size_t)p * i];
-    /* Y' - Uc B_s' into ybuf, then yv = (Y - B_s Uc) V_r. */
-    memcpy(ls->ybuf, plan->ytc, (size_t)p * (size_t)d * sizeof(double));
-    cblas_dgemm(CblasColMajor, CblasNoTrans, CblasTrans, p, d, nu, -1.0, plan->uc, p,
-                m->input_b_scaled, d, 1.0, ls->ybuf, p);
-    exact_dmd(plan, m, ls->ybuf);
+            m->input_b_scaled[i + (size_t)d * j] = ls->ybuf[j + (size_t)rows * i];
+    /* Q_x' (Y' - Uc B_s') = R_xy - R_xu B_s' into ybuf (d x d). */
+    for (int i = 0; i < d; i++)
+        memcpy(ls->ybuf + (size_t)d * i, rxy + (size_t)g * i, (size_t)d * sizeof(double));
+    cblas_dgemm(CblasColMajor, CblasNoTrans, CblasTrans, d, d, nu, -1.0, rxu, g,
+                m->input_b_scaled, d, 1.0, ls->ybuf, d);
+    exact_dmd(plan, m, ls->ybuf, d);
     cblas_dgemv(CblasColMajor, CblasNoTrans, d, nu, -1.0, m->input_b_scaled, d,
                 plan->umean, 1, 1.0, m->offset_scaled, 1);
     return EL_OK;
@@ -314,9 +327,8 @@ static el_status ls_fit(el_fit_plan *plan, const el_series *series,
         return st;
     if (plan->n_inputs > 0)
         return exact_dmd_inputs(plan, plan->est, model, err);
-    exact_dmd(plan, model, plan->ytc);
-    /* The residuals are Yc (I - V_r V_r'): the fit reads them through yv. */
-    plan->lift_residuals = 1;
+    exact_dmd(plan, model, plan->rfac + plan->rcols * plan->state_dim,
+              (int)plan->rcols);
     return EL_OK;
 }
 

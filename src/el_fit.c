@@ -110,30 +110,44 @@ static el_status check_options(size_t n_samples, size_t n_channels,
     return EL_OK;
 }
 
+/* Rows of snapshots built and reduced at a time: large enough that the
+ * QR of a chunk stacked under the previous factor runs at matrix speed,
+ * small enough that a chunk of [X' U' Y'] stays in the cache (4096 rows x
+ * 32 columns x 8 bytes = 1 MiB). Results do not depend on it but for
+ * rounding. */
+#define FIT_CHUNK_ROWS 4096
+
 /* Largest workspace of the SVD drivers (dgesdd first, dgesvd as fallback)
- * for an n_pairs x d matrix, by LAPACK's own query (lwork = -1). */
-static el_status query_svd_work(lapack_int p, lapack_int d, lapack_int *lwork,
-                                el_error *err)
+ * for the d x d factor, and of dgeqrf for a stacked chunk, by LAPACK's own
+ * query (lwork = -1). */
+static el_status query_work(lapack_int d, lapack_int qr_rows, lapack_int qr_cols,
+                            lapack_int *lwork, lapack_int *qr_lwork, el_error *err)
 {
-    double q1 = 0.0, q2 = 0.0, dummy = 0.0;
+    double q1 = 0.0, q2 = 0.0, q3 = 0.0, dummy = 0.0;
     lapack_int idummy = 0;
-    lapack_int info = LAPACKE_dgesdd_work(LAPACK_COL_MAJOR, 'S', p, d, &dummy, p,
-                                          &dummy, &dummy, p, &dummy, d, &q1, -1,
+    lapack_int info = LAPACKE_dgesdd_work(LAPACK_COL_MAJOR, 'S', d, d, &dummy, d,
+                                          &dummy, &dummy, d, &dummy, d, &q1, -1,
                                           &idummy);
     if (info != 0)
         return el_error_set(err, EL_ERR_INTERNAL,
                             "dgesdd workspace query failed (info %d)", (int)info);
-    info = LAPACKE_dgesvd_work(LAPACK_COL_MAJOR, 'S', 'S', p, d, &dummy, p, &dummy,
-                               &dummy, p, &dummy, d, &q2, -1);
+    info = LAPACKE_dgesvd_work(LAPACK_COL_MAJOR, 'S', 'S', d, d, &dummy, d, &dummy,
+                               &dummy, d, &dummy, d, &q2, -1);
     if (info != 0)
         return el_error_set(err, EL_ERR_INTERNAL,
                             "dgesvd workspace query failed (info %d)", (int)info);
+    info = LAPACKE_dgeqrf_work(LAPACK_COL_MAJOR, qr_rows, qr_cols, &dummy, qr_rows,
+                               &dummy, &q3, -1);
+    if (info != 0)
+        return el_error_set(err, EL_ERR_INTERNAL,
+                            "dgeqrf workspace query failed (info %d)", (int)info);
     double q = q1 > q2 ? q1 : q2;
-    if (!(q < (double)INT_MAX))
+    if (!(q < (double)INT_MAX) || !(q3 < (double)INT_MAX))
         return el_error_set(err, EL_ERR_DATA, "the SVD workspace is too large");
     /* The query answers in a double; round up so a value like 1e5-eps
      * cannot lose one element. */
     *lwork = (lapack_int)ceil(q) + 1;
+    *qr_lwork = (lapack_int)ceil(q3) + 1;
     return EL_OK;
 }
 
@@ -141,12 +155,16 @@ void el_fit_plan_destroy(el_fit_plan *plan)
 {
     if (plan == NULL)
         return;
-    free(plan->xt);
-    free(plan->ytc);
-    free(plan->svd_u);
+    free(plan->rfac);
     free(plan->svd_vt);
+    free(plan->svd_ur);
     free(plan->yv);
-    free(plan->resid);
+    free(plan->qr_buf);
+    free(plan->qr_tau);
+    free(plan->qr_work);
+    free(plan->chunk);
+    free(plan->chunk_res);
+    free(plan->stats);
     free(plan->xmean);
     free(plan->ymean);
     free(plan->lu);
@@ -155,12 +173,46 @@ void el_fit_plan_destroy(el_fit_plan *plan)
     free(plan->ipiv);
     free(plan->iwork);
     free(plan->work);
-    free(plan->uc);
     free(plan->umean);
     free(plan->bred);
     if (plan->type != NULL)
         plan->type->plan_destroy(plan->est);
     free(plan);
+}
+
+/* The workspace arrays (sizes set in plan); 0 when one is missing. */
+static int plan_alloc(el_fit_plan *plan)
+{
+    size_t d = plan->state_dim, nu = plan->n_inputs, g = plan->rcols;
+    size_t c = plan->chunk_rows, nc = plan->n_channels;
+    plan->rfac = calloc(g * g, sizeof(double));
+    plan->svd_vt = malloc(d * d * sizeof(double));
+    plan->svd_ur = malloc(d * d * sizeof(double));
+    plan->yv = malloc(d * d * sizeof(double));
+    plan->qr_buf = malloc((g + c) * g * sizeof(double));
+    plan->qr_tau = malloc(g * sizeof(double));
+    plan->qr_work = malloc((size_t)plan->qr_lwork * sizeof(double));
+    plan->chunk = malloc(c * (2 * d + nu) * sizeof(double));
+    plan->chunk_res = malloc(c * nc * sizeof(double));
+    plan->stats = malloc(3 * nc * sizeof(double));
+    plan->xmean = malloc(d * sizeof(double));
+    plan->ymean = malloc(d * sizeof(double));
+    plan->lu = malloc(d * d * sizeof(double));
+    plan->rhs = malloc(d * sizeof(double));
+    plan->con_work = malloc(4 * d * sizeof(double));
+    plan->ipiv = malloc(d * sizeof(lapack_int));
+    plan->iwork = malloc(8 * d * sizeof(lapack_int));
+    plan->work = malloc((size_t)plan->lwork * sizeof(double));
+    int ok = plan->rfac && plan->svd_vt && plan->svd_ur && plan->yv && plan->qr_buf &&
+             plan->qr_tau && plan->qr_work && plan->chunk && plan->chunk_res && plan->stats &&
+             plan->xmean && plan->ymean && plan->lu && plan->rhs && plan->con_work &&
+             plan->ipiv && plan->iwork && plan->work;
+    if (nu > 0) {
+        plan->umean = malloc(nu * sizeof(double));
+        plan->bred = malloc(d * nu * sizeof(double));
+        ok = ok && plan->umean && plan->bred;
+    }
+    return ok;
 }
 
 el_status el_fit_plan_create(size_t n_samples, size_t n_channels,
@@ -181,8 +233,12 @@ el_status el_fit_plan_create(size_t n_samples, size_t n_channels,
     size_t d = n_channels * (opt->lags + 1);
     size_t p = n_samples - opt->lags - 1;
     size_t nu = opt->inputs != NULL ? opt->inputs->n_channels : 0;
-    lapack_int lwork = 0;
-    st = query_svd_work((lapack_int)p, (lapack_int)d, &lwork, err);
+    /* Least squares regresses Y on [X; U]: its factor carries them too. */
+    size_t g = opt->method == EL_METHOD_LS ? 2 * d + nu : d;
+    size_t c = p < FIT_CHUNK_ROWS ? p : FIT_CHUNK_ROWS;
+    lapack_int lwork = 0, qr_lwork = 0;
+    st = query_work((lapack_int)d, (lapack_int)(g + c), (lapack_int)g, &lwork, &qr_lwork,
+                    err);
     if (st != EL_OK)
         return st;
     const el_estimator_type *type = el_estimator_for(opt->method);
@@ -207,30 +263,10 @@ el_status el_fit_plan_create(size_t n_samples, size_t n_channels,
     plan->rank_opt = opt->rank;
     plan->method = opt->method;
     plan->lwork = lwork;
-    plan->xt = malloc(p * d * sizeof(double));
-    plan->ytc = malloc(p * d * sizeof(double));
-    plan->svd_u = malloc(p * d * sizeof(double));
-    plan->svd_vt = malloc(d * d * sizeof(double));
-    plan->yv = malloc(d * d * sizeof(double));
-    plan->resid = malloc(p * n_channels * sizeof(double));
-    plan->xmean = malloc(d * sizeof(double));
-    plan->ymean = malloc(d * sizeof(double));
-    plan->lu = malloc(d * d * sizeof(double));
-    plan->rhs = malloc(d * sizeof(double));
-    plan->con_work = malloc(4 * d * sizeof(double));
-    plan->ipiv = malloc(d * sizeof(lapack_int));
-    plan->iwork = malloc(8 * d * sizeof(lapack_int));
-    plan->work = malloc((size_t)lwork * sizeof(double));
-    int ok = 1;
-    if (nu > 0) {
-        plan->uc = malloc(p * nu * sizeof(double));
-        plan->umean = malloc(nu * sizeof(double));
-        plan->bred = malloc(d * nu * sizeof(double));
-        ok = plan->uc && plan->umean && plan->bred;
-    }
-    if (!ok || !plan->xt || !plan->ytc || !plan->svd_u || !plan->svd_vt || !plan->yv ||
-        !plan->resid || !plan->xmean || !plan->ymean || !plan->lu || !plan->rhs ||
-        !plan->con_work || !plan->ipiv || !plan->iwork || !plan->work) {
+    plan->qr_lwork = qr_lwork;
+    plan->rcols = g;
+    plan->chunk_rows = c;
+    if (!plan_alloc(plan)) {
         el_fit_plan_destroy(plan);
         return el_error_set(err, EL_ERR_NOMEM,
                             "out of memory for a fit of %zu pairs x %zu states", p, d);
@@ -327,55 +363,124 @@ static el_status channel_scaling(const el_series *s, el_model *m, el_error *err)
     return series_scaling(s, m->channel_mean, m->channel_scale, "channel", err);
 }
 
-/* Fills plan->xt and plan->ytc with the centred, scaled X' and Y' (pairs
- * in rows, states in columns: every column is a contiguous stretch of one
- * channel, so the lag embedding is a strided copy) and their means. */
-static void build_snapshots(el_fit_plan *plan, const el_series *s,
-                            const el_model *m)
+/* Mean over the pairs of one scaled column, x[k0 + q] for q < p, summed
+ * in order (the snapshots are centred by it). */
+static double scaled_mean(const double *x, size_t p, double mean, double inv)
+{
+    double acc = 0.0;
+    for (size_t q = 0; q < p; q++)
+        acc += (x[q] - mean) * inv;
+    return acc / (double)p;
+}
+
+/* Means of the centred, scaled X', Y' (and of the inputs) over the pairs,
+ * one pass per column: every column is a contiguous stretch of one
+ * channel, so the lag embedding is an offset. */
+static void snapshot_means(el_fit_plan *plan, const el_series *s, const el_series *u,
+                           const el_model *m)
 {
     size_t n = plan->n_samples, p = plan->n_pairs, nc = plan->n_channels;
     size_t k0 = plan->lags;
-    for (size_t j = 0; j <= plan->lags; j++) {
+    for (size_t j = 0; j <= plan->lags; j++)
         for (size_t c = 0; c < nc; c++) {
             size_t i = j * nc + c;
             const double *x = s->values + c * n;
             double mean = m->channel_mean[c], inv = 1.0 / m->channel_scale[c];
-            double *xcol = plan->xt + i * p, *ycol = plan->ytc + i * p;
-            double xs = 0.0, ys = 0.0;
-            for (size_t q = 0; q < p; q++) {
-                xcol[q] = (x[k0 - j + q] - mean) * inv;
-                ycol[q] = (x[k0 + 1 - j + q] - mean) * inv;
-                xs += xcol[q];
-                ys += ycol[q];
-            }
-            xs /= (double)p;
-            ys /= (double)p;
-            for (size_t q = 0; q < p; q++) {
-                xcol[q] -= xs;
-                ycol[q] -= ys;
-            }
-            plan->xmean[i] = xs;
-            plan->ymean[i] = ys;
+            plan->xmean[i] = scaled_mean(x + k0 - j, p, mean, inv);
+            plan->ymean[i] = scaled_mean(x + k0 + 1 - j, p, mean, inv);
         }
+    for (size_t j = 0; j < plan->n_inputs; j++)
+        plan->umean[j] = scaled_mean(u->values + j * n + k0, p, m->input_mean[j],
+                                     1.0 / m->input_scale[j]);
+}
+
+/* Rows q0 .. q0 + rows - 1 of the centred scaled snapshots [X' U' Y']
+ * (columns 0..d-1 X', then the inputs, then Y'; only the first cols
+ * columns) into out, column-major with leading dimension ld. */
+static void fill_chunk(const el_fit_plan *plan, const el_series *s, const el_series *u,
+                       const el_model *m, size_t q0, size_t rows, size_t cols,
+                       double *out, size_t ld)
+{
+    size_t n = plan->n_samples, nc = plan->n_channels, d = plan->state_dim;
+    size_t nu = plan->n_inputs, k0 = plan->lags;
+    for (size_t col = 0; col < cols; col++) {
+        const double *x;
+        double mean, inv, centre;
+        if (col < d || col >= d + nu) {
+            int is_y = col >= d + nu;
+            size_t i = is_y ? col - d - nu : col, j = i / nc, c = i % nc;
+            x = s->values + c * n + k0 - j + (is_y ? 1 : 0) + q0;
+            mean = m->channel_mean[c];
+            inv = 1.0 / m->channel_scale[c];
+            centre = is_y ? plan->ymean[i] : plan->xmean[i];
+        } else {
+            size_t j = col - d;
+            x = u->values + j * n + k0 + q0;
+            mean = m->input_mean[j];
+            inv = 1.0 / m->input_scale[j];
+            centre = plan->umean[j];
+        }
+        double *o = out + col * ld;
+        for (size_t q = 0; q < rows; q++)
+            o[q] = (x[q] - mean) * inv - centre;
     }
 }
 
-/* Thin SVD X' = svd_u diag(sv) svd_vt. dgesdd is the fast driver; in the
- * rare case its divide and conquer does not converge, the QR-iteration
- * driver dgesvd gets a rebuilt copy (both are backward stable). */
-static el_status thin_svd(el_fit_plan *plan, const el_series *s, el_model *m,
-                          el_error *err)
+/* The triangular factor of the snapshots, chunk by chunk (a tall-skinny
+ * QR: the factor so far stacked over the next chunk of rows is factored
+ * again by Householder QR, dgeqrf; Demmel et al. 2012, "Communication-
+ * optimal parallel and sequential QR and LU factorizations", SIAM J. Sci.
+ * Comput. 34(1)). An orthogonal method throughout: X' is never squared
+ * into a Gram matrix. */
+static el_status chunked_qr(el_fit_plan *plan, const el_series *s, const el_series *u,
+                            const el_model *m, el_error *err)
 {
-    lapack_int p = (lapack_int)plan->n_pairs, d = (lapack_int)plan->state_dim;
-    lapack_int info = LAPACKE_dgesdd_work(LAPACK_COL_MAJOR, 'S', p, d, plan->xt, p,
-                                          m->singular_values, plan->svd_u, p,
-                                          plan->svd_vt, d, plan->work, plan->lwork,
+    size_t g = plan->rcols, p = plan->n_pairs, cr = plan->chunk_rows;
+    size_t ld = g + cr, top = 0;
+    double *buf = plan->qr_buf, *r = plan->rfac;
+    for (size_t q0 = 0; q0 < p; q0 += cr) {
+        size_t rows = p - q0 < cr ? p - q0 : cr;
+        /* The factor so far (upper triangle, zeros below) on top. */
+        for (size_t j = 0; j < g && top > 0; j++)
+            memcpy(buf + j * ld, r + j * g, g * sizeof(double));
+        fill_chunk(plan, s, u, m, q0, rows, g, buf + top, ld);
+        size_t mrows = top + rows;
+        lapack_int info = LAPACKE_dgeqrf_work(LAPACK_COL_MAJOR, (lapack_int)mrows,
+                                              (lapack_int)g, buf, (lapack_int)ld,
+                                              plan->qr_tau, plan->qr_work,
+                                              plan->qr_lwork);
+        if (info != 0)
+            return el_error_set(err, EL_ERR_INTERNAL, "dgeqrf failed (info %d)",
+                                (int)info);
+        for (size_t j = 0; j < g; j++)
+            for (size_t i = 0; i < g; i++)
+                r[i + j * g] = i <= j && i < mrows ? buf[i + j * ld] : 0.0;
+        top = g;
+    }
+    return EL_OK;
+}
+
+/* Singular values and vectors of X' from its factor: X' = Q_x R_x and
+ * R_x = svd_ur diag(sv) svd_vt. dgesdd is the fast driver; in the rare
+ * case its divide and conquer does not converge, the QR-iteration driver
+ * dgesvd gets a fresh copy (both are backward stable). */
+static el_status factor_svd(el_fit_plan *plan, el_model *m, el_error *err)
+{
+    size_t d = plan->state_dim, g = plan->rcols;
+    lapack_int di = (lapack_int)d;
+    double *a = plan->lu;   /* d x d scratch until the operating point */
+    for (size_t j = 0; j < d; j++)
+        memcpy(a + j * d, plan->rfac + j * g, d * sizeof(double));
+    lapack_int info = LAPACKE_dgesdd_work(LAPACK_COL_MAJOR, 'S', di, di, a, di,
+                                          m->singular_values, plan->svd_ur, di,
+                                          plan->svd_vt, di, plan->work, plan->lwork,
                                           plan->iwork);
     if (info > 0) {
-        build_snapshots(plan, s, m);
-        info = LAPACKE_dgesvd_work(LAPACK_COL_MAJOR, 'S', 'S', p, d, plan->xt, p,
-                                   m->singular_values, plan->svd_u, p, plan->svd_vt,
-                                   d, plan->work, plan->lwork);
+        for (size_t j = 0; j < d; j++)
+            memcpy(a + j * d, plan->rfac + j * g, d * sizeof(double));
+        info = LAPACKE_dgesvd_work(LAPACK_COL_MAJOR, 'S', 'S', di, di, a, di,
+                                   m->singular_values, plan->svd_ur, di, plan->svd_vt,
+                                   di, plan->work, plan->lwork);
     }
     if (info < 0)
         return el_error_set(err, EL_ERR_INTERNAL, "SVD called wrongly (info %d)",
@@ -390,26 +495,13 @@ static el_status thin_svd(el_fit_plan *plan, const el_series *s, el_model *m,
     return EL_OK;
 }
 
-
-/* Scaled inputs over the pairs (u[k], k = K..N-2, the sample of X),
- * centred by their means; model->input_mean/scale set first. */
-static void build_input_snapshots(el_fit_plan *plan, const el_series *u,
-                                  const el_model *m)
+/* The snapshots' means, factor and singular value decomposition. */
+static el_status snapshot_svd(el_fit_plan *plan, const el_series *s, const el_series *u,
+                              el_model *m, el_error *err)
 {
-    size_t n = plan->n_samples, p = plan->n_pairs;
-    for (size_t j = 0; j < plan->n_inputs; j++) {
-        const double *x = u->values + j * n;
-        double mean = m->input_mean[j], inv = 1.0 / m->input_scale[j];
-        double *col = plan->uc + j * p, acc = 0.0;
-        for (size_t q = 0; q < p; q++) {
-            col[q] = (x[plan->lags + q] - mean) * inv;
-            acc += col[q];
-        }
-        acc /= (double)p;
-        for (size_t q = 0; q < p; q++)
-            col[q] -= acc;
-        plan->umean[j] = acc;
-    }
+    snapshot_means(plan, s, u, m);
+    el_status st = chunked_qr(plan, s, u, m, err);
+    return st != EL_OK ? st : factor_svd(plan, m, err);
 }
 
 /* Physical units: z = m + D s with D = diag(scale) per lag block and the
@@ -494,66 +586,57 @@ static el_status operating_point(el_fit_plan *plan, el_model *m, el_warnings *w,
     return EL_OK;
 }
 
-/* One-step residuals of the lag-0 rows: Yc - Ad_s Xc = Yc (I - V_r V_r'),
- * because U_r' Xc = S_r V_r'; no copy of X needs to survive the SVD. */
-static void residual_statistics(el_fit_plan *plan, el_model *m);
-
-static void fit_statistics(el_fit_plan *plan, el_model *m)
+/* R^2 and residual RMS per channel of any model, streamed over chunks of
+ * the snapshots: the lag-0 residuals y - Ad_s x - B_s u - c_s, i.e.
+ * Yc - Ad_s Xc - B_s Uc + (mean(Y) - Ad_s mean(X) - B_s mean(U) - c_s),
+ * summed in pair order. */
+static void fit_statistics(el_fit_plan *plan, const el_series *s, const el_series *u,
+                           el_model *m)
 {
-    int p = (int)plan->n_pairs, d = (int)plan->state_dim;
-    int nc = (int)plan->n_channels, r = (int)m->rank;
-    memcpy(plan->resid, plan->ytc, (size_t)p * (size_t)nc * sizeof(double));
-    cblas_dgemm(CblasColMajor, CblasNoTrans, CblasTrans, p, nc, r, -1.0, plan->svd_u,
-                p, plan->yv, d, 1.0, plan->resid, p);
-    residual_statistics(plan, m);
-}
-
-/* The residuals of any model, from the snapshots themselves (rebuilt:
- * the SVD destroyed X): y - Ad_s x - B_s u - c_s on the lag-0 rows, i.e.
- * Yc - Ad_s Xc - B_s Uc + (mean(Y) - Ad_s mean(X) - B_s mean(U) - c_s). */
-static void direct_fit_statistics(el_fit_plan *plan, const el_series *s, el_model *m)
-{
-    int p = (int)plan->n_pairs, d = (int)plan->state_dim;
-    int nc = (int)plan->n_channels, nu = (int)plan->n_inputs;
-    build_snapshots(plan, s, m);
-    memcpy(plan->resid, plan->ytc, (size_t)p * (size_t)nc * sizeof(double));
-    cblas_dgemm(CblasColMajor, CblasNoTrans, CblasTrans, p, nc, d, -1.0, plan->xt, p,
-                m->ad_scaled, d, 1.0, plan->resid, p);
-    if (nu > 0)
-        cblas_dgemm(CblasColMajor, CblasNoTrans, CblasTrans, p, nc, nu, -1.0, plan->uc,
-                    p, m->input_b_scaled, d, 1.0, plan->resid, p);
+    int d = (int)plan->state_dim, nc = (int)plan->n_channels, nu = (int)plan->n_inputs;
+    size_t p = plan->n_pairs, cr = plan->chunk_rows, cols = 2 * (size_t)d + (size_t)nu;
+    double *ss_res = plan->stats, *ss_tot = ss_res + nc, *delta = ss_tot + nc;
     for (int c = 0; c < nc; c++) {
-        double delta = plan->ymean[c] - m->offset_scaled[c];
+        double v = plan->ymean[c] - m->offset_scaled[c];
         for (int k = 0; k < d; k++)
-            delta -= m->ad_scaled[c + (size_t)d * k] * plan->xmean[k];
+            v -= m->ad_scaled[c + (size_t)d * k] * plan->xmean[k];
         for (int j = 0; j < nu; j++)
-            delta -= m->input_b_scaled[c + (size_t)d * j] * plan->umean[j];
-        double *res = plan->resid + (size_t)p * c;
-        for (int q = 0; q < p; q++)
-            res[q] += delta;
+            v -= m->input_b_scaled[c + (size_t)d * j] * plan->umean[j];
+        delta[c] = v;
+        ss_res[c] = ss_tot[c] = 0.0;
     }
-    residual_statistics(plan, m);
-}
-
-/* R^2 and residual RMS per channel from plan->resid (lag-0 rows). */
-static void residual_statistics(el_fit_plan *plan, el_model *m)
-{
-    int p = (int)plan->n_pairs, nc = (int)plan->n_channels;
+    for (size_t q0 = 0; q0 < p; q0 += cr) {
+        int rows = (int)(p - q0 < cr ? p - q0 : cr);
+        double *x = plan->chunk, *uc = x + cr * (size_t)d, *y = uc + cr * (size_t)nu;
+        double *res = plan->chunk_res;
+        fill_chunk(plan, s, u, m, q0, (size_t)rows, cols, x, cr);
+        for (int c = 0; c < nc; c++)
+            memcpy(res + cr * (size_t)c, y + cr * (size_t)c, (size_t)rows * sizeof(double));
+        cblas_dgemm(CblasColMajor, CblasNoTrans, CblasTrans, rows, nc, d, -1.0, x,
+                    (int)cr, m->ad_scaled, d, 1.0, res, (int)cr);
+        if (nu > 0)
+            cblas_dgemm(CblasColMajor, CblasNoTrans, CblasTrans, rows, nc, nu, -1.0, uc,
+                        (int)cr, m->input_b_scaled, d, 1.0, res, (int)cr);
+        for (int c = 0; c < nc; c++) {
+            const double *rc = res + cr * (size_t)c, *yc = y + cr * (size_t)c;
+            double sr = ss_res[c], st = ss_tot[c];
+            for (int q = 0; q < rows; q++) {
+                double e = rc[q] + delta[c];
+                sr += e * e;
+                st += yc[q] * yc[q];
+            }
+            ss_res[c] = sr;
+            ss_tot[c] = st;
+        }
+    }
     double ss_res_all = 0.0, ss_tot_all = 0.0;
     for (int c = 0; c < nc; c++) {
-        const double *res = plan->resid + (size_t)p * c;
-        const double *y = plan->ytc + (size_t)p * c;
-        double ss_res = 0.0, ss_tot = 0.0;
-        for (int q = 0; q < p; q++) {
-            ss_res += res[q] * res[q];
-            ss_tot += y[q] * y[q];
-        }
-        ss_res_all += ss_res;
-        ss_tot_all += ss_tot;
+        ss_res_all += ss_res[c];
+        ss_tot_all += ss_tot[c];
         /* A channel flat over samples K+1..N-1 (it moved only before) has
          * no variance to explain: its R^2 does not exist. */
-        m->channel_r2[c] = ss_tot > 0.0 ? 1.0 - ss_res / ss_tot : NAN;
-        m->residual_rms[c] = m->channel_scale[c] * sqrt(ss_res / (double)p);
+        m->channel_r2[c] = ss_tot[c] > 0.0 ? 1.0 - ss_res[c] / ss_tot[c] : NAN;
+        m->residual_rms[c] = m->channel_scale[c] * sqrt(ss_res[c] / (double)p);
     }
     m->fit_r2 = ss_tot_all > 0.0 ? 1.0 - ss_res_all / ss_tot_all : NAN;
 }
@@ -590,7 +673,6 @@ static el_status fit_system(el_fit_plan *plan, const el_series *series,
                             const el_series *inputs, el_model *model,
                             el_warnings *warnings, el_error *err)
 {
-    plan->lift_residuals = 0;
     return plan->type->fit(plan, series, inputs, model, warnings, err);
 }
 
@@ -637,20 +719,15 @@ el_status el_fit_plan_execute_inputs(el_fit_plan *plan, const el_series *series,
         st = series_scaling(inputs, model->input_mean, model->input_scale, "input", err);
         if (st != EL_OK)
             return st;
-        build_input_snapshots(plan, inputs, model);
     }
-    build_snapshots(plan, series, model);
-    if ((st = thin_svd(plan, series, model, err)) != EL_OK)
+    if ((st = snapshot_svd(plan, series, inputs, model, err)) != EL_OK)
         return st;
     if ((st = fit_system(plan, series, inputs, model, warnings, err)) != EL_OK)
         return st;
     to_physical(model);
     if ((st = operating_point(plan, model, warnings, err)) != EL_OK)
         return st;
-    if (plan->lift_residuals)
-        fit_statistics(plan, model);
-    else
-        direct_fit_statistics(plan, series, model);
+    fit_statistics(plan, series, inputs, model);
     return warn_few_pairs(model, warnings, err);
 }
 

@@ -1,13 +1,18 @@
 /* el_ingest: streaming CSV reader (RFC 4180 quoting, header with units,
  * delimiter detection, number and ISO 8601 time cells) from a byte source
  * (el_source) into a table (el_table). */
+/* madvise and MADV_DONTNEED (Linux, BSD) are outside strict POSIX: ask
+ * glibc for them; used only when defined. */
+#define _DEFAULT_SOURCE 1
 #include "el_ingest.h"
 
 #include <errno.h>
 #include <math.h>
 #include <stdarg.h>
 #include <stdlib.h>
+#include <stdint.h>
 #include <string.h>
+#include <sys/mman.h>
 #include <unistd.h>
 
 #include "el_chunks.h"
@@ -91,6 +96,7 @@ typedef struct {
     int chunks_tried;         /* 1: the parallel read was considered */
     el_row_part chunks[MAX_CHUNKS]; /* parts 1..n_chunks-1 (part 0 is the table's) */
     size_t n_chunks, next_chunk;
+    size_t text_released;     /* bytes of the mapped text given back (release_text) */
 } ingest;
 
 enum { COL_UNKNOWN, COL_NUMBER, COL_TEXT };
@@ -1005,6 +1011,29 @@ static el_status read_in_parts(ingest *g)
     return run.status;
 }
 
+/* Gives the whole pages of the mapped text before buf + upto back to the
+ * page cache: text already turned into rows is not read again (and would
+ * be read back from the file if it were: the mapping is a read-only view
+ * of it), so the file does not count in the process's memory beside the
+ * rows it became while the later parts are copied in. Mapped files only;
+ * a no-op where MADV_DONTNEED is not defined. */
+static void release_text(ingest *g, size_t upto)
+{
+#if defined(MADV_DONTNEED)
+    long page = sysconf(_SC_PAGESIZE);
+    if (!g->rd.mapped || page <= 0)
+        return;
+    uintptr_t base = (uintptr_t)g->rd.buf, mask = (uintptr_t)page - 1;
+    uintptr_t a = (base + g->text_released + mask) & ~mask;
+    uintptr_t b = (base + upto) & ~mask;
+    if (b > a && madvise((void *)a, (size_t)(b - a), MADV_DONTNEED) == 0)
+        g->text_released = (size_t)(b - base);
+#else
+    (void)g;
+    (void)upto;
+#endif
+}
+
 /* Appends the parts the sequential reader has reached: a part is taken
  * when the reader stands exactly at its first byte (a record starts
  * there) and the state its rows were read with still holds; then its
@@ -1021,6 +1050,8 @@ static el_status take_chunks(ingest *g)
         if (at < k->begin)
             return EL_OK;
         if (at == k->begin && !k->failed && fast_rows_ok(g) && k->rows > 0) {
+            /* The reader never goes back before the part's end. */
+            release_text(g, (size_t)(k->stop - rd->buf));
             while (g->cap_rows - t->n_rows < k->rows) {
                 size_t had = t->n_rows;
                 t->n_rows = g->cap_rows; /* grow_rows grows a full block */

@@ -156,29 +156,39 @@ double el_fit_hard_threshold_omega(double beta);
 
 /* The workspace of a fit (el_fit_plan_create sizes it, el_fit_plan_execute
  * fills it window after window). Its fields are public for the estimators
- * (el_estimator.h): when an estimator's fit runs, xt holds nothing useful
- * (the SVD destroyed it), ytc the centred scaled Y', svd_u/svd_vt the thin
- * SVD of X', xmean/ymean the means, and with inputs uc/umean the centred
- * scaled inputs; bred receives the reduced B (rank x n_inputs) of an
- * estimator that takes inputs. Everything else is the fit's own. */
+ * (el_estimator.h). No matrix of the window's length is kept: the centred
+ * scaled snapshots [X' U' Y'] (pairs in rows) are built a chunk of rows at
+ * a time from the series and reduced by a chunked (tall-skinny) Householder
+ * QR to their triangular factor rfac, whose leading d x d block R_x has the
+ * singular values and right singular vectors of X' (X' = Q_x R_x). When an
+ * estimator's fit runs: svd_vt holds the right singular vectors' of X' (U'
+ * of X), svd_ur the left ones of R_x (the left singular vectors of X' are
+ * Q_x svd_ur), rfac the factor (with Y' and U' only for the estimators that
+ * regress on them, ls), xmean/ymean/umean the means; bred receives the
+ * reduced B (rank x n_inputs) of an estimator that takes inputs.
+ * Everything else is the fit's own. */
 struct el_fit_plan {
     size_t n_samples, n_channels, lags, state_dim, n_pairs, n_inputs;
     long rank_opt;
     el_method method;
     const struct el_estimator_type *type; /* the method's estimator */
     void *est;                 /* its private workspace (type->plan_create) */
-    int lift_residuals;        /* set by a fit whose residuals are Yc (I - V_r V_r')
-                                  through yv (exact DMD without inputs) */
     const el_series *inputs;   /* from the options (el_fit_plan_execute) */
-    double *uc;        /* n_pairs x n_inputs: centred scaled inputs u[k], k = K..N-2 */
-    double *umean;     /* n_inputs: their means over the pairs */
+    double *umean;     /* n_inputs: means of the scaled inputs u[k], k = K..N-2 */
     double *bred;      /* d x n_inputs: B in basis coordinates */
-    double *xt;        /* n_pairs x d: centred scaled X', destroyed by the SVD */
-    double *ytc;       /* n_pairs x d: centred scaled Y' */
-    double *svd_u;     /* n_pairs x d: left singular vectors of X' = V of X */
+    size_t rcols;      /* columns of rfac: d, or 2 d + n_inputs for [X' U' Y'] */
+    double *rfac;      /* rcols x rcols upper triangle R of [X' (U' Y')] = Q R */
     double *svd_vt;    /* d x d: right singular vectors' of X' = U' of X */
-    double *yv;        /* d x d: Yc V_r (kept for the residuals) */
-    double *resid;     /* n_pairs x n_channels: lag-0 residuals */
+    double *svd_ur;    /* d x d: left singular vectors of R_x */
+    double *yv;        /* d x d: Yc V_r (ls) */
+    size_t chunk_rows; /* rows of snapshots built at a time */
+    double *qr_buf;    /* (rcols + chunk_rows) x rcols: R stacked over a chunk */
+    double *qr_tau;    /* rcols */
+    double *qr_work;
+    int qr_lwork;
+    double *chunk;     /* chunk_rows x (2 d + n_inputs): a chunk of [X' U' Y'] */
+    double *chunk_res; /* chunk_rows x n_channels: its lag-0 residuals */
+    double *stats;     /* 3 n_channels: residual and total sums of squares, offsets */
     double *xmean, *ymean;
     double *lu;        /* d x d: I - Ad_s, then its LU factors */
     double *rhs;       /* d */

@@ -123,6 +123,14 @@ static void work_free(struct el_regime_work *w)
     free(w);
 }
 
+void el_regime_release_work(el_regime *r)
+{
+    if (r == NULL)
+        return;
+    work_free(r->work);
+    r->work = NULL;
+}
+
 void el_regime_destroy(el_regime *r)
 {
     if (r == NULL)
@@ -693,6 +701,10 @@ el_status el_regime_run(el_regime *r, const el_series *series,
         el_error_hint(err, "use a small level such as 0.01");
         return EL_ERR_USAGE;
     }
+    /* Made again after el_regime_release_work. */
+    el_status made = r->work == NULL ? work_create(r->n_samples, &r->work, err) : EL_OK;
+    if (made != EL_OK)
+        return made;
     size_t n = r->n_samples;
     size_t segs = opt->segments;
     if (segs > n / MIN_SEGMENT_SAMPLES)

@@ -269,6 +269,16 @@ int el_regime_growth_veto(const el_regime *r, double *factor, double *p_value,
 el_status el_regime_growth_warning(const el_regime *r, const el_series *series,
                                    el_warnings *warnings, el_error *err);
 
+/* Frees the plan's transforms and scratch (about 5 N doubles: the
+ * zero-padded autocorrelation buffer, its spectrum, the autocorrelation)
+ * and keeps every output of the last run, which the later stages read
+ * (el_regime_growth_veto, el_regime_growth_warning, the reports); the next
+ * el_regime_run makes them again (and may then fail with the errors of
+ * el_regime_create). For a single assessment, whose regime stage is over
+ * before the fit. FFTW planner call: same thread rule as creation. NULL is
+ * a no-op. */
+void el_regime_release_work(el_regime *r);
+
 /* Frees the plan and its outputs (FFTW planner call: same thread rule as
  * creation). NULL is a no-op. */
 void el_regime_destroy(el_regime *r);

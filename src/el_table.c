@@ -254,6 +254,18 @@ const char *el_table_row_source(const el_table *table, size_t row)
     return table->source;
 }
 
+void el_table_release_rows(el_table *table)
+{
+    if (table == NULL)
+        return;
+    free(table->values);
+    free(table->source_line);
+    free(table->source_file);
+    table->values = NULL;
+    table->source_line = NULL;
+    table->source_file = NULL;
+}
+
 void el_table_free(el_table *table)
 {
     if (table == NULL)

@@ -59,6 +59,16 @@ const char *el_table_row_source(const el_table *table, size_t row);
 /* Frees everything the table owns and zeroes it. NULL is a no-op. */
 void el_table_free(el_table *table);
 
+/* Frees the table's rows (values, source_line, source_file; set to NULL)
+ * and keeps what describes the log: n_rows, names, units, missing counts,
+ * the time's kind, origin and unit, sources and notes. For a caller done
+ * with the rows once its series is built (el_assess_run): the reports
+ * still name the log, format its times and count its rows, and the rows'
+ * memory is not held through the fit. Every accessor of rows (el_table_get,
+ * el_table_find_time, el_series_build, el_scan_table) must not be called
+ * afterwards. NULL is a no-op. */
+void el_table_release_rows(el_table *table);
+
 /* Index of the column called name, or -1 when there is none. name may be
  * the bare name or the name with its unit as the header writes it
  * ("accel_a [m/s2]"). */
