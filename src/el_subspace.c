@@ -1119,15 +1119,17 @@ static int leading_singular(size_t hp, size_t nv, size_t order, const double *hv
     cblas_dsyrk(CblasColMajor, CblasLower, CblasTrans, (int)nv, (int)hp, 1.0, hv, (int)hp,
                 0.0, gram, (int)nv);
     lapack_int found = 0;
+    /* Every eigenpair ('A'): dsyevr then takes the MRRR path (dstemr),
+     * measured faster at these sizes than bisection for a subset. */
     lapack_int info = LAPACKE_dsyevr_work(
-        LAPACK_COL_MAJOR, 'V', 'I', 'L', (lapack_int)nv, gram, (lapack_int)nv, 0.0, 0.0,
-        (lapack_int)(nv - order + 1), (lapack_int)nv, 0.0, &found, ev, z, (lapack_int)nv,
+        LAPACK_COL_MAJOR, 'V', 'A', 'L', (lapack_int)nv, gram, (lapack_int)nv, 0.0, 0.0,
+        0, 0, 0.0, &found, ev, z, (lapack_int)nv,
         isuppz, work, (lapack_int)(26 * nv), iwork, (lapack_int)(10 * nv));
-    if (info != 0 || (size_t)found != order)
+    if (info != 0 || (size_t)found != nv)
         return 1;
     /* Ascending from dsyevr: the largest first here. */
     for (size_t k = 0; k < order; k++) {
-        size_t src = order - 1 - k;
+        size_t src = nv - 1 - k;
         if (!(ev[src] > 0.0))
             return 1;
         sv[k] = sqrt(ev[src]);
