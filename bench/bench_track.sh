@@ -11,11 +11,14 @@
 #     target is a ratio near 1 (no cliff; 1.1 allows for timing noise).
 #  3. A wide log, 200 channels x 3,000 rows, default replicates: CPU time
 #     and peak RSS (the issue measured 52 s and 517 MB before).
-# usage: sh bench/bench_track.sh [EIGENLOG]  (default build/rel/eigenlog;
+# usage: sh bench/bench_track.sh [EIGENLOG [EIGENLOG_BEFORE]]  (default
+# build/rel/eigenlog; with EIGENLOG_BEFORE the track figure before is
+# measured side by side instead of taken from BASELINE_TRACK_CPU_S;
 # needs build/rel/bench/bench_ingest for the 1e6-row log). CPU times, not
 # wall: the machine is shared, and wall time varies with its load.
 set -e
 bin=${1:-build/rel/eigenlog}
+before=${2:-}                  # optional: the program before, run side by side
 gen=build/rel/bench/bench_ingest
 BASELINE_TRACK_CPU_S=99.2      # main before issue 13 item 4, 2026-12-04
 BASELINE_WIDE_CPU_S=52         # issue 13's figure (wide log, before)
@@ -40,7 +43,15 @@ best_cpu() {
 
 "$gen" "$tmp/big.csv" 1000000 >/dev/null
 set -- $(cpu_rss "$bin" track "$tmp/big.csv" --window 10 --quiet --json "$tmp/track.json")
-awk -v c="$1" -v b="$BASELINE_TRACK_CPU_S" 'BEGIN{
+now=$1
+if [ -n "$before" ]; then
+    # Side by side: the program before this work on the same log now (the
+    # machine's load changes CPU times by 10-20%, so a fixed figure is
+    # only a guide).
+    set -- $(cpu_rss "$before" track "$tmp/big.csv" --window 10 --quiet --json "$tmp/t0.json")
+    BASELINE_TRACK_CPU_S=$1
+fi
+awk -v c="$now" -v b="$BASELINE_TRACK_CPU_S" 'BEGIN{
     printf "track, 1,000,000 rows x 8, 100 windows of 10,000 samples: %.1f s CPU = %.2f of the %.1f s before (target: at most 0.50)\n", c, c / b, b}'
 
 head -n 10001 "$tmp/big.csv" > "$tmp/w10000.csv"
