@@ -108,8 +108,8 @@ static void draw_line(cli_progress *p)
     int n;
     if (p->total > 1)
         n = snprintf(line, sizeof line, "%s: %zu of %zu", p->stage, p->done, p->total);
-    else
-        n = snprintf(line, sizeof line, "%s ...", p->stage);
+    else /* no counts (a fit, a set-up): the seconds show it is alive */
+        n = snprintf(line, sizeof line, "%s ... %.0f s", p->stage, since(&p->started));
     size_t len = n < 0 ? 0 : (size_t)n < sizeof line ? (size_t)n : sizeof line - 1;
     fprintf(stderr, "\r%s%*s", line, p->drawn > len ? (int)(p->drawn - len) : 0, "");
     fflush(stderr);

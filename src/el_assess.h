@@ -76,6 +76,15 @@ void el_assess_defaults(el_assess_options *opt);
  * docs/method.md: the steady demo logs give |z| <= 1.4). */
 #define EL_ASSESS_SPLIT_Z 3.0
 
+/* Bootstrap replicates of a least-squares cross-check (--method auto on
+ * stationary data or with inputs) when more are asked: it only tests
+ * whether P(stable) < 1/2, whose Monte Carlo standard error at 1/2 is
+ * sqrt(0.25 / 200) = 0.035 (the test can flip only for a true P(stable)
+ * within about 0.07 of 1/2, where ls leans neither way). fb's cross-check
+ * keeps every replicate: it can withdraw an "unstable" at P(stable) >=
+ * level, a tail that needs them. */
+#define EL_ASSESS_CROSS_LS_REPLICATES 200
+
 /* Bounds that straddle the boundary are put down to "too few cycles" when
  * the least damped mode is real or completes fewer than this many cycles
  * in the window (project convention: with 20 cycles a lightly damped mode's

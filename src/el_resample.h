@@ -25,13 +25,31 @@
  * variance grows as L/n = 1/EL_BOOT_MAX_BLOCKS; Kunsch 1989). */
 #define EL_BOOT_MAX_BLOCKS 400
 
-/* The bias round (el_boot_options.bias_correct) runs only for logs with
- * fewer snapshot pairs than this: the least-squares bias falls like 1/n
- * while the bootstrap spread falls like 1/sqrt(n), and in the calibration
- * (docs/uncertainty.md) the correction changed nothing measurable from
- * 5,000 samples on, while its 200 model-based replicates regenerate the
- * whole log each (the one part of a run whose cost grows with n). */
-#define EL_BOOT_BIAS_MAX_PAIRS 10000
+/* The bias round (el_boot_options.bias_correct) in full, 200 model-based
+ * replicates applied at full weight, up to this many snapshot pairs; above
+ * it the round tapers smoothly (el_boot_bias_rule, docs/uncertainty.md,
+ * "Bias round on long logs"): the least-squares bias falls like 1/n while
+ * the bootstrap spread falls like 1/sqrt(n), so the share of the interval
+ * the bias moves falls like 1/sqrt(n) and its effect on coverage like 1/n,
+ * while every model-based replicate regenerates the whole log (cost n).
+ * In the calibration the correction changed nothing measurable from 5,000
+ * samples on. */
+#define EL_BOOT_BIAS_FULL_PAIRS 5000
+
+/* The bias round for a log of n_pairs snapshot pairs: replicates
+ * B(n) = 200 for n <= EL_BOOT_BIAS_FULL_PAIRS, else
+ * floor(200 (EL_BOOT_BIAS_FULL_PAIRS / n)^2), and the weight B / 200 the
+ * measured bias is applied with. The round's cost B(n) n is at most
+ * 200 EL_BOOT_BIAS_FULL_PAIRS regenerated pairs, falls like 1/n above it
+ * and reaches zero (B = 0: no round) above about 70,700 pairs; adjacent n
+ * differ by at most one replicate and 1/200 of weight (no cliff). Can't
+ * fail. */
+typedef struct {
+    size_t replicates;            /* model-based replicates; 0 = no bias round */
+    double weight;                /* 0..1: share of the measured bias applied */
+} el_boot_bias_plan;
+
+el_boot_bias_plan el_boot_bias_rule(size_t n_pairs);
 
 /* Fewest replicates from which the pipeline (el_assess, el_track) reports
  * bounds and P(stable). Below it the 2.5% tail of a 95% percentile

@@ -91,6 +91,8 @@ EIGENLOG_PROGRESS_DELAY=0 script -qec "\"$bin\" assess datasets/rig_test.csv --m
 sed 's/\r/\n/g' "$tmp/prog.txt" | grep -o '^[a-z][a-z -]*: [0-9]* of [0-9]*\|^[a-z][a-z -]* \.\.\.' >"$tmp/prog_lines.txt"
 grep -q '^bootstrap replicates: [0-9]* of 30000$' "$tmp/prog_lines.txt"
 check "a terminal shows the bootstrap's progress" $?
+sed 's/\r/\n/g' "$tmp/prog.txt" | grep -q '^[a-z][a-z -]* \.\.\. [0-9][0-9]* s *$'
+check "a stage without counts shows its running seconds (wide logs: a long set-up)" $?
 awk '{ label = $0; sub(/:.*| \.\.\.$/, "", label)
        if (label != last && (label in seen)) bad = 1
        seen[label] = 1

@@ -690,10 +690,44 @@ static void test_plan_reuse_is_bitwise(void **state)
     el_assessment_free(&b);
 }
 
+/* A least-squares cross-check runs EL_ASSESS_CROSS_LS_REPLICATES
+ * replicates when more are asked (it only tests P(stable) < 1/2; issue 13,
+ * item 4): a stationary one-sensor log, AR(1) with coefficient 0.9 driven
+ * by white noise (stationary: |0.9| < 1, a closed form), so --method auto
+ * takes iv cross-checked by ls. */
+static void test_cross_check_ls_replicates(void **state)
+{
+    (void)state;
+    const size_t n = 3000;
+    char path[] = "/tmp/el_test_cross_XXXXXX";
+    int fd = mkstemp(path);
+    assert_true(fd >= 0);
+    FILE *f = fdopen(fd, "w");
+    assert_non_null(f);
+    fprintf(f, "t,x\n");
+    el_rng rng;
+    el_rng_seed(&rng, 91, 0);
+    double x = 0.0;
+    for (size_t k = 0; k < n; k++) {
+        x = 0.9 * x + el_rng_normal(&rng);
+        fprintf(f, "%.3f,%.9g\n", 0.01 * (double)k, 5.0 + x);
+    }
+    fclose(f);
+    el_assessment r = run(path, 0, 300);
+    unlink(path);
+    assert_int_equal(r.cross_method, EL_METHOD_LS);
+    assert_int_equal(r.cross_ran, 1);
+    assert_int_equal(r.boot.replicates, 300);
+    assert_int_equal(r.cross_boot.replicates, EL_ASSESS_CROSS_LS_REPLICATES);
+    assert_true(r.cross_p_stable >= 0.0 && r.cross_p_stable <= 1.0);
+    el_assessment_free(&r);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_booster_pump_truth),
+        cmocka_unit_test(test_cross_check_ls_replicates),
         cmocka_unit_test(test_rig_test_truth),
         cmocka_unit_test(test_lynx_moran_end_to_end),
         cmocka_unit_test(test_json_has_no_nan),

@@ -1204,6 +1204,65 @@ static void test_errors(void **state)
     fitted_free(&f);
 }
 
+/* The bias round has no cliff (issue 13): its replicate count and weight
+ * move by at most one replicate and 1/200 between adjacent log lengths,
+ * also across 9,999 / 10,000 / 10,001 pairs where the round used to stop
+ * (200 replicates below 10,000 pairs, none from there on: a 10,000-sample
+ * window cost 1.8 times a 10,002-sample one). Its cost B(n) n never passes
+ * the full round's at EL_BOOT_BIAS_FULL_PAIRS, and up to that length it
+ * is the full round of 200 at weight 1 (the calibrated setting). */
+static void test_bias_rule_smooth(void **state)
+{
+    (void)state;
+    el_boot_bias_plan prev = el_boot_bias_rule(2);
+    for (size_t n = 3; n <= 200000; n++) {
+        el_boot_bias_plan p = el_boot_bias_rule(n);
+        assert_true(p.replicates <= prev.replicates);
+        assert_true(prev.replicates - p.replicates <= 1);
+        assert_true(fabs(prev.weight - p.weight) <= 1.0 / 200.0 + 1e-15);
+        assert_true((double)p.replicates * (double)n <= 200.0 * EL_BOOT_BIAS_FULL_PAIRS);
+        if (n <= EL_BOOT_BIAS_FULL_PAIRS) {
+            assert_int_equal(p.replicates, 200);
+            assert_true(p.weight == 1.0);
+        }
+        prev = p;
+    }
+    el_boot_bias_plan a = el_boot_bias_rule(9999), b = el_boot_bias_rule(10000),
+                      c = el_boot_bias_rule(10001);
+    /* 200 (5000 / 10000)^2 = 50: the round runs on both sides of 10,000. */
+    assert_int_equal(b.replicates, 50);
+    assert_true(a.replicates >= 50 && a.replicates <= 51);
+    assert_true(c.replicates >= 49 && c.replicates <= 50);
+    assert_true(fabs(b.weight - 0.25) < 1e-15);
+    /* Far above: no round at all, as before for long logs. */
+    assert_int_equal(el_boot_bias_rule(100000).replicates, 0);
+    assert_true(el_boot_bias_rule(100000).weight == 0.0);
+}
+
+/* The run follows the rule: a 10,000-sample least-squares log (9,999
+ * pairs) gets a tapered round, which the old rule skipped. */
+static void test_bias_round_tapered(void **state)
+{
+    (void)state;
+    fitted f;
+    fit_pair(&f, -0.5, 1.0, 0.05, 10000, 71);
+    el_boot_options opt;
+    el_boot_defaults(&opt);
+    opt.replicates = 100;
+    opt.threads = 2;
+    el_boot_result r;
+    memset(&r, 0, sizeof r);
+    el_error err;
+    el_error_clear(&err);
+    assert_int_equal(el_boot_run(&f.series, &f.fit, &f.model, &f.modes, &opt, &r, NULL, &err),
+                     EL_OK);
+    assert_int_equal(r.bias_replicates, el_boot_bias_rule(f.model.n_pairs).replicates);
+    assert_true(r.bias_replicates >= 50);
+    assert_int_equal(r.bias_corrected, 1);
+    el_boot_free(&r);
+    fitted_free(&f);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -1225,6 +1284,8 @@ int main(void)
         cmocka_unit_test(test_bias_refused_under_sensor_noise),
         cmocka_unit_test(test_dependent_channel_rank_and_bootstrap),
         cmocka_unit_test(test_progress),
+        cmocka_unit_test(test_bias_rule_smooth),
+        cmocka_unit_test(test_bias_round_tapered),
         cmocka_unit_test(test_errors),
     };
     return cmocka_run_group_tests_name("resample", tests, NULL, NULL);
