@@ -1044,8 +1044,7 @@ static void fig_modes(ctx *c)
                            {"damping &zeta;", NULL},
                            {"decay rate", c->rate_unit},
                            {"time constant", c->time_unit},
-                           {"shape (&times; channel std): magnitude, phase; "
-                            "participation", NULL}};
+                           {"shape (&times; std) &middot; participation", NULL}};
     el_svg_table_open(c, "fig-modes", "modes", cols, sizeof cols / sizeof cols[0]);
     for (size_t i = 0; i < c->r->modes.n_modes; i++)
         mode_row(c, i);
