@@ -376,6 +376,40 @@ static el_status write_model(const el_fit_plan *plan, const double *cp, const do
     return EL_OK;
 }
 
+/* The stage's poles of every order into the model for the reports
+ * (el_model_pole), those of the kept chains marked in_model. Allocates
+ * the list once per model (reused when the model is refilled). */
+static el_status expose_poles(const el_subspace_result *res, const size_t *keep, size_t nk,
+                              el_model *m, el_error *err)
+{
+    if (res->n_poles > m->subspace_poles_cap) {
+        el_model_pole *q = realloc(m->subspace_poles, res->n_poles * sizeof *q);
+        if (q == NULL)
+            return el_error_set(err, EL_ERR_NOMEM, "out of memory (hankel poles)");
+        m->subspace_poles = q;
+        m->subspace_poles_cap = res->n_poles;
+    }
+    for (size_t k = 0; k < res->n_poles; k++) {
+        const el_subspace_pole *p = &res->poles[k];
+        el_model_pole *q = &m->subspace_poles[k];
+        q->order = p->order;
+        q->frequency_hz = p->frequency_hz;
+        q->natural_hz = p->natural_hz;
+        q->damping_ratio = p->damping_ratio;
+        q->contribution = p->contribution;
+        q->stable = p->stable;
+        q->physical = p->physical;
+        q->chain = p->chain;
+        q->in_model = 0;
+        for (size_t j = 0; j < nk; j++)
+            if (res->poles[res->first_pole + keep[j]].chain == p->chain)
+                q->in_model = 1;
+    }
+    m->subspace_n_poles = res->n_poles;
+    m->subspace_max_order = res->max_order;
+    return EL_OK;
+}
+
 static el_status hankel_fit(el_fit_plan *plan, const el_series *series,
                             const el_series *inputs, el_model *model,
                             el_warnings *warnings, el_error *err)
@@ -433,6 +467,7 @@ static el_status hankel_fit(el_fit_plan *plan, const el_series *series,
         model->subspace_physical = s.res.n_physical;
         model->subspace_horizon_time = (double)s.res.horizon * series->dt;
         el_fit_projected_model(plan, model, 1);
+        st = expose_poles(&s.res, keep, nk, model, err);
     }
     free(work);
     stage_free(&s);

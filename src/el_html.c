@@ -8,6 +8,7 @@
 
 #include "el_advice.h"
 #include "el_html.h"
+#include "el_html_stab.h"
 #include "el_predict.h"
 #include "el_report.h"
 #include "el_svg.h"
@@ -950,22 +951,30 @@ static void shape_dial(ctx *c, double mag, double phase_deg, const char *colour)
     el_svg_put(c, "</svg>");
 }
 
+/* The shape in units of each channel's standard deviation (the raw-unit
+ * shape is in the JSON) and the participation factors; hand-built modes
+ * without them show n/a. */
 static void mode_shape_cell(ctx *c, const el_mode *m, size_t index)
 {
     const el_series *s = &c->r->series;
+    const char *colour = el_svg_mode_colour(index);
     el_svg_put(c, "<td><table class=\"shape\">");
     for (size_t ch = 0; ch < c->r->modes.n_channels; ch++) {
+        double mag = m->shape_scaled_magnitude ? m->shape_scaled_magnitude[ch] : NAN;
+        double ph = m->shape_scaled_phase_deg ? m->shape_scaled_phase_deg[ch] : NAN;
         el_svg_put(c, "<tr><td class=\"ch\">");
         el_svg_esc(c, s->names[ch]);
         el_svg_put(c, "</td><td>");
-        shape_bar(c, m->shape_magnitude[ch], el_svg_mode_colour(index));
+        shape_bar(c, mag, colour);
         el_svg_put(c, "</td><td>");
-        shape_dial(c, m->shape_magnitude[ch], m->shape_phase_deg[ch], el_svg_mode_colour(index));
+        shape_dial(c, mag, ph, colour);
         el_svg_put(c, "</td><td class=\"n\">");
-        el_svg_put_num(c, m->shape_magnitude[ch], 2);
+        el_svg_put_num(c, mag, 2);
         el_svg_put(c, " &ang; ");
-        el_svg_put_num(c, m->shape_phase_deg[ch], 3);
-        el_svg_put(c, "&deg;</td></tr>");
+        el_svg_put_num(c, ph, 3);
+        el_svg_put(c, "&deg;</td><td class=\"n pf\">");
+        el_svg_put_num(c, m->participation ? m->participation[ch] : NAN, 2);
+        el_svg_put(c, "</td></tr>");
     }
     el_svg_put(c, "</table></td>");
 }
@@ -1035,7 +1044,7 @@ static void fig_modes(ctx *c)
                            {"damping &zeta;", NULL},
                            {"decay rate", c->rate_unit},
                            {"time constant", c->time_unit},
-                           {"shape: magnitude, phase", NULL}};
+                           {"shape (&times; std) &middot; participation", NULL}};
     el_svg_table_open(c, "fig-modes", "modes", cols, sizeof cols / sizeof cols[0]);
     for (size_t i = 0; i < c->r->modes.n_modes; i++)
         mode_row(c, i);
@@ -1046,8 +1055,11 @@ static void fig_modes(ctx *c)
     el_svg_put(c, "Frequency f = Im &lambda; / 2&pi;; damping ratio &zeta; = &minus;Re &lambda; / "
            "|&lambda;|; decay rate &minus;Re &lambda; (negative: growing); time constant "
            "1/|Re &lambda;| (decay) or ln 2 / Re &lambda; (doubling). Shape: how much each "
-           "channel takes part (bar, largest = 1, in the channels' own units) and its phase "
-           "relative to the largest (arrow angle, counter-clockwise).");
+           "channel moves in the mode in units of its own standard deviation over the "
+           "window (bar, largest = 1), and its phase relative to the largest (arrow angle, "
+           "counter-clockwise); the shape in the channels' own units is in the JSON. Last "
+           "number: the channel's participation factor (Perez-Arriaga, Verghese &amp; "
+           "Schweppe 1982; the channels' shares sum to 1, units do not change it).");
     if (!c->boot)
         el_svg_put(c, " Bounds n/a: no bootstrap was run.");
     el_svg_put(c, "</figcaption></figure>\n");
@@ -1202,6 +1214,10 @@ el_status el_html_report(const el_assessment *r, const el_assess_options *opt,
     }
     el_svg_put(&c, "<h2 class=\"section\">Modes</h2>\n");
     fig_modes(&c);
+    if (el_html_stab_present(&c)) {
+        el_svg_put(&c, "<h2 class=\"section\">Model order</h2>\n");
+        el_html_stab_figure(&c);
+    }
     details_section(&c);
     el_svg_page_end(&c);
     free(scratch);

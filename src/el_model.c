@@ -77,6 +77,7 @@ void el_model_free(el_model *model)
     free(model->input_scale);
     free(model->input_b_scaled);
     free(model->input_b);
+    free(model->subspace_poles);
     memset(model, 0, sizeof *model);
 }
 

@@ -73,6 +73,25 @@ typedef struct {
  * by the rule above, no inputs. */
 void el_fit_defaults(el_fit_options *opt);
 
+/* One pole of the subspace stage's stabilisation across model orders
+ * (hankel only; el_subspace_pole has the full record). A complex pair is
+ * one pole (frequency > 0 shown); a real eigenvalue is one pole. */
+typedef struct {
+    size_t order;             /* model order it belongs to (1 .. max order) */
+    double frequency_hz;      /* damped frequency Im lambda / 2 pi (per time unit of
+                                 the series); NaN at the Nyquist limit */
+    double natural_hz;        /* |lambda| / 2 pi; NaN at the Nyquist limit */
+    double damping_ratio;     /* -Re lambda / |lambda|; NaN when undefined */
+    double contribution;      /* share of its order's modal contributions, 0..1 */
+    int stable;               /* 1: matches a pole of order - 1 (frequency, damping,
+                                 shape: the stabilisation criteria) */
+    int physical;             /* 1: persistent (a chain over enough consecutive orders,
+                                 with a large enough contribution); 0: spurious */
+    int in_model;             /* 1: its chain is one of the modes the model kept */
+    size_t chain;             /* chain id: poles matched across consecutive orders
+                                 share it (ids are not ordered) */
+} el_model_pole;
+
 /* The fitted model. Coordinates: channel c is scaled as
  * s_c = (x_c - channel_mean[c]) / channel_scale[c] (equal variance for the
  * fit); the state stacks the scaled channels at lags 0..K (state index
@@ -137,6 +156,13 @@ typedef struct {
      * modes. */
     size_t subspace_order, subspace_rows, subspace_physical;
     double subspace_horizon_time;
+    /* hankel only: every pole of the stabilisation across orders 1 ..
+     * subspace_max_order, order 1 first (within an order, the stage's
+     * order), for the reports. Allocated by the hankel fit (capacity
+     * subspace_poles_cap, reused when the model is refilled); NULL and 0
+     * otherwise. */
+    size_t subspace_max_order, subspace_n_poles, subspace_poles_cap;
+    el_model_pole *subspace_poles;
 } el_model;
 
 /* Frees everything the model owns and zeroes it. NULL is a no-op. */

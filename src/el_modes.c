@@ -46,15 +46,22 @@ void el_modes_lambda(double mu_re, double mu_im, double dt, double *lambda_re,
         *at_nyquist = nyq;
 }
 
+static void mode_free(el_mode *m)
+{
+    free(m->shape_magnitude);
+    free(m->shape_phase_deg);
+    free(m->shape_scaled_magnitude);
+    free(m->shape_scaled_phase_deg);
+    free(m->participation);
+}
+
 void el_modes_free(el_modes *modes)
 {
     if (modes == NULL)
         return;
     if (modes->modes != NULL) {
-        for (size_t i = 0; i < modes->n_modes; i++) {
-            free(modes->modes[i].shape_magnitude);
-            free(modes->modes[i].shape_phase_deg);
-        }
+        for (size_t i = 0; i < modes->n_modes; i++)
+            mode_free(&modes->modes[i]);
         free(modes->modes);
     }
     memset(modes, 0, sizeof *modes);
@@ -88,17 +95,18 @@ static void continuous_quantities(el_mode *m)
         m->time_constant_s = NAN;
 }
 
-/* Lag-0 shape in physical units from a complex vector phi (d entries,
- * real and imaginary parts apart): magnitude relative to the largest,
- * phase relative to the largest-magnitude channel in (-180, 180]. */
-static void shape_from_vector(const el_model *model, const double *phi_re,
-                              const double *phi_im, el_mode *m)
+/* Lag-0 shape from a complex vector phi (d entries, real and imaginary
+ * parts apart), each channel's entry times scale[c] (NULL: 1): magnitude
+ * relative to the largest, phase relative to the largest-magnitude
+ * channel in (-180, 180]. */
+static void shape_from_vector(size_t nc, const double *scale, const double *phi_re,
+                              const double *phi_im, double *magnitude, double *phase_deg)
 {
-    size_t nc = model->n_channels, ref = 0;
+    size_t ref = 0;
     double best = -1.0;
     for (size_t c = 0; c < nc; c++) {
-        double mag = model->channel_scale[c] * hypot(phi_re[c], phi_im[c]);
-        m->shape_magnitude[c] = mag;
+        double mag = (scale != NULL ? scale[c] : 1.0) * hypot(phi_re[c], phi_im[c]);
+        magnitude[c] = mag;
         if (mag > best) {
             best = mag;
             ref = c;
@@ -107,15 +115,39 @@ static void shape_from_vector(const el_model *model, const double *phi_re,
     double ref_re = phi_re[ref], ref_im = phi_im[ref];
     for (size_t c = 0; c < nc; c++) {
         if (best > 0.0)
-            m->shape_magnitude[c] /= best;
+            magnitude[c] /= best;
         /* arg(phi_c / phi_ref) = arg(phi_c * conj(phi_ref)); the positive
          * channel scales do not change angles. */
         double re = phi_re[c] * ref_re + phi_im[c] * ref_im;
         double im = phi_im[c] * ref_re - phi_re[c] * ref_im;
         double deg = (re == 0.0 && im == 0.0) ? 0.0 : atan2(im, re) * (180.0 / EL_PI);
-        m->shape_phase_deg[c] = deg <= -180.0 ? deg + 360.0 : deg;
+        phase_deg[c] = deg <= -180.0 ? deg + 360.0 : deg;
     }
-    m->shape_phase_deg[ref] = 0.0;
+    phase_deg[ref] = 0.0;
+}
+
+/* Participation factors (Perez-Arriaga, Verghese & Schweppe 1982) of the
+ * mode with right vector phi and left vector l = basis * v (d entries
+ * each): |conj(l_i) phi_i| normalised to sum 1, summed per channel over
+ * its lags (state j * nc + c is channel c at lag j). NaN when every
+ * product is 0 (nothing to share). */
+static void participation(const el_model *model, const double *phi_re,
+                          const double *phi_im, const double *l_re, const double *l_im,
+                          double *share)
+{
+    size_t nc = model->n_channels, d = model->state_dim;
+    double total = 0.0;
+    for (size_t c = 0; c < nc; c++)
+        share[c] = 0.0;
+    for (size_t i = 0; i < d; i++) {
+        /* |conj(l) phi| = |l| |phi|: the phase of the product does not
+         * enter the magnitude. */
+        double p = hypot(l_re[i], l_im[i]) * hypot(phi_re[i], phi_im[i]);
+        share[i % nc] += p;
+        total += p;
+    }
+    for (size_t c = 0; c < nc; c++)
+        share[c] = total > 0.0 && isfinite(total) ? share[c] / total : NAN;
 }
 
 /* Exact DMD mode phi = lift * w (Tu et al. 2014). It is Ad_s phi / mu, so
@@ -137,7 +169,10 @@ static void mode_shape(const el_model *model, const double *w_re, const double *
         cblas_dgemv(CblasColMajor, CblasNoTrans, d, r, 1.0, model->basis, d, w_im, 1,
                     0.0, phi_im, 1);
     }
-    shape_from_vector(model, phi_re, phi_im, m);
+    shape_from_vector(model->n_channels, model->channel_scale, phi_re, phi_im,
+                      m->shape_magnitude, m->shape_phase_deg);
+    shape_from_vector(model->n_channels, NULL, phi_re, phi_im, m->shape_scaled_magnitude,
+                      m->shape_scaled_phase_deg);
 }
 
 typedef struct {
@@ -162,7 +197,7 @@ static int compare_modes(const void *pa, const void *pb)
 
 /* Workspace of one computation, allocated as a unit. */
 typedef struct {
-    double *a, *wr, *wi, *vr, *phi_re, *phi_im, *w_re, *w_im, *work;
+    double *a, *wr, *wi, *vr, *vl, *phi_re, *phi_im, *w_re, *w_im, *l_re, *l_im, *work;
     lapack_int lwork;
     sortable_mode *list;
 } modes_work;
@@ -170,16 +205,17 @@ typedef struct {
 static void modes_work_free(modes_work *w, size_t n_list)
 {
     if (w->list != NULL) {
-        for (size_t i = 0; i < n_list; i++) {
-            free(w->list[i].mode.shape_magnitude);
-            free(w->list[i].mode.shape_phase_deg);
-        }
+        for (size_t i = 0; i < n_list; i++)
+            mode_free(&w->list[i].mode);
     }
     free(w->list);
     free(w->a);
     free(w->wr);
     free(w->wi);
     free(w->vr);
+    free(w->vl);
+    free(w->l_re);
+    free(w->l_im);
     free(w->phi_re);
     free(w->phi_im);
     free(w->w_re);
@@ -192,9 +228,9 @@ static el_status modes_work_alloc(modes_work *w, size_t r, size_t d, el_error *e
 {
     memset(w, 0, sizeof *w);
     double query = 0.0, dummy = 0.0;
-    lapack_int info = LAPACKE_dgeev_work(LAPACK_COL_MAJOR, 'N', 'V', (lapack_int)r,
+    lapack_int info = LAPACKE_dgeev_work(LAPACK_COL_MAJOR, 'V', 'V', (lapack_int)r,
                                          &dummy, (lapack_int)r, &dummy, &dummy, &dummy,
-                                         1, &dummy, (lapack_int)r, &query, -1);
+                                         (lapack_int)r, &dummy, (lapack_int)r, &query, -1);
     if (info != 0)
         return el_error_set(err, EL_ERR_INTERNAL,
                             "dgeev workspace query failed (info %d)", (int)info);
@@ -203,13 +239,16 @@ static el_status modes_work_alloc(modes_work *w, size_t r, size_t d, el_error *e
     w->wr = malloc(r * sizeof(double));
     w->wi = malloc(r * sizeof(double));
     w->vr = malloc(r * r * sizeof(double));
+    w->vl = malloc(r * r * sizeof(double));
+    w->l_re = malloc(d * sizeof(double));
+    w->l_im = malloc(d * sizeof(double));
     w->phi_re = malloc(d * sizeof(double));
     w->phi_im = malloc(d * sizeof(double));
     w->w_re = malloc(r * sizeof(double));
     w->w_im = malloc(r * sizeof(double));
     w->work = malloc((size_t)w->lwork * sizeof(double));
     w->list = calloc(r, sizeof *w->list);
-    if (!w->a || !w->wr || !w->wi || !w->vr || !w->phi_re || !w->phi_im || !w->w_re ||
+    if (!w->a || !w->wr || !w->wi || !w->vr || !w->vl || !w->l_re || !w->l_im || !w->phi_re || !w->phi_im || !w->w_re ||
         !w->w_im || !w->work || !w->list) {
         modes_work_free(w, 0);
         return el_error_set(err, EL_ERR_NOMEM, "out of memory for the modes");
@@ -226,7 +265,12 @@ static el_status build_mode(const el_model *model, modes_work *w, size_t j, int 
     el_mode *m = &out->mode;
     m->shape_magnitude = calloc(nc, sizeof(double));
     m->shape_phase_deg = calloc(nc, sizeof(double));
-    if (m->shape_magnitude == NULL || m->shape_phase_deg == NULL)
+    m->shape_scaled_magnitude = calloc(nc, sizeof(double));
+    m->shape_scaled_phase_deg = calloc(nc, sizeof(double));
+    m->participation = calloc(nc, sizeof(double));
+    if (m->shape_magnitude == NULL || m->shape_phase_deg == NULL ||
+        m->shape_scaled_magnitude == NULL || m->shape_scaled_phase_deg == NULL ||
+        m->participation == NULL)
         return el_error_set(err, EL_ERR_NOMEM, "out of memory for the mode shapes");
     m->mu_re = w->wr[j];
     m->mu_im = pair ? fabs(w->wi[j]) : 0.0;
@@ -242,6 +286,18 @@ static el_status build_mode(const el_model *model, modes_work *w, size_t j, int 
         w->w_im[q] = pair ? w->vr[q + r * (j + 1)] : 0.0;
     }
     mode_shape(model, w->w_re, w->w_im, lift_norm, w->phi_re, w->phi_im, m);
+    /* The left vector of the pair member with Im > 0 is vl[:,j] + i
+     * vl[:,j+1] (dgeev), lifted into the state space by the basis. */
+    for (size_t q = 0; q < r; q++) {
+        w->w_re[q] = w->vl[q + r * j];
+        w->w_im[q] = pair ? w->vl[q + r * (j + 1)] : 0.0;
+    }
+    int d = (int)model->state_dim, ri = (int)r;
+    cblas_dgemv(CblasColMajor, CblasNoTrans, d, ri, 1.0, model->basis, d, w->w_re, 1, 0.0,
+                w->l_re, 1);
+    cblas_dgemv(CblasColMajor, CblasNoTrans, d, ri, 1.0, model->basis, d, w->w_im, 1, 0.0,
+                w->l_im, 1);
+    participation(model, w->phi_re, w->phi_im, w->l_re, w->l_im, m->participation);
     return EL_OK;
 }
 
@@ -279,9 +335,8 @@ el_status el_modes_compute(const el_model *model, el_modes *modes,
     if (st != EL_OK)
         return st;
     memcpy(w.a, model->a_reduced, r * r * sizeof(double));
-    double dummy = 0.0;
-    lapack_int info = LAPACKE_dgeev_work(LAPACK_COL_MAJOR, 'N', 'V', (lapack_int)r, w.a,
-                                         (lapack_int)r, w.wr, w.wi, &dummy, 1, w.vr,
+    lapack_int info = LAPACKE_dgeev_work(LAPACK_COL_MAJOR, 'V', 'V', (lapack_int)r, w.a,
+                                         (lapack_int)r, w.wr, w.wi, w.vl, (lapack_int)r, w.vr,
                                          (lapack_int)r, w.work, w.lwork);
     if (info != 0) {
         modes_work_free(&w, 0);

@@ -29,8 +29,19 @@ typedef struct {
     double decay_rate;            /* -Re lambda (negative when growing) */
     double time_constant_s;       /* 1/|Re lambda| when decaying; ln 2 / Re lambda
                                      (doubling time) when growing; NaN at Re = 0 */
-    double *shape_magnitude;      /* n_channels, largest = 1 */
+    double *shape_magnitude;      /* n_channels, largest = 1 (physical units) */
     double *shape_phase_deg;      /* n_channels, relative to the largest, (-180, 180] */
+    double *shape_scaled_magnitude; /* n_channels: the shape with each channel divided
+                                     by its standard deviation over the fitted window
+                                     (model->channel_scale), largest = 1; unit-free */
+    double *shape_scaled_phase_deg; /* n_channels, relative to the largest scaled
+                                     entry, (-180, 180] */
+    double *participation;        /* n_channels: participation factors (Perez-Arriaga,
+                                     Verghese & Schweppe 1982) of the model's states,
+                                     |l_i r_i| normalised to sum 1 over the states,
+                                     summed over each channel's lagged copies: the
+                                     channels' shares, sum 1; NaN when the mode's
+                                     left and right vectors are orthogonal */
 } el_mode;
 
 typedef struct el_modes {
@@ -50,9 +61,17 @@ void el_modes_lambda(double mu_re, double mu_im, double dt, double *lambda_re,
 
 /* Computes the modes of the model (eigenvalues of a_reduced by LAPACK
  * dgeev; shapes from the exact DMD modes lift * W (Tu et al. 2014), taken
- * at lag 0, times channel_scale, in physical units). Where the exact mode
- * vanishes (mu == 0, or lift * w below rounding) the projected mode
- * basis * w is used instead. Modes are sorted by Re lambda, largest first;
+ * at lag 0, times channel_scale, in physical units; the scaled shapes are
+ * the same vectors without channel_scale, i.e. in units of each channel's
+ * standard deviation). Where the exact mode vanishes (mu == 0, or lift * w
+ * below rounding) the projected mode basis * w is used instead.
+ * Participation factors: with r the mode vector above (state_dim
+ * entries, the scaled lagged channels) and l = basis * v (v the left
+ * eigenvector of a_reduced; l is the left eigenvector of
+ * Ad_s = lift basis'), p_i = |conj(l_i) r_i| / sum_k |conj(l_k) r_k|, and
+ * channel c's participation is the sum of p_i over its lags. The products
+ * do not change when a state is rescaled (l_i r_i is invariant under a
+ * diagonal similarity), so they are the same in physical units. Modes are sorted by Re lambda, largest first;
  * ties by frequency, lowest first (NaN last), then by LAPACK's order. A
  * conjugate pair is one mode (Im lambda > 0 shown); a pair whose mu lies on
  * the negative real axis within 1e-12 is flagged at_nyquist as well.

@@ -154,10 +154,28 @@ static void text_mode(const el_assessment *r, size_t i, el_buf *out)
                       num(l2, 32, b->frequency_hz.lo), num(h2, 32, b->frequency_hz.hi),
                       num(l3, 32, b->damping_ratio.lo), num(h3, 32, b->damping_ratio.hi));
     }
-    el_buf_printf(out, "     shape:");
-    for (size_t c = 0; c < r->modes.n_channels; c++)
-        el_buf_printf(out, " %s %.2f@%.0fdeg%s", r->series.names[c], md->shape_magnitude[c],
-                      md->shape_phase_deg[c], c + 1 < r->modes.n_channels ? "," : "");
+    /* The shape in units of each channel's standard deviation leads: in
+     * raw units a channel logged in small units (microstrain) would look
+     * as if it carried the mode alone. The raw shape is in the JSON. */
+    size_t nc = r->modes.n_channels;
+    el_buf_printf(out, "     shape (x channel std):");
+    for (size_t c = 0; c < nc; c++) {
+        if (md->shape_scaled_magnitude != NULL && md->shape_scaled_phase_deg != NULL)
+            el_buf_printf(out, " %s %.2f@%.0fdeg%s", r->series.names[c],
+                          md->shape_scaled_magnitude[c], md->shape_scaled_phase_deg[c],
+                          c + 1 < nc ? "," : "");
+        else
+            el_buf_printf(out, " %s n/a%s", r->series.names[c], c + 1 < nc ? "," : "");
+    }
+    el_buf_printf(out, "\n     participation:");
+    for (size_t c = 0; c < nc; c++) {
+        char pf[32];
+        el_buf_printf(out, " %s %s%s", r->series.names[c],
+                      md->participation != NULL && isfinite(md->participation[c])
+                          ? (snprintf(pf, sizeof pf, "%.2f", md->participation[c]), pf)
+                          : "n/a",
+                      c + 1 < nc ? "," : "");
+    }
     el_buf_printf(out, "\n");
 }
 
@@ -424,6 +442,36 @@ static void json_numbers(el_json *j, const char *key, const double *v, size_t n)
     el_json_array_end(j);
 }
 
+/* model.subspace.max_order and poles_by_order (docs/json.md): every
+ * order 1 .. max_order with its poles (an order whose shift equations
+ * had no solution has none). */
+static void json_poles_by_order(el_json *j, const el_model *m)
+{
+    el_json_int(j, "max_order", (long long)m->subspace_max_order);
+    el_json_array_begin(j, "poles_by_order");
+    size_t k = 0;
+    for (size_t n = 1; n <= m->subspace_max_order; n++) {
+        el_json_object_begin(j, NULL);
+        el_json_int(j, "order", (long long)n);
+        el_json_array_begin(j, "poles");
+        for (; k < m->subspace_n_poles && m->subspace_poles[k].order == n; k++) {
+            const el_model_pole *q = &m->subspace_poles[k];
+            el_json_object_begin(j, NULL);
+            el_json_number(j, "frequency_hz", q->frequency_hz);
+            el_json_number(j, "natural_frequency_hz", q->natural_hz);
+            el_json_number(j, "damping_ratio", q->damping_ratio);
+            el_json_number(j, "contribution", q->contribution);
+            el_json_bool(j, "matches_previous_order", q->stable);
+            el_json_bool(j, "persistent", q->physical);
+            el_json_bool(j, "in_model", q->in_model);
+            el_json_object_end(j);
+        }
+        el_json_array_end(j);
+        el_json_object_end(j);
+    }
+    el_json_array_end(j);
+}
+
 static void json_model(el_json *j, const el_assessment *r)
 {
     const el_model *m = &r->model;
@@ -454,6 +502,7 @@ static void json_model(el_json *j, const el_assessment *r)
         el_json_int(j, "horizon_rows", (long long)m->subspace_rows);
         el_json_number(j, "horizon_time", m->subspace_horizon_time);
         el_json_int(j, "physical_modes", (long long)m->subspace_physical);
+        json_poles_by_order(j, m);
         el_json_object_end(j);
     }
     el_json_array_begin(j, "inputs");
@@ -555,6 +604,21 @@ static void json_modes(el_json *j, const el_assessment *r)
             el_json_string(j, "channel", r->series.names[c]);
             el_json_number(j, "magnitude", md->shape_magnitude[c]);
             el_json_number(j, "phase_deg", md->shape_phase_deg[c]);
+            el_json_object_end(j);
+        }
+        el_json_array_end(j);
+        /* Added keys (docs/json.md): the shape in units of each channel's
+         * standard deviation and the participation factors. */
+        el_json_array_begin(j, "shape_scaled");
+        for (size_t c = 0; c < r->modes.n_channels; c++) {
+            el_json_object_begin(j, NULL);
+            el_json_string(j, "channel", r->series.names[c]);
+            el_json_number(j, "magnitude", md->shape_scaled_magnitude != NULL
+                                               ? md->shape_scaled_magnitude[c] : NAN);
+            el_json_number(j, "phase_deg", md->shape_scaled_phase_deg != NULL
+                                               ? md->shape_scaled_phase_deg[c] : NAN);
+            el_json_number(j, "participation",
+                           md->participation != NULL ? md->participation[c] : NAN);
             el_json_object_end(j);
         }
         el_json_array_end(j);
@@ -800,12 +864,45 @@ static void csv_number(el_buf *out, double v)
         el_buf_printf(out, ",");
 }
 
+/* ",PREFIX<name>" as one CSV field, quoted (RFC 4180: doubled quotes)
+ * when the channel name holds a comma, quote or line break. */
+static void csv_channel_header(el_buf *out, const char *prefix, const char *name)
+{
+    int quote = strpbrk(name, ",\"\r\n") != NULL;
+    el_buf_printf(out, ",%s%s", quote ? "\"" : "", prefix);
+    for (const char *p = name; *p != '\0'; p++)
+        el_buf_printf(out, *p == '"' ? "\"\"" : "%c", *p);
+    if (quote)
+        el_buf_printf(out, "\"");
+}
+
+/* The columns appended per channel (docs/cli.md): scaled shape and
+ * participation. */
+static void csv_shape_columns(const el_mode *md, size_t nc, el_buf *out)
+{
+    for (size_t c = 0; c < nc; c++)
+        csv_number(out, md->shape_scaled_magnitude ? md->shape_scaled_magnitude[c] : NAN);
+    for (size_t c = 0; c < nc; c++)
+        csv_number(out, md->shape_scaled_phase_deg ? md->shape_scaled_phase_deg[c] : NAN);
+    for (size_t c = 0; c < nc; c++)
+        csv_number(out, md->participation ? md->participation[c] : NAN);
+}
+
 el_status el_report_modes_csv(const el_assessment *r, el_buf *out)
 {
     el_buf_printf(out, "mode,lambda_re,lambda_im,frequency_hz,damping_ratio,decay_rate,"
                        "time_constant_s,time_constant_kind,level,re_lo,re_hi,"
                        "frequency_hz_lo,frequency_hz_hi,damping_ratio_lo,damping_ratio_hi,"
-                       "decay_rate_lo,decay_rate_hi\n");
+                       "decay_rate_lo,decay_rate_hi");
+    /* New columns only at the end: readers of the first 17 keep working. */
+    size_t nc = r->modes.n_channels;
+    for (size_t c = 0; c < nc; c++)
+        csv_channel_header(out, "shape_scaled_magnitude_", r->series.names[c]);
+    for (size_t c = 0; c < nc; c++)
+        csv_channel_header(out, "shape_scaled_phase_deg_", r->series.names[c]);
+    for (size_t c = 0; c < nc; c++)
+        csv_channel_header(out, "participation_", r->series.names[c]);
+    el_buf_printf(out, "\n");
     for (size_t i = 0; i < r->modes.n_modes; i++) {
         const el_mode *md = &r->modes.modes[i];
         el_buf_printf(out, "%zu", i + 1);
@@ -828,6 +925,7 @@ el_status el_report_modes_csv(const el_assessment *r, el_buf *out)
         csv_number(out, has ? b->damping_ratio.hi : NAN);
         csv_number(out, has ? b->decay_rate.lo : NAN);
         csv_number(out, has ? b->decay_rate.hi : NAN);
+        csv_shape_columns(md, nc, out);
         el_buf_printf(out, "\n");
     }
     return out->failed ? EL_ERR_NOMEM : EL_OK;

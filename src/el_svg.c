@@ -172,6 +172,12 @@ static const char *const CSS[] = {
     ".plot .zero-cross{fill:var(--unstable)}\n",
     ".plot .join{fill:none;stroke:#b9b3a8;stroke-width:1.2}\n",
     ".plot .zeta,.plot .freq{fill:#2f6f9f}\n",
+    ".plot circle.spurious{fill:none;stroke:#a29d92;stroke-width:1.1}\n",
+    ".plot circle.persistent{fill:#2f6f9f;stroke:#fff;stroke-width:.8}\n",
+    ".plot circle.in-model{fill:var(--est);stroke:#fff;stroke-width:1}\n",
+    ".plot path.chain{fill:none;stroke:#2f6f9f;stroke-width:1.4;stroke-opacity:.5}\n",
+    ".plot path.chain.in-model{stroke:var(--est);stroke-opacity:.75}\n",
+    ".plot .chosen-order{fill:#efe6cf}\n",
     "table.windows tr.failed td{color:var(--unstable)}\n",
     "table.modes{border-collapse:collapse;width:100%;font-size:13.5px}\n",
     "table.modes th{text-align:left;font-weight:600;color:var(--muted);font-size:12px;"

@@ -20,7 +20,9 @@ check() { # check NAME CONDITION-EXIT-STATUS
 # ---- assess --modes-csv
 "$bin" assess datasets/rig_test.csv --boot 100 --quiet --json "$tmp/rig.json" --modes-csv "$tmp/rig_modes.csv"
 check "assess --modes-csv exits 0" $?
-head -1 "$tmp/rig_modes.csv" | grep -qx 'mode,lambda_re,lambda_im,frequency_hz,damping_ratio,decay_rate,time_constant_s,time_constant_kind,level,re_lo,re_hi,frequency_hz_lo,frequency_hz_hi,damping_ratio_lo,damping_ratio_hi,decay_rate_lo,decay_rate_hi'
+# The 17 columns, then per channel the scaled shape and participation
+# columns appended by issue 10 item 6 (docs/cli.md).
+head -1 "$tmp/rig_modes.csv" | grep -qx 'mode,lambda_re,lambda_im,frequency_hz,damping_ratio,decay_rate,time_constant_s,time_constant_kind,level,re_lo,re_hi,frequency_hz_lo,frequency_hz_hi,damping_ratio_lo,damping_ratio_hi,decay_rate_lo,decay_rate_hi,shape_scaled_magnitude_accel_a,shape_scaled_magnitude_accel_b,shape_scaled_magnitude_strain_c,shape_scaled_magnitude_disp_d,shape_scaled_phase_deg_accel_a,shape_scaled_phase_deg_accel_b,shape_scaled_phase_deg_strain_c,shape_scaled_phase_deg_disp_d,participation_accel_a,participation_accel_b,participation_strain_c,participation_disp_d'
 check "modes CSV header as documented" $?
 [ "$(($(wc -l <"$tmp/rig_modes.csv") - 1))" -eq "$(jq '.modes | length' "$tmp/rig.json")" ]
 check "one row per mode of the JSON" $?

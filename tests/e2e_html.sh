@@ -127,6 +127,13 @@ n=$(line_points fig-spectrum psd)
 check "spectrum line has points (got $n)" '[ "$n" -ge 2 ] && [ "$n" -le 1500 ]'
 check "mode frequency marked on the spectrum" 'figure_text fig-spectrum | grep -q "class=\"modeline\""'
 check "mode table has mode 1" 'figure_text fig-modes | grep -q "id=\"mode-1\""'
+# The booster pump has two sensors: --method auto fits hankel, so the page
+# shows the poles of every model order (el_html_stab.h).
+check "figure fig-orders in the DOM" 'figure_text fig-orders | grep -q .'
+n=$(figure_text fig-orders | tr '>' '\n' | grep -c '<circle class="pole ')
+check "fig-orders has poles (got $n)" '[ "$n" -ge 2 ]'
+check "fig-orders marks the model order and a kept pole" \
+    'figure_text fig-orders | grep -q "class=\"chosen-order\"" && figure_text fig-orders | grep -q "class=\"pole in-model\""'
 check "no non-finite number in the page" \
     '! grep -q -i -w -E "nan|inf|infinity" "$tmp/dom.html"'
 

@@ -131,5 +131,25 @@ mutate "$tmp/scan_rig_test.json" "$tmp/bad5.json" 'd["warning_details"] = [{"cod
 ! valid scan "$tmp/bad5.json" 2>/dev/null
 check "a warning without its message fails" $?
 
+# ---- stabilisation across orders and scaled shapes (added keys)
+"$py" - "$tmp/assess_1.json" <<'PY'
+import json, sys
+d = json.load(open(sys.argv[1]))
+s = d["model"]["subspace"]
+assert d["model"]["method"] == "hankel"
+orders = [o["order"] for o in s["poles_by_order"]]
+assert orders == list(range(1, s["max_order"] + 1)), orders
+kept = [p for o in s["poles_by_order"] if o["order"] == s["order"] for p in o["poles"] if p["in_model"]]
+assert len(kept) == len(d["modes"]) and all(p["persistent"] for p in kept), kept
+assert all(len(m["shape_scaled"]) == len(m["shape"]) for m in d["modes"])
+PY
+check "assess booster_pump: poles_by_order covers orders 1..max_order, kept poles = modes" $?
+mutate "$tmp/assess_1.json" "$tmp/bad6.json" 'del d["model"]["subspace"]["poles_by_order"]'
+! valid assess "$tmp/bad6.json" 2>/dev/null
+check "a hankel model without poles_by_order fails" $?
+mutate "$tmp/assess_1.json" "$tmp/bad7.json" 'd["modes"][0]["shape_scaled"][0]["participation"] = 1.5'
+! valid assess "$tmp/bad7.json" 2>/dev/null
+check "a participation above 1 fails" $?
+
 echo "e2e_schema: $passed passed, $failed failed"
 [ "$failed" -eq 0 ]

@@ -1053,6 +1053,84 @@ static void test_track_deterministic(void **state)
     free(again.margin);
 }
 
+/* The figure of poles across model orders (el_html_stab.h): only for a
+ * hankel model with poles; every pole with a finite frequency inside the
+ * view is one circle of its kind, the others are counted in the caption;
+ * a chain of persistent poles over several orders is one path through
+ * them; the model's order is marked and its kept pole numbered as the
+ * nearest reported mode (the fixture's mode 1 at 2 / 2 pi = 0.318 Hz).
+ * Hand-made poles (order, frequency, persistent, in model, chain):
+ *   1: 0 Hz spurious (0)
+ *   2: 0.318 kept (1)
+ *   3: 0.318 kept (1), 0.20 persistent (5), 40 Hz spurious (2)
+ *   4: 0.319 kept (1), 0.20 persistent (5), Nyquist (3), 0.30 spurious (4)
+ * The view's top is 1.5 x 0.319 (el_html_stab.h), so the 40 Hz pole is
+ * above it. */
+static void test_orders_figure(void **state)
+{
+    (void)state;
+    fixture f;
+    fixture_plane(&f);
+    char *html = report(&f, &f.spectra);
+    assert_null(strstr(html, "fig-orders"));   /* ls: no such figure */
+    free(html);
+    static const struct {
+        size_t order;
+        double hz;
+        int physical, in_model;
+        size_t chain;
+    } P[] = {{1, 0.0, 0, 0, 0},    {2, 0.318, 1, 1, 1}, {3, 0.318, 1, 1, 1},
+             {3, 0.20, 1, 0, 5},   {3, 40.0, 0, 0, 2},  {4, 0.319, 1, 1, 1},
+             {4, 0.20, 1, 0, 5},   {4, NAN, 0, 0, 3},   {4, 0.30, 0, 0, 4}};
+    size_t n = sizeof P / sizeof P[0];
+    el_model *m = &f.r.model;
+    m->method = EL_METHOD_HANKEL;
+    m->subspace_order = 2;
+    m->subspace_max_order = 4;
+    m->subspace_n_poles = n;
+    m->subspace_poles = keep(&f.mem, n * sizeof(el_model_pole));
+    for (size_t k = 0; k < n; k++) {
+        el_model_pole *q = &m->subspace_poles[k];
+        q->order = P[k].order;
+        q->frequency_hz = P[k].hz;
+        q->natural_hz = P[k].hz;
+        q->damping_ratio = k == 7 ? NAN : 0.05;
+        q->contribution = 0.1;
+        q->physical = P[k].physical;
+        q->in_model = P[k].in_model;
+        q->chain = P[k].chain;
+        q->stable = k > 1;
+    }
+    html = report(&f, &f.spectra);
+    char *fig = figure(html, "fig-orders");
+    assert_non_null(fig);
+    assert_int_equal(count_of(fig, "<circle class=\"pole "), 7);
+    assert_int_equal(count_of(fig, "<circle class=\"pole in-model\""), 3);
+    assert_int_equal(count_of(fig, "<circle class=\"pole persistent\""), 2);
+    assert_int_equal(count_of(fig, "<circle class=\"pole spurious\""), 2);
+    assert_int_equal(count_of(fig, "data-order=\"4\""), 3);
+    assert_int_equal(count_of(fig, "<path class=\"chain in-model\" d=\""), 1);
+    /* Chain 5 and the legend's key line. */
+    assert_int_equal(count_of(fig, "<path class=\"chain\" d=\"M"), 2);
+    const char *p = strstr(fig, "<path class=\"chain in-model\"");
+    size_t len = 0;
+    const char *d = attr(p, "d", &len);
+    assert_non_null(d);
+    assert_int_equal(moves_in(d, len), 1);
+    assert_int_equal(pairs_in(d, len), 3);
+    assert_non_null(strstr(fig, "class=\"chosen-order\""));
+    assert_non_null(strstr(fig, "model order 2"));
+    assert_non_null(strstr(fig, ">1</text>"));
+    assert_non_null(strstr(fig, "1 pole above the view not drawn"));
+    assert_non_null(strstr(fig, "1 pole at the Nyquist limit"));
+    assert_non_null(strstr(fig, "9 poles, 5 persistent"));
+    assert_null(strstr(fig, "nan"));
+    assert_null(strstr(fig, "inf"));
+    free(fig);
+    free(html);
+    fixture_free(&f);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -1064,6 +1142,7 @@ int main(void)
         cmocka_unit_test(test_no_nonfinite_text),
         cmocka_unit_test(test_deterministic),
         cmocka_unit_test(test_incomplete_input),
+        cmocka_unit_test(test_orders_figure),
         cmocka_unit_test_setup_teardown(test_track_ordered, track_setup, track_teardown),
         cmocka_unit_test_setup_teardown(test_track_windows_marked, track_setup, track_teardown),
         cmocka_unit_test_setup_teardown(test_track_extrapolation_only_when_shrinking,

@@ -236,6 +236,140 @@ static void test_shape_oscillator(void **state)
     free(v);
 }
 
+/* Participation factors of a 2 x 2 system, closed form (Perez-Arriaga,
+ * Verghese & Schweppe 1982; the 2 x 2 case worked by hand): for
+ * A = [[a, b], [c, d]] with eigenvalues mu1 != mu2, state 1's factor in
+ * mode mu1 is p11 = (a - mu2) / (mu1 - mu2) and state 2's is 1 - p11.
+ * A = [[0.9, 0.2], [0.1, 0.5]]: mu = 0.7 +/- sqrt(0.06), real, so both
+ * factors are real and positive (0.908 and 0.092). The channel scales
+ * (1, 1e4) leave the factors and the scaled shape alone while the raw
+ * shape is multiplied by them. */
+static void test_participation_two_by_two(void **state)
+{
+    (void)state;
+    const double ar[4] = {0.9, 0.1, 0.2, 0.5};   /* column-major */
+    const double scale[2] = {1.0, 1e4};
+    double root = sqrt(0.06), mu1 = 0.7 + root, mu2 = 0.7 - root;
+    double p11 = (0.9 - mu2) / (mu1 - mu2), p12 = (0.9 - mu1) / (mu2 - mu1);
+    for (int pass = 0; pass < 2; pass++) {
+        test_model t;
+        tm_init(&t, 2, 0.1, ar, pass ? scale : NULL);
+        el_modes modes = {0};
+        el_error err;
+        el_error_clear(&err);
+        assert_int_equal(el_modes_compute(&t.m, &modes, NULL, &err), EL_OK);
+        assert_int_equal(modes.n_modes, 2);
+        const el_mode *m1 = &modes.modes[0], *m2 = &modes.modes[1];
+        /* Largest Re lambda first: mode 1 is mu1. 1e-13: the rounding of
+         * a 2 x 2 eigen-decomposition (a few eps times ||A||). */
+        assert_close(m1->mu_re, mu1, 0.0, 1e-13);
+        assert_close(m1->participation[0], p11, 0.0, 1e-13);
+        assert_close(m1->participation[1], 1.0 - p11, 0.0, 1e-13);
+        assert_close(m2->participation[0], p12, 0.0, 1e-13);
+        assert_close(m2->participation[1], 1.0 - p12, 0.0, 1e-13);
+        /* Right eigenvector of mu1: (b, mu1 - a) up to a factor, so the
+         * scaled shape is |b| : |mu1 - a| whatever the channel scales. */
+        double r0 = 0.2, r1 = fabs(mu1 - 0.9), big = fmax(r0, r1);
+        assert_close(m1->shape_scaled_magnitude[0], r0 / big, 0.0, 1e-12);
+        assert_close(m1->shape_scaled_magnitude[1], r1 / big, 0.0, 1e-12);
+        double raw0 = r0, raw1 = r1 * (pass ? 1e4 : 1.0), rbig = fmax(raw0, raw1);
+        assert_close(m1->shape_magnitude[0], raw0 / rbig, 1e-12, 1e-15);
+        assert_close(m1->shape_magnitude[1], raw1 / rbig, 1e-12, 1e-15);
+        el_modes_free(&modes);
+    }
+}
+
+/* Block-triangular A = [[R, b], [0, d]] with R a rotation-scaling block
+ * (a pair) and d real: the pair's right vector has no third entry and the
+ * real mode's left vector no first two (by hand: (l1, l2) (R - d I) = 0
+ * with d not an eigenvalue of R), so state 3 takes no part in the pair
+ * and is the whole of the real mode. The pair's two states share
+ * equally: |p| is the same for a conjugate pair's two real states of a
+ * rotation block (its eigenvectors (1, -i) have equal moduli). */
+static void test_participation_block_triangular(void **state)
+{
+    (void)state;
+    const double a = 0.9 * cos(0.4), b = 0.9 * sin(0.4);
+    /* column-major 3 x 3: [[a, -b, 0.3], [b, a, -0.2], [0, 0, 0.5]] */
+    const double ar[9] = {a, b, 0.0, -b, a, 0.0, 0.3, -0.2, 0.5};
+    test_model t;
+    tm_init(&t, 3, 0.1, ar, NULL);
+    el_modes modes = {0};
+    el_error err;
+    el_error_clear(&err);
+    assert_int_equal(el_modes_compute(&t.m, &modes, NULL, &err), EL_OK);
+    assert_int_equal(modes.n_modes, 2);
+    const el_mode *pair = &modes.modes[0], *real = &modes.modes[1];
+    assert_true(pair->pair);
+    assert_false(real->pair);
+    /* Exact zeros up to the rounding of dgeev's vectors (1e-13). */
+    assert_close(pair->participation[0], 0.5, 0.0, 1e-13);
+    assert_close(pair->participation[1], 0.5, 0.0, 1e-13);
+    assert_close(pair->participation[2], 0.0, 0.0, 1e-13);
+    assert_close(real->participation[0], 0.0, 0.0, 1e-13);
+    assert_close(real->participation[1], 0.0, 0.0, 1e-13);
+    assert_close(real->participation[2], 1.0, 0.0, 1e-13);
+    el_modes_free(&modes);
+}
+
+/* One damped oscillation logged twice: in metres and in micrometres-
+ * like units 1e4 times larger (the same signal in two units). Fitted by
+ * ls with one lag (the two states of the oscillator from one signal):
+ * in units of each channel's standard deviation the channels are the
+ * same, so the scaled shape is (1, 1) at phase 0 and the participation
+ * (1/2, 1/2), while the raw shape is (1e-4, 1). Tolerance 1e-8: the
+ * channels are equal only to rounding after scaling, and the fit drops
+ * the duplicate directions at its numerical-rank floor (1e-7 of the
+ * largest singular value), so the shapes carry rounding amplified by
+ * the fit's conditioning; 1e-8 is far above it and far below any real
+ * difference. */
+static void test_scaled_shape_two_units(void **state)
+{
+    (void)state;
+    const double zeta = 0.05, w = 2 * TEST_PI, dt = 0.01;
+    const size_t n = 400;
+    double wd = w * sqrt(1 - zeta * zeta);
+    double *v = malloc(2 * n * sizeof *v);
+    assert_non_null(v);
+    for (size_t k = 0; k < n; k++) {
+        double tt = (double)k * dt;
+        double x = 0.002 * exp(-zeta * w * tt) * cos(wd * tt + 0.3);
+        v[k] = x;
+        v[n + k] = 1e4 * x;
+    }
+    char n1[] = "x_m", n2[] = "x_small", u[] = "";
+    char *names[2] = {n1, n2}, *units[2] = {u, u};
+    el_series s = {.n_samples = n, .n_channels = 2, .dt = dt, .values = v,
+                   .names = names, .units = units};
+    el_fit_options opt;
+    el_fit_defaults(&opt);
+    opt.lags = 1;
+    el_model m = {0};
+    el_warnings warn = {0};
+    el_error err;
+    el_error_clear(&err);
+    assert_int_equal(el_fit(&s, &opt, &m, &warn, &err), EL_OK);
+    el_modes modes = {0};
+    assert_int_equal(el_modes_compute(&m, &modes, NULL, &err), EL_OK);
+    assert_int_equal(modes.n_modes, 1);
+    const el_mode *md = &modes.modes[0];
+    assert_true(md->pair);
+    assert_close(md->frequency_hz, wd / (2 * TEST_PI), 1e-8, 0.0);
+    assert_close(md->shape_scaled_magnitude[0], 1.0, 0.0, 1e-8);
+    assert_close(md->shape_scaled_magnitude[1], 1.0, 0.0, 1e-8);
+    assert_close(md->shape_scaled_phase_deg[0], 0.0, 0.0, 1e-6);
+    assert_close(md->shape_scaled_phase_deg[1], 0.0, 0.0, 1e-6);
+    assert_close(md->participation[0], 0.5, 0.0, 1e-8);
+    assert_close(md->participation[1], 0.5, 0.0, 1e-8);
+    /* Raw units: the second channel is 1e4 times the first. */
+    assert_close(md->shape_magnitude[1], 1.0, 0.0, 1e-12);
+    assert_close(md->shape_magnitude[0], 1e-4, 1e-8, 0.0);
+    el_modes_free(&modes);
+    el_warnings_free(&warn);
+    el_model_free(&m);
+    free(v);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -245,6 +379,9 @@ int main(void)
         cmocka_unit_test(test_real_modes_order_and_nyquist),
         cmocka_unit_test(test_instantaneous_mode),
         cmocka_unit_test(test_shape_oscillator),
+        cmocka_unit_test(test_participation_two_by_two),
+        cmocka_unit_test(test_participation_block_triangular),
+        cmocka_unit_test(test_scaled_shape_two_units),
     };
     return cmocka_run_group_tests_name("modes", tests, NULL, NULL);
 }
