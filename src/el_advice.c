@@ -137,6 +137,22 @@ static void disagree(const el_assessment *r, el_advice *a)
              "every estimator", third, why);
 }
 
+/* No verdict from nothing: the data looks like white noise and the model
+ * explains next to nothing of it (el_dynamics). */
+static void no_dynamics(const el_assessment *r, el_advice *a)
+{
+    const el_dynamics_test *t = &r->dynamics;
+    snprintf(a->reason, sizeof a->reason,
+             "no dynamics: no channel's own past predicts it (Ljung-Box over %zu lags, "
+             "family p = %.2f) and the model's one-step R2 is %.3f, so the data cannot "
+             "be told from white noise and no fixed point type or stability is given",
+             t->lags, t->p_family, r->model.fit_r2);
+    snprintf(a->next_step, sizeof a->next_step,
+             "check that the channels are the ones that move and that the log is sampled "
+             "fast enough for the motion of interest (a mode much faster than the "
+             "sampling looks like noise); or add excitation (see the cautions)");
+}
+
 static void reason_cause(const el_assessment *r, double level, el_advice *a)
 {
     const el_verdict *v = &r->verdict;
@@ -241,6 +257,9 @@ static void reason_cause(const el_assessment *r, double level, el_advice *a)
         snprintf(a->next_step, sizeof a->next_step,
                  "sample faster, or low-pass filter before logging");
         return;
+    case EL_CAUSE_NO_DYNAMICS:
+        no_dynamics(r, a);
+        return;
     case EL_CAUSE_TYPE_OPEN:
         snprintf(a->reason, sizeof a->reason,
                  "the stability class holds, but the fixed point type does not (the bounds "
@@ -285,7 +304,8 @@ void el_advice_assess(const el_assessment *r, double level, el_advice *out)
         add_caution(out, "Undecided is not stable: treat the margin as unknown until a "
                          "log decides it.");
     int excite = r->has_inputs || v->cause == EL_CAUSE_BOUNDS ||
-                 v->cause == EL_CAUSE_LOW_EXCITATION || v->cause == EL_CAUSE_TYPE_OPEN;
+                 v->cause == EL_CAUSE_LOW_EXCITATION || v->cause == EL_CAUSE_TYPE_OPEN ||
+                 v->cause == EL_CAUSE_NO_DYNAMICS;
     if (excite)
         add_caution(out, el_advice_excitation_caution());
     add_caution(out, el_assess_caution());

@@ -280,6 +280,10 @@ static el_status prepare(el_assess_plan *ap, const el_assess_options *opt,
      * the system's response to it; their removed levels are not needed. */
     if (st == EL_OK && r->has_inputs)
         st = el_prep_detrend(&r->inputs, opt->detrend, NULL, NULL, err);
+    /* Whiteness of the data before any band limit, which would colour
+     * white noise (no verdict from nothing: el_dynamics). */
+    if (st == EL_OK)
+        st = el_dynamics_test_series(&r->series, &r->dynamics, err);
     if (st != EL_OK || opt->band_text == NULL)
         return st;
     double lo = 0, hi = 0;
@@ -865,6 +869,51 @@ static void refine_bounds_cause(el_assessment *r)
         r->verdict.cause = EL_CAUSE_FEW_CYCLES;
 }
 
+/* No verdict from nothing: when no channel's data differs from white
+ * noise and the model explains next to nothing, the word and the type are
+ * withheld whatever the fit says, "unstable" included: a class read from
+ * noise is no answer either way (docs/method.md, "No verdict from
+ * nothing"). */
+static el_status withhold_no_dynamics(el_assessment *r, el_error *err)
+{
+    const el_dynamics_test *t = &r->dynamics;
+    if (!el_dynamics_none(t, r->model.fit_r2))
+        return EL_OK;
+    el_verdict_withhold_type(&r->verdict);
+    if (el_warnings_add(&r->warnings,
+                        "no dynamics found: no channel's own past predicts it (Ljung-Box "
+                        "over %zu lags on %zu channels, smallest p = %.3g on %s, family "
+                        "level %.2g) and the model's one-step R2 is %.3f, so the data "
+                        "cannot be told from white noise: no fixed point type or "
+                        "stability is given",
+                        t->lags, t->n_tested, t->p_min, r->series.names[t->channel],
+                        EL_DYNAMICS_ALPHA, r->model.fit_r2) != EL_OK)
+        return el_error_set(err, EL_ERR_NOMEM, "out of memory for a warning");
+    return EL_OK;
+}
+
+/* A possible limit cycle: harmonics of one frequency with a steady
+ * envelope (el_cycle). A warning only: the linear fit is still reported. */
+static el_status check_cycle(el_assessment *r, el_error *err)
+{
+    el_status st = el_cycle_detect(&r->series, &r->peaks, &r->cycle, err);
+    if (st != EL_OK || !r->cycle.flagged)
+        return st;
+    const el_cycle *c = &r->cycle;
+    char orders[64];
+    el_cycle_orders_text(c, orders, sizeof orders);
+    if (el_warnings_add(&r->warnings,
+                        "possible sustained nonlinear oscillation: a linear verdict does "
+                        "not describe it (%s: spectral peaks at %s times %.4g Hz, and its "
+                        "amplitude varies by only %.1f%% between %zu windows of %.3g "
+                        "periods)",
+                        r->series.names[c->channel], orders, c->fundamental_hz,
+                        100.0 * c->envelope_cv, c->n_windows,
+                        EL_CYCLE_WINDOW_PERIODS) != EL_OK)
+        return el_error_set(err, EL_ERR_NOMEM, "out of memory for a warning");
+    return EL_OK;
+}
+
 el_status el_assess_run(const el_assess_options *opt, el_assessment *r,
                         el_error *err)
 {
@@ -1085,6 +1134,38 @@ static el_status subspace_fallback(el_assess_plan *ap, el_fit_options *fit,
     return plan_fit(ap, &r->series, fit, &r->model, &r->warnings, err);
 }
 
+/* --method auto on a log whose data cannot be told from white noise: the
+ * instrument and subspace estimators refuse to fit (nothing predicts the
+ * state), which left no report at all. Least squares, which fits any
+ * data, stands in so the report can say that there is nothing to judge
+ * (withhold_no_dynamics then withholds the word and the type). Other
+ * errors, and data with dynamics, keep the estimator's error. */
+static el_status white_fallback(el_assess_plan *ap, el_fit_options *fit,
+                                el_assessment *r, el_status st, el_error *err)
+{
+    if ((st != EL_ERR_NUMERIC && st != EL_ERR_DATA) || !r->dynamics.tested ||
+        !r->dynamics.white)
+        return st;
+    char why[160] = "";
+    if (err != NULL)
+        snprintf(why, sizeof why, "%.150s", err->message);
+    if (err != NULL)
+        el_error_clear(err);
+    const char *refused = el_method_name(fit->method);
+    fit->method = EL_METHOD_LS;
+    fit->rank = EL_RANK_AUTO;
+    st = el_warnings_add(&r->warnings,
+                         "%s gave no model (%s); the data shows no dynamics, so least "
+                         "squares is fitted only to report that",
+                         refused, why);
+    if (st != EL_OK)
+        return el_error_set(err, st, "out of memory for a warning");
+    snprintf(r->method_reason, sizeof r->method_reason,
+             "the data shows no dynamics, and %s gave no model: least squares fits any "
+             "data, so it reports that", refused);
+    return plan_fit(ap, &r->series, fit, &r->model, &r->warnings, err);
+}
+
 el_status el_assess_execute(el_assess_plan *ap, const el_assess_options *opt,
                             el_assessment *r, el_error *err)
 {
@@ -1134,6 +1215,8 @@ el_status el_assess_execute(el_assess_plan *ap, const el_assess_options *opt,
         st = plan_fit(ap, &r->series, &fit, &r->model, &r->warnings, err);
     if (st != EL_OK && r->method_was_auto && fit.method == EL_METHOD_HANKEL)
         st = subspace_fallback(ap, &fit, r, st, err);
+    if (st != EL_OK && r->method_was_auto)
+        st = white_fallback(ap, &fit, r, st, err);
     if (st == EL_OK)
         operating_point(r);
     if (st == EL_OK)
@@ -1142,6 +1225,8 @@ el_status el_assess_execute(el_assess_plan *ap, const el_assess_options *opt,
         st = el_prep_band_check_modes(&r->band, &r->modes, &r->warnings, NULL, err);
     if (st == EL_OK)
         st = crosscheck_spectra(r, err);
+    if (st == EL_OK && r->has_spectra)
+        st = check_cycle(r, err);
     stage(opt, "fitting the model", 1);
     /* Below the minimum count no bootstrap runs: its bounds and P(stable)
      * would claim a precision a handful of replicates does not have. */
@@ -1175,6 +1260,8 @@ el_status el_assess_execute(el_assess_plan *ap, const el_assess_options *opt,
         st = validate(ap, r, err);
     if (st == EL_OK)
         refine_bounds_cause(r);
+    if (st == EL_OK)
+        st = withhold_no_dynamics(r, err);
     stage(opt, "checking the model", 1);
     /* Problems found after ingest (constant channel, too short a window)
      * are still about this file: name it when the stage could not. */

@@ -7,6 +7,8 @@
 #include <stddef.h>
 #include <stdio.h>
 
+#include "el_cycle.h"
+#include "el_dynamics.h"
 #include "el_error.h"
 #include "el_estimator.h"
 #include "el_lags.h"
@@ -159,6 +161,10 @@ typedef struct {
     el_spectrum_mode_check *mode_checks;   /* modes.n_modes, owned (NULL without spectra) */
     el_spectrum_peak_check *peak_checks;   /* per peak slot, owned */
     el_split_check split;         /* the split-half drift check */
+    el_dynamics_test dynamics;    /* whiteness of the detrended data (no verdict from
+                                     nothing: el_dynamics) */
+    el_cycle cycle;               /* harmonics with a steady envelope: a possible
+                                     limit cycle (el_cycle) */
     el_nonstat_kind nonstat;      /* what breaks one operating point (NONE: nothing found) */
     double nonstat_t;             /* table time: the split (drift), the step (shift);
                                      NaN for a trend (it runs through the window) */

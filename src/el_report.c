@@ -942,6 +942,9 @@ static const struct {
     const char *code;
     const char *phrase;
 } WARNING_CODES[] = {
+    {"no_dynamics", "cannot be told from white noise"},
+    {"no_dynamics", "the data shows no dynamics"},
+    {"sustained_oscillation", "possible sustained nonlinear oscillation"},
     {"forced_oscillation", "forced oscillation"},
     {"drift", "the dynamics drift inside the window"},
     {"level_shift", "steps by"},

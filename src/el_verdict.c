@@ -334,7 +334,8 @@ const char *el_verdict_cause_code(el_verdict_cause cause)
     static const char *const codes[] = {
         "none", "on_boundary", "bounds", "few_cycles", "low_excitation",
         "estimators_disagree", "drift", "level_trend", "level_shift", "growth",
-        "too_few_replicates", "no_bounds", "nyquist", "type_open", "no_bootstrap"};
+        "too_few_replicates", "no_bounds", "nyquist", "type_open", "no_bootstrap",
+        "no_dynamics"};
     return (unsigned)cause < sizeof codes / sizeof codes[0] ? codes[cause] : "unknown";
 }
 
@@ -351,6 +352,14 @@ void el_verdict_set_undecided(el_verdict *v, el_verdict_cause cause)
     set_stability(v, EL_UNDECIDED);
     v->ambiguous = 1;
     v->cause = cause;
+}
+
+void el_verdict_withhold_type(el_verdict *v)
+{
+    if (v == NULL)
+        return;
+    el_verdict_set_undecided(v, EL_CAUSE_NO_DYNAMICS);
+    snprintf(v->type, sizeof v->type, "%s", EL_VERDICT_TYPE_WITHHELD);
 }
 
 el_status el_verdict_compute(const el_modes *modes, const el_model *model,

@@ -36,7 +36,9 @@ typedef enum {
     EL_CAUSE_NO_BOUNDS,          /* bounds asked for but none could be computed */
     EL_CAUSE_NYQUIST,            /* a mode at the Nyquist limit */
     EL_CAUSE_TYPE_OPEN,          /* stability holds, the fixed point type does not */
-    EL_CAUSE_NO_BOOTSTRAP        /* --boot 0: the point estimate alone */
+    EL_CAUSE_NO_BOOTSTRAP,       /* --boot 0: the point estimate alone */
+    EL_CAUSE_NO_DYNAMICS         /* the data cannot be told from white noise: no
+                                    type, no class (el_dynamics) */
 } el_verdict_cause;
 
 /* "stable", "unstable", "marginal", "undecided"; "unknown" else. Static. */
@@ -45,7 +47,7 @@ const char *el_stability_name(el_stability s);
 /* The cause's code for JSON: "none", "on_boundary", "bounds", "few_cycles",
  * "low_excitation", "estimators_disagree", "drift", "level_trend",
  * "level_shift", "growth", "too_few_replicates", "no_bounds", "nyquist",
- * "type_open", "no_bootstrap"; "unknown" else. Static text. */
+ * "type_open", "no_bootstrap", "no_dynamics"; "unknown" else. Static text. */
 const char *el_verdict_cause_code(el_verdict_cause cause);
 
 typedef struct {
@@ -72,6 +74,16 @@ typedef struct {
  * checks (cross-check, growth veto, drift) use it to withhold a class.
  * Can't fail; NULL v is a no-op. */
 void el_verdict_set_undecided(el_verdict *v, el_verdict_cause cause);
+
+/* The type written when no type is given because the log shows no
+ * dynamics (el_verdict_withhold_type). Static text. */
+#define EL_VERDICT_TYPE_WITHHELD "not given (no dynamics)"
+
+/* Withholds the word and the fixed point type: undecided (ambiguous) for
+ * EL_CAUSE_NO_DYNAMICS, and type = EL_VERDICT_TYPE_WITHHELD. The
+ * eigenvalues, counts and plane numbers stay (they describe the fitted
+ * model, which describes noise). Can't fail; NULL v is a no-op. */
+void el_verdict_withhold_type(el_verdict *v);
 
 /* Classifies. Without a bootstrap (boot == NULL or boot->replicates == 0):
  * a mode is marginal when |Re lambda| <= marginal_tolerance = 1e-9 / dt
