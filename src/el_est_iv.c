@@ -173,7 +173,9 @@ static int iv_room(size_t n, size_t p, size_t lags)
  * samples before it: a slow mode that one step of a fast sampling barely
  * moves is seen over its whole time scale. A record too short for the
  * rule keeps K = 0 (the fit then says what is missing). Given lags
- * (--lags K or --lags auto) and a given --depth keep the state as given
+ * (--lags K or --lags auto), a given --depth and a given --rank (a
+ * number or full: a rank of the state the user has in mind, checked
+ * against it) keep the state as given
  * (iv as before: instruments one and two states back); one channel keeps
  * its route through --lags auto (auto's choice for single-sensor logs),
  * so single-channel results are unchanged. */
@@ -181,7 +183,8 @@ static el_status iv_prepare(const el_series *series, el_fit_options *opt, el_err
 {
     if (series == NULL || opt == NULL)
         return el_error_set(err, EL_ERR_INTERNAL, "iv: NULL argument");
-    if (opt->lags > 0 || opt->depth > 0 || opt->inputs != NULL || series->n_channels < 2)
+    if (opt->lags > 0 || opt->depth > 0 || opt->rank > 0 || opt->rank == EL_RANK_ALL ||
+        opt->inputs != NULL || series->n_channels < 2)
         return EL_OK;
     el_subspace_options so;
     el_subspace_defaults(&so);

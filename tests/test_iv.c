@@ -117,8 +117,9 @@ static void test_fewer_sensors_than_states(void **state)
 }
 
 /* The prepare hook's rules: without lags, K + 1 is the horizon of the
- * subspace stage's rule with iv's cap of 120 rows (h p <= 120); given
- * lags are kept; inputs keep the old state. */
+ * subspace stage's rule with iv's cap of 120 rows (h p <= 120), lowered
+ * until the rank test has room; given lags, rank or depth, and inputs,
+ * keep the state as given. */
 static void test_prepare_rules(void **state)
 {
     (void)state;
@@ -143,6 +144,12 @@ static void test_prepare_rules(void **state)
     assert_true(rows / (k + 1) >= 2 * (2 * d + 1));
     d += IV_FIX_P;
     assert_true((rows - 2) / (k + 2) < 2 * (2 * d + 1));
+    /* a given rank keeps the state as given */
+    el_fit_defaults(&opt);
+    opt.method = EL_METHOD_IV;
+    opt.rank = 5;
+    assert_int_equal(el_estimator_prepare(&s, &opt, &err), EL_OK);
+    assert_int_equal(opt.lags, 0);
     /* a given depth keeps the state as given */
     el_fit_defaults(&opt);
     opt.method = EL_METHOD_IV;
