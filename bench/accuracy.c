@@ -461,6 +461,7 @@ static double now_s(void)
 typedef struct {
     size_t seeds, boot, workers;
     const char *only;
+    const char *methods;      /* --methods: the labels to run (NULL: all) */
     int list;
     const char *csv_case;     /* --csv CASE SEED SNR: print that log and stop */
     size_t csv_seed;
@@ -565,6 +566,9 @@ static size_t slot(size_t job, size_t snr, size_t method)
     return (job * N_SNR + snr) * N_METHODS + method;
 }
 
+/* 1 when name is in the comma-separated list (NULL: every name). */
+static int in_list(const char *list, const char *name);
+
 static void run_job(const acc_case *cases, const size_t *job_case, size_t job,
                     size_t n_jobs, const acc_options *o, shared_block *sh)
 {
@@ -580,7 +584,8 @@ static void run_job(const acc_case *cases, const size_t *job_case, size_t job,
         if (csv == NULL)
             continue;
         for (size_t m = 0; m < N_METHODS; m++)
-            run_one(c, csv, len, m, 1000 * seed + 7, o, &sh->res[slot(job, k, m)]);
+            if (in_list(o->methods, method_label[m]))
+                run_one(c, csv, len, m, 1000 * seed + 7, o, &sh->res[slot(job, k, m)]);
         free(csv);
     }
     sim_free(&s);
@@ -1122,6 +1127,7 @@ static int parse_args(int argc, char **argv, acc_options *o)
     o->boot = 200;
     o->workers = cores > 0 ? (size_t)cores : 1;
     o->only = NULL;
+    o->methods = NULL;
     o->list = 0;
     for (int i = 1; i < argc; i++) {
         const char *a = argv[i];
@@ -1140,6 +1146,8 @@ static int parse_args(int argc, char **argv, acc_options *o)
                 goto usage;
         } else if (strcmp(a, "--case") == 0 && has) {
             o->only = argv[++i];
+        } else if (strcmp(a, "--methods") == 0 && has) {
+            o->methods = argv[++i];
         } else if (strcmp(a, "--list") == 0) {
             o->list = 1;
         } else if (strcmp(a, "--csv") == 0 && i + 3 < argc) {
@@ -1159,16 +1167,17 @@ static int parse_args(int argc, char **argv, acc_options *o)
     return 0;
 usage:
     fprintf(stderr, "usage: accuracy [--quick] [--seeds N (1..64)] [--boot N] [--workers N]\n"
-                    "                [--case NAME[,NAME...]] [--list] [--csv CASE SEED SNR|inf]\n");
+                    "                [--case NAME[,NAME...]] [--methods auto,ls,fb,tls,iv,ssi]\n"
+                    "                [--list] [--csv CASE SEED SNR|inf]\n");
     return 1;
 }
 
-static int selected(const acc_options *o, const char *name)
+static int in_list(const char *list, const char *name)
 {
-    if (o->only == NULL)
+    if (list == NULL)
         return 1;
     size_t len = strlen(name);
-    const char *p = o->only;
+    const char *p = list;
     while (*p) {
         const char *comma = strchr(p, ',');
         size_t l = comma ? (size_t)(comma - p) : strlen(p);
@@ -1179,6 +1188,11 @@ static int selected(const acc_options *o, const char *name)
             p++;
     }
     return 0;
+}
+
+static int selected(const acc_options *o, const char *name)
+{
+    return in_list(o->only, name);
 }
 
 int main(int argc, char **argv)

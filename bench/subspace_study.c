@@ -20,6 +20,7 @@
  *
  * Usage: subspace_study [--systems N] [--seed S] [--unweighted] [--share X]
  *                       [--verbose] [--poles] [--boot N] [--family]
+ *                       [--method NAME] [--first I]
  * Default: 48 systems from seed 20261204, the el_subspace defaults.
  * --seed draws another family (a check that the defaults were not tuned
  * to one draw); --unweighted and --share X change the subspace options;
@@ -30,7 +31,11 @@
  * ambiguous) and the coverage of the 95 % bounds of Re lambda of every
  * true mode. --family runs the default pipeline only (the accuracy
  * study's multi-sensor family M: `make accuracy` runs it with --boot 200,
- * docs/accuracy.md). */
+ * docs/accuracy.md). --method NAME runs the pipeline with that estimator
+ * (as --method spells it) instead of auto, everything else at the
+ * defaults; --first I starts at system I (subsets while iterating: with
+ * --systems N it runs systems I .. I + N - 1, the same draws as in the
+ * full run). */
 #include <cblas.h>
 #include <math.h>
 #include <stdint.h>
@@ -74,6 +79,8 @@ typedef struct {
     double share;             /* < 0: the default */
     size_t boot;              /* replicates of the default pipeline (0: none) */
     int pipeline_only;        /* --family: the default pipeline only */
+    int method_given;         /* --method: that estimator instead of auto */
+    el_method method;
 } st_options;
 
 static void make_system(size_t id, uint64_t seed, st_system *s)
@@ -306,14 +313,16 @@ static void verdict_stats(const st_system *s, const el_assessment *r, st_outcome
 }
 
 static void run_pipeline(const st_system *s, el_series *series, size_t boot,
-                         st_outcome *o)
+                         const st_options *so, st_outcome *o)
 {
     memset(o, 0, sizeof *o);
     double t0 = now_s();
     el_assess_options opt;
     el_assess_defaults(&opt);
     opt.path = "simulated";
-    opt.method_auto = 1;
+    opt.method_auto = !so->method_given;
+    if (so->method_given)
+        opt.fit.method = so->method;
     opt.boot.replicates = boot;
     opt.boot.threads = 1;
     el_assessment r;
@@ -407,7 +416,8 @@ static void run_subspace(const st_system *s, const el_series *series,
 int main(int argc, char **argv)
 {
     size_t n_sys = 48;
-    st_options so = { 20261204, 0, 0, 0, -1.0, 0, 0 };
+    st_options so = { 20261204, 0, 0, 0, -1.0, 0, 0, 0, EL_METHOD_IV };
+    size_t first = 0;
     for (int i = 1; i < argc; i++) {
         if (strcmp(argv[i], "--systems") == 0 && i + 1 < argc)
             n_sys = (size_t)strtoul(argv[++i], NULL, 10);
@@ -417,7 +427,17 @@ int main(int argc, char **argv)
             so.share = atof(argv[++i]);
         else if (strcmp(argv[i], "--boot") == 0 && i + 1 < argc)
             so.boot = (size_t)strtoul(argv[++i], NULL, 10);
-        else if (strcmp(argv[i], "--family") == 0)
+        else if (strcmp(argv[i], "--first") == 0 && i + 1 < argc)
+            first = (size_t)strtoul(argv[++i], NULL, 10);
+        else if (strcmp(argv[i], "--method") == 0 && i + 1 < argc) {
+            el_error perr;
+            el_error_clear(&perr);
+            if (el_method_parse(argv[++i], &so.method, &perr) != EL_OK) {
+                fprintf(stderr, "subspace_study: %s\n", perr.message);
+                return 1;
+            }
+            so.method_given = 1;
+        } else if (strcmp(argv[i], "--family") == 0)
             so.pipeline_only = 1;
         else if (strcmp(argv[i], "--unweighted") == 0)
             so.unweighted = 1;
@@ -427,7 +447,8 @@ int main(int argc, char **argv)
             so.verbose = so.poles = 1;
         else {
             fprintf(stderr, "usage: subspace_study [--systems N] [--seed S] [--unweighted] "
-                            "[--share X] [--verbose] [--poles] [--boot N] [--family]\n");
+                            "[--share X] [--verbose] [--poles] [--boot N] [--family] "
+                            "[--method NAME] [--first I]\n");
             return 1;
         }
     }
@@ -437,7 +458,7 @@ int main(int argc, char **argv)
     size_t covered[N_SNR] = { 0 }, n_bounds[N_SNR] = { 0 };
     double secs[2] = { 0, 0 };
     double t_start = now_s();
-    for (size_t id = 0; id < n_sys; id++) {
+    for (size_t id = first; id < first + n_sys; id++) {
         st_system s;
         make_system(id, so.seed, &s);
         double *clean = NULL, *noise = NULL, sd[ST_MAX_SENSORS];
@@ -457,7 +478,7 @@ int main(int argc, char **argv)
                 memset(&out[1], 0, sizeof out[1]);
             else
                 run_subspace(&s, &ser, &so, &out[1]);
-            run_pipeline(&s, &ser, so.boot, &out[0]);
+            run_pipeline(&s, &ser, so.boot, &so, &out[0]);
             wrong[k] += out[0].confident_wrong != 0;
             undecided[k] += out[0].undecided != 0;
             covered[k] += out[0].covered;
@@ -470,10 +491,12 @@ int main(int argc, char **argv)
             }
             extra[k] += out[1].extra != 0;
             if (so.verbose)
-                printf("sys %2zu p %zu modes %zu spp %3.0f N %5zu %s %2.0f dB | auto %s "
+                printf("sys %2zu p %zu modes %zu spp %3.0f N %5zu %s %2.0f dB | %s %s "
                        "f %.3f z %.3f (%s) | subspace %s f %.3f z %.3f (%s)\n",
                        id, s.n_sensors, s.n_modes, s.spp, s.n_samples,
-                       s.growing ? "grow" : "stat", snr_list[k], out[0].ok ? "ok " : "BAD",
+                       s.growing ? "grow" : "stat", snr_list[k],
+                       so.method_given ? el_method_name(so.method) : "auto",
+                       out[0].ok ? "ok " : "BAD",
                        out[0].wf, out[0].wz, out[0].note, out[1].ok ? "ok " : "BAD",
                        out[1].wf, out[1].wz, out[1].note);
         }
@@ -498,8 +521,10 @@ int main(int argc, char **argv)
     printf("subspace logs with more physical modes than the truth, 30/20/10 dB: "
            "%zu/%zu/%zu\n", extra[0], extra[1], extra[2]);
 pipeline:
-    printf("default pipeline (%zu replicates): confidently wrong verdicts, undecided "
-           "(marginal or ambiguous), coverage of the 95 %% bounds of Re lambda:\n", so.boot);
+    printf("%s pipeline (--method %s, %zu replicates): confidently wrong verdicts, "
+           "undecided (marginal or ambiguous), coverage of the 95 %% bounds of Re lambda:\n",
+           so.method_given ? "the" : "default",
+           so.method_given ? el_method_name(so.method) : "auto", so.boot);
     printf("| SNR | every mode within 5 %% / 0.05 | confidently wrong | undecided | coverage |\n");
     printf("| --- | --- | --- | --- | --- |\n");
     for (size_t k = 0; k < N_SNR; k++)

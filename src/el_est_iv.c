@@ -1,11 +1,17 @@
 /* el_est_iv: instrumental variables with lagged measurements as
  * instruments (Soderstrom & Stoica 1983), with measured inputs; basis and
  * rank from the canonical correlations of the state with the past
- * (el_est_common, step 1). */
+ * (el_est_common, step 1). Without --lags the prepare hook sets the delay
+ * state to cover a horizon set in time (the subspace stage's rule,
+ * el_subspace_choose_horizon): the state is then a multi-step future of h
+ * samples, the instrument step's past the h samples before it, and A
+ * relates consecutive h-sample windows (docs/method.md, "Instrumental
+ * variables"). */
 #include <complex.h>
 
 #include "el_est_common.h"
 #include "el_estimator.h"
+#include "el_subspace.h"
 
 #include <cblas.h>
 #include <float.h>
@@ -132,8 +138,75 @@ static el_status iv_plan_create(const el_fit_options *opt, size_t n_samples,
                               (el_est_plan **)state, err);
 }
 
+/* Cost cap of the automatic horizon of iv: h * n_channels <= this, the
+ * state dimension (K + 1) p and the past's alike. The instrument step
+ * keeps its rows (n_samples x 2 h p doubles) for the rank test and the
+ * fit an SVD of the snapshots (n_samples x h p), so the cap bounds memory
+ * and time per fit; the figure is ours, chosen on family M of the
+ * accuracy study (docs/accuracy.md). */
+#define IV_MAX_ROWS 120
+
+/* 1 when the instrument step and its windows have room for K lags of p
+ * channels with depth K + 1 in n samples: el_est_plan_create's counts
+ * (2 (d + q + 1) rows, 2 (d + 1) windows), with the rows counted as the
+ * rank test counts them at its largest overlap correction, rows / (K + 1)
+ * (el_est_s1_from_gram: consecutive delay states share K samples). Below
+ * that even a canonical correlation of 1 can fail the test (measured: a
+ * noise-free 2-channel log of 400 samples at K = 59 was refused). */
+static int iv_room(size_t n, size_t p, size_t lags)
+{
+    size_t d = p * (lags + 1), dep = lags + 1;
+    if (n < lags + dep + 3 || n < 2 * lags + 4)
+        return 0;
+    size_t rows = n - lags - dep, pairs = n - lags - 1;
+    size_t windows = pairs > 2 * lags + 2 ? pairs - 2 * lags - 2 : 0;
+    return rows / (lags + 1) >= 2 * (2 * d + 1) && windows >= 2 * (d + 1);
+}
+
+/* Without lags (K = 0), without --depth and without inputs, on two or
+ * more channels: K + 1 = h, the horizon of the
+ * subspace stage's rule (el_subspace_choose_horizon, capped at
+ * IV_MAX_ROWS rows, or --horizon when given), lowered until the
+ * instrument step has room. The state z[k] = [y_k; ...; y_k-h+1] is then a
+ * multi-step window over about the correlation time of the slowest mode,
+ * and the instrument step's past (depth K + 1 unless --depth) the h
+ * samples before it: a slow mode that one step of a fast sampling barely
+ * moves is seen over its whole time scale. A record too short for the
+ * rule keeps K = 0 (the fit then says what is missing). Given lags
+ * (--lags K or --lags auto), a given --depth and a given --rank (a
+ * number or full: a rank of the state the user has in mind, checked
+ * against it) keep the state as given
+ * (iv as before: instruments one and two states back); one channel keeps
+ * its route through --lags auto (auto's choice for single-sensor logs),
+ * so single-channel results are unchanged. */
+static el_status iv_prepare(const el_series *series, el_fit_options *opt, el_error *err)
+{
+    if (series == NULL || opt == NULL)
+        return el_error_set(err, EL_ERR_INTERNAL, "iv: NULL argument");
+    if (opt->lags > 0 || opt->depth > 0 || opt->rank > 0 || opt->rank == EL_RANK_ALL ||
+        opt->inputs != NULL || series->n_channels < 2)
+        return EL_OK;
+    el_subspace_options so;
+    el_subspace_defaults(&so);
+    so.horizon_time = opt->horizon_time;
+    so.max_rows = IV_MAX_ROWS;
+    el_subspace_horizon hz;
+    el_error e2;
+    el_error_clear(&e2);
+    if (el_subspace_choose_horizon(series, &so, &hz, &e2) != EL_OK)
+        return EL_OK;
+    size_t n = series->n_samples, p = series->n_channels;
+    size_t k = hz.rows > 1 ? hz.rows - 1 : 0;
+    if (opt->horizon_time <= 0.0 && (k + 1) * p > IV_MAX_ROWS)
+        k = IV_MAX_ROWS / p > 0 ? IV_MAX_ROWS / p - 1 : 0;
+    while (k > 0 && !iv_room(n, p, k))
+        k--;
+    opt->lags = k;
+    return EL_OK;
+}
 
 const el_estimator_type el_estimator_iv = {
     EL_METHOD_IV, "iv", "instrumental variables", 1, 0,
-    iv_plan_create, el_est_plan_destroy_state, iv_fit, &iv_provider, el_est_boot_states, 0, NULL, NULL
+    iv_plan_create, el_est_plan_destroy_state, iv_fit, &iv_provider, el_est_boot_states, 0,
+    iv_prepare, NULL
 };

@@ -120,6 +120,10 @@ static el_status fit_method(const el_series *s, el_method m, size_t lags, long r
     opt.method = m;
     opt.lags = lags;
     opt.rank = rank;
+    /* The depth of the square block Hankel, as given: iv then keeps the
+     * state asked for (its prepare hook sets a horizon in time only when
+     * neither lags nor depth are given; tests/test_iv.c). */
+    opt.depth = lags + 1;
     return el_fit(s, &opt, model, w, err);
 }
 
