@@ -84,12 +84,13 @@ check "no 'p of no amplitude change' wording" $?
 grep -q 'amplitude-change test p = [0-9.e-]* (a change: p < 0.01)' "$tmp/w80"
 check "regime line names the level the p is held to" $?
 
-# Progress: a bootstrap of 30000 replicates runs for over a second.
+# Progress: a bootstrap of 150000 replicates runs for over a tick (30000
+# took 0.3 s here by 2026-12, too close to the tick).
 # EIGENLOG_PROGRESS_DELAY=0 draws from the first tick: a fast machine may
 # finish the replicates within the usual one-second delay.
-EIGENLOG_PROGRESS_DELAY=0 script -qec "\"$bin\" assess datasets/rig_test.csv --method ls --boot 30000 >/dev/null" "$tmp/prog.txt" >/dev/null 2>&1
+EIGENLOG_PROGRESS_DELAY=0 script -qec "\"$bin\" assess datasets/rig_test.csv --method ls --boot 150000 >/dev/null" "$tmp/prog.txt" >/dev/null 2>&1
 sed 's/\r/\n/g' "$tmp/prog.txt" | grep -o '^[a-z][a-z -]*: [0-9]* of [0-9]*\|^[a-z][a-z -]* \.\.\.' >"$tmp/prog_lines.txt"
-grep -q '^bootstrap replicates: [0-9]* of 30000$' "$tmp/prog_lines.txt"
+grep -q '^bootstrap replicates: [0-9]* of 150000$' "$tmp/prog_lines.txt"
 check "a terminal shows the bootstrap's progress" $?
 sed 's/\r/\n/g' "$tmp/prog.txt" | grep -q '^[a-z][a-z -]* \.\.\. [0-9][0-9]* s *$'
 check "a stage without counts shows its running seconds (wide logs: a long set-up)" $?
@@ -100,13 +101,13 @@ awk '{ label = $0; sub(/:.*| \.\.\.$/, "", label)
        if ($0 ~ / of /) prev = $(NF - 2) + 0; last = label }
      END { exit bad }' "$tmp/prog_lines.txt"
 check "each stage one label: counts never go back, no label comes back" $?
-script -qec "\"$bin\" assess datasets/rig_test.csv --method ls --boot 30000 --quiet" "$tmp/quiet.txt" >/dev/null 2>&1
+script -qec "\"$bin\" assess datasets/rig_test.csv --method ls --boot 150000 --quiet" "$tmp/quiet.txt" >/dev/null 2>&1
 ! grep -q 'bootstrap' "$tmp/quiet.txt"
 check "--quiet: no progress" $?
-script -qec "\"$bin\" assess datasets/rig_test.csv --method ls --boot 30000 --json - >/dev/null" "$tmp/json.txt" >/dev/null 2>&1
+script -qec "\"$bin\" assess datasets/rig_test.csv --method ls --boot 150000 --json - >/dev/null" "$tmp/json.txt" >/dev/null 2>&1
 ! grep -q 'bootstrap replicates' "$tmp/json.txt"
 check "--json -: no progress" $?
-"$bin" assess datasets/rig_test.csv --method ls --boot 30000 >/dev/null 2>"$tmp/err.txt"
+"$bin" assess datasets/rig_test.csv --method ls --boot 150000 >/dev/null 2>"$tmp/err.txt"
 [ ! -s "$tmp/err.txt" ]
 check "standard error not a terminal: no progress" $?
 
