@@ -1003,12 +1003,15 @@ static void replicate_location(const boot_shared *sh, const double *v, size_t st
     *spread = (el_boot_quantile(tmp, c, 0.75) - el_boot_quantile(tmp, c, 0.25)) / 1.349;
 }
 
-/* The factor that widens the replicates of one quantity to the spread the
- * model-based replicates of the bias round found (1 when there was no
- * accepted round, or when the blocks are already as wide). */
+/* The factor that widens the block replicates of one quantity to the
+ * spread the model-based replicates of the bias round found (1 when there
+ * was no accepted round, for model-based replicates, or when the blocks
+ * are already as wide). */
 static double widen_factor(const boot_shared *sh, size_t k, double blocks_spread)
 {
-    if (sh->model_spread == NULL || !(blocks_spread > 0.0))
+    /* Model-based replicates against model-based replicates: the ratio
+     * would be Monte Carlo noise only. */
+    if (sh->model_spread == NULL || sh->kind != EL_RESAMPLE_BLOCKS || !(blocks_spread > 0.0))
         return 1.0;
     double f = sh->model_spread[k] / blocks_spread;
     return isfinite(f) && f > 1.0 ? f : 1.0;
