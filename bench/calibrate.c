@@ -4,7 +4,14 @@
  *
  * Usage: calibrate [--quick] [--logs N] [--boot N] [--threads N]
  *                  [--case NAME] [--resample blocks|model] [--block L]
+ *                  [--method ls|fb|tls|iv|ssi|hankel|auto] [--length N]
  *                  [--no-bias-correction] [--verbose]
+ * --method: the estimator of every log (default ls); auto: the one the
+ * default (--method auto) picks for the log. --length: one log length.
+ * --choices: only print which estimator auto picks per case and length
+ * (no fits), so the default's coverage can be read off the per-method
+ * tables of the same logs (same seeds). The cases are the same for every
+ * method, so one estimator's table and another's come from the same logs.
  * Full run (no arguments): 60 logs per case and length, 400 replicates
  * each, about 5-8 minutes on two cores. --quick: 20 logs, 200 replicates,
  * about 1-2 minutes. The figures in docs/uncertainty.md come from
@@ -20,10 +27,12 @@
 #include <time.h>
 #include <unistd.h>
 
+#include "el_estimator.h"
 #include "el_fit.h"
 #include "el_modes.h"
 #include "el_resample.h"
 #include "el_rng.h"
+#include "el_subspace.h"
 
 #define MAX_STATES 4
 #define CAL_PI 3.14159265358979323846
@@ -74,13 +83,18 @@ typedef struct {
     const char *only;
     int verbose;
     int bias;
+    int method_auto;     /* --method auto: the default's choice (method_for) */
+    el_method method;    /* else this estimator */
+    size_t only_length;  /* 0 = every length */
+    int choices;         /* --choices: print auto's estimator per case and length, no fits */
 } cal_options;
 
 /* Result of one simulated log. */
 typedef struct {
-    int ok, cover_re, cover_zeta, oscillatory, confident_wrong, confident;
-    double p_stable, width_re;
+    int ok, cover_re, above_re, cover_zeta, oscillatory, confident_wrong, confident;
+    double p_stable, width_re, point_re;
     size_t block;
+    el_method method;    /* the estimator used (auto: the one it chose) */
 } log_result;
 
 /* The true continuous eigenvalues of a case at a given log duration. */
@@ -217,6 +231,30 @@ static size_t least_damped(const truth *t)
     return best;
 }
 
+/* The estimator --method auto (the default) fits on this log: hankel for
+ * two or more channels when the block Hankel at the automatic horizon has
+ * at least 20 windows per row, else iv (el_assess.c, choose_subspace and
+ * EL_ASSESS_SUBSPACE_WINDOWS_PER_ROW; no inputs, no --lags here). The
+ * fallback to iv when hankel gives no model is in one_log. */
+#define CAL_SUBSPACE_WINDOWS_PER_ROW 20
+static el_method method_for(const cal_options *o, const el_series *s)
+{
+    if (!o->method_auto)
+        return o->method;
+    if (s->n_channels < 2)
+        return EL_METHOD_IV;
+    el_subspace_options so;
+    el_subspace_defaults(&so);
+    el_subspace_horizon hz;
+    el_error local;
+    el_error_clear(&local);
+    if (el_subspace_choose_horizon(s, &so, &hz, &local) != EL_OK)
+        return EL_METHOD_IV;
+    size_t rows = hz.rows * s->n_channels;
+    size_t windows = s->n_samples + 1 - 2 * hz.rows;
+    return windows < CAL_SUBSPACE_WINDOWS_PER_ROW * rows ? EL_METHOD_IV : EL_METHOD_HANKEL;
+}
+
 static void one_log(const cal_case *c, size_t n_samples, size_t rep, const cal_options *o,
                     log_result *out)
 {
@@ -241,6 +279,13 @@ static void one_log(const cal_case *c, size_t n_samples, size_t rep, const cal_o
     s.rows_used = n_samples;
     el_fit_options fo;
     el_fit_defaults(&fo);
+    fo.method = method_for(o, &s);
+    if (o->choices) {
+        out->ok = 1;
+        out->method = fo.method;
+        free(values);
+        return;
+    }
     el_model model;
     memset(&model, 0, sizeof model);
     el_modes modes;
@@ -257,7 +302,16 @@ static void one_log(const cal_case *c, size_t n_samples, size_t rep, const cal_o
     bo.bias_correct = o->bias;
     el_error err;
     el_error_clear(&err);
-    if (el_fit(&s, &fo, &model, NULL, &err) != EL_OK
+    el_status fst = el_fit(&s, &fo, &model, NULL, &err);
+    if (fst != EL_OK && o->method_auto && fo.method == EL_METHOD_HANKEL) {
+        el_model_free(&model);
+        memset(&model, 0, sizeof model);
+        el_error_clear(&err);
+        fo.method = EL_METHOD_IV;
+        fst = el_fit(&s, &fo, &model, NULL, &err);
+    }
+    out->method = fo.method;
+    if (fst != EL_OK
         || el_modes_compute(&model, &modes, NULL, &err) != EL_OK
         || el_boot_run(&s, &fo, &model, &modes, &bo, &br, NULL, &err) != EL_OK)
         goto done;
@@ -276,9 +330,11 @@ static void one_log(const cal_case *c, size_t n_samples, size_t rep, const cal_o
     double tz = -tre / hypot(tre, tim);
     out->ok = 1;
     out->cover_re = b->re.lo <= tre && tre <= b->re.hi;
+    out->above_re = tre > b->re.hi;
     out->oscillatory = tim > 0.0;
     out->cover_zeta = b->damping_ratio.lo <= tz && tz <= b->damping_ratio.hi;
     out->width_re = b->re.hi - b->re.lo;
+    out->point_re = modes.modes[best].lambda_re;
     out->p_stable = br.p_stable;
     out->block = br.block_length;
     int truly_stable = tre < 0.0;
@@ -331,6 +387,10 @@ static int parse_args(int argc, char **argv, cal_options *o)
     o->only = NULL;
     o->verbose = 0;
     o->bias = 1;
+    o->method_auto = 0;
+    o->method = EL_METHOD_LS;
+    o->only_length = 0;
+    o->choices = 0;
     for (int i = 1; i < argc; i++) {
         const char *a = argv[i], *v = i + 1 < argc ? argv[i + 1] : NULL;
         if (strcmp(a, "--quick") == 0) {
@@ -352,6 +412,21 @@ static int parse_args(int argc, char **argv, cal_options *o)
         } else if (strcmp(a, "--block") == 0 && v) {
             o->block = (size_t)strtoul(v, NULL, 10);
             i++;
+        } else if (strcmp(a, "--method") == 0 && v) {
+            el_error perr;
+            el_error_clear(&perr);
+            o->method_auto = strcmp(v, "auto") == 0;
+            if (!o->method_auto && el_method_parse(v, &o->method, &perr) != EL_OK) {
+                fprintf(stderr, "calibrate: %s\n", perr.message);
+                return 1;
+            }
+            i++;
+        } else if (strcmp(a, "--choices") == 0) {
+            o->choices = 1;
+            o->method_auto = 1;
+        } else if (strcmp(a, "--length") == 0 && v) {
+            o->only_length = (size_t)strtoul(v, NULL, 10);
+            i++;
         } else if (strcmp(a, "--case") == 0 && v) {
             o->only = v;
             i++;
@@ -362,6 +437,8 @@ static int parse_args(int argc, char **argv, cal_options *o)
             fprintf(stderr,
                     "usage: calibrate [--quick] [--logs N] [--boot N] [--threads N]\n"
                     "                 [--case NAME] [--resample blocks|model] [--block L]\n"
+                    "                 [--method ls|fb|tls|iv|ssi|hankel|auto] [--length N]\n"
+                    "                 [--choices]\n"
                     "                 [--no-bias-correction] [--verbose]\n");
             return 1;
         }
@@ -415,12 +492,15 @@ int main(int argc, char **argv)
     for (size_t c = 0; c < N_CASES; c++) {
         if (o.only && strcmp(o.only, cases[c].name) != 0)
             continue;
-        for (size_t l = 0; l < N_LENGTHS; l++)
+        for (size_t l = 0; l < N_LENGTHS; l++) {
+            if (o.only_length && lengths[l] != o.only_length)
+                continue;
             for (size_t r = 0; r < o.logs; r++) {
                 q.job_case[q.n_jobs] = c;
                 q.job_len[q.n_jobs] = l;
                 q.n_jobs++;
             }
+        }
     }
     atomic_init(&q.next, 0);
     struct timespec t0, t1;
@@ -438,19 +518,20 @@ int main(int argc, char **argv)
     double secs = (double)(t1.tv_sec - t0.tv_sec) + 1e-9 * (double)(t1.tv_nsec - t0.tv_nsec);
 
     printf("eigenlog bootstrap calibration: %zu logs per case and length, %zu replicates, "
-           "resample %s, block %s, bias correction %s, %zu threads, %.1f s\n",
-           o.logs, o.boot, o.kind == EL_RESAMPLE_MODEL ? "model" : "blocks",
+           "method %s, resample %s, block %s, bias correction %s, %zu threads, %.1f s\n",
+           o.logs, o.boot, o.method_auto ? "auto" : el_method_name(o.method), o.kind == EL_RESAMPLE_MODEL ? "model" : "blocks",
            o.block ? "given" : "auto", o.bias ? "on" : "off", started, secs);
     printf("coverage of the nominal 95%% bounds of the least-damped mode; wrong = p >= 0.95 "
            "for the wrong class\n\n");
-    printf("%-14s %6s %5s %7s %7s %7s %7s %6s %9s\n", "case", "n", "ok", "cov_re", "cov_zeta",
-           "p_stab", "wrong", "conf", "block");
+    printf("%-14s %6s %5s %7s %7s %7s %7s %6s %9s %7s %7s %6s %6s\n", "case", "n", "ok", "cov_re",
+           "cov_zeta", "p_stab", "wrong", "conf", "block", "w/sd", "bias/sd", "method", "above");
     tally all_long = { 0 }, all = { 0 }, unstable = { 0 }, clean_long = { 0 };
     for (size_t j0 = 0; j0 < q.n_jobs; j0 += o.logs) {
         const cal_case *c = &cases[q.job_case[j0]];
         size_t len = lengths[q.job_len[j0]];
         tally t = { 0 };
-        double ps = 0.0, blk = 0.0;
+        double ps = 0.0, blk = 0.0, sw = 0.0, sx = 0.0, sxx = 0.0, above = 0.0;
+        size_t used[EL_METHOD_COUNT] = { 0 };
         for (size_t j = j0; j < j0 + o.logs; j++) {
             tally_add(&t, &q.res[j]);
             tally_add(&all, &q.res[j]);
@@ -463,6 +544,12 @@ int main(int argc, char **argv)
             if (q.res[j].ok) {
                 ps += q.res[j].p_stable;
                 blk += (double)q.res[j].block;
+                sw += q.res[j].width_re;
+                above += q.res[j].above_re;
+                sx += q.res[j].point_re;
+                sxx += q.res[j].point_re * q.res[j].point_re;
+                if ((size_t)q.res[j].method < EL_METHOD_COUNT)
+                    used[q.res[j].method]++;
             }
         }
         double n = t.n > 0 ? (double)t.n : 1.0;
@@ -471,9 +558,29 @@ int main(int argc, char **argv)
             snprintf(zeta, sizeof zeta, "%.3f", (double)t.zeta / (double)t.osc);
         else
             snprintf(zeta, sizeof zeta, "n/a");
-        printf("%-14s %6zu %5zu %7.3f %7s %7.3f %7.3f %6.3f %9.1f\n", c->name, len, t.n,
-               (double)t.re / n, zeta, ps / n, (double)t.wrong / n, (double)t.confident / n,
-               blk / n);
+        /* w/sd: mean width of the Re bounds over the width a normal 95%
+         * interval with the spread of the point estimates across logs would
+         * have (2 x 1.96 sd); below 1: bounds too narrow. bias/sd: mean
+         * point error of Re over that spread. */
+        truth tr;
+        double tre = NAN;
+        if (build_truth(c, len, &tr) == 0)
+            tre = tr.re[least_damped(&tr)];
+        double mean_pt = sx / n, var_pt = t.n > 1 ? (sxx - n * mean_pt * mean_pt) / (n - 1.0) : NAN;
+        double sd_pt = var_pt > 0.0 ? sqrt(var_pt) : NAN;
+        size_t mode_m = 0;
+        for (size_t k = 1; k < EL_METHOD_COUNT; k++)
+            if (used[k] > used[mode_m])
+                mode_m = k;
+        char meth[24];
+        if (used[mode_m] == t.n)
+            snprintf(meth, sizeof meth, "%s", el_method_name((el_method)mode_m));
+        else
+            snprintf(meth, sizeof meth, "%s%zu", el_method_name((el_method)mode_m), used[mode_m]);
+        printf("%-14s %6zu %5zu %7.3f %7s %7.3f %7.3f %6.3f %9.1f %7.2f %7.2f %6s %6.3f\n", c->name,
+               len, t.n, (double)t.re / n, zeta, ps / n, (double)t.wrong / n,
+               (double)t.confident / n, blk / n, sw / n / (3.92 * sd_pt), (mean_pt - tre) / sd_pt,
+               meth, above / n);
     }
     printf("\noverall (logs >= 2000 samples): coverage Re %.3f (%zu logs), zeta %.3f (%zu "
            "oscillatory)\n",

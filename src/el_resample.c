@@ -88,6 +88,9 @@ typedef struct {
      * subtracted from every replicate (NULL: none). */
     const double *bias_re, *bias_im;
     double bias_trace, bias_det;
+    /* Spread (IQR / 1.349) of the bias round's model-based replicates: per
+     * mode Re, per mode Im, trace, determinant (NULL: no accepted round). */
+    const double *model_spread;
     int bias_phase;               /* 1: the run measures the bias */
     double *bias_rec;             /* bias phase: 2 n_modes + 2 per replicate */
     unsigned char *bias_ok;
@@ -101,6 +104,9 @@ typedef struct {
     /* per replicate, written by exactly one thread */
     unsigned char *ok, *amb, *stable;
     double *mode_re, *mode_im, *trace, *det;
+    double *eig_re;               /* r per replicate: Re lambda of each eigenvalue,
+                                     bias-shifted, for P(stable) after the recentring */
+    size_t *eig_mode;             /* r per replicate: its matched point mode */
     atomic_size_t next, done;
 } boot_shared;
 
@@ -304,6 +310,11 @@ static void finish_replicate(boot_worker *w, size_t rep, int fail)
         return;
     sh->amb[rep] = (unsigned char)amb;
     sh->stable[rep] = (unsigned char)(max_re < 0.0);
+    for (size_t j = 0; j < sh->r; j++) {
+        size_t q = el_boot_matched_mode(w->matcher, j);
+        sh->eig_mode[rep * sh->r + j] = q;
+        sh->eig_re[rep * sh->r + j] = w->lre[j] - (sh->bias_re != NULL ? sh->bias_re[q] : 0.0);
+    }
     if (sh->has_plane) {
         sh->trace[rep] = tr;
         sh->det[rep] = det;
@@ -522,7 +533,7 @@ static double point_mismatch(boot_worker *w, const boot_shared *sh, const el_mod
 }
 
 typedef struct {
-    double *states, *resid, *a0, *b0, *c0, *pwork, *bias, *bias_samples;
+    double *states, *resid, *a0, *b0, *c0, *pwork, *bias, *bias_samples, *spread;
     double *est_states;           /* the method's own states (non-ls methods) */
     unsigned char *bias_ok;
     el_boot_engine *engine;
@@ -531,6 +542,7 @@ typedef struct {
     size_t n_workers;
     unsigned char *flags;
     double *rec;
+    size_t *eig_mode;
 } boot_buffers;
 
 static void buffers_free(boot_buffers *b)
@@ -549,9 +561,11 @@ static void buffers_free(boot_buffers *b)
     el_boot_engine_destroy(b->engine);
     free(b->flags);
     free(b->rec);
+    free(b->eig_mode);
     free(b->bias);
     free(b->bias_samples);
     free(b->bias_ok);
+    free(b->spread);
 }
 
 /* Runs the current phase on every worker (the calling thread is worker 0)
@@ -614,9 +628,10 @@ static el_status measure_bias(boot_shared *sh, boot_buffers *bf, el_boot_bias_pl
     size_t nm = sh->n_modes, nb = plan.replicates, stride = 2 * nm + 2;
     double wgt = plan.weight;
     bf->bias = calloc(2 * nm, sizeof(double));
+    bf->spread = calloc(stride, sizeof(double));
     bf->bias_samples = malloc(nb * stride * sizeof(double));
     bf->bias_ok = calloc(nb, 1);
-    if (!bf->bias || !bf->bias_samples || !bf->bias_ok)
+    if (!bf->bias || !bf->spread || !bf->bias_samples || !bf->bias_ok)
         return el_error_set(err, EL_ERR_NOMEM, "out of memory (bootstrap bias)");
     sh->bias_rec = bf->bias_samples;
     sh->bias_ok = bf->bias_ok;
@@ -646,6 +661,7 @@ static el_status measure_bias(boot_shared *sh, boot_buffers *bf, el_boot_bias_pl
                 tmp[c++] = sh->bias_rec[i * stride + k];
         qsort(tmp, c, sizeof(double), cmp_double);
         med[k] = el_boot_quantile(tmp, c, 0.5);
+        bf->spread[k] = (el_boot_quantile(tmp, c, 0.75) - el_boot_quantile(tmp, c, 0.25)) / 1.349;
         /* A small-sample bias is O(1/T) in Re lambda (T the log's
          * duration), mostly far inside the O(1/sqrt(T)) spread. A median
          * shift of more than half the spread (IQR/1.349) that is also
@@ -699,6 +715,10 @@ static el_status measure_bias(boot_shared *sh, boot_buffers *bf, el_boot_bias_pl
     free(tmp);
     sh->bias_re = bf->bias;
     sh->bias_im = bf->bias + nm;
+    /* Only a full round widens the blocks: the IQR of a tapered round's
+     * few replicates is too noisy, and taking the larger of two spreads
+     * would turn that noise into wider bounds. */
+    sh->model_spread = wgt >= 1.0 ? bf->spread : NULL;
     return EL_OK;
 }
 
@@ -997,6 +1017,120 @@ static el_status prepare(const el_series *series, const el_series *inputs,
     return EL_OK;
 }
 
+/* Median and spread (IQR / 1.349, the standard deviation for a normal
+ * law) of the finite values of v[i * stride] over the replicates that gave
+ * a model (tmp: total doubles); NaN when none. */
+static void replicate_location(const boot_shared *sh, const double *v, size_t stride,
+                               double *tmp, double *median, double *spread)
+{
+    size_t c = 0;
+    for (size_t i = 0; i < sh->total; i++)
+        if (sh->ok[i] && isfinite(v[i * stride]))
+            tmp[c++] = v[i * stride];
+    *median = *spread = NAN;
+    if (c == 0)
+        return;
+    qsort(tmp, c, sizeof(double), cmp_double);
+    *median = el_boot_quantile(tmp, c, 0.5);
+    *spread = (el_boot_quantile(tmp, c, 0.75) - el_boot_quantile(tmp, c, 0.25)) / 1.349;
+}
+
+/* The factor that widens the block replicates of one quantity to the
+ * spread the model-based replicates of the bias round found (1 when there
+ * was no accepted round, for model-based replicates, or when the blocks
+ * are already as wide). */
+static double widen_factor(const boot_shared *sh, size_t k, double blocks_spread)
+{
+    /* Model-based replicates against model-based replicates: the ratio
+     * would be Monte Carlo noise only. */
+    if (sh->model_spread == NULL || sh->kind != EL_RESAMPLE_BLOCKS || !(blocks_spread > 0.0))
+        return 1.0;
+    double f = sh->model_spread[k] / blocks_spread;
+    return isfinite(f) && f > 1.0 ? f : 1.0;
+}
+
+/* Location of the replicate distribution (Kilian 1998, the second stage
+ * of the bootstrap-after-bootstrap, centred on the bias-corrected
+ * estimate). Resampled blocks of consecutive pairs keep part of the
+ * dependence that makes least squares drift toward damping, so their
+ * replicates are centred at theta_hat + b*, with b* somewhere between 0
+ * (single pairs) and the full small-sample bias b (model-based
+ * replicates, which regenerate the series); b* grows with the block
+ * length (docs/uncertainty.md). The percentile interval needs the
+ * replicates centred on theta_hat - b_hat (b_hat from the bias round, 0
+ * without it). Kilian draws the second stage from the bias-corrected
+ * model to get there; here every mode's replicates (and trace and
+ * determinant) are shifted so that their median is that centre, which
+ * agrees with it to first order and costs no second set of replicates.
+ * The spread and skewness of the replicates are kept as they are. P(stable)
+ * follows from the shifted eigenvalues. Medians in replicate order: the
+ * same on any thread count. */
+static el_status recentre(boot_shared *sh, el_error *err)
+{
+    size_t nm = sh->n_modes, r = sh->r, total = sh->total;
+    double *tmp = malloc((total + 1) * sizeof(double));
+    double *loc = malloc(6 * nm * sizeof(double) + 1); /* median, centre, factor */
+    if (tmp == NULL || loc == NULL) {
+        free(tmp);
+        free(loc);
+        return el_error_set(err, EL_ERR_NOMEM, "out of memory (bootstrap centre)");
+    }
+    double *med = loc, *ctr = loc + 2 * nm, *fac = loc + 4 * nm;
+    for (size_t q = 0; q < nm; q++) {
+        const el_mode *md = &sh->point->modes[q];
+        double b_re = sh->bias_re != NULL ? sh->bias_re[q] : 0.0;
+        double b_im = sh->bias_im != NULL ? sh->bias_im[q] : 0.0;
+        double sp_re, sp_im;
+        replicate_location(sh, sh->mode_re + q, nm, tmp, &med[q], &sp_re);
+        replicate_location(sh, sh->mode_im + q, nm, tmp, &med[nm + q], &sp_im);
+        ctr[q] = md->lambda_re - b_re;
+        ctr[nm + q] = fabs(md->lambda_im) - b_im;
+        fac[q] = widen_factor(sh, q, sp_re);
+        fac[nm + q] = widen_factor(sh, nm + q, sp_im);
+        if (!isfinite(med[q]) || !isfinite(ctr[q])) {
+            med[q] = ctr[q] = 0.0;
+            fac[q] = 1.0;
+        }
+        /* A real mode's replicates fold onto Im >= 0: left as they are. */
+        if (!md->pair || !isfinite(med[nm + q]) || !isfinite(ctr[nm + q])) {
+            med[nm + q] = ctr[nm + q] = 0.0;
+            fac[nm + q] = 1.0;
+        }
+    }
+    for (size_t i = 0; i < total; i++) {
+        if (!sh->ok[i])
+            continue;
+        for (size_t q = 0; q < nm; q++) {
+            double *re = &sh->mode_re[i * nm + q], *im = &sh->mode_im[i * nm + q];
+            *re = ctr[q] + fac[q] * (*re - med[q]);
+            *im = fmax(0.0, ctr[nm + q] + fac[nm + q] * (*im - med[nm + q]));
+        }
+        double top = -HUGE_VAL;
+        for (size_t j = 0; j < r; j++) {
+            size_t q = sh->eig_mode[i * r + j];
+            top = fmax(top, ctr[q] + fac[q] * (sh->eig_re[i * r + j] - med[q]));
+        }
+        sh->stable[i] = (unsigned char)(top < 0.0);
+    }
+    if (sh->has_plane) {
+        double tr, det, m_tr, m_det, s_tr, s_det;
+        point_plane(sh->point, &tr, &det);
+        replicate_location(sh, sh->trace, 1, tmp, &m_tr, &s_tr);
+        replicate_location(sh, sh->det, 1, tmp, &m_det, &s_det);
+        double f_tr = widen_factor(sh, 2 * nm, s_tr), f_det = widen_factor(sh, 2 * nm + 1, s_det);
+        double c_tr = tr - sh->bias_trace, c_det = det - sh->bias_det;
+        for (size_t i = 0; i < total; i++) {
+            if (isfinite(m_tr) && isfinite(c_tr))
+                sh->trace[i] = c_tr + f_tr * (sh->trace[i] - m_tr);
+            if (isfinite(m_det) && isfinite(c_det))
+                sh->det[i] = c_det + f_det * (sh->det[i] - m_det);
+        }
+    }
+    free(tmp);
+    free(loc);
+    return EL_OK;
+}
+
 static el_status add_run_warnings(const boot_shared *sh, const el_model *model,
                                   double mismatch, el_boot_result *res,
                                   el_warnings *warnings)
@@ -1087,10 +1221,11 @@ el_status el_boot_run(const el_series *series, const el_fit_options *opt_fit,
     if (st == EL_OK) {
         sh.max_blocks = el_boot_block_count(sh.m, sh.block);
         bf.flags = calloc(3 * total, 1);
-        bf.rec = malloc((2 * nm + 2) * total * sizeof(double));
+        bf.rec = malloc(((2 * nm + 2) * total + total * sh.r) * sizeof(double));
+        bf.eig_mode = malloc(total * sh.r * sizeof(size_t) + 1);
         size_t nt = thread_count(opt->threads, total);
         bf.workers = calloc(nt, sizeof(boot_worker));
-        if (!bf.flags || !bf.rec || !bf.workers) {
+        if (!bf.flags || !bf.rec || !bf.eig_mode || !bf.workers) {
             st = el_error_set(err, EL_ERR_NOMEM, "out of memory (bootstrap)");
         } else {
             sh.ok = bf.flags;
@@ -1100,6 +1235,8 @@ el_status el_boot_run(const el_series *series, const el_fit_options *opt_fit,
             sh.mode_im = bf.rec + nm * total;
             sh.trace = bf.rec + 2 * nm * total;
             sh.det = sh.trace + total;
+            sh.eig_re = sh.det + total;
+            sh.eig_mode = bf.eig_mode;
             for (size_t i = 0; i < nt && st == EL_OK; i++) {
                 st = worker_init(&bf.workers[i], &sh, modes, err);
                 if (st == EL_OK)
@@ -1136,6 +1273,8 @@ el_status el_boot_run(const el_series *series, const el_fit_options *opt_fit,
         result->block_length_pw = block_auto ? sh.block_pw : 0;
         result->block_was_auto = block_auto;
         result->has_plane = sh.has_plane;
+        if (st == EL_OK)
+            st = recentre(&sh, err);
         if (st == EL_OK)
             st = summarise(&sh, modes, opt, result, err);
     }
