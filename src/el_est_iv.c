@@ -146,6 +146,16 @@ static el_status iv_plan_create(const el_fit_options *opt, size_t n_samples,
  * accuracy study (docs/accuracy.md). */
 #define IV_MAX_ROWS 120
 
+/* Most cells (samples x state dimension) the long horizon may give the
+ * instrument step, which holds a few matrices of that size: 8e6 cells is
+ * 64 MB each, the size of a 1e6-row x 8-channel log. A longer log keeps a
+ * shorter horizon (down to the plain delay state), so assess's memory stays
+ * a small multiple of the data's (measured at 1e6 x 8 with no cap: 1.5 GB
+ * peak, 13 s CPU, against 0.3 GB and 3.2 s with the plain state). The
+ * multi-sensor logs of the accuracy study (8,000-40,000 samples, a state of
+ * at most IV_MAX_ROWS: 4.8e6 cells) keep their full horizon. */
+#define IV_MAX_STATE_CELLS 8000000u
+
 /* 1 when the instrument step and its windows have room for K lags of p
  * channels with depth K + 1 in n samples: el_est_plan_create's counts
  * (2 (d + q + 1) rows, 2 (d + 1) windows), with the rows counted as the
@@ -199,7 +209,7 @@ static el_status iv_prepare(const el_series *series, el_fit_options *opt, el_err
     size_t k = hz.rows > 1 ? hz.rows - 1 : 0;
     if (opt->horizon_time <= 0.0 && (k + 1) * p > IV_MAX_ROWS)
         k = IV_MAX_ROWS / p > 0 ? IV_MAX_ROWS / p - 1 : 0;
-    while (k > 0 && !iv_room(n, p, k))
+    while (k > 0 && (!iv_room(n, p, k) || n * (k + 1) * p > IV_MAX_STATE_CELLS))
         k--;
     opt->lags = k;
     return EL_OK;

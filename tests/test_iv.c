@@ -168,11 +168,49 @@ static void test_prepare_rules(void **state)
     assert_int_equal(opt.lags, 0);
 }
 
+/* A long log keeps the instrument step's workspace bounded: the fixture
+ * repeated 40 times (320,000 samples of 3 channels) would get the full
+ * horizon's state (its subspace horizon times 3 channels, over 8e6 cells),
+ * and gets at most 8e6 / n / 3 delay rows instead (el_est_iv's
+ * IV_MAX_STATE_CELLS; measured at 1e6 x 8 without it: 1.5 GB peak). */
+static void test_prepare_long_log_capped(void **state)
+{
+    (void)state;
+    el_series s;
+    fixture_series(&s);
+    size_t reps = 40, n = IV_FIX_N * reps;
+    double *v = malloc(n * IV_FIX_P * sizeof(double));
+    assert_non_null(v);
+    /* column-major channels: each channel's samples repeated */
+    for (size_t c = 0; c < IV_FIX_P; c++)
+        for (size_t r = 0; r < reps; r++)
+            memcpy(v + c * n + r * IV_FIX_N, (const double *)iv_fix_y + c * IV_FIX_N,
+                   IV_FIX_N * sizeof(double));
+    s.values = v;
+    s.n_samples = n;
+    el_fit_options opt;
+    el_fit_defaults(&opt);
+    opt.method = EL_METHOD_IV;
+    el_error err;
+    el_error_clear(&err);
+    assert_int_equal(el_estimator_prepare(&s, &opt, &err), EL_OK);
+    el_subspace_options so;
+    el_subspace_defaults(&so);
+    so.max_rows = 120;
+    el_subspace_horizon hz;
+    assert_int_equal(el_subspace_choose_horizon(&s, &so, &hz, &err), EL_OK);
+    assert_true(n * hz.rows * IV_FIX_P > 8000000u);      /* the cap is what acts */
+    assert_true(n * (opt.lags + 1) * IV_FIX_P <= 8000000u);
+    assert_true(opt.lags >= 1);
+    free(v);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_fewer_sensors_than_states),
         cmocka_unit_test(test_prepare_rules),
+        cmocka_unit_test(test_prepare_long_log_capped),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }
