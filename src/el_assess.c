@@ -1111,6 +1111,16 @@ static void choose_subspace(el_assessment *r, el_fit_options *fit)
              r->series.n_channels, el_method_name(r->cross_method));
 }
 
+/* Moves err's message into why (cut to fit) and clears err: a fallback
+ * names what the refused estimator said, then goes on as if it had not. */
+static void take_message(el_error *err, char *why, size_t size)
+{
+    if (err == NULL)
+        return;
+    snprintf(why, size, "%.150s", err->message);
+    el_error_clear(err);
+}
+
 /* The subspace stage found nothing it could tell from noise, or its model
  * does not fit the lagged state: iv as before, with a note. Other errors
  * (memory, internal) stand. */
@@ -1120,10 +1130,7 @@ static el_status subspace_fallback(el_assess_plan *ap, el_fit_options *fit,
     if (st != EL_ERR_NUMERIC && st != EL_ERR_DATA && st != EL_ERR_USAGE)
         return st;
     char why[160] = "";
-    if (err != NULL)
-        snprintf(why, sizeof why, "%.150s", err->message);
-    if (err != NULL)
-        el_error_clear(err);
+    take_message(err, why, sizeof why);
     fit->method = EL_METHOD_IV;
     fit->lags = 0;
     st = el_warnings_add(&r->warnings,
@@ -1147,10 +1154,7 @@ static el_status white_fallback(el_assess_plan *ap, el_fit_options *fit,
         !r->dynamics.white)
         return st;
     char why[160] = "";
-    if (err != NULL)
-        snprintf(why, sizeof why, "%.150s", err->message);
-    if (err != NULL)
-        el_error_clear(err);
+    take_message(err, why, sizeof why);
     const char *refused = el_method_name(fit->method);
     fit->method = EL_METHOD_LS;
     fit->rank = EL_RANK_AUTO;
