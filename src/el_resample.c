@@ -51,6 +51,15 @@ el_boot_bias_plan el_boot_bias_rule(size_t n_pairs)
     return p;
 }
 
+double el_boot_widen_factor(double model_spread, double blocks_spread, double weight,
+                            size_t n_model)
+{
+    if (n_model < BOOT_BIAS_MIN_JUDGED || !(blocks_spread > 0.0) || !(weight > 0.0))
+        return 1.0;
+    double f = model_spread / blocks_spread;
+    return isfinite(f) && f > 1.0 ? 1.0 + (weight < 1.0 ? weight : 1.0) * (f - 1.0) : 1.0;
+}
+
 void el_boot_defaults(el_boot_options *opt)
 {
     memset(opt, 0, sizeof *opt);
@@ -91,6 +100,8 @@ typedef struct {
     /* Spread (IQR / 1.349) of the bias round's model-based replicates: per
      * mode Re, per mode Im, trace, determinant (NULL: no accepted round). */
     const double *model_spread;
+    double model_weight;   /* the bias round's weight B / 200, for the widening */
+    size_t model_count;    /* its accepted replicates */
     int bias_phase;               /* 1: the run measures the bias */
     double *bias_rec;             /* bias phase: 2 n_modes + 2 per replicate */
     unsigned char *bias_ok;
@@ -715,10 +726,13 @@ static el_status measure_bias(boot_shared *sh, boot_buffers *bf, el_boot_bias_pl
     free(tmp);
     sh->bias_re = bf->bias;
     sh->bias_im = bf->bias + nm;
-    /* Only a full round widens the blocks: the IQR of a tapered round's
-     * few replicates is too noisy, and taking the larger of two spreads
-     * would turn that noise into wider bounds. */
-    sh->model_spread = wgt >= 1.0 ? bf->spread : NULL;
+    /* A tapered round widens with its weight (so the bounds do not jump at
+     * EL_BOOT_BIAS_FULL_PAIRS), and not at all below BOOT_BIAS_MIN_JUDGED
+     * replicates: their IQR is too noisy, and taking the larger of two
+     * spreads would turn that noise into wider bounds. */
+    sh->model_spread = bf->spread;
+    sh->model_weight = wgt;
+    sh->model_count = n_ok;
     return EL_OK;
 }
 
@@ -1045,8 +1059,8 @@ static double widen_factor(const boot_shared *sh, size_t k, double blocks_spread
      * would be Monte Carlo noise only. */
     if (sh->model_spread == NULL || sh->kind != EL_RESAMPLE_BLOCKS || !(blocks_spread > 0.0))
         return 1.0;
-    double f = sh->model_spread[k] / blocks_spread;
-    return isfinite(f) && f > 1.0 ? f : 1.0;
+    return el_boot_widen_factor(sh->model_spread[k], blocks_spread, sh->model_weight,
+                                sh->model_count);
 }
 
 /* Location of the replicate distribution (Kilian 1998, the second stage

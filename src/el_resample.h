@@ -51,6 +51,18 @@ typedef struct {
 
 el_boot_bias_plan el_boot_bias_rule(size_t n_pairs);
 
+/* The factor by which the moving-block replicates of one quantity are
+ * widened about their median, given that quantity's spread (IQR / 1.349)
+ * among the bias round's n_model accepted model-based replicates, its
+ * spread among the block replicates, and the round's weight
+ * (el_boot_bias_rule): 1 + weight (f - 1) with f = model / blocks when
+ * f > 1, else 1; also 1 with fewer than 20 model replicates (too noisy a
+ * spread to widen by) or a non-finite or non-positive spread. Never
+ * narrows; continuous in the weight, so bounds do not jump where the round
+ * starts to taper. Pure function. */
+double el_boot_widen_factor(double model_spread, double blocks_spread, double weight,
+                            size_t n_model);
+
 /* Fewest replicates from which the pipeline (el_assess, el_track) reports
  * bounds and P(stable). Below it the 2.5% tail of a 95% percentile
  * interval holds fewer than 2.5 replicates and P(stable) moves in steps of

@@ -1211,6 +1211,28 @@ static void test_errors(void **state)
  * window cost 1.8 times a 10,002-sample one). Its cost B(n) n never passes
  * the full round's at EL_BOOT_BIAS_FULL_PAIRS, and up to that length it
  * is the full round of 200 at weight 1 (the calibrated setting). */
+/* The widening of block replicates to the bias round's model-based spread
+ * (docs/uncertainty.md) follows the round's taper: full at the full
+ * round, continuous across EL_BOOT_BIAS_FULL_PAIRS (adjacent lengths
+ * differ by at most 1/200 of the widening), none below 20 replicates and
+ * never a narrowing. Values exact in binary: tolerance 1e-15. */
+static void test_widen_follows_taper(void **state)
+{
+    (void)state;
+    el_boot_bias_plan full = el_boot_bias_rule(EL_BOOT_BIAS_FULL_PAIRS);
+    el_boot_bias_plan next = el_boot_bias_rule(EL_BOOT_BIAS_FULL_PAIRS + 1);
+    double f_full = el_boot_widen_factor(1.2, 1.0, full.weight, full.replicates);
+    double f_next = el_boot_widen_factor(1.2, 1.0, next.weight, next.replicates);
+    assert_true(fabs(f_full - 1.2) < 1e-15);
+    assert_true(f_next > 1.19 && f_next <= f_full);
+    el_boot_bias_plan far = el_boot_bias_rule(4 * EL_BOOT_BIAS_FULL_PAIRS);  /* 12 replicates */
+    assert_true(far.replicates < 20);
+    assert_true(el_boot_widen_factor(1.2, 1.0, far.weight, far.replicates) == 1.0);
+    assert_true(el_boot_widen_factor(0.8, 1.0, 1.0, 200) == 1.0);     /* never narrows */
+    assert_true(el_boot_widen_factor(NAN, 1.0, 1.0, 200) == 1.0);
+    assert_true(el_boot_widen_factor(1.2, 0.0, 1.0, 200) == 1.0);
+}
+
 static void test_bias_rule_smooth(void **state)
 {
     (void)state;
@@ -1285,6 +1307,7 @@ int main(void)
         cmocka_unit_test(test_dependent_channel_rank_and_bootstrap),
         cmocka_unit_test(test_progress),
         cmocka_unit_test(test_bias_rule_smooth),
+        cmocka_unit_test(test_widen_follows_taper),
         cmocka_unit_test(test_bias_round_tapered),
         cmocka_unit_test(test_errors),
     };
