@@ -116,6 +116,20 @@ static void test_fewer_sensors_than_states(void **state)
     el_warnings_free(&w);
 }
 
+/* The subspace stage's horizon for s with iv's cap of 120 rows: what the
+ * prepare hook starts from. */
+static el_subspace_horizon iv_horizon(const el_series *s)
+{
+    el_subspace_options so;
+    el_subspace_defaults(&so);
+    so.max_rows = 120;
+    el_subspace_horizon hz;
+    el_error err;
+    el_error_clear(&err);
+    assert_int_equal(el_subspace_choose_horizon(s, &so, &hz, &err), EL_OK);
+    return hz;
+}
+
 /* The prepare hook's rules: without lags, K + 1 is the horizon of the
  * subspace stage's rule with iv's cap of 120 rows (h p <= 120), lowered
  * until the rank test has room; given lags, rank or depth, and inputs,
@@ -131,11 +145,7 @@ static void test_prepare_rules(void **state)
     el_error err;
     el_error_clear(&err);
     assert_int_equal(el_estimator_prepare(&s, &opt, &err), EL_OK);
-    el_subspace_options so;
-    el_subspace_defaults(&so);
-    so.max_rows = 120;
-    el_subspace_horizon hz;
-    assert_int_equal(el_subspace_choose_horizon(&s, &so, &hz, &err), EL_OK);
+    el_subspace_horizon hz = iv_horizon(&s);
     /* at most the horizon (lowered when the rank test's rows run short:
      * 8000 samples of 3 channels leave room for 25 rows) */
     assert_true(opt.lags >= 1 && opt.lags + 1 <= hz.rows);
@@ -194,11 +204,7 @@ static void test_prepare_long_log_capped(void **state)
     el_error err;
     el_error_clear(&err);
     assert_int_equal(el_estimator_prepare(&s, &opt, &err), EL_OK);
-    el_subspace_options so;
-    el_subspace_defaults(&so);
-    so.max_rows = 120;
-    el_subspace_horizon hz;
-    assert_int_equal(el_subspace_choose_horizon(&s, &so, &hz, &err), EL_OK);
+    el_subspace_horizon hz = iv_horizon(&s);
     assert_true(n * hz.rows * IV_FIX_P > 8000000u);      /* the cap is what acts */
     assert_true(n * (opt.lags + 1) * IV_FIX_P <= 8000000u);
     assert_true(opt.lags >= 1);
