@@ -1,7 +1,16 @@
 /* eigenlog: command-line entry point; dispatches to the subcommands. */
+/* getauxval, prctl (Linux) and setenv: ask glibc for them; the re-exec
+ * below is compiled on Linux only. */
+#define _DEFAULT_SOURCE 1
 #include <cblas.h>
 #include <stdio.h>
+#include <stdlib.h>
 #include <string.h>
+#include <unistd.h>
+#if defined(__linux__)
+#include <sys/auxv.h>
+#include <sys/prctl.h>
+#endif
 
 #include "cli.h"
 #include "el_report.h"
@@ -37,11 +46,48 @@ static void print_main_help(void)
                        "failure,\n4 input/output error, 5 verdict matched --fail-on.\n");
 }
 
+/* The OpenBLAS built for threads starts its worker threads in its library
+ * constructor, before main, from OPENBLAS_NUM_THREADS (else one per core),
+ * and an idle worker spins (sched_yield) for about 0.1 s before it sleeps:
+ * openblas_set_num_threads(1) in main comes too late to stop that, and
+ * every command paid about 0.1 s of CPU (a short `scan` twice its own
+ * work). So when the variable is unset (or empty), it is set to 1 and the
+ * program executes itself again, once (the variable is then set), through
+ * /proc/self/exe: the same file even if the path was relative or the file
+ * has been replaced since, with the same arguments, descriptors and
+ * process id. A value the user set is kept as it is (and is the way to
+ * skip the re-exec, e.g. under a debugger). When the exec fails (no /proc)
+ * the program simply goes on as before. Numbers do not change: BLAS runs
+ * on one thread either way. */
+static void blas_threads_before_start(char **argv)
+{
+#if defined(__linux__)
+    const char *set = getenv("OPENBLAS_NUM_THREADS");
+    if (set == NULL || set[0] == '\0') {
+        if (setenv("OPENBLAS_NUM_THREADS", "1", 1) == 0)
+            execv("/proc/self/exe", argv);
+        return; /* exec failed: go on in this process */
+    }
+    /* After the re-exec the kernel names the process after the file
+     * executed ("exe"): give it back the name it was started under, as
+     * ps, top and pgrep show it. */
+    const char *execfn = (const char *)getauxval(AT_EXECFN);
+    if (execfn != NULL && strcmp(execfn, "/proc/self/exe") == 0 && argv[0] != NULL) {
+        const char *base = strrchr(argv[0], '/');
+        (void)prctl(PR_SET_NAME, base != NULL ? base + 1 : argv[0], 0, 0, 0);
+    }
+#else
+    (void)argv;
+#endif
+}
+
 int main(int argc, char **argv)
 {
+    blas_threads_before_start(argv);
     /* eigenlog parallelises over bootstrap replicates itself; OpenBLAS
      * threads inside each small product would only oversubscribe the
-     * cores (measured: a third of the run time spent in the kernel). */
+     * cores (measured: a third of the run time spent in the kernel). Also
+     * when the user set OPENBLAS_NUM_THREADS to more than 1. */
     openblas_set_num_threads(1);
     if (argc < 2 || strcmp(argv[1], "--help") == 0 || strcmp(argv[1], "-h") == 0 ||
         strcmp(argv[1], "help") == 0) {
