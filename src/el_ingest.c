@@ -94,7 +94,8 @@ typedef struct {
     size_t first_row_bytes;   /* length of the first data row (size estimates) */
     size_t threads;           /* el_ingest_options.threads, 0 resolved */
     int chunks_tried;         /* 1: the parallel read was considered */
-    el_row_part chunks[MAX_CHUNKS]; /* parts 1..n_chunks-1 (part 0 is the table's) */
+    el_row_part chunks[MAX_CHUNKS]; /* parts 1..n_chunks (part 0 is the reader's own),
+                                       read by threads into their rows of the table */
     size_t n_chunks, next_chunk;
     size_t text_released;     /* bytes of the mapped text given back (release_text) */
 } ingest;
@@ -694,28 +695,59 @@ static el_status read_header(ingest *g, const el_ingest_options *opt)
 /* ------------------------------------------------------------------ */
 /* Data rows                                                          */
 
-/* Rows a mapped file will give, from its size and the first row's bytes
- * (+1/8 as margin for rows that grow longer): the columns are allocated
- * once instead of moved at every doubling. Streams start small. */
-static size_t estimate_rows(const ingest *g, size_t first_row_bytes)
+/* Rows the rest of a mapped file will give beside those read, from its
+ * size and the first row's bytes (+1/8 as margin for rows that grow
+ * longer): the columns are allocated once instead of moved at every
+ * doubling (when the parallel read does not count them exactly). */
+static size_t estimate_rows(const ingest *g)
 {
-    if (!g->rd.mapped)
-        return 256;
-    size_t left = g->rd.end - g->rd.beg + first_row_bytes + 1;
-    size_t rows = left / (first_row_bytes + 1);
-    return rows + rows / 8 + 256;
+    size_t row_bytes = g->first_row_bytes + 1;
+    size_t rows = (g->rd.end - g->rd.beg) / row_bytes;
+    return g->t->n_rows + rows + rows / 8 + 256;
+}
+
+/* Gives the table a capacity of exactly cap rows per column (cap >=
+ * n_rows): a new block with the rows read so far copied over. Used when
+ * few rows are read (the size is decided after the first row), so the
+ * copy is small. */
+static el_status resize_rows(ingest *g, size_t cap)
+{
+    el_table *t = g->t;
+    size_t ncol = g->n_columns;
+    if (cap > SIZE_MAX / sizeof(double) / ncol)
+        return no_memory(g);
+    double *v = malloc(cap * ncol * sizeof *v);
+    if (v == NULL)
+        return no_memory(g);
+    el_rows_advise_large(v, cap * ncol * sizeof *v);
+    for (size_t c = 0; c < ncol && t->n_rows > 0; c++)
+        memcpy(v + c * cap, t->values + c * g->cap_rows, t->n_rows * sizeof *v);
+    long *lines = realloc(t->source_line, cap * sizeof *lines);
+    if (lines == NULL) {
+        free(v);
+        return no_memory(g);
+    }
+    free(t->values);
+    t->values = v;
+    t->source_line = lines;
+    g->cap_rows = cap;
+    return EL_OK;
 }
 
 /* Makes room for one more row: the column-major block keeps a capacity of
- * cap rows per column and is reshaped in place when it doubles.
- * first_row_bytes: the length of the row about to be stored (used for the
- * first allocation only). */
-static el_status grow_rows(ingest *g, size_t first_row_bytes)
+ * cap rows per column and is reshaped in place when it doubles. It starts
+ * at 256 rows; a mapped file's table is sized once its first row is read
+ * (read_in_parts). */
+static el_status grow_rows(ingest *g)
 {
     el_table *t = g->t;
     if (t->n_rows < g->cap_rows)
         return EL_OK;
-    size_t cap = g->cap_rows ? 2 * g->cap_rows : estimate_rows(g, first_row_bytes);
+    /* Parts not yet taken hold rows beyond n_rows that a move would lose:
+     * they are read again by the reader instead (it never comes here
+     * before the last part is taken: a part's rows were counted in). */
+    g->next_chunk = g->n_chunks;
+    size_t cap = g->cap_rows ? 2 * g->cap_rows : 256;
     size_t ncol = g->n_columns;
     if (cap > SIZE_MAX / sizeof(double) / ncol)
         return no_memory(g);
@@ -829,7 +861,7 @@ static el_status parse_row(ingest *g, const record *r, size_t n_fields)
         return ragged(g, r, n_fields);
     if (g->t->n_rows == 0)
         g->first_row_bytes = r->length;
-    el_status st = grow_rows(g, r->length);
+    el_status st = grow_rows(g);
     if (st != EL_OK)
         return st;
     el_table *t = g->t;
@@ -948,7 +980,7 @@ static el_status fast_rows(ingest *g)
     const char *p = rd->buf + rd->beg;
     while (p < stop) {
         if (g->t->n_rows == g->cap_rows) {
-            el_status st = grow_rows(g, 0);
+            el_status st = grow_rows(g);
             if (st != EL_OK)
                 return st;
         }
@@ -967,46 +999,105 @@ static el_status fast_rows(ingest *g)
 
 typedef struct {
     ingest *g;
+    size_t lines0;    /* line ends in part 0 */
     el_status status; /* of part 0 */
 } chunk_run;
+
+/* Text of part `chunk` (0: the reader's own, from where it stands). */
+static void part_text(const ingest *g, size_t chunk, const char **begin, const char **end)
+{
+    *begin = chunk == 0 ? g->rd.buf + g->rd.beg : g->chunks[chunk - 1].begin;
+    *end = chunk == 0 ? g->chunks[0].begin : g->chunks[chunk - 1].end;
+}
+
+static void count_chunk(void *ctx, size_t chunk, size_t slot)
+{
+    (void)slot;
+    chunk_run *run = ctx;
+    const char *begin, *end;
+    part_text(run->g, chunk, &begin, &end);
+    size_t lines = el_rows_count_lines(begin, end);
+    if (chunk == 0)
+        run->lines0 = lines;
+    else
+        run->g->chunks[chunk - 1].lines = lines;
+}
 
 static void run_chunk(void *ctx, size_t chunk, size_t slot)
 {
     (void)slot;
     chunk_run *run = ctx;
-    if (chunk == 0)
-        run->status = fast_rows(run->g); /* stops at part 1's begin */
-    else
-        el_rows_read_part(&run->g->chunks[chunk - 1], run->g->rd.buf + run->g->rd.end,
-                          run->g->n_columns, run->g->delim, run->g->decimal,
-                          run->g->first_row_bytes);
+    ingest *g = run->g;
+    if (chunk == 0) {
+        run->status = fast_rows(g); /* stops at part 1's begin */
+        return;
+    }
+    el_row_part *k = &g->chunks[chunk - 1];
+    el_rows_read_part(k, g->rd.buf + g->rd.end, g->n_columns, g->delim, g->decimal);
+    for (size_t i = 0; i < k->rows; i++)
+        g->t->source_line[k->base + i] = k->line + (long)i;
+}
+
+/* Sizes the table of a mapped file from its size once (the estimate),
+ * while the parallel read cannot start yet. */
+static el_status reserve_estimate(ingest *g)
+{
+    size_t rows = estimate_rows(g);
+    return g->cap_rows < rows ? resize_rows(g, rows) : EL_OK;
 }
 
 /* Once, when the rows after the first are plain numbers of a mapped file
  * with the decimal separator decided: splits the rest at line ends into
- * parts of at least MIN_CHUNK_BYTES, one per thread, and reads them all
- * on the fast path at once (part 0 into the table, the others into
- * blocks of their own that take_chunks appends in order). A part whose
- * text holds a quote, a comment or anything else the fast path does not
- * take simply stops there; the sequential reader goes on from there. */
+ * parts of at least MIN_CHUNK_BYTES, one per thread, counts their line
+ * ends (threads), sizes the table to exactly the rows read plus one per
+ * line end (plus one for a last line without one), and reads the parts
+ * at once on the fast path straight into their rows of the table: part
+ * 0 by the reader itself, part j from the row after all the lines of the
+ * parts before it. A row ends at a line end, so no part can run into the
+ * next one's rows, nor the reader going on after a part stopped early.
+ * take_chunks then takes each part where it lies, or moves it up to
+ * close the gap a part that stopped early (a comment, a quote) left. A
+ * part whose text holds a quote, a comment or anything else the fast
+ * path does not take simply stops there; the sequential reader goes on
+ * from there. Before the parallel read can start, and when it does not
+ * (a small file, one thread), the table gets the size estimate. */
 static el_status read_in_parts(ingest *g)
 {
     el_source *rd = &g->rd;
-    if (g->chunks_tried || !rd->mapped || g->decimal == 0 || !fast_rows_ok(g))
+    if (g->chunks_tried || !rd->mapped || g->t->n_rows == 0)
         return EL_OK;
+    if (g->decimal == 0 || !fast_rows_ok(g))
+        return reserve_estimate(g);
     g->chunks_tried = 1;
     size_t left = rd->end - rd->beg;
     size_t parts = left / MIN_CHUNK_BYTES;
     parts = parts < g->threads ? parts : g->threads;
     parts = parts < MAX_CHUNKS + 1 ? parts : MAX_CHUNKS + 1;
-    if (parts < 2)
-        return EL_OK;
-    size_t n = el_rows_split(rd->buf + rd->beg, left, parts, g->chunks);
+    size_t n = parts < 2 ? 0 : el_rows_split(rd->buf + rd->beg, left, parts, g->chunks);
+    if (n == 0)
+        return reserve_estimate(g);
+    chunk_run run = {g, 0, EL_OK};
+    el_chunks_run(n + 1, n + 1, count_chunk, &run);
+    size_t base = g->t->n_rows + run.lines0;
+    long line = rd->line + (long)run.lines0;
+    for (size_t j = 0; j < n; j++) {
+        g->chunks[j].base = base;
+        g->chunks[j].line = line;
+        g->chunks[j].max_rows = g->chunks[j].lines;
+        base += g->chunks[j].lines;
+        line += (long)g->chunks[j].lines;
+    }
+    /* A last line without a line end may be one more row. */
+    size_t cap = base + (g->chunks[n - 1].end < rd->buf + rd->end);
+    el_status st = resize_rows(g, cap);
+    if (st != EL_OK)
+        return st;
+    for (size_t j = 0; j < n; j++) {
+        g->chunks[j].values = g->t->values + g->chunks[j].base;
+        g->chunks[j].stride = g->cap_rows;
+    }
     g->n_chunks = n;
     g->next_chunk = 0;
-    if (n == 0)
-        return EL_OK;
-    chunk_run run = {g, EL_OK};
     el_chunks_run(n + 1, n + 1, run_chunk, &run);
     return run.status;
 }
@@ -1034,12 +1125,15 @@ static void release_text(ingest *g, size_t upto)
 #endif
 }
 
-/* Appends the parts the sequential reader has reached: a part is taken
+/* Takes the parts the sequential reader has reached: a part is taken
  * when the reader stands exactly at its first byte (a record starts
  * there) and the state its rows were read with still holds; then its
- * rows are the rows the reader would have read. A part the reader went
- * past (a quoted line end, a skipped line) or whose state changed is
- * dropped and read again the ordinary way. */
+ * rows are the rows the reader would have read. They lie in the table
+ * already, at the row after all lines before the part: moved up when the
+ * reader stands at an earlier row (lines before that were no rows). A
+ * part the reader went past (a quoted line end, a skipped line) or whose
+ * state changed is dropped and read again the ordinary way (over its
+ * rows: nothing else is stored there). */
 static el_status take_chunks(ingest *g)
 {
     el_source *rd = &g->rd;
@@ -1049,37 +1143,23 @@ static el_status take_chunks(ingest *g)
         const char *at = rd->buf + rd->beg;
         if (at < k->begin)
             return EL_OK;
-        if (at == k->begin && !k->failed && fast_rows_ok(g) && k->rows > 0) {
+        if (at == k->begin && fast_rows_ok(g) && k->rows > 0) {
             /* The reader never goes back before the part's end. */
             release_text(g, (size_t)(k->stop - rd->buf));
-            while (g->cap_rows - t->n_rows < k->rows) {
-                size_t had = t->n_rows;
-                t->n_rows = g->cap_rows; /* grow_rows grows a full block */
-                el_status st = grow_rows(g, 0);
-                t->n_rows = had;
-                if (st != EL_OK)
-                    return st;
+            if (t->n_rows != k->base) {
+                for (size_t c = 0; c < g->n_columns; c++)
+                    memmove(t->values + c * g->cap_rows + t->n_rows,
+                            t->values + c * g->cap_rows + k->base, k->rows * sizeof *t->values);
+                memmove(t->source_line + t->n_rows, t->source_line + k->base,
+                        k->rows * sizeof *t->source_line);
             }
-            for (size_t c = 0; c < g->n_columns; c++)
-                memcpy(t->values + c * g->cap_rows + t->n_rows, k->values + c * k->cap,
-                       k->rows * sizeof *t->values);
-            for (size_t i = 0; i < k->rows; i++)
-                t->source_line[t->n_rows + i] = rd->line + (long)i;
             t->n_rows += k->rows;
             rd->line += (long)k->rows;
             rd->beg = (size_t)(k->stop - rd->buf);
         }
-        free(k->values);
-        k->values = NULL;
         g->next_chunk++;
     }
     return EL_OK;
-}
-
-/* Frees the blocks of parts not taken (after an error). */
-static void free_chunks(ingest *g)
-{
-    el_rows_free_parts(g->chunks, g->n_chunks);
 }
 
 static el_status read_rows(ingest *g)
@@ -1118,6 +1198,8 @@ static el_status read_rows(ingest *g)
 static void compact(ingest *g)
 {
     el_table *t = g->t;
+    if (g->cap_rows == t->n_rows)
+        return; /* sized exactly (read_in_parts): nothing to move */
     for (size_t c = 1; c < g->n_columns; c++)
         memmove(t->values + c * t->n_rows, t->values + c * g->cap_rows,
                 t->n_rows * sizeof *t->values);
@@ -1219,7 +1301,6 @@ static el_status read_one(FILE *stream, const char *name, const el_ingest_option
         st = decide_time_unit(&g, opt);
     table->decimal = g.decimal ? g.decimal : '.';
     info->header_line = g.header_line;
-    free_chunks(&g);
     el_source_close(&g.rd);
     free(g.spans);
     free(g.scratch);

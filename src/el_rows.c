@@ -42,7 +42,8 @@ size_t el_rows_split(const char *text, size_t n, size_t pieces, el_row_part *par
         const char *nl = memchr(at, '\n', (size_t)(end - at));
         if (nl == NULL || nl + 1 >= end || (k > 0 && nl + 1 <= parts[k - 1].begin))
             break;
-        parts[k] = (el_row_part){nl + 1, NULL, NULL, 0, 0, NULL, 0};
+        memset(&parts[k], 0, sizeof parts[k]);
+        parts[k].begin = nl + 1;
         k++;
     }
     for (size_t j = 0; j < k; j++) {
@@ -54,54 +55,37 @@ size_t el_rows_split(const char *text, size_t n, size_t pieces, el_row_part *par
     return k;
 }
 
-/* Grows a part's block to twice its rows per column (columns moved up). */
-static int grow_part(el_row_part *k, size_t n_columns)
+size_t el_rows_count_lines(const char *begin, const char *end)
 {
-    size_t cap = 2 * k->cap;
-    if (cap > SIZE_MAX / sizeof(double) / n_columns)
-        return 0;
-    double *v = realloc(k->values, cap * n_columns * sizeof *v);
-    if (v == NULL)
-        return 0;
-    for (size_t c = n_columns; c-- > 1;)
-        memmove(v + c * cap, v + c * k->cap, k->rows * sizeof *v);
-    k->values = v;
-    k->cap = cap;
-    return 1;
+    /* A plain byte loop: the compiler turns it into vector compares, so a
+     * pass costs about what reading the text costs. Counted in blocks of
+     * at most 255 bytes into a byte-wide sum (no overflow) so the inner
+     * loop stays on bytes. */
+    size_t count = 0;
+    const unsigned char *p = (const unsigned char *)begin, *e = (const unsigned char *)end;
+    while (p < e) {
+        size_t n = (size_t)(e - p) < 255 ? (size_t)(e - p) : 255;
+        unsigned char c = 0;
+        for (size_t i = 0; i < n; i++)
+            c = (unsigned char)(c + (p[i] == '\n'));
+        count += c;
+        p += n;
+    }
+    return count;
 }
 
 void el_rows_read_part(el_row_part *k, const char *lim, size_t n_columns, char delim,
-                       char decimal, size_t row_bytes)
+                       char decimal)
 {
-    size_t n = n_columns;
-    /* Rows from the part's size and a typical row, +1/8 as margin. */
-    k->cap = (size_t)(k->end - k->begin) / (row_bytes + 1);
-    k->cap += k->cap / 8 + 256;
-    k->rows = 0;
-    k->values = k->cap <= SIZE_MAX / sizeof(double) / n ? malloc(k->cap * n * sizeof(double))
-                                                        : NULL;
-    if (k->values != NULL)
-        el_rows_advise_large(k->values, k->cap * n * sizeof(double));
     const char *p = k->begin;
-    k->failed = k->values == NULL;
-    while (!k->failed && p < k->end) {
-        if (k->rows == k->cap && !grow_part(k, n)) {
-            k->failed = 1;
-            break;
-        }
-        const char *next = el_rows_scan(p, lim, n, delim, &decimal, k->values + k->rows, k->cap);
+    k->rows = 0;
+    while (p < k->end && k->rows < k->max_rows) {
+        const char *next = el_rows_scan(p, lim, n_columns, delim, &decimal,
+                                        k->values + k->rows, k->stride);
         if (next == NULL)
             break;
         p = next;
         k->rows++;
     }
     k->stop = p;
-}
-
-void el_rows_free_parts(el_row_part *parts, size_t n)
-{
-    for (size_t j = 0; j < n; j++) {
-        free(parts[j].values);
-        parts[j].values = NULL;
-    }
 }

@@ -23,32 +23,40 @@ const char *el_rows_scan(const char *p, const char *lim, size_t n, char delim,
 void el_rows_advise_large(void *block, size_t bytes);
 
 /* One part of a text read by a thread: rows from begin (a line start) up
- * to end (after a '\n'), into a column-major block of its own. */
+ * to end (after a '\n'), straight into their place in the caller's
+ * column-major block: row i of column c goes to values[c * stride + i].
+ * A row ends at a '\n', so a part gives at most as many rows as its text
+ * has line ends (el_rows_count_lines): the caller reserves that many. */
 typedef struct {
     const char *begin, *end;
-    double *values;       /* cap rows per column, owned (el_rows_free_parts) */
-    size_t cap, rows;
+    double *values;       /* the part's first row in the caller's block (not owned) */
+    size_t stride;        /* rows per column of that block */
+    size_t max_rows;      /* rows reserved: the line ends in [begin, end) */
+    size_t base;          /* caller's: row index of values in its block */
+    long line;            /* caller's: 1-based line number of begin */
+    size_t lines;         /* caller's: line ends in [begin, end) */
+    size_t rows;          /* rows read */
     const char *stop;     /* where the fast path stopped (end: all read) */
-    int failed;           /* 1: no memory (the part must be read again) */
 } el_row_part;
 
 /* Cuts text[0..n) at line ends into `pieces` parts of about equal size
  * and describes parts 1..pieces-1 in parts[0..) (the first piece,
  * text[0..parts[0].begin), stays the caller's): each begins after a '\n'
- * and ends after the last '\n' before the next one (the last: before the
- * end of the text's last full line). Returns how many were described
- * (fewer when the text has too few lines; 0 for pieces < 2). */
+ * and ends after the last '\n' before the next one (the last: after the
+ * text's last '\n'), so the parts are contiguous. Returns how many were
+ * described (fewer when the text has too few lines; 0 for pieces < 2).
+ * Sets begin and end only (the rest zero). */
 size_t el_rows_split(const char *text, size_t n, size_t pieces, el_row_part *parts);
 
-/* Reads part k with el_rows_scan (n_columns, delim, decimal decided or
- * 0) into its own block, sized from row_bytes (bytes of a typical row)
- * and grown when needed, until its end or the first row that needs the
- * general reader; sets values, cap, rows, stop and failed. Reads the text
- * only up to lim: parts may be read by threads at once. */
-void el_rows_read_part(el_row_part *k, const char *lim, size_t n_columns, char delim,
-                       char decimal, size_t row_bytes);
+/* The number of '\n' bytes in [begin, end). */
+size_t el_rows_count_lines(const char *begin, const char *end);
 
-/* Frees the blocks of parts[0..n). Harmless on parts already freed. */
-void el_rows_free_parts(el_row_part *parts, size_t n);
+/* Reads part k with el_rows_scan (n_columns, delim, decimal decided or
+ * 0) into k->values (stride k->stride), at most k->max_rows rows, until
+ * its end or the first row that needs the general reader; sets rows and
+ * stop. Reads the text only up to lim and writes nothing but the part's
+ * rows: parts may be read by threads at once. */
+void el_rows_read_part(el_row_part *k, const char *lim, size_t n_columns, char delim,
+                       char decimal);
 
 #endif

@@ -9,6 +9,7 @@
 #include <zlib.h>
 
 #include "el_ingest.h"
+#include "el_rows.h"
 
 /* Tolerance policy. Cells are decimal text; ingest must return the
  * correctly rounded double of that text, which is what glibc's strtod
@@ -1455,6 +1456,82 @@ static void test_threads_same_table(void **state)
     free(text);
 }
 
+/* The parts of a large file are read by threads straight into the rows of
+ * the table counted for them (one per line end before them): tables equal
+ * to the one-thread and stream reads (assert_same_for_thread_counts) when
+ * (0) the file ends without a line end (one more row than line ends),
+ * (1) the file ends with blank lines and a comment (fewer rows than the
+ * table was sized for: the columns are moved together at the end),
+ * (2) CRLF line ends, (3) comment lines every ~3,000 rows (parts stop
+ * early: the reader reads on and later parts are moved up to close the
+ * gap), (4) a ragged row late in the file (the same error). */
+static void test_threads_parts_in_place(void **state)
+{
+    (void)state;
+    const size_t rows = 70000;
+    size_t cap = rows * 90 + 256;
+    char *text = malloc(cap);
+    assert_non_null(text);
+    for (int variant = 0; variant < 5; variant++) {
+        uint64_t seed = 999u + (uint64_t)variant;
+        const char *eol = variant == 2 ? "\r\n" : "\n";
+        size_t w = (size_t)sprintf(text, "time,a,b,c,d,e%s", eol);
+        for (size_t r = 0; r < rows; r++) {
+            if (variant == 3 && r % 3001 == 17)
+                w += (size_t)sprintf(text + w, "# operator note%s", eol);
+            w += (size_t)sprintf(text + w, "%zu.%02zu", r / 100, r % 100);
+            for (int c = 0; c < 5; c++) {
+                text[w++] = ',';
+                w += (size_t)write_number(text + w, 64, &seed);
+            }
+            if (variant == 4 && r == rows - 100)
+                w += (size_t)sprintf(text + w, ",7");
+            if (variant != 0 || r + 1 < rows)
+                w += (size_t)sprintf(text + w, "%s", eol);
+        }
+        if (variant == 1)
+            w += (size_t)sprintf(text + w, "\n\n# end of log\n\n");
+        assert_true(w > 4 * ((size_t)1 << 20) && w < cap);
+        assert_same_for_thread_counts(text, w, variant == 4 ? EL_ERR_DATA : EL_OK);
+        if (variant != 4) {
+            el_table t = {0};
+            el_error e;
+            char *path = temp_file(text, w);
+            assert_int_equal(el_table_read_threads(path, NULL, 4, &t, &e), EL_OK);
+            assert_int_equal(t.n_rows, rows);
+            /* The last row's values and line, as written. */
+            assert_close(t.values[rows - 1], (double)(rows - 1) / 100.0, 0, 0);
+            assert_int_equal(t.source_line[rows - 1],
+                             (long)rows + 1 + (variant == 3 ? (long)((rows - 18) / 3001 + 1) : 0));
+            el_table_free(&t);
+            unlink(path);
+            free(path);
+        }
+    }
+    free(text);
+}
+
+/* el_rows_count_lines against a byte-by-byte count, on runs of line ends
+ * longer than the 255-byte blocks it sums in (a byte-wide sum would wrap
+ * at 256) and on lengths around the block size. */
+static void test_count_lines(void **state)
+{
+    (void)state;
+    static char text[2000];
+    uint64_t seed = 4242;
+    for (size_t n = 0; n < sizeof text; n += 1 + n / 3) {
+        for (int pattern = 0; pattern < 3; pattern++) {
+            size_t expect = 0;
+            for (size_t i = 0; i < n; i++) {
+                text[i] = pattern == 0 ? '\n' : pattern == 1 ? (i % 7 ? 'x' : '\n')
+                                                           : (next_random(&seed) % 2 ? '\n' : '1');
+                expect += text[i] == '\n';
+            }
+            assert_int_equal(el_rows_count_lines(text, text + n), expect);
+        }
+    }
+}
+
 /* The median step by selection equals the middle of the sorted steps
  * (qsort here), for odd and even counts, with repeated steps. */
 static int compare_steps(const void *a, const void *b)
@@ -1539,6 +1616,8 @@ int main(void)
         cmocka_unit_test(test_scan_counts_and_tiny_spread),
         cmocka_unit_test(test_fast_path_matches_general_reader),
         cmocka_unit_test(test_threads_same_table),
+        cmocka_unit_test(test_threads_parts_in_place),
+        cmocka_unit_test(test_count_lines),
         cmocka_unit_test(test_stream_left_at_end),
         cmocka_unit_test(test_median_step_selection),
     };
