@@ -292,7 +292,7 @@ int cli_scan(int argc, char **argv)
     if (st == EL_OK)
         st = el_scan_table(&table, &scan, &err);
     if (st == EL_OK)
-        st = el_timebase_survey(&table, &tb, &survey, &err);
+        st = el_timebase_survey_step(&table, &tb, scan.dt_step, &survey, &err);
     cli_progress_stage(progress, "scanning", 1, 1);
     cli_progress_stop(progress);
     if (st == EL_OK && json != NULL) {

@@ -445,16 +445,20 @@ static double select_kth(double *a, size_t n, size_t k)
 
 /* Median of a[0..n) (n >= 1, no NaN); reorders a. For even n the mean of
  * the two middle values: after selecting the upper one, the lower is the
- * largest of the part below it. */
-static double median_select(double *a, size_t n)
+ * largest of the part below it. *as_timebase: the same median as
+ * el_timebase computes it (lower + (upper - lower) / 2), so a caller of
+ * both needs one selection. */
+static double median_select(double *a, size_t n, double *as_timebase)
 {
     size_t h = n / 2;
     double upper = select_kth(a, n, h);
+    *as_timebase = upper;
     if (n % 2)
         return upper;
     double lower = a[0];
     for (size_t i = 1; i < h; i++)
         lower = a[i] > lower ? a[i] : lower;
+    *as_timebase = lower + (upper - lower) / 2;
     return 0.5 * (lower + upper);
 }
 
@@ -564,7 +568,8 @@ el_status el_scan_table(const el_table *table, el_scan *scan, el_error *err)
         hi = steps[r] > hi ? steps[r] : hi;
     }
     size_t m = n - 1;
-    double median = median_select(steps, m);
+    double dt_step;
+    double median = median_select(steps, m, &dt_step);
     if (!(median > 0.0)) {
         free(steps);
         free(cols);
@@ -581,6 +586,7 @@ el_status el_scan_table(const el_table *table, el_scan *scan, el_error *err)
     scan->time_first = t[0];
     scan->time_last = t[n - 1];
     scan->dt_median = median;
+    scan->dt_step = dt_step;
     scan->dt_min = lo;
     scan->dt_max = hi;
     for (size_t r = 0; r < m; r++) {

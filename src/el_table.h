@@ -106,6 +106,10 @@ typedef struct {
     size_t n_rows;
     double time_first, time_last;   /* seconds (table time) */
     double dt_median;               /* median step between rows, s */
+    double dt_step;                 /* the same median as el_series_build computes it
+                                       (an even count: lower + (upper - lower) / 2, which
+                                       may differ from dt_median in the last bit): for
+                                       el_timebase_survey_step */
     double dt_min, dt_max;
     double jitter;                  /* max |step - dt_median| / dt_median */
     size_t long_steps;              /* steps > 1.5 * dt_median (gaps in time) */
@@ -116,7 +120,7 @@ typedef struct {
 } el_scan;
 
 /* Fills *scan (zero-initialised) from the table: time span, median step
- * (median of the sorted steps) and its jitter, per-column (time column
+ * (median of the sorted steps; also as dt_step) and its jitter, per-column (time column
  * included) present/missing counts and min/mean/std/max. EL_ERR_DATA
  * when the table has fewer than 2 rows, or when the median step is not
  * positive (the time column does not increase; line of the first such

@@ -720,6 +720,12 @@ el_status el_series_build(const el_table *table, const size_t *channels,
 el_status el_timebase_survey(const el_table *table, const el_timebase_options *opt,
                              el_time_survey *out, el_error *err)
 {
+    return el_timebase_survey_step(table, opt, NAN, out, err);
+}
+
+el_status el_timebase_survey_step(const el_table *table, const el_timebase_options *opt,
+                                  double dt_step, el_time_survey *out, el_error *err)
+{
     if (table == NULL || out == NULL)
         return el_error_set(err, EL_ERR_INTERNAL, "el_timebase_survey: NULL argument");
     memset(out, 0, sizeof *out);
@@ -745,14 +751,17 @@ el_status el_timebase_survey(const el_table *table, const el_timebase_options *o
         return EL_OK;
     }
     const double *time = table->values + table->time_column * table->n_rows;
-    size_t n_steps = table->n_rows - 1;
-    double *steps = malloc(n_steps * sizeof *steps);
-    if (steps == NULL)
-        return el_error_set(err, EL_ERR_NOMEM, "out of memory for %zu time steps", n_steps);
-    for (size_t i = 0; i < n_steps; i++)
-        steps[i] = time[i + 1] - time[i];
-    double dt = median(steps, n_steps);
-    free(steps);
+    double dt = dt_step;
+    if (!(dt > 0.0)) {
+        size_t n_steps = table->n_rows - 1;
+        double *steps = malloc(n_steps * sizeof *steps);
+        if (steps == NULL)
+            return el_error_set(err, EL_ERR_NOMEM, "out of memory for %zu time steps", n_steps);
+        for (size_t i = 0; i < n_steps; i++)
+            steps[i] = time[i + 1] - time[i];
+        dt = median(steps, n_steps);
+        free(steps);
+    }
     step_survey sv;
     survey_steps(time, 0, table->n_rows - 1, dt, opt->max_gap, opt->jitter_limit, &sv);
     out->usable = 1;

@@ -112,6 +112,14 @@ typedef struct {
 el_status el_timebase_survey(const el_table *table, const el_timebase_options *opt,
                              el_time_survey *out, el_error *err);
 
+/* As el_timebase_survey, with the median step of the whole table given:
+ * dt_step from el_scan_table of the same table (el_scan.dt_step), so
+ * `scan` selects the median of a million steps once, not twice. The
+ * result is el_timebase_survey's, bit for bit. dt_step not > 0 (or NaN):
+ * computed as el_timebase_survey does. */
+el_status el_timebase_survey_step(const el_table *table, const el_timebase_options *opt,
+                                  double dt_step, el_time_survey *out, el_error *err);
+
 /* Frees everything the series owns and zeroes it. NULL is a no-op. */
 void el_series_free(el_series *series);
 

@@ -1017,6 +1017,43 @@ static void test_error_names_the_rows_file(void **state)
     free_table(&t);
 }
 
+/* scan selects the median step once: el_scan_table's dt_step is the median
+ * as the timebase computes it (the sorted steps' middle, for an even count
+ * lower + (upper - lower) / 2: median_step here), and
+ * el_timebase_survey_step given it gives el_timebase_survey's result field
+ * by field. Even and odd counts, jittered steps, and two step sizes far
+ * apart (1 and 7 ms, even count: the middle pair straddles them, where
+ * 0.5 (lower + upper) may differ in the last bit). */
+static void test_survey_step_from_scan(void **state)
+{
+    (void)state;
+    for (int k = 0; k < 6; k++) {
+        size_t n = 200 + (size_t)k * 37;
+        el_table t = k < 4 ? jittered_table(n, 5.0, 0.01, 0.2 * k, 77 + (uint64_t)k)
+                           : uniform_table(n, 0.0, 0.001);
+        if (k >= 4)
+            for (size_t r = 0; r < n; r++)
+                *cell(&t, r, COL_TIME) = 0.001 * (double)r + 0.006 * (double)((r + 1) / 2);
+        el_scan sc = {0};
+        el_error err;
+        assert_int_equal(el_scan_table(&t, &sc, &err), EL_OK);
+        assert_close(sc.dt_step, median_step(&t, 0, n - 1), 0, 0);
+        el_time_survey a, b;
+        assert_int_equal(el_timebase_survey(&t, NULL, &a, &err), EL_OK);
+        assert_int_equal(el_timebase_survey_step(&t, NULL, sc.dt_step, &b, &err), EL_OK);
+        assert_int_equal(a.usable, b.usable);
+        assert_close(a.dt_step, b.dt_step, 0, 0);
+        assert_close(a.jitter, b.jitter, 0, 0);
+        assert_int_equal(a.resample, b.resample);
+        assert_close(a.longest_gap, b.longest_gap, 0, 0);
+        assert_int_equal(a.gap_row, b.gap_row);
+        assert_int_equal(a.backward_steps, b.backward_steps);
+        assert_int_equal(a.repeated_steps, b.repeated_steps);
+        el_scan_free(&sc);
+        free_table(&t);
+    }
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -1042,6 +1079,7 @@ int main(void)
         cmocka_unit_test(test_iso_times_in_messages),
         cmocka_unit_test(test_large_log),
         cmocka_unit_test(test_survey_agrees_with_build),
+        cmocka_unit_test(test_survey_step_from_scan),
         cmocka_unit_test(test_error_names_the_rows_file),
     };
     return cmocka_run_group_tests_name("timebase", tests, NULL, NULL);
