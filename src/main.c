@@ -59,14 +59,28 @@ static void print_main_help(void)
  * skip the re-exec, e.g. under a debugger). When the exec fails (no /proc)
  * the program simply goes on as before. Numbers do not change: BLAS runs
  * on one thread either way. */
+#define REEXEC_MARK "EL_BLAS_THREADS_SET_BY_EIGENLOG"
+
 static void blas_threads_before_start(char **argv)
 {
 #if defined(__linux__)
     const char *set = getenv("OPENBLAS_NUM_THREADS");
     if (set == NULL || set[0] == '\0') {
-        if (setenv("OPENBLAS_NUM_THREADS", "1", 1) == 0)
+        if (setenv("OPENBLAS_NUM_THREADS", "1", 1) == 0 &&
+            setenv(REEXEC_MARK, "1", 1) == 0)
             execv("/proc/self/exe", argv);
-        return; /* exec failed: go on in this process */
+        /* exec failed: go on in this process, environment as it was */
+        (void)unsetenv("OPENBLAS_NUM_THREADS");
+        (void)unsetenv(REEXEC_MARK);
+        return;
+    }
+    /* The setting was ours, for OpenBLAS's start only: what this program
+     * starts (an --on-alarm hook, a user's script under survey) gets the
+     * environment the user gave, and eigenlogs it starts do their own
+     * re-exec. */
+    if (getenv(REEXEC_MARK) != NULL) {
+        (void)unsetenv("OPENBLAS_NUM_THREADS");
+        (void)unsetenv(REEXEC_MARK);
     }
     /* After the re-exec the kernel names the process after the file
      * executed ("exe"): give it back the name it was started under, as

@@ -111,7 +111,7 @@ writer=$!
 pids="$pids $writer"
 "$bin" track "$tmp/live.csv" --follow $opts --poll 0.05 --json "$tmp/live.jsonl" \
     --html "$tmp/live.html" --alarm shrinking \
-    --on-alarm 'env | grep ^EIGENLOG_ | sort >>"$ALARM_OUT"' \
+    --on-alarm 'env | grep -E "^(EIGENLOG_|OPENBLAS_NUM_THREADS=|EL_BLAS)" | sort >>"$ALARM_OUT"' \
     >"$tmp/live.txt" 2>"$tmp/live.err" &
 follower=$!
 pids="$pids $follower"
@@ -138,6 +138,12 @@ check "the alarm line gives the evidence and the caution" $?
 [ "$(grep -c '^EIGENLOG_ALARM=shrinking$' "$tmp/alarm.env" 2>/dev/null)" -eq 1 ] &&
     grep -q '^EIGENLOG_MARGIN=[0-9]' "$tmp/alarm.env" && grep -q '^EIGENLOG_P_STABLE=' "$tmp/alarm.env"
 check "--on-alarm runs once per episode with the facts in EIGENLOG_*" $?
+# eigenlog sets OPENBLAS_NUM_THREADS=1 for its own start (src/main.c);
+# the hook gets the environment the user gave (here: the variable unset).
+if [ -z "${OPENBLAS_NUM_THREADS:-}" ]; then
+    ! grep -q -E '^(OPENBLAS_NUM_THREADS|EL_BLAS)' "$tmp/alarm.env"
+    check "--on-alarm does not inherit eigenlog's own OPENBLAS_NUM_THREADS" $?
+fi
 grep -q 'id="caution-follow"' "$tmp/live.html" && grep -q 'never replaces' "$tmp/live.html" &&
     ! ls "$tmp"/.*tmp* >/dev/null 2>&1
 check "--html is written (with the follow caution), no temporary left" $?
