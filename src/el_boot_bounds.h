@@ -50,6 +50,9 @@ typedef struct el_boot_result {
                                      length, engine (the one pass over the data) */
     double bias_seconds;          /* wall time of the bias round (0 when none) */
     double replicate_seconds;     /* wall time of the replicates themselves */
+    int bias_refused;             /* 1: the bias round ran, was judged and refused its
+                                     correction (the model does not reproduce its own
+                                     data: sensor noise or a misfit; el_resample.c) */
 } el_boot_result;
 
 /* Frees what the result owns and zeroes it. NULL is a no-op. */

@@ -1274,6 +1274,7 @@ el_status el_boot_run(const el_series *series, const el_fit_options *opt_fit,
             st = measure_bias(&sh, &bf, bias_plan, err);
             result->bias_corrected = st == EL_OK && sh.bias_re != NULL;
             result->bias_replicates = sh.n_bias;
+            result->bias_refused = sh.bias_refused;
         }
         double t_rep = wall_seconds();
         result->bias_seconds = t_rep - t_bias;
