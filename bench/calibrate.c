@@ -347,7 +347,8 @@ static void one_log(const cal_case *c, size_t n_samples, size_t rep, const cal_o
      * no class and no bounds at their level: withheld, not covered or missed. */
     int stationary = (fo.method == EL_METHOD_FB || fo.method == EL_METHOD_TLS)
                      && log_is_stationary(o, &s);
-    if (el_verdict_method_fault(fo.method, stationary, br.bias_refused)
+    if (el_verdict_method_fault(fo.method, stationary,
+                                br.bias_refused ? br.bias_refused_spreads : 0.0)
         != EL_METHOD_FAULT_NONE) {
         out->withheld = 1;
         goto done;

@@ -1275,7 +1275,8 @@ el_status el_assess_execute(el_assess_plan *ap, const el_assess_options *opt,
             el_verdict_method_fault(r->model.method,
                                     r->regime != NULL &&
                                         r->regime->regime == EL_REGIME_STATIONARY,
-                                    boot_run && r->boot.bias_refused),
+                                    boot_run && r->boot.bias_refused
+                                        ? r->boot.bias_refused_spreads : 0.0),
             r->model.method, opt->boot.level, &r->warnings, err);
     stage(opt, "checking the model", 1);
     /* Problems found after ingest (constant channel, too short a window)

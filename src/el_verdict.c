@@ -363,11 +363,12 @@ void el_verdict_withhold_type(el_verdict *v)
     snprintf(v->type, sizeof v->type, "%s", EL_VERDICT_TYPE_WITHHELD);
 }
 
-el_method_fault el_verdict_method_fault(el_method method, int stationary, int bias_refused)
+el_method_fault el_verdict_method_fault(el_method method, int stationary,
+                                        double refused_spreads)
 {
     if ((method == EL_METHOD_FB || method == EL_METHOD_TLS) && stationary)
         return EL_METHOD_FAULT_BACKWARD;
-    if (method == EL_METHOD_LS && bias_refused)
+    if (method == EL_METHOD_LS && refused_spreads >= EL_VERDICT_SENSOR_SHIFT_SPREADS)
         return EL_METHOD_FAULT_SENSOR_NOISE;
     return EL_METHOD_FAULT_NONE;
 }
@@ -399,7 +400,8 @@ el_status el_verdict_withhold_method(el_verdict *v, el_method_fault fault, el_me
     else
         st = el_warnings_add(warnings,
                              "--method %s: the model cannot regenerate data like the log "
-                             "(its bias round was refused), the mark of noisy sensors, "
+                             "(its bias round was refused: its replicates drift more than "
+                             "1.5 spreads off the estimate), the mark of noisy sensors, "
                              "which pull least squares away from the truth however long "
                              "the log: its bounds are no %.3g%% bounds, and stability and "
                              "P(stable) are withheld for this method; use --method auto "

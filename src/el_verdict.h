@@ -99,18 +99,33 @@ typedef enum {
                                      is not the inverse of the forward one, so both
                                      estimate another matrix (docs/uncertainty.md,
                                      "Per method": 16 to 2000 spreads off) */
-    EL_METHOD_FAULT_SENSOR_NOISE  /* ls whose bias round was refused: the model does
-                                     not reproduce its own data, as with sensor noise
-                                     (errors in variables: 8 to 59 spreads off) */
+    EL_METHOD_FAULT_SENSOR_NOISE  /* ls whose bias round was refused by a wide margin:
+                                     the model does not reproduce its own data, as with
+                                     sensor noise (errors in variables: 8 to 59 spreads
+                                     off) */
 } el_method_fault;
+
+/* A least-squares model whose bias round was refused (el_boot_result
+ * bias_refused) counts as pulled off by sensor noise when the refused
+ * shift is at least this many spreads of its model-based replicates: a
+ * 95 % interval that far off the truth covers it at most about 0.68 of
+ * the time (Phi(1.96 - 1.5) - Phi(-1.96 - 1.5)). Measured
+ * (bench/calibrate.c, 60 logs per cell, 2026-12-04): refusals on logs
+ * without sensor noise shifted 0.50-1.22 spreads (38 of 1,440 logs), on
+ * the 30 % sensor-noise case 1.25-6.0 (all 60 of each length from 500 to
+ * 5,000 samples, 4 of the 500-sample ones below 1.5). A project
+ * threshold set between the two. */
+#define EL_VERDICT_SENSOR_SHIFT_SPREADS 1.5
 
 /* The fault of method on a log: EL_METHOD_FAULT_BACKWARD for EL_METHOD_FB
  * or EL_METHOD_TLS when stationary is 1 (el_regime's class
  * EL_REGIME_STATIONARY: no free transient); EL_METHOD_FAULT_SENSOR_NOISE
- * for EL_METHOD_LS when bias_refused is 1 (el_boot_result.bias_refused);
- * else EL_METHOD_FAULT_NONE (iv, ssi, hankel: consistent in both cases).
- * Pure function, can't fail. */
-el_method_fault el_verdict_method_fault(el_method method, int stationary, int bias_refused);
+ * for EL_METHOD_LS when refused_spreads (el_boot_result
+ * bias_refused_spreads: 0 when the bias round did not refuse) is at least
+ * EL_VERDICT_SENSOR_SHIFT_SPREADS; else EL_METHOD_FAULT_NONE (iv, ssi,
+ * hankel: consistent in both cases). Pure function, can't fail. */
+el_method_fault el_verdict_method_fault(el_method method, int stationary,
+                                        double refused_spreads);
 
 /* Withholds the class for a method fault (fault != EL_METHOD_FAULT_NONE;
  * NONE is a no-op returning EL_OK): undecided (ambiguous) with cause

@@ -111,15 +111,18 @@ static int has_warning(const el_warnings *w, const char *needle)
 static void test_fault_rule(void **state)
 {
     (void)state;
-    assert_int_equal(el_verdict_method_fault(EL_METHOD_FB, 1, 0), EL_METHOD_FAULT_BACKWARD);
-    assert_int_equal(el_verdict_method_fault(EL_METHOD_TLS, 1, 1), EL_METHOD_FAULT_BACKWARD);
-    assert_int_equal(el_verdict_method_fault(EL_METHOD_FB, 0, 0), EL_METHOD_FAULT_NONE);
-    assert_int_equal(el_verdict_method_fault(EL_METHOD_LS, 1, 1),
+    assert_int_equal(el_verdict_method_fault(EL_METHOD_FB, 1, 0.0), EL_METHOD_FAULT_BACKWARD);
+    assert_int_equal(el_verdict_method_fault(EL_METHOD_TLS, 1, 3.0), EL_METHOD_FAULT_BACKWARD);
+    assert_int_equal(el_verdict_method_fault(EL_METHOD_FB, 0, 0.0), EL_METHOD_FAULT_NONE);
+    /* ls: a refused shift of 1.5 spreads or more (the threshold between
+     * the 0.50-1.22 of clean logs and the 1.25-6.0 of sensor noise) */
+    assert_int_equal(el_verdict_method_fault(EL_METHOD_LS, 1, 1.5),
                      EL_METHOD_FAULT_SENSOR_NOISE);
-    assert_int_equal(el_verdict_method_fault(EL_METHOD_LS, 1, 0), EL_METHOD_FAULT_NONE);
-    assert_int_equal(el_verdict_method_fault(EL_METHOD_IV, 1, 1), EL_METHOD_FAULT_NONE);
-    assert_int_equal(el_verdict_method_fault(EL_METHOD_SSI, 1, 1), EL_METHOD_FAULT_NONE);
-    assert_int_equal(el_verdict_method_fault(EL_METHOD_HANKEL, 1, 1), EL_METHOD_FAULT_NONE);
+    assert_int_equal(el_verdict_method_fault(EL_METHOD_LS, 1, 1.2), EL_METHOD_FAULT_NONE);
+    assert_int_equal(el_verdict_method_fault(EL_METHOD_LS, 1, 0.0), EL_METHOD_FAULT_NONE);
+    assert_int_equal(el_verdict_method_fault(EL_METHOD_IV, 1, 9.0), EL_METHOD_FAULT_NONE);
+    assert_int_equal(el_verdict_method_fault(EL_METHOD_SSI, 1, 9.0), EL_METHOD_FAULT_NONE);
+    assert_int_equal(el_verdict_method_fault(EL_METHOD_HANKEL, 1, 9.0), EL_METHOD_FAULT_NONE);
     assert_string_equal(el_verdict_cause_code(EL_CAUSE_METHOD_INCONSISTENT),
                         "method_inconsistent");
 }
@@ -174,6 +177,7 @@ static void test_ls_sensor_noise_withheld(void **state)
     el_error err;
     assert_int_equal(assess(&s, EL_METHOD_LS, &r, &err), EL_OK);
     assert_int_equal(r.boot.bias_refused, 1);
+    assert_true(r.boot.bias_refused_spreads >= EL_VERDICT_SENSOR_SHIFT_SPREADS);
     assert_int_equal(r.verdict.cause, EL_CAUSE_METHOD_INCONSISTENT);
     assert_int_equal(r.verdict.stability, EL_UNDECIDED);
     assert_true(has_warning(&r.warnings, "withheld for this method"));
