@@ -52,6 +52,12 @@ static void support(const el_assessment *r, el_advice *a)
 {
     size_t n = replicates(r);
     const el_verdict *v = &r->verdict;
+    if (v->cause == EL_CAUSE_METHOD_INCONSISTENT) {
+        snprintf(a->support, sizeof a->support,
+                 "no bootstrap support: the replicates of this method do not bound the "
+                 "truth on this log");
+        return;
+    }
     if (n == 0 || !isfinite(v->p_stable)) {
         snprintf(a->support, sizeof a->support,
                  "no bootstrap support (no replicates ran): the point estimate alone");
@@ -151,6 +157,25 @@ static void no_dynamics(const el_assessment *r, el_advice *a)
              "check that the channels are the ones that move and that the log is sampled "
              "fast enough for the motion of interest (a mode much faster than the "
              "sampling looks like noise); or add excitation (see the cautions)");
+}
+
+/* The chosen estimator cannot be right on this log, however long
+ * (el_verdict_method_fault): its estimate is shown, its class is not. */
+static void method_inconsistent(const el_assessment *r, el_advice *a)
+{
+    const char *m = el_method_name(r->model.method);
+    if (r->model.method == EL_METHOD_LS)
+        snprintf(a->reason, sizeof a->reason,
+                 "%s is pulled off the truth on this log: its model cannot regenerate "
+                 "data like it, the mark of noisy sensors, so its bounds and P(stable) "
+                 "are not given as such and no class is claimed", m);
+    else
+        snprintf(a->reason, sizeof a->reason,
+                 "%s does not settle on the truth for a log of ongoing random motion "
+                 "(no free decay or growth), so its bounds and P(stable) are not given "
+                 "as such and no class is claimed", m);
+    snprintf(a->next_step, sizeof a->next_step,
+             "run again with --method auto (the default) or --method iv");
 }
 
 static void reason_cause(const el_assessment *r, double level, el_advice *a)
@@ -259,6 +284,9 @@ static void reason_cause(const el_assessment *r, double level, el_advice *a)
         return;
     case EL_CAUSE_NO_DYNAMICS:
         no_dynamics(r, a);
+        return;
+    case EL_CAUSE_METHOD_INCONSISTENT:
+        method_inconsistent(r, a);
         return;
     case EL_CAUSE_TYPE_OPEN:
         snprintf(a->reason, sizeof a->reason,

@@ -1266,6 +1266,18 @@ el_status el_assess_execute(el_assess_plan *ap, const el_assess_options *opt,
         refine_bounds_cause(r);
     if (st == EL_OK)
         st = withhold_no_dynamics(r, err);
+    /* An estimator known to miss the truth on what this log shows (fb/tls
+     * on a stationary log, ls under sensor noise): no class from its bounds
+     * (el_verdict_method_fault, docs/uncertainty.md "Per method"). */
+    if (st == EL_OK && r->verdict.cause != EL_CAUSE_NO_DYNAMICS)
+        st = el_verdict_withhold_method(
+            &r->verdict,
+            el_verdict_method_fault(r->model.method,
+                                    r->regime != NULL &&
+                                        r->regime->regime == EL_REGIME_STATIONARY,
+                                    boot_run && r->boot.bias_refused
+                                        ? r->boot.bias_refused_spreads : 0.0),
+            r->model.method, opt->boot.level, &r->warnings, err);
     stage(opt, "checking the model", 1);
     /* Problems found after ingest (constant channel, too short a window)
      * are still about this file: name it when the stage could not. */

@@ -50,6 +50,11 @@ typedef struct el_boot_result {
                                      length, engine (the one pass over the data) */
     double bias_seconds;          /* wall time of the bias round (0 when none) */
     double replicate_seconds;     /* wall time of the replicates themselves */
+    int bias_refused;             /* 1: the bias round ran, was judged and refused its
+                                     correction (the model does not reproduce its own
+                                     data: sensor noise or a misfit; el_resample.c) */
+    double bias_refused_spreads;  /* when refused: the largest shift of a refused mode
+                                     in spreads (|median - point| / (IQR / 1.349)) */
 } el_boot_result;
 
 /* Frees what the result owns and zeroes it. NULL is a no-op. */

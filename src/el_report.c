@@ -942,6 +942,7 @@ static const struct {
     const char *code;
     const char *phrase;
 } WARNING_CODES[] = {
+    {"method_inconsistent", "withheld for this method"},
     {"no_dynamics", "cannot be told from white noise"},
     {"no_dynamics", "the data shows no dynamics"},
     {"sustained_oscillation", "possible sustained nonlinear oscillation"},

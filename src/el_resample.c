@@ -108,6 +108,8 @@ typedef struct {
     size_t r, sw, nu, m, block, block_pw, grid, n_modes, total, n_bias;
     size_t max_blocks;            /* blocks of one replicate */
     int bias_refused;             /* the bias round measured no small-sample bias */
+    double bias_refused_spreads;  /* refused: the largest |shift| / spread of a mode
+                                     that failed the plausibility test */
     el_resample_kind kind;
     uint64_t seed;
     double dt;
@@ -697,8 +699,10 @@ static el_status measure_bias(boot_shared *sh, boot_buffers *bf, el_boot_bias_pl
              * their weight is then at most a tenth. */
             double mc_se = 1.2533 * sd / sqrt((double)c);
             if (c >= BOOT_BIAS_MIN_JUDGED && isfinite(shift) && fabs(shift) > 0.5 * sd && fabs(shift) > bias_cap
-                && fabs(shift) > 3.0 * mc_se)
+                && fabs(shift) > 3.0 * mc_se) {
                 implausible = 1;
+                sh->bias_refused_spreads = fmax(sh->bias_refused_spreads, fabs(shift) / sd);
+            }
         }
     }
     if (implausible) {
@@ -1274,6 +1278,8 @@ el_status el_boot_run(const el_series *series, const el_fit_options *opt_fit,
             st = measure_bias(&sh, &bf, bias_plan, err);
             result->bias_corrected = st == EL_OK && sh.bias_re != NULL;
             result->bias_replicates = sh.n_bias;
+            result->bias_refused = sh.bias_refused;
+            result->bias_refused_spreads = sh.bias_refused_spreads;
         }
         double t_rep = wall_seconds();
         result->bias_seconds = t_rep - t_bias;

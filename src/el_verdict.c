@@ -7,6 +7,7 @@
 #include <string.h>
 
 #include "el_boot_bounds.h"
+#include "el_estimator.h"
 
 /* Numerical tolerance on Re lambda without bootstrap, times 1/dt: a mode
  * this close to the imaginary axis cannot be told from it by a fit whose
@@ -335,7 +336,7 @@ const char *el_verdict_cause_code(el_verdict_cause cause)
         "none", "on_boundary", "bounds", "few_cycles", "low_excitation",
         "estimators_disagree", "drift", "level_trend", "level_shift", "growth",
         "too_few_replicates", "no_bounds", "nyquist", "type_open", "no_bootstrap",
-        "no_dynamics"};
+        "no_dynamics", "method_inconsistent"};
     return (unsigned)cause < sizeof codes / sizeof codes[0] ? codes[cause] : "unknown";
 }
 
@@ -360,6 +361,55 @@ void el_verdict_withhold_type(el_verdict *v)
         return;
     el_verdict_set_undecided(v, EL_CAUSE_NO_DYNAMICS);
     snprintf(v->type, sizeof v->type, "%s", EL_VERDICT_TYPE_WITHHELD);
+}
+
+el_method_fault el_verdict_method_fault(el_method method, int stationary,
+                                        double refused_spreads)
+{
+    if ((method == EL_METHOD_FB || method == EL_METHOD_TLS) && stationary)
+        return EL_METHOD_FAULT_BACKWARD;
+    if (method == EL_METHOD_LS && refused_spreads >= EL_VERDICT_SENSOR_SHIFT_SPREADS)
+        return EL_METHOD_FAULT_SENSOR_NOISE;
+    return EL_METHOD_FAULT_NONE;
+}
+
+el_status el_verdict_withhold_method(el_verdict *v, el_method_fault fault, el_method method,
+                                     double level, el_warnings *warnings, el_error *err)
+{
+    if (v == NULL)
+        return el_error_set(err, EL_ERR_INTERNAL, "el_verdict_withhold_method: NULL verdict");
+    if (fault == EL_METHOD_FAULT_NONE)
+        return EL_OK;
+    el_verdict_set_undecided(v, EL_CAUSE_METHOD_INCONSISTENT);
+    v->p_stable = NAN;
+    if (warnings == NULL)
+        return EL_OK;
+    double pct = isfinite(level) ? 100.0 * level : 95.0;
+    el_status st;
+    if (fault == EL_METHOD_FAULT_BACKWARD)
+        st = el_warnings_add(warnings,
+                             "--method %s fits this log's ongoing random motion with a "
+                             "model that runs backward in time too, and for such motion "
+                             "the two directions describe different systems: the estimate "
+                             "does not settle on the truth however long the log, its "
+                             "bounds are no %.3g%% bounds, and stability and P(stable) are "
+                             "withheld for this method; use --method auto (the default) "
+                             "or --method iv (%s suits free decays or growth after a "
+                             "disturbance)",
+                             el_method_name(method), pct, el_method_name(method));
+    else
+        st = el_warnings_add(warnings,
+                             "--method %s: the model cannot regenerate data like the log "
+                             "(its bias round was refused: its replicates drift more than "
+                             "1.5 spreads off the estimate), the mark of noisy sensors, "
+                             "which pull least squares away from the truth however long "
+                             "the log: its bounds are no %.3g%% bounds, and stability and "
+                             "P(stable) are withheld for this method; use --method auto "
+                             "(the default) or --method iv",
+                             el_method_name(method), pct);
+    if (st != EL_OK)
+        return el_error_set(err, EL_ERR_NOMEM, "out of memory for a warning");
+    return EL_OK;
 }
 
 el_status el_verdict_compute(const el_modes *modes, const el_model *model,

@@ -8,6 +8,7 @@
 #include <stddef.h>
 
 #include "el_error.h"
+#include "el_model.h"
 #include "el_modes.h"
 #include "el_plane.h"
 
@@ -37,8 +38,11 @@ typedef enum {
     EL_CAUSE_NYQUIST,            /* a mode at the Nyquist limit */
     EL_CAUSE_TYPE_OPEN,          /* stability holds, the fixed point type does not */
     EL_CAUSE_NO_BOOTSTRAP,       /* --boot 0: the point estimate alone */
-    EL_CAUSE_NO_DYNAMICS         /* the data cannot be told from white noise: no
+    EL_CAUSE_NO_DYNAMICS,        /* the data cannot be told from white noise: no
                                     type, no class (el_dynamics) */
+    EL_CAUSE_METHOD_INCONSISTENT /* the chosen estimator is known not to converge to
+                                    the truth on what this log shows: its bounds are
+                                    no bounds at their level (el_verdict_method_fault) */
 } el_verdict_cause;
 
 /* "stable", "unstable", "marginal", "undecided"; "unknown" else. Static. */
@@ -47,7 +51,8 @@ const char *el_stability_name(el_stability s);
 /* The cause's code for JSON: "none", "on_boundary", "bounds", "few_cycles",
  * "low_excitation", "estimators_disagree", "drift", "level_trend",
  * "level_shift", "growth", "too_few_replicates", "no_bounds", "nyquist",
- * "type_open", "no_bootstrap", "no_dynamics"; "unknown" else. Static text. */
+ * "type_open", "no_bootstrap", "no_dynamics", "method_inconsistent"; "unknown"
+ * else. Static text. */
 const char *el_verdict_cause_code(el_verdict_cause cause);
 
 typedef struct {
@@ -84,6 +89,54 @@ void el_verdict_set_undecided(el_verdict *v, el_verdict_cause cause);
  * eigenvalues, counts and plane numbers stay (they describe the fitted
  * model, which describes noise). Can't fail; NULL v is a no-op. */
 void el_verdict_withhold_type(el_verdict *v);
+
+/* Why an estimator's bounds cannot be read as bounds at their level on a
+ * log, found from what the pipeline already measured. */
+typedef enum {
+    EL_METHOD_FAULT_NONE = 0,
+    EL_METHOD_FAULT_BACKWARD,     /* fb or tls on a stationary (disturbance-driven)
+                                     log: the backward model of a stationary process
+                                     is not the inverse of the forward one, so both
+                                     estimate another matrix (docs/uncertainty.md,
+                                     "Per method": 16 to 2000 spreads off) */
+    EL_METHOD_FAULT_SENSOR_NOISE  /* ls whose bias round was refused by a wide margin:
+                                     the model does not reproduce its own data, as with
+                                     sensor noise (errors in variables: 8 to 59 spreads
+                                     off) */
+} el_method_fault;
+
+/* A least-squares model whose bias round was refused (el_boot_result
+ * bias_refused) counts as pulled off by sensor noise when the refused
+ * shift is at least this many spreads of its model-based replicates: a
+ * 95 % interval that far off the truth covers it at most about 0.68 of
+ * the time (Phi(1.96 - 1.5) - Phi(-1.96 - 1.5)). Measured
+ * (bench/calibrate.c, 60 logs per cell, 2026-12-04): refusals on logs
+ * without sensor noise shifted 0.50-1.22 spreads (38 of 1,440 logs), on
+ * the 30 % sensor-noise case 1.25-6.0 (all 60 of each length from 500 to
+ * 5,000 samples, 4 of the 500-sample ones below 1.5). A project
+ * threshold set between the two. */
+#define EL_VERDICT_SENSOR_SHIFT_SPREADS 1.5
+
+/* The fault of method on a log: EL_METHOD_FAULT_BACKWARD for EL_METHOD_FB
+ * or EL_METHOD_TLS when stationary is 1 (el_regime's class
+ * EL_REGIME_STATIONARY: no free transient); EL_METHOD_FAULT_SENSOR_NOISE
+ * for EL_METHOD_LS when refused_spreads (el_boot_result
+ * bias_refused_spreads: 0 when the bias round did not refuse) is at least
+ * EL_VERDICT_SENSOR_SHIFT_SPREADS; else EL_METHOD_FAULT_NONE (iv, ssi,
+ * hankel: consistent in both cases). Pure function, can't fail. */
+el_method_fault el_verdict_method_fault(el_method method, int stationary,
+                                        double refused_spreads);
+
+/* Withholds the class for a method fault (fault != EL_METHOD_FAULT_NONE;
+ * NONE is a no-op returning EL_OK): undecided (ambiguous) with cause
+ * EL_CAUSE_METHOD_INCONSISTENT and p_stable NaN (JSON null); the type, the
+ * eigenvalues and their bounds stay (they describe the estimate), and one
+ * warning (code method_inconsistent) says why the bounds are not bounds at
+ * level and names --method auto or iv. Errors: EL_ERR_INTERNAL for a NULL
+ * v; EL_ERR_NOMEM when the warning cannot be stored (warnings may be NULL:
+ * no warning). */
+el_status el_verdict_withhold_method(el_verdict *v, el_method_fault fault, el_method method,
+                                     double level, el_warnings *warnings, el_error *err);
 
 /* Classifies. Without a bootstrap (boot == NULL or boot->replicates == 0):
  * a mode is marginal when |Re lambda| <= marginal_tolerance = 1e-9 / dt
