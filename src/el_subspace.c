@@ -4,6 +4,8 @@
  * block bootstrap. */
 #include "el_subspace.h"
 
+#include "el_stats.h"
+
 #include <cblas.h>
 #include <float.h>
 #include <lapacke.h>
@@ -114,8 +116,9 @@ static size_t max_horizon_for(size_t n, size_t p)
 }
 
 /* Mean over channels of the autocorrelation r(k), k = 0 .. lmax, of the
- * centred channels. Returns 1 when a channel is constant or not finite. */
-static int mean_autocorr(const el_series *s, size_t lmax, double *r)
+ * centred channels (g: lmax + 1 doubles of scratch). Returns 1 when a
+ * channel is constant or not finite. */
+static int mean_autocorr(const el_series *s, size_t lmax, double *r, double *g)
 {
     size_t n = s->n_samples, p = s->n_channels;
     for (size_t k = 0; k <= lmax; k++)
@@ -131,12 +134,10 @@ static int mean_autocorr(const el_series *s, size_t lmax, double *r)
             g0 += (x[t] - mean) * (x[t] - mean);
         if (!(g0 > 0.0) || !isfinite(g0))
             return 1;
-        for (size_t k = 0; k <= lmax; k++) {
-            double g = 0.0;
-            for (size_t t = k; t < n; t++)
-                g += (x[t] - mean) * (x[t - k] - mean);
-            r[k] += g / g0 / (double)p;
-        }
+        /* The sums of the plain loop, bit for bit, eight lags a pass. */
+        el_stats_lagged_products(x, n, mean, 0, lmax + 1, g);
+        for (size_t k = 0; k <= lmax; k++)
+            r[k] += g[k] / g0 / (double)p;
     }
     return 0;
 }
@@ -189,10 +190,10 @@ el_status el_subspace_choose_horizon(const el_series *series,
     size_t lmax = cap + 1;
     if (lmax > n / 2)
         lmax = n / 2;
-    double *r = malloc((lmax + 1) * sizeof *r);
+    double *r = malloc(2 * (lmax + 1) * sizeof *r);
     if (r == NULL)
         return el_error_set(err, EL_ERR_NOMEM, "out of memory (horizon)");
-    if (mean_autocorr(series, lmax, r)) {
+    if (mean_autocorr(series, lmax, r, r + lmax + 1)) {
         free(r);
         el_error_set(err, EL_ERR_DATA, "a channel is constant or not finite");
         el_error_hint(err, "drop constant channels");

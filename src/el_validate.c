@@ -8,6 +8,12 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "el_stats.h"
+
+/* Lags of the whiteness test summed per call of el_stats_lagged_products
+ * (a multiple of its eight-lag pass; a stack array of this size). */
+#define EL_VALIDATE_LAG_CHUNK 64
+
 /* ---- distribution functions ------------------------------------------ */
 
 /* ln Gamma(a), a > 0: Lanczos approximation with g = 7 and nine
@@ -112,13 +118,18 @@ double el_validate_ljung_box(const double *e, size_t n, size_t h)
         c0 += (e[t] - mean) * (e[t] - mean);
     if (!(c0 > 0.0) || !isfinite(c0))
         return NAN;
+    /* The sums of the plain loop over t, bit for bit, eight lags a pass
+     * (el_stats_lagged_products); a block at a time keeps this free of
+     * allocation. */
+    double ck[EL_VALIDATE_LAG_CHUNK];
     double sum = 0.0;
-    for (size_t k = 1; k <= h; k++) {
-        double ck = 0.0;
-        for (size_t t = k; t < n; t++)
-            ck += (e[t] - mean) * (e[t - k] - mean);
-        double r = ck / c0;
-        sum += r * r / (double)(n - k);
+    for (size_t k0 = 1; k0 <= h; k0 += EL_VALIDATE_LAG_CHUNK) {
+        size_t count = h + 1 - k0 < EL_VALIDATE_LAG_CHUNK ? h + 1 - k0 : EL_VALIDATE_LAG_CHUNK;
+        el_stats_lagged_products(e, n, mean, k0, count, ck);
+        for (size_t j = 0; j < count; j++) {
+            double r = ck[j] / c0;
+            sum += r * r / (double)(n - (k0 + j));
+        }
     }
     return (double)n * ((double)n + 2.0) * sum;
 }
