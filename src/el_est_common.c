@@ -44,6 +44,11 @@
  * whatever the log length). */
 #define EST_CHUNK 256
 
+/* Rows of the instrument step's chunk when its rows are not kept (lags
+ * 0): 4096 rows of a few dozen columns stay in the cache and make
+ * products large enough for the BLAS kernels. */
+#define S1_CHUNK 4096
+
 /* ------------------------------------------------------------------ */
 /* Small dense helpers (column-major). */
 
@@ -530,7 +535,10 @@ struct el_est_plan {
     const el_est_core *core;    /* the estimator's step 2 */
     size_t n_samples, n_channels, n_inputs, lags, depth, state_dim, n_pairs;
     size_t s1_rows, s1_q;       /* instrument step: rows k = K+depth..N-1, past dim */
-    double *s1_data;            /* s1_rows x (d + q) */
+    double *s1_data;            /* s1_data_rows x (d + q): a chunk of at most
+                                   S1_CHUNK rows (the Gram is summed chunk by chunk) */
+    size_t s1_data_rows;
+    double *s1_colmean;         /* d + q: the columns' means */
     double *s1_gram;            /* (d + q)^2 */
     double *s1_work;
     double *states;             /* (n_pairs + 1) * d */
@@ -555,6 +563,7 @@ void el_est_plan_destroy(el_est_plan *plan)
     if (plan == NULL)
         return;
     free(plan->s1_data);
+    free(plan->s1_colmean);
     free(plan->s1_gram);
     free(plan->s1_work);
     free(plan->states);
@@ -651,10 +660,17 @@ el_status el_est_plan_create(const el_est_core *core,
         p->s1_q = n_channels * depth;
         p->s1_rows = n_samples - opt->lags - depth;
         size_t cols = d + p->s1_q;
-        p->s1_data = malloc(p->s1_rows * cols * sizeof(double));
+        /* The rows are made a chunk at a time, for the Gram and again for
+         * the rank test of a delay state (lags > 0), which keeps only two
+         * projections of them (keep doubles each): no matrix of the
+         * window's length, which was 2 (K + 1) times the series. */
+        size_t keep = opt->lags > 0 ? p->s1_rows : 0;
+        p->s1_data_rows = p->s1_rows < S1_CHUNK ? p->s1_rows : S1_CHUNK;
+        p->s1_data = malloc(p->s1_data_rows * cols * sizeof(double));
+        p->s1_colmean = malloc(cols * sizeof(double));
         p->s1_gram = malloc(cols * cols * sizeof(double));
-        p->s1_work = malloc(el_est_s1_work_size(d, p->s1_q, p->s1_rows) * sizeof(double));
-        ok = p->s1_data && p->s1_gram && p->s1_work;
+        p->s1_work = malloc(el_est_s1_work_size(d, p->s1_q, keep) * sizeof(double));
+        ok = p->s1_data && p->s1_colmean && p->s1_gram && p->s1_work;
     }
     p->dim_max = core->instrument ? 4 * d + n_inputs : 2 * d;
     size_t work = core->core_work(d, n_inputs);
@@ -770,9 +786,28 @@ static void autocorr(const double *x, size_t n, size_t lags, double *ac)
  * (the largest f a moving average of white noise of order K can have, by
  * Cauchy-Schwarz on its spectrum), and the test uses m / f rows.
  * work: el_est_s1_work_size(d, q, rows). Returns 0, or 1 when LAPACK fails. */
+/* The rows behind a Gram made on demand: project writes us = Z av and
+ * vs = P cp (rows each) for the state part Z and past part P of the
+ * centred rows. */
+typedef struct {
+    void (*project)(void *ctx, const double *av, const double *cp, double *us, double *vs);
+    void *ctx;
+} s1_rows;
+
+static int s1_core(size_t d, size_t q, const double *gram, const double *data,
+                   const s1_rows *src, size_t rows, size_t lags, long rank_opt, double *rho,
+                   double *basis, el_est_s1_result *res, double *work);
+
 int el_est_s1_from_gram(size_t d, size_t q, const double *gram, const double *data,
                          size_t rows, size_t lags, long rank_opt, double *rho,
                         double *basis, el_est_s1_result *res, double *work)
+{
+    return s1_core(d, q, gram, data, NULL, rows, lags, rank_opt, rho, basis, res, work);
+}
+
+static int s1_core(size_t d, size_t q, const double *gram, const double *data,
+                   const s1_rows *src, size_t rows, size_t lags, long rank_opt, double *rho,
+                   double *basis, el_est_s1_result *res, double *work)
 {
     size_t ld = d + q, mn = d < q ? d : q, mx = d > q ? d : q;
     double *pool = work;
@@ -784,7 +819,10 @@ int el_est_s1_from_gram(size_t d, size_t q, const double *gram, const double *da
     double *cp = el_est_take(&pool, d * q), *sw = el_est_take(&pool, el_est_sym_fun_work(mx));
     double *svw = el_est_take(&pool, 5 * (d + q) + 8);
     double *av = el_est_take(&pool, d), *bv = el_est_take(&pool, q);
-    double *us = el_est_take(&pool, rows), *vs = el_est_take(&pool, rows);
+    /* the rank test's canonical variates: only with the rows themselves */
+    int have_rows = data != NULL || src != NULL;
+    double *us = have_rows ? el_est_take(&pool, rows) : NULL;
+    double *vs = have_rows ? el_est_take(&pool, rows) : NULL;
     int rz = el_est_sym_fun(d, gram, ld, -0.5, wz, d, sw);
     int rp = el_est_sym_fun(q, gram + d + d * ld, ld, -0.5, wp, q, sw);
     if (rz < 0 || rp < 0)
@@ -807,7 +845,7 @@ int el_est_s1_from_gram(size_t d, size_t q, const double *gram, const double *da
     res->test_rank = 0;
     res->lowered = 0;
     res->inflation = 1.0;
-    if (data != NULL && lags > 0 && num > 0 && rows > lags + 2) {
+    if (have_rows && lags > 0 && num > 0 && rows > lags + 2) {
         size_t nf = 0;
         double acu[EL_EST_PROVIDER_MAX_LAGS + 2], acv[EL_EST_PROVIDER_MAX_LAGS + 2];
         size_t hmax = lags <= EL_EST_PROVIDER_MAX_LAGS ? lags : EL_EST_PROVIDER_MAX_LAGS;
@@ -816,8 +854,12 @@ int el_est_s1_from_gram(size_t d, size_t q, const double *gram, const double *da
             for (size_t i = 0; i < q; i++)
                 bv[i] = vtcan[j + i * mn];
             el_est_gemm(0, 0, q, 1, q, wp, q, bv, q, cp, q);
-            el_est_gemm(0, 0, rows, 1, d, data, rows, av, d, us, rows);
-            el_est_gemm(0, 0, rows, 1, q, data + d * rows, rows, cp, q, vs, rows);
+            if (src != NULL) {
+                src->project(src->ctx, av, cp, us, vs);
+            } else {
+                el_est_gemm(0, 0, rows, 1, d, data, rows, av, d, us, rows);
+                el_est_gemm(0, 0, rows, 1, q, data + d * rows, rows, cp, q, vs, rows);
+            }
             autocorr(us, rows, hmax, acu);
             autocorr(vs, rows, hmax, acv);
             double f = 1.0;
@@ -857,8 +899,53 @@ int el_est_s1_from_gram(size_t d, size_t q, const double *gram, const double *da
     return 0;
 }
 
+/* Centred rows i0 .. i0 + len - 1 of the instrument step into s1_data
+ * (len x (d + q), column-major). Row i is sample k = K + depth + i: the
+ * state lags 0..K, then the past x[k-K-1] .. x[k-K-depth]. */
+static void s1_fill(el_est_plan *plan, const el_series *series, const el_model *model,
+                    size_t i0, size_t len)
+{
+    size_t nn = plan->n_samples, nc = plan->n_channels, lags = plan->lags;
+    size_t d = plan->state_dim, cols = d + plan->s1_q, dep = plan->depth;
+    for (size_t col = 0; col < cols; col++) {
+        size_t back = col < d ? col / nc : lags + 1 + (col - d) / nc;
+        size_t c = col % nc;
+        double mean = model->channel_mean[c], inv = 1.0 / model->channel_scale[c];
+        double cm = plan->s1_colmean[col];
+        const double *src = series->values + c * nn + lags + dep - back + i0;
+        double *dst = plan->s1_data + col * len;
+        for (size_t i = 0; i < len; i++)
+            dst[i] = (src[i] - mean) * inv - cm;
+    }
+}
+
+typedef struct {
+    el_est_plan *plan;
+    const el_series *series;
+    const el_model *model;
+} s1_ctx;
+
+/* s1_rows.project: the rows made again a chunk at a time. */
+static void s1_project(void *ctx, const double *av, const double *cp, double *us,
+                       double *vs)
+{
+    s1_ctx *x = ctx;
+    el_est_plan *plan = x->plan;
+    size_t rows = plan->s1_rows, chunk = plan->s1_data_rows, d = plan->state_dim;
+    size_t q = plan->s1_q;
+    for (size_t i0 = 0; i0 < rows; i0 += chunk) {
+        size_t len = rows - i0 < chunk ? rows - i0 : chunk;
+        s1_fill(plan, x->series, x->model, i0, len);
+        el_est_gemm(0, 0, len, 1, d, plan->s1_data, len, av, d, us + i0, rows);
+        el_est_gemm(0, 0, len, 1, q, plan->s1_data + d * len, len, cp, q, vs + i0, rows);
+    }
+}
+
 /* Step 1 proper: the rows, their Gram, the canonical correlations, the
- * rank (and the basis into model->basis). */
+ * rank (and the basis into model->basis). The columns' means first (the
+ * same sums as over stored rows), then the centred rows a chunk at a
+ * time, their Gram summed chunk by chunk; the rank test makes the rows
+ * again (s1_project) instead of keeping them. */
 static el_status stage1_run(el_est_plan *plan, const el_series *series, long rank_opt,
                             el_model *model, el_est_s1_result *res, el_error *err)
 {
@@ -866,29 +953,30 @@ static el_status stage1_run(el_est_plan *plan, const el_series *series, long ran
     size_t d = plan->state_dim, q = plan->s1_q, rows = plan->s1_rows, dep = plan->depth;
     size_t cols = d + q;
     const double *x = series->values;
-    /* Row i is sample k = K + depth + i: the state lags 0..K, then the past
-     * x[k-K-1] .. x[k-K-depth]. */
     for (size_t col = 0; col < cols; col++) {
         size_t back = col < d ? col / nc : lags + 1 + (col - d) / nc;
         size_t c = col % nc;
         double mean = model->channel_mean[c], inv = 1.0 / model->channel_scale[c];
-        double *dst = plan->s1_data + col * rows, acc = 0.0;
-        for (size_t i = 0; i < rows; i++) {
-            size_t k = lags + dep + i;
-            dst[i] = (x[c * nn + k - back] - mean) * inv;
-            acc += dst[i];
-        }
-        acc /= (double)rows;
+        const double *src = x + c * nn + lags + dep - back;
+        double acc = 0.0;
         for (size_t i = 0; i < rows; i++)
-            dst[i] -= acc;
+            acc += (src[i] - mean) * inv;
+        plan->s1_colmean[col] = acc / (double)rows;
     }
-    cblas_dsyrk(CblasColMajor, CblasLower, CblasTrans, (int)cols, (int)rows, 1.0,
-                plan->s1_data, (int)rows, 0.0, plan->s1_gram, (int)cols);
+    size_t chunk = plan->s1_data_rows;
+    for (size_t i0 = 0; i0 < rows; i0 += chunk) {
+        size_t len = rows - i0 < chunk ? rows - i0 : chunk;
+        s1_fill(plan, series, model, i0, len);
+        cblas_dsyrk(CblasColMajor, CblasLower, CblasTrans, (int)cols, (int)len, 1.0,
+                    plan->s1_data, (int)len, i0 == 0 ? 0.0 : 1.0, plan->s1_gram, (int)cols);
+    }
     for (size_t j = 0; j < cols; j++)
         for (size_t i = 0; i < j; i++)
             plan->s1_gram[i + j * cols] = plan->s1_gram[j + i * cols];
-    if (el_est_s1_from_gram(d, q, plan->s1_gram, plan->s1_data, rows, lags, rank_opt,
-                     model->canonical_corr, model->basis, res, plan->s1_work)) {
+    s1_ctx ctx = {plan, series, model};
+    s1_rows src = {s1_project, &ctx};
+    if (s1_core(d, q, plan->s1_gram, NULL, lags > 0 ? &src : NULL, rows, lags, rank_opt,
+                model->canonical_corr, model->basis, res, plan->s1_work)) {
         el_error_set(err, EL_ERR_NUMERIC,
                      "the canonical correlations of the state with the past did not "
                      "converge");

@@ -190,14 +190,18 @@ typedef struct {
     double inflation;          /* variance inflation of the test (1 without lags) */
 } el_est_s1_result;
 
-/* Doubles of scratch el_est_s1_from_gram needs. */
+/* Doubles of scratch el_est_s1_from_gram needs; rows: the rows its data
+ * holds (0 when data will be NULL: the rows are then not stored). */
 size_t el_est_s1_work_size(size_t d, size_t q, size_t rows);
 
 /* From the Gram of [z, pi] ((d + q)^2, centred, both triangles set):
  * canonical correlations into rho (min(d, q)), rank and basis (d x rank,
  * leading dimension d). data (rows x (d + q), the centred rows behind the
  * Gram) serves the rank test; NULL with rows = 0 for exact covariances
- * (rank_opt must then be > 0).
+ * (rank_opt must then be > 0). Without lags (lags = 0) the rows are not
+ * read (consecutive rows share no sample: no overlap correction), so
+ * data may be NULL with rows the count behind the Gram, and work then
+ * needs el_est_s1_work_size(d, q, 0).
  * The test: the rows overlap (z[k] and z[k+1] share K samples), so the
  * noise part of a state direction is a moving average of order K and the
  * sample cross-correlations with the (autocorrelated) past vary more than

@@ -7,9 +7,24 @@
 #include <stdlib.h>
 #include <string.h>
 
+static el_status create(size_t n_channels, size_t lags, size_t max_samples, int traces,
+                        el_prediction **out, el_error *err);
+
 el_status el_prediction_create(size_t n_channels, size_t lags,
                                size_t max_samples, el_prediction **out,
                                el_error *err)
+{
+    return create(n_channels, lags, max_samples, 1, out, err);
+}
+
+el_status el_prediction_create_errors(size_t n_channels, size_t lags, size_t max_samples,
+                                      el_prediction **out, el_error *err)
+{
+    return create(n_channels, lags, max_samples, 0, out, err);
+}
+
+static el_status create(size_t n_channels, size_t lags, size_t max_samples, int traces,
+                        el_prediction **out, el_error *err)
 {
     if (out == NULL || n_channels == 0)
         return el_error_set(err, EL_ERR_INTERNAL,
@@ -26,13 +41,18 @@ el_status el_prediction_create(size_t n_channels, size_t lags,
     p->lags = lags;
     p->state_dim = n_channels * (lags + 1);
     p->max_samples = max_samples;
-    size_t values = n_channels * (max_samples - lags);
-    p->one_step = malloc(values * sizeof *p->one_step);
-    p->free_run = malloc(values * sizeof *p->free_run);
+    p->traces = traces;
+    size_t values = traces ? n_channels * (max_samples - lags) : 1;
+    p->one_step = traces ? malloc(values * sizeof *p->one_step) : NULL;
+    p->free_run = traces ? malloc(values * sizeof *p->free_run) : NULL;
     p->one_step_nrmse = malloc(n_channels * sizeof *p->one_step_nrmse);
     p->free_nrmse = malloc(n_channels * sizeof *p->free_nrmse);
-    p->work = malloc((2 * p->state_dim + 2 * n_channels) * sizeof *p->work);
-    if (!p->one_step || !p->free_run || !p->one_step_nrmse || !p->free_nrmse || !p->work) {
+    /* z, next, the divergence bands; without traces also the running sums
+     * of the errors (mean, var, sq per channel) */
+    p->work = malloc((2 * p->state_dim + 2 * n_channels + (traces ? 0 : 3 * n_channels)) *
+                     sizeof *p->work);
+    if ((traces && (!p->one_step || !p->free_run)) || !p->one_step_nrmse ||
+        !p->free_nrmse || !p->work) {
         el_prediction_destroy(p);
         return el_error_set(err, EL_ERR_NOMEM, "out of memory");
     }
@@ -181,6 +201,87 @@ static void errors(el_prediction *p, const el_series *s)
     }
 }
 
+const double *el_prediction_one_step(el_prediction *p, const el_model *m,
+                                     const el_series *s, size_t k)
+{
+    double *z = p->work, *next = p->work + p->state_dim;
+    measured_state(s, p->lags, k, z);
+    step(m, p->inputs, k, z, next);
+    return next;
+}
+
+/* Without traces: the errors of errors() from running sums, the same
+ * additions in the same order per channel (the mean of the measured
+ * samples first, then var and sq sample by sample), so the same doubles. */
+static void streamed_one_step(el_prediction *p, const el_model *m, const el_series *s)
+{
+    size_t nc = p->n_channels, first = p->one_step_first, count = p->one_step_count;
+    double *mean = p->work + 2 * p->state_dim + 2 * nc, *var = mean + nc, *sq = var + nc;
+    for (size_t c = 0; c < nc; c++) {
+        const double *x = s->values + c * s->n_samples + first;
+        mean[c] = 0;
+        for (size_t i = 0; i < count; i++)
+            mean[c] += x[i];
+        mean[c] /= (double)count;
+        var[c] = sq[c] = 0;
+    }
+    for (size_t i = 0; i < count; i++) {
+        const double *next = el_prediction_one_step(p, m, s, p->lags + i);
+        for (size_t c = 0; c < nc; c++) {
+            double x = s->values[c * s->n_samples + first + i];
+            var[c] += (x - mean[c]) * (x - mean[c]);
+            sq[c] += (next[c] - x) * (next[c] - x);
+        }
+    }
+    for (size_t c = 0; c < nc; c++)
+        p->one_step_nrmse[c] = var[c] > 0 ? sqrt(sq[c] / var[c]) : NAN;
+}
+
+static void streamed_free(el_prediction *p, const el_model *m, const el_series *s)
+{
+    size_t nc = p->n_channels, full = s->n_samples - p->lags, len = s->n_samples;
+    double *z = p->work, *next = p->work + p->state_dim;
+    double *band = p->work + 2 * p->state_dim;
+    double *mean = band + 2 * nc, *var = mean + nc, *sq = var + nc;
+    for (size_t c = 0; c < nc; c++) {
+        divergence_band(s, c, &band[2 * c], &band[2 * c + 1]);
+        const double *x = s->values + c * len + p->lags;
+        mean[c] = 0;
+        for (size_t i = 0; i < full; i++)
+            mean[c] += x[i];
+        mean[c] /= (double)full;
+        var[c] = sq[c] = 0;
+    }
+    measured_state(s, p->lags, p->lags, z);
+    /* value 0 is the measured x[K]: its error is 0 */
+    for (size_t c = 0; c < nc; c++) {
+        double x = s->values[c * len + p->lags];
+        var[c] += (x - mean[c]) * (x - mean[c]);
+        sq[c] += (z[c] - x) * (z[c] - x);
+    }
+    size_t count = 1;
+    p->free_diverged = 0;
+    p->free_diverged_at = 0;
+    while (count < full) {
+        step(m, p->inputs, p->lags + count - 1, z, next);
+        if (out_of_band(nc, band, next)) {
+            p->free_diverged = 1;
+            p->free_diverged_at = p->lags + count;
+            break;
+        }
+        for (size_t c = 0; c < nc; c++) {
+            double x = s->values[c * len + p->lags + count];
+            var[c] += (x - mean[c]) * (x - mean[c]);
+            sq[c] += (next[c] - x) * (next[c] - x);
+        }
+        memcpy(z, next, p->state_dim * sizeof *z);
+        count++;
+    }
+    p->free_count = count;
+    for (size_t c = 0; c < nc; c++)
+        p->free_nrmse[c] = p->free_diverged ? NAN : var[c] > 0 ? sqrt(sq[c] / var[c]) : NAN;
+}
+
 el_status el_prediction_run(el_prediction *p, const el_model *m,
                             const el_series *s, el_error *err)
 {
@@ -208,6 +309,11 @@ el_status el_prediction_run(el_prediction *p, const el_model *m,
     p->one_step_first = p->lags + 1;
     p->one_step_count = s->n_samples - p->lags - 1;
     p->free_first = p->lags;
+    if (!p->traces) {
+        streamed_one_step(p, m, s);
+        streamed_free(p, m, s);
+        return EL_OK;
+    }
     run_one_step(p, m, s);
     run_free(p, m, s);
     errors(p, s);

@@ -57,6 +57,9 @@ typedef struct {
     double *free_nrmse;       /* n_channels */
     double *work;             /* scratch: current and next state, divergence bands */
     const el_series *inputs;  /* measured inputs (el_prediction_set_inputs), NULL = none */
+    int traces;               /* 1: one_step and free_run are kept (el_prediction_create);
+                                 0: they are NULL, only the errors and the divergence
+                                 are filled (el_prediction_create_errors) */
 } el_prediction;
 
 /* Plans predictions for models of n_channels channels with lags delay
@@ -69,6 +72,25 @@ typedef struct {
 el_status el_prediction_create(size_t n_channels, size_t lags,
                                size_t max_samples, el_prediction **out,
                                el_error *err);
+
+/* As el_prediction_create, but keeps no traces: one_step and free_run
+ * stay NULL (their counts and first samples are still set), and
+ * el_prediction_run computes the errors and the divergence from running
+ * sums as it goes, the same doubles as with traces (the same additions in
+ * the same order). Memory O(state), not O(samples): what el_validation
+ * uses, which needs no trace. Errors as el_prediction_create. */
+el_status el_prediction_create_errors(size_t n_channels, size_t lags, size_t max_samples,
+                                      el_prediction **out, el_error *err);
+
+/* The one-step prediction of sample k + 1 from the measured state at
+ * sample k (lags <= k <= n_samples - 2 of series): a pointer to the
+ * plan's scratch whose first n_channels values are the channels'
+ * predictions (valid until the next call with this plan): the numbers
+ * el_prediction_run stores in one_step. The plan's inputs are used as
+ * there; the caller has checked model and series against the plan (as
+ * el_prediction_run does). Can't fail. */
+const double *el_prediction_one_step(el_prediction *plan, const el_model *model,
+                                     const el_series *series, size_t k);
 
 /* Fills the plan's outputs from model (uses n_channels, lags, state_dim,
  * ad and offset, all in physical units) over series (values, n_samples,

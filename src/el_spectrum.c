@@ -448,11 +448,6 @@ void el_peaks_free(el_peaks *peaks)
     memset(peaks, 0, sizeof *peaks);
 }
 
-static int compare_double(const void *a, const void *b)
-{
-    double x = *(const double *)a, y = *(const double *)b;
-    return (x > y) - (x < y);
-}
 
 /* Tallest first; equal heights by bin so the order never depends on qsort. */
 static int compare_peak_height(const void *a, const void *b)
@@ -463,11 +458,54 @@ static int compare_peak_height(const void *a, const void *b)
     return (p->bin > q->bin) - (p->bin < q->bin);
 }
 
+/* Puts the k-th smallest of a[0..n) at a[k], nothing larger before it
+ * and nothing smaller after it (Hoare's selection, "Find", 1961, with the
+ * median of three as pivot): expected O(n), where a sort is O(n log n).
+ * The values are only moved, so the order statistic is the same double a
+ * sort gives. */
+static void select_kth(double *a, size_t n, size_t k)
+{
+    size_t lo = 0, hi = n - 1;
+    while (hi > lo) {
+        size_t mid = lo + (hi - lo) / 2;
+        double x = a[lo], y = a[mid], z = a[hi];
+        double pivot = x < y ? (y < z ? y : (x < z ? z : x)) : (x < z ? x : (y < z ? z : y));
+        size_t i = lo, j = hi;
+        while (i <= j) {
+            while (a[i] < pivot)
+                i++;
+            while (a[j] > pivot)
+                j--;
+            if (i <= j) {
+                double t = a[i];
+                a[i] = a[j];
+                a[j] = t;
+                i++;
+                if (j == 0)
+                    break;
+                j--;
+            }
+        }
+        if (k <= j)
+            hi = j;
+        else if (k >= i)
+            lo = i;
+        else
+            return;
+    }
+}
+
 static double median_of(const double *x, size_t n, double *scratch)
 {
     memcpy(scratch, x, n * sizeof *scratch);
-    qsort(scratch, n, sizeof *scratch, compare_double);
-    return n % 2 ? scratch[n / 2] : 0.5 * (scratch[n / 2 - 1] + scratch[n / 2]);
+    select_kth(scratch, n, n / 2);
+    if (n % 2)
+        return scratch[n / 2];
+    /* the lower middle value: the largest of those before n / 2 */
+    double lower = scratch[0];
+    for (size_t i = 1; i < n / 2; i++)
+        lower = scratch[i] > lower ? scratch[i] : lower;
+    return 0.5 * (lower + scratch[n / 2]);
 }
 
 /* Mean of the bins j-1, j, j+1 that lie in 1..nb-1. */
@@ -494,17 +532,19 @@ static double mean3(const double *P, size_t nb, size_t j)
  * long flank picks the deepest dip of the estimator's scatter, whose lower
  * tail is long in log scale, and three-bin means shorten it; the
  * significance test uses this one. */
-static void prominence_bases(const double *P, size_t nb, size_t k, double *base,
-                             double *smooth_base)
+static void prominence_bases(const double *P, const double *m3, size_t nb, size_t k,
+                             double *base, double *smooth_base)
 {
+    /* Plain comparisons, not fmin: the bins are finite (fmin differs
+     * only for NaN) and they compile to a min instruction, not a call. */
     double left = P[k], right = P[k], left_s = P[k], right_s = P[k];
     for (size_t j = k; j-- > 1 && P[j] <= P[k];) {
-        left = fmin(left, P[j]);
-        left_s = fmin(left_s, mean3(P, nb, j));
+        left = P[j] < left ? P[j] : left;
+        left_s = m3[j] < left_s ? m3[j] : left_s;
     }
     for (size_t j = k + 1; j < nb && P[j] <= P[k]; j++) {
-        right = fmin(right, P[j]);
-        right_s = fmin(right_s, mean3(P, nb, j));
+        right = P[j] < right ? P[j] : right;
+        right_s = m3[j] < right_s ? m3[j] : right_s;
     }
     *base = fmax(left, right);
     *smooth_base = fmax(left_s, right_s);
@@ -675,12 +715,17 @@ static size_t channel_peaks(const el_spectra *sp, const el_spectrum_options *opt
     threshold = threshold > floor_psd ? threshold : floor_psd;
     if (!(largest > 0.0) || nb < 4)
         return 0;
+    /* The three-bin means once per bin (the scratch is free after the
+     * median), not once per step of every candidate's flank walk. */
+    double *m3 = peaks->scratch;
+    for (size_t j = 1; j < nb; j++)
+        m3[j] = mean3(P, nb, j);
     size_t n_cand = 0;
     for (size_t k = 2; k + 1 < nb; k++) {
         if (!(P[k] > P[k - 1] && P[k] >= P[k + 1] && P[k] >= threshold && P[k] > 0.0))
             continue;
         double base, smooth_base;
-        prominence_bases(P, nb, k, &base, &smooth_base);
+        prominence_bases(P, m3, nb, k, &base, &smooth_base);
         if (P[k] < q * smooth_base)
             continue;
         el_peak *pk = &peaks->candidates[n_cand++];

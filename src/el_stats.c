@@ -2,6 +2,7 @@
 #include "el_stats.h"
 
 #include <math.h>
+#include <stddef.h>
 
 int el_stats_spread(const double *x, size_t n, double *mean_out, double *sd_out)
 {
@@ -50,4 +51,52 @@ int el_stats_spread(const double *x, size_t n, double *mean_out, double *sd_out)
     if (!isfinite(mean) || !isfinite(sd))
         return 0;
     return largest == 0.0 || sd <= 1e-12 * fabs(mean);
+}
+
+/* Lags per pass of el_stats_lagged_products: eight sums are four SSE2
+ * registers, leaving room for the loads. */
+#define STATS_LAG_BLOCK 8
+
+/* One pass for the lags k0 .. k0 + b - 1 (b <= STATS_LAG_BLOCK), written
+ * with s = t - k: term s of lag k is (x[s] - mean)(x[s + k] - mean), the
+ * plain loop's product with its factors swapped (the same double). Every
+ * lag takes s = 0 .. n - 1 - kb together (kb the block's largest lag:
+ * one broadcast of x[s] times a contiguous run of x, which vectorises),
+ * then its own last terms up to s = n - 1 - k: for each lag the terms
+ * arrive in ascending s, as in the plain loop. */
+static void lag_block(const double *x, size_t n, double mean, size_t k0, size_t b,
+                      double *out)
+{
+    double acc[STATS_LAG_BLOCK] = {0.0};
+    size_t kb = k0 + b - 1;
+    size_t common = n > kb ? n - kb : 0;
+    if (b == STATS_LAG_BLOCK) {
+        for (size_t s = 0; s < common; s++) {
+            double a = x[s] - mean;
+            const double *y = x + s + k0;
+            for (size_t j = 0; j < STATS_LAG_BLOCK; j++)
+                acc[j] += a * (y[j] - mean);
+        }
+    } else {
+        for (size_t s = 0; s < common; s++) {
+            double a = x[s] - mean;
+            const double *y = x + s + k0;
+            for (size_t j = 0; j < b; j++)
+                acc[j] += a * (y[j] - mean);
+        }
+    }
+    for (size_t j = 0; j < b; j++)
+        for (size_t s = common; s + k0 + j < n; s++)
+            acc[j] += (x[s] - mean) * (x[s + k0 + j] - mean);
+    for (size_t j = 0; j < b; j++)
+        out[j] = acc[j];
+}
+
+void el_stats_lagged_products(const double *x, size_t n, double mean, size_t k_first,
+                              size_t count, double *out)
+{
+    for (size_t j0 = 0; j0 < count; j0 += STATS_LAG_BLOCK) {
+        size_t b = count - j0 < STATS_LAG_BLOCK ? count - j0 : STATS_LAG_BLOCK;
+        lag_block(x, n, mean, k_first + j0, b, out + j0);
+    }
 }

@@ -17,4 +17,16 @@
  * it). Can't fail otherwise. */
 int el_stats_spread(const double *x, size_t n, double *mean, double *sd);
 
+/* Lagged products of the centred x[0..n): out[j] = sum_{t=k}^{n-1}
+ * (x[t] - mean)(x[t-k] - mean) for the lags k = k_first + j, j = 0 ..
+ * count - 1 (0 for k >= n), the sums of the sample autocovariance. Each
+ * lag's sum is one accumulator added in ascending t, the order of the
+ * plain double loop, so the result is that loop's bit for bit on any CPU
+ * (no reassociation, no BLAS); several lags share a pass over x (eight
+ * independent sums per pass: the adds then overlap instead of waiting on
+ * one another, and x is read once per eight lags). No allocation;
+ * x must not be NULL when n > 0. Can't fail. */
+void el_stats_lagged_products(const double *x, size_t n, double mean, size_t k_first,
+                              size_t count, double *out);
+
 #endif

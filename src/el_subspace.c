@@ -4,6 +4,8 @@
  * block bootstrap. */
 #include "el_subspace.h"
 
+#include "el_stats.h"
+
 #include <cblas.h>
 #include <float.h>
 #include <lapacke.h>
@@ -52,7 +54,10 @@ struct el_subspace_plan {
     int executed;
     double dt;
     double *mean, *scale;
-    double *hank, *fchunk, *pchunk, *fbar, *pbar;
+    double *hank;
+    /* build_hankel: SUB_CHUNK stacked windows (2hp each), the core's
+     * lagged products (2hp x p), the stacked means (2hp), channel sums */
+    double *schunk, *core, *sbar, *csum;
     int cva;                      /* weighting of the last execute */
     double *sff, *spp;            /* hp x hp Grams of the centred future / past */
     double *w1, *w1inv, *w2;      /* CVA weights: Sff^-1/2, Sff^1/2, Spp^-1/2 */
@@ -114,8 +119,9 @@ static size_t max_horizon_for(size_t n, size_t p)
 }
 
 /* Mean over channels of the autocorrelation r(k), k = 0 .. lmax, of the
- * centred channels. Returns 1 when a channel is constant or not finite. */
-static int mean_autocorr(const el_series *s, size_t lmax, double *r)
+ * centred channels (g: lmax + 1 doubles of scratch). Returns 1 when a
+ * channel is constant or not finite. */
+static int mean_autocorr(const el_series *s, size_t lmax, double *r, double *g)
 {
     size_t n = s->n_samples, p = s->n_channels;
     for (size_t k = 0; k <= lmax; k++)
@@ -131,12 +137,10 @@ static int mean_autocorr(const el_series *s, size_t lmax, double *r)
             g0 += (x[t] - mean) * (x[t] - mean);
         if (!(g0 > 0.0) || !isfinite(g0))
             return 1;
-        for (size_t k = 0; k <= lmax; k++) {
-            double g = 0.0;
-            for (size_t t = k; t < n; t++)
-                g += (x[t] - mean) * (x[t - k] - mean);
-            r[k] += g / g0 / (double)p;
-        }
+        /* The sums of the plain loop, bit for bit, eight lags a pass. */
+        el_stats_lagged_products(x, n, mean, 0, lmax + 1, g);
+        for (size_t k = 0; k <= lmax; k++)
+            r[k] += g[k] / g0 / (double)p;
     }
     return 0;
 }
@@ -189,10 +193,10 @@ el_status el_subspace_choose_horizon(const el_series *series,
     size_t lmax = cap + 1;
     if (lmax > n / 2)
         lmax = n / 2;
-    double *r = malloc((lmax + 1) * sizeof *r);
+    double *r = malloc(2 * (lmax + 1) * sizeof *r);
     if (r == NULL)
         return el_error_set(err, EL_ERR_NOMEM, "out of memory (horizon)");
-    if (mean_autocorr(series, lmax, r)) {
+    if (mean_autocorr(series, lmax, r, r + lmax + 1)) {
         free(r);
         el_error_set(err, EL_ERR_DATA, "a channel is constant or not finite");
         el_error_hint(err, "drop constant channels");
@@ -357,10 +361,10 @@ el_status el_subspace_plan_create(size_t n_channels, size_t max_samples,
     pl->sym_vec = malloc(hp * hp * sizeof(double));
     pl->sym_lam = malloc(hp * sizeof(double));
     pl->sym_work = malloc(pl->sym_lwork * sizeof(double));
-    pl->fchunk = malloc(hp * SUB_CHUNK * sizeof(double));
-    pl->pchunk = malloc(hp * SUB_CHUNK * sizeof(double));
-    pl->fbar = malloc(hp * sizeof(double));
-    pl->pbar = malloc(hp * sizeof(double));
+    pl->schunk = malloc(2 * hp * SUB_CHUNK * sizeof(double));
+    pl->core = malloc(2 * hp * p * sizeof(double));
+    pl->sbar = malloc(2 * hp * sizeof(double));
+    pl->csum = malloc(p * sizeof(double));
     pl->sv = malloc(hp * sizeof(double));
     pl->u = malloc(hp * hp * sizeof(double));
     pl->vt = malloc(hp * hp * sizeof(double));
@@ -393,8 +397,8 @@ el_status el_subspace_plan_create(size_t n_channels, size_t max_samples,
         el_subspace_plan_destroy(pl);
         return el_error_set(err, EL_ERR_NOMEM, "out of memory (subspace plan)");
     }
-    if (!pl->y || !pl->mean || !pl->scale || !pl->hank || !pl->fchunk || !pl->pchunk ||
-        !pl->fbar || !pl->pbar || !pl->sv || !pl->u || !pl->vt || !pl->v ||
+    if (!pl->y || !pl->mean || !pl->scale || !pl->hank || !pl->schunk || !pl->core ||
+        !pl->sbar || !pl->csum || !pl->sv || !pl->u || !pl->vt || !pl->v ||
         !pl->svd_work || !pl->obs || !pl->gp || !pl->w2inv || !pl->oup || !pl->odown || !pl->ls_work ||
         !pl->acopy || !pl->wr || !pl->wi || !pl->vr || !pl->vl || !pl->ev_work || !pl->a ||
         !pl->c_scaled || !pl->c_raw || !pl->poles || !pl->shape_re || !pl->shape_im ||
@@ -423,10 +427,10 @@ void el_subspace_plan_destroy(el_subspace_plan *pl)
     free(pl->sym_vec);
     free(pl->sym_lam);
     free(pl->sym_work);
-    free(pl->fchunk);
-    free(pl->pchunk);
-    free(pl->fbar);
-    free(pl->pbar);
+    free(pl->schunk);
+    free(pl->core);
+    free(pl->sbar);
+    free(pl->csum);
     free(pl->sv);
     free(pl->u);
     free(pl->vt);
@@ -476,54 +480,107 @@ static const double *past_of(const el_subspace_plan *pl, size_t w)
     return pl->y + w * pl->p;
 }
 
-/* Copies windows w0 .. w0 + len - 1 into the chunks, minus fbar / pbar
- * when given. */
-static void fill_chunks(el_subspace_plan *pl, size_t w0, size_t len, const double *fbar,
-                        const double *pbar)
+/* The Grams from lagged products. Stack each window as s_w = [y_w; ...;
+ * y_w+2h-1] (2hp: the past, then the future); every matrix the stage needs
+ * is a block of G = (1/m) sum_w (s_w - sbar)(s_w - sbar)'. Block (u, v),
+ * u >= v, of the raw sum is T(u, v) = sum_{t=v}^{v+m-1} y_t+d y_t' with
+ * d = u - v: a lagged product over a range that differs from window to
+ * window only by its ends. So the long sums are taken once, over the core
+ * t = 2h-1 .. m-1 that every range contains (core(d) for d = 0 .. 2h-1:
+ * a (2hp x p) product, 2hp p per window instead of the 3 (hp)^2 of the
+ * three Grams window by window), and each block adds its own at most
+ * 2h - 1 first and last terms. G = T / m - sbar sbar', the same matrix as
+ * the sum of centred products up to rounding (the channels are centred
+ * and scaled to unit spread, so the mean term is far below T / m). */
+
+/* True when every window's range contains the core (m >= 2h - 1). */
+static int core_fits(const el_subspace_plan *pl)
 {
-    size_t hp = pl->hp;
-    for (size_t j = 0; j < len; j++) {
-        const double *f = future_of(pl, w0 + j), *q = past_of(pl, w0 + j);
-        double *fc = pl->fchunk + j * hp, *pc = pl->pchunk + j * hp;
-        for (size_t i = 0; i < hp; i++) {
-            fc[i] = f[i] - (fbar ? fbar[i] : 0.0);
-            pc[i] = q[i] - (pbar ? pbar[i] : 0.0);
-        }
+    return pl->n_windows >= 2 * pl->h - 1;
+}
+
+/* sum_{t=t0}^{t1-1} y_t+d[c] y_t[c2] */
+static double lag_sum(const el_subspace_plan *pl, size_t d, size_t c, size_t c2, size_t t0,
+                      size_t t1)
+{
+    size_t p = pl->p;
+    double s = 0.0;
+    for (size_t t = t0; t < t1; t++)
+        s += pl->y[(t + d) * p + c] * pl->y[t * p + c2];
+    return s;
+}
+
+/* Entry (r, q) of G, r and q indices of the stacked window. */
+static double gram_entry(const el_subspace_plan *pl, size_t r, size_t q)
+{
+    size_t p = pl->p, m = pl->n_windows, c0 = 2 * pl->h - 1;
+    if (r < q) {
+        size_t tmp = r;
+        r = q;
+        q = tmp;
+    }
+    size_t u = r / p, c = r % p, v = q / p, c2 = q % p, d = u - v;
+    double t;
+    if (core_fits(pl))
+        t = pl->core[(d * p + c) + c2 * 2 * pl->hp] + lag_sum(pl, d, c, c2, v, c0) +
+            lag_sum(pl, d, c, c2, m, v + m);
+    else
+        t = lag_sum(pl, d, c, c2, v, v + m);
+    return t / (double)m - pl->sbar[r] * pl->sbar[q];
+}
+
+/* core(d) for d = 0 .. 2h-1 into pl->core (2hp x p, column c2, row d p + c:
+ * sum over the core of y_t+d[c] y_t[c2]) by matrix products of SUB_CHUNK
+ * stacked windows at a time; and the stacked means sbar. */
+static void build_core(el_subspace_plan *pl)
+{
+    size_t p = pl->p, sp = 2 * pl->hp, m = pl->n_windows, c0 = 2 * pl->h - 1;
+    double *csum = pl->csum;
+    for (size_t c = 0; c < p; c++)
+        csum[c] = 0.0;
+    int fits = core_fits(pl);
+    for (size_t t = c0; fits && t < m; t++)
+        for (size_t c = 0; c < p; c++)
+            csum[c] += pl->y[t * p + c];
+    for (size_t r = 0; r < sp; r++) {
+        size_t u = r / p, c = r % p;
+        double s = fits ? csum[c] : 0.0;
+        size_t head_end = fits ? c0 : u + m, tail_begin = fits ? m : u + m;
+        for (size_t t = u; t < head_end; t++)
+            s += pl->y[t * p + c];
+        for (size_t t = tail_begin; t < u + m; t++)
+            s += pl->y[t * p + c];
+        pl->sbar[r] = s / (double)m;
+    }
+    if (!fits)
+        return;
+    /* m = 2h - 1 leaves the core empty: core(d) = 0 */
+    memset(pl->core, 0, sp * p * sizeof(double));
+    for (size_t t0 = c0; t0 < m; t0 += SUB_CHUNK) {
+        size_t len = m - t0 < SUB_CHUNK ? m - t0 : SUB_CHUNK;
+        for (size_t j = 0; j < len; j++)
+            memcpy(pl->schunk + j * sp, pl->y + (t0 + j) * p, sp * sizeof(double));
+        cblas_dgemm(CblasColMajor, CblasNoTrans, CblasTrans, (int)sp, (int)p, (int)len, 1.0,
+                    pl->schunk, (int)sp, pl->y + t0 * p, (int)p, 1.0, pl->core, (int)sp);
     }
 }
 
-/* hank = (1/m) sum (f - fbar)(p - pbar)' over every window (two passes:
- * the means first, so the products are of centred vectors). */
+/* hank = (1/m) sum (f - fbar)(p - pbar)' over every window and, for CVA,
+ * the Grams sff and spp (both triangles), from build_core's sums. */
 static void build_hankel(el_subspace_plan *pl)
 {
-    size_t hp = pl->hp, m = pl->n_windows;
-    for (size_t i = 0; i < hp; i++)
-        pl->fbar[i] = pl->pbar[i] = 0.0;
-    for (size_t w = 0; w < m; w++) {
-        const double *f = future_of(pl, w), *q = past_of(pl, w);
-        for (size_t i = 0; i < hp; i++) {
-            pl->fbar[i] += f[i];
-            pl->pbar[i] += q[i];
+    size_t hp = pl->hp;
+    build_core(pl);
+    for (size_t j = 0; j < hp; j++)
+        for (size_t i = 0; i < hp; i++)
+            pl->hank[i + j * hp] = gram_entry(pl, hp + i, j);
+    if (!pl->cva)
+        return;
+    for (size_t j = 0; j < hp; j++)
+        for (size_t i = j; i < hp; i++) {
+            pl->sff[i + j * hp] = pl->sff[j + i * hp] = gram_entry(pl, hp + i, hp + j);
+            pl->spp[i + j * hp] = pl->spp[j + i * hp] = gram_entry(pl, i, j);
         }
-    }
-    for (size_t i = 0; i < hp; i++) {
-        pl->fbar[i] /= (double)m;
-        pl->pbar[i] /= (double)m;
-    }
-    for (size_t w0 = 0; w0 < m; w0 += SUB_CHUNK) {
-        size_t len = m - w0 < SUB_CHUNK ? m - w0 : SUB_CHUNK;
-        fill_chunks(pl, w0, len, pl->fbar, pl->pbar);
-        double beta = w0 == 0 ? 0.0 : 1.0;
-        cblas_dgemm(CblasColMajor, CblasNoTrans, CblasTrans, (int)hp, (int)hp, (int)len,
-                    1.0 / (double)m, pl->fchunk, (int)hp, pl->pchunk, (int)hp, beta,
-                    pl->hank, (int)hp);
-        if (pl->cva) {
-            cblas_dsyrk(CblasColMajor, CblasLower, CblasNoTrans, (int)hp, (int)len,
-                        1.0 / (double)m, pl->fchunk, (int)hp, beta, pl->sff, (int)hp);
-            cblas_dsyrk(CblasColMajor, CblasLower, CblasNoTrans, (int)hp, (int)len,
-                        1.0 / (double)m, pl->pchunk, (int)hp, beta, pl->spp, (int)hp);
-        }
-    }
 }
 
 /* Eigenvalues of a Gram below this fraction of the largest are zero in

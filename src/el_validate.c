@@ -3,10 +3,17 @@
 #include "el_validate.h"
 
 #include <float.h>
+#include <stddef.h>
 #include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+
+#include "el_stats.h"
+
+/* Lags of the whiteness test summed per call of el_stats_lagged_products
+ * (a multiple of its eight-lag pass; a stack array of this size). */
+#define EL_VALIDATE_LAG_CHUNK 64
 
 /* ---- distribution functions ------------------------------------------ */
 
@@ -99,6 +106,18 @@ double el_validate_chi2_sf(double q, double dof)
     return el_validate_gamma_q(0.5 * dof, 0.5 * q);
 }
 
+/* sum + the Ljung-Box terms r_k^2 / (n - k) of the lags k0 .. k0 + count
+ * - 1, r_k = ck[k - k0] / c0, added in ascending k. */
+static double ljung_box_add(double sum, size_t n, size_t k0, size_t count, double c0,
+                            const double *ck)
+{
+    for (size_t j = 0; j < count; j++) {
+        double r = ck[j] / c0;
+        sum += r * r / (double)(n - (k0 + j));
+    }
+    return sum;
+}
+
 double el_validate_ljung_box(const double *e, size_t n, size_t h)
 {
     if (e == NULL || h == 0 || h >= n)
@@ -112,13 +131,15 @@ double el_validate_ljung_box(const double *e, size_t n, size_t h)
         c0 += (e[t] - mean) * (e[t] - mean);
     if (!(c0 > 0.0) || !isfinite(c0))
         return NAN;
+    /* The sums of the plain loop over t, bit for bit, eight lags a pass
+     * (el_stats_lagged_products); a block at a time keeps this free of
+     * allocation. */
+    double ck[EL_VALIDATE_LAG_CHUNK];
     double sum = 0.0;
-    for (size_t k = 1; k <= h; k++) {
-        double ck = 0.0;
-        for (size_t t = k; t < n; t++)
-            ck += (e[t] - mean) * (e[t - k] - mean);
-        double r = ck / c0;
-        sum += r * r / (double)(n - k);
+    for (size_t k0 = 1; k0 <= h; k0 += EL_VALIDATE_LAG_CHUNK) {
+        size_t count = h + 1 - k0 < EL_VALIDATE_LAG_CHUNK ? h + 1 - k0 : EL_VALIDATE_LAG_CHUNK;
+        el_stats_lagged_products(e, n, mean, k0, count, ck);
+        sum = ljung_box_add(sum, n, k0, count, c0, ck);
     }
     return (double)n * ((double)n + 2.0) * sum;
 }
@@ -154,14 +175,20 @@ el_status el_validation_create(size_t n_channels, size_t lags, size_t max_sample
     v->free_nrmse = malloc(n_channels * sizeof *v->free_nrmse);
     v->ljung_box_q = malloc(n_channels * sizeof *v->ljung_box_q);
     v->ljung_box_p = malloc(n_channels * sizeof *v->ljung_box_p);
-    v->residual = malloc(max_samples * sizeof *v->residual);
+    /* The streamed residual statistics: per channel the means of x and e,
+     * ss_tot, ss_res, ss_e, the lag sums and a ring of the last lags + 1
+     * centred residuals, stored twice (the most lags any window of this
+     * plan tests). */
+    v->max_lb_lags = el_validate_ljung_box_lags(max_samples, lags + 1);
+    v->residual = malloc(n_channels * (5 + 3 * v->max_lb_lags + 2) * sizeof *v->residual);
     v->residual_exact = malloc(n_channels * sizeof *v->residual_exact);
     if (!v->residual_exact || !v->r2_one_step || !v->residual_ratio || !v->free_nrmse || !v->ljung_box_q
         || !v->ljung_box_p || !v->residual) {
         el_validation_destroy(v);
         return el_error_set(err, EL_ERR_NOMEM, "out of memory");
     }
-    el_status st = el_prediction_create(n_channels, lags, max_samples, &v->prediction, err);
+    el_status st = el_prediction_create_errors(n_channels, lags, max_samples, &v->prediction,
+                                               err);
     if (st != EL_OK) {
         el_validation_destroy(v);
         return st;
@@ -193,38 +220,100 @@ static const char *channel_name(const el_series *s, size_t c, char *buf, size_t 
     return buf;
 }
 
-/* Residuals of channel c into v->residual; returns the one-step R^2 and
- * the variance ratio through the pointers (NaN for a constant channel). */
-static void channel_residuals(el_validation *v, const el_series *s, size_t c,
-                              double *r2, double *ratio)
+/* The residual statistics of every channel from two passes of one-step
+ * predictions (nothing of the window's length is stored): the first sums
+ * x and e = x - prediction, the second the squares about those means and
+ * the lag products of the centred residuals, each lag's terms in
+ * ascending time. Per channel these are the additions, in the order, of
+ * the former loops over a stored residual array and of
+ * el_validate_ljung_box, so the same doubles. Fills r2_one_step,
+ * residual_ratio, and the Ljung-Box c0 (= ss_e) and lag sums (h lags) in
+ * v->residual. */
+typedef struct {
+    double *xmean, *emean, *ss_tot, *ss_res, *ss_e, *ck, *ring;
+} residual_sums;
+
+static residual_sums sums_of(el_validation *v)
 {
-    const el_prediction *p = v->prediction;
-    size_t n = p->one_step_count, first = p->one_step_first;
-    const double *x = s->values + c * s->n_samples + first;
-    const double *xhat = p->one_step + c * n;
-    double xmean = 0.0, emean = 0.0;
+    size_t nc = v->n_channels;
+    residual_sums r;
+    r.xmean = v->residual;
+    r.emean = r.xmean + nc;
+    r.ss_tot = r.emean + nc;
+    r.ss_res = r.ss_tot + nc;
+    r.ss_e = r.ss_res + nc;
+    r.ck = r.ss_e + nc;                      /* nc x max_lb_lags */
+    r.ring = r.ck + nc * v->max_lb_lags;     /* nc x 2 (max_lb_lags + 1) */
+    return r;
+}
+
+static void residual_passes(el_validation *v, const el_model *model, const el_series *s,
+                            size_t h)
+{
+    el_prediction *p = v->prediction;
+    size_t nc = v->n_channels, n = p->one_step_count, first = p->one_step_first;
+    size_t len = s->n_samples, ring = h + 1;
+    residual_sums r = sums_of(v);
+    for (size_t c = 0; c < nc; c++)
+        r.xmean[c] = r.emean[c] = r.ss_tot[c] = r.ss_res[c] = r.ss_e[c] = 0.0;
+    for (size_t c = 0; c < nc * h; c++)
+        r.ck[c] = 0.0;
     for (size_t i = 0; i < n; i++) {
-        v->residual[i] = x[i] - xhat[i];
-        xmean += x[i];
-        emean += v->residual[i];
+        const double *xhat = el_prediction_one_step(p, model, s, v->lags + i);
+        for (size_t c = 0; c < nc; c++) {
+            double x = s->values[c * len + first + i];
+            r.xmean[c] += x;
+            r.emean[c] += x - xhat[c];
+        }
     }
-    xmean /= (double)n;
-    emean /= (double)n;
-    double ss_tot = 0.0, ss_res = 0.0, ss_e = 0.0;
+    for (size_t c = 0; c < nc; c++) {
+        r.xmean[c] /= (double)n;
+        r.emean[c] /= (double)n;
+    }
+    size_t slot = 0;   /* i mod ring */
     for (size_t i = 0; i < n; i++) {
-        ss_tot += (x[i] - xmean) * (x[i] - xmean);
-        ss_res += v->residual[i] * v->residual[i];
-        ss_e += (v->residual[i] - emean) * (v->residual[i] - emean);
+        const double *xhat = el_prediction_one_step(p, model, s, v->lags + i);
+        for (size_t c = 0; c < nc; c++) {
+            double x = s->values[c * len + first + i];
+            double e = x - xhat[c];
+            r.ss_tot[c] += (x - r.xmean[c]) * (x - r.xmean[c]);
+            r.ss_res[c] += e * e;
+            double a = e - r.emean[c];
+            r.ss_e[c] += a * a;
+            /* past[slot + ring - k] is a of sample i - k: each value is
+             * stored twice, ring apart, so the last h are one run */
+            double *ck = r.ck + c * h, *past = r.ring + c * 2 * ring;
+            const double *back = past + slot + ring;
+            size_t kmax = i < h ? i : h;
+            for (size_t k = 1; k <= kmax; k++)
+                ck[k - 1] += a * back[-(ptrdiff_t)k];
+            past[slot] = past[slot + ring] = a;
+        }
+        slot = slot + 1 == ring ? 0 : slot + 1;
     }
-    /* A channel that does not vary over the residual samples has no scale
-     * to compare with (the same rule as el_predict's nrmse). */
-    if (!(ss_tot > 0.0)) {
-        *r2 = NAN;
-        *ratio = NAN;
-        return;
+    for (size_t c = 0; c < nc; c++) {
+        /* A channel that does not vary over the residual samples has no
+         * scale to compare with (the same rule as el_predict's nrmse). */
+        if (!(r.ss_tot[c] > 0.0)) {
+            v->r2_one_step[c] = NAN;
+            v->residual_ratio[c] = NAN;
+            continue;
+        }
+        v->r2_one_step[c] = 1.0 - r.ss_res[c] / r.ss_tot[c];
+        v->residual_ratio[c] = r.ss_e[c] / r.ss_tot[c];
     }
-    *r2 = 1.0 - ss_res / ss_tot;
-    *ratio = ss_e / ss_tot;
+}
+
+/* el_validate_ljung_box of channel c's residuals from the streamed sums. */
+static double streamed_ljung_box(el_validation *v, size_t c, size_t n, size_t h)
+{
+    residual_sums r = sums_of(v);
+    if (h == 0 || h >= n)
+        return NAN;
+    double c0 = r.ss_e[c];
+    if (!(c0 > 0.0) || !isfinite(c0))
+        return NAN;
+    return (double)n * ((double)n + 2.0) * ljung_box_add(0.0, n, 1, h, c0, r.ck + c * h);
 }
 
 /* Why the residuals may be correlated other than missing lags, for the
@@ -305,6 +394,7 @@ el_status el_validation_run(el_validation *v, const el_model *model,
     v->n_residuals = n;
     v->lb_params = v->lags + 1;
     v->lb_lags = el_validate_ljung_box_lags(n, v->lb_params);
+    residual_passes(v, model, series, v->lb_lags);
     v->lb_tested = v->lb_lags > v->lb_params;
     v->lb_dof = v->lb_tested ? v->lb_lags - v->lb_params : 0;
     v->free_diverges = p->free_diverged;
@@ -312,7 +402,6 @@ el_status el_validation_run(el_validation *v, const el_model *model,
     v->explains_little = 0;
     double alpha = EL_VALIDATE_WHITENESS_ALPHA / (double)v->n_channels;
     for (size_t c = 0; c < v->n_channels; c++) {
-        channel_residuals(v, series, c, &v->r2_one_step[c], &v->residual_ratio[c]);
         v->free_nrmse[c] = p->free_nrmse[c];
         if (v->free_nrmse[c] > EL_VALIDATE_DIVERGENCE_NRMSE)
             v->free_diverges = 1;
@@ -320,7 +409,7 @@ el_status el_validation_run(el_validation *v, const el_model *model,
         v->ljung_box_p[c] = NAN;
         v->residual_exact[c] = v->residual_ratio[c] <= EL_VALIDATE_EXACT_RMS * EL_VALIDATE_EXACT_RMS;
         if (v->lb_tested && !v->residual_exact[c]) {
-            double q = el_validate_ljung_box(v->residual, n, v->lb_lags);
+            double q = streamed_ljung_box(v, c, n, v->lb_lags);
             if (!isnan(q)) {
                 v->ljung_box_q[c] = q;
                 v->ljung_box_p[c] = el_validate_chi2_sf(q, (double)v->lb_dof);

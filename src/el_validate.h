@@ -111,13 +111,21 @@ typedef struct {
     int residuals_white;
     int explains_little;
     int band_limited;            /* the series was band-limited (el_validation_set_band_limited) */
-    el_prediction *prediction;   /* owned: the one-step and free-run traces */
-    double *residual;            /* scratch: n_residuals of one channel */
+    el_prediction *prediction;   /* owned: the free-run error (no traces are kept:
+                                    el_prediction_create_errors) */
+    double *residual;            /* scratch: the streamed residual sums per channel
+                                    (means, squares, lag products, a ring of the last
+                                    max_lb_lags + 1 residuals), no array of the
+                                    window's length */
+    size_t max_lb_lags;          /* most Ljung-Box lags of this plan's windows */
 } el_validation;
 
 /* Plans validation of models with n_channels channels and lags delay
  * copies over series of at most max_samples samples: allocates every
- * output, the el_prediction plan and the residual scratch once, so
+ * output, the el_prediction plan (without traces) and the scratch of the
+ * streamed residual statistics (O(channels x lags), nothing of the
+ * window's length: the residuals are made twice, by two passes of
+ * one-step predictions, instead of stored) once, so
  * el_validation_run allocates nothing. *out receives the plan (NULL on
  * error). Errors: EL_ERR_INTERNAL when out is NULL, n_channels == 0 or
  * max_samples < lags + 2; EL_ERR_NOMEM. Free with el_validation_destroy. */

@@ -256,6 +256,77 @@ static void test_divergence_flagged(void **state)
     fixture_free(&f);
 }
 
+/* Without traces (el_prediction_create_errors, what el_validation uses):
+ * the same errors, counts and divergence as with traces, bit for bit (the
+ * contract: the same additions in the same order), on a closed-form
+ * damped rotation with one lag and an offset, and on the diverging model
+ * above; one_step and free_run stay NULL. */
+static void errors_match(fixture *f)
+{
+    el_prediction *with = run(f), *without = NULL;
+    el_error err;
+    el_error_clear(&err);
+    assert_int_equal(el_prediction_create_errors(f->model.n_channels, f->model.lags,
+                                                 f->series.n_samples, &without, &err),
+                     EL_OK);
+    assert_int_equal(el_prediction_run(without, &f->model, &f->series, &err), EL_OK);
+    assert_null(without->one_step);
+    assert_null(without->free_run);
+    assert_int_equal(without->free_diverged, with->free_diverged);
+    assert_int_equal(without->free_count, with->free_count);
+    assert_int_equal(without->one_step_count, with->one_step_count);
+    for (size_t c = 0; c < f->model.n_channels; c++) {
+        assert_memory_equal(&without->one_step_nrmse[c], &with->one_step_nrmse[c],
+                            sizeof(double));
+        assert_memory_equal(&without->free_nrmse[c], &with->free_nrmse[c], sizeof(double));
+    }
+    el_prediction_destroy(with);
+    el_prediction_destroy(without);
+}
+
+static void test_errors_without_traces(void **state)
+{
+    (void)state;
+    const size_t n = 500;
+    fixture f;
+    fixture_init(&f, 2, 1, n);
+    /* x[k+1] = 0.95 R(0.3) x[k] + 0.01 x[k-1] + offset, measured with a
+     * small disturbance so that the errors are not zero */
+    double a = 0.95 * cos(0.3), b = 0.95 * sin(0.3);
+    size_t d = 4;
+    f.model.ad[0 + 0 * d] = a;
+    f.model.ad[0 + 1 * d] = -b;
+    f.model.ad[1 + 0 * d] = b;
+    f.model.ad[1 + 1 * d] = a;
+    f.model.ad[0 + 2 * d] = 0.01;
+    f.model.ad[1 + 3 * d] = 0.01;
+    f.model.ad[2 + 0 * d] = 1.0;
+    f.model.ad[3 + 1 * d] = 1.0;
+    f.model.offset[0] = 0.2;
+    f.model.offset[1] = -0.1;
+    *X(&f, 0, 0) = *X(&f, 0, 1) = 1.0;
+    *X(&f, 1, 0) = *X(&f, 1, 1) = 0.5;
+    for (size_t k = 1; k + 1 < n; k++) {
+        double x0 = *X(&f, 0, k), x1 = *X(&f, 1, k);
+        *X(&f, 0, k + 1) = a * x0 - b * x1 + 0.01 * *X(&f, 0, k - 1) + 0.2 +
+                           0.05 * sin(1.7 * (double)k);
+        *X(&f, 1, k + 1) = b * x0 + a * x1 + 0.01 * *X(&f, 1, k - 1) - 0.1 +
+                           0.05 * cos(2.3 * (double)k);
+    }
+    errors_match(&f);
+    fixture_free(&f);
+    fixture g;
+    fixture_init(&g, 2, 0, 300);
+    g.model.ad[0] = 2.0;
+    g.model.ad[3] = 0.5;
+    for (size_t k = 0; k < 300; k++) {
+        *X(&g, 0, k) = 1.0 + 0.5 * sin(0.1 * (double)k);
+        *X(&g, 1, k) = 3.0 + cos(0.05 * (double)k);
+    }
+    errors_match(&g);
+    fixture_free(&g);
+}
+
 /* A plan made for a longer series is reused for a shorter one and gives
  * the same numbers as a fresh plan (no state leaks between runs). */
 static void test_plan_reuse(void **state)
@@ -311,6 +382,7 @@ int main(void)
         cmocka_unit_test(test_nrmse_definition),
         cmocka_unit_test(test_divergence_flagged),
         cmocka_unit_test(test_plan_reuse),
+        cmocka_unit_test(test_errors_without_traces),
         cmocka_unit_test(test_bad_arguments),
     };
     return cmocka_run_group_tests_name("el_predict", tests, NULL, NULL);

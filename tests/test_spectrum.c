@@ -344,6 +344,53 @@ static void test_white_noise_flat(void **state)
     free(x);
 }
 
+/* The median PSD of each channel (median_psd, the peak threshold's
+ * reference) by selection equals the median by definition: sort the bins
+ * 1 .. n_bins - 1 and take the middle one (odd count) or the mean of the
+ * two middle ones (even count), bit for bit (the selection only moves
+ * values). White noise gives distinct values; a quantised copy gives
+ * many ties. Segments 256 (129 bins: 128 values, even) and 255 (128 bins:
+ * 127 values, odd). */
+static int cmp_dbl(const void *a, const void *b)
+{
+    double x = *(const double *)a, y = *(const double *)b;
+    return (x > y) - (x < y);
+}
+
+static void test_median_by_selection(void **state)
+{
+    (void)state;
+    const size_t n = 8192;
+    double *x = alloc_values(2 * n);
+    el_rng rng;
+    el_rng_seed(&rng, 77, 0);
+    for (size_t k = 0; k < n; k++) {
+        x[k] = el_rng_normal(&rng);
+        x[n + k] = round(4.0 * sin(0.05 * (double)k) + el_rng_normal(&rng));
+    }
+    el_series s = make_series(x, n, 2, 0.01);
+    const size_t lens[2] = {256, 255};
+    for (size_t li = 0; li < 2; li++) {
+        el_spectra sp = {0};
+        welch(&s, lens[li], &sp);
+        el_peaks pk = {0};
+        find_peaks(&sp, 5, &pk);
+        size_t m = sp.n_bins - 1;
+        double *v = malloc(m * sizeof *v);
+        assert_non_null(v);
+        for (size_t c = 0; c < 2; c++) {
+            memcpy(v, sp.psd + c * sp.n_bins + 1, m * sizeof *v);
+            qsort(v, m, sizeof *v, cmp_dbl);
+            double want = m % 2 ? v[m / 2] : 0.5 * (v[m / 2 - 1] + v[m / 2]);
+            assert_memory_equal(&pk.median_psd[c], &want, sizeof want);
+        }
+        free(v);
+        el_peaks_free(&pk);
+        el_spectra_free(&sp);
+    }
+    free(x);
+}
+
 /* ---- tone peaks --------------------------------------------------------- */
 
 static void test_sinusoid_peak_interpolated(void **state)
@@ -930,6 +977,7 @@ int main(void)
         cmocka_unit_test(test_parseval_white_noise),
         cmocka_unit_test(test_parseval_sinusoid),
         cmocka_unit_test(test_white_noise_flat),
+        cmocka_unit_test(test_median_by_selection),
         cmocka_unit_test(test_sinusoid_peak_interpolated),
         cmocka_unit_test(test_two_tones),
         cmocka_unit_test(test_forced_oscillation_without_mode),

@@ -12,6 +12,8 @@
 #include "el_linalg.h"
 #include "el_subspace.h"
 
+#include <lapacke.h>
+
 #include "data/subspace_fixture.h"
 
 #define TEST_PI 3.14159265358979323846
@@ -313,6 +315,95 @@ static void test_numpy_fixture(void **state)
     assert_int_equal(hz.rows, SUB_FIX_H_AUTO);
     assert_int_equal(hz.scale_lags, SUB_FIX_SCALE_LAGS);
     ts_free(&ts);
+}
+
+/* ------------------------------------------------------------------ */
+/* The block Hankel from lagged products: the definition               */
+/* ------------------------------------------------------------------ */
+
+/* el_subspace takes H from lagged products over a core range plus each
+ * block's own ends (docs/method.md, section 14). Against the definition,
+ * window by window: H = (1/m) sum_w (f_w - fbar)(p_w - pbar)' of the
+ * channels centred and scaled to unit population spread, its singular
+ * values by LAPACK (unweighted: the stage's singular values are H's).
+ * Short records put m on both sides of 2h - 1, where the core is empty
+ * or absent, and a longer one exercises several chunks. Tolerance 1e-12
+ * of the largest: sums of at most 600 products of order-1 numbers carry
+ * rounding near 1e-14. */
+static void check_hankel_definition(size_t n, size_t p, size_t h, uint64_t seed)
+{
+    double *x = malloc(n * p * sizeof *x), *y = malloc(n * p * sizeof *y);
+    size_t hp = h * p, m = n - 2 * h + 1;
+    double *hk = calloc(hp * hp, sizeof *hk), *fb = calloc(hp, sizeof *fb);
+    double *pb = calloc(hp, sizeof *pb), *sv = malloc(hp * sizeof *sv);
+    assert_true(x && y && hk && fb && pb && sv);
+    uint64_t rs = seed;
+    for (size_t i = 0; i < n * p; i++)
+        x[i] = 5.0 + test_normal(&rs);
+    for (size_t k = 1; k < n; k++)      /* some memory, so H is not noise alone */
+        for (size_t c = 0; c < p; c++)
+            x[k + c * n] += 0.8 * x[k - 1 + c * n] - 4.0;
+    for (size_t c = 0; c < p; c++) {
+        double mean = 0.0, ss = 0.0;
+        for (size_t k = 0; k < n; k++)
+            mean += x[k + c * n];
+        mean /= (double)n;
+        for (size_t k = 0; k < n; k++)
+            ss += (x[k + c * n] - mean) * (x[k + c * n] - mean);
+        for (size_t k = 0; k < n; k++)
+            y[k * p + c] = (x[k + c * n] - mean) / sqrt(ss / (double)n);
+    }
+    for (size_t w = 0; w < m; w++)
+        for (size_t i = 0; i < hp; i++) {
+            fb[i] += y[(w + h) * p + i] / (double)m;
+            pb[i] += y[w * p + i] / (double)m;
+        }
+    for (size_t w = 0; w < m; w++)
+        for (size_t j = 0; j < hp; j++)
+            for (size_t i = 0; i < hp; i++)
+                hk[i + j * hp] += (y[(w + h) * p + i] - fb[i]) * (y[w * p + j] - pb[j]) /
+                                  (double)m;
+    double dummy = 0.0, *superb = malloc(hp * sizeof *superb);
+    assert_non_null(superb);
+    assert_int_equal(LAPACKE_dgesvd(LAPACK_COL_MAJOR, 'N', 'N', (lapack_int)hp,
+                                    (lapack_int)hp, hk, (lapack_int)hp, sv, &dummy, 1,
+                                    &dummy, 1, superb),
+                     0);
+    free(superb);
+    el_series s;
+    memset(&s, 0, sizeof s);
+    s.n_samples = n;
+    s.n_channels = p;
+    s.dt = 0.01;
+    s.values = x;
+    el_subspace_options opt;
+    el_subspace_defaults(&opt);
+    opt.weighting = EL_SUBSPACE_UNWEIGHTED;
+    el_subspace_plan *plan = NULL;
+    el_subspace_result res;
+    el_error err;
+    el_error_clear(&err);
+    assert_int_equal(el_subspace_plan_create(p, n, h, 0, &plan, &err), EL_OK);
+    assert_int_equal(el_subspace_execute(plan, &s, &opt, &res, &err), EL_OK);
+    assert_int_equal(res.n_singular, hp);
+    assert_close_array(res.singular, sv, hp, 0.0, 1e-12 * sv[0]);
+    el_subspace_plan_destroy(plan);
+    free(x);
+    free(y);
+    free(hk);
+    free(fb);
+    free(pb);
+    free(sv);
+}
+
+static void test_hankel_definition(void **state)
+{
+    (void)state;
+    const size_t h = 6, p = 2;
+    /* m = n - 2h + 1 from 2 to 2h + 3: around 2h - 1 = 11 */
+    for (size_t n = 2 * h + 1; n <= 4 * h + 2; n++)
+        check_hankel_definition(n, p, h, 1000 + n);
+    check_hankel_definition(600, 3, 4, 77);
 }
 
 /* ------------------------------------------------------------------ */
@@ -659,6 +750,7 @@ int main(void)
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_noise_free_exact),
         cmocka_unit_test(test_numpy_fixture),
+        cmocka_unit_test(test_hankel_definition),
         cmocka_unit_test(test_horizon_first_order),
         cmocka_unit_test(test_six_sensor_example),
         cmocka_unit_test(test_transients),

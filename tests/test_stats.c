@@ -1,0 +1,102 @@
+/* Tests of el_stats_lagged_products (the sums of the sample
+ * autocovariance that the subspace horizon, the whiteness test of the
+ * data and the Ljung-Box test of the residuals share): closed forms of
+ * alternating and constant-plus-step sequences, and bit-for-bit equality
+ * with the plain double loop it replaces, whose order of additions it
+ * promises to keep (so no decision that reads these sums can change). */
+#include "el_test.h"
+
+#include <stdlib.h>
+#include <string.h>
+
+#include "el_rng.h"
+#include "el_stats.h"
+
+/* The plain loop of the contract: one accumulator per lag, ascending t. */
+static double plain_lag(const double *x, size_t n, double mean, size_t k)
+{
+    double g = 0.0;
+    for (size_t t = k; t < n; t++)
+        g += (x[t] - mean) * (x[t - k] - mean);
+    return g;
+}
+
+/* x_t = (-1)^t: sum_{t=k}^{n-1} x_t x_{t-k} = (-1)^k (n - k) (closed
+ * form: every term is (-1)^k), 0 for k >= n. Small integers: exact in
+ * doubles, so the comparison is exact (tolerance 0). Lags 0 .. 40 cross
+ * every block of eight and the end of the data (n = 21), with a first lag
+ * that is not a multiple of eight. */
+static void test_lagged_alternating(void **state)
+{
+    (void)state;
+    double x[21];
+    for (size_t t = 0; t < 21; t++)
+        x[t] = t % 2 ? -1.0 : 1.0;
+    double out[41];
+    el_stats_lagged_products(x, 21, 0.0, 0, 41, out);
+    for (size_t k = 0; k <= 40; k++) {
+        double want = k >= 21 ? 0.0 : (k % 2 ? -1.0 : 1.0) * (double)(21 - k);
+        assert_close(out[k], want, 0.0, 0.0);
+    }
+    double part[5];
+    el_stats_lagged_products(x, 21, 0.0, 3, 5, part);
+    for (size_t j = 0; j < 5; j++)
+        assert_close(part[j], out[3 + j], 0.0, 0.0);
+}
+
+/* Centring: x = 2 on the first half, 0 on the second, mean 1 (n = 10),
+ * so x - mean = +1, ..., +1, -1, ..., -1: the lag-k sum is the number of
+ * pairs (t, t - k) on one side minus those across the step; by hand:
+ * k = 0: 10, k = 1: 7, k = 2: 4, k = 3: 1, k = 4: -2, k = 5: -5,
+ * k = 6: -4, k = 7: -3, k = 8: -2, k = 9: -1 (terms across the step are
+ * -1, the others +1). Exact integers: tolerance 0. */
+static void test_lagged_centring(void **state)
+{
+    (void)state;
+    double x[10] = {2, 2, 2, 2, 2, 0, 0, 0, 0, 0};
+    const double want[10] = {10, 7, 4, 1, -2, -5, -4, -3, -2, -1};
+    double out[10];
+    el_stats_lagged_products(x, 10, 1.0, 0, 10, out);
+    for (size_t k = 0; k < 10; k++)
+        assert_close(out[k], want[k], 0.0, 0.0);
+}
+
+/* Random data of several lengths (below, at and above a block of lags,
+ * and long): every lag equals the plain loop bit for bit (==, not a
+ * tolerance: the contract is the same additions in the same order). */
+static void test_lagged_bitwise(void **state)
+{
+    (void)state;
+    const size_t lens[] = {1, 2, 7, 8, 9, 15, 33, 1000, 100003};
+    el_rng rng;
+    el_rng_seed(&rng, 20261204u, 0);
+    for (size_t i = 0; i < sizeof lens / sizeof lens[0]; i++) {
+        size_t n = lens[i];
+        double *x = malloc(n * sizeof *x);
+        assert_non_null(x);
+        for (size_t t = 0; t < n; t++)
+            x[t] = 3.0 + el_rng_normal(&rng);
+        double mean = 3.0 + 1e-3;
+        for (size_t k0 = 0; k0 < 4; k0++) {
+            double out[45];
+            el_stats_lagged_products(x, n, mean, k0, 45, out);
+            for (size_t j = 0; j < 45; j++) {
+                double want = plain_lag(x, n, mean, k0 + j);
+                if (memcmp(&out[j], &want, sizeof want) != 0)
+                    fail_msg("n %zu lag %zu: %.17g, plain loop %.17g", n, k0 + j, out[j],
+                             want);
+            }
+        }
+        free(x);
+    }
+}
+
+int main(void)
+{
+    const struct CMUnitTest tests[] = {
+        cmocka_unit_test(test_lagged_alternating),
+        cmocka_unit_test(test_lagged_centring),
+        cmocka_unit_test(test_lagged_bitwise),
+    };
+    return cmocka_run_group_tests(tests, NULL, NULL);
+}
