@@ -68,6 +68,49 @@ double *el_est_take(double **pool, size_t n)
  * and B together (no pivot array, so the provider work stays all doubles).
  * A (n x n) is destroyed, B (n x k) receives X. Returns 1 when a pivot is
  * at rounding level of the largest entry or the solution is not finite. */
+/* el_est_gauss_solve from order EL_EST_WIDE_GAUSS: the same elimination
+ * and pivots, each step's update a BLAS rank-one update and the back
+ * substitution one triangular solve (BLAS), several times faster at
+ * n = 200 (the same solution to rounding). */
+static int gauss_solve_wide(size_t n, double *a, size_t lda, double *b, size_t ldb,
+                            size_t k, double tiny)
+{
+    for (size_t j = 0; j < n; j++) {
+        size_t p = j;
+        double best = fabs(a[j + j * lda]);
+        for (size_t i = j + 1; i < n; i++)
+            if (fabs(a[i + j * lda]) > best) {
+                best = fabs(a[i + j * lda]);
+                p = i;
+            }
+        if (!(best > tiny))
+            return 1;
+        if (p != j) {
+            cblas_dswap((int)n, a + j, (int)lda, a + p, (int)lda);
+            if (k > 0)
+                cblas_dswap((int)k, b + j, (int)ldb, b + p, (int)ldb);
+        }
+        size_t below = n - j - 1;
+        if (below == 0)
+            continue;
+        double *f = a + (j + 1) + j * lda;
+        cblas_dscal((int)below, 1.0 / a[j + j * lda], f, 1);
+        cblas_dger(CblasColMajor, (int)below, (int)below, -1.0, f, 1, a + j + (j + 1) * lda,
+                   (int)lda, a + (j + 1) + (j + 1) * lda, (int)lda);
+        if (k > 0)
+            cblas_dger(CblasColMajor, (int)below, (int)k, -1.0, f, 1, b + j, (int)ldb,
+                       b + j + 1, (int)ldb);
+    }
+    if (k > 0)
+        cblas_dtrsm(CblasColMajor, CblasLeft, CblasUpper, CblasNoTrans, CblasNonUnit, (int)n,
+                    (int)k, 1.0, a, (int)lda, b, (int)ldb);
+    for (size_t c = 0; c < k; c++)
+        for (size_t i = 0; i < n; i++)
+            if (!isfinite(b[i + c * ldb]))
+                return 1;
+    return 0;
+}
+
 int el_est_gauss_solve(size_t n, double *a, size_t lda, double *b, size_t ldb,
                        size_t k)
 {
@@ -78,6 +121,8 @@ int el_est_gauss_solve(size_t n, double *a, size_t lda, double *b, size_t ldb,
     if (!(amax > 0.0) || !isfinite(amax))
         return 1;
     double tiny = (double)n * DBL_EPSILON * amax;
+    if (n >= EL_EST_WIDE_GAUSS)
+        return gauss_solve_wide(n, a, lda, b, ldb, k, tiny);
     for (size_t j = 0; j < n; j++) {
         size_t p = j;
         double best = fabs(a[j + j * lda]);

@@ -78,10 +78,16 @@ typedef struct {
 /* Takes n doubles from the front of *pool and advances it. */
 double *el_est_take(double **pool, size_t n);
 
+/* Order from which el_est_gauss_solve updates by BLAS (the same pivots,
+ * the solution to rounding): above the 120 + inputs of any state the
+ * automatic horizon of iv builds, so narrower logs keep their bits. */
+#define EL_EST_WIDE_GAUSS 128
+
 /* Solves A X = B in place by Gaussian elimination, row swaps applied to A
  * and B together. A (n x n) is destroyed, B (n x k) receives X. Returns 1
  * when a pivot is at rounding level of the largest entry or the solution
- * is not finite. */
+ * is not finite. From order EL_EST_WIDE_GAUSS the updates are BLAS
+ * rank-one updates and a triangular solve. */
 int el_est_gauss_solve(size_t n, double *a, size_t lda, double *b, size_t ldb,
                        size_t k);
 
