@@ -287,12 +287,13 @@ static int model_replicate(boot_worker *w, el_rng *rng)
  * failure. */
 static int eigen_lambda(boot_worker *w, const double *a, size_t r, double dt)
 {
-    /* Wide states too: LAPACK's multishift QR was twice as fast at 200
-     * states, but it returns the eigenvalues in another order, and the
-     * matching breaks exact ties (two real eigenvalues between two real
-     * modes cost the same either way round) by that order, which moved
-     * whole replicate distributions (tests/test_wide.c). */
-    if (el_eig_values(r, a, r, w->wr, w->wi, w->eig) != 0) {
+    /* Wide states go to LAPACK first: its blocked Hessenberg reduction
+     * and multishift QR take half el_eig's time at 200 states. Its order
+     * of the eigenvalues differs, and the matcher breaks exact ties (two
+     * real eigenvalues between two real modes cost the same either way
+     * round) by that order: on such a log a mode's replicates then differ
+     * as much as two equally good readings do (docs/uncertainty.md). */
+    if (r >= w->sh->wide_from || el_eig_values(r, a, r, w->wr, w->wi, w->eig) != 0) {
         memcpy(w->ageev, a, r * r * sizeof(double));
         lapack_int info = LAPACKE_dgeev_work(LAPACK_COL_MAJOR, 'N', 'N', (lapack_int)r,
                                              w->ageev, (lapack_int)r, w->wr, w->wi, NULL, 1,

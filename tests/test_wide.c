@@ -329,9 +329,10 @@ static void test_wide_model_replicates(void **state)
     compare_wide_forced(EL_METHOD_LS, EL_RESAMPLE_MODEL);
 }
 
-/* iv with moving blocks: the engine re-adding in runs and the block grid
- * on the engine's stride (here the stride it was asked for: 6 states are
- * far from the memory cap). */
+/* iv with moving blocks: LAPACK's eigenvalues (matched to the same modes:
+ * no ties here), the engine re-adding in runs and the block grid on the
+ * engine's stride (here the stride it was asked for: 6 states are far
+ * from the memory cap). */
 static void test_wide_iv_blocks(void **state)
 {
     (void)state;
