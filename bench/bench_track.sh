@@ -9,8 +9,11 @@
 #     1 thread, best of 3 CPU each): the bias round used to stop at 10,000
 #     snapshot pairs, so the shorter window cost 1.8x the longer one; the
 #     target is a ratio near 1 (no cliff; 1.1 allows for timing noise).
-#  3. A wide log, 200 channels x 3,000 rows, default replicates: CPU time
-#     and peak RSS (the issue measured 52 s and 517 MB before).
+#  3. A wide log, 200 channels x 3,000 rows, default replicates: CPU time,
+#     peak RSS and wall time, beside the issue's figure before (52 s CPU,
+#     517 MB) and main on 2026-12-04 before the wide paths (401 s CPU,
+#     3 min 23 s wall: iv at rank 200, its bootstrap, the split halves'
+#     and the least-squares cross-check's replicates).
 # usage: sh bench/bench_track.sh [EIGENLOG [EIGENLOG_BEFORE]]  (default
 # build/rel/eigenlog; with EIGENLOG_BEFORE the track figure before is
 # measured side by side instead of taken from BASELINE_TRACK_CPU_S;
@@ -23,13 +26,15 @@ gen=build/rel/bench/bench_ingest
 BASELINE_TRACK_CPU_S=99.2      # main before issue 13 item 4, 2026-12-04
 BASELINE_WIDE_CPU_S=52         # issue 13's figure (wide log, before)
 BASELINE_WIDE_RSS_MB=517
+BASELINE_WIDE_TODAY_CPU_S=401  # main on 2026-12-04 before the wide paths
 tmp=$(mktemp -d)
 trap 'rm -rf "$tmp"' EXIT
 
-# CPU seconds (user + system) and peak RSS (KiB) of a command: "cpu rss".
+# CPU seconds (user + system), peak RSS (KiB) and wall seconds of a
+# command: "cpu rss wall".
 cpu_rss() {
-    /usr/bin/time -f "%U %S %M" -o "$tmp/time" "$@" >/dev/null 2>&1 || return 1
-    awk '{printf "%.2f %d\n", $1 + $2, $3}' "$tmp/time"
+    /usr/bin/time -f "%U %S %M %e" -o "$tmp/time" "$@" >/dev/null 2>&1 || return 1
+    awk '{printf "%.2f %d %.1f\n", $1 + $2, $3, $4}' "$tmp/time"
 }
 
 best_cpu() {
@@ -78,6 +83,7 @@ awk 'BEGIN {
     }
 }' > "$tmp/wide.csv"
 set -- $(cpu_rss "$bin" assess "$tmp/wide.csv" --quiet --json "$tmp/wide.json")
-awk -v c="$1" -v m="$2" -v bc="$BASELINE_WIDE_CPU_S" -v bm="$BASELINE_WIDE_RSS_MB" 'BEGIN{
-    printf "wide log, 200 channels x 3,000 rows, 1,000 replicates: %.1f s CPU, peak RSS %.0f MB (before: %d s, %d MB; target: lower, with progress)\n", c, m / 1024, bc, bm}'
+awk -v c="$1" -v m="$2" -v w="$3" -v bc="$BASELINE_WIDE_CPU_S" -v bm="$BASELINE_WIDE_RSS_MB" \
+    -v bt="$BASELINE_WIDE_TODAY_CPU_S" 'BEGIN{
+    printf "wide log, 200 channels x 3,000 rows, 1,000 replicates: %.1f s CPU, peak RSS %.0f MB, %.0f s wall (before: %d s, %d MB; main on 2026-12-04: %d s CPU; target: lower, with progress: %s)\n", c, m / 1024, w, bc, bm, bt, (c < bc && m / 1024 <= bm) ? "met" : "not met"}'
 exit 0

@@ -33,6 +33,7 @@ struct el_assess_plan {
     el_validation *validation;    /* lent to the results (parts_borrowed) */
     size_t validation_channels, validation_lags, validation_samples;
     double *half_values;          /* the split-half check's copy of one half */
+    const char *split_stage;      /* the stage the split-half check runs in (progress) */
     size_t half_capacity;         /* doubles in half_values */
     int one_shot;                 /* 1: one window only (el_assess_analyse): each
                                      stage's workspace is freed when the stage is
@@ -200,6 +201,31 @@ static void stage(const el_assess_options *opt, const char *name, int end)
 {
     if (opt->stage_progress != NULL)
         opt->stage_progress(opt->stage_ctx, name, end ? 1 : 0, 1);
+}
+
+/* The replicates of a check's bootstrap counted under the check's stage
+ * (a 200-channel log's cross-check and split halves run for a minute
+ * each): done is offset by the replicates of earlier runs of the stage,
+ * out of total for all of them. */
+typedef struct {
+    const el_assess_options *opt;
+    const char *name;
+    size_t offset, total;
+} stage_count;
+
+static void stage_count_relay(void *ctx, size_t done, size_t total)
+{
+    const stage_count *c = ctx;
+    (void)total;
+    c->opt->stage_progress(c->opt->stage_ctx, c->name, c->offset + done, c->total);
+}
+
+/* Points the bootstrap options' progress at the relay (none without a
+ * stage callback). */
+static void count_under_stage(el_boot_options *bo, stage_count *c)
+{
+    bo->progress = c->opt->stage_progress != NULL ? stage_count_relay : NULL;
+    bo->progress_ctx = c;
 }
 
 el_status el_assess_load(const el_assess_options *opt, el_assessment *r,
@@ -538,6 +564,8 @@ static el_status cross_check(el_assess_plan *ap, const el_assess_options *opt,
          * (it was two thirds of a `track` window's time). */
         if (cf.method == EL_METHOD_LS && bo.replicates > EL_ASSESS_CROSS_LS_REPLICATES)
             bo.replicates = EL_ASSESS_CROSS_LS_REPLICATES;
+        stage_count count = { opt, "cross-check fit", 0, bo.replicates };
+        count_under_stage(&bo, &count);
         st = el_boot_run(&r->series, &cf, &r->cross_model, &r->cross_modes, &bo,
                          &r->cross_boot, &quiet, &local);
     }
@@ -656,8 +684,10 @@ static el_status fit_half(el_assess_plan *ap, const el_assess_options *opt,
         st = el_modes_compute(&model, &modes, &quiet, &local);
     if (st == EL_OK) {
         el_boot_options bo = opt->boot;
-        bo.progress = NULL;
         bo.replicates = EL_ASSESS_SPLIT_REPLICATES;
+        stage_count count = { opt, ap->split_stage, h * EL_ASSESS_SPLIT_REPLICATES,
+                              2 * EL_ASSESS_SPLIT_REPLICATES };
+        count_under_stage(&bo, &count);
         st = el_boot_run(half, fit, &model, &modes, &bo, &boot, &quiet, &local);
     }
     if (st == EL_OK && (boot.replicates < 2 || boot.lambda_re == NULL))
@@ -1206,6 +1236,7 @@ el_status el_assess_execute(el_assess_plan *ap, const el_assess_options *opt,
     int split_done = 0;
     if (st == EL_OK && r->method_was_auto && fit.method == EL_METHOD_HANKEL &&
         opt->boot.replicates >= EL_BOOT_MIN_REPLICATES) {
+        ap->split_stage = "fitting the model";
         st = split_check(ap, opt, &fit, r, err);
         split_done = 1;
         if (st == EL_OK && r->split.drift && r->split.halves_by_iv) {
@@ -1256,6 +1287,7 @@ el_status el_assess_execute(el_assess_plan *ap, const el_assess_options *opt,
     stage(opt, "checking the model", 0);
     if (st == EL_OK)
         st = veto_growth(r, err);
+    ap->split_stage = "checking the model";
     if (st == EL_OK && !split_done)
         st = split_check(ap, opt, &fit, r, err);
     if (st == EL_OK)

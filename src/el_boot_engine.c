@@ -61,6 +61,7 @@ struct el_boot_engine {
     const double *states; /* n_states * sw, the caller's (borrowed) */
     double *gbar;     /* d: mean feature vector */
     double *prefix;   /* n_chk * d: prefix sums of centred features at j = q * stride */
+    int runs;             /* re-add pairs by the provider's accumulate (wide states) */
     size_t block_steps;   /* el_boot_engine_plan_blocks: block length / stride (0: none) */
     double *block_sum;    /* (n_chk - block_steps) * d: P(q + block_steps) - P(q) */
 };
@@ -258,7 +259,14 @@ size_t el_boot_engine_work_doubles(const el_boot_engine *engine)
     return 3 * engine->d + engine->prov->work_doubles(&engine->dims);
 }
 
-/* acc += sign * P(j), the prefix sum of centred features over pairs [0, j). */
+void el_boot_engine_set_runs(el_boot_engine *engine, int runs)
+{
+    if (engine != NULL)
+        engine->runs = runs != 0 && engine->prov->accumulate != NULL;
+}
+
+/* acc += sign * P(j), the prefix sum of centred features over pairs [0, j).
+ * tmp: d doubles, and with runs d + the provider's work after them. */
 static void add_prefix(const el_boot_engine *e, size_t j, double sign,
                        double *acc, double *tmp)
 {
@@ -266,6 +274,15 @@ static void add_prefix(const el_boot_engine *e, size_t j, double sign,
     const double *p = e->prefix + q * d;
     for (size_t f = 0; f < d; f++)
         acc[f] += sign * p[f];
+    if (e->runs && j > q * e->stride) {
+        /* The pairs since the prefix as one run of matrix products. */
+        size_t k0 = q * e->stride, len = j - k0;
+        memset(tmp, 0, d * sizeof(double));
+        e->prov->accumulate(&e->dims, e->states + k0 * e->sw, len, tmp, tmp + d);
+        for (size_t f = 0; f < d; f++)
+            acc[f] += sign * (tmp[f] - (double)len * e->gbar[f]);
+        return;
+    }
     for (size_t k = q * e->stride; k < j; k++) {
         e->prov->features(&e->dims, e->states + k * e->sw, tmp);
         for (size_t f = 0; f < d; f++)

@@ -75,6 +75,16 @@ el_status el_boot_engine_create_strided(const el_boot_provider *provider,
                                         size_t stride, el_boot_engine **engine,
                                         el_error *err);
 
+/* Sets how el_boot_engine_sum re-adds the pairs between a block's end and
+ * the stored prefix before it: 0 (default) one feature vector per pair,
+ * 1 runs of pairs by the provider's accumulate (its matrix products; a
+ * provider without one keeps the pairs). The same sums to rounding; runs
+ * are far faster for wide states, where one pair's features are
+ * hundreds of thousands of products (el_resample sets 1 from
+ * EL_BOOT_WIDE_STATES reduced states on, so narrower ones keep their
+ * bits). NULL is a no-op. */
+void el_boot_engine_set_runs(el_boot_engine *engine, int runs);
+
 /* Frees the engine. NULL is a no-op. */
 void el_boot_engine_destroy(el_boot_engine *engine);
 
@@ -99,7 +109,8 @@ el_status el_boot_engine_plan_blocks(el_boot_engine *engine, size_t block_length
 
 /* Sum of the features over the blocks (a pair drawn twice counts twice)
  * into sum (el_boot_engine_features doubles); work needs 2 * features
- * doubles. Blocks must lie inside [0, pairs). Reads the engine only, so
+ * doubles (with el_boot_engine_set_runs on, el_boot_engine_work_doubles
+ * minus features). Blocks must lie inside [0, pairs). Reads the engine only, so
  * several threads may call it at once with their own buffers. */
 void el_boot_engine_sum(const el_boot_engine *engine,
                         const el_boot_block *blocks, size_t n_blocks,

@@ -78,10 +78,16 @@ typedef struct {
 /* Takes n doubles from the front of *pool and advances it. */
 double *el_est_take(double **pool, size_t n);
 
+/* Order from which el_est_gauss_solve updates by BLAS (the same pivots,
+ * the solution to rounding): above the 120 + inputs of any state the
+ * automatic horizon of iv builds, so narrower logs keep their bits. */
+#define EL_EST_WIDE_GAUSS 128
+
 /* Solves A X = B in place by Gaussian elimination, row swaps applied to A
  * and B together. A (n x n) is destroyed, B (n x k) receives X. Returns 1
  * when a pivot is at rounding level of the largest entry or the solution
- * is not finite. */
+ * is not finite. From order EL_EST_WIDE_GAUSS the updates are BLAS
+ * rank-one updates and a triangular solve. */
 int el_est_gauss_solve(size_t n, double *a, size_t lda, double *b, size_t ldb,
                        size_t k);
 
@@ -90,6 +96,23 @@ int el_est_gauss_solve(size_t n, double *a, size_t lda, double *b, size_t ldb,
 int el_est_right_solve(size_t n, size_t k, const double *a, size_t lda,
                        const double *bm, size_t ldb, double *x, size_t ldx,
                        double *work);
+
+/* Order from which el_est_sym_fun inverts by Cholesky (power -1, well
+ * conditioned): above every state the automatic horizon of iv builds
+ * (IV_MAX_ROWS = 120 rows, 2 x 120 instruments), so only logs of about
+ * 128 channels or more take it and narrower ones keep their bits. */
+#define EL_EST_WIDE_ORDER 256
+
+/* The inverse of the symmetric positive definite S (lower triangle read,
+ * leading dimension lds) by Cholesky into out (full, leading dimension
+ * ldo), when LAPACK's condition estimate says the inverse is what
+ * el_est_sym_fun's pseudo-inverse would give (reciprocal condition at
+ * least 1e-7, every eigenvalue far above its cut). Returns n, or 0 when S
+ * is not positive definite, too ill conditioned or not finite (out is
+ * then undefined: use el_est_sym_fun). work: 3 n doubles and n LAPACK
+ * integers after them (el_est_sym_fun_work(n) holds both). */
+int el_est_sym_inverse_chol(size_t n, const double *s, size_t lds, double *out,
+                            size_t ldo, double *work);
 
 /* Scratch doubles of el_est_sym_fun for order n. */
 size_t el_est_sym_fun_work(size_t n);
@@ -103,7 +126,9 @@ int el_est_sym_eig(size_t n, const double *s, size_t lds, double *v, double *lam
 /* out = V f(Lambda) V' for the symmetric S = V Lambda V' (lower triangle
  * read), f(l) = l^power on the eigenvalues above 1e-10 times the largest
  * and 0 below (a pseudo-inverse for negative powers). Returns the number
- * of eigenvalues kept, or -1 when LAPACK dsyev fails. work:
+ * of eigenvalues kept, or -1 when LAPACK dsyev fails. From order
+ * EL_EST_WIDE_ORDER, power -1 of a well conditioned S is the inverse by
+ * Cholesky (el_est_sym_inverse_chol; the same matrix to rounding). work:
  * el_est_sym_fun_work(n). */
 int el_est_sym_fun(size_t n, const double *s, size_t lds, double power, double *out,
                    size_t ldo, double *work);

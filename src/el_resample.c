@@ -107,6 +107,8 @@ typedef struct {
     unsigned char *bias_ok;
     size_t r, sw, nu, m, block, block_pw, grid, n_modes, total, n_bias;
     size_t max_blocks;            /* blocks of one replicate */
+    int wide;                     /* model replicates: simulate, then accumulate */
+    size_t wide_from;             /* reduced states from which the wide paths apply */
     int bias_refused;             /* the bias round measured no small-sample bias */
     double bias_refused_spreads;  /* refused: the largest |shift| / spread of a mode
                                      that failed the plausibility test */
@@ -129,6 +131,7 @@ typedef struct {
     el_boot_block *blocks;        /* sh->max_blocks */
     double *work, *sum, *feat, *st;
     double *a, *ageev, *wr, *wi, *lre, *lim, *geev, *eig;
+    double *path, *gwork;         /* wide model replicates: (m + 1) states, accumulate scratch */
     lapack_int lwork;
     const el_boot_options *opt;  /* progress callback: main worker only */
     size_t reported;
@@ -150,6 +153,8 @@ static void worker_free(boot_worker *w)
     free(w->lim);
     free(w->geev);
     free(w->eig);
+    free(w->path);
+    free(w->gwork);
     memset(w, 0, sizeof *w);
 }
 
@@ -180,6 +185,16 @@ static el_status worker_init(boot_worker *w, boot_shared *sh, const el_modes *po
         worker_free(w);
         return el_error_set(err, EL_ERR_NOMEM, "out of memory (bootstrap workspace)");
     }
+    if (sh->wide) {
+        /* (m + 1) states of the simulated series; the accumulate scratch
+         * as the engine gives it (features plus the provider's work). */
+        w->path = malloc((sh->m + 1) * sh->sw * sizeof(double));
+        w->gwork = malloc((d + sh->prov->work_doubles(&sh->dims)) * sizeof(double));
+        if (w->path == NULL || w->gwork == NULL) {
+            worker_free(w);
+            return el_error_set(err, EL_ERR_NOMEM, "out of memory (bootstrap workspace)");
+        }
+    }
     double q = 0.0;
     memset(w->ageev, 0, r * r * sizeof(double));
     lapack_int info = LAPACKE_dgeev_work(LAPACK_COL_MAJOR, 'N', 'N', (lapack_int)r,
@@ -194,6 +209,42 @@ static el_status worker_init(boot_worker *w, boot_shared *sh, const el_modes *po
     return EL_OK;
 }
 
+/* model_replicate for wide states: the whole series first, one
+ * matrix-vector product per step, then its features summed by the
+ * provider's accumulate (symmetric rank updates over runs of pairs)
+ * instead of a feature vector per pair: at r = 200 the pair-by-pair sums
+ * were 80,000 scalar products per step, most of the bias round's time. The
+ * same recursion and the same draws, so the same series and sums to
+ * rounding (tests/test_resample.c compares the two paths). */
+static int model_replicate_wide(boot_worker *w, size_t nb)
+{
+    boot_shared *sh = w->sh;
+    size_t r = sh->r, sw = sh->sw, nu = sh->nu, d = el_boot_engine_features(sh->engine);
+    double *path = w->path;
+    memcpy(path, sh->w0, sw * sizeof(double));
+    size_t step = 0;
+    for (size_t b = 0; b < nb; b++)
+        for (size_t t = 0; t < w->blocks[b].length; t++, step++) {
+            const double *e = sh->resid + (w->blocks[b].start + t) * r;
+            const double *prev = path + step * sw;
+            double *next = path + (step + 1) * sw;
+            for (size_t i = 0; i < r; i++)
+                next[i] = sh->c0[i] + e[i];
+            cblas_dgemv(CblasColMajor, CblasNoTrans, (int)r, (int)r, 1.0, sh->a0, (int)r,
+                        prev, 1, 1.0, next, 1);
+            if (nu > 0)
+                cblas_dgemv(CblasColMajor, CblasNoTrans, (int)r, (int)nu, 1.0, sh->b0,
+                            (int)r, prev + r, 1, 1.0, next, 1);
+            memcpy(next + r, sh->w0 + (step + 1) * sw + r, nu * sizeof(double));
+        }
+    memset(w->sum, 0, d * sizeof(double));
+    sh->prov->accumulate(&sh->dims, path, step, w->sum, w->gwork);
+    for (size_t f = 0; f < d; f++)
+        if (!isfinite(w->sum[f]))
+            return 1;
+    return sh->prov->solve(&sh->dims, w->sum, w->a, NULL, NULL, w->work);
+}
+
 /* Residual bootstrap: regenerate the reduced series through the point
  * model with moving blocks of centred residuals and sum its features. */
 static int model_replicate(boot_worker *w, el_rng *rng)
@@ -201,6 +252,8 @@ static int model_replicate(boot_worker *w, el_rng *rng)
     boot_shared *sh = w->sh;
     size_t r = sh->r, sw = sh->sw, nu = sh->nu, d = el_boot_engine_features(sh->engine);
     size_t nb = el_boot_draw_blocks(rng, sh->m, sh->block, w->blocks);
+    if (sh->wide)
+        return model_replicate_wide(w, nb);
     double *prev = w->st, *next = w->st + sw;
     memcpy(prev, sh->w0, sw * sizeof(double));
     memset(w->sum, 0, d * sizeof(double));
@@ -236,7 +289,13 @@ static int model_replicate(boot_worker *w, el_rng *rng)
  * failure. */
 static int eigen_lambda(boot_worker *w, const double *a, size_t r, double dt)
 {
-    if (el_eig_values(r, a, r, w->wr, w->wi, w->eig) != 0) {
+    /* Wide states go to LAPACK first: its blocked Hessenberg reduction
+     * and multishift QR take half el_eig's time at 200 states. Its order
+     * of the eigenvalues differs, and the matcher breaks exact ties (two
+     * real eigenvalues between two real modes cost the same either way
+     * round) by that order: on such a log a mode's replicates then differ
+     * as much as two equally good readings do (docs/uncertainty.md). */
+    if (r >= w->sh->wide_from || el_eig_values(r, a, r, w->wr, w->wi, w->eig) != 0) {
         memcpy(w->ageev, a, r * r * sizeof(double));
         lapack_int info = LAPACKE_dgeev_work(LAPACK_COL_MAJOR, 'N', 'N', (lapack_int)r,
                                              w->ageev, (lapack_int)r, w->wr, w->wi, NULL, 1,
@@ -775,12 +834,20 @@ static size_t grid_base(size_t pairs)
 
 /* The block table of el_boot_engine_plan_blocks, when the block length
  * is a multiple of the engine's stride and the table stays within the
- * memory the prefix table may take (else blocks read two prefix rows). */
-static el_status plan_block_table(el_boot_engine *engine, size_t block, el_error *err)
+ * memory the prefix table may take (else blocks read two prefix rows).
+ * Wide states, whose prefix table has taken that memory already (its
+ * stride raised by the cap), keep to it for both tables: the table would
+ * double the peak (a 200-channel log: 270 MB more) to halve a part of a
+ * replicate's time that is no longer the largest. The sums are the same
+ * to the last bit either way. */
+static el_status plan_block_table(el_boot_engine *engine, size_t block, int wide,
+                                  el_error *err)
 {
     size_t stride = el_boot_engine_stride(engine);
     double rows = (double)(el_boot_engine_pairs(engine) / stride + 1);
     double bytes = rows * (double)el_boot_engine_features(engine) * sizeof(double);
+    if (wide)
+        bytes *= 2.0;
     if (block % stride != 0 || block > el_boot_engine_pairs(engine)
         || bytes > (double)EL_BOOT_DEFAULT_MAX_BYTES)
         return EL_OK;
@@ -964,6 +1031,7 @@ static el_status prepare(const el_series *series, const el_series *inputs,
         return EL_ERR_USAGE;
     }
     size_t threads = thread_count(opt->threads, (size_t)-1);
+    sh->wide_from = opt->wide_states > 0 ? opt->wide_states : EL_BOOT_WIDE_STATES;
     el_status st = ls_states(series, inputs, model, threads, &bf->states, err);
     if (st != EL_OK)
         return st;
@@ -993,8 +1061,19 @@ static el_status prepare(const el_series *series, const el_series *inputs,
      * the block length then has every thread. */
     el_boot_engine *engine = NULL;
     el_status jst = engine_job_finish(&job, &engine, st == EL_OK ? err : NULL);
+    /* Wide states: the engine re-adds pairs in runs, and an automatic
+     * block's grid is the stride the engine really has (its memory cap
+     * raises it above job.stride when one pair's features are many), so
+     * that blocks start on stored prefixes instead of re-adding up to a
+     * stride of pairs at both ends (most of a replicate's time at 200
+     * channels). Narrower states keep the grid of job.stride. */
+    size_t grid_stride = job.stride;
+    if (jst == EL_OK && r >= sh->wide_from) {
+        el_boot_engine_set_runs(engine, 1);
+        grid_stride = el_boot_engine_stride(engine);
+    }
     if (st == EL_OK && jst == EL_OK)
-        st = block_length(opt, sh, bf, m, r, job.stride, threads, block_auto, err);
+        st = block_length(opt, sh, bf, m, r, grid_stride, threads, block_auto, err);
     if (type == ref)
         bf->engine = engine;
     else
@@ -1004,7 +1083,7 @@ static el_status prepare(const el_series *series, const el_series *inputs,
     if (jst != EL_OK)
         return jst;
     if (opt->kind == EL_RESAMPLE_BLOCKS) {
-        st = plan_block_table(engine, sh->block, err);
+        st = plan_block_table(engine, sh->block, r >= sh->wide_from, err);
         if (st != EL_OK)
             return st;
     }
@@ -1238,6 +1317,7 @@ el_status el_boot_run(const el_series *series, const el_fit_options *opt_fit,
     atomic_init(&sh.done, 0);
     if (st == EL_OK) {
         sh.max_blocks = el_boot_block_count(sh.m, sh.block);
+        sh.wide = sh.prov != NULL && sh.prov->accumulate != NULL && sh.r >= sh.wide_from;
         bf.flags = calloc(3 * total, 1);
         bf.rec = malloc(((2 * nm + 2) * total + total * sh.r) * sizeof(double));
         bf.eig_mode = malloc(total * sh.r * sizeof(size_t) + 1);

@@ -63,6 +63,11 @@ el_boot_bias_plan el_boot_bias_rule(size_t n_pairs);
 double el_boot_widen_factor(double model_spread, double blocks_spread, double weight,
                             size_t n_model);
 
+/* Default el_boot_options.wide_states: above the IV_MAX_ROWS = 120 rows
+ * the automatic horizon builds, so only logs of about 128 channels or
+ * more take the wide path and narrower ones keep their bits. */
+#define EL_BOOT_WIDE_STATES 128
+
 /* Fewest replicates from which the pipeline (el_assess, el_track) reports
  * bounds and P(stable). Below it the 2.5% tail of a 95% percentile
  * interval holds fewer than 2.5 replicates and P(stable) moves in steps of
@@ -86,6 +91,12 @@ typedef struct el_boot_options {
      * bias that a first round of model-based replicates measures
      * (bootstrap-after-bootstrap, Kilian 1998); see docs/uncertainty.md. */
     int bias_correct;
+    /* Reduced states from which a model-based replicate simulates the
+     * whole series first and sums its features by the provider's matrix
+     * products (EL_BOOT_WIDE_STATES when 0): the same sums to rounding,
+     * several times faster for wide states; below it the pair-by-pair
+     * path keeps the bits it always gave. Tests set 1 to compare them. */
+    size_t wide_states;
 } el_boot_options;
 
 /* Fills opt with the defaults listed above. */

@@ -96,6 +96,7 @@ sed 's/\r/\n/g' "$tmp/prog.txt" | grep -q '^[a-z][a-z -]* \.\.\. [0-9][0-9]* s *
 check "a stage without counts shows its running seconds (wide logs: a long set-up)" $?
 awk '{ label = $0; sub(/:.*| \.\.\.$/, "", label)
        if (label != last && (label in seen)) bad = 1
+       if (label != last) prev = -1   # counts compare within a label only
        seen[label] = 1
        if (label == last && $0 ~ / of / && $(NF - 2) + 0 < prev) bad = 1
        if ($0 ~ / of /) prev = $(NF - 2) + 0; last = label }
