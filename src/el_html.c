@@ -1088,6 +1088,13 @@ static void details_section(ctx *c)
                   : m->method == EL_METHOD_LS ? " (optimal hard threshold)"
                                               : " (canonical-correlation rank test)",
                   m->n_pairs);
+    if (r->method_stood_in && !r->method_was_auto) {
+        el_svg_detail_row_begin(c, "estimator choice");
+        el_svg_esc(c, el_method_name(m->method));
+        el_svg_put(c, ", ");
+        el_svg_esc(c, r->method_reason);
+        el_svg_put(c, "</td></tr>");
+    }
     if (r->method_was_auto) {
         el_svg_detail_row_begin(c, "estimator choice");
         el_svg_esc(c, r->method_reason);
