@@ -146,7 +146,8 @@ PY
         if grep -q '"stand_in": {' "$b.json" && [ $m != auto ]; then
             grep -q "^  estimator    ls, in place of $m (--method $m)" "$b.txt" &&
                 grep -q "fitted by ls in place of $m: these modes describe noise" "$b.txt" &&
-                grep -q "in place of $m (--method $m), which could not fit a model" "$b.html"
+                grep -q "in place of $m (--method $m), which could not fit a model" "$b.html" &&
+                grep -q "Fitted by least squares in place of $m, which could not fit a model: these modes describe noise" "$b.html"
             check "white noise, $n channels, --method $m: the stand-in is labelled (text, HTML)" $?
         fi
     done
