@@ -17,7 +17,7 @@ el_status el_dynamics_test_channels(const el_series *series, el_dynamics_test *o
                                     double *q_channel, double *p_channel, el_error *err)
 {
     if (series == NULL || out == NULL || (q_channel == NULL) != (p_channel == NULL))
-        return el_error_set(err, EL_ERR_INTERNAL, "el_dynamics_test_series: NULL argument");
+        return el_error_set(err, EL_ERR_INTERNAL, "el_dynamics_test_channels: NULL argument");
     memset(out, 0, sizeof *out);
     for (size_t c = 0; q_channel != NULL && c < series->n_channels; c++)
         q_channel[c] = p_channel[c] = NAN;

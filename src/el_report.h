@@ -59,19 +59,6 @@ void el_envelope_head(el_json *j, const char *command);
 void el_envelope_input(el_json *j, const char *first, const char *const *paths, size_t n,
                        char *const *names, size_t n_names);
 
-/* The lines a person reads for the warnings of lists[0..n_lists) (NULL
- * lists skipped), appended to *out (zero-initialised; the caller frees it
- * with el_warnings_free): every warning in order, except that warnings of
- * one kind about single modes, "mode N (F Hz) is REST" with the same REST
- * (F Hz may also be "real" or "at the Nyquist limit"), are given once, at
- * the first one's place, as "modes 3, 7-12 (0.2-4.9 Hz; 1 real) are
- * REST": a wide log's hundred near-identical paragraphs become one line.
- * The text and HTML reports print these lines; JSON keeps every warning
- * as it is. *n_collapsed (may be NULL) gets the number of warnings folded
- * into another's line. EL_OK or EL_ERR_NOMEM. */
-el_status el_report_warning_lines(const el_warnings *const *lists, size_t n_lists,
-                                  el_warnings *out, size_t *n_collapsed);
-
 /* Writes array key of {code, message} objects: the warnings of lists[0..n)
  * in order (NULL lists skipped). */
 void el_envelope_warnings(el_json *j, const char *key, const el_warnings *const *lists,

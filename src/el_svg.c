@@ -6,6 +6,7 @@
 #include "el_svg.h"
 
 #include "el_report.h"
+#include "el_warnlines.h"
 
 #include <math.h>
 #include <stdio.h>
@@ -337,7 +338,7 @@ void el_svg_warnings_box(el_html_ctx *c, const el_warnings *const *lists, size_t
      * report; out of memory leaves them one by one. */
     el_warnings lines = {0};
     size_t folded = 0;
-    int joined = el_report_warning_lines(lists, n_lists, &lines, &folded) == EL_OK;
+    int joined = el_warnlines_fold(lists, n_lists, &lines, &folded) == EL_OK;
     if (joined && folded > 0)
         el_buf_printf(c->o, "<section class=\"warnings\" id=\"warnings\"><h2>Warnings (%zu, "
                       "on %zu lines)</h2><ul>\n", n, lines.count);

@@ -5,7 +5,7 @@
 # run takes seconds) gets one "not determined by the data" warning per
 # mode with wide bounds and one "residuals strongly correlated" warning
 # per channel. The text and HTML reports give each kind on one line that
-# lists the modes or channels (el_report_warning_lines); JSON keeps every
+# lists the modes or channels (el_warnlines_fold); JSON keeps every
 # warning, unchanged, and the heading's count is the JSON's. Before, the
 # text report printed one paragraph per mode and per channel. Run by
 # tests/run.sh with EIGENLOG set.

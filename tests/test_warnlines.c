@@ -1,5 +1,5 @@
-/* test_report: the warning lines of the text and HTML reports
- * (el_report_warning_lines). A wide log's warnings about single modes or
+/* test_warnlines: the warning lines of the text and HTML reports
+ * (el_warnlines_fold). A wide log's warnings about single modes or
  * single channels, one per mode or channel, are given once as one line
  * that lists the modes or channels (issue 10, report polish); every other
  * warning stays as it is and in its place. The expected lines are
@@ -10,7 +10,7 @@
 #include <stdlib.h>
 #include <string.h>
 
-#include "el_report.h"
+#include "el_warnlines.h"
 
 static void add(el_warnings *w, const char *text)
 {
@@ -48,7 +48,7 @@ static void test_modes_folded(void **state)
     add(&in, "the last warning");
     const el_warnings *lists[1] = {&in};
     size_t folded = 99;
-    assert_int_equal(el_report_warning_lines(lists, 1, &out, &folded), EL_OK);
+    assert_int_equal(el_warnlines_fold(lists, 1, &out, &folded), EL_OK);
     assert_int_equal(out.count, 3);
     assert_int_equal(folded, 30);
     assert_string_equal(out.items[0], "modes could swap in 100 of 100 replicates");
@@ -76,7 +76,7 @@ static void test_modes_small_groups(void **state)
     add(&b, "mode 7 (mu = -0.02) is at the Nyquist limit");
     const el_warnings *lists[2] = {&a, &b};
     size_t folded = 0;
-    assert_int_equal(el_report_warning_lines(lists, 2, &out, &folded), EL_OK);
+    assert_int_equal(el_warnlines_fold(lists, 2, &out, &folded), EL_OK);
     assert_int_equal(out.count, 4);
     assert_int_equal(folded, 2);
     assert_string_equal(out.items[0], "an input warning");
@@ -113,7 +113,7 @@ static void test_channels_folded(void **state)
     add(&in, "the level of channel b steps by 3 units");
     const el_warnings *lists[1] = {&in};
     size_t folded = 0;
-    assert_int_equal(el_report_warning_lines(lists, 1, &out, &folded), EL_OK);
+    assert_int_equal(el_warnlines_fold(lists, 1, &out, &folded), EL_OK);
     assert_int_equal(out.count, 4);
     assert_int_equal(folded, 15);
     assert_string_equal(out.items[0],
@@ -136,12 +136,12 @@ static void test_nothing_folded(void **state)
     el_warnings in = {0}, out = {0};
     const el_warnings *lists[1] = {&in};
     size_t folded = 7;
-    assert_int_equal(el_report_warning_lines(lists, 1, &out, &folded), EL_OK);
+    assert_int_equal(el_warnlines_fold(lists, 1, &out, &folded), EL_OK);
     assert_int_equal(out.count, 0);
     assert_int_equal(folded, 0);
     add(&in, "one");
     add(&in, "mode 1 (2 Hz) is alone");
-    assert_int_equal(el_report_warning_lines(lists, 1, &out, &folded), EL_OK);
+    assert_int_equal(el_warnlines_fold(lists, 1, &out, &folded), EL_OK);
     assert_int_equal(out.count, 2);
     assert_int_equal(folded, 0);
     assert_string_equal(out.items[0], "one");
