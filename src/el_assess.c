@@ -298,7 +298,10 @@ static el_status prepare(el_assess_plan *ap, const el_assess_options *opt,
     r->detrend_level = calloc(n, sizeof *r->detrend_level);
     r->detrend_slope = calloc(n, sizeof *r->detrend_slope);
     r->operating_point = calloc(n, sizeof *r->operating_point);
-    if (r->detrend_level == NULL || r->detrend_slope == NULL || r->operating_point == NULL)
+    r->dynamics_q = calloc(n, sizeof *r->dynamics_q);
+    r->dynamics_p = calloc(n, sizeof *r->dynamics_p);
+    if (r->detrend_level == NULL || r->detrend_slope == NULL || r->operating_point == NULL ||
+        r->dynamics_q == NULL || r->dynamics_p == NULL)
         return el_error_set(err, EL_ERR_NOMEM, "out of memory");
     el_status st = el_prep_detrend(&r->series, opt->detrend, r->detrend_level,
                                    r->detrend_slope, err);
@@ -309,7 +312,8 @@ static el_status prepare(el_assess_plan *ap, const el_assess_options *opt,
     /* Whiteness of the data before any band limit, which would colour
      * white noise (no verdict from nothing: el_dynamics). */
     if (st == EL_OK)
-        st = el_dynamics_test_series(&r->series, &r->dynamics, err);
+        st = el_dynamics_test_channels(&r->series, &r->dynamics, r->dynamics_q,
+                                       r->dynamics_p, err);
     if (st != EL_OK || opt->band_text == NULL)
         return st;
     double lo = 0, hi = 0;
@@ -1171,33 +1175,75 @@ static el_status subspace_fallback(el_assess_plan *ap, el_fit_options *fit,
     return plan_fit(ap, &r->series, fit, &r->model, &r->warnings, err);
 }
 
-/* --method auto on a log whose data cannot be told from white noise: the
- * instrument and subspace estimators refuse to fit (nothing predicts the
- * state), which left no report at all. Least squares, which fits any
- * data, stands in so the report can say that there is nothing to judge
- * (withhold_no_dynamics then withholds the word and the type). Other
- * errors, and data with dynamics, keep the estimator's error. */
+/* A log whose data cannot be told from white noise: the instrument and
+ * subspace estimators (and fb on some logs) refuse to fit, since nothing
+ * predicts the state, which left no report at all. Least squares, which
+ * fits any data, stands in so the report can say that there is nothing to
+ * judge (withhold_no_dynamics then withholds the word and the type), for
+ * --method auto and for an explicitly chosen method alike (no verdict from
+ * nothing, for every method). The stand-in is labelled: a warning, the
+ * estimator line of the reports and model.method_choice.stand_in in JSON.
+ * For an explicit method the stand-in must end in the withheld verdict:
+ * when least squares explains the data after all (measured inputs that
+ * drive a white output), the chosen method's own error stands, since a
+ * verdict from an estimator the user did not ask for would be no answer
+ * to the question asked. Other errors, and data with dynamics, keep the
+ * estimator's error. */
 static el_status white_fallback(el_assess_plan *ap, el_fit_options *fit,
                                 el_assessment *r, el_status st, el_error *err)
 {
     if ((st != EL_ERR_NUMERIC && st != EL_ERR_DATA) || !r->dynamics.tested ||
-        !r->dynamics.white)
+        !r->dynamics.white || fit->method == EL_METHOD_LS)
         return st;
+    el_error refused_err;
+    if (err != NULL)
+        refused_err = *err;
     char why[160] = "";
     take_message(err, why, sizeof why);
-    const char *refused = el_method_name(fit->method);
-    fit->method = EL_METHOD_LS;
-    fit->rank = EL_RANK_AUTO;
-    st = el_warnings_add(&r->warnings,
-                         "%s gave no model (%s); the data shows no dynamics, so least "
-                         "squares is fitted only to report that",
-                         refused, why);
-    if (st != EL_OK)
-        return el_error_set(err, st, "out of memory for a warning");
-    snprintf(r->method_reason, sizeof r->method_reason,
-             "the data shows no dynamics, and %s gave no model: least squares fits any "
-             "data, so it reports that", refused);
-    return plan_fit(ap, &r->series, fit, &r->model, &r->warnings, err);
+    el_method refused_m = fit->method;
+    const char *refused = el_method_name(refused_m);
+    el_fit_options ls = *fit;
+    ls.method = EL_METHOD_LS;
+    ls.rank = EL_RANK_AUTO;
+    el_status fs = plan_fit(ap, &r->series, &ls, &r->model, &r->warnings, err);
+    if (fs == EL_OK && !r->method_was_auto && !el_dynamics_none(&r->dynamics, r->model.fit_r2)) {
+        el_model_free(&r->model);
+        fs = EL_ERR_NUMERIC;
+    }
+    if (fs != EL_OK && !r->method_was_auto) {
+        if (err != NULL)
+            *err = refused_err;     /* the chosen method's error, as before */
+        return st;
+    }
+    if (fs != EL_OK)
+        return fs;
+    *fit = ls;
+    r->method_stood_in = 1;
+    r->method_refused = refused_m;
+    snprintf(r->method_refusal, sizeof r->method_refusal, "%s", why);
+    if (r->method_was_auto)
+        fs = el_warnings_add(&r->warnings,
+                             "%s gave no model (%s); the data shows no dynamics, so least "
+                             "squares is fitted only to report that",
+                             refused, why);
+    else
+        fs = el_warnings_add(&r->warnings,
+                             "--method %s could not fit a model: the data shows no dynamics "
+                             "to fit (%s); least squares is fitted in its place only to "
+                             "report that, and its modes describe noise, not the system",
+                             refused, why);
+    if (fs != EL_OK)
+        return el_error_set(err, fs, "out of memory for a warning");
+    if (r->method_was_auto)
+        snprintf(r->method_reason, sizeof r->method_reason,
+                 "the data shows no dynamics, and %s gave no model: least squares fits any "
+                 "data, so it reports that", refused);
+    else
+        snprintf(r->method_reason, sizeof r->method_reason,
+                 "in place of %s (--method %s), which could not fit a model: the data shows "
+                 "no dynamics to fit; least squares fits any data, so it reports that",
+                 refused, refused);
+    return EL_OK;
 }
 
 el_status el_assess_execute(el_assess_plan *ap, const el_assess_options *opt,
@@ -1250,7 +1296,7 @@ el_status el_assess_execute(el_assess_plan *ap, const el_assess_options *opt,
         st = plan_fit(ap, &r->series, &fit, &r->model, &r->warnings, err);
     if (st != EL_OK && r->method_was_auto && fit.method == EL_METHOD_HANKEL)
         st = subspace_fallback(ap, &fit, r, st, err);
-    if (st != EL_OK && r->method_was_auto)
+    if (st != EL_OK)
         st = white_fallback(ap, &fit, r, st, err);
     if (st == EL_OK)
         operating_point(r);
@@ -1338,6 +1384,8 @@ void el_assessment_free(el_assessment *r)
     free(r->detrend_level);
     free(r->detrend_slope);
     free(r->operating_point);
+    free(r->dynamics_q);
+    free(r->dynamics_p);
     if (!r->parts_borrowed) {
         el_regime_destroy(r->regime);
         el_validation_destroy(r->validation);

@@ -163,6 +163,14 @@ typedef struct {
     el_split_check split;         /* the split-half drift check */
     el_dynamics_test dynamics;    /* whiteness of the detrended data (no verdict from
                                      nothing: el_dynamics) */
+    double *dynamics_q;           /* n_channels: each channel's Ljung-Box statistic of
+                                     that test (NaN: constant, not tested); owned */
+    double *dynamics_p;           /* n_channels: its p-value (NaN: not tested); owned */
+    int method_stood_in;          /* 1: method_refused gave no model on data with no
+                                     dynamics, and least squares (model.method) was
+                                     fitted in its place only to report that */
+    el_method method_refused;     /* the estimator that gave no model (method_stood_in) */
+    char method_refusal[192];     /* what it said (method_stood_in), for the reports */
     el_cycle cycle;               /* harmonics with a steady envelope: a possible
                                      limit cycle (el_cycle) */
     el_nonstat_kind nonstat;      /* what breaks one operating point (NONE: nothing found) */

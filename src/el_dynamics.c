@@ -10,9 +10,17 @@
 el_status el_dynamics_test_series(const el_series *series, el_dynamics_test *out,
                                   el_error *err)
 {
-    if (series == NULL || out == NULL)
-        return el_error_set(err, EL_ERR_INTERNAL, "el_dynamics_test_series: NULL argument");
+    return el_dynamics_test_channels(series, out, NULL, NULL, err);
+}
+
+el_status el_dynamics_test_channels(const el_series *series, el_dynamics_test *out,
+                                    double *q_channel, double *p_channel, el_error *err)
+{
+    if (series == NULL || out == NULL || (q_channel == NULL) != (p_channel == NULL))
+        return el_error_set(err, EL_ERR_INTERNAL, "el_dynamics_test_channels: NULL argument");
     memset(out, 0, sizeof *out);
+    for (size_t c = 0; q_channel != NULL && c < series->n_channels; c++)
+        q_channel[c] = p_channel[c] = NAN;
     out->q = out->p_min = out->p_family = NAN;
     size_t n = series->n_samples;
     out->n_samples = n;
@@ -26,6 +34,10 @@ el_status el_dynamics_test_series(const el_series *series, el_dynamics_test *out
         if (!isfinite(q))        /* a constant channel: no correlation exists */
             continue;
         double p = el_validate_chi2_sf(q, (double)out->lags);
+        if (q_channel != NULL) {
+            q_channel[c] = q;
+            p_channel[c] = p;
+        }
         out->n_tested++;
         if (!(p >= out->p_min)) {
             out->p_min = p;

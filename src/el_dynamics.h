@@ -51,6 +51,15 @@ typedef struct {
 el_status el_dynamics_test_series(const el_series *series, el_dynamics_test *out,
                                   el_error *err);
 
+/* The same test, also writing each channel's figures for the reports:
+ * q[c] its Ljung-Box statistic and p[c] its p-value (h degrees of freedom)
+ * for c < series->n_channels, NaN for a channel not tested (constant, or a
+ * series too short for any lag). q and p are the caller's arrays of
+ * series->n_channels doubles, or both NULL (then exactly
+ * el_dynamics_test_series). Errors as el_dynamics_test_series. */
+el_status el_dynamics_test_channels(const el_series *series, el_dynamics_test *out,
+                                    double *q, double *p, el_error *err);
+
 /* The rule: 1 when the log shows no dynamics, i.e. the test was made, no
  * channel's data differs from white noise at the family-wise level
  * EL_DYNAMICS_ALPHA, and the fitted model's one-step R^2 fit_r2 is below

@@ -1050,6 +1050,12 @@ static void fig_modes(ctx *c)
         mode_row(c, i);
     el_svg_put(c, "</tbody></table>\n");
     el_svg_caption_begin(c, "Modes, least damped first.");
+    if (c->r->method_stood_in) {
+        el_svg_put(c, " <b>Fitted by least squares in place of ");
+        el_svg_esc(c, el_method_name(c->r->method_refused));
+        el_svg_put(c, ", which could not fit a model: these modes describe noise, not the "
+                      "system.</b> ");
+    }
     if (c->boot && isfinite(c->level))
         el_buf_printf(c->o, "Grey brackets: %.3g %% bootstrap bounds. ", 100.0 * c->level);
     el_svg_put(c, "Frequency f = Im &lambda; / 2&pi;; damping ratio &zeta; = &minus;Re &lambda; / "
@@ -1088,6 +1094,13 @@ static void details_section(ctx *c)
                   : m->method == EL_METHOD_LS ? " (optimal hard threshold)"
                                               : " (canonical-correlation rank test)",
                   m->n_pairs);
+    if (r->method_stood_in && !r->method_was_auto) {
+        el_svg_detail_row_begin(c, "estimator choice");
+        el_svg_esc(c, el_method_name(m->method));
+        el_svg_put(c, ", ");
+        el_svg_esc(c, r->method_reason);
+        el_svg_put(c, "</td></tr>");
+    }
     if (r->method_was_auto) {
         el_svg_detail_row_begin(c, "estimator choice");
         el_svg_esc(c, r->method_reason);

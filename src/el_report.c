@@ -7,6 +7,7 @@
 
 #include "el_advice.h"
 #include "el_json.h"
+#include "el_warnlines.h"
 
 static const char *resample_name(el_resample_kind k)
 {
@@ -86,6 +87,9 @@ static void text_model(const el_assessment *r, el_buf *out)
                           r->cross_agrees ? "agrees" : "DISAGREES", p);
         }
     }
+    else if (r->method_stood_in)
+        el_buf_printf(out, "  estimator    %s, %s\n", el_method_name(m->method),
+                      r->method_reason);
     if (r->lags_were_auto)
         el_buf_printf(out, "  lags         %zu chosen automatically: %s\n", m->lags,
                       r->lags_choice.reason);
@@ -182,6 +186,9 @@ static void text_mode(const el_assessment *r, size_t i, el_buf *out)
 static void text_modes(const el_assessment *r, el_buf *out)
 {
     el_buf_printf(out, "Modes, least damped first (lambda in 1/s, time constant in s)\n");
+    if (r->method_stood_in)
+        el_buf_printf(out, "  (fitted by ls in place of %s: these modes describe noise, not "
+                      "the system)\n", el_method_name(r->method_refused));
     el_buf_printf(out, "  %-2s %-24s %9s %9s %10s %9s\n", "#", "lambda", "freq Hz",
                   "damping", "decay 1/s", "time");
     for (size_t i = 0; i < r->modes.n_modes; i++)
@@ -190,6 +197,29 @@ static void text_modes(const el_assessment *r, el_buf *out)
 }
 
 static void text_wrapped(el_buf *out, const char *prefix, const char *text);
+
+/* Bonferroni: the p-value a single channel must reach to count as white
+ * (EL_DYNAMICS_ALPHA over the channels tested); NaN when none was. */
+static double whiteness_threshold(const el_dynamics_test *t)
+{
+    return t->tested && t->n_tested > 0 ? EL_DYNAMICS_ALPHA / (double)t->n_tested : NAN;
+}
+
+/* One line with the whiteness test's figures under a verdict withheld for
+ * no dynamics (the full table is in JSON, "whiteness"). */
+static void text_whiteness(const el_assessment *r, el_buf *out)
+{
+    const el_dynamics_test *t = &r->dynamics;
+    char line[512], a[32], b[32];
+    snprintf(line, sizeof line,
+             "Ljung-Box over %zu lags on %zu channel%s: smallest p %s (%s) >= %s "
+             "(%.2g / %zu, Bonferroni), so every channel is white; one-step R2 %.3f "
+             "< %.2g", t->lags, t->n_tested, t->n_tested == 1 ? "" : "s",
+             num(a, sizeof a, t->p_min), r->series.names[t->channel],
+             num(b, sizeof b, whiteness_threshold(t)), EL_DYNAMICS_ALPHA, t->n_tested,
+             r->model.fit_r2, EL_DYNAMICS_R2_MAX);
+    text_wrapped(out, "  whiteness   ", line);
+}
 
 static void text_verdict(const el_assessment *r, const el_assess_options *opt,
                          el_buf *out)
@@ -225,21 +255,34 @@ static void text_verdict(const el_assessment *r, const el_assess_options *opt,
     text_wrapped(out, "  reason      ", adv.reason);
     text_wrapped(out, "  next step   ", adv.next_step);
     text_wrapped(out, "  support     ", adv.support);
+    if (v->cause == EL_CAUSE_NO_DYNAMICS)
+        text_whiteness(r, out);
     el_buf_printf(out, "Margin        decay rate %s 1/s, damping ratio %s (least damped mode)\n\n",
                   num(a, 32, v->margin_decay_rate), num(b, 32, v->margin_damping_ratio));
 }
 
-static void text_warnings(const el_assessment *r, el_buf *out)
+/* The warnings as lines (el_warnlines_fold: one line for many
+ * modes with the same warning); the count is of warnings, as in JSON. */
+static el_status text_warnings(const el_assessment *r, el_buf *out)
 {
     size_t n = r->input_warnings.count + r->warnings.count;
     if (n == 0)
-        return;
-    el_buf_printf(out, "Warnings (%zu)\n", n);
-    for (size_t i = 0; i < r->input_warnings.count; i++)
-        el_buf_printf(out, "  ! %s\n", r->input_warnings.items[i]);
-    for (size_t i = 0; i < r->warnings.count; i++)
-        el_buf_printf(out, "  ! %s\n", r->warnings.items[i]);
+        return EL_OK;
+    const el_warnings *lists[2] = {&r->input_warnings, &r->warnings};
+    el_warnings lines = {0};
+    size_t folded = 0;
+    el_status st = el_warnlines_fold(lists, 2, &lines, &folded);
+    if (st != EL_OK)
+        return st;
+    if (folded > 0)
+        el_buf_printf(out, "Warnings (%zu, on %zu lines)\n", n, lines.count);
+    else
+        el_buf_printf(out, "Warnings (%zu)\n", n);
+    for (size_t i = 0; i < lines.count; i++)
+        el_buf_printf(out, "  ! %s\n", lines.items[i]);
     el_buf_printf(out, "\n");
+    el_warnings_free(&lines);
+    return EL_OK;
 }
 
 static void text_checks(const el_assessment *r, el_buf *out)
@@ -319,7 +362,8 @@ el_status el_report_text(const el_assessment *r, const el_assess_options *opt,
     text_modes(r, out);
     text_verdict(r, opt, out);
     text_checks(r, out);
-    text_warnings(r, out);
+    if (text_warnings(r, out) != EL_OK)
+        return EL_ERR_NOMEM;
     el_advice adv;
     el_advice_assess(r, opt != NULL ? opt->boot.level : NAN, &adv);
     el_buf_printf(out, "Cautions\n");
@@ -518,7 +562,21 @@ static void json_model(el_json *j, const el_assessment *r)
     el_json_object_begin(j, "method_choice");
     el_json_bool(j, "auto", r->method_was_auto);
     el_json_string(j, "regime", r->regime ? r->regime->regime_name : NULL);
-    el_json_string(j, "reason", r->method_was_auto ? r->method_reason : NULL);
+    el_json_string(j, "reason", r->method_was_auto || r->method_stood_in ? r->method_reason
+                                                                         : NULL);
+    el_json_string(j, "requested", r->method_was_auto ? "auto"
+                                   : el_method_name(r->method_stood_in ? r->method_refused
+                                                                       : m->method));
+    if (r->method_stood_in) {
+        el_json_object_begin(j, "stand_in");
+        el_json_string(j, "refused", el_method_name(r->method_refused));
+        el_json_string(j, "fitted", el_method_name(m->method));
+        el_json_string(j, "cause", "no_dynamics");
+        el_json_string(j, "message", r->method_refusal);
+        el_json_object_end(j);
+    } else {
+        el_json_null(j, "stand_in");
+    }
     if (r->cross_ran) {
         el_json_object_begin(j, "cross_check");
         el_json_string(j, "method", el_method_name(r->cross_method));
@@ -803,6 +861,57 @@ static void json_resampling(el_json *j, const el_assessment *r,
     el_json_object_end(j);
 }
 
+/* whiteness (docs/json.md): the no-dynamics test's figures, per channel
+ * and for the family, and the rule's decision. */
+static void json_whiteness(el_json *j, const el_assessment *r)
+{
+    const el_dynamics_test *t = &r->dynamics;
+    const el_series *s = &r->series;
+    double threshold = whiteness_threshold(t);
+    int none = el_dynamics_none(t, r->model.fit_r2);
+    el_json_object_begin(j, "whiteness");
+    el_json_string(j, "test", "ljung_box");
+    el_json_bool(j, "tested", t->tested);
+    el_json_int(j, "samples", (long long)t->n_samples);
+    el_json_int(j, "lags", (long long)t->lags);
+    el_json_int(j, "dof", (long long)t->lags);
+    el_json_int(j, "channels_tested", (long long)t->n_tested);
+    el_json_number(j, "family_level", EL_DYNAMICS_ALPHA);
+    el_json_number(j, "threshold", threshold);
+    el_json_number(j, "p_min", t->tested ? t->p_min : NAN);
+    el_json_string(j, "p_min_channel", t->tested ? s->names[t->channel] : NULL);
+    el_json_number(j, "p_family", t->tested ? t->p_family : NAN);
+    el_json_bool(j, "white", t->tested && t->white);
+    el_json_number(j, "fit_r2", r->model.fit_r2);
+    el_json_number(j, "r2_max", EL_DYNAMICS_R2_MAX);
+    el_json_bool(j, "no_dynamics", none);
+    el_json_string(j, "decision", !t->tested ? "not_tested" : none ? "no_dynamics"
+                                                                  : "dynamics");
+    el_json_array_begin(j, "channels");
+    for (size_t c = 0; c < s->n_channels; c++) {
+        double q = r->dynamics_q != NULL ? r->dynamics_q[c] : NAN;
+        double p = r->dynamics_p != NULL ? r->dynamics_p[c] : NAN;
+        int tested = isfinite(q) && isfinite(p);
+        el_json_object_begin(j, NULL);
+        el_json_string(j, "channel", s->names[c]);
+        el_json_bool(j, "tested", tested);
+        el_json_number(j, "q", q);
+        el_json_int(j, "lags", (long long)t->lags);
+        el_json_number(j, "p", p);
+        el_json_number(j, "threshold", threshold);
+        if (tested)
+            el_json_bool(j, "white", p >= threshold);
+        else
+            el_json_null(j, "white");
+        el_json_number(j, "one_step_r2",
+                       r->model.channel_r2 != NULL && c < r->model.n_channels
+                           ? r->model.channel_r2[c] : NAN);
+        el_json_object_end(j);
+    }
+    el_json_array_end(j);
+    el_json_object_end(j);
+}
+
 el_status el_report_json(const el_assessment *r, const el_assess_options *opt,
                          el_buf *out)
 {
@@ -823,6 +932,7 @@ el_status el_report_json(const el_assessment *r, const el_assess_options *opt,
     json_prep(&j, r, opt);
     json_regime(&j, r);
     json_validation(&j, r);
+    json_whiteness(&j, r);
     el_json_object_end(&j);
     return el_json_finish(&j);
 }

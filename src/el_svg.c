@@ -6,6 +6,7 @@
 #include "el_svg.h"
 
 #include "el_report.h"
+#include "el_warnlines.h"
 
 #include <math.h>
 #include <stdio.h>
@@ -333,15 +334,33 @@ void el_svg_warnings_box(el_html_ctx *c, const el_warnings *const *lists, size_t
         el_svg_put(c, "<p class=\"nowarn\" id=\"warnings\">No warnings.</p>\n");
         return;
     }
-    el_buf_printf(c->o, "<section class=\"warnings\" id=\"warnings\"><h2>Warnings (%zu)</h2><ul>\n",
-                  n);
-    for (size_t l = 0; l < n_lists; l++) {
-        for (size_t i = 0; i < lists[l]->count; i++) {
+    /* One line for many modes with the same warning, as in the text
+     * report; out of memory leaves them one by one. */
+    el_warnings lines = {0};
+    size_t folded = 0;
+    int joined = el_warnlines_fold(lists, n_lists, &lines, &folded) == EL_OK;
+    if (joined && folded > 0)
+        el_buf_printf(c->o, "<section class=\"warnings\" id=\"warnings\"><h2>Warnings (%zu, "
+                      "on %zu lines)</h2><ul>\n", n, lines.count);
+    else
+        el_buf_printf(c->o, "<section class=\"warnings\" id=\"warnings\"><h2>Warnings (%zu)"
+                      "</h2><ul>\n", n);
+    if (joined) {
+        for (size_t i = 0; i < lines.count; i++) {
             el_svg_put(c, "<li>");
-            el_svg_esc(c, lists[l]->items[i]);
+            el_svg_esc(c, lines.items[i]);
             el_svg_put(c, "</li>\n");
         }
+    } else {
+        for (size_t l = 0; l < n_lists; l++) {
+            for (size_t i = 0; i < lists[l]->count; i++) {
+                el_svg_put(c, "<li>");
+                el_svg_esc(c, lists[l]->items[i]);
+                el_svg_put(c, "</li>\n");
+            }
+        }
     }
+    el_warnings_free(&lines);
     el_svg_put(c, "</ul></section>\n");
 }
 

@@ -7,7 +7,9 @@
 # the rule), tls and the default auto; a van der Pol oscillator (van der
 # Pol 1926; mu 1.5, fourth-order Runge-Kutta here, 1 % sensor noise) gets
 # the `sustained_oscillation` warning in JSON, text and HTML; the demo
-# logs get neither. Run by tests/run.sh with EIGENLOG set.
+# logs get neither. Every --method on white noise of 1, 2 and 6 channels
+# gives a withheld verdict (a labelled least-squares stand-in where the
+# method cannot fit). Run by tests/run.sh with EIGENLOG set.
 set -u
 bin=${EIGENLOG:-build/rel/eigenlog}
 py=/usr/bin/python3
@@ -80,10 +82,89 @@ check "van der Pol: the HTML report warns" $?
 ! grep -q '"cause": "no_dynamics"' "$tmp/vdp.json"
 check "van der Pol: has dynamics" $?
 
+# Every --method on white noise of 1, 2 and 6 channels (issue 10, item 7:
+# no verdict from nothing, for every method): a report, exit 0, the word
+# and type withheld with cause no_dynamics, the whiteness test's figures
+# in JSON (one entry per channel, the Bonferroni threshold 0.01 / number
+# of channels) and its line in the text report. A method that cannot fit
+# (iv and ssi always refuse white data; hankel and fb may) has least
+# squares stand in, labelled in JSON (method_choice.stand_in), in the text
+# and in the HTML. Before, iv and ssi exited 2 and hankel 3 here.
+"$py" - "$tmp" <<'PY'
+import random, sys
+out = sys.argv[1]
+for nch in (1, 2, 6):
+    rng = random.Random(40 + nch)
+    with open("%s/white%d.csv" % (out, nch), "w") as f:
+        f.write("t [s]," + ",".join("w%d" % c for c in range(nch)) + "\n")
+        for k in range(2000):
+            f.write("%.2f," % (k * 0.01) + ",".join("%.6f" % rng.gauss(0, 1) for _ in range(nch)) + "\n")
+# A white output driven one sample later by a measured input: white, but
+# least squares explains it (R2 near 0.98): not "no dynamics".
+rng = random.Random(3)
+u = [rng.gauss(0, 1) for _ in range(3000)]
+with open(out + "/driven.csv", "w") as f:
+    f.write("t,u,y\n")
+    for k in range(3000):
+        f.write("%d,%.6f,%.6f\n" % (k, u[k], (2 * u[k - 1] if k else 0) + 0.3 * rng.gauss(0, 1)))
+PY
+for n in 1 2 6; do
+    for m in ls fb tls iv ssi hankel auto; do
+        b="$tmp/w${n}_$m"
+        "$bin" assess "$tmp/white$n.csv" --method $m --boot 100 --json "$b.json" --html "$b.html" \
+            >"$b.txt" 2>"$b.err"
+        check "white noise, $n channels, --method $m: exit 0 ($(head -c 120 "$b.err"))" $?
+        "$py" - "$b.json" "$n" "$m" <<'PY'
+import json, sys
+d = json.load(open(sys.argv[1]))
+n, m = int(sys.argv[2]), sys.argv[3]
+v, w, mc = d["verdict"], d["whiteness"], d["model"]["method_choice"]
+assert v["stability"] == "undecided" and v["cause"] == "no_dynamics", v["cause"]
+assert v["type"] == "not given (no dynamics)"
+assert w["decision"] == "no_dynamics" and w["no_dynamics"] and w["white"]
+assert w["channels_tested"] == n and len(w["channels"]) == n
+assert abs(w["threshold"] - 0.01 / n) < 1e-15
+assert all(c["tested"] and c["white"] and c["p"] >= w["threshold"] for c in w["channels"])
+assert min(c["p"] for c in w["channels"]) == w["p_min"]
+assert w["fit_r2"] < w["r2_max"] == 0.2
+assert mc["requested"] == m
+if m in ("iv", "ssi"):
+    assert mc["stand_in"] is not None
+s = mc["stand_in"]
+if s is not None:
+    assert s["fitted"] == "ls" and d["model"]["method"] == "ls" and s["cause"] == "no_dynamics"
+    assert m == "auto" or s["refused"] == m
+    codes = [x["code"] for x in d["warnings"] if "least squares is fitted" in x["message"]]
+    assert codes and all(c == "no_dynamics" for c in codes), codes
+else:
+    assert m == "auto" or d["model"]["method"] == m
+PY
+        check "white noise, $n channels, --method $m: withheld, whiteness figures, stand-in labelled" $?
+        grep -q 'UNDECIDED' "$b.txt" && grep -q '^  whiteness   Ljung-Box over' "$b.txt" &&
+            ! grep -q 'STABLE' "$b.txt"
+        check "white noise, $n channels, --method $m: text UNDECIDED with the whiteness line" $?
+        if grep -q '"stand_in": {' "$b.json" && [ $m != auto ]; then
+            grep -q "^  estimator    ls, in place of $m (--method $m)" "$b.txt" &&
+                grep -q "fitted by ls in place of $m: these modes describe noise" "$b.txt" &&
+                grep -q "in place of $m (--method $m), which could not fit a model" "$b.html" &&
+                grep -q "Fitted by least squares in place of $m, which could not fit a model: these modes describe noise" "$b.html"
+            check "white noise, $n channels, --method $m: the stand-in is labelled (text, HTML)" $?
+        fi
+    done
+done
+"$bin" assess "$tmp/driven.csv" --input u --method iv --boot 0 >/dev/null 2>"$tmp/driven.err"
+[ $? -eq 2 ] && grep -q 'iv: the past measurements' "$tmp/driven.err"
+check "white output explained by an input: --method iv keeps its own error (no stand-in verdict)" $?
+"$bin" assess "$tmp/driven.csv" --input u --method ls --boot 0 --json "$tmp/driven.json" >/dev/null 2>&1 &&
+    grep -q '"decision": "dynamics"' "$tmp/driven.json"
+check "white output explained by an input: --method ls, the rule finds dynamics" $?
+
 for f in datasets/*.csv; do
     "$bin" assess "$f" --boot 200 --json "$tmp/demo.json" --quiet >/dev/null 2>&1
     ! grep -q '"code": "sustained_oscillation"\|"code": "no_dynamics"' "$tmp/demo.json"
     check "$f: neither sustained_oscillation nor no_dynamics" $?
+    grep -q '"decision": "dynamics"' "$tmp/demo.json" && grep -q '"stand_in": null' "$tmp/demo.json"
+    check "$f: whiteness decision dynamics, no stand-in" $?
 done
 
 echo "e2e_honest: $passed passed, $failed failed"

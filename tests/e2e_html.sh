@@ -145,15 +145,16 @@ else
     png=$tmp/report.png
 fi
 rm -f "$png"
-run_browser --screenshot="$png" --window-size=1280,4200 --hide-scrollbars \
+run_browser --screenshot="$png" --window-size=1280,5100 --hide-scrollbars \
     "file://$(cd "$tmp" && pwd)/report.html" >"$tmp/shot.out" 2>"$tmp/shot.log"
 check "screenshot written" '[ -s "$png" ]'
-# A PNG of 1280 x 4200: signature, then the IHDR width and height.
+# A PNG of 1280 x 5100 (the whole page, down to the poles across model
+# orders and the details): signature, then the IHDR width and height.
 sig=$(od -A n -t x1 -N 8 "$png" 2>/dev/null | tr -d ' \n')
 check "screenshot is a PNG" '[ "$sig" = "89504e470d0a1a0a" ]'
 dims=$(od -A n -t u1 -j 16 -N 8 "$png" 2>/dev/null |
     awk '{ print $1 * 16777216 + $2 * 65536 + $3 * 256 + $4 "x" $5 * 16777216 + $6 * 65536 + $7 * 256 + $8 }')
-check "screenshot is 1280x4200 (got $dims)" '[ "$dims" = "1280x4200" ]'
+check "screenshot is 1280x5100 (got $dims)" '[ "$dims" = "1280x5100" ]'
 # A blank page compresses to a few kilobytes; the figures make it large.
 psize=$(wc -c <"$png")
 check "screenshot is not blank ($psize bytes)" '[ "$psize" -gt 100000 ]'

@@ -151,5 +151,32 @@ mutate "$tmp/assess_1.json" "$tmp/bad7.json" 'd["modes"][0]["shape_scaled"][0]["
 ! valid assess "$tmp/bad7.json" 2>/dev/null
 check "a participation above 1 fails" $?
 
+# ---- whiteness (added object) and the least-squares stand-in
+"$py" - "$tmp" <<'PY'
+import random, sys
+rng = random.Random(5)
+with open(sys.argv[1] + "/white.csv", "w") as f:
+    f.write("t,a,b\n")
+    for k in range(1500):
+        f.write("%d,%.6f,%.6f\n" % (k, rng.gauss(0, 1), rng.gauss(0, 1)))
+PY
+"$bin" assess "$tmp/white.csv" --method iv --boot 100 --json "$tmp/white_iv.json" --quiet &&
+    valid assess "$tmp/white_iv.json" &&
+    jq -e '.whiteness.decision == "no_dynamics" and (.whiteness.channels | length) == 2 and
+           .model.method_choice.stand_in.refused == "iv"' "$tmp/white_iv.json" >/dev/null
+check "assess --method iv on white noise validates, with whiteness and the stand-in" $?
+jq -e '.whiteness.decision == "dynamics" and .model.method_choice.stand_in == null and
+       .model.method_choice.requested == "auto"' "$tmp/assess_1.json" >/dev/null
+check "assess booster_pump: whiteness decision dynamics, no stand-in" $?
+mutate "$tmp/white_iv.json" "$tmp/bad8.json" 'd["whiteness"]["channels"][0]["p"] = 1.5'
+! valid assess "$tmp/bad8.json" 2>/dev/null
+check "a whiteness p-value above 1 fails" $?
+mutate "$tmp/assess_1.json" "$tmp/bad9.json" 'del d["whiteness"]'
+! valid assess "$tmp/bad9.json" 2>/dev/null
+check "an assess document without whiteness fails" $?
+mutate "$tmp/white_iv.json" "$tmp/bad10.json" 'd["model"]["method_choice"]["stand_in"]["cause"] = "x"'
+! valid assess "$tmp/bad10.json" 2>/dev/null
+check "a stand-in with an unknown cause fails" $?
+
 echo "e2e_schema: $passed passed, $failed failed"
 [ "$failed" -eq 0 ]

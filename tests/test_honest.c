@@ -255,6 +255,47 @@ static void test_dynamics_untestable(void **state)
     el_series_free(&s);
 }
 
+/* Each channel's figures (el_dynamics_test_channels, the JSON's
+ * whiteness.channels): the alternating channel's Q is the closed form of
+ * test_dynamics_closed_form (Ljung & Box 1978), the constant channel is
+ * not tested (NaN), and the smallest p over the channels, its channel and
+ * the family figures equal what el_dynamics_test_series reports. The
+ * white channel's Q is recomputed by el_validate_ljung_box, the statistic
+ * the test calls. Tolerance 1e-12 relative: a sum of 20 terms in double. */
+static void test_dynamics_channels(void **state)
+{
+    (void)state;
+    el_series s;
+    series_alloc(&s, 400, 3, 1.0);
+    white(&s, 21);
+    for (size_t k = 0; k < 400; k++) {
+        s.values[k] = k % 2 ? -1.0 : 1.0;
+        s.values[800 + k] = 2.5;
+    }
+    double q[3], p[3];
+    el_dynamics_test t, u;
+    assert_int_equal(el_dynamics_test_channels(&s, &t, q, p, NULL), EL_OK);
+    assert_int_equal(el_dynamics_test_series(&s, &u, NULL), EL_OK);
+    double n = 400.0, q0 = 0.0;
+    for (size_t k = 1; k <= 20; k++) {
+        double r = (n - (double)k) / n;
+        q0 += r * r / (n - (double)k);
+    }
+    q0 *= n * (n + 2.0);
+    assert_close(q[0], q0, 1e-12, 0.0);
+    assert_close(p[0], el_validate_chi2_sf(q0, 20.0), 1e-12, 0.0);
+    assert_close(q[1], el_validate_ljung_box(s.values + 400, 400, 20), 1e-12, 0.0);
+    assert_close(p[1], el_validate_chi2_sf(q[1], 20.0), 1e-12, 0.0);
+    assert_true(isnan(q[2]) && isnan(p[2]));
+    assert_int_equal(t.n_tested, 2);
+    assert_int_equal(t.channel, u.channel);
+    assert_close(t.p_min, fmin(p[0], p[1]), 0.0, 0.0);
+    assert_close(t.p_family, u.p_family, 0.0, 0.0);
+    assert_int_equal(t.white, u.white);
+    assert_int_equal(el_dynamics_test_channels(&s, &t, q, NULL, NULL), EL_ERR_INTERNAL);
+    el_series_free(&s);
+}
+
 /* ---- el_cycle --------------------------------------------------------- */
 
 /* van der Pol at mu = 1: period 6.6633 (the classic value for mu = 1,
@@ -374,11 +415,11 @@ static el_status assess(const el_series *src, int method, size_t boot, el_assess
     return el_assess_analyse(&opt, r, err);
 }
 
-/* White noise, 3 channels: every estimator that gives a model has its
- * word and type withheld with cause no_dynamics and the warning (ls
- * reported STABLE before the rule); iv and ssi refuse to fit on their own
- * (nothing predicts the state), and auto, whose estimators refuse, falls
- * back to least squares to report it. With the bootstrap for ls and
+/* White noise, 3 channels: every estimator has its word and type
+ * withheld with cause no_dynamics and the warning (ls reported STABLE
+ * before the rule); iv and ssi refuse to fit on their own (nothing
+ * predicts the state), and least squares stands in for them to report it,
+ * as for auto, whose estimators refuse. With the bootstrap for ls and
  * auto, as the default runs. */
 static void test_pipeline_white_withheld(void **state)
 {
@@ -393,22 +434,108 @@ static void test_pipeline_white_withheld(void **state)
         el_error err;
         size_t boot = methods[i] == EL_METHOD_LS || methods[i] < 0 ? 200 : 0;
         el_status st = assess(&s, methods[i], boot, &r, &err);
-        if (methods[i] == EL_METHOD_IV || methods[i] == EL_METHOD_SSI) {
-            assert_int_equal(st, EL_ERR_DATA);
-        } else if (st == EL_OK) {
-            assert_int_equal(r.verdict.cause, EL_CAUSE_NO_DYNAMICS);
-            assert_int_equal(r.verdict.stability, EL_UNDECIDED);
-            assert_string_equal(r.verdict.type, EL_VERDICT_TYPE_WITHHELD);
-            assert_true(has_warning(&r.warnings, "cannot be told from white noise"));
-        } else {
-            /* hankel may find no mode at all in noise: an error, no verdict */
-            assert_int_equal(methods[i], EL_METHOD_HANKEL);
-        }
-        if (methods[i] < 0 || methods[i] == EL_METHOD_LS)
-            assert_int_equal(st, EL_OK);
+        assert_int_equal(st, EL_OK);
+        assert_int_equal(r.verdict.cause, EL_CAUSE_NO_DYNAMICS);
+        assert_int_equal(r.verdict.stability, EL_UNDECIDED);
+        assert_string_equal(r.verdict.type, EL_VERDICT_TYPE_WITHHELD);
+        assert_true(has_warning(&r.warnings, "cannot be told from white noise"));
+        if (methods[i] == EL_METHOD_IV || methods[i] == EL_METHOD_SSI)
+            assert_int_equal(r.method_stood_in, 1);
         el_assessment_free(&r);
     }
     el_series_free(&s);
+}
+
+/* No verdict from nothing for every explicit --method (issue 10, item
+ * 7): white noise on 1, 2 and 6 channels gives a result, never an error,
+ * with the word and type withheld (cause no_dynamics). An estimator that
+ * refuses (iv and ssi always do on white data: nothing predicts the
+ * state) has least squares stand in, labelled: method_stood_in, the
+ * refused method named, model.method ls and a warning that says why.
+ * Before the stand-in iv and ssi returned EL_ERR_DATA here. */
+static void test_pipeline_explicit_methods_white(void **state)
+{
+    (void)state;
+    static const size_t channels[] = {1, 2, 6};
+    static const el_method methods[] = {EL_METHOD_LS, EL_METHOD_FB, EL_METHOD_TLS,
+                                        EL_METHOD_IV, EL_METHOD_SSI, EL_METHOD_HANKEL};
+    for (size_t c = 0; c < 3; c++) {
+        el_series s;
+        series_alloc(&s, 2000, channels[c], 0.01);
+        white(&s, 30 + c);
+        for (size_t i = 0; i < sizeof methods / sizeof methods[0]; i++) {
+            el_assessment r;
+            el_error err;
+            assert_int_equal(assess(&s, (int)methods[i], 0, &r, &err), EL_OK);
+            assert_int_equal(r.verdict.cause, EL_CAUSE_NO_DYNAMICS);
+            assert_int_equal(r.verdict.stability, EL_UNDECIDED);
+            assert_string_equal(r.verdict.type, EL_VERDICT_TYPE_WITHHELD);
+            if (methods[i] == EL_METHOD_IV || methods[i] == EL_METHOD_SSI)
+                assert_int_equal(r.method_stood_in, 1);
+            if (r.method_stood_in) {
+                assert_int_equal(r.method_refused, methods[i]);
+                assert_int_equal(r.model.method, EL_METHOD_LS);
+                assert_true(has_warning(&r.warnings, "could not fit a model: the data "
+                                                     "shows no dynamics to fit"));
+            } else {
+                assert_int_equal(r.model.method, methods[i]);
+            }
+            el_assessment_free(&r);
+        }
+        el_series_free(&s);
+    }
+}
+
+/* The stand-in answers only "there is nothing to judge": a white output
+ * that a measured input drives one sample later (y[k+1] = 2 u[k] + noise)
+ * passes the whiteness test but least squares explains it (one-step R2
+ * near 0.98, far above EL_DYNAMICS_R2_MAX), so a verdict would come from
+ * an estimator the user did not ask for. --method iv keeps its own error
+ * there, as before; --method ls gives its verdict. */
+static void test_pipeline_stand_in_needs_no_dynamics(void **state)
+{
+    (void)state;
+    el_rng rng;
+    el_rng_seed(&rng, 31, 0);
+    el_series y;
+    series_alloc(&y, 3000, 1, 1.0);
+    double *u = calloc(3000, sizeof *u);
+    assert_non_null(u);
+    for (size_t k = 0; k < 3000; k++)
+        u[k] = el_rng_normal(&rng);
+    for (size_t k = 0; k < 3000; k++)
+        y.values[k] = (k > 0 ? 2.0 * u[k - 1] : 0.0) + 0.3 * el_rng_normal(&rng);
+    for (int m = 0; m < 2; m++) {
+        el_assess_options opt;
+        el_assess_defaults(&opt);
+        opt.path = "simulated";
+        opt.boot.replicates = 0;
+        opt.method_auto = 0;
+        opt.fit.method = m == 0 ? EL_METHOD_IV : EL_METHOD_LS;
+        el_assessment r;
+        memset(&r, 0, sizeof r);
+        series_alloc(&r.series, 3000, 1, 1.0);
+        memcpy(r.series.values, y.values, 3000 * sizeof(double));
+        series_alloc(&r.inputs, 3000, 1, 1.0);
+        memcpy(r.inputs.values, u, 3000 * sizeof(double));
+        r.has_inputs = 1;
+        el_error err;
+        el_error_clear(&err);
+        el_status st = el_assess_analyse(&opt, &r, &err);
+        assert_int_equal(r.dynamics.white, 1);
+        if (m == 0) {
+            assert_int_not_equal(st, EL_OK);
+            assert_non_null(strstr(err.message, "iv"));
+        } else {
+            assert_int_equal(st, EL_OK);
+            assert_true(r.model.fit_r2 > EL_DYNAMICS_R2_MAX);
+            assert_int_not_equal(r.verdict.cause, EL_CAUSE_NO_DYNAMICS);
+        }
+        assert_int_equal(r.method_stood_in, 0);
+        el_assessment_free(&r);
+    }
+    free(u);
+    el_series_free(&y);
 }
 
 /* Real dynamics at low SNR: a damped oscillator (zeta 0.05) driven by
@@ -485,11 +612,14 @@ int main(void)
         cmocka_unit_test(test_dynamics_closed_form),
         cmocka_unit_test(test_dynamics_white_and_ar),
         cmocka_unit_test(test_dynamics_untestable),
+        cmocka_unit_test(test_dynamics_channels),
         cmocka_unit_test(test_cycle_van_der_pol),
         cmocka_unit_test(test_cycle_periodic_closed_form),
         cmocka_unit_test(test_cycle_linear_noise_driven),
         cmocka_unit_test(test_cycle_envelope_rule),
         cmocka_unit_test(test_pipeline_white_withheld),
+        cmocka_unit_test(test_pipeline_explicit_methods_white),
+        cmocka_unit_test(test_pipeline_stand_in_needs_no_dynamics),
         cmocka_unit_test(test_pipeline_dynamics_kept),
         cmocka_unit_test(test_pipeline_cycle_warning),
     };
