@@ -8,6 +8,7 @@
 
 #include "el_fit.h"
 #include "el_modes.h"
+#include "el_report.h"
 #include "el_resample.h"
 #include "el_verdict.h"
 
@@ -456,6 +457,11 @@ static void test_boot_samples_and_wide(void **state)
     assert_true(has_warning(&f.warnings, "not determined"));
     assert_true(has_warning(&f.warnings, "frequency bounds are wider"));
     assert_true(has_warning(&f.warnings, "damping-ratio bounds span"));
+    /* Its JSON code is "ambiguous" (docs/json.md): its remedy's words
+     * ("a lower rank") must not make it "rank_limited". */
+    for (size_t i = 0; i < f.warnings.count; i++)
+        if (strstr(f.warnings.items[i], "not determined by the data") != NULL)
+            assert_string_equal(el_warning_code(f.warnings.items[i]), "ambiguous");
     el_warnings_free(&f.warnings);
     /* 97 of 100 below zero: the mode is on the stable side. */
     for (size_t r = 0; r < 100; r++)
@@ -475,6 +481,15 @@ static void test_boot_samples_and_wide(void **state)
 static void test_words_and_codes(void **state)
 {
     (void)state;
+    /* JSON warning codes of the estimator fallbacks (el_assess.c's
+     * messages, docs/json.md): the plain fallback, and the one on white
+     * data, which is no_dynamics. */
+    assert_string_equal(el_warning_code("the subspace estimator gave no model (no persistent "
+                                        "mode): instrumental variables instead"),
+                        "estimator_fallback");
+    assert_string_equal(el_warning_code("iv gave no model (singular); the data shows no "
+                                        "dynamics, so least squares stands in"),
+                        "no_dynamics");
     assert_string_equal(el_stability_name(EL_STABLE), "stable");
     assert_string_equal(el_stability_name(EL_UNSTABLE), "unstable");
     assert_string_equal(el_stability_name(EL_MARGINAL), "marginal");
