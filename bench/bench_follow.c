@@ -12,6 +12,7 @@
  * The simulated log: every channel a lightly damped oscillator (0.8 Hz,
  * decay 0.3/s, its own phase) driven by white noise, mixed so the channels
  * share the mode. */
+#include <cblas.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -150,6 +151,10 @@ static int latency(void)
 
 int main(int argc, char **argv)
 {
+    /* As the program does (src/main.c): the bootstrap's own threads, one
+     * OpenBLAS thread; else BLAS threads inside them oversubscribe the
+     * cores and the latency measured is not the program's. */
+    openblas_set_num_threads(1);
     if (argc == 2 && strcmp(argv[1], "latency") == 0)
         return latency();
     if (argc == 5 && strcmp(argv[1], "gen") == 0)
