@@ -73,6 +73,20 @@ double *el_est_take(double **pool, size_t n)
  * and B together (no pivot array, so the provider work stays all doubles).
  * A (n x n) is destroyed, B (n x k) receives X. Returns 1 when a pivot is
  * at rounding level of the largest entry or the solution is not finite. */
+/* Partial pivoting: the row at or below j with the largest |a(i, j)| (the
+ * first of equals, so the choice does not depend on the BLAS kernel). */
+static size_t pivot_row(size_t n, const double *a, size_t lda, size_t j, double *best)
+{
+    size_t p = j;
+    *best = fabs(a[j + j * lda]);
+    for (size_t i = j + 1; i < n; i++)
+        if (fabs(a[i + j * lda]) > *best) {
+            *best = fabs(a[i + j * lda]);
+            p = i;
+        }
+    return p;
+}
+
 /* el_est_gauss_solve from order EL_EST_WIDE_GAUSS: the same elimination
  * and pivots, each step's update a BLAS rank-one update and the back
  * substitution one triangular solve (BLAS), several times faster at
@@ -81,13 +95,8 @@ static int gauss_solve_wide(size_t n, double *a, size_t lda, double *b, size_t l
                             size_t k, double tiny)
 {
     for (size_t j = 0; j < n; j++) {
-        size_t p = j;
-        double best = fabs(a[j + j * lda]);
-        for (size_t i = j + 1; i < n; i++)
-            if (fabs(a[i + j * lda]) > best) {
-                best = fabs(a[i + j * lda]);
-                p = i;
-            }
+        double best;
+        size_t p = pivot_row(n, a, lda, j, &best);
         if (!(best > tiny))
             return 1;
         if (p != j) {
@@ -129,13 +138,8 @@ int el_est_gauss_solve(size_t n, double *a, size_t lda, double *b, size_t ldb,
     if (n >= EL_EST_WIDE_GAUSS)
         return gauss_solve_wide(n, a, lda, b, ldb, k, tiny);
     for (size_t j = 0; j < n; j++) {
-        size_t p = j;
-        double best = fabs(a[j + j * lda]);
-        for (size_t i = j + 1; i < n; i++)
-            if (fabs(a[i + j * lda]) > best) {
-                best = fabs(a[i + j * lda]);
-                p = i;
-            }
+        double best;
+        size_t p = pivot_row(n, a, lda, j, &best);
         if (!(best > tiny))
             return 1;
         if (p != j) {
