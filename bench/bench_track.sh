@@ -68,20 +68,7 @@ awk -v a="$a" -v b="$b" 'BEGIN{
 
 # The wide log: a ring of 200 coupled, damped channels driven by noise,
 # with sensor noise (awk's generator: the same file on every run).
-awk 'BEGIN {
-    srand(7); nc = 200; n = 3000; dt = 0.01
-    printf "t [s]"; for (c = 0; c < nc; c++) printf ",s%03d", c; printf "\n"
-    for (k = 0; k < n; k++) {
-        printf "%.2f", k * dt
-        for (c = 0; c < nc; c++) {
-            u1 = rand(); u2 = rand(); if (u1 < 1e-12) u1 = 1e-12
-            e = sqrt(-2 * log(u1)) * cos(6.283185307179586 * u2)
-            y[c] = 0.9 * x[c] + 0.05 * x[(c + nc - 1) % nc] + e
-        }
-        for (c = 0; c < nc; c++) { x[c] = y[c]; printf ",%.5f", x[c] + 0.3 * (rand() - 0.5) }
-        printf "\n"
-    }
-}' > "$tmp/wide.csv"
+awk -v nc=200 -v n=3000 -f tests/data/ring_log.awk >"$tmp/wide.csv"
 set -- $(cpu_rss "$bin" assess "$tmp/wide.csv" --quiet --json "$tmp/wide.json")
 awk -v c="$1" -v m="$2" -v w="$3" -v bc="$BASELINE_WIDE_CPU_S" -v bm="$BASELINE_WIDE_RSS_MB" \
     -v bt="$BASELINE_WIDE_TODAY_CPU_S" 'BEGIN{

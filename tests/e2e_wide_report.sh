@@ -21,20 +21,7 @@ check() { # check NAME CONDITION-EXIT-STATUS
     if [ "$2" -eq 0 ]; then passed=$((passed + 1)); else failed=$((failed + 1)); echo "FAIL $1"; fi
 }
 
-awk 'BEGIN {
-    srand(7); nc = 24; n = 2000; dt = 0.01
-    printf "t [s]"; for (c = 0; c < nc; c++) printf ",s%03d", c; printf "\n"
-    for (k = 0; k < n; k++) {
-        printf "%.2f", k * dt
-        for (c = 0; c < nc; c++) {
-            u1 = rand(); u2 = rand(); if (u1 < 1e-12) u1 = 1e-12
-            e = sqrt(-2 * log(u1)) * cos(6.283185307179586 * u2)
-            y[c] = 0.9 * x[c] + 0.05 * x[(c + nc - 1) % nc] + e
-        }
-        for (c = 0; c < nc; c++) { x[c] = y[c]; printf ",%.5f", x[c] + 0.3 * (rand() - 0.5) }
-        printf "\n"
-    }
-}' >"$tmp/ring.csv"
+awk -v nc=24 -v n=2000 -f tests/data/ring_log.awk >"$tmp/ring.csv"
 "$bin" assess "$tmp/ring.csv" --boot 100 --json "$tmp/ring.json" --html "$tmp/ring.html" \
     >"$tmp/ring.txt" 2>"$tmp/ring.err"
 check "ring of 24 channels: exit 0" $?

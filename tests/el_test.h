@@ -94,4 +94,32 @@ static inline void ts_free(test_series *t)
     t->s.values = NULL;
 }
 
+/* A heap-built series the library owns the parts of (freed with
+ * el_series_free): n samples of p zeroed channels named y1, y2, ...
+ * without units, at step dt. */
+static inline void el_test_series_alloc(el_series *s, size_t n, size_t p, double dt)
+{
+    memset(s, 0, sizeof *s);
+    s->n_samples = n;
+    s->n_channels = p;
+    s->dt = dt;
+    s->rows_used = n;
+    s->values = calloc(n * p, sizeof(double));
+    s->names = calloc(p, sizeof(char *));
+    s->units = calloc(p, sizeof(char *));
+    s->source_column = calloc(p, sizeof(size_t));
+    assert_non_null(s->values);
+    assert_non_null(s->names);
+    assert_non_null(s->units);
+    assert_non_null(s->source_column);
+    for (size_t c = 0; c < p; c++) {
+        s->names[c] = malloc(24);
+        s->units[c] = calloc(1, 1);
+        assert_non_null(s->names[c]);
+        assert_non_null(s->units[c]);
+        snprintf(s->names[c], 24, "y%zu", c + 1);
+        s->source_column[c] = c + 1;
+    }
+}
+
 #endif

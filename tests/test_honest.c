@@ -22,31 +22,6 @@
 
 /* ---- helpers ---------------------------------------------------------- */
 
-static void series_alloc(el_series *s, size_t n, size_t p, double dt)
-{
-    memset(s, 0, sizeof *s);
-    s->n_samples = n;
-    s->n_channels = p;
-    s->dt = dt;
-    s->rows_used = n;
-    s->values = calloc(n * p, sizeof(double));
-    s->names = calloc(p, sizeof(char *));
-    s->units = calloc(p, sizeof(char *));
-    s->source_column = calloc(p, sizeof(size_t));
-    assert_non_null(s->values);
-    assert_non_null(s->names);
-    assert_non_null(s->units);
-    assert_non_null(s->source_column);
-    for (size_t c = 0; c < p; c++) {
-        s->names[c] = malloc(24);
-        s->units[c] = calloc(1, 1);
-        assert_non_null(s->names[c]);
-        assert_non_null(s->units[c]);
-        snprintf(s->names[c], 24, "y%zu", c + 1);
-        s->source_column[c] = c + 1;
-    }
-}
-
 static void white(el_series *s, uint64_t stream)
 {
     el_rng rng;
@@ -174,7 +149,7 @@ static void test_dynamics_closed_form(void **state)
 {
     (void)state;
     el_series s;
-    series_alloc(&s, 400, 1, 1.0);
+    el_test_series_alloc(&s, 400, 1, 1.0);
     for (size_t k = 0; k < 400; k++)
         s.values[k] = k % 2 ? -1.0 : 1.0;
     el_dynamics_test t;
@@ -203,7 +178,7 @@ static void test_dynamics_white_and_ar(void **state)
 {
     (void)state;
     el_series s;
-    series_alloc(&s, 1000, 3, 0.01);
+    el_test_series_alloc(&s, 1000, 3, 0.01);
     white(&s, 1);
     for (size_t k = 0; k < 1000; k++)
         s.values[2000 + k] = 4.0;
@@ -238,14 +213,14 @@ static void test_dynamics_untestable(void **state)
 {
     (void)state;
     el_series s;
-    series_alloc(&s, 4, 1, 1.0);
+    el_test_series_alloc(&s, 4, 1, 1.0);
     white(&s, 2);
     el_dynamics_test t;
     assert_int_equal(el_dynamics_test_series(&s, &t, NULL), EL_OK);
     assert_int_equal(t.tested, 0);
     assert_int_equal(el_dynamics_none(&t, 0.0), 0);
     el_series_free(&s);
-    series_alloc(&s, 100, 2, 1.0);
+    el_test_series_alloc(&s, 100, 2, 1.0);
     for (size_t i = 0; i < 200; i++)
         s.values[i] = 3.0;
     assert_int_equal(el_dynamics_test_series(&s, &t, NULL), EL_OK);
@@ -266,7 +241,7 @@ static void test_dynamics_channels(void **state)
 {
     (void)state;
     el_series s;
-    series_alloc(&s, 400, 3, 1.0);
+    el_test_series_alloc(&s, 400, 3, 1.0);
     white(&s, 21);
     for (size_t k = 0; k < 400; k++) {
         s.values[k] = k % 2 ? -1.0 : 1.0;
@@ -309,7 +284,7 @@ static void test_cycle_van_der_pol(void **state)
 {
     (void)state;
     el_series s;
-    series_alloc(&s, 6000, 2, 0.05);
+    el_test_series_alloc(&s, 6000, 2, 0.05);
     van_der_pol(&s, 1.0, 0.02, 3);
     el_cycle c;
     cycle_of(&s, &c);
@@ -336,7 +311,7 @@ static void test_cycle_periodic_closed_form(void **state)
 {
     (void)state;
     el_series s;
-    series_alloc(&s, 4000, 1, 0.01);
+    el_test_series_alloc(&s, 4000, 1, 0.01);
     for (size_t k = 0; k < 4000; k++) {
         double ph = 2 * T_PI * (double)k / 100.0;
         s.values[k] = sin(ph) + 0.3 * sin(3 * ph);
@@ -358,7 +333,7 @@ static void test_cycle_linear_noise_driven(void **state)
 {
     (void)state;
     el_series s;
-    series_alloc(&s, 6000, 2, 0.05);
+    el_test_series_alloc(&s, 6000, 2, 0.05);
     double f[1] = {1.0 / 6.6633};
     linear_modes(&s, 1, f, 0.02, 1, 0.05, 4);
     el_cycle c;
@@ -376,7 +351,7 @@ static void test_cycle_envelope_rule(void **state)
 {
     (void)state;
     el_series s;
-    series_alloc(&s, 12000, 2, 0.05);
+    el_test_series_alloc(&s, 12000, 2, 0.05);
     double f[3] = {0.15, 0.45, 0.75};
     linear_modes(&s, 2, f, 0.02, 1, 0.01, 5);
     el_cycle c;
@@ -386,7 +361,7 @@ static void test_cycle_envelope_rule(void **state)
     assert_true(c.envelope_cv > EL_CYCLE_ENVELOPE_CV_MAX);
     assert_int_equal(c.flagged, 0);
     el_series_free(&s);
-    series_alloc(&s, 4000, 2, 0.05);
+    el_test_series_alloc(&s, 4000, 2, 0.05);
     linear_modes(&s, 3, f, 0.01, 0, 0.001, 6);
     cycle_of(&s, &c);
     assert_int_equal(c.tested, 1);
@@ -409,7 +384,7 @@ static el_status assess(const el_series *src, int method, size_t boot, el_assess
     if (method >= 0)
         opt.fit.method = (el_method)method;
     memset(r, 0, sizeof *r);
-    series_alloc(&r->series, src->n_samples, src->n_channels, src->dt);
+    el_test_series_alloc(&r->series, src->n_samples, src->n_channels, src->dt);
     memcpy(r->series.values, src->values, src->n_samples * src->n_channels * sizeof(double));
     el_error_clear(err);
     return el_assess_analyse(&opt, r, err);
@@ -425,7 +400,7 @@ static void test_pipeline_white_withheld(void **state)
 {
     (void)state;
     el_series s;
-    series_alloc(&s, 2000, 3, 0.01);
+    el_test_series_alloc(&s, 2000, 3, 0.01);
     white(&s, 7);
     static const int methods[] = {EL_METHOD_LS, EL_METHOD_FB, EL_METHOD_TLS, EL_METHOD_IV,
                                   EL_METHOD_SSI, EL_METHOD_HANKEL, -1};
@@ -461,7 +436,7 @@ static void test_pipeline_explicit_methods_white(void **state)
                                         EL_METHOD_IV, EL_METHOD_SSI, EL_METHOD_HANKEL};
     for (size_t c = 0; c < 3; c++) {
         el_series s;
-        series_alloc(&s, 2000, channels[c], 0.01);
+        el_test_series_alloc(&s, 2000, channels[c], 0.01);
         white(&s, 30 + c);
         for (size_t i = 0; i < sizeof methods / sizeof methods[0]; i++) {
             el_assessment r;
@@ -498,7 +473,7 @@ static void test_pipeline_stand_in_needs_no_dynamics(void **state)
     el_rng rng;
     el_rng_seed(&rng, 31, 0);
     el_series y;
-    series_alloc(&y, 3000, 1, 1.0);
+    el_test_series_alloc(&y, 3000, 1, 1.0);
     double *u = calloc(3000, sizeof *u);
     assert_non_null(u);
     for (size_t k = 0; k < 3000; k++)
@@ -514,9 +489,9 @@ static void test_pipeline_stand_in_needs_no_dynamics(void **state)
         opt.fit.method = m == 0 ? EL_METHOD_IV : EL_METHOD_LS;
         el_assessment r;
         memset(&r, 0, sizeof r);
-        series_alloc(&r.series, 3000, 1, 1.0);
+        el_test_series_alloc(&r.series, 3000, 1, 1.0);
         memcpy(r.series.values, y.values, 3000 * sizeof(double));
-        series_alloc(&r.inputs, 3000, 1, 1.0);
+        el_test_series_alloc(&r.inputs, 3000, 1, 1.0);
         memcpy(r.inputs.values, u, 3000 * sizeof(double));
         r.has_inputs = 1;
         el_error err;
@@ -546,7 +521,7 @@ static void test_pipeline_dynamics_kept(void **state)
 {
     (void)state;
     el_series s;
-    series_alloc(&s, 4000, 2, 0.05);
+    el_test_series_alloc(&s, 4000, 2, 0.05);
     double f[1] = {0.5};
     linear_modes(&s, 1, f, 0.05, 1, 0.0, 8);
     el_rng rng;
@@ -560,7 +535,7 @@ static void test_pipeline_dynamics_kept(void **state)
             s.values[c * 4000 + k] += sd * el_rng_normal(&rng);
     }
     el_series slow;
-    series_alloc(&slow, 4000, 1, 1.0);
+    el_test_series_alloc(&slow, 4000, 1, 1.0);
     double x = 0.0, phi = exp(-1.0 / 2000.0);
     for (size_t k = 0; k < 4000; k++) {
         x = phi * x + el_rng_normal(&rng);
@@ -588,7 +563,7 @@ static void test_pipeline_cycle_warning(void **state)
 {
     (void)state;
     el_series s;
-    series_alloc(&s, 6000, 2, 0.05);
+    el_test_series_alloc(&s, 6000, 2, 0.05);
     van_der_pol(&s, 1.5, 0.02, 9);
     el_assessment r;
     el_error err;

@@ -15,31 +15,6 @@
 #include "el_rng.h"
 #include "el_verdict.h"
 
-static void series_alloc(el_series *s, size_t n, size_t p, double dt)
-{
-    memset(s, 0, sizeof *s);
-    s->n_samples = n;
-    s->n_channels = p;
-    s->dt = dt;
-    s->rows_used = n;
-    s->values = calloc(n * p, sizeof(double));
-    s->names = calloc(p, sizeof(char *));
-    s->units = calloc(p, sizeof(char *));
-    s->source_column = calloc(p, sizeof(size_t));
-    assert_non_null(s->values);
-    assert_non_null(s->names);
-    assert_non_null(s->units);
-    assert_non_null(s->source_column);
-    for (size_t c = 0; c < p; c++) {
-        s->names[c] = malloc(24);
-        s->units[c] = calloc(1, 1);
-        assert_non_null(s->names[c]);
-        assert_non_null(s->units[c]);
-        snprintf(s->names[c], 24, "y%zu", c + 1);
-        s->source_column[c] = c + 1;
-    }
-}
-
 /* x[k+1] = Ad x[k] + e[k] with Ad the exact discretisation (dt = 0.1 s)
  * of a pair a +- 2i 1/s (closed form: e^(a dt) times a rotation by 2 dt),
  * e ~ N(0, I). stationary: a = -0.3 1/s after a burn-in of 3000 steps (90
@@ -91,7 +66,7 @@ static el_status assess(const el_series *src, el_method method, el_assessment *r
     opt.method_auto = 0;
     opt.fit.method = method;
     memset(r, 0, sizeof *r);
-    series_alloc(&r->series, src->n_samples, src->n_channels, src->dt);
+    el_test_series_alloc(&r->series, src->n_samples, src->n_channels, src->dt);
     memcpy(r->series.values, src->values, src->n_samples * src->n_channels * sizeof(double));
     el_error_clear(err);
     return el_assess_analyse(&opt, r, err);
@@ -138,7 +113,7 @@ static void test_fb_stationary_withheld(void **state)
 {
     (void)state;
     el_series s;
-    series_alloc(&s, 2000, 2, 0.1);
+    el_test_series_alloc(&s, 2000, 2, 0.1);
     simulate_pair(&s, 1, 0.0, 1);
     el_assessment r;
     el_error err;
@@ -171,7 +146,7 @@ static void test_ls_sensor_noise_withheld(void **state)
 {
     (void)state;
     el_series s;
-    series_alloc(&s, 2000, 2, 0.1);
+    el_test_series_alloc(&s, 2000, 2, 0.1);
     simulate_pair(&s, 1, 0.3, 3);
     el_assessment r;
     el_error err;
