@@ -340,8 +340,10 @@ static el_status emit_trend(follow_run *fr, const el_track_result *r, int final,
             el_track_trend_text(&t, r);
         else
             el_buf_printf(&t, "Trend         n/a (fewer than 3 windows with a margin)\n");
-        for (size_t i = 0; i < r->warnings.count; i++)
-            el_buf_printf(&t, "  ! %s\n", r->warnings.items[i]);
+        if (el_track_warnings_text(&t, r) != EL_OK) {
+            el_buf_free(&t);
+            return el_error_set(err, EL_ERR_NOMEM, "out of memory (follow report)");
+        }
         el_buf_printf(&t, "Caution: %s\n         %s\n", el_assess_caution(), FOLLOW_CAUTION);
         if (t.data != NULL)
             fputs(t.data, stdout);

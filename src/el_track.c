@@ -10,6 +10,7 @@
 
 #include "el_json.h"
 #include "el_report.h"
+#include "el_warnlines.h"
 
 /* A window shorter than this cannot carry a fit, a bootstrap and a
  * spectrum; refuse it before any work. */
@@ -720,6 +721,19 @@ void el_track_trend_text(el_buf *out, const el_track_result *r)
                            "or <= %.3g)\n", r->level, 1.0 - r->level);
 }
 
+el_status el_track_warnings_text(el_buf *out, const el_track_result *r)
+{
+    if (r->warnings.count == 0)
+        return EL_OK;
+    const el_warnings *lists[1] = {&r->warnings};
+    el_warnings lines = {0};
+    el_status st = el_warnlines_fold(lists, 1, &lines, NULL);
+    for (size_t i = 0; st == EL_OK && i < lines.count; i++)
+        el_buf_printf(out, "  ! %s\n", lines.items[i]);
+    el_warnings_free(&lines);
+    return st == EL_OK && out->failed ? EL_ERR_NOMEM : st;
+}
+
 el_status el_track_report_text(const el_track_result *r, const el_track_options *opt,
                                el_buf *out)
 {
@@ -743,8 +757,8 @@ el_status el_track_report_text(const el_track_result *r, const el_track_options 
         el_track_window_text(out, &r->windows[i], width);
     if (r->has_trend)
         el_track_trend_text(out, r);
-    for (size_t i = 0; i < r->warnings.count; i++)
-        el_buf_printf(out, "  ! %s\n", r->warnings.items[i]);
+    if (el_track_warnings_text(out, r) != EL_OK)
+        return EL_ERR_NOMEM;
     char cautions[EL_ADVICE_MAX_CAUTIONS][EL_ADVICE_TEXT_MAX];
     size_t n_cautions = el_track_cautions(r, cautions);
     el_buf_printf(out, "Cautions\n");

@@ -191,6 +191,13 @@ void el_track_window_json(el_json *j, const char *key, const el_track_window *w,
                           double origin);
 void el_track_trend_json(el_json *j, const el_track_result *r);
 
+/* The track's warnings for a person to read, appended to out as "  ! "
+ * lines: warnings of one kind about many channels or modes are folded
+ * into one line (el_warnlines_fold), as the assess report does; JSON
+ * keeps every warning. Nothing is written when there are none. EL_OK,
+ * or EL_ERR_NOMEM (out may then hold part of the lines). */
+el_status el_track_warnings_text(el_buf *out, const el_track_result *r);
+
 /* Frees what the result owns and zeroes it. NULL is a no-op. */
 void el_track_free(el_track_result *result);
 

@@ -354,6 +354,42 @@ static void test_cautions_clock_time(void **state)
         assert_null(strstr(c[i], "extrapolation"));
 }
 
+/* The text report folds warnings of one kind about many channels into
+ * one line, as the assess report does (el_warnlines_fold), and keeps
+ * every warning in JSON. 30 channels' "channel sNNN ..." warnings must
+ * read as one line naming the channels; the expected words are written
+ * out by hand from the rule in el_warnlines.h (text only: no tolerance). */
+static void test_text_folds_warnings(void **state)
+{
+    (void)state;
+    el_track_result r;
+    memset(&r, 0, sizeof r);
+    r.level = 0.95;
+    for (int c = 0; c < 30; c++)
+        assert_int_equal(el_warnings_add(&r.warnings, "channel s%03d holds %d repeated values",
+                                         c, 10 + c),
+                         EL_OK);
+    assert_int_equal(el_warnings_add(&r.warnings, "a warning of its own"), EL_OK);
+    el_track_options opt;
+    el_track_defaults(&opt);
+    opt.assess.path = "wide.csv";
+    el_buf text = {0}, json = {0};
+    assert_int_equal(el_track_report_text(&r, &opt, &text), EL_OK);
+    size_t bangs = 0;
+    for (const char *p = strstr(text.data, "  ! "); p != NULL; p = strstr(p + 1, "  ! "))
+        bangs++;
+    assert_int_equal(bangs, 2);
+    assert_non_null(strstr(text.data, "channels s000, s001"));
+    assert_non_null(strstr(text.data, "and 18 more"));
+    assert_non_null(strstr(text.data, "10 to 39"));
+    assert_non_null(strstr(text.data, "  ! a warning of its own"));
+    assert_int_equal(el_track_report_json(&r, &opt, &json), EL_OK);
+    assert_non_null(strstr(json.data, "channel s029 holds 39 repeated values"));
+    el_buf_free(&text);
+    el_buf_free(&json);
+    el_track_free(&r);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -365,6 +401,7 @@ int main(void)
         cmocka_unit_test(test_steady_margin),
         cmocka_unit_test(test_errors),
         cmocka_unit_test(test_cautions_clock_time),
+        cmocka_unit_test(test_text_folds_warnings),
     };
     return cmocka_run_group_tests_name("track", tests, NULL, NULL);
 }
