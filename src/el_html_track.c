@@ -30,7 +30,7 @@ typedef struct {
  * of them at margin_now. */
 static int in_trend(const el_track_window *w)
 {
-    return w->ok && w->n_replicates > 0 && isfinite(w->margin);
+    return el_track_window_in_trend(w, 0);
 }
 
 static double mid_x(const track_axis *a, const el_track_window *w)
@@ -514,7 +514,7 @@ static void window_row(ctx *c, size_t i)
     else
         el_svg_put(c, "n/a");
     el_svg_put(c, "</td>");
-    el_buf_printf(c->o, "<td>%s%s", stability_word(w->stability),
+    el_buf_printf(c->o, "<td>%s%s", w->no_dynamics ? "no dynamics" : stability_word(w->stability),
                   w->ambiguous && w->stability != EL_UNDECIDED ? " (ambiguous)" : "");
     if (w->n_warnings > 0)
         el_buf_printf(c->o, "<div class=\"iv\">%zu warning%s</div>", w->n_warnings,

@@ -44,12 +44,18 @@ static const char *stability_name(el_stability s)
     return el_stability_name(s);
 }
 
+int el_track_window_in_trend(const el_track_window *w, int bounds_off)
+{
+    return w->ok && !w->no_dynamics && (w->n_replicates > 0 || bounds_off) &&
+           isfinite(w->margin);
+}
+
 size_t el_track_cautions(const el_track_result *r, char out[][EL_ADVICE_TEXT_MAX])
 {
     double mid = NAN;
     for (size_t i = 0; i < r->n_windows; i++) {
         const el_track_window *w = &r->windows[i];
-        if (w->ok && w->n_replicates > 0 && isfinite(w->margin))
+        if (el_track_window_in_trend(w, 0))
             mid = 0.5 * (w->t_from + w->t_to);
     }
     double zero = r->time_is_iso ? r->time_origin_s + mid + r->time_to_zero : NAN;
@@ -178,6 +184,7 @@ static el_status summarise(const el_assessment *a, double level, el_track_window
     w->frequency_hz = a->modes.n_modes > 0 ? a->modes.modes[0].frequency_hz : NAN;
     w->damping_ratio = a->verdict.margin_damping_ratio;
     w->n_warnings = a->warnings.count;
+    w->no_dynamics = a->verdict.cause == EL_CAUSE_NO_DYNAMICS;
     w->margin_lo = w->margin_hi = w->margin_sd = NAN;
     size_t n = a->boot.replicates, nm = a->boot.n_modes;
     if (n == 0 || nm == 0 || a->boot.lambda_re == NULL)
@@ -353,7 +360,18 @@ el_status el_track_run(const el_track_options *opt, el_track_result *result,
     el_assess_plan_destroy(plan);
     if (st == EL_OK)
         st = el_track_fit_trend(result, err);
-    if (st == EL_OK && !result->has_trend) {
+    size_t n_none = 0;
+    for (size_t i = 0; i < result->n_windows; i++)
+        n_none += result->windows[i].ok && result->windows[i].no_dynamics;
+    if (st == EL_OK && !result->has_trend && n_none > 0) {
+        el_error_set(err, EL_ERR_NUMERIC,
+                     "%zu of %zu windows show no dynamics (their data cannot be told from "
+                     "white noise) and %zu gave a margin with bounds: no trend",
+                     n_none, result->n_windows, result->n_ok - n_none);
+        el_error_hint(err, "run eigenlog assess on the log: its whiteness test names the "
+                           "channels without dynamics; check them and the sampling rate");
+        st = EL_ERR_NUMERIC;
+    } else if (st == EL_OK && !result->has_trend) {
         el_error_set(err, EL_ERR_NUMERIC,
                      "only %zu of %zu windows gave a margin with bounds: no trend",
                      result->n_ok, result->n_windows);
@@ -420,7 +438,7 @@ static el_status trend_data_make(const el_track_result *r, trend_data *d, el_err
     d->y = d->c + r->n_windows + 1;
     for (size_t i = 0; i < r->n_windows; i++) {
         const el_track_window *w = &r->windows[i];
-        if (!w->ok || (w->n_replicates == 0 && !r->bounds_off) || !isfinite(w->margin))
+        if (!el_track_window_in_trend(w, r->bounds_off))
             continue;
         d->win[d->n] = w;
         d->t[d->n] = 0.5 * (w->t_from + w->t_to);
@@ -522,6 +540,27 @@ static el_status unweighted_trend(el_track_result *r, const trend_data *d, doubl
                            "no bounds, no P(shrinking), no class and no time to zero");
 }
 
+/* Windows whose data cannot be told from white noise have a withheld
+ * verdict, and their margins (-ln|eigenvalue| / dt of a fit to noise:
+ * hundreds per second) describe the noise; a line through them would
+ * track noise. They stay out of the trend (el_track_window_in_trend);
+ * say so, as the table only shows "no dynamics" per window. */
+static el_status warn_no_dynamics(el_track_result *r, el_error *err)
+{
+    size_t n_none = 0;
+    for (size_t i = 0; i < r->n_windows; i++)
+        n_none += r->windows[i].ok && r->windows[i].no_dynamics;
+    if (n_none == 0)
+        return EL_OK;
+    el_status st = el_warnings_add(
+        &r->warnings,
+        "%zu of %zu assessed windows show no dynamics (their data cannot be told from "
+        "white noise): their margins describe the noise, not the system, and are left "
+        "out of the trend",
+        n_none, r->n_ok);
+    return st == EL_OK ? EL_OK : el_error_set(err, st, "out of memory (trend)");
+}
+
 el_status el_track_fit_trend(el_track_result *r, el_error *err)
 {
     r->has_trend = 0;
@@ -530,8 +569,11 @@ el_status el_track_fit_trend(el_track_result *r, el_error *err)
     r->scatter_ratio = r->margin_now = NAN;
     r->time_to_zero = r->time_to_zero_lo = r->time_to_zero_hi = NAN;
     r->widening = 1.0;
+    el_status st = warn_no_dynamics(r, err);
+    if (st != EL_OK)
+        return st;
     trend_data d;
-    el_status st = trend_data_make(r, &d, err);
+    st = trend_data_make(r, &d, err);
     if (st != EL_OK)
         return st;
     double tw = 0.0;
@@ -663,7 +705,8 @@ void el_track_window_text(el_buf *out, const el_track_window *w, int width)
         el_buf_printf(out, "%6.3f  ", w->p_stable);
     else
         el_buf_printf(out, "%6s  ", "n/a");
-    el_buf_printf(out, "%s%s  %s\n", stability_name(w->stability),
+    el_buf_printf(out, "%s%s  %s\n",
+                  w->no_dynamics ? "no dynamics" : stability_name(w->stability),
                   w->ambiguous && w->stability != EL_UNDECIDED ? " (ambiguous)" : "",
                   el_method_name(w->method));
 }
@@ -798,6 +841,7 @@ void el_track_window_json(el_json *j, const char *key, const el_track_window *w,
     el_json_number(j, "p_stable", w->p_stable);
     el_json_string(j, "stability", stability_name(w->stability));
     el_json_bool(j, "ambiguous", w->ambiguous);
+    el_json_bool(j, "no_dynamics", w->no_dynamics);
     el_json_int(j, "replicates", (long long)w->n_replicates);
     el_json_int(j, "warnings", (long long)w->n_warnings);
     el_json_object_end(j);

@@ -61,6 +61,9 @@ typedef struct {
     size_t n_replicates;
     double *margin_samples;       /* n_replicates replicate margins (owned) */
     size_t n_warnings;            /* warnings of the window's assessment */
+    int no_dynamics;              /* 1: the window's data cannot be told from white
+                                     noise (verdict withheld, cause no_dynamics): its
+                                     margin describes noise and stays out of the trend */
 } el_track_window;
 
 typedef struct {
@@ -190,6 +193,12 @@ void el_track_trend_text(el_buf *out, const el_track_result *r);
 void el_track_window_json(el_json *j, const char *key, const el_track_window *w,
                           double origin);
 void el_track_trend_json(el_json *j, const el_track_result *r);
+
+/* 1 when window w enters the trend: assessed, its data shows dynamics
+ * (no_dynamics 0: a white window's margin describes noise), a finite
+ * margin, and replicates unless bounds_off (--boot 0). The trend, the
+ * reports and the HTML figure share this rule. */
+int el_track_window_in_trend(const el_track_window *w, int bounds_off);
 
 /* The track's warnings for a person to read, appended to out as "  ! "
  * lines: warnings of one kind about many channels or modes are folded

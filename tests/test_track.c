@@ -119,6 +119,43 @@ static void test_trend_mixed_methods(void **state)
     el_track_free(&r);
 }
 
+/* A window whose data shows no dynamics (white noise: verdict withheld)
+ * has a margin that describes the noise, hundreds per second; it must
+ * stay out of the trend exactly as a failed window does, and a warning
+ * says so. Compared with the same windows where that one failed: the
+ * same line to the last bit (the same arithmetic on the same windows). */
+static void test_trend_skips_no_dynamics(void **state)
+{
+    (void)state;
+    el_track_result white, failed;
+    fill_windows(&white, tx_steady_t, tx_steady_sd, tx_steady_margin, tx_steady_samples);
+    fill_windows(&failed, tx_steady_t, tx_steady_sd, tx_steady_margin, tx_steady_samples);
+    white.n_ok = failed.n_ok = TX_WINDOWS;
+    el_track_window *w = &white.windows[2];
+    w->no_dynamics = 1;
+    w->margin = 600.0;
+    for (size_t k = 0; k < w->n_replicates; k++)
+        w->margin_samples[k] = 550.0 + (double)k;
+    failed.windows[2].ok = 0;
+    failed.n_ok--;
+    el_error err;
+    el_error_clear(&err);
+    assert_int_equal(el_track_fit_trend(&white, &err), EL_OK);
+    assert_int_equal(el_track_fit_trend(&failed, &err), EL_OK);
+    assert_true(white.has_trend && failed.has_trend);
+    assert_close(white.slope, failed.slope, 0.0, 0.0);
+    assert_close(white.slope_lo, failed.slope_lo, 0.0, 0.0);
+    assert_close(white.slope_hi, failed.slope_hi, 0.0, 0.0);
+    assert_close(white.margin_now, failed.margin_now, 0.0, 0.0);
+    int said = 0;
+    for (size_t i = 0; i < white.warnings.count; i++)
+        said |= strstr(white.warnings.items[i], "1 of 6 assessed windows show no dynamics") != NULL;
+    assert_true(said);
+    assert_false(el_track_window_in_trend(w, 0));
+    el_track_free(&white);
+    el_track_free(&failed);
+}
+
 /* Fewer than 3 usable windows: no trend, not an error. */
 static void test_trend_too_few(void **state)
 {
@@ -396,6 +433,7 @@ int main(void)
         cmocka_unit_test(test_trend_against_numpy),
         cmocka_unit_test(test_trend_overlap_widens),
         cmocka_unit_test(test_trend_mixed_methods),
+        cmocka_unit_test(test_trend_skips_no_dynamics),
         cmocka_unit_test(test_trend_too_few),
         cmocka_unit_test(test_drifting_margin),
         cmocka_unit_test(test_steady_margin),
