@@ -109,5 +109,27 @@ check "unwritable JSON path: exit 4 before any work (got $status)" $?
 "$bin" track --help >/dev/null
 check "track --help exits 0" $?
 
+# Pure white noise (three channels of independent Gaussian samples, Park-Miller
+# and Box-Muller as above): no window shows dynamics, so there is no trend
+# to draw; track stops with an error naming the windows (exit 3, no JSON
+# left behind) instead of a line through margins that describe noise.
+awk 'BEGIN {
+    pi = 3.14159265358979; m = 2147483647; s = 777
+    print "t [s],a,b,c"
+    for (k = 0; k < 8000; k++) {
+        printf "%.2f", k * 0.01
+        for (c = 0; c < 3; c++) {
+            s = (16807 * s) % m; u1 = s / m; s = (16807 * s) % m; u2 = s / m
+            printf ",%.6f", sqrt(-2 * log(u1)) * cos(2 * pi * u2)
+        }
+        printf "\n"
+    }
+}' >"$tmp/white.csv"
+"$bin" track "$tmp/white.csv" --window 10 --boot 100 --json "$tmp/white.json" \
+    >"$tmp/white.txt" 2>"$tmp/white.err"
+status=$?
+[ "$status" -eq 3 ] && grep -q "show no dynamics" "$tmp/white.err" && [ ! -e "$tmp/white.json" ]
+check "white noise: no trend from noise, an error naming the windows (got $status)" $?
+
 echo "e2e_track: $passed passed, $failed failed"
 [ "$failed" -eq 0 ]
