@@ -225,6 +225,7 @@ static el_status model_numbers(const cli_args *a, const cli_option *t, size_t n,
         o->lags_auto = 1;
     else if (v && (st = cli_size("lags", v, 0, 1000, &o->fit.lags, err)))
         return st;
+    o->lags_fixed = v != NULL && !o->lags_auto;
     if ((v = cli_value(a, t, n, "depth")) && (st = cli_size("depth", v, 1, 10000, &o->fit.depth, err)))
         return st;
     if ((st = parse_rank(cli_value(a, t, n, "rank"), &o->fit.rank, err)))

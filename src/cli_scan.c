@@ -25,7 +25,15 @@ static const char *in_log_unit(const el_table *t, double seconds, char *buf, siz
     return buf;
 }
 
-static void print_time(FILE *o, const el_table *t, const el_scan *s)
+/* The interval the sample rate is given for: assess's grid when the time
+ * stamps were read through their rounding (the median step is then not
+ * the interval), else the median step. */
+static double rate_interval(const el_scan *s, const el_time_survey *v)
+{
+    return v->usable && v->stamp_step > 0.0 ? v->dt_grid : s->dt_median;
+}
+
+static void print_time(FILE *o, const el_table *t, const el_scan *s, const el_time_survey *v)
 {
     char a[64], b[64], c[64];
     fprintf(o, "  time column  %s (%s", t->names[t->time_column],
@@ -43,9 +51,10 @@ static void print_time(FILE *o, const el_table *t, const el_scan *s)
     fprintf(o, "  interval     %s (median step; min %s, max %s)\n",
            in_log_unit(t, s->dt_median, a, sizeof a), in_log_unit(t, s->dt_min, b, sizeof b),
            in_log_unit(t, s->dt_max, c, sizeof c));
-    fprintf(o, "  sample rate  %.6g Hz", 1.0 / s->dt_median);
+    double dt_rate = rate_interval(s, v);
+    fprintf(o, "  sample rate  %.6g Hz", 1.0 / dt_rate);
     if (!t->time_is_iso && strcmp(t->time_unit, "s") != 0)
-        fprintf(o, " (%.6g per %s)", t->time_scale_s / s->dt_median, t->time_unit);
+        fprintf(o, " (%.6g per %s)", t->time_scale_s / dt_rate, t->time_unit);
     fprintf(o, "\n");
 }
 
@@ -63,8 +72,18 @@ static void print_order(FILE *o, const el_table *t, const el_scan *s, const el_t
         fprintf(o, "  assess       refuses this log: %s\n", text);
         return;
     }
-    fprintf(o, "  jitter       %.3g%% of the interval (largest deviation from a whole number of "
-           "intervals)%s\n", 100.0 * v->jitter, v->resample ? ": assess will resample" : "");
+    if (v->stamp_step > 0.0) {
+        char a[64], b[64];
+        fprintf(o, "  stamps       written to %s: the steps vary by that rounding alone; assess "
+               "reads the rows as a uniform grid of %s (%.6g Hz), not resampled\n",
+               in_log_unit(t, v->stamp_step, a, sizeof a), in_log_unit(t, v->dt_grid, b, sizeof b),
+               1.0 / v->dt_grid);
+        fprintf(o, "  jitter       %.3g%% of the interval (largest deviation from that grid)\n",
+               100.0 * v->jitter);
+    } else {
+        fprintf(o, "  jitter       %.3g%% of the interval (largest deviation from a whole number "
+               "of intervals)%s\n", 100.0 * v->jitter, v->resample ? ": assess will resample" : "");
+    }
     if (s->long_steps > 0)
         fprintf(o, "  time gaps    %zu steps longer than 1.5 intervals; longest %.0f missing "
                "sample%s%s\n", s->long_steps, v->longest_gap, v->longest_gap == 1 ? "" : "s",
@@ -85,7 +104,7 @@ static void print_scan(FILE *o, const el_table *t, const el_scan *s, const el_ti
     fprintf(o, "  delimiter    %s%s\n", t->delimiter == '\t' ? "tab"
                                   : t->delimiter == ';' ? "semicolon" : "comma",
            t->decimal == ',' ? ", decimal comma" : "");
-    print_time(o, t, s);
+    print_time(o, t, s, v);
     print_order(o, t, s, v, max_gap);
     for (size_t i = 0; i < t->notes.count; i++)
         fprintf(o, "  ! %s\n", t->notes.items[i]);
@@ -168,7 +187,7 @@ static void json_scan_time(el_json *j, const el_table *t, const el_scan *s,
     el_json_number(j, "dt_median", s->dt_median);
     el_json_number(j, "dt_min", s->dt_min);
     el_json_number(j, "dt_max", s->dt_max);
-    el_json_number(j, "sample_rate_hz", 1.0 / s->dt_median);
+    el_json_number(j, "sample_rate_hz", 1.0 / rate_interval(s, v));
     el_json_int(j, "backward_steps", (long long)v->backward_steps);
     el_json_int(j, "repeated_steps", (long long)v->repeated_steps);
     el_json_int(j, "long_steps", (long long)s->long_steps);
@@ -181,6 +200,8 @@ static void json_scan_time(el_json *j, const el_table *t, const el_scan *s,
     el_json_string(j, "refusal", v->usable ? NULL : text);
     el_json_number(j, "jitter", v->usable ? v->jitter : NAN);
     el_json_bool(j, "resample", v->usable && v->resample);
+    el_json_number(j, "dt", v->usable ? v->dt_grid : NAN);
+    el_json_number(j, "stamp_step", v->usable && v->stamp_step > 0.0 ? v->stamp_step : NAN);
     el_json_number(j, "longest_gap_samples", v->usable ? v->longest_gap : NAN);
     el_json_int(j, "max_gap", (long long)max_gap);
     if (v->usable && v->gap_row != 0)

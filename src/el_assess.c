@@ -1264,10 +1264,18 @@ el_status el_assess_execute(el_assess_plan *ap, const el_assess_options *opt,
                                 &r->cross_method, r->method_reason,
                                 sizeof r->method_reason);
     }
-    if (st == EL_OK && opt->lags_auto) {
+    /* One channel and no lags asked for: a state of one sample can hold
+     * only one real mode, so an oscillation (a ringing shaft seen by one
+     * accelerometer) would be reported as a decay with full support. The
+     * delay depth is then chosen as --lags auto chooses it (docs/method.md,
+     * "Delay depth"), for every method; --lags 0 keeps one sample. */
+    int one_channel = !opt->lags_auto && !opt->lags_fixed && opt->fit.lags == 0 &&
+                      r->series.n_channels == 1;
+    if (st == EL_OK && (opt->lags_auto || one_channel)) {
         st = el_lags_auto(&r->series, fit.inputs, 0, &r->lags_choice, err);
         if (st == EL_OK) {
             r->lags_were_auto = 1;
+            r->lags_for_one_channel = one_channel;
             fit.lags = r->lags_choice.lags;
         }
     }

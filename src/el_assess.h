@@ -37,6 +37,10 @@ typedef struct {
     const char *channels;         /* comma-separated names; NULL = all but time and inputs */
     const char *inputs;           /* --input: comma-separated measured input columns, NULL = none */
     int lags_auto;                /* 1: --lags auto (BIC), fit.lags is then chosen */
+    int lags_fixed;               /* 1: fit.lags is the caller's even when 0 (--lags 0
+                                     given). 0, with fit.lags 0 and lags_auto 0: a log of
+                                     one channel gets its depth as with --lags auto (one
+                                     sample of one sensor cannot show an oscillation) */
     int method_auto;              /* 1: --method auto (default): the estimator is chosen
                                      by the data's regime and cross-checked by a second,
                                      independent one (fit.method is then ignored) */
@@ -128,6 +132,8 @@ typedef struct {
     el_series inputs;             /* measured inputs on the same grid (has_inputs) */
     int has_inputs;
     int lags_were_auto;           /* 1: lags_choice says how --lags auto chose */
+    int lags_for_one_channel;     /* 1: chosen so because the log has one channel and
+                                     no --lags was given (lags_were_auto is then 1) */
     el_lags_choice lags_choice;
     el_model model;
     el_modes modes;

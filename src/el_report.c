@@ -91,7 +91,11 @@ static void text_model(const el_assessment *r, el_buf *out)
         el_buf_printf(out, "  estimator    %s, %s\n", el_method_name(m->method),
                       r->method_reason);
     if (r->lags_were_auto)
-        el_buf_printf(out, "  lags         %zu chosen automatically: %s\n", m->lags,
+        el_buf_printf(out, "  lags         %zu chosen automatically%s: %s\n", m->lags,
+                      r->lags_for_one_channel
+                          ? " (one channel and no --lags: one sample of one sensor cannot "
+                            "show an oscillation)"
+                          : "",
                       r->lags_choice.reason);
     if (m->depth > 0)
         el_buf_printf(out, "  depth        %zu block rows of past measurements\n", m->depth);
@@ -472,6 +476,7 @@ static void json_input(el_json *j, const el_assessment *r, const el_assess_optio
     el_json_array_end(j);
     el_json_bool(j, "resampled", s->resampled);
     el_json_number(j, "step_jitter", s->jitter);
+    el_json_number(j, "stamp_step", s->stamp_step > 0.0 ? s->stamp_step : NAN);
     el_json_int(j, "filled_cells", (long long)s->filled_cells);
     json_strings(j, "warnings", r->input_warnings.items, r->input_warnings.count);
     json_nonstationarity(j, r);
@@ -605,6 +610,7 @@ static void json_model(el_json *j, const el_assessment *r)
         el_json_bool(j, "exact", r->lags_choice.exact);
         el_json_number(j, "bic", r->lags_choice.bic);
         el_json_string(j, "reason", r->lags_choice.reason);
+        el_json_bool(j, "one_channel_default", r->lags_for_one_channel);
         el_json_object_end(j);
     } else {
         el_json_null(j, "lags_auto");

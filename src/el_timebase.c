@@ -1,6 +1,7 @@
 /* el_timebase: window selection, uniform grid, gap fill and resampling. */
 #include "el_timebase.h"
 
+#include <float.h>
 #include <math.h>
 #include <stdint.h>
 #include <stdio.h>
@@ -22,6 +23,8 @@ typedef struct {
     size_t n_samples;
     int resample;
     double jitter;
+    double stamp_step;        /* > 0: the stamps' resolution, when rounding alone
+                                 made the steps vary (find_rounded_grid) */
     /* Filled in by the channel passes, for the summary warning. */
     size_t filled;
     size_t channels_filled;
@@ -382,6 +385,104 @@ static el_status time_gap_error(const timebase_plan *plan, size_t row, double mi
                         row_line(table, row), plan->max_gap);
 }
 
+/* Time stamps written to a coarse resolution: a logger sampling at 300 Hz
+ * that stamps whole milliseconds writes steps of 3, 3 and 4 ms. The median
+ * step (3 ms) is then not the interval, the steps vary by a third of it,
+ * and resampling onto a 3 ms grid would interpolate between samples that
+ * were taken every 3.333 ms (a periodic distortion that shows up as
+ * spurious modes). The rows are taken as a uniform grid read through the
+ * stamps' rounding when they are one: the resolution q is the smallest
+ * nonzero difference between a step and the median step; the interval dt
+ * is the least-squares slope of the stamps against M_k, the whole number
+ * of intervals up to row k (steps rounded to dt, iterated until the count
+ * is steady, so a missing row still counts two): the end stamps' rounding
+ * would bias span / M by up to q / M, the slope by far less; and every
+ * stamp lies within a band of width q about that line, which rounding to
+ * q produces and irregular sampling (a random walk of the phase) does
+ * not. No tolerance but the rounding of doubles. */
+typedef struct {
+    int found;
+    double dt;              /* the uniform interval */
+    double stamp_step;      /* q, the stamps' resolution */
+    double intervals;       /* whole intervals from first to last */
+    double jitter;          /* max deviation of a stamp from the centred grid / dt */
+} rounded_grid;
+
+static double grid_intervals(const double *time, size_t first, size_t last, double dt)
+{
+    double m_sum = 0.0;
+    for (size_t r = first + 1; r <= last; r++) {
+        double m = intervals_of(time[r] - time[r - 1], dt);
+        if (m < 1)
+            return NAN;
+        m_sum += m;
+    }
+    return m_sum;
+}
+
+static void find_rounded_grid(const double *time, size_t first, size_t last, double dt_median,
+                              rounded_grid *g)
+{
+    memset(g, 0, sizeof *g);
+    if (last < first + 2 || !(dt_median > 0.0))
+        return;
+    double q = INFINITY, span = time[last] - time[first];
+    double tiny = 1e-9 * dt_median + 8.0 * DBL_EPSILON * fmax(fabs(time[first]), fabs(time[last]));
+    for (size_t r = first + 1; r <= last; r++) {
+        double d = fabs(time[r] - time[r - 1] - dt_median);
+        if (d > tiny && d < q)
+            q = d;
+    }
+    double dt = dt_median, m_sum = NAN;
+    for (int iter = 0; iter < 8; iter++) {
+        double m = grid_intervals(time, first, last, dt);
+        if (!(m >= 1.0))
+            return;
+        if (m == m_sum)
+            break;
+        m_sum = m;
+        dt = span / m_sum;
+    }
+    if (!isfinite(q) || !(q < dt))
+        return;
+    /* Least-squares line t - t_first = a + dt M over the rows; stamps taken
+     * from t_first so an epoch-sized time keeps its digits. */
+    double n = (double)(last - first + 1), sm = 0.0, st = 0.0, m_k = 0.0;
+    for (size_t r = first + 1; r <= last; r++) {
+        m_k += intervals_of(time[r] - time[r - 1], dt);
+        sm += m_k;
+        st += time[r] - time[first];
+    }
+    double m_mean = sm / n, t_mean = st / n, sxy = 0.0, sxx = 0.0;
+    m_k = 0.0;
+    for (size_t r = first; r <= last; r++) {
+        if (r > first)
+            m_k += intervals_of(time[r] - time[r - 1], dt);
+        sxy += (m_k - m_mean) * (time[r] - time[first] - t_mean);
+        sxx += (m_k - m_mean) * (m_k - m_mean);
+    }
+    double slope = sxy / sxx;
+    if (!(slope > 0.0) || grid_intervals(time, first, last, slope) != m_sum)
+        return;
+    double lo = INFINITY, hi = -INFINITY;
+    m_k = 0.0;
+    for (size_t r = first; r <= last; r++) {
+        if (r > first)
+            m_k += intervals_of(time[r] - time[r - 1], slope);
+        double dev = time[r] - time[first] - t_mean - (m_k - m_mean) * slope;
+        lo = fmin(lo, dev);
+        hi = fmax(hi, dev);
+    }
+    dt = slope;
+    if (!(hi - lo <= q + tiny))
+        return;
+    g->found = 1;
+    g->dt = dt;
+    g->stamp_step = q;
+    g->intervals = m_sum;
+    g->jitter = 0.5 * (hi - lo) / dt;
+}
+
 /* Decides dt, grid or resampling, the number of samples and the jitter.
  * steps is scratch for last - first doubles. */
 static el_status plan_grid(timebase_plan *plan, double jitter_limit, double *steps,
@@ -403,10 +504,22 @@ static el_status plan_grid(timebase_plan *plan, double jitter_limit, double *ste
     double intervals = sv.intervals;
     int on_grid = sv.on_grid;
     plan->jitter = sv.jitter;
+    if (!on_grid) {
+        rounded_grid g;
+        find_rounded_grid(time, plan->first, plan->last, dt, &g);
+        if (g.found) {
+            on_grid = 1;
+            intervals = g.intervals;
+            plan->dt_step = g.dt;     /* fill_on_grid counts intervals with it */
+            plan->jitter = g.jitter;
+            plan->stamp_step = g.stamp_step;
+        }
+    }
     plan->resample = !on_grid;
     if (on_grid) {
         plan->n_samples = (size_t)intervals + 1;
-        plan->dt = (time[plan->last] - plan->t0) / intervals;
+        plan->dt = plan->stamp_step > 0.0 ? plan->dt_step
+                                          : (time[plan->last] - plan->t0) / intervals;
     } else {
         /* The allowance keeps a grid point that lands on the last row but
          * for rounding in the division; the loop drops it again if, as
@@ -634,6 +747,17 @@ static el_status add_warnings(const timebase_plan *plan, double jitter_limit,
                              100 * plan->jitter, 100 * jitter_limit, plan->dt,
                              time_unit_suffix(plan->table, unit, sizeof unit));
     }
+    if (st == EL_OK && plan->stamp_step > 0.0) {
+        const el_table *t = plan->table;
+        const char *u = t->time_is_iso || t->time_unit[0] == '\0' ? "s" : t->time_unit;
+        double scale = t->time_is_iso ? 1.0 : el_table_time_unit_s(t);
+        st = el_warnings_add(warnings,
+                             "the time stamps are written to %.3g %s, so the steps vary by "
+                             "that rounding alone: the rows are read as a uniform grid of "
+                             "dt = %.9g %s (%.6g Hz), not resampled",
+                             plan->stamp_step / scale, u, plan->dt / scale, u,
+                             1.0 / plan->dt);
+    }
     if (st == EL_OK && plan->filled > 0)
         st = el_warnings_add(warnings,
                              "filled %zu missing sample%s in %zu channel%s by linear "
@@ -695,6 +819,7 @@ static el_status build(const el_table *table, const size_t *channels, size_t n_c
     series->filled_cells = plan.filled;
     series->resampled = plan.resample;
     series->jitter = plan.jitter;
+    series->stamp_step = plan.stamp_step;
     return add_warnings(&plan, opt->jitter_limit, warnings, err);
 }
 
@@ -766,8 +891,19 @@ el_status el_timebase_survey_step(const el_table *table, const el_timebase_optio
     survey_steps(time, 0, table->n_rows - 1, dt, opt->max_gap, opt->jitter_limit, &sv);
     out->usable = 1;
     out->dt_step = dt;
+    out->dt_grid = dt;
     out->jitter = sv.jitter;
     out->resample = !sv.on_grid;
+    if (!sv.on_grid && sv.gap_row == 0) {
+        rounded_grid g;
+        find_rounded_grid(time, 0, table->n_rows - 1, dt, &g);
+        if (g.found) {
+            out->resample = 0;
+            out->jitter = g.jitter;
+            out->dt_grid = g.dt;
+            out->stamp_step = g.stamp_step;
+        }
+    }
     out->longest_gap = sv.longest_gap;
     out->gap_row = sv.gap_row;
     return EL_OK;

@@ -36,7 +36,12 @@ typedef struct {
     double jitter;            /* max |step - m dt| / dt among rows in the window,
                                  m = the whole number of intervals the step spans
                                  (1 for an ordinary step; a time gap of m - 1
-                                 missing rows is not jitter) */
+                                 missing rows is not jitter; with stamp_step > 0,
+                                 max deviation of a stamp from the uniform grid) */
+    double stamp_step;        /* > 0: the time stamps' resolution, when rounding to it
+                                 alone made the steps vary (a 300 Hz log stamped in
+                                 whole ms); the rows were then read as the grid, not
+                                 resampled. 0 otherwise */
 } el_series;
 
 /* Builds *series from the table columns listed in channels[0..n_channels)
@@ -98,6 +103,8 @@ typedef struct {
     el_error refusal;         /* usable == 0: the error el_series_build gives */
     double dt_step;           /* median step, s (usable) */
     double jitter;            /* as el_series.jitter over the whole log */
+    double dt_grid;           /* the interval assess uses for the whole log, s */
+    double stamp_step;        /* as el_series.stamp_step over the whole log */
     int resample;             /* 1: assess resamples the whole log onto a grid */
     double longest_gap;       /* samples missing in the longest time gap */
     size_t gap_row;           /* first row after a time gap longer than opt->max_gap

@@ -74,9 +74,9 @@ grep -q "residuals strongly correlated" "$tmp/band.txt" &&
     ! grep -q "add lags" "$tmp/band.txt" &&
     grep -q "which the band limit can cause by itself" "$tmp/band.txt"
 check "after --band: correlation named, no 'add lags'" $?
-"$bin" assess "$tmp/ar2.csv" --method ls --boot 0 >"$tmp/ar2.txt" 2>&1
+"$bin" assess "$tmp/ar2.csv" --method ls --lags 0 --boot 0 >"$tmp/ar2.txt" 2>&1
 grep -q "residuals strongly correlated (Ljung-Box p .* on channel x): add lags" "$tmp/ar2.txt"
-check "a model short of lags (AR(2) without lags) is still told to add lags" $?
+check "a model short of lags (AR(2) with --lags 0) is still told to add lags" $?
 
 # --- no P(stable) below 100 replicates -------------------------------------
 for b in 1 99; do

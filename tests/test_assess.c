@@ -18,13 +18,16 @@
 #include "el_report.h"
 
 /* Runs the default pipeline on a log whose times are in the given unit
- * (--time-unit). */
-static el_assessment run_unit(const char *path, const char *unit, size_t replicates)
+ * (--time-unit); lags_fixed 1 is --lags 0 (one sample of state even on a
+ * log of one channel). */
+static el_assessment run_unit_lags(const char *path, const char *unit, size_t replicates,
+                                   int lags_fixed)
 {
     el_assess_options opt;
     el_assess_defaults(&opt);
     opt.path = path;
     opt.time_unit = unit;
+    opt.lags_fixed = lags_fixed;
     opt.boot.replicates = replicates;
     opt.boot.threads = 2;
     opt.boot.seed = 7;
@@ -34,6 +37,11 @@ static el_assessment run_unit(const char *path, const char *unit, size_t replica
     el_error_clear(&err);
     assert_int_equal(el_assess_run(&opt, &r, &err), EL_OK);
     return r;
+}
+
+static el_assessment run_unit(const char *path, const char *unit, size_t replicates)
+{
+    return run_unit_lags(path, unit, replicates, 0);
 }
 
 /* Runs the pipeline; method_auto 0 means plain least squares. */
@@ -248,7 +256,8 @@ static void test_level_shift_nile_and_trend_co2(void **state)
     el_advice_assess(&nile, 0.95, &adv);
     assert_non_null(strstr(adv.next_step, "--from 1898.5"));
     el_assessment_free(&nile);
-    el_assessment co2 = run_unit("tests/data/co2_mauna_loa_1959_1997.csv", "year", 200);
+    /* co2 with one sample of state (--lags 0): the check's own case. */
+    el_assessment co2 = run_unit_lags("tests/data/co2_mauna_loa_1959_1997.csv", "year", 200, 1);
     assert_int_equal(co2.nonstat, EL_NONSTAT_LEVEL_TREND);
     double span_years = (double)co2.series.n_samples * co2.series.dt / year_s;
     assert_close(co2.regime->level_change / span_years, 1.307497, 0.02, 0.0);
@@ -256,6 +265,15 @@ static void test_level_shift_nile_and_trend_co2(void **state)
     assert_int_equal(co2.verdict.cause, EL_CAUSE_LEVEL_TREND);
     el_advice_assess(&co2, 0.95, &adv);
     assert_non_null(strstr(adv.next_step, "--detrend linear"));
+    el_assessment_free(&co2);
+    /* By default a one-channel log gets delay lags (its seasonal cycle is
+     * then a mode), and the rising level is fitted as a growing mode: the
+     * trend is still found and said, and the answer is never "stable" (an
+     * "unstable" stands: judge_one_point). */
+    co2 = run_unit("tests/data/co2_mauna_loa_1959_1997.csv", "year", 200);
+    assert_true(co2.lags_for_one_channel);
+    assert_int_equal(co2.nonstat, EL_NONSTAT_LEVEL_TREND);
+    assert_int_not_equal(co2.verdict.stability, EL_STABLE);
     el_assessment_free(&co2);
 }
 
@@ -723,6 +741,69 @@ static void test_cross_check_ls_replicates(void **state)
     el_assessment_free(&r);
 }
 
+/* One sensor, no --lags: x(t) = e^(-s1 t) cos(w1 t) + 0.6 e^(-s2 t)
+ * cos(w2 t) is the output of a linear system with eigenvalues -s1 +/- i w1
+ * and -s2 +/- i w2 (closed form: each damped cosine is one conjugate pair).
+ * 1.30 Hz zeta 0.03 and 3.10 Hz zeta 0.08 (the accuracy study's
+ * single-sensor system), no noise. A state of one sample holds one real
+ * mode, so the default must choose the delay depth itself, as --lags auto
+ * does: both frequencies within 0.5 % and both damping ratios within 0.005
+ * (noise-free, BIC takes the exact depth; docs/method.md measured 0.03 %
+ * on such a log, so the bound is loose by an order of magnitude and still
+ * fails at once for a one-sample state). --lags 0 (lags_fixed) keeps one
+ * sample: one real mode. */
+static void test_one_channel_gets_lags(void **state)
+{
+    (void)state;
+    char path[] = "/tmp/eigenlog_onechXXXXXX";
+    int fd = mkstemp(path);
+    assert_true(fd >= 0);
+    FILE *out = fdopen(fd, "w");
+    assert_non_null(out);
+    const double f1 = 1.30, z1 = 0.03, f2 = 3.10, z2 = 0.08, dt = 0.02;
+    double w1 = 2.0 * M_PI * f1, w2 = 2.0 * M_PI * f2;
+    double s1 = z1 * w1 / sqrt(1.0 - z1 * z1), s2 = z2 * w2 / sqrt(1.0 - z2 * z2);
+    fprintf(out, "t [s],accel\n");
+    for (size_t k = 0; k < 2000; k++) {
+        double t = (double)k * dt;
+        fprintf(out, "%.4f,%.12g\n", t,
+                exp(-s1 * t) * cos(w1 * t) + 0.6 * exp(-s2 * t) * cos(w2 * t));
+    }
+    fclose(out);
+    el_assess_options opt;
+    el_assess_defaults(&opt);
+    opt.path = path;
+    opt.boot.replicates = 200;
+    opt.boot.threads = 2;
+    opt.boot.seed = 7;
+    el_assessment r;
+    memset(&r, 0, sizeof r);
+    el_error err;
+    el_error_clear(&err);
+    assert_int_equal(el_assess_run(&opt, &r, &err), EL_OK);
+    assert_true(r.lags_were_auto && r.lags_for_one_channel);
+    assert_true(r.model.lags >= 1);
+    const double f[2] = {f1, f2}, z[2] = {z1, z2};
+    for (size_t i = 0; i < 2; i++) {
+        int found = 0;
+        for (size_t m = 0; m < r.modes.n_modes; m++) {
+            const el_mode *md = &r.modes.modes[m];
+            found |= fabs(md->frequency_hz - f[i]) <= 0.005 * f[i] &&
+                     fabs(md->damping_ratio - z[i]) <= 0.005;
+        }
+        assert_true(found);
+    }
+    el_assessment_free(&r);
+    opt.lags_fixed = 1;     /* --lags 0 */
+    memset(&r, 0, sizeof r);
+    assert_int_equal(el_assess_run(&opt, &r, &err), EL_OK);
+    assert_false(r.lags_were_auto);
+    assert_int_equal(r.model.lags, 0);
+    assert_int_equal(r.modes.n_modes, 1);
+    el_assessment_free(&r);
+    unlink(path);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -733,6 +814,7 @@ int main(void)
         cmocka_unit_test(test_json_has_no_nan),
         cmocka_unit_test(test_auto_never_calls_growth_stable),
         cmocka_unit_test(test_auto_policy),
+        cmocka_unit_test(test_one_channel_gets_lags),
         cmocka_unit_test(test_six_sensor_example_defaults),
         cmocka_unit_test(test_near_marginal_short_log_is_ambiguous),
         cmocka_unit_test(test_plan_reuse_is_bitwise),

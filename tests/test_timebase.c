@@ -12,6 +12,7 @@
  *   method independent of the selection algorithm in el_timebase.c. */
 #include "el_test.h"
 
+#include <float.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -990,6 +991,120 @@ static void test_survey_agrees_with_build(void **state)
     free_table(&t);
 }
 
+/* A table sampled every num / den stamp units exactly (1 ms units and
+ * 10 / 3: 300 Hz) whose stamps were written in whole units, rounded or cut
+ * off (truncate), as a logger at 300 Hz that stamps whole milliseconds
+ * writes 0, 3, 7, 10, 13, 17 ms; integer arithmetic, so the stamps are
+ * exactly what such a logger writes. a,b hold lines in the true sample
+ * times. skip (if < n) is a row left out. */
+static el_table stamped_table(size_t n, double t0, long num, long den, double unit_s,
+                              int truncate, size_t skip)
+{
+    el_table t = make_table(n);
+    size_t r = 0;
+    for (long k = 0; r < n; k++) {
+        if ((size_t)k == skip)
+            continue;
+        long units = truncate ? (k * num) / den : (2 * k * num + den) / (2 * den);
+        double tk = t0 + (double)k * (double)num / (double)den * unit_s;
+        *cell(&t, r, COL_TIME) = t0 + (double)units * unit_s;
+        *cell(&t, r, COL_A) = line_a(tk);
+        *cell(&t, r, COL_B) = line_b(tk);
+        r++;
+    }
+    return t;
+}
+
+/* Stamps rounded (or cut) to a coarse resolution: the rows are the
+ * uniform grid they were sampled on, read through the rounding, not a
+ * jittered log to resample (resampling 300 Hz data onto the 3 ms median
+ * step distorts it periodically). Checked against the true interval,
+ * 1/300 s: the least-squares slope of N stamps with rounding errors of
+ * sd q / sqrt(12) has sd q sqrt(12 / N^3) / sqrt(12) (the slope's
+ * variance, any regression text, e.g. Draper & Smith, "Applied Regression
+ * Analysis", section 1.4, section number recalled from memory): 5e-9 s
+ * at N = 3,000, q = 1 ms, i.e. 1.6e-6 of dt; the tolerance 2e-5 is over
+ * ten of those. The values pass through untouched (bit for bit). */
+static void test_rounded_stamps_read_as_grid(void **state)
+{
+    (void)state;
+    size_t ch[2] = {COL_A, COL_B}, n = 3000;
+    const double dt = 1.0 / 300.0;
+    for (int truncate = 0; truncate <= 1; truncate++) {
+        for (int epoch = 0; epoch <= 1; epoch++) {
+            /* epoch: Unix seconds of 2026, where a millisecond is the 13th digit */
+            double t0 = epoch ? 1.7912e9 : 0.0;
+            el_table t = stamped_table(n, t0, 10, 3, 1e-3, truncate, n);
+            el_series s;
+            el_warnings w = {0};
+            el_error err;
+            assert_int_equal(el_series_build(&t, ch, 2, NULL, &s, &w, &err), EL_OK);
+            assert_false(s.resampled);
+            assert_int_equal(s.n_samples, n);
+            assert_close(s.dt, dt, 2e-5, 0.0);
+            /* A stamp near 1.8e9 s is a double within half an ulp (1.2e-7
+             * s) of its decimal: a step, and so q, within two of those. */
+            assert_close(s.stamp_step, 1e-3, 1e-9, 4.0 * DBL_EPSILON * (t0 + 10.0));
+            assert_true(s.jitter <= 0.5 * 1e-3 / dt + 1e-6);
+            for (size_t k = 0; k < n; k++)
+                assert_true(s.values[k] == *cell(&t, k, COL_A));
+            assert_int_equal(w.count, 1);
+            assert_contains(w.items[0], "the time stamps are written to 0.001 s");
+            assert_contains(w.items[0], "(300 Hz), not resampled");
+            el_time_survey v;
+            assert_int_equal(el_timebase_survey(&t, NULL, &v, &err), EL_OK);
+            assert_false(v.resample);
+            assert_close(v.dt_grid, s.dt, 1e-12, 0.0);
+            assert_close(v.stamp_step, s.stamp_step, 0.0, 0.0);
+            el_series_free(&s);
+            el_warnings_free(&w);
+            free_table(&t);
+        }
+    }
+    /* A row missing from such a log: still the grid, the sample filled. */
+    el_table t = stamped_table(n, 0.0, 10, 3, 1e-3, 0, 1234);
+    el_series s;
+    el_error err;
+    assert_int_equal(el_series_build(&t, ch, 1, NULL, &s, NULL, &err), EL_OK);
+    assert_false(s.resampled);
+    assert_int_equal(s.n_samples, n + 1);
+    assert_int_equal(s.filled_cells, 1);
+    assert_close(s.dt, dt, 2e-5, 0.0);
+    el_series_free(&s);
+    free_table(&t);
+}
+
+/* What rounding cannot explain is still resampled: steps of 3 and 4 ms in
+ * a random order (a logger whose interval wanders: the phase walks away
+ * from any uniform grid by far more than a millisecond), and continuous
+ * jitter of 3 % (no resolution to read through). */
+static void test_irregular_stamps_still_resampled(void **state)
+{
+    (void)state;
+    size_t ch = COL_A, n = 3000;
+    el_table t = make_table(n);
+    uint64_t seed = 99;
+    double tr = 0.0;
+    for (size_t r = 0; r < n; r++) {
+        *cell(&t, r, COL_TIME) = tr * 1e-3;
+        *cell(&t, r, COL_A) = line_a(tr * 1e-3);
+        tr += random_signed(&seed) < 0.333 ? 3.0 : 4.0;
+    }
+    el_series s;
+    el_error err;
+    assert_int_equal(el_series_build(&t, &ch, 1, NULL, &s, NULL, &err), EL_OK);
+    assert_true(s.resampled);
+    assert_true(s.stamp_step == 0.0);
+    el_series_free(&s);
+    free_table(&t);
+    t = jittered_table(3000, 0.0, 1.0, 0.03, 7);
+    assert_int_equal(el_series_build(&t, &ch, 1, NULL, &s, NULL, &err), EL_OK);
+    assert_true(s.resampled);
+    assert_true(s.stamp_step == 0.0);
+    el_series_free(&s);
+    free_table(&t);
+}
+
 /* Files read as one log: an error at a row names the row's own file. */
 static void test_error_names_the_rows_file(void **state)
 {
@@ -1079,6 +1194,8 @@ int main(void)
         cmocka_unit_test(test_iso_times_in_messages),
         cmocka_unit_test(test_large_log),
         cmocka_unit_test(test_survey_agrees_with_build),
+        cmocka_unit_test(test_rounded_stamps_read_as_grid),
+        cmocka_unit_test(test_irregular_stamps_still_resampled),
         cmocka_unit_test(test_survey_step_from_scan),
         cmocka_unit_test(test_error_names_the_rows_file),
     };
