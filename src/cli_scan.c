@@ -48,9 +48,9 @@ static void print_time(FILE *o, const el_table *t, const el_scan *s, const el_ti
            el_table_format_time(t, s->time_first, a, sizeof a),
            el_table_format_time(t, s->time_last, b, sizeof b),
            in_log_unit(t, s->time_last - s->time_first, c, sizeof c));
-    fprintf(o, "  interval     %s (median step; min %s, max %s)\n",
-           in_log_unit(t, s->dt_median, a, sizeof a), in_log_unit(t, s->dt_min, b, sizeof b),
-           in_log_unit(t, s->dt_max, c, sizeof c));
+    fprintf(o, "  interval     %s (%s step; min %s, max %s)\n",
+           in_log_unit(t, s->dt_median, a, sizeof a), s->dt_is_mean ? "mean" : "median",
+           in_log_unit(t, s->dt_min, b, sizeof b), in_log_unit(t, s->dt_max, c, sizeof c));
     double dt_rate = rate_interval(s, v);
     fprintf(o, "  sample rate  %.6g Hz", 1.0 / dt_rate);
     if (!t->time_is_iso && strcmp(t->time_unit, "s") != 0)
@@ -74,10 +74,16 @@ static void print_order(FILE *o, const el_table *t, const el_scan *s, const el_t
     }
     if (v->stamp_step > 0.0) {
         char a[64], b[64];
-        fprintf(o, "  stamps       written to %s: the steps vary by that rounding alone; assess "
-               "reads the rows as a uniform grid of %s (%.6g Hz), not resampled\n",
-               in_log_unit(t, v->stamp_step, a, sizeof a), in_log_unit(t, v->dt_grid, b, sizeof b),
-               1.0 / v->dt_grid);
+        if (v->repeated_steps > 0)
+            fprintf(o, "  stamps       written to %s, coarser than the sampling: assess reads "
+                   "each row as the next sample of a uniform grid of %s (%.6g Hz)\n",
+                   in_log_unit(t, v->stamp_step, a, sizeof a),
+                   in_log_unit(t, v->dt_grid, b, sizeof b), 1.0 / v->dt_grid);
+        else
+            fprintf(o, "  stamps       written to %s: the steps vary by that rounding alone; "
+                   "assess reads the rows as a uniform grid of %s (%.6g Hz), not resampled\n",
+                   in_log_unit(t, v->stamp_step, a, sizeof a),
+                   in_log_unit(t, v->dt_grid, b, sizeof b), 1.0 / v->dt_grid);
         fprintf(o, "  jitter       %.3g%% of the interval (largest deviation from that grid)\n",
                100.0 * v->jitter);
     } else {

@@ -570,6 +570,13 @@ el_status el_scan_table(const el_table *table, el_scan *scan, el_error *err)
     size_t m = n - 1;
     double dt_step;
     double median = median_select(steps, m, &dt_step);
+    /* Stamps coarser than the sampling (10 Hz stamped in whole seconds):
+     * most steps are 0; the mean step stands for the interval, and
+     * el_timebase_survey says whether assess reads the rows as a grid. */
+    if (median == 0.0 && scan->backward_steps == 0 && t[n - 1] > t[0]) {
+        median = dt_step = (t[n - 1] - t[0]) / (double)m;
+        scan->dt_is_mean = 1;
+    }
     if (!(median > 0.0)) {
         free(steps);
         free(cols);

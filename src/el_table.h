@@ -105,7 +105,11 @@ typedef struct {
 typedef struct {
     size_t n_rows;
     double time_first, time_last;   /* seconds (table time) */
-    double dt_median;               /* median step between rows, s */
+    double dt_median;               /* median step between rows, s; when more than half
+                                       the steps repeat a time (stamps coarser than the
+                                       sampling) and none goes back: the mean step, and
+                                       dt_is_mean is 1 */
+    int dt_is_mean;
     double dt_step;                 /* the same median as el_series_build computes it
                                        (an even count: lower + (upper - lower) / 2, which
                                        may differ from dt_median in the last bit): for

@@ -25,6 +25,13 @@ typedef struct {
     double jitter;
     double stamp_step;        /* > 0: the stamps' resolution, when rounding alone
                                  made the steps vary (find_rounded_grid) */
+    size_t repeated_rows;     /* rows whose stamp repeats the one before, read as
+                                 the next sample of a grid finer than the stamps
+                                 (find_repeated_grid); fill_on_grid then gives
+                                 every row one interval */
+    el_error order_error;     /* the whole table's "time repeats" error, which
+                                 stands unless the window is such a grid */
+    int repeats;              /* 1: order_error is set (repeats, nothing back) */
     /* Filled in by the channel passes, for the summary warning. */
     size_t filled;
     size_t channels_filled;
@@ -483,6 +490,92 @@ static void find_rounded_grid(const double *time, size_t first, size_t last, dou
     g->jitter = 0.5 * (hi - lo) / dt;
 }
 
+/* Rows that share a stamp: a logger sampling faster than its stamps'
+ * resolution (2 kHz stamped in whole ms writes most stamps twice, 10 Hz
+ * stamped in whole seconds each second ten times). Every row is then one
+ * sample; q is the smallest positive step, dt the least-squares slope of
+ * the stamps against the row number, and the rows are such a grid when
+ * every stamp lies within a band of width q about that line (rounding or
+ * cutting off the times of a uniform grid to q gives that band; a logger
+ * whose rate wanders, or a row that really is written twice, does not).
+ * The stamps must be at least 1.5 intervals coarse (a third of the rows
+ * or more repeat a stamp): a log sampled about as often as it stamps,
+ * with a row written twice, would otherwise pass as a grid a little
+ * finer than its stamps. No missing rows can be told in such a log: each
+ * row counts one. */
+static void find_repeated_grid(const double *time, size_t first, size_t last,
+                               rounded_grid *g)
+{
+    memset(g, 0, sizeof *g);
+    if (last < first + 2)
+        return;
+    double q = INFINITY;
+    for (size_t r = first + 1; r <= last; r++) {
+        double d = time[r] - time[r - 1];
+        if (d < 0.0)
+            return;
+        if (d > 0.0 && d < q)
+            q = d;
+    }
+    double n = (double)(last - first + 1), k_mean = 0.5 * (n - 1.0), t_mean = 0.0;
+    for (size_t r = first; r <= last; r++)
+        t_mean += time[r] - time[first];
+    t_mean /= n;
+    double sxy = 0.0, sxx = 0.0;
+    for (size_t r = first; r <= last; r++) {
+        double k = (double)(r - first) - k_mean;
+        sxy += k * (time[r] - time[first] - t_mean);
+        sxx += k * k;
+    }
+    double dt = sxy / sxx;
+    if (!isfinite(q) || !(dt > 0.0) || !(1.5 * dt <= q))
+        return;
+    double tiny = 1e-9 * dt + 8.0 * DBL_EPSILON * fmax(fabs(time[first]), fabs(time[last]));
+    double lo = INFINITY, hi = -INFINITY;
+    for (size_t r = first; r <= last; r++) {
+        double dev = time[r] - time[first] - t_mean - ((double)(r - first) - k_mean) * dt;
+        lo = fmin(lo, dev);
+        hi = fmax(hi, dev);
+    }
+    if (!(hi - lo <= q + tiny))
+        return;
+    g->found = 1;
+    g->dt = dt;
+    g->stamp_step = q;
+    g->intervals = n - 1.0;
+    g->jitter = 0.5 * (hi - lo) / dt;
+}
+
+/* The window holds repeated stamps: the grid of find_repeated_grid, or
+ * the whole table's "time repeats" error. */
+static el_status plan_repeated_grid(timebase_plan *plan, el_error *err)
+{
+    rounded_grid g;
+    find_repeated_grid(plan->time, plan->first, plan->last, &g);
+    if (!g.found) {
+        if (err != NULL)
+            *err = plan->order_error;
+        return plan->order_error.status;
+    }
+    for (size_t r = plan->first + 1; r <= plan->last; r++)
+        plan->repeated_rows += plan->time[r] == plan->time[r - 1];
+    plan->t0 = plan->time[plan->first];
+    plan->dt = plan->dt_step = g.dt;
+    plan->stamp_step = g.stamp_step;
+    plan->jitter = g.jitter;
+    plan->resample = 0;
+    plan->n_samples = plan->last - plan->first + 1;
+    return EL_OK;
+}
+
+static int window_repeats(const timebase_plan *plan)
+{
+    for (size_t r = plan->first + 1; r <= plan->last; r++)
+        if (plan->time[r] == plan->time[r - 1])
+            return 1;
+    return 0;
+}
+
 /* Decides dt, grid or resampling, the number of samples and the jitter.
  * steps is scratch for last - first doubles. */
 static el_status plan_grid(timebase_plan *plan, double jitter_limit, double *steps,
@@ -490,6 +583,8 @@ static el_status plan_grid(timebase_plan *plan, double jitter_limit, double *ste
 {
     const double *time = plan->time;
     size_t n_steps = plan->last - plan->first;
+    if (plan->repeats && window_repeats(plan))
+        return plan_repeated_grid(plan, err);
     for (size_t i = 0; i < n_steps; i++)
         steps[i] = time[plan->first + i + 1] - time[plan->first + i];
     double dt = median(steps, n_steps);
@@ -633,7 +728,8 @@ static el_status fill_on_grid(timebase_plan *plan, size_t col, double *out,
     int have_prev = 0;
     for (size_t r = plan->first; r <= plan->last; r++) {
         if (r > plan->first)
-            g += (size_t)intervals_of(time[r] - time[r - 1], plan->dt_step);
+            g += plan->repeated_rows > 0 ? 1 : (size_t)intervals_of(time[r] - time[r - 1],
+                                                                    plan->dt_step);
         if (isnan(x[r]))
             continue;
         if (!have_prev && g > 0)
@@ -751,12 +847,22 @@ static el_status add_warnings(const timebase_plan *plan, double jitter_limit,
         const el_table *t = plan->table;
         const char *u = t->time_is_iso || t->time_unit[0] == '\0' ? "s" : t->time_unit;
         double scale = t->time_is_iso ? 1.0 : el_table_time_unit_s(t);
-        st = el_warnings_add(warnings,
-                             "the time stamps are written to %.3g %s, so the steps vary by "
-                             "that rounding alone: the rows are read as a uniform grid of "
-                             "dt = %.9g %s (%.6g Hz), not resampled",
-                             plan->stamp_step / scale, u, plan->dt / scale, u,
-                             1.0 / plan->dt);
+        if (plan->repeated_rows > 0)
+            st = el_warnings_add(warnings,
+                                 "the time stamps are written to %.3g %s, coarser than the "
+                                 "sampling (%zu rows repeat the stamp of the row before): "
+                                 "each row is read as the next sample of a uniform grid of "
+                                 "dt = %.9g %s (%.6g Hz); a missing row cannot be told in "
+                                 "such a log",
+                                 plan->stamp_step / scale, u, plan->repeated_rows,
+                                 plan->dt / scale, u, 1.0 / plan->dt);
+        else
+            st = el_warnings_add(warnings,
+                                 "the time stamps are written to %.3g %s, so the steps vary "
+                                 "by that rounding alone: the rows are read as a uniform grid "
+                                 "of dt = %.9g %s (%.6g Hz), not resampled",
+                                 plan->stamp_step / scale, u, plan->dt / scale, u,
+                                 1.0 / plan->dt);
     }
     if (st == EL_OK && plan->filled > 0)
         st = el_warnings_add(warnings,
@@ -779,15 +885,25 @@ static el_status build(const el_table *table, const size_t *channels, size_t n_c
                        el_warnings *warnings, el_error *err)
 {
     el_status st = check_arguments(table, channels, n_channels, opt, err);
-    size_t backward, repeated;
+    size_t backward = 0, repeated = 0;
+    el_error order;
+    el_error_clear(&order);
     if (st == EL_OK)
-        st = check_time_order(table, &backward, &repeated, err);
-    if (st != EL_OK)
+        st = check_time_order(table, &backward, &repeated, &order);
+    /* Repeated stamps alone may be a grid finer than the stamps
+     * (find_repeated_grid): decided on the window's rows. */
+    int repeats = st == EL_ERR_DATA && backward == 0 && repeated > 0;
+    if (st != EL_OK && !repeats) {
+        if (err != NULL && order.status != EL_OK)
+            *err = order;
         return st;
+    }
     timebase_plan plan = {
         .table = table,
         .time = table->values != NULL ? table->values + table->time_column * table->n_rows : NULL,
         .max_gap = opt->max_gap,
+        .order_error = order,
+        .repeats = repeats,
     };
     st = select_window(table, opt, &plan, err);
     if (st != EL_OK)
@@ -864,6 +980,19 @@ el_status el_timebase_survey_step(const el_table *table, const el_timebase_optio
     el_error order;
     el_error_clear(&order);
     el_status st = check_time_order(table, &out->backward_steps, &out->repeated_steps, &order);
+    if (st != EL_OK && st == EL_ERR_DATA && out->backward_steps == 0 &&
+        out->repeated_steps > 0 && table->n_rows >= 3) {
+        rounded_grid g;
+        find_repeated_grid(table->values + table->time_column * table->n_rows, 0,
+                           table->n_rows - 1, &g);
+        if (g.found) {
+            out->usable = 1;
+            out->dt_step = out->dt_grid = g.dt;
+            out->stamp_step = g.stamp_step;
+            out->jitter = g.jitter;
+            return EL_OK;
+        }
+    }
     if (st != EL_OK) {
         out->refusal = order;
         return EL_OK;

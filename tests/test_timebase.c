@@ -1105,6 +1105,57 @@ static void test_irregular_stamps_still_resampled(void **state)
     free_table(&t);
 }
 
+/* Stamps coarser than the sampling: 2 kHz stamped in whole ms (each stamp
+ * twice) and 10 Hz stamped in whole seconds (each ten times). Every row is
+ * the next sample of a uniform grid; the interval is the least-squares
+ * slope of the stair of stamps against the row number, which for a stair
+ * of S whole steps is the true interval times about 1 - 1/S^2 (a line
+ * fitted to a sampled staircase; closed form of the regression of floor(k/
+ * r) on k), so 1e-3 relative holds for 60 stairs and more. A row written
+ * twice in a log stamped as often as it samples is refused as before. */
+static void test_repeated_stamps_read_as_grid(void **state)
+{
+    (void)state;
+    size_t ch = COL_A;
+    const long per_stamp[2] = {2, 10};
+    const size_t rows[2] = {4000, 600};
+    for (size_t c = 0; c < 2; c++) {
+        el_table t = stamped_table(rows[c], 0.0, 1, per_stamp[c], 1.0, 1, rows[c]);
+        el_series s;
+        el_warnings w = {0};
+        el_error err;
+        assert_int_equal(el_series_build(&t, &ch, 1, NULL, &s, &w, &err), EL_OK);
+        assert_false(s.resampled);
+        assert_int_equal(s.n_samples, rows[c]);
+        assert_close(s.dt, 1.0 / (double)per_stamp[c], 1e-3, 0.0);
+        assert_close(s.stamp_step, 1.0, 1e-12, 0.0);
+        for (size_t k = 0; k < rows[c]; k++)
+            assert_true(s.values[k] == *cell(&t, k, COL_A));
+        assert_int_equal(w.count, 1);
+        assert_contains(w.items[0], "coarser than the sampling");
+        el_time_survey v;
+        assert_int_equal(el_timebase_survey(&t, NULL, &v, &err), EL_OK);
+        assert_true(v.usable);
+        assert_false(v.resample);
+        assert_close(v.dt_grid, s.dt, 1e-12, 0.0);
+        el_series_free(&s);
+        el_warnings_free(&w);
+        free_table(&t);
+    }
+    el_table t = uniform_table(50, 0.0, 1.0);
+    *cell(&t, 21, COL_TIME) = time_of(&t, 20);    /* row 21 repeats row 20's time */
+    for (size_t r = 22; r < 50; r++)
+        *cell(&t, r, COL_TIME) -= 1.0;
+    el_series s;
+    el_error err;
+    assert_int_equal(el_series_build(&t, &ch, 1, NULL, &s, NULL, &err), EL_ERR_DATA);
+    assert_contains(err.message, "time repeats");
+    el_time_survey v;
+    assert_int_equal(el_timebase_survey(&t, NULL, &v, &err), EL_OK);
+    assert_false(v.usable);
+    free_table(&t);
+}
+
 /* Files read as one log: an error at a row names the row's own file. */
 static void test_error_names_the_rows_file(void **state)
 {
@@ -1196,6 +1247,7 @@ int main(void)
         cmocka_unit_test(test_survey_agrees_with_build),
         cmocka_unit_test(test_rounded_stamps_read_as_grid),
         cmocka_unit_test(test_irregular_stamps_still_resampled),
+        cmocka_unit_test(test_repeated_stamps_read_as_grid),
         cmocka_unit_test(test_survey_step_from_scan),
         cmocka_unit_test(test_error_names_the_rows_file),
     };
