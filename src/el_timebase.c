@@ -501,8 +501,10 @@ static void find_rounded_grid(const double *time, size_t first, size_t last, dou
  * The stamps must be at least 1.5 intervals coarse (a third of the rows
  * or more repeat a stamp): a log sampled about as often as it stamps,
  * with a row written twice, would otherwise pass as a grid a little
- * finer than its stamps. No missing rows can be told in such a log: each
- * row counts one. */
+ * finer than its stamps; and it takes at least EL_TIMEBASE_MIN_STAMPS
+ * distinct stamps for the band to mean anything. No missing rows can be
+ * told in such a log: each row counts one. */
+#define EL_TIMEBASE_MIN_STAMPS 8
 static void find_repeated_grid(const double *time, size_t first, size_t last,
                                rounded_grid *g)
 {
@@ -510,13 +512,17 @@ static void find_repeated_grid(const double *time, size_t first, size_t last,
     if (last < first + 2)
         return;
     double q = INFINITY;
+    size_t stamps = 1;
     for (size_t r = first + 1; r <= last; r++) {
         double d = time[r] - time[r - 1];
         if (d < 0.0)
             return;
         if (d > 0.0 && d < q)
             q = d;
+        stamps += d > 0.0;
     }
+    if (stamps < EL_TIMEBASE_MIN_STAMPS)
+        return;
     double n = (double)(last - first + 1), k_mean = 0.5 * (n - 1.0), t_mean = 0.0;
     for (size_t r = first; r <= last; r++)
         t_mean += time[r] - time[first];

@@ -601,11 +601,20 @@ static void test_scan_errors(void **state)
     assert_true(strlen(e.hint) > 0);
     assert_null(s.columns);
     el_table_free(&t);
-    /* Steps 0, 0, 1: median 0, the time does not increase. */
-    assert_int_equal(read_text("t,x\n0,1\n0,1\n0,1\n1,1\n", &t, &e), EL_OK);
+    /* Steps 0, 0, -1: median 0, the time does not increase. */
+    assert_int_equal(read_text("t,x\n1,1\n1,1\n1,1\n0,1\n", &t, &e), EL_OK);
     assert_int_equal(el_scan_table(&t, &s, &e), EL_ERR_DATA);
     assert_int_equal(e.line, 3);
     assert_true(strlen(e.hint) > 0);
+    el_table_free(&t);
+    /* Steps 0, 0, 1: repeats only (stamps coarser than the sampling may
+     * cause them): the mean step stands for the interval, and the survey
+     * (el_timebase_survey) decides whether assess takes the rows. */
+    assert_int_equal(read_text("t,x\n0,1\n0,1\n0,1\n1,1\n", &t, &e), EL_OK);
+    assert_int_equal(el_scan_table(&t, &s, &e), EL_OK);
+    assert_true(s.dt_is_mean);
+    assert_close(s.dt_median, 1.0 / 3.0, 1e-15, 0.0);
+    el_scan_free(&s);
     el_table_free(&t);
     /* One step back among increasing ones is counted, not refused. */
     assert_int_equal(read_text("t,x\n0,1\n1,1\n0.5,1\n2,1\n3,1\n", &t, &e), EL_OK);
