@@ -819,7 +819,9 @@ static el_status parse_time_cell(ingest *g, const record *r, const span *f, doub
         return time_error(g, r, f, s, n,
                           rc == EL_NUM_RANGE ? "out of range" : "neither a number nor a date-time",
                           "write the time as a number (e.g. seconds) or as an ISO 8601 "
-                          "date-time like 2026-03-14T08:00:00.250+01:00");
+                          "date-time like 2026-03-14T08:00:00.250+01:00; a row of units "
+                          "under the header is not read: remove it and write each unit "
+                          "in the header, as \"t [s]\" or \"p [bar]\"");
     }
     el_iso_time it;
     const char *why = iso ? el_iso_parse(s, n, &it) : NULL;
