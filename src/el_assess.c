@@ -629,53 +629,12 @@ const char *el_nonstat_name(el_nonstat_kind kind)
     return (unsigned)kind < sizeof names / sizeof names[0] ? names[kind] : "unknown";
 }
 
-/* Half h (0: first, 1: second) of s, floor(N / 2) samples, copied into buf
- * (column-major like s); names, units and columns are borrowed from s, so
- * *half must never go through el_series_free. */
-static void half_series(const el_series *s, size_t h, double *buf, el_series *half)
-{
-    size_t m = s->n_samples / 2, off = h == 0 ? 0 : s->n_samples - m;
-    for (size_t c = 0; c < s->n_channels; c++)
-        memcpy(buf + c * m, s->values + c * s->n_samples + off, m * sizeof *buf);
-    memset(half, 0, sizeof *half);
-    half->n_samples = m;
-    half->n_channels = s->n_channels;
-    half->dt = s->dt;
-    half->t0 = s->t0 + (double)off * s->dt;
-    half->values = buf;
-    half->names = s->names;
-    half->units = s->units;
-    half->source_column = s->source_column;
-    half->rows_used = m;
-}
-
-/* Standard deviation over the replicates of mode 0's decay rate and
- * frequency (matched to the half's point modes by the bootstrap). */
-static void replicate_spread(const el_boot_result *b, double *sd_decay, double *sd_freq)
-{
-    double n = (double)b->replicates, md = 0.0, mf = 0.0, vd = 0.0, vf = 0.0;
-    for (size_t k = 0; k < b->replicates; k++) {
-        md += -b->lambda_re[k * b->n_modes];
-        mf += fabs(b->lambda_im[k * b->n_modes]) / (2.0 * M_PI);
-    }
-    md /= n;
-    mf /= n;
-    for (size_t k = 0; k < b->replicates; k++) {
-        double d = -b->lambda_re[k * b->n_modes] - md;
-        double f = fabs(b->lambda_im[k * b->n_modes]) / (2.0 * M_PI) - mf;
-        vd += d * d;
-        vf += f * f;
-    }
-    *sd_decay = sqrt(vd / (n - 1.0));
-    *sd_freq = sqrt(vf / (n - 1.0));
-}
-
 /* Fits and bootstraps one half; EL_OK with sc->not_tested set when the
  * half cannot be fitted (too short for the model): the check is then not
  * made. Only memory and internal errors stop the assessment. */
 static el_status fit_half(el_assess_plan *ap, const el_assess_options *opt,
                           el_fit_options *fit, const el_series *half, size_t h,
-                          el_split_check *sc, el_error *err)
+                          const double ref[2], el_split_check *sc, el_error *err)
 {
     el_model model = {0};
     el_modes modes = {0};
@@ -697,12 +656,8 @@ static el_status fit_half(el_assess_plan *ap, const el_assess_options *opt,
     if (st == EL_OK && (boot.replicates < 2 || boot.lambda_re == NULL))
         snprintf(sc->not_tested, sizeof sc->not_tested,
                  "the bootstrap of half %zu gave no replicates", h + 1);
-    else if (st == EL_OK) {
-        const el_mode *m = &modes.modes[0];
-        sc->decay_rate[h] = m->decay_rate;
-        sc->frequency_hz[h] = m->pair && !m->at_nyquist ? m->frequency_hz : 0.0;
-        replicate_spread(&boot, &sc->decay_sd[h], &sc->frequency_sd[h]);
-    }
+    else if (st == EL_OK)
+        el_split_take_mode(sc, h, &modes, el_split_mode(&modes, ref), &boot);
     el_model_free(&model);
     el_modes_free(&modes);
     el_boot_free(&boot);
@@ -728,15 +683,26 @@ static el_status fit_halves(el_assess_plan *ap, const el_assess_options *opt,
     el_status st = EL_OK;
     for (size_t h = 0; h < 2 && st == EL_OK && sc->not_tested[0] == '\0'; h++) {
         el_series half, half_inputs;
-        half_series(s, h, ap->half_values, &half);
+        el_split_half_series(s, h, ap->half_values, &half);
         fit->inputs = NULL;
         if (nu > 0) {
-            half_series(&r->inputs, h, ap->half_values + m * s->n_channels, &half_inputs);
+            el_split_half_series(&r->inputs, h, ap->half_values + m * s->n_channels, &half_inputs);
             fit->inputs = &half_inputs;
         }
         sc->half_t[h][0] = half.t0;
         sc->half_t[h][1] = half.t0 + (double)(m - 1) * s->dt;
-        st = fit_half(ap, opt, fit, &half, h, sc, err);
+        /* The mode compared: the window's least damped when the window
+         * is fitted already, else (hankel, whose halves decide the
+         * window's estimator) the first half's least damped. */
+        double ref[2] = {NAN, NAN};
+        if (r->modes.n_modes > 0) {
+            ref[0] = r->modes.modes[0].lambda_re;
+            ref[1] = fabs(r->modes.modes[0].lambda_im);
+        } else if (h == 1) {
+            ref[0] = sc->lambda_half[0][0];
+            ref[1] = fabs(sc->lambda_half[0][1]);
+        }
+        st = fit_half(ap, opt, fit, &half, h, ref, sc, err);
     }
     return st;
 }
@@ -776,6 +742,7 @@ static el_status split_halves(el_assess_plan *ap, const el_assess_options *opt,
                  "no bootstrap, whose spread the check needs");
         return EL_OK;
     }
+    el_status st = EL_OK;
     size_t need = m * (s->n_channels + nu);
     if (ap->half_capacity < need) {
         free(ap->half_values);
@@ -785,12 +752,17 @@ static el_status split_halves(el_assess_plan *ap, const el_assess_options *opt,
             return el_error_set(err, EL_ERR_NOMEM, "out of memory");
         ap->half_capacity = need;
     }
+    if (nu == 0) {
+        st = el_split_white_half(s, ap->half_values, sc, err);
+        if (st != EL_OK || sc->not_tested[0] != '\0')
+            return st;
+    }
     el_fit_options fit = *window_fit;
     if (fit.method != EL_METHOD_HANKEL) {
         fit.rank = (long)r->model.rank;   /* the same modes in both halves */
         fit.lags = r->model.lags;
     }
-    el_status st = fit_halves(ap, opt, &fit, r, m, nu, err);
+    st = fit_halves(ap, opt, &fit, r, m, nu, err);
     if (st == EL_OK && sc->not_tested[0] != '\0' && fit.method == EL_METHOD_HANKEL) {
         /* A half of a drifting log may hold no mode that persists across
          * model orders, and the check needs both halves: both are then
@@ -805,12 +777,7 @@ static el_status split_halves(el_assess_plan *ap, const el_assess_options *opt,
     }
     if (st != EL_OK || sc->not_tested[0] != '\0')
         return st;
-    sc->tested = 1;    double sd = hypot(sc->decay_sd[0], sc->decay_sd[1]);
-    double sf = hypot(sc->frequency_sd[0], sc->frequency_sd[1]);
-    sc->z_decay = sd > 0.0 ? (sc->decay_rate[1] - sc->decay_rate[0]) / sd : 0.0;
-    sc->z_frequency = sf > 0.0 ? (sc->frequency_hz[1] - sc->frequency_hz[0]) / sf : 0.0;
-    sc->drift = fabs(sc->z_decay) >= EL_ASSESS_SPLIT_Z ||
-                fabs(sc->z_frequency) >= EL_ASSESS_SPLIT_Z;
+    el_split_decide(sc);
     return EL_OK;
 }
 
@@ -823,6 +790,30 @@ static const char *when(const el_table *t, double time, char *buf, size_t size)
     snprintf(buf, size, "%.40s%s%.15s", num, t->time_is_iso ? "" : " ",
              t->time_is_iso ? "" : t->time_unit[0] ? t->time_unit : "s");
     return buf;
+}
+
+/* A free decay towards the operating point reads as a level step or line
+ * in the block means (sink-decay in docs/accuracy.md: the fast mode's
+ * first seconds "step" the level of y1). The model's own free run from
+ * the first state is the other explanation: when the model's slowest
+ * mode settles inside the window (EL_ASSESS_SETTLE_TIME_CONSTANTS of it
+ * span the window) and the free run leaves less of a channel's variance
+ * than the step or line does (el_regime_level_recheck), that channel's
+ * movement is the decay, not a second operating point. A run that
+ * diverged explains nothing (its errors are NaN), nor does a slow mode
+ * that has not settled: a level that is still moving at the window's end
+ * is the moving operating point the check is for, whatever its shape. */
+static void level_by_free_run(el_assessment *r)
+{
+    el_regime *g = r->regime;
+    if (g == NULL || g->level_kind == EL_REGIME_LEVEL_NONE || r->validation == NULL ||
+        r->modes.n_modes == 0)
+        return;
+    const el_series *s = &r->series;
+    double span_s = (double)(s->n_samples - 1) * s->dt;
+    if (!(r->modes.modes[0].decay_rate * span_s >= EL_ASSESS_SETTLE_TIME_CONSTANTS))
+        return;
+    el_regime_level_recheck(g, s, r->validation->free_nrmse);
 }
 
 /* What breaks one operating point, first found of a level shift, a level
@@ -1344,10 +1335,14 @@ el_status el_assess_execute(el_assess_plan *ap, const el_assess_options *opt,
     ap->split_stage = "checking the model";
     if (st == EL_OK && !split_done)
         st = split_check(ap, opt, &fit, r, err);
-    if (st == EL_OK)
-        st = judge_one_point(r, err);
+    /* The validation's free run comes first: the level check weighs it
+     * against the step or line it found (level_by_free_run). */
     if (st == EL_OK)
         st = validate(ap, r, err);
+    if (st == EL_OK)
+        level_by_free_run(r);
+    if (st == EL_OK)
+        st = judge_one_point(r, err);
     if (st == EL_OK)
         refine_bounds_cause(r);
     if (st == EL_OK)

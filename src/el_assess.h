@@ -19,6 +19,7 @@
 #include "el_regime.h"
 #include "el_resample.h"
 #include "el_spectrum.h"
+#include "el_split.h"
 #include "el_timebase.h"
 #include "el_validate.h"
 #include "el_verdict.h"
@@ -66,22 +67,6 @@ typedef struct {
  * fit and bootstrap defaults). */
 void el_assess_defaults(el_assess_options *opt);
 
-/* The split-half check of the one-operating-point assumption
- * (docs/method.md, "Drift inside the window"): the window is cut into two
- * halves of floor(N / 2) samples (the middle sample of an odd N is left
- * out), each half is fitted with the window's estimator, lags and rank and
- * bootstrapped (EL_ASSESS_SPLIT_REPLICATES replicates, the window's block
- * rule and seed), and the least damped modes of the halves are compared:
- * z = (half 2 - half 1) / sqrt(sd1^2 + sd2^2) for the decay rate and the
- * frequency, sd the standard deviation of the half's matched replicates.
- * The dynamics drift when |z| >= EL_ASSESS_SPLIT_Z for either. */
-#define EL_ASSESS_SPLIT_REPLICATES 200
-/* Two two-sided tests at a family-wise 1%: 2.807 is the normal quantile
- * 1 - 0.0025 (Bonferroni); the bootstrap spread of half logs is an
- * estimate, so the threshold is rounded up to 3 (calibration in
- * docs/method.md: the steady demo logs give |z| <= 1.4). */
-#define EL_ASSESS_SPLIT_Z 3.0
-
 /* Bootstrap replicates of a least-squares cross-check (--method auto on
  * stationary data or with inputs) when more are asked: it only tests
  * whether P(stable) < 1/2, whose Monte Carlo standard error at 1/2 is
@@ -97,20 +82,14 @@ void el_assess_defaults(el_assess_options *opt);
  * decay is usually resolved, docs/method.md "Verdict words"). */
 #define EL_ASSESS_FEW_CYCLES 20.0
 
-typedef struct {
-    int tested;                   /* 1: both halves were fitted and bootstrapped */
-    char not_tested[160];         /* why not, when tested == 0 ("" when tested) */
-    double split_t;               /* table time where the halves meet */
-    double half_t[2][2];          /* [half][start, end] table time */
-    double decay_rate[2];         /* least damped mode of each half, 1/s */
-    double decay_sd[2];           /* its bootstrap standard deviation */
-    double frequency_hz[2];       /* 0 for a real mode */
-    double frequency_sd[2];
-    double z_decay, z_frequency;  /* (half 2 - half 1) / combined sd (NaN: untested) */
-    int drift;                    /* 1: |z| >= EL_ASSESS_SPLIT_Z for either */
-    int halves_by_iv;             /* 1: the window's estimator (hankel) could not fit
-                                     a half, so both were fitted by iv */
-} el_split_check;
+/* Time constants of the model's slowest mode the window must span before
+ * the model's free run may explain a level step or line (docs/method.md,
+ * "A level that moves"): after 3 time constants a first-order decay is
+ * within 5% of its end (the usual settling-time rule, common practice in
+ * control engineering), so the window holds the operating point the decay
+ * reaches; a slower mode is a level still on its way. */
+#define EL_ASSESS_SETTLE_TIME_CONSTANTS 3.0
+
 
 /* What breaks the one-operating-point assumption (JSON
  * input.nonstationarity): the first found of drift (split halves), a level

@@ -653,13 +653,16 @@ static void level_channel(const el_regime *r, const double *x, double t0, double
     }
 }
 
-/* Step 7 over the tested channels: the movement with the largest share. */
-static void level_check(el_regime *r, const el_series *series)
+/* Step 7 over the tested channels: the movement with the largest share,
+ * leaving out a channel whose movement another explanation fits better
+ * (rms_error[c]^2 < 1 - share; rms_error NULL: none). */
+static void level_check(el_regime *r, const el_series *series, const double *rms_error)
 {
     r->level_kind = EL_REGIME_LEVEL_NONE;
     r->level_channel = 0;
     r->level_step_t = r->level_change = r->level_move_z = NAN;
     r->level_share = r->level_fit_r2 = NAN;
+    r->level_explained = 0;
     if (r->segments < MIN_SEGMENTS || r->segments > LEVEL_MAX_SEGMENTS)
         return;
     for (size_t c = 0; c < r->n_channels; c++) {
@@ -667,6 +670,11 @@ static void level_check(el_regime *r, const el_series *series)
             continue;
         level_move mv;
         level_channel(r, series->values + c * r->n_samples, series->t0, series->dt, &mv);
+        if (mv.kind != EL_REGIME_LEVEL_NONE && rms_error != NULL &&
+            rms_error[c] * rms_error[c] < 1.0 - mv.share) {
+            r->level_explained++;
+            continue;
+        }
         if (mv.kind == EL_REGIME_LEVEL_NONE ||
             (r->level_kind != EL_REGIME_LEVEL_NONE && !(mv.share > r->level_share)))
             continue;
@@ -723,6 +731,7 @@ el_status el_regime_run(el_regime *r, const el_series *series,
     r->level_channel = 0;
     r->level_step_t = r->level_change = r->level_move_z = NAN;
     r->level_share = r->level_fit_r2 = NAN;
+    r->level_explained = 0;
     el_status st = EL_OK;
     if (r->segments == 0) {
         st = el_warnings_add(warnings, "the window has %zu samples, too few to tell a "
@@ -737,7 +746,7 @@ el_status el_regime_run(el_regime *r, const el_series *series,
                 set_untested(r, c);
         }
         decide(r, opt);
-        level_check(r, series);
+        level_check(r, series, NULL);
         if (r->regime == EL_REGIME_UNDETERMINED)
             st = el_warnings_add(warnings, "no channel varies over the window: its regime "
                                  "cannot be determined");
@@ -748,6 +757,15 @@ el_status el_regime_run(el_regime *r, const el_series *series,
     if (st != EL_OK)
         return el_error_set(err, st, "out of memory");
     return EL_OK;
+}
+
+void el_regime_level_recheck(el_regime *r, const el_series *series,
+                             const double *rms_error)
+{
+    if (r == NULL || series == NULL || series->values == NULL ||
+        series->n_samples != r->n_samples || series->n_channels != r->n_channels)
+        return;
+    level_check(r, series, rms_error);
 }
 
 int el_regime_growth_veto(const el_regime *r, double *factor, double *p_value,

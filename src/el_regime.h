@@ -224,6 +224,8 @@ typedef struct {
     double level_move_z;        /* the step's or the slope's z against the block noise */
     double level_share;         /* fraction of the channel's variance it explains */
     double level_fit_r2;        /* fraction of the block means' variance it explains */
+    size_t level_explained;     /* channels whose movement another explanation fits
+                                   better (el_regime_level_recheck); 0 after a run */
     struct el_regime_work *work;/* FFT plans and scratch */
 } el_regime;
 
@@ -250,6 +252,22 @@ el_status el_regime_create(size_t n_samples, size_t n_channels, el_regime **out,
 el_status el_regime_run(el_regime *r, const el_series *series,
                         const el_regime_options *opt, el_warnings *warnings,
                         el_error *err);
+
+/* The level check (el_regime_run, step 7) made again on the same series,
+ * with another explanation of each channel beside the step and the line:
+ * rms_error[c] (n_channels entries, NULL: none) is its RMS error in
+ * standard deviations of channel c, so it leaves a fraction rms_error[c]^2
+ * of the variance (NaN: no explanation). A channel whose movement explains
+ * a share s with rms_error[c]^2 < 1 - s is left out (counted in level_explained), and level_kind and the
+ * level_* fields name the largest movement of the channels left (NONE
+ * when none is). For the model's free run: a free decay towards the
+ * operating point looks like a step or a line in the block means, and
+ * the run explains it better than either (docs/method.md, "A level that
+ * moves"). series must be the one of the last run (sizes checked: a
+ * mismatch or NULL argument does nothing). Allocates nothing; can't
+ * fail. */
+void el_regime_level_recheck(el_regime *r, const el_series *series,
+                             const double *rms_error);
 
 /* The model-free veto: returns 1 when the last run found the amplitude
  * envelope growing significantly (r->growth), else 0. factor, p_value and
