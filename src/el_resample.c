@@ -778,7 +778,7 @@ static el_status measure_bias(boot_shared *sh, boot_buffers *bf, el_boot_bias_pl
     }
     if (n_ok < BOOT_BIAS_MIN_JUDGED) {
         /* Too few replicates for a spread of their own: keep the shifts and
-         * judge them against the replicates' spread (small_round_refused). */
+         * judge them against the replicates' spread (judge_small_round). */
         for (size_t q = 0; q < nm; q++)
             bf->pending[q] = med[q] - sh->point->modes[q].lambda_re;
         sh->bias_pending_shift = bf->pending;
@@ -1159,22 +1159,6 @@ static double widen_factor(const boot_shared *sh, size_t k, double blocks_spread
                                 sh->model_count);
 }
 
-/* Location of the replicate distribution (Kilian 1998, the second stage
- * of the bootstrap-after-bootstrap, centred on the bias-corrected
- * estimate). Resampled blocks of consecutive pairs keep part of the
- * dependence that makes least squares drift toward damping, so their
- * replicates are centred at theta_hat + b*, with b* somewhere between 0
- * (single pairs) and the full small-sample bias b (model-based
- * replicates, which regenerate the series); b* grows with the block
- * length (docs/uncertainty.md). The percentile interval needs the
- * replicates centred on theta_hat - b_hat (b_hat from the bias round, 0
- * without it). Kilian draws the second stage from the bias-corrected
- * model to get there; here every mode's replicates (and trace and
- * determinant) are shifted so that their median is that centre, which
- * agrees with it to first order and costs no second set of replicates.
- * The spread and skewness of the replicates are kept as they are. P(stable)
- * follows from the shifted eigenvalues. Medians in replicate order: the
- * same on any thread count. */
 /* The refusal test of measure_bias for a round of fewer than
  * BOOT_BIAS_MIN_JUDGED replicates (a long log's tapered round), whose own
  * quartiles are too noisy to measure a spread: the spread is taken from
@@ -1213,6 +1197,22 @@ static void judge_small_round(boot_shared *sh, double *tmp)
     sh->model_spread = NULL;
 }
 
+/* Location of the replicate distribution (Kilian 1998, the second stage
+ * of the bootstrap-after-bootstrap, centred on the bias-corrected
+ * estimate). Resampled blocks of consecutive pairs keep part of the
+ * dependence that makes least squares drift toward damping, so their
+ * replicates are centred at theta_hat + b*, with b* somewhere between 0
+ * (single pairs) and the full small-sample bias b (model-based
+ * replicates, which regenerate the series); b* grows with the block
+ * length (docs/uncertainty.md). The percentile interval needs the
+ * replicates centred on theta_hat - b_hat (b_hat from the bias round, 0
+ * without it). Kilian draws the second stage from the bias-corrected
+ * model to get there; here every mode's replicates (and trace and
+ * determinant) are shifted so that their median is that centre, which
+ * agrees with it to first order and costs no second set of replicates.
+ * The spread and skewness of the replicates are kept as they are. P(stable)
+ * follows from the shifted eigenvalues. Medians in replicate order: the
+ * same on any thread count. */
 static el_status recentre(boot_shared *sh, el_error *err)
 {
     size_t nm = sh->n_modes, r = sh->r, total = sh->total;
