@@ -5,7 +5,7 @@
  * Usage: calibrate [--quick] [--logs N] [--boot N] [--threads N]
  *                  [--case NAME] [--resample blocks|model] [--block L]
  *                  [--method ls|fb|tls|iv|ssi|hankel|auto] [--length N]
- *                  [--no-bias-correction] [--verbose]
+ *                  [--no-bias-correction] [--verbose] [--misses]
  * --method: the estimator of every log (default ls); auto: the one the
  * default (--method auto) picks for the log. --length: one log length.
  * --choices: only print which estimator auto picks per case and length
@@ -88,6 +88,7 @@ typedef struct {
     el_resample_kind kind;
     const char *only;
     int verbose;
+    int misses;          /* --misses: print every log whose Re bounds miss the truth */
     int bias;
     int method_auto;     /* --method auto: the default's choice (method_for) */
     el_method method;    /* else this estimator */
@@ -378,6 +379,14 @@ static void one_log(const cal_case *c, size_t n_samples, size_t rep, const cal_o
     int truly_stable = tre < 0.0;
     out->confident = br.p_stable >= 0.95 || br.p_stable <= 0.05;
     out->confident_wrong = truly_stable ? br.p_stable <= 0.05 : br.p_stable >= 0.95;
+    if (!out->cover_re && o->misses) {
+        fprintf(stderr, "miss: %s n %zu log %zu truth %.4f%+.4fi order %zu; modes:", c->name,
+                n_samples, rep, tre, tim, model.state_dim);
+        for (size_t qm = 0; qm < modes.n_modes; qm++)
+            fprintf(stderr, " %.4f%+.4fi [%.4f, %.4f]", modes.modes[qm].lambda_re,
+                    modes.modes[qm].lambda_im, br.bounds[qm].re.lo, br.bounds[qm].re.hi);
+        fprintf(stderr, "\n");
+    }
     if (out->confident_wrong && o->verbose) {
         fprintf(stderr, "wrong: %s n %zu log %zu p_stable %.3f truth %.4f%+.4fi; modes:",
                 c->name, n_samples, rep, br.p_stable, tre, tim);
@@ -424,6 +433,7 @@ static int parse_args(int argc, char **argv, cal_options *o)
     o->kind = EL_RESAMPLE_BLOCKS;
     o->only = NULL;
     o->verbose = 0;
+    o->misses = 0;
     o->bias = 1;
     o->method_auto = 0;
     o->method = EL_METHOD_LS;
@@ -438,6 +448,8 @@ static int parse_args(int argc, char **argv, cal_options *o)
             o->bias = 0;
         } else if (strcmp(a, "--verbose") == 0) {
             o->verbose = 1;
+        } else if (strcmp(a, "--misses") == 0) {
+            o->misses = 1;
         } else if (strcmp(a, "--logs") == 0 && v) {
             o->logs = (size_t)strtoul(v, NULL, 10);
             i++;
@@ -477,7 +489,7 @@ static int parse_args(int argc, char **argv, cal_options *o)
                     "                 [--case NAME] [--resample blocks|model] [--block L]\n"
                     "                 [--method ls|fb|tls|iv|ssi|hankel|auto] [--length N]\n"
                     "                 [--choices]\n"
-                    "                 [--no-bias-correction] [--verbose]\n");
+                    "                 [--no-bias-correction] [--verbose] [--misses]\n");
             return 1;
         }
     }
