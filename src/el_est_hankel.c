@@ -70,13 +70,14 @@ static void stage_free(hk_stage *s)
 }
 
 static el_status stage_run(const el_series *series, double horizon_time, size_t order,
-                           hk_stage *out, el_error *err)
+                           const el_subspace_acf *acf, hk_stage *out, el_error *err)
 {
     memset(out, 0, sizeof *out);
     el_subspace_options o;
     el_subspace_defaults(&o);
     o.horizon_time = horizon_time;
     o.order = order;
+    o.acf = acf;   /* the series' autocorrelation when the caller has it */
     el_status st = el_subspace_choose_horizon(series, &o, &out->hz, err);
     if (st == EL_OK)
         st = el_subspace_plan_create(series->n_channels, series->n_samples, out->hz.rows,
@@ -197,7 +198,7 @@ static el_status hankel_prepare(const el_series *series, el_fit_options *opt, el
     if (opt->inputs != NULL)
         return EL_OK; /* the fit reports that hankel takes no inputs */
     hk_stage s;
-    el_status st = stage_run(series, opt->horizon_time, opt->order, &s, err);
+    el_status st = stage_run(series, opt->horizon_time, opt->order, opt->acf, &s, err);
     if (st != EL_OK)
         return st;
     size_t keep[2 * EL_SUBSPACE_MAX_ORDER + 2], n_eig = 0;
@@ -418,7 +419,7 @@ static el_status hankel_fit(el_fit_plan *plan, const el_series *series,
     (void)warnings;
     const hk_plan *hp = plan->est;
     hk_stage s;
-    el_status st = stage_run(series, hp->horizon_time, hp->order, &s, err);
+    el_status st = stage_run(series, hp->horizon_time, hp->order, NULL, &s, err);
     if (st != EL_OK)
         return st;
     size_t keep[2 * EL_SUBSPACE_MAX_ORDER + 2], ne = 0;
@@ -777,7 +778,7 @@ static el_status hankel_boot_run(const el_series *series, const el_fit_options *
     /* The point's stage again, at its horizon and order: its block sums. */
     hk_stage s;
     st = stage_run(series, (double)model->subspace_rows * model->dt, model->subspace_order,
-                   &s, err);
+                   NULL, &s, err);
     if (st != EL_OK)
         return st;
     hk_boot b;
