@@ -56,6 +56,9 @@ int el_stats_spread(const double *x, size_t n, double *mean_out, double *sd_out)
 /* Lags per pass of el_stats_lagged_products: eight sums are four SSE2
  * registers, leaving room for the loads. */
 #define STATS_LAG_BLOCK 8
+/* Samples centred per chunk in lag_block (two stack buffers of about this
+ * many doubles, 16 KiB: they stay in the first-level cache). */
+#define STATS_CENTRED_CHUNK 1024
 
 /* One pass for the lags k0 .. k0 + b - 1 (b <= STATS_LAG_BLOCK), written
  * with s = t - k: term s of lag k is (x[s] - mean)(x[s + k] - mean), the
@@ -71,11 +74,22 @@ static void lag_block(const double *x, size_t n, double mean, size_t k0, size_t 
     size_t kb = k0 + b - 1;
     size_t common = n > kb ? n - kb : 0;
     if (b == STATS_LAG_BLOCK) {
-        for (size_t s = 0; s < common; s++) {
-            double a = x[s] - mean;
-            const double *y = x + s + k0;
-            for (size_t j = 0; j < STATS_LAG_BLOCK; j++)
-                acc[j] += a * (y[j] - mean);
+        /* The centred values a chunk at a time, each subtraction made once
+         * instead of once per lag: the same doubles, multiplied and added
+         * in the same order. */
+        double da[STATS_CENTRED_CHUNK], dy[STATS_CENTRED_CHUNK + STATS_LAG_BLOCK];
+        for (size_t s0 = 0; s0 < common; s0 += STATS_CENTRED_CHUNK) {
+            size_t len = common - s0 < STATS_CENTRED_CHUNK ? common - s0 : STATS_CENTRED_CHUNK;
+            for (size_t i = 0; i < len; i++)
+                da[i] = x[s0 + i] - mean;
+            for (size_t i = 0; i + 1 < len + STATS_LAG_BLOCK; i++)
+                dy[i] = x[s0 + k0 + i] - mean;
+            for (size_t i = 0; i < len; i++) {
+                double a = da[i];
+                const double *y = dy + i;
+                for (size_t j = 0; j < STATS_LAG_BLOCK; j++)
+                    acc[j] += a * y[j];
+            }
         }
     } else {
         for (size_t s = 0; s < common; s++) {
