@@ -236,12 +236,12 @@ static double normal_sf(double z)
     return 0.5 * erfc(z / M_SQRT2);
 }
 
-/* Sample autocorrelation rho[0..n) of d (already mean-removed) with the
+/* Sample autocorrelation rho[0..n) of buffer[0..n) (already mean-removed) with the
  * divisor-n autocovariance (positive semi-definite, and damped at long
  * lags where it is noisy), by zero-padded FFT. Returns gamma(0). */
-static double autocorrelation(struct el_regime_work *w, const double *d, size_t n)
+static double autocorrelation(struct el_regime_work *w, size_t n)
 {
-    memcpy(w->buffer, d, n * sizeof *d);
+    /* the data are already in buffer[0 .. n) (test_channel puts them there) */
     memset(w->buffer + n, 0, (w->fft_length - n) * sizeof *w->buffer);
     fftw_execute(w->forward);
     for (size_t k = 0; k < w->fft_length / 2 + 1; k++) {
@@ -388,10 +388,10 @@ static int test_channel(el_regime *r, const double *x, double dt, size_t c)
     for (size_t k = 0; k < n; k++)
         mean += x[k];
     mean /= (double)n;
-    /* rho's buffer doubles as the mean-removed copy before the transform */
+    /* the mean-removed copy straight into the transform's buffer */
     for (size_t k = 0; k < n; k++)
-        w->rho[k] = x[k] - mean;
-    double gamma0 = autocorrelation(w, w->rho, n);
+        w->buffer[k] = x[k] - mean;
+    double gamma0 = autocorrelation(w, n);
     if (!(gamma0 > 0.0) || !isfinite(gamma0))
         return 0;
     double sd = sqrt(gamma0);

@@ -24,27 +24,27 @@ int el_stats_spread(const double *x, size_t n, double *mean_out, double *sd_out)
             mean = s / (double)n * big;
         }
     }
-    double largest = 0.0;
+    /* The largest deviation and the plain sum of squares in one pass
+     * (the sum is used only when the largest allows it). */
+    double largest = 0.0, ss = 0.0;
     for (size_t k = 0; k < n; k++) {
         double d = fabs(x[k] - mean);
         if (d > largest || isnan(d))
             largest = d;
+        ss += (x[k] - mean) * (x[k] - mean);
     }
     double sd = largest;
     if (largest > 1e-150 && largest < 1e150) {
         /* Squares of n deviations this size neither underflow nor
          * overflow: the plain sum, bit for bit the former result. */
-        double ss = 0.0;
-        for (size_t k = 0; k < n; k++)
-            ss += (x[k] - mean) * (x[k] - mean);
         sd = sqrt(ss / (double)n);
     } else if (largest > 0.0 && isfinite(largest)) {
-        double ss = 0.0;
+        double scaled = 0.0;
         for (size_t k = 0; k < n; k++) {
             double d = (x[k] - mean) / largest;
-            ss += d * d;
+            scaled += d * d;
         }
-        sd = largest * sqrt(ss / (double)n);
+        sd = largest * sqrt(scaled / (double)n);
     }
     *mean_out = mean;
     *sd_out = sd;
