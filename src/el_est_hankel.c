@@ -218,6 +218,8 @@ static el_status hankel_prepare(const el_series *series, el_fit_options *opt, el
 typedef struct {
     double horizon_time;
     size_t order;
+    const el_subspace_acf *acf;   /* el_fit_options.acf: read only when it is the
+                                     fitted series' (el_subspace_choose_horizon checks) */
 } hk_plan;
 
 static el_status hankel_plan_create(const el_fit_options *opt, size_t n_samples,
@@ -238,6 +240,7 @@ static el_status hankel_plan_create(const el_fit_options *opt, size_t n_samples,
         return el_error_set(err, EL_ERR_NOMEM, "out of memory (hankel plan)");
     p->horizon_time = opt->horizon_time;
     p->order = opt->order;
+    p->acf = opt->acf;
     *state = p;
     return EL_OK;
 }
@@ -419,7 +422,7 @@ static el_status hankel_fit(el_fit_plan *plan, const el_series *series,
     (void)warnings;
     const hk_plan *hp = plan->est;
     hk_stage s;
-    el_status st = stage_run(series, hp->horizon_time, hp->order, NULL, &s, err);
+    el_status st = stage_run(series, hp->horizon_time, hp->order, hp->acf, &s, err);
     if (st != EL_OK)
         return st;
     size_t keep[2 * EL_SUBSPACE_MAX_ORDER + 2], ne = 0;

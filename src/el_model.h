@@ -72,7 +72,10 @@ typedef struct {
     const struct el_subspace_acf *acf;  /* NULL, or the mean autocorrelation of exactly
                                  the series fitted (el_subspace_acf_compute), which the
                                  hankel and iv preparations' automatic horizon then
-                                 read instead of computing it again; borrowed */
+                                 read instead of computing it again (hankel's plan
+                                 keeps the pointer: it must outlive the plan; it is
+                                 read only while it is the fitted series', by its
+                                 values pointer and sizes); borrowed */
 } el_fit_options;
 
 /* Fills opt with the defaults: no lags, full rank, least squares, depth
