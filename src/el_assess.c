@@ -35,6 +35,9 @@ struct el_assess_plan {
     double *half_values;          /* the split-half check's copy of one half */
     const char *split_stage;      /* the stage the split-half check runs in (progress) */
     size_t half_capacity;         /* doubles in half_values */
+    el_subspace_acf acf;          /* the window's mean autocorrelation, computed once
+                                     for every automatic horizon of the window (auto's
+                                     choice, the hankel and iv preparations) */
     int one_shot;                 /* 1: one window only (el_assess_analyse): each
                                      stage's workspace is freed when the stage is
                                      done, so the stages' memory does not add up */
@@ -979,6 +982,7 @@ void el_assess_plan_destroy(el_assess_plan *ap)
     el_regime_destroy(ap->regime);
     el_validation_destroy(ap->validation);
     free(ap->half_values);
+    el_subspace_acf_free(&ap->acf);
     free(ap);
 }
 
@@ -1111,18 +1115,24 @@ el_status el_assess_analyse(const el_assess_options *opt, el_assessment *r,
  * mode within 5 % / 0.05 in far more logs than iv at the default lags,
  * because its horizon covers the slow modes' time scale); the regime's
  * cross-check stays. One channel or measured inputs keep iv. */
-static void choose_subspace(el_assessment *r, el_fit_options *fit)
+static void choose_subspace(el_assess_plan *ap, el_assessment *r, el_fit_options *fit)
 {
     if (r->has_inputs || r->series.n_channels < 2 || fit->lags > 0)
         return;
+    /* The autocorrelation every automatic horizon of this window reads
+     * (here, then the hankel or iv preparation): computed once. */
+    el_error local;
+    el_error_clear(&local);
+    if (!(fit->horizon_time > 0.0) &&
+        el_subspace_acf_compute(&r->series, EL_SUBSPACE_MAX_ROWS, &ap->acf, &local) == EL_OK)
+        fit->acf = &ap->acf;
     /* Enough windows per row of the block Hankel at the automatic horizon
      * (EL_ASSESS_SUBSPACE_WINDOWS_PER_ROW); a short window keeps iv. */
     el_subspace_options so;
     el_subspace_defaults(&so);
     so.horizon_time = fit->horizon_time;
+    so.acf = fit->acf;
     el_subspace_horizon hz;
-    el_error local;
-    el_error_clear(&local);
     if (el_subspace_choose_horizon(&r->series, &so, &hz, &local) != EL_OK)
         return;
     size_t rows = hz.rows * r->series.n_channels;
@@ -1248,6 +1258,7 @@ el_status el_assess_execute(el_assess_plan *ap, const el_assess_options *opt,
         st = detect_regime(ap, opt, r, err);
     el_fit_options fit = opt->fit;
     fit.inputs = r->has_inputs ? &r->inputs : NULL;
+    fit.acf = NULL;   /* set for this window's series by choose_subspace */
     r->cross_p_stable = NAN;
     if (st == EL_OK && opt->method_auto) {
         r->method_was_auto = 1;
@@ -1273,7 +1284,7 @@ el_status el_assess_execute(el_assess_plan *ap, const el_assess_options *opt,
     char regime_reason[sizeof r->method_reason];
     snprintf(regime_reason, sizeof regime_reason, "%s", r->method_reason);
     if (st == EL_OK && r->method_was_auto)
-        choose_subspace(r, &fit);
+        choose_subspace(ap, r, &fit);
     /* The block-Hankel estimator assumes one stationary operating point.
      * When it cannot fit a half of the window and the halves, fitted by iv
      * instead, disagree, auto keeps iv, which does not assume it; the drift

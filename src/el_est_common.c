@@ -371,10 +371,16 @@ double el_est_unpack_cov(size_t dim, const double *sum, double *mean, double *co
  * st[0]). */
 void el_est_win_vector(size_t r, size_t sw, size_t lags, const double *st, double *v)
 {
-    memcpy(v, st + (2 * lags + 2) * sw, r * sizeof(double));
-    memcpy(v + r, st + (2 * lags + 3) * sw, r * sizeof(double));
-    memcpy(v + 2 * r, st + (lags + 1) * sw, r * sizeof(double));
-    memcpy(v + 3 * r, st, r * sizeof(double));
+    /* Plain loops, not memcpy: r is a few doubles and this runs for every
+     * window of the fit (a library call per run cost more than the copy). */
+    const double *x = st + (2 * lags + 2) * sw, *y = st + (2 * lags + 3) * sw;
+    const double *z1 = st + (lags + 1) * sw;
+    for (size_t i = 0; i < r; i++) {
+        v[i] = x[i];
+        v[r + i] = y[i];
+        v[2 * r + i] = z1[i];
+        v[3 * r + i] = st[i];
+    }
 }
 
 /* c = mean(y) - A mean(x) - B mean(u) (B, u absent when nu == 0). */
@@ -1205,7 +1211,9 @@ static void point_window(const el_est_plan *p, size_t r, const double *states,
             v[4 * r + j] = (inputs->values[j * p->n_samples + sample] -
                             mdl->input_mean[j]) / mdl->input_scale[j];
     } else {
-        memcpy(v, states + u * r, 2 * r * sizeof(double));
+        const double *st = states + u * r;
+        for (size_t i = 0; i < 2 * r; i++)
+            v[i] = st[i];
     }
 }
 

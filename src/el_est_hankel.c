@@ -70,13 +70,14 @@ static void stage_free(hk_stage *s)
 }
 
 static el_status stage_run(const el_series *series, double horizon_time, size_t order,
-                           hk_stage *out, el_error *err)
+                           const el_subspace_acf *acf, hk_stage *out, el_error *err)
 {
     memset(out, 0, sizeof *out);
     el_subspace_options o;
     el_subspace_defaults(&o);
     o.horizon_time = horizon_time;
     o.order = order;
+    o.acf = acf;   /* the series' autocorrelation when the caller has it */
     el_status st = el_subspace_choose_horizon(series, &o, &out->hz, err);
     if (st == EL_OK)
         st = el_subspace_plan_create(series->n_channels, series->n_samples, out->hz.rows,
@@ -253,7 +254,7 @@ static el_status hankel_prepare(const el_series *series, el_fit_options *opt, el
     if (opt->inputs != NULL)
         return EL_OK; /* the fit reports that hankel takes no inputs */
     hk_stage s;
-    el_status st = stage_run(series, opt->horizon_time, opt->order, &s, err);
+    el_status st = stage_run(series, opt->horizon_time, opt->order, opt->acf, &s, err);
     if (st != EL_OK)
         return st;
     size_t keep[2 * EL_SUBSPACE_MAX_ORDER + 2], n_eig = 0;
@@ -273,6 +274,8 @@ static el_status hankel_prepare(const el_series *series, el_fit_options *opt, el
 typedef struct {
     double horizon_time;
     size_t order;
+    const el_subspace_acf *acf;   /* el_fit_options.acf: read only when it is the
+                                     fitted series' (el_subspace_choose_horizon checks) */
 } hk_plan;
 
 static el_status hankel_plan_create(const el_fit_options *opt, size_t n_samples,
@@ -293,6 +296,7 @@ static el_status hankel_plan_create(const el_fit_options *opt, size_t n_samples,
         return el_error_set(err, EL_ERR_NOMEM, "out of memory (hankel plan)");
     p->horizon_time = opt->horizon_time;
     p->order = opt->order;
+    p->acf = opt->acf;
     *state = p;
     return EL_OK;
 }
@@ -474,7 +478,7 @@ static el_status hankel_fit(el_fit_plan *plan, const el_series *series,
     (void)warnings;
     const hk_plan *hp = plan->est;
     hk_stage s;
-    el_status st = stage_run(series, hp->horizon_time, hp->order, &s, err);
+    el_status st = stage_run(series, hp->horizon_time, hp->order, hp->acf, &s, err);
     if (st != EL_OK)
         return st;
     size_t keep[2 * EL_SUBSPACE_MAX_ORDER + 2], ne = 0;
@@ -833,7 +837,7 @@ static el_status hankel_boot_run(const el_series *series, const el_fit_options *
     /* The point's stage again, at its horizon and order: its block sums. */
     hk_stage s;
     st = stage_run(series, (double)model->subspace_rows * model->dt, model->subspace_order,
-                   &s, err);
+                   NULL, &s, err);
     if (st != EL_OK)
         return st;
     hk_boot b;

@@ -12,6 +12,8 @@
 #include "el_error.h"
 #include "el_timebase.h"
 
+struct el_subspace_acf;   /* el_subspace.h */
+
 /* Estimators (docs/method-estimators.md; el_est_common.h for the details):
  * ls  affine least squares / exact DMD (Tu et al. 2014); with inputs DMD
  *     with control (Proctor, Brunton & Kutz 2016);
@@ -67,6 +69,13 @@ typedef struct {
                                  (--horizon); 0 = automatic (el_subspace_choose_horizon) */
     size_t order;             /* hankel: model order of the subspace stage (--order);
                                  0 = automatic from the stabilisation across orders */
+    const struct el_subspace_acf *acf;  /* NULL, or the mean autocorrelation of exactly
+                                 the series fitted (el_subspace_acf_compute), which the
+                                 hankel and iv preparations' automatic horizon then
+                                 read instead of computing it again (hankel's plan
+                                 keeps the pointer: it must outlive the plan; it is
+                                 read only while it is the fitted series', by its
+                                 values pointer and sizes); borrowed */
 } el_fit_options;
 
 /* Fills opt with the defaults: no lags, full rank, least squares, depth

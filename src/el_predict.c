@@ -96,6 +96,12 @@ static void step(const el_model *m, const el_series *u, size_t k, const double *
         }
 }
 
+void el_prediction_skip_one_step(el_prediction *p, int skip)
+{
+    if (p != NULL)
+        p->skip_one_step = skip != 0 && !p->traces;
+}
+
 void el_prediction_set_inputs(el_prediction *p, const el_series *inputs)
 {
     if (p != NULL)
@@ -310,7 +316,8 @@ el_status el_prediction_run(el_prediction *p, const el_model *m,
     p->one_step_count = s->n_samples - p->lags - 1;
     p->free_first = p->lags;
     if (!p->traces) {
-        streamed_one_step(p, m, s);
+        if (!p->skip_one_step)
+            streamed_one_step(p, m, s);
         streamed_free(p, m, s);
         return EL_OK;
     }

@@ -60,6 +60,8 @@ typedef struct {
     int traces;               /* 1: one_step and free_run are kept (el_prediction_create);
                                  0: they are NULL, only the errors and the divergence
                                  are filled (el_prediction_create_errors) */
+    int skip_one_step;        /* 1: el_prediction_run makes the free run only
+                                 (el_prediction_skip_one_step) */
 } el_prediction;
 
 /* Plans predictions for models of n_channels channels with lags delay
@@ -109,6 +111,14 @@ el_status el_prediction_run(el_prediction *plan, const el_model *model,
  * without them is refused by el_prediction_run (EL_ERR_INTERNAL). The
  * series is borrowed and must outlive the runs. Can't fail. */
 void el_prediction_set_inputs(el_prediction *plan, const el_series *inputs);
+
+/* On a plan without traces (el_prediction_create_errors), skip != 0 makes
+ * el_prediction_run leave out its pass of one-step predictions: only the
+ * free run is made, and one_step_nrmse is left to the caller, which has
+ * the one-step errors from a pass of its own (el_validation: from its
+ * residual sums, the same doubles). A pass over the window fewer. No
+ * effect on a plan with traces. Can't fail; NULL is a no-op. */
+void el_prediction_skip_one_step(el_prediction *plan, int skip);
 
 /* Frees the plan and its outputs. NULL is a no-op. */
 void el_prediction_destroy(el_prediction *plan);

@@ -60,7 +60,8 @@ struct el_regime_work {
     double *buffer;           /* fftw_malloc'ed, fft_length */
     fftw_complex *spectrum;   /* fftw_malloc'ed, fft_length / 2 + 1 */
     fftw_plan forward, inverse;
-    double *rho;              /* N: autocorrelation at lags 0..N-1 */
+    double *rho;              /* N: autocorrelation at lags 0..N-1 (in buffer: the
+                                 transform's output, divided in place) */
     double *y, *m;            /* M: log-amplitude and level per segment */
     double *cov_y, *cov_m;    /* M: null covariance at segment lag k */
     double *weight;           /* M: least-squares slope weights */
@@ -113,7 +114,6 @@ static void work_free(struct el_regime_work *w)
         fftw_destroy_plan(w->inverse);
     fftw_free(w->buffer);
     fftw_free(w->spectrum);
-    free(w->rho);
     free(w->y);
     free(w->m);
     free(w->cov_y);
@@ -161,7 +161,7 @@ static el_status work_create(size_t n, struct el_regime_work **out, el_error *er
     w->fft_length = smooth_size(2 * n - 1);
     w->buffer = fftw_malloc(w->fft_length * sizeof *w->buffer);
     w->spectrum = fftw_malloc((w->fft_length / 2 + 1) * sizeof *w->spectrum);
-    w->rho = malloc(n * sizeof *w->rho);
+    w->rho = w->buffer;
     w->y = malloc(max_segments * sizeof *w->y);
     w->m = malloc(max_segments * sizeof *w->m);
     w->cov_y = malloc(max_segments * sizeof *w->cov_y);
@@ -236,12 +236,12 @@ static double normal_sf(double z)
     return 0.5 * erfc(z / M_SQRT2);
 }
 
-/* Sample autocorrelation rho[0..n) of d (already mean-removed) with the
+/* Sample autocorrelation rho[0..n) of buffer[0..n) (already mean-removed) with the
  * divisor-n autocovariance (positive semi-definite, and damped at long
  * lags where it is noisy), by zero-padded FFT. Returns gamma(0). */
-static double autocorrelation(struct el_regime_work *w, const double *d, size_t n)
+static double autocorrelation(struct el_regime_work *w, size_t n)
 {
-    memcpy(w->buffer, d, n * sizeof *d);
+    /* the data are already in buffer[0 .. n) (test_channel puts them there) */
     memset(w->buffer + n, 0, (w->fft_length - n) * sizeof *w->buffer);
     fftw_execute(w->forward);
     for (size_t k = 0; k < w->fft_length / 2 + 1; k++) {
@@ -251,7 +251,7 @@ static double autocorrelation(struct el_regime_work *w, const double *d, size_t 
     }
     fftw_execute(w->inverse);
     double gamma0 = w->buffer[0];
-    for (size_t k = 0; k < n; k++)
+    for (size_t k = 0; k < n; k++)   /* in place: rho is buffer */
         w->rho[k] = gamma0 > 0.0 ? w->buffer[k] / gamma0 : 0.0;
     return gamma0 / ((double)w->fft_length * (double)n);
 }
@@ -388,10 +388,10 @@ static int test_channel(el_regime *r, const double *x, double dt, size_t c)
     for (size_t k = 0; k < n; k++)
         mean += x[k];
     mean /= (double)n;
-    /* rho's buffer doubles as the mean-removed copy before the transform */
+    /* the mean-removed copy straight into the transform's buffer */
     for (size_t k = 0; k < n; k++)
-        w->rho[k] = x[k] - mean;
-    double gamma0 = autocorrelation(w, w->rho, n);
+        w->buffer[k] = x[k] - mean;
+    double gamma0 = autocorrelation(w, n);
     if (!(gamma0 > 0.0) || !isfinite(gamma0))
         return 0;
     double sd = sqrt(gamma0);

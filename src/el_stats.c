@@ -24,27 +24,27 @@ int el_stats_spread(const double *x, size_t n, double *mean_out, double *sd_out)
             mean = s / (double)n * big;
         }
     }
-    double largest = 0.0;
+    /* The largest deviation and the plain sum of squares in one pass
+     * (the sum is used only when the largest allows it). */
+    double largest = 0.0, ss = 0.0;
     for (size_t k = 0; k < n; k++) {
         double d = fabs(x[k] - mean);
         if (d > largest || isnan(d))
             largest = d;
+        ss += (x[k] - mean) * (x[k] - mean);
     }
     double sd = largest;
     if (largest > 1e-150 && largest < 1e150) {
         /* Squares of n deviations this size neither underflow nor
          * overflow: the plain sum, bit for bit the former result. */
-        double ss = 0.0;
-        for (size_t k = 0; k < n; k++)
-            ss += (x[k] - mean) * (x[k] - mean);
         sd = sqrt(ss / (double)n);
     } else if (largest > 0.0 && isfinite(largest)) {
-        double ss = 0.0;
+        double scaled = 0.0;
         for (size_t k = 0; k < n; k++) {
             double d = (x[k] - mean) / largest;
-            ss += d * d;
+            scaled += d * d;
         }
-        sd = largest * sqrt(ss / (double)n);
+        sd = largest * sqrt(scaled / (double)n);
     }
     *mean_out = mean;
     *sd_out = sd;
@@ -56,6 +56,9 @@ int el_stats_spread(const double *x, size_t n, double *mean_out, double *sd_out)
 /* Lags per pass of el_stats_lagged_products: eight sums are four SSE2
  * registers, leaving room for the loads. */
 #define STATS_LAG_BLOCK 8
+/* Samples centred per chunk in lag_block (two stack buffers of about this
+ * many doubles, 16 KiB: they stay in the first-level cache). */
+#define STATS_CENTRED_CHUNK 1024
 
 /* One pass for the lags k0 .. k0 + b - 1 (b <= STATS_LAG_BLOCK), written
  * with s = t - k: term s of lag k is (x[s] - mean)(x[s + k] - mean), the
@@ -71,11 +74,22 @@ static void lag_block(const double *x, size_t n, double mean, size_t k0, size_t 
     size_t kb = k0 + b - 1;
     size_t common = n > kb ? n - kb : 0;
     if (b == STATS_LAG_BLOCK) {
-        for (size_t s = 0; s < common; s++) {
-            double a = x[s] - mean;
-            const double *y = x + s + k0;
-            for (size_t j = 0; j < STATS_LAG_BLOCK; j++)
-                acc[j] += a * (y[j] - mean);
+        /* The centred values a chunk at a time, each subtraction made once
+         * instead of once per lag: the same doubles, multiplied and added
+         * in the same order. */
+        double da[STATS_CENTRED_CHUNK], dy[STATS_CENTRED_CHUNK + STATS_LAG_BLOCK];
+        for (size_t s0 = 0; s0 < common; s0 += STATS_CENTRED_CHUNK) {
+            size_t len = common - s0 < STATS_CENTRED_CHUNK ? common - s0 : STATS_CENTRED_CHUNK;
+            for (size_t i = 0; i < len; i++)
+                da[i] = x[s0 + i] - mean;
+            for (size_t i = 0; i + 1 < len + STATS_LAG_BLOCK; i++)
+                dy[i] = x[s0 + k0 + i] - mean;
+            for (size_t i = 0; i < len; i++) {
+                double a = da[i];
+                const double *y = dy + i;
+                for (size_t j = 0; j < STATS_LAG_BLOCK; j++)
+                    acc[j] += a * y[j];
+            }
         }
     } else {
         for (size_t s = 0; s < common; s++) {

@@ -145,6 +145,62 @@ static int mean_autocorr(const el_series *s, size_t lmax, double *r, double *g)
     return 0;
 }
 
+/* Lags of the mean autocorrelation an automatic horizon of at most
+ * max_rows rows reads (the cost cap + 1, at most half the record). */
+static size_t horizon_lags(size_t n, size_t p, size_t max_rows)
+{
+    size_t hmin = min_horizon(p);
+    size_t cap = (max_rows ? max_rows : EL_SUBSPACE_MAX_ROWS) / p;
+    if (cap < hmin)
+        cap = hmin;
+    size_t lmax = cap + 1;
+    if (lmax > n / 2)
+        lmax = n / 2;
+    return lmax;
+}
+
+/* The shared autocorrelation of exactly this series, when it holds the
+ * lags asked for. */
+static int acf_fits(const el_subspace_acf *acf, const el_series *s, size_t lmax)
+{
+    return acf != NULL && acf->r != NULL && acf->values == s->values &&
+           acf->n_samples == s->n_samples && acf->n_channels == s->n_channels &&
+           acf->lags >= lmax;
+}
+
+el_status el_subspace_acf_compute(const el_series *series, size_t max_rows,
+                                  el_subspace_acf *acf, el_error *err)
+{
+    if (series == NULL || acf == NULL || series->values == NULL || series->n_channels == 0)
+        return el_error_set(err, EL_ERR_INTERNAL, "el_subspace_acf_compute: bad arguments");
+    acf->values = NULL;
+    size_t lmax = horizon_lags(series->n_samples, series->n_channels, max_rows);
+    if (acf->capacity < 2 * (lmax + 1)) {
+        free(acf->r);
+        acf->capacity = 0;
+        acf->r = malloc(2 * (lmax + 1) * sizeof *acf->r);
+        if (acf->r == NULL)
+            return el_error_set(err, EL_ERR_NOMEM, "out of memory (horizon)");
+        acf->capacity = 2 * (lmax + 1);
+    }
+    /* Each lag's sum is the same whatever the number of lags computed
+     * (el_stats_lagged_products), so a prefix is what a smaller cap reads. */
+    acf->unusable = mean_autocorr(series, lmax, acf->r, acf->r + lmax + 1);
+    acf->lags = lmax;
+    acf->values = series->values;
+    acf->n_samples = series->n_samples;
+    acf->n_channels = series->n_channels;
+    return EL_OK;
+}
+
+void el_subspace_acf_free(el_subspace_acf *acf)
+{
+    if (acf == NULL)
+        return;
+    free(acf->r);
+    memset(acf, 0, sizeof *acf);
+}
+
 el_status el_subspace_choose_horizon(const el_series *series,
                                      const el_subspace_options *opt,
                                      el_subspace_horizon *out, el_error *err)
@@ -190,13 +246,18 @@ el_status el_subspace_choose_horizon(const el_series *series,
     size_t cap = (opt->max_rows ? opt->max_rows : EL_SUBSPACE_MAX_ROWS) / p;
     if (cap < hmin)
         cap = hmin;
-    size_t lmax = cap + 1;
-    if (lmax > n / 2)
-        lmax = n / 2;
+    size_t lmax = horizon_lags(n, p, opt->max_rows);
     double *r = malloc(2 * (lmax + 1) * sizeof *r);
     if (r == NULL)
         return el_error_set(err, EL_ERR_NOMEM, "out of memory (horizon)");
-    if (mean_autocorr(series, lmax, r, r + lmax + 1)) {
+    int unusable;
+    if (acf_fits(opt->acf, series, lmax)) {
+        unusable = opt->acf->unusable;
+        memcpy(r, opt->acf->r, (lmax + 1) * sizeof *r);
+    } else {
+        unusable = mean_autocorr(series, lmax, r, r + lmax + 1);
+    }
+    if (unusable) {
         free(r);
         el_error_set(err, EL_ERR_DATA, "a channel is constant or not finite");
         el_error_hint(err, "drop constant channels");

@@ -49,7 +49,25 @@ typedef enum {
                                      canonical correlations), O = Sff^1/2 U S^1/2 */
 } el_subspace_weighting;
 
+/* The mean autocorrelation the automatic horizon reads, computed once per
+ * series and shared by every choice of the horizon on that series (auto's
+ * choice of estimator, the hankel and iv preparations): the mean over the
+ * channels of r_c(k), k = 0 .. lags. Tied to one series by its values
+ * pointer and sizes; valid only while that series' values are unchanged. */
+typedef struct el_subspace_acf {
+    const double *values;  /* the series it was computed from (identity) */
+    size_t n_samples, n_channels;
+    size_t lags;           /* r[0 .. lags] */
+    int unusable;          /* 1: a channel is constant or not finite */
+    double *r;             /* lags + 1 (owned) */
+    size_t capacity;       /* doubles allocated at r */
+} el_subspace_acf;
+
 typedef struct {
+    const el_subspace_acf *acf;   /* NULL, or the mean autocorrelation of exactly
+                                     the series passed (el_subspace_acf_compute):
+                                     the automatic horizon then reads it instead
+                                     of computing it; the same h bit for bit */
     double horizon_time;   /* future = past horizon in the series' time unit;
                               0 = automatic (el_subspace_choose_horizon) */
     size_t max_rows;       /* automatic horizon: h * n_channels <= max_rows
@@ -97,6 +115,19 @@ typedef struct {
 el_status el_subspace_choose_horizon(const el_series *series,
                                      const el_subspace_options *opt,
                                      el_subspace_horizon *out, el_error *err);
+
+/* Computes into acf (whose r is reused or grown; zero-initialise it before
+ * the first call) the mean autocorrelation of series at the lags an
+ * automatic horizon with at most max_rows rows (0 = EL_SUBSPACE_MAX_ROWS)
+ * reads; any smaller max_rows reads a prefix of it. A constant or
+ * non-finite channel is recorded (acf->unusable), not an error: the
+ * horizon's choice reports it. Errors: EL_ERR_INTERNAL for NULL arguments,
+ * EL_ERR_NOMEM. */
+el_status el_subspace_acf_compute(const el_series *series, size_t max_rows,
+                                  el_subspace_acf *acf, el_error *err);
+
+/* Frees acf->r and clears acf; NULL is fine. */
+void el_subspace_acf_free(el_subspace_acf *acf);
 
 /* One pole of the stabilisation analysis (a complex pair is one pole,
  * Im lambda > 0 shown; a real eigenvalue is a pole of its own). */

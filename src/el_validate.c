@@ -193,6 +193,10 @@ el_status el_validation_create(size_t n_channels, size_t lags, size_t max_sample
         el_validation_destroy(v);
         return st;
     }
+    /* The residual passes make the one-step predictions anyway: the
+     * prediction's own one-step pass would repeat them (residual_passes
+     * fills its one-step errors from the same sums). */
+    el_prediction_skip_one_step(v->prediction, 1);
     *out = v;
     return EL_OK;
 }
@@ -292,6 +296,12 @@ static void residual_passes(el_validation *v, const el_model *model, const el_se
         slot = slot + 1 == ring ? 0 : slot + 1;
     }
     for (size_t c = 0; c < nc; c++) {
+        /* The prediction's one-step error, which it was told not to make
+         * (el_prediction_skip_one_step): its sums are ss_res (its squared
+         * errors, (xhat - x)^2 = (x - xhat)^2 exactly) and ss_tot (the
+         * squares about the same mean, summed in the same order), so the
+         * same double. */
+        p->one_step_nrmse[c] = r.ss_tot[c] > 0.0 ? sqrt(r.ss_res[c] / r.ss_tot[c]) : NAN;
         /* A channel that does not vary over the residual samples has no
          * scale to compare with (the same rule as el_predict's nrmse). */
         if (!(r.ss_tot[c] > 0.0)) {

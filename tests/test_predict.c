@@ -8,6 +8,7 @@
 #include <string.h>
 
 #include "el_predict.h"
+#include "el_validate.h"
 
 /* Hand-made model and series: only the fields el_predict reads. */
 typedef struct {
@@ -280,6 +281,23 @@ static void errors_match(fixture *f)
                             sizeof(double));
         assert_memory_equal(&without->free_nrmse[c], &with->free_nrmse[c], sizeof(double));
     }
+    /* el_validation's plan skips the one-step pass (el_prediction_skip_one_step)
+     * and fills the one-step errors from its residual sums: the same
+     * doubles again (issue 13 item 3: one pass over the window fewer). */
+    el_validation *v = NULL;
+    assert_int_equal(el_validation_create(f->model.n_channels, f->model.lags,
+                                          f->series.n_samples, &v, &err),
+                     EL_OK);
+    el_warnings w = {0};
+    assert_int_equal(el_validation_run(v, &f->model, &f->series, NULL, &w, &err), EL_OK);
+    assert_int_equal(v->prediction->skip_one_step, 1);
+    for (size_t c = 0; c < f->model.n_channels; c++) {
+        assert_memory_equal(&v->prediction->one_step_nrmse[c], &with->one_step_nrmse[c],
+                            sizeof(double));
+        assert_memory_equal(&v->free_nrmse[c], &with->free_nrmse[c], sizeof(double));
+    }
+    el_warnings_free(&w);
+    el_validation_destroy(v);
     el_prediction_destroy(with);
     el_prediction_destroy(without);
 }

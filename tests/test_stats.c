@@ -62,12 +62,13 @@ static void test_lagged_centring(void **state)
 }
 
 /* Random data of several lengths (below, at and above a block of lags,
- * and long): every lag equals the plain loop bit for bit (==, not a
+ * and long; around the 1024-sample chunks of centred values): every lag
+ * equals the plain loop bit for bit (==, not a
  * tolerance: the contract is the same additions in the same order). */
 static void test_lagged_bitwise(void **state)
 {
     (void)state;
-    const size_t lens[] = {1, 2, 7, 8, 9, 15, 33, 1000, 100003};
+    const size_t lens[] = {1, 2, 7, 8, 9, 15, 33, 1000, 1031, 1032, 2092, 100003};
     el_rng rng;
     el_rng_seed(&rng, 20261204u, 0);
     for (size_t i = 0; i < sizeof lens / sizeof lens[0]; i++) {

@@ -449,6 +449,70 @@ static void test_horizon_first_order(void **state)
     ts_free(&ts);
 }
 
+/* The shared autocorrelation (el_subspace_acf_compute, issue 13 item 3:
+ * computed once per window instead of once per horizon choice) gives the
+ * horizon the direct computation gives, bit for bit (exact equality: the
+ * same sums in the same order), at the default cap and at a smaller one
+ * (iv's, which reads a prefix); it is read only for the series it was
+ * computed from. The series: the first-order process above. */
+static void test_shared_autocorrelation(void **state)
+{
+    (void)state;
+    size_t n = 20000;
+    double *v = malloc(4 * n * sizeof *v);
+    assert_non_null(v);
+    uint64_t rs = 5;
+    double phi = exp(-1.0 / 20.0), x = 0.0;
+    for (size_t k = 0; k < n; k++) {
+        v[k] = x;
+        v[k + n] = 3.0 - 0.5 * x;
+        v[k + 2 * n] = test_normal(&rs);   /* another series: white noise */
+        v[k + 3 * n] = test_normal(&rs);
+        x = phi * x + test_normal(&rs);
+    }
+    test_series ts, other;
+    ts_init(&ts, n, 2, 0.1, v);
+    ts_init(&other, n, 2, 0.1, v + 2 * n);
+    el_subspace_acf acf;
+    memset(&acf, 0, sizeof acf);
+    el_error err;
+    assert_int_equal(el_subspace_acf_compute(&ts.s, 0, &acf, &err), EL_OK);
+    assert_int_equal(acf.unusable, 0);
+    static const size_t caps[] = {0, 30, 120};
+    for (size_t i = 0; i < sizeof caps / sizeof caps[0]; i++) {
+        el_subspace_options opt;
+        el_subspace_defaults(&opt);
+        opt.max_rows = caps[i];
+        el_subspace_horizon direct, shared, plain_other, shared_other;
+        assert_int_equal(el_subspace_choose_horizon(&ts.s, &opt, &direct, &err), EL_OK);
+        assert_int_equal(el_subspace_choose_horizon(&other.s, &opt, &plain_other, &err), EL_OK);
+        opt.acf = &acf;
+        assert_int_equal(el_subspace_choose_horizon(&ts.s, &opt, &shared, &err), EL_OK);
+        assert_int_equal(el_subspace_choose_horizon(&other.s, &opt, &shared_other, &err),
+                         EL_OK);
+        assert_int_equal(shared.rows, direct.rows);
+        assert_int_equal(shared.scale_lags, direct.scale_lags);
+        assert_int_equal(shared.capped, direct.capped);
+        assert_string_equal(shared.reason, direct.reason);
+        /* white noise: the shortest horizon, not the AR(1) one's */
+        assert_int_equal(shared_other.rows, plain_other.rows);
+        assert_int_equal(shared_other.scale_lags, plain_other.scale_lags);
+        assert_true(shared_other.scale_lags < direct.scale_lags);
+    }
+    /* It is what the choice reads: marked unusable, it gives the error of a
+     * constant channel. */
+    acf.unusable = 1;
+    el_subspace_options opt;
+    el_subspace_defaults(&opt);
+    opt.acf = &acf;
+    el_subspace_horizon hz;
+    assert_int_equal(el_subspace_choose_horizon(&ts.s, &opt, &hz, &err), EL_ERR_DATA);
+    el_subspace_acf_free(&acf);
+    el_subspace_acf_free(NULL);
+    assert_null(acf.r);
+    ts_free(&ts);   /* frees v, which other borrowed too */
+}
+
 /* ------------------------------------------------------------------ */
 /* (c) the 6-sensor example of issue 10, (d) stabilisation labels     */
 /* ------------------------------------------------------------------ */
@@ -752,6 +816,7 @@ int main(void)
         cmocka_unit_test(test_numpy_fixture),
         cmocka_unit_test(test_hankel_definition),
         cmocka_unit_test(test_horizon_first_order),
+        cmocka_unit_test(test_shared_autocorrelation),
         cmocka_unit_test(test_six_sensor_example),
         cmocka_unit_test(test_transients),
         cmocka_unit_test(test_white_noise_no_mode),
