@@ -1290,6 +1290,10 @@ static el_status read_one(FILE *stream, const char *name, const el_ingest_option
     }
     if (st == EL_OK)
         st = decide_time_unit(&g, opt);
+    /* A mapped file cut short while it was read: whatever the read made of
+     * the zeros of its last page, the cut is the error. */
+    if (el_source_check_size(&g.rd) != EL_OK)
+        st = EL_ERR_IO;
     table->decimal = g.decimal ? g.decimal : '.';
     info->header_line = g.header_line;
     el_source_close(&g.rd);
