@@ -949,20 +949,6 @@ static int fast_rows_ok(const ingest *g)
     return 1;
 }
 
-/* el_rows_scan into row t->n_rows of the table (capacity reserved). */
-static const char *fast_row(ingest *g, const char *p, const char *lim)
-{
-    el_table *t = g->t;
-    size_t row = t->n_rows;
-    p = el_rows_scan(p, lim, g->n_columns, g->delim, &g->decimal, t->values + row,
-                     g->cap_rows);
-    if (p == NULL)
-        return NULL;
-    t->source_line[row] = g->rd.line;
-    t->n_rows++;
-    return p;
-}
-
 /* Reads rows on the fast path from the source's unconsumed bytes up to
  * its last complete line, until a row needs the general reader. */
 static el_status fast_rows(ingest *g)
@@ -979,18 +965,23 @@ static el_status fast_rows(ingest *g)
     /* Not past a part being read by another thread: it is taken there. */
     if (g->next_chunk < g->n_chunks && g->chunks[g->next_chunk].begin < stop)
         stop = g->chunks[g->next_chunk].begin;
-    const char *p = rd->buf + rd->beg;
+    el_table *t = g->t;
+    const char *p = first;
     while (p < stop) {
-        if (g->t->n_rows == g->cap_rows) {
+        if (t->n_rows == g->cap_rows) {
             el_status st = grow_rows(g);
             if (st != EL_OK)
                 return st;
         }
-        const char *next = fast_row(g, p, lim);
-        if (next == NULL)
-            break;
-        p = next;
-        rd->line++;
+        size_t room = g->cap_rows - t->n_rows, rows = 0;
+        p = el_number_scan_rows(p, stop, lim, g->n_columns, g->delim, &g->decimal,
+                                t->values + t->n_rows, g->cap_rows, room, &rows);
+        for (size_t i = 0; i < rows; i++)
+            t->source_line[t->n_rows + i] = rd->line + (long)i;
+        t->n_rows += rows;
+        rd->line += (long)rows;
+        if (rows < room)
+            break; /* stop, or a row for the general reader */
     }
     rd->beg = (size_t)(p - rd->buf);
     return EL_OK;
@@ -1301,6 +1292,10 @@ static el_status read_one(FILE *stream, const char *name, const el_ingest_option
     }
     if (st == EL_OK)
         st = decide_time_unit(&g, opt);
+    /* A mapped file cut short while it was read: whatever the read made of
+     * the zeros of its last page, the cut is the error. */
+    if (el_source_check_size(&g.rd) != EL_OK)
+        st = EL_ERR_IO;
     table->decimal = g.decimal ? g.decimal : '.';
     info->header_line = g.header_line;
     el_source_close(&g.rd);

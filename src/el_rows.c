@@ -77,15 +77,6 @@ size_t el_rows_count_lines(const char *begin, const char *end)
 void el_rows_read_part(el_row_part *k, const char *lim, size_t n_columns, char delim,
                        char decimal)
 {
-    const char *p = k->begin;
-    k->rows = 0;
-    while (p < k->end && k->rows < k->max_rows) {
-        const char *next = el_rows_scan(p, lim, n_columns, delim, &decimal,
-                                        k->values + k->rows, k->stride);
-        if (next == NULL)
-            break;
-        p = next;
-        k->rows++;
-    }
-    k->stop = p;
+    k->stop = el_number_scan_rows(k->begin, k->end, lim, n_columns, delim, &decimal, k->values,
+                                  k->stride, k->max_rows, &k->rows);
 }

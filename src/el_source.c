@@ -289,6 +289,23 @@ static int try_map(el_source *rd)
     return 1;
 }
 
+el_status el_source_check_size(el_source *src)
+{
+    struct stat sb;
+    int fd = src->mapped ? fileno(src->stream) : -1;
+    if (fd < 0 || fstat(fd, &sb) != 0 || sb.st_size < 0 || (uintmax_t)sb.st_size >= src->cap)
+        return EL_OK;
+    el_error_clear(src->err);
+    el_error_set(src->err, EL_ERR_IO,
+                 "the file shrank while it was being read (cut short or rewritten by another "
+                 "program)");
+    el_error_at(src->err, src->name, 0, 0);
+    el_error_hint(src->err, "read the log when the program writing it has finished with it, "
+                            "or read a copy of it; for a log that is still being written, use "
+                            "track --follow");
+    return EL_ERR_IO;
+}
+
 /* Fills the first chunk, skips a UTF-8 byte-order mark and refuses data
  * that is not text: a NUL byte or a control character other than tab, CR
  * and LF within the first bytes means a binary or UTF-16 file, which would

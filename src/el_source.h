@@ -56,6 +56,18 @@ el_status el_source_start(el_source *src);
  * EL_ERR_NOMEM; all with src->name and a hint in *src->err. */
 el_status el_source_refill(el_source *src);
 
+/* For a mapped file: EL_ERR_IO ("the file shrank while it was being
+ * read", with src->name and a hint; replaces what *src->err held) when
+ * the file is now shorter than when it was mapped, else EL_OK (also for
+ * a source that is not mapped). Called after the read, whatever its
+ * outcome: the bytes of a cut file's last page read as zeros, so a read
+ * may end in a bogus data error or a short table instead of a fault.
+ * Touching a page past the new end raises SIGBUS, which a library cannot
+ * handle without process-wide state: a program that may read files other
+ * programs cut short installs a SIGBUS handler (eigenlog's main.c reports
+ * the file mapped at the faulting address and exits with status 4). */
+el_status el_source_check_size(el_source *src);
+
 /* Frees what the source allocated (not the stream). NULL is a no-op;
  * calling it twice is harmless. */
 void el_source_close(el_source *src);

@@ -357,23 +357,33 @@ static void survey_steps(const double *time, size_t first, size_t last, double d
                          size_t max_gap, double jitter_limit, step_survey *sv)
 {
     memset(sv, 0, sizeof *sv);
-    sv->on_grid = 1;
+    /* The running values in locals: sv's fields could alias time for the
+     * compiler, which then stored and reloaded them at every step. */
+    double intervals = 0.0, jitter = 0.0, longest_gap = 0.0, gap_missing = 0.0;
+    size_t gap_row = 0;
+    int on_grid = 1;
     for (size_t r = first + 1; r <= last; r++) {
         double step = time[r] - time[r - 1];
         double m = intervals_of(step, dt);
-        if (m - 1 > sv->longest_gap)
-            sv->longest_gap = m - 1;
-        if (m - 1 > (double)max_gap && sv->gap_row == 0) {
-            sv->gap_row = r;
-            sv->gap_missing = m - 1;
+        if (m - 1 > longest_gap)
+            longest_gap = m - 1;
+        if (m - 1 > (double)max_gap && gap_row == 0) {
+            gap_row = r;
+            gap_missing = m - 1;
         }
         double deviation = fabs(step - (m >= 1 ? m : 1) * dt) / dt;
-        if (deviation > sv->jitter)
-            sv->jitter = deviation;
+        if (deviation > jitter)
+            jitter = deviation;
         if (m < 1 || deviation > jitter_limit)
-            sv->on_grid = 0;
-        sv->intervals += m;
+            on_grid = 0;
+        intervals += m;
     }
+    sv->intervals = intervals;
+    sv->jitter = jitter;
+    sv->on_grid = on_grid;
+    sv->gap_row = gap_row;
+    sv->gap_missing = gap_missing;
+    sv->longest_gap = longest_gap;
 }
 
 static el_status time_gap_error(const timebase_plan *plan, size_t row, double missing,

@@ -3,6 +3,9 @@
  * below is compiled on Linux only. */
 #define _DEFAULT_SOURCE 1
 #include <cblas.h>
+#include <fcntl.h>
+#include <signal.h>
+#include <stdint.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -95,9 +98,134 @@ static void blas_threads_before_start(char **argv)
 #endif
 }
 
+/* A regular log file is read through a memory map (el_source): when
+ * another program cuts the file short while it is being read (a logger
+ * rotating it, `> file` in another shell), touching a page past the new
+ * end raises SIGBUS, which would kill the process with no word on what
+ * happened. The handler names the file mapped at the faulting address
+ * (from /proc/self/maps), says what happened and exits with status 4
+ * (input/output), before any output file is written (outputs are written
+ * whole at the end, through temporary files). A SIGBUS anywhere else is
+ * not ours to explain: the default action is restored and the signal
+ * taken again. Everything here is async-signal-safe (open, read, write,
+ * close, _exit, sigaction; no stdio, no allocation). The handler lives
+ * here, not in the library: a library has no business with a process's
+ * signals (a program using it installs its own, see el_source.h). */
+
+static void put(const char *s, size_t n)
+{
+    while (n > 0) {
+        ssize_t k = write(STDERR_FILENO, s, n);
+        if (k <= 0)
+            return;
+        s += k;
+        n -= (size_t)k;
+    }
+}
+
+static void put_text(const char *s)
+{
+    put(s, strlen(s));
+}
+
+/* Parses the hexadecimal number at *p, moving *p past it. */
+static uintptr_t hex_at(const char **p, const char *end)
+{
+    uintptr_t v = 0;
+    for (; *p < end; (*p)++) {
+        char c = **p;
+        int d = c >= '0' && c <= '9' ? c - '0' : c >= 'a' && c <= 'f' ? c - 'a' + 10 : -1;
+        if (d < 0)
+            break;
+        v = v * 16 + (uintptr_t)d;
+    }
+    return v;
+}
+
+/* One line of /proc/self/maps ("start-end perms offset dev inode path"):
+ * 1 and the path in *path (not NUL-terminated, *n bytes; 0 for an
+ * anonymous mapping) when the line's range holds addr. */
+static int maps_line_holds(const char *line, size_t len, uintptr_t addr, const char **path,
+                           size_t *n)
+{
+    const char *p = line, *end = line + len;
+    uintptr_t lo = hex_at(&p, end);
+    if (p >= end || *p != '-')
+        return 0;
+    p++;
+    uintptr_t hi = hex_at(&p, end);
+    if (addr < lo || addr >= hi)
+        return 0;
+    for (int field = 0; field < 4; field++) { /* perms, offset, dev, inode */
+        while (p < end && *p == ' ')
+            p++;
+        while (p < end && *p != ' ')
+            p++;
+    }
+    while (p < end && *p == ' ')
+        p++;
+    *path = p;
+    *n = (size_t)(end - p);
+    return 1;
+}
+
+static void on_bus_error(int sig, siginfo_t *info, void *context)
+{
+    (void)context;
+    uintptr_t addr = (uintptr_t)info->si_addr;
+    char line[4096 + 512], chunk[512];
+    size_t used = 0;
+    int found = 0;
+    int fd = open("/proc/self/maps", O_RDONLY);
+    ssize_t got;
+    while (!found && fd >= 0 && (got = read(fd, chunk, sizeof chunk)) > 0) {
+        for (ssize_t i = 0; i < got && !found; i++) {
+            if (chunk[i] != '\n') {
+                if (used < sizeof line)
+                    line[used++] = chunk[i];
+                continue;
+            }
+            const char *path;
+            size_t n;
+            if (maps_line_holds(line, used, addr, &path, &n) && n > 0 && path[0] == '/') {
+                found = 1;
+                put_text("eigenlog: ");
+                put(path, n);
+                put_text(": the file shrank while it was being read (cut short or "
+                         "rewritten by another program)\n  hint: read the log when the "
+                         "program writing it has finished with it, or read a copy of "
+                         "it; for a log that is still being written, use track "
+                         "--follow\n");
+            }
+            used = 0;
+        }
+    }
+    if (fd >= 0)
+        close(fd);
+    if (found)
+        _exit(4);
+    struct sigaction dfl;
+    memset(&dfl, 0, sizeof dfl);
+    dfl.sa_handler = SIG_DFL;
+    sigemptyset(&dfl.sa_mask);
+    sigaction(sig, &dfl, NULL);
+    raise(sig);
+}
+
+static void catch_shrinking_files(void)
+{
+    struct sigaction sa;
+    memset(&sa, 0, sizeof sa);
+    sa.sa_sigaction = on_bus_error;
+    sa.sa_flags = SA_SIGINFO;
+    sigemptyset(&sa.sa_mask);
+    (void)sigaction(SIGBUS, &sa, NULL);
+}
+
 int main(int argc, char **argv)
 {
     blas_threads_before_start(argv);
+    catch_shrinking_files();
     /* eigenlog parallelises over bootstrap replicates itself; OpenBLAS
      * threads inside each small product would only oversubscribe the
      * cores (measured: a third of the run time spent in the kernel). Also

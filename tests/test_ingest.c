@@ -1587,6 +1587,62 @@ static void test_median_step_selection(void **state)
     }
 }
 
+/* The per-column statistics of scan (el_scan_table): a channel of the
+ * integers 1..n with NA cells in between has the closed forms mean
+ * (n+1)/2, min 1, max n and sample std sqrt(n(n+1)/12) over its present
+ * cells (a sum of squares: the textbook identity; exact here in doubles
+ * but for the square root's rounding, hence 1e-15 relative). And the
+ * sums are the ones of the documented four-lane order (cell r into lane
+ * r % 4, then (l0 + l1) + (l2 + l3)), bit for bit, whatever the vector
+ * code does: scan's JSON prints them in full, so they must not move.
+ * Lengths n not a multiple of 4 leave a tail. */
+static void test_scan_column_stats(void **state)
+{
+    (void)state;
+    uint64_t seed = 4242;
+    for (size_t n = 5; n < 3000; n = n * 3 + 1) {
+        /* Rows: the k-th present value is k; every 7th row is NA. */
+        size_t rows = n + n / 6;
+        char *text = malloc(rows * 48 + 32);
+        double *noisy = malloc(rows * sizeof *noisy);
+        assert_true(text != NULL && noisy != NULL);
+        size_t w = (size_t)sprintf(text, "t,x,y\n"), k = 0;
+        for (size_t r = 0; r < rows; r++) {
+            uint64_t x = next_random(&seed);
+            noisy[r] = (double)(int64_t)(x >> 12) * 1e-9 - 2251.0;
+            if (r % 7 == 6 || k == n)
+                w += (size_t)sprintf(text + w, "%zu,NA,%.17g\n", r, noisy[r]);
+            else
+                w += (size_t)sprintf(text + w, "%zu,%zu,%.17g\n", r, ++k, noisy[r]);
+        }
+        assert_int_equal(k, n);
+        el_table tab = {0};
+        el_error e;
+        el_scan s = {0};
+        assert_int_equal(read_text(text, &tab, &e), EL_OK);
+        assert_int_equal(el_scan_table(&tab, &s, &e), EL_OK);
+        const el_column_stats *cx = &s.columns[1], *cy = &s.columns[2];
+        double nd = (double)n;
+        assert_int_equal(cx->present, n);
+        assert_int_equal(cx->missing, rows - n);
+        assert_close(cx->mean, (nd + 1) / 2, 0, 0);
+        assert_close(cx->min, 1.0, 0, 0);
+        assert_close(cx->max, nd, 0, 0);
+        assert_close(cx->std, sqrt(nd * (nd + 1) / 12), 1e-15, 0);
+        /* The four-lane order of the plain loop on the noisy column. */
+        double lane[4] = {0, 0, 0, 0};
+        for (size_t r = 0; r < rows; r++)
+            lane[r >= (rows & ~(size_t)3) ? 0 : r % 4] += noisy[r];
+        double sum = (lane[0] + lane[1]) + (lane[2] + lane[3]);
+        double mean = sum / (double)rows;
+        assert_memory_equal(&cy->mean, &mean, sizeof mean);
+        el_scan_free(&s);
+        el_table_free(&tab);
+        free(text);
+        free(noisy);
+    }
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -1603,6 +1659,7 @@ int main(void)
         cmocka_unit_test(test_parse_time),
         cmocka_unit_test(test_format_time),
         cmocka_unit_test(test_scan),
+        cmocka_unit_test(test_scan_column_stats),
         cmocka_unit_test(test_scan_errors),
         cmocka_unit_test(test_error_missing_file),
         cmocka_unit_test(test_error_empty_and_header_only),

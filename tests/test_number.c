@@ -233,6 +233,88 @@ static void test_scan_row(void **state)
     }
 }
 
+/* el_number_scan_rows (the rows' ends from a separator mask, the common
+ * cell from the masks) against strtod of every cell and against
+ * el_number_scan_row row by row: random rows of cells 1 to 20 bytes long
+ * (signs, points, exponents, long significands: every path), LF and
+ * CRLF, with now and then a row the fast path must refuse (a blank, a
+ * letter, two points, a missing cell, one cell too many). Both must stop
+ * at the same row, take the same rows and give strtod's doubles. */
+static void test_scan_rows_masked(void **state)
+{
+    (void)state;
+    enum { ROWS = 4000, COLS = 5 };
+    size_t cap = (size_t)ROWS * COLS * 32 + 256;
+    char *text = malloc(cap);
+    double *want = malloc(sizeof(double) * ROWS * COLS);
+    double *got = malloc(sizeof(double) * ROWS * COLS), row[COLS];
+    assert_true(text != NULL && want != NULL && got != NULL);
+    uint64_t seed = 0xD1B54A32D192ED03u;
+    for (int round = 0; round < 40; round++) {
+        size_t n = 0, bad_row = ROWS;
+        int crlf = round % 2;
+        for (size_t r = 0; r < ROWS; r++)
+            for (size_t c = 0; c < COLS; c++) {
+                uint64_t x = next_random(&seed);
+                double u = (double)(x >> 11) / 9007199254740992.0 - 0.5;
+                double v = u * pow(10.0, (double)((int)(x % 11) - 4));
+                char cell[64];
+                switch ((x >> 8) % 6) {
+                case 0: snprintf(cell, sizeof cell, "%.6g", 10.0 + v); break;
+                case 1: snprintf(cell, sizeof cell, "%.3f", v); break;
+                case 2: snprintf(cell, sizeof cell, "%+.12g", v); break;
+                case 3: snprintf(cell, sizeof cell, "%.17g", v); break;
+                case 4: snprintf(cell, sizeof cell, "%.2e", v); break;
+                default: snprintf(cell, sizeof cell, "%lld", (long long)(v * 1e3)); break;
+                }
+                want[c * ROWS + r] = strtod(cell, NULL);
+                /* One row in four rounds spoils a cell (ends a run). */
+                if (round % 4 == 3 && r == (size_t)(round * 97) % ROWS && c == 2) {
+                    static const char *spoil[] = {"1.2.3", "7 ", "x", "", "1,2"};
+                    snprintf(cell, sizeof cell, "%s", spoil[(size_t)round % 5]);
+                    bad_row = r;
+                }
+                n += (size_t)sprintf(text + n, "%s%s", cell,
+                                     c + 1 < COLS ? "," : crlf ? "\r\n" : "\n");
+            }
+        memset(text + n, '\n', 64);
+        const char *lim = text + n + 64;
+        /* Row by row with the one-row scan: where it stops. */
+        const char *p = text;
+        size_t rows_one = 0;
+        char dec = '.';
+        while (p < text + n) {
+            const char *e = el_number_scan_row(p, lim, COLS, ',', &dec, row, 1);
+            if (e == NULL)
+                break;
+            for (size_t c = 0; c < COLS; c++)
+                assert_memory_equal(&row[c], &want[c * ROWS + rows_one], sizeof(double));
+            p = e;
+            rows_one++;
+        }
+        assert_int_equal(rows_one, bad_row);
+        size_t rows = 0;
+        dec = round % 3 == 0 ? 0 : '.'; /* undecided: the first point decides */
+        const char *stop =
+            el_number_scan_rows(text, text + n, lim, COLS, ',', &dec, got, ROWS, ROWS, &rows);
+        assert_int_equal(rows, rows_one);
+        assert_ptr_equal(stop, p);
+        for (size_t c = 0; c < COLS; c++)
+            for (size_t r = 0; r < rows; r++)
+                if (memcmp(&got[c * ROWS + r], &want[c * ROWS + r], sizeof(double)) != 0)
+                    fail_msg("round %d row %zu column %zu: got %.17g, strtod %.17g", round, r,
+                             c, got[c * ROWS + r], want[c * ROWS + r]);
+        /* A row limit is kept. */
+        rows = 0;
+        dec = '.';
+        el_number_scan_rows(text, text + n, lim, COLS, ',', &dec, got, ROWS, 7, &rows);
+        assert_int_equal(rows, bad_row < 7 ? bad_row : 7);
+    }
+    free(text);
+    free(want);
+    free(got);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -242,6 +324,7 @@ int main(void)
         cmocka_unit_test(test_random_digit_strings),
         cmocka_unit_test(test_random_printed_values),
         cmocka_unit_test(test_scan_row),
+        cmocka_unit_test(test_scan_rows_masked),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }
