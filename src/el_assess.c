@@ -689,7 +689,8 @@ static el_status fit_halves(el_assess_plan *ap, const el_assess_options *opt,
         el_split_half_series(s, h, ap->half_values, &half);
         fit->inputs = NULL;
         if (nu > 0) {
-            el_split_half_series(&r->inputs, h, ap->half_values + m * s->n_channels, &half_inputs);
+            el_split_half_series(&r->inputs, h, ap->half_values + m * s->n_channels,
+                                 &half_inputs);
             fit->inputs = &half_inputs;
         }
         sc->half_t[h][0] = half.t0;

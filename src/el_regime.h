@@ -258,9 +258,9 @@ el_status el_regime_run(el_regime *r, const el_series *series,
  * rms_error[c] (n_channels entries, NULL: none) is its RMS error in
  * standard deviations of channel c, so it leaves a fraction rms_error[c]^2
  * of the variance (NaN: no explanation). A channel whose movement explains
- * a share s with rms_error[c]^2 < 1 - s is left out (counted in level_explained), and level_kind and the
- * level_* fields name the largest movement of the channels left (NONE
- * when none is). For the model's free run: a free decay towards the
+ * a share s with rms_error[c]^2 < 1 - s is left out (counted in
+ * level_explained), and level_kind and the level_* fields name the
+ * largest movement of the channels left (NONE when none is). For the model's free run: a free decay towards the
  * operating point looks like a step or a line in the block means, and
  * the run explains it better than either (docs/method.md, "A level that
  * moves"). series must be the one of the last run (sizes checked: a

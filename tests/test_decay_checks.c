@@ -486,7 +486,8 @@ static void test_damping_change_is_drift(void **state)
     ringdown_change_log(&s, 2000, 0.02, 2, 1.0, 0.05, 0.25, 30.0, 32);
     assess(&s, &r);
     if (r.nonstat != EL_NONSTAT_DRIFT)
-        print_error("ring-down: nonstat %s, halves %.4g (sd %.3g) and %.4g (sd %.3g), z %.3g; %s\n",
+        print_error("ring-down: nonstat %s, halves %.4g (sd %.3g) and %.4g (sd %.3g), "
+                    "z %.3g; %s\n",
                     el_nonstat_name(r.nonstat), r.split.decay_rate[0], r.split.decay_sd[0],
                     r.split.decay_rate[1], r.split.decay_sd[1], r.split.z_decay,
                     r.split.not_tested);
