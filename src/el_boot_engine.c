@@ -64,6 +64,13 @@ struct el_boot_engine {
     int runs;             /* re-add pairs by the provider's accumulate (wide states) */
     size_t block_steps;   /* el_boot_engine_plan_blocks: block length / stride (0: none) */
     double *block_sum;    /* (n_chk - block_steps) * d: P(q + block_steps) - P(q) */
+    /* Wide engines (el_boot_engine_create_wide): no prefix table; after
+     * el_boot_engine_plan_blocks the centred sums of every block of the
+     * planned length and of the cut length that starts on the stride, in
+     * single precision. */
+    int wide;
+    size_t wide_len, wide_cut, wide_rows;  /* block length, cut length, rows */
+    float *wide_block, *wide_cut_sum;      /* wide_rows * d each */
 };
 
 /* Hint to fetch a table row before it is needed: a replicate's rows are
@@ -240,6 +247,60 @@ static el_status engine_create(const el_boot_provider *provider,
     return EL_OK;
 }
 
+el_status el_boot_engine_create_wide(const el_boot_provider *provider,
+                                     const el_boot_dims *dims, const double *states,
+                                     size_t n_states, size_t stride,
+                                     el_boot_engine **engine, el_error *err)
+{
+    if (engine == NULL)
+        return el_error_set(err, EL_ERR_INTERNAL, "el_boot_engine_create_wide: engine is NULL");
+    *engine = NULL;
+    size_t span = provider != NULL && dims != NULL ? provider->span(dims) : 0;
+    if (provider == NULL || dims == NULL || states == NULL || dims->r == 0 || span < 1
+        || n_states < span || provider->accumulate == NULL)
+        return el_error_set(err, EL_ERR_INTERNAL,
+                            "el_boot_engine_create_wide: bad arguments (r %zu, %zu states)",
+                            dims != NULL ? dims->r : 0, n_states);
+    el_boot_engine *e = calloc(1, sizeof *e);
+    if (e == NULL)
+        return el_error_set(err, EL_ERR_NOMEM, "out of memory (bootstrap engine)");
+    e->prov = provider;
+    e->dims = *dims;
+    e->r = dims->r;
+    e->sw = dims->r + dims->n_inputs;
+    e->n_states = n_states;
+    e->n_pairs = n_states - span + 1;
+    e->d = provider->n_features(dims);
+    e->states = states;
+    e->wide = 1;
+    e->runs = 1;
+    /* The stride the prefix table would have had (its memory cap): the
+     * block grid, and so the replicates' draws, stay what they were. */
+    double table_bytes = (double)(e->n_pairs + 1) * (double)e->d * sizeof(double);
+    e->stride = (size_t)ceil(table_bytes / (double)EL_BOOT_DEFAULT_MAX_BYTES);
+    if (e->stride < stride)
+        e->stride = stride;
+    if (e->stride < 1)
+        e->stride = 1;
+    e->n_chk = e->n_pairs / e->stride + 1;
+    size_t d = e->d;
+    e->gbar = calloc(d, sizeof(double));
+    double *s = calloc(3 * d + provider->work_doubles(dims), sizeof(double));
+    if (e->gbar == NULL || s == NULL) {
+        free(s);
+        el_boot_engine_destroy(e);
+        return el_error_set(err, EL_ERR_NOMEM, "out of memory (bootstrap engine, %zu pairs)",
+                            n_states);
+    }
+    sum_pairs_compensated(provider, &e->dims, states, 0, e->n_pairs, NULL, s, s + d,
+                          s + 2 * d, s + 3 * d);
+    for (size_t f = 0; f < d; f++)
+        e->gbar[f] = (s[f] + s[d + f]) / (double)e->n_pairs;
+    free(s);
+    *engine = e;
+    return EL_OK;
+}
+
 void el_boot_engine_destroy(el_boot_engine *engine)
 {
     if (engine == NULL)
@@ -247,6 +308,8 @@ void el_boot_engine_destroy(el_boot_engine *engine)
     free(engine->gbar);
     free(engine->prefix);
     free(engine->block_sum);
+    free(engine->wide_block);
+    free(engine->wide_cut_sum);
     free(engine);
 }
 
@@ -261,7 +324,7 @@ size_t el_boot_engine_work_doubles(const el_boot_engine *engine)
 
 void el_boot_engine_set_runs(el_boot_engine *engine, int runs)
 {
-    if (engine != NULL)
+    if (engine != NULL && !engine->wide)
         engine->runs = runs != 0 && engine->prov->accumulate != NULL;
 }
 
@@ -290,9 +353,96 @@ static void add_prefix(const el_boot_engine *e, size_t j, double sign,
     }
 }
 
+/* acc (d doubles, zeroed here) = sum of the features of pairs [k0, k0 +
+ * len) by the provider's accumulate; g: the provider's work. */
+static void run_sum(const el_boot_engine *e, size_t k0, size_t len, double *acc, double *g)
+{
+    memset(acc, 0, e->d * sizeof(double));
+    if (len > 0)
+        e->prov->accumulate(&e->dims, e->states + k0 * e->sw, len, acc, g);
+}
+
+/* row = (float)(sum - len * gbar). */
+static void store_centred(const el_boot_engine *e, const double *sum, size_t len, float *row)
+{
+    for (size_t f = 0; f < e->d; f++)
+        row[f] = (float)(sum[f] - (double)len * e->gbar[f]);
+}
+
+/* The wide engine's tables: for every start q * stride that a block of
+ * block_length pairs can have, the centred sum of that block and of the
+ * cut last block of a replicate (the pairs left over, n_pairs - (nb - 1)
+ * block_length). Sliding sums: each step adds the run of stride pairs that
+ * enters a block and takes away the one that leaves it, so the tables
+ * cost about three passes of the provider's accumulate over the pairs
+ * whatever the block length. Single precision: a block's centred sum is
+ * O(sqrt(block) sd) of the features, and its float rounding (6e-8
+ * relative) is some 1e-7 of the bootstrap's own spread, while it halves
+ * the table and the memory traffic of a replicate (two double prefix
+ * rows per block before, one float row now). */
+static el_status plan_wide(el_boot_engine *e, size_t block_length, el_error *err)
+{
+    size_t s = e->stride, d = e->d, len = block_length;
+    size_t nb = el_boot_block_count(e->n_pairs, len);
+    size_t cut = e->n_pairs - (nb - 1) * len;
+    size_t rows = (e->n_pairs - len) / s + 1;
+    float *tb = malloc(rows * d * sizeof(float));
+    float *tc = cut < len ? malloc(rows * d * sizeof(float)) : NULL;
+    size_t wd = e->prov->work_doubles(&e->dims);
+    double *buf = malloc((4 * d + wd) * sizeof(double));
+    if (tb == NULL || buf == NULL || (cut < len && tc == NULL)) {
+        free(tb);
+        free(tc);
+        free(buf);
+        return el_error_set(err, EL_ERR_NOMEM, "out of memory (bootstrap block table)");
+    }
+    double *bsum = buf, *tail = buf + d, *run = buf + 2 * d, *out = buf + 3 * d;
+    double *g = buf + 4 * d;
+    /* bsum: pairs [q s, q s + len); tail: pairs [q s + cut, q s + len). */
+    run_sum(e, 0, len, bsum, g);
+    if (tc != NULL)
+        run_sum(e, cut, len - cut, tail, g);
+    for (size_t q = 0; q < rows; q++) {
+        store_centred(e, bsum, len, tb + q * d);
+        if (tc != NULL) {
+            for (size_t f = 0; f < d; f++)
+                out[f] = bsum[f] - tail[f];
+            store_centred(e, out, cut, tc + q * d);
+        }
+        if (q + 1 == rows)
+            break;
+        size_t a = q * s;
+        run_sum(e, a + len, s, run, g);          /* enters both */
+        for (size_t f = 0; f < d; f++) {
+            bsum[f] += run[f];
+            tail[f] += run[f];
+        }
+        run_sum(e, a, s, run, g);                /* leaves the block */
+        for (size_t f = 0; f < d; f++)
+            bsum[f] -= run[f];
+        if (tc != NULL) {
+            run_sum(e, a + cut, s, run, g);      /* leaves the tail */
+            for (size_t f = 0; f < d; f++)
+                tail[f] -= run[f];
+        }
+    }
+    free(buf);
+    free(e->wide_block);
+    free(e->wide_cut_sum);
+    e->wide_block = tb;
+    e->wide_cut_sum = tc;
+    e->wide_len = len;
+    e->wide_cut = cut;
+    e->wide_rows = rows;
+    return EL_OK;
+}
+
 el_status el_boot_engine_plan_blocks(el_boot_engine *engine, size_t block_length,
                                      el_error *err)
 {
+    if (engine != NULL && engine->wide && block_length > 0
+        && block_length <= engine->n_pairs)
+        return plan_wide(engine, block_length, err);
     if (engine == NULL || block_length == 0 || block_length % engine->stride != 0
         || block_length > engine->n_pairs)
         return el_error_set(err, EL_ERR_INTERNAL,
@@ -332,11 +482,68 @@ static void prefetch_block(const el_boot_engine *e, const el_boot_block *bl)
     }
 }
 
+/* The planned table row of a block of a wide engine, or NULL. */
+static const float *wide_row(const el_boot_engine *e, const el_boot_block *bl)
+{
+    if (e->wide_block == NULL || bl->start % e->stride != 0
+        || bl->start / e->stride >= e->wide_rows)
+        return NULL;
+    size_t q = bl->start / e->stride;
+    if (bl->length == e->wide_len)
+        return e->wide_block + q * e->d;
+    if (e->wide_cut_sum != NULL && bl->length == e->wide_cut)
+        return e->wide_cut_sum + q * e->d;
+    return NULL;
+}
+
+/* Features per tile of wide_sum: 2,048 doubles of the sum (16 KiB) stay
+ * in the first-level cache while every block's float row adds its part. */
+#define BOOT_WIDE_TILE 2048
+
+/* el_boot_engine_sum of a wide engine: a table row per planned block,
+ * else the block's pairs by the provider's accumulate. The rows are added
+ * a tile of features at a time (all blocks per tile): the sum of a wide
+ * state is megabytes, and adding whole rows in turn moved it through
+ * memory once per block. Each feature still adds its blocks in order. */
+static void wide_sum(const el_boot_engine *e, const el_boot_block *blocks,
+                     size_t n_blocks, double *sum, double *work)
+{
+    size_t d = e->d, total = 0;
+    memset(sum, 0, d * sizeof(double));
+    for (size_t b = 0; b < n_blocks; b++) {
+        total += blocks[b].length;
+        if (wide_row(e, &blocks[b]) != NULL)
+            continue;
+        run_sum(e, blocks[b].start, blocks[b].length, work, work + d);
+        double len = (double)blocks[b].length;
+        for (size_t f = 0; f < d; f++)
+            sum[f] += work[f] - len * e->gbar[f];
+    }
+    for (size_t f0 = 0; f0 < d; f0 += BOOT_WIDE_TILE) {
+        size_t f1 = f0 + BOOT_WIDE_TILE < d ? f0 + BOOT_WIDE_TILE : d;
+        for (size_t b = 0; b < n_blocks; b++) {
+            const float *row = wide_row(e, &blocks[b]);
+            if (row == NULL)
+                continue;
+            double *restrict acc = sum;
+            const float *restrict p = row;
+            for (size_t f = f0; f < f1; f++)
+                acc[f] += (double)p[f];
+        }
+    }
+    for (size_t f = 0; f < d; f++)
+        sum[f] += (double)total * e->gbar[f];
+}
+
 void el_boot_engine_sum(const el_boot_engine *engine,
                         const el_boot_block *blocks, size_t n_blocks,
                         double *sum, double *work)
 {
     const el_boot_engine *e = engine;
+    if (e->wide) {
+        wide_sum(e, blocks, n_blocks, sum, work);
+        return;
+    }
     size_t d = e->d, total = 0, planned = e->block_steps * e->stride;
     memset(sum, 0, d * sizeof(double));
     for (size_t b = 0; b < n_blocks; b++) {
@@ -425,6 +632,8 @@ static double flat_top(double t)
     return 0.0;
 }
 
+static el_status pw_length(double *y, size_t n, double *b_out, el_error *err);
+
 el_status el_boot_pw_block_length(const double *x, size_t n, double *b_out,
                                   el_error *err)
 {
@@ -432,6 +641,26 @@ el_status el_boot_pw_block_length(const double *x, size_t n, double *b_out,
     if (n < 8)
         return EL_OK;
     double *y = malloc(n * sizeof(double));
+    if (y == NULL)
+        return el_error_set(err, EL_ERR_NOMEM, "out of memory (block length)");
+    memcpy(y, x, n * sizeof(double));
+    el_status st = pw_length(y, n, b_out, err);
+    free(y);
+    return st;
+}
+
+el_status el_boot_pw_block_length_inplace(double *x, size_t n, double *b_out, el_error *err)
+{
+    *b_out = 1.0;
+    if (n < 8)
+        return EL_OK;
+    return pw_length(x, n, b_out, err);
+}
+
+/* The block length of y (n >= 8), demeaned in place. */
+static el_status pw_length(double *y, size_t n, double *b_out, el_error *err)
+{
+    const double *x = y;
     size_t kn = (size_t)ceil(sqrt(log10((double)n)));
     if (kn < 5)
         kn = 5;
@@ -439,11 +668,8 @@ el_status el_boot_pw_block_length(const double *x, size_t n, double *b_out,
     if (m_max + kn >= n)
         m_max = n > kn + 1 ? n - kn - 1 : 0;
     double *acv = malloc((m_max + kn + 1) * sizeof(double));
-    if (y == NULL || acv == NULL) {
-        free(y);
-        free(acv);
+    if (acv == NULL)
         return el_error_set(err, EL_ERR_NOMEM, "out of memory (block length)");
-    }
     double mean = 0.0;
     for (size_t t = 0; t < n; t++)
         mean += x[t];
@@ -453,7 +679,6 @@ el_status el_boot_pw_block_length(const double *x, size_t n, double *b_out,
     size_t have = 0; /* acv[0..have) computed; autocovariances are costly, so lazily */
     acv[have++] = autocov(y, n, 0);
     if (!(acv[0] > 0.0)) {
-        free(y);
         free(acv);
         return EL_OK;
     }
@@ -484,7 +709,6 @@ el_status el_boot_pw_block_length(const double *x, size_t n, double *b_out,
         g_sum += 2.0 * lam * acv[k];
         big_g += 2.0 * lam * (double)k * acv[k];
     }
-    free(y);
     free(acv);
     if (!(g_sum > 0.0))
         return EL_OK;

@@ -75,6 +75,27 @@ el_status el_boot_engine_create_strided(const el_boot_provider *provider,
                                         size_t stride, el_boot_engine **engine,
                                         el_error *err);
 
+/* An engine for wide states (hundreds of reduced states, where one pair's
+ * features are hundreds of thousands of doubles; the provider must have
+ * accumulate): no prefix table, only the mean feature vector from one
+ * compensated pass, and after el_boot_engine_plan_blocks a table of the
+ * centred sums of every block of the planned length, and of the cut last
+ * block of a replicate, that starts on the stride, in single precision
+ * (half the memory of the prefix table it replaces and a quarter of a
+ * replicate's memory traffic: one float row per block instead of two
+ * double prefix rows). Any other block is summed from the states by the
+ * provider's accumulate. The stride is the one el_boot_engine_create
+ * would take under its default memory cap, or the one given when larger,
+ * so that blocks drawn on it are the same draws. Sums differ from the
+ * prefix engine's by the float rounding of the table (about 1e-7 of a
+ * block's deviation from its mean, far below the bootstrap's spread:
+ * docs/uncertainty.md). Errors as el_boot_engine_create, and
+ * EL_ERR_INTERNAL for a provider without accumulate. */
+el_status el_boot_engine_create_wide(const el_boot_provider *provider,
+                                     const el_boot_dims *dims, const double *states,
+                                     size_t n_states, size_t stride,
+                                     el_boot_engine **engine, el_error *err);
+
 /* Sets how el_boot_engine_sum re-adds the pairs between a block's end and
  * the stored prefix before it: 0 (default) one feature vector per pair,
  * 1 runs of pairs by the provider's accumulate (its matrix products; a
@@ -82,7 +103,7 @@ el_status el_boot_engine_create_strided(const el_boot_provider *provider,
  * are far faster for wide states, where one pair's features are
  * hundreds of thousands of products (el_resample sets 1 from
  * EL_BOOT_WIDE_STATES reduced states on, so narrower ones keep their
- * bits). NULL is a no-op. */
+ * bits). NULL and wide engines (always in runs) are a no-op. */
 void el_boot_engine_set_runs(el_boot_engine *engine, int runs);
 
 /* Frees the engine. NULL is a no-op. */
@@ -101,7 +122,9 @@ size_t el_boot_engine_work_doubles(const el_boot_engine *engine);
  * such a block instead of the difference of two, the same numbers to the
  * last bit (the difference is the one it would take) at half the memory
  * traffic, which is what a replicate's cost is made of. The table has as
- * many rows as the prefix table. A later call replaces the table.
+ * many rows as the prefix table. A later call replaces the table. On a
+ * wide engine (el_boot_engine_create_wide) it builds that engine's
+ * tables (block_length any length up to the pairs).
  * Errors: EL_ERR_INTERNAL for a NULL engine or a bad length;
  * EL_ERR_NOMEM. */
 el_status el_boot_engine_plan_blocks(el_boot_engine *engine, size_t block_length,
@@ -134,6 +157,11 @@ int el_boot_engine_assemble(const el_boot_engine *engine,
  * or with g <= 0. *b_out is the real-valued b. EL_ERR_NOMEM. */
 el_status el_boot_pw_block_length(const double *x, size_t n, double *b_out,
                                   el_error *err);
+
+/* el_boot_pw_block_length on x itself: x is demeaned in place (the same
+ * doubles the copy would hold), which saves a copy of the series. */
+el_status el_boot_pw_block_length_inplace(double *x, size_t n, double *b_out,
+                                          el_error *err);
 
 /* The provider's solve on the sum of the features of every pair (the
  * full-sample refit), in one compensated pass. work holds 4 d +

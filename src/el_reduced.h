@@ -23,10 +23,12 @@
  * instruction sequence. */
 int el_reduced_cholesky(size_t n, double *s, double rel_tol);
 
-/* Solves L x = b in place (L lower, from el_reduced_cholesky). */
+/* Solves L x = b in place (L lower, from el_reduced_cholesky). From order
+ * 128 on by BLAS (dtrsv; the same solution to rounding, several times
+ * faster there); below it by plain loops, the same bits on every CPU. */
 void el_reduced_forward_subst(size_t n, const double *l, double *x);
 
-/* Solves L' x = b in place. */
+/* Solves L' x = b in place (BLAS from order 128 on, as above). */
 void el_reduced_backward_subst(size_t n, const double *l, double *x);
 
 /* The projection that reduced states start from: p[t] = U_r' (z[t] -

@@ -107,6 +107,7 @@ typedef struct {
     unsigned char *bias_ok;
     size_t r, sw, nu, m, block, block_pw, grid, n_modes, total, n_bias;
     size_t max_blocks;            /* blocks of one replicate */
+    size_t nu_ls;                 /* inputs in the least-squares states */
     int wide;                     /* model replicates: simulate, then accumulate */
     size_t wide_from;             /* reduced states from which the wide paths apply */
     /* A round too small to judge by its own spread (fewer than
@@ -497,10 +498,61 @@ static void reduced_residuals(const double *states, size_t m, size_t r, size_t n
             res[k * r + i] -= mean[i];
 }
 
+/* Pairs whose residuals are made at a time when they are not stored. */
+#define BOOT_RESID_CHUNK 4096
+
+/* Residuals of more cells (pairs x reduced states) than this are not
+ * stored when only the block length needs them (moving blocks): each
+ * component is made again, a chunk of pairs at a time, for its
+ * Politis-White length. At 1e6 x 8 that is 64 MB less at the bootstrap's
+ * peak for some 0.1 s of products. Below it (every log under 260,000
+ * pairs at 8 states) they are stored once as before. */
+#define BOOT_RESID_STORE_MAX_CELLS ((size_t)1 << 21)
+
+/* The point fit whose residuals are made on the fly. */
 typedef struct {
-    const double *res;
+    const double *states, *a, *bm, *c;
+    size_t m, r, nu;
+} resid_source;
+
+/* Component i of the centred residuals (reduced_residuals' res[k r + i])
+ * into x (m doubles), a chunk of pairs at a time through chunk (r x
+ * BOOT_RESID_CHUNK doubles). The same products on a chunk's columns give
+ * the same doubles as on all of them (checked under every OpenBLAS kernel
+ * the tests run: the product of one column does not depend on the
+ * others), and the mean adds them in the same order, so x is bit for bit
+ * the stored column. */
+static void resid_component(const resid_source *src, size_t i, double *x, double *chunk)
+{
+    size_t r = src->r, nu = src->nu, sw = r + nu, m = src->m;
+    double mean = 0.0;
+    for (size_t k0 = 0; k0 < m; k0 += BOOT_RESID_CHUNK) {
+        size_t n = m - k0 < BOOT_RESID_CHUNK ? m - k0 : BOOT_RESID_CHUNK;
+        for (size_t k = 0; k < n; k++)
+            memcpy(chunk + k * r, src->states + (k0 + k + 1) * sw, r * sizeof(double));
+        cblas_dgemm(CblasColMajor, CblasNoTrans, CblasNoTrans, (int)r, (int)n, (int)r, -1.0,
+                    src->a, (int)r, src->states + k0 * sw, (int)sw, 1.0, chunk, (int)r);
+        if (nu > 0)
+            cblas_dgemm(CblasColMajor, CblasNoTrans, CblasNoTrans, (int)r, (int)n, (int)nu,
+                        -1.0, src->bm, (int)r, src->states + k0 * sw + r, (int)sw, 1.0, chunk,
+                        (int)r);
+        for (size_t k = 0; k < n; k++) {
+            double v = chunk[k * r + i] - src->c[i];
+            x[k0 + k] = v;
+            mean += v;
+        }
+    }
+    mean /= (double)m;
+    for (size_t k = 0; k < m; k++)
+        x[k] -= mean;
+}
+
+typedef struct {
+    const double *res;            /* stored residuals, or NULL: made from src */
+    const resid_source *src;
     size_t m, r;
     double *x;                    /* m doubles per thread */
+    double *chunk;                /* r x BOOT_RESID_CHUNK per thread (streamed) */
     double *b;                    /* r: each component's length */
     el_status *st;                /* r */
 } pw_ctx;
@@ -509,25 +561,31 @@ static void pw_component(void *arg, size_t i, size_t slot)
 {
     pw_ctx *c = arg;
     double *x = c->x + slot * c->m;
-    for (size_t k = 0; k < c->m; k++)
-        x[k] = c->res[k * c->r + i];
+    if (c->res != NULL) {
+        for (size_t k = 0; k < c->m; k++)
+            x[k] = c->res[k * c->r + i];
+    } else {
+        resid_component(c->src, i, x, c->chunk + slot * c->r * BOOT_RESID_CHUNK);
+    }
     el_error err;
     el_error_clear(&err);
     c->b[i] = 1.0;
-    c->st[i] = el_boot_pw_block_length(x, c->m, &c->b[i], &err);
+    c->st[i] = el_boot_pw_block_length_inplace(x, c->m, &c->b[i], &err);
 }
 
 /* Politis-White on each reduced residual component (on up to threads
- * threads); the largest wins, so the component with the longest memory
- * sets the block. */
-static el_status auto_block(const double *res, size_t m, size_t r, size_t threads,
-                            size_t *block, el_error *err)
+ * threads; res NULL: each component made from src); the largest wins, so
+ * the component with the longest memory sets the block. */
+static el_status auto_block(const double *res, const resid_source *src, size_t m, size_t r,
+                            size_t threads, size_t *block, el_error *err)
 {
     size_t slots = el_chunks_threads(r, threads);
-    pw_ctx c = { res, m, r, malloc(slots * m * sizeof(double)), malloc(r * sizeof(double)),
-                 malloc(r * sizeof(el_status)) };
-    if (c.x == NULL || c.b == NULL || c.st == NULL) {
+    pw_ctx c = { res, src, m, r, malloc(slots * m * sizeof(double)),
+                 res == NULL ? malloc(slots * r * BOOT_RESID_CHUNK * sizeof(double)) : NULL,
+                 malloc(r * sizeof(double)), malloc(r * sizeof(el_status)) };
+    if (c.x == NULL || c.b == NULL || c.st == NULL || (res == NULL && c.chunk == NULL)) {
         free(c.x);
+        free(c.chunk);
         free(c.b);
         free(c.st);
         return el_error_set(err, EL_ERR_NOMEM, "out of memory (block length)");
@@ -542,6 +600,7 @@ static el_status auto_block(const double *res, size_t m, size_t r, size_t thread
             best = c.b[i];
     }
     free(c.x);
+    free(c.chunk);
     free(c.b);
     free(c.st);
     if (st != EL_OK)
@@ -847,20 +906,21 @@ static size_t grid_base(size_t pairs)
 
 /* The block table of el_boot_engine_plan_blocks, when the block length
  * is a multiple of the engine's stride and the table stays within the
- * memory the prefix table may take (else blocks read two prefix rows).
- * Wide states, whose prefix table has taken that memory already (its
- * stride raised by the cap), keep to it for both tables: the table would
- * double the peak (a 200-channel log: 270 MB more) to halve a part of a
- * replicate's time that is no longer the largest. The sums are the same
- * to the last bit either way. */
+ * memory the prefix table may take (else blocks read two prefix rows;
+ * the sums are the same to the last bit either way). Wide states have a
+ * wide engine (el_boot_engine_create_wide), whose float tables of the
+ * block and of the cut block replace its prefix table in the same memory:
+ * always planned. */
 static el_status plan_block_table(el_boot_engine *engine, size_t block, int wide,
                                   el_error *err)
 {
+    if (wide)
+        return block <= el_boot_engine_pairs(engine)
+                   ? el_boot_engine_plan_blocks(engine, block, err)
+                   : EL_OK;
     size_t stride = el_boot_engine_stride(engine);
     double rows = (double)(el_boot_engine_pairs(engine) / stride + 1);
     double bytes = rows * (double)el_boot_engine_features(engine) * sizeof(double);
-    if (wide)
-        bytes *= 2.0;
     if (block % stride != 0 || block > el_boot_engine_pairs(engine)
         || bytes > (double)EL_BOOT_DEFAULT_MAX_BYTES)
         return EL_OK;
@@ -881,14 +941,19 @@ typedef struct {
     el_error err;
     pthread_t tid;
     int on_thread;
+    int wide;                     /* el_boot_engine_create_wide (wide states) */
 } engine_job;
 
 static void *engine_job_run(void *arg)
 {
     engine_job *j = arg;
     el_error_clear(&j->err);
-    j->st = el_boot_engine_create_strided(j->prov, &j->dims, j->states, j->n_states,
-                                          j->stride, &j->engine, &j->err);
+    if (j->wide)
+        j->st = el_boot_engine_create_wide(j->prov, &j->dims, j->states, j->n_states,
+                                           j->stride, &j->engine, &j->err);
+    else
+        j->st = el_boot_engine_create_strided(j->prov, &j->dims, j->states, j->n_states,
+                                              j->stride, &j->engine, &j->err);
     return NULL;
 }
 
@@ -977,6 +1042,7 @@ static el_status engine_states(const el_series *series, const el_series *inputs,
     job->states = states;
     job->n_states = n_states;
     job->stride = stride;
+    job->wide = dims.r >= sh->wide_from && prov->accumulate != NULL;
     sh->prov = prov;
     return EL_OK;
 }
@@ -1003,7 +1069,8 @@ static el_status block_length(const el_boot_options *opt, boot_shared *sh, boot_
             sh->block = opt->block_length;
         return EL_OK; /* blocks: engine_states set block and grid */
     }
-    el_status st = auto_block(bf->resid, ls_pairs, r, threads, &sh->block, err);
+    resid_source src = { bf->states, bf->a0, bf->b0, bf->c0, ls_pairs, r, sh->nu_ls };
+    el_status st = auto_block(bf->resid, &src, ls_pairs, r, threads, &sh->block, err);
     if (st != EL_OK)
         return st;
     sh->block_pw = sh->block;
@@ -1059,8 +1126,20 @@ static el_status prepare(const el_series *series, const el_series *inputs,
     bf->b0 = malloc((r * nu + 1) * sizeof(double));
     bf->c0 = malloc(r * sizeof(double));
     bf->pwork = malloc((4 * d + ls->work_doubles(&dims)) * sizeof(double));
-    bf->resid = malloc((m + 1) * r * sizeof(double));
-    if (!bf->a0 || !bf->b0 || !bf->c0 || !bf->pwork || !bf->resid) {
+    /* Residuals stored when model-based replicates (or the bias round)
+     * read them, or when they are small; else made per component for the
+     * block length only (BOOT_RESID_STORE_MAX_CELLS). */
+    const el_boot_bias_plan bias_plan = el_boot_bias_rule(model->n_pairs);
+    int model_reads = opt->kind == EL_RESAMPLE_MODEL
+                      || (opt->bias_correct && type->model_resampling
+                          && bias_plan.replicates > 0);
+    size_t cap = opt->resid_store_cells > 0 ? opt->resid_store_cells
+                                            : BOOT_RESID_STORE_MAX_CELLS;
+    int store = model_reads || (opt->block_length == 0 && (m + 1) * r <= cap);
+    sh->nu_ls = nu;
+    if (store)
+        bf->resid = malloc((m + 1) * r * sizeof(double));
+    if (!bf->a0 || !bf->b0 || !bf->c0 || !bf->pwork || (store && !bf->resid)) {
         st = el_error_set(err, EL_ERR_NOMEM, "out of memory (bootstrap)");
     } else if (el_boot_full_sample_solve(ls, &dims, bf->states, m + 1, bf->a0, bf->b0, bf->c0,
                                  bf->pwork)) {
@@ -1068,7 +1147,7 @@ static el_status prepare(const el_series *series, const el_series *inputs,
         el_error_hint(err, "use a lower --rank");
         st = EL_ERR_NUMERIC;
     }
-    if (st == EL_OK)
+    if (st == EL_OK && bf->resid != NULL)
         reduced_residuals(bf->states, m, r, nu, bf->a0, bf->b0, bf->c0, bf->resid);
     /* The engine is done by now (it and the refit take about as long);
      * the block length then has every thread. */
@@ -1096,7 +1175,7 @@ static el_status prepare(const el_series *series, const el_series *inputs,
     if (jst != EL_OK)
         return jst;
     if (opt->kind == EL_RESAMPLE_BLOCKS) {
-        st = plan_block_table(engine, sh->block, r >= sh->wide_from, err);
+        st = plan_block_table(engine, sh->block, job.wide, err);
         if (st != EL_OK)
             return st;
     }

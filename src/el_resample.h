@@ -95,8 +95,16 @@ typedef struct el_boot_options {
      * whole series first and sums its features by the provider's matrix
      * products (EL_BOOT_WIDE_STATES when 0): the same sums to rounding,
      * several times faster for wide states; below it the pair-by-pair
-     * path keeps the bits it always gave. Tests set 1 to compare them. */
+     * path keeps the bits it always gave. Tests set 1 to compare them.
+     * From it on, moving blocks also use the wide engine
+     * (el_boot_engine_create_wide: float block tables, no prefix table). */
     size_t wide_states;
+    /* Most residual cells (pairs x reduced states) stored for the
+     * automatic block length when no model-based replicate reads them
+     * (2^21, 16 MiB, when 0); above it each component is made again for
+     * its Politis-White length, the same doubles without the array (a
+     * 1e6 x 8 log: 64 MB less). Tests set 1 to compare the two. */
+    size_t resid_store_cells;
 } el_boot_options;
 
 /* Fills opt with the defaults listed above. */

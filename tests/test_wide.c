@@ -211,6 +211,72 @@ static void test_engine_runs_match_pairs(void **state)
     free(w);
 }
 
+/* The wide engine (el_boot_engine_create_wide: no prefix table, float
+ * tables of the planned block and of the cut block) sums what the prefix
+ * engine sums, on replicates drawn on its grid (every block from a table
+ * row) and on blocks off the grid (summed from the states). */
+static void test_wide_engine_matches_prefix(void **state)
+{
+    (void)state;
+    size_t r = 12, n_states = 700, stride = 8, block = 48;
+    double *w = ring_values(r, n_states, 6);
+    double *st = malloc(r * n_states * sizeof(double));
+    assert_non_null(st);
+    for (size_t k = 0; k < n_states; k++)
+        for (size_t c = 0; c < r; c++)
+            st[k * r + c] = w[c * n_states + k];
+    el_boot_dims dims = { r, 0, 0 };
+    const el_boot_provider *prov = el_boot_provider_ls();
+    el_boot_engine *ref = NULL, *wide = NULL;
+    el_error err;
+    el_error_clear(&err);
+    assert_int_equal(el_boot_engine_create_strided(prov, &dims, st, n_states, stride, &ref,
+                                                   &err), EL_OK);
+    assert_int_equal(el_boot_engine_create_wide(prov, &dims, st, n_states, stride, &wide,
+                                                &err), EL_OK);
+    assert_int_equal(el_boot_engine_stride(wide), stride);
+    assert_int_equal(el_boot_engine_pairs(wide), el_boot_engine_pairs(ref));
+    assert_int_equal(el_boot_engine_plan_blocks(wide, block, &err), EL_OK);
+    size_t d = el_boot_engine_features(ref), m = el_boot_engine_pairs(ref);
+    size_t wd = el_boot_engine_work_doubles(ref);
+    assert_true(wd >= el_boot_engine_work_doubles(wide));
+    double *a = malloc(d * sizeof(double)), *b = malloc(d * sizeof(double));
+    double *work = malloc(wd * sizeof(double));
+    el_boot_block *blocks = malloc((m / block + 2) * sizeof(el_boot_block));
+    assert_true(a && b && work && blocks);
+    el_rng rng;
+    el_rng_seed(&rng, 11, 0);
+    for (int rep = 0; rep < 40; rep++) {
+        size_t nb = el_boot_draw_blocks_grid(&rng, m, block, stride, blocks);
+        if (rep % 4 == 3) /* off the grid and not of a planned length */
+            blocks[0] = (el_boot_block){ 5 + (size_t)rep, 31 };
+        el_boot_engine_sum(ref, blocks, nb, a, work);
+        el_boot_engine_sum(wide, blocks, nb, b, work);
+        /* Features are sums over ~700 pairs of products of values of
+         * variance ~6 (sizes up to ~4000); a block's centred sum is
+         * O(sqrt(48) 6) = O(50) per feature, its float rounding 6e-8 of
+         * that (3e-6) per block, ~15 blocks: 1e-4 absolute is the float
+         * bound with a factor 2; the double paths alone agree to 1e-9.
+         * A lost or doubled block moves a feature by O(50). */
+        for (size_t f = 0; f < d; f++)
+            assert_close(b[f], a[f], 0.0, 1e-4);
+    }
+    /* The full sample, summed from the states. */
+    el_boot_block all = { 0, m };
+    el_boot_engine_sum(ref, &all, 1, a, work);
+    el_boot_engine_sum(wide, &all, 1, b, work);
+    for (size_t f = 0; f < d; f++)
+        assert_close(b[f], a[f], 0.0, 1e-9 * fmax(1.0, fabs(a[f])));
+    el_boot_engine_destroy(ref);
+    el_boot_engine_destroy(wide);
+    free(a);
+    free(b);
+    free(work);
+    free(blocks);
+    free(st);
+    free(w);
+}
+
 static char *ring_names[40];
 static char *ring_units[40];
 static char ring_name_buf[40][8];
@@ -219,7 +285,7 @@ static void ring_series(el_series *s, double *values, size_t p, size_t n)
 {
     memset(s, 0, sizeof *s);
     for (size_t c = 0; c < p; c++) {
-        snprintf(ring_name_buf[c], sizeof ring_name_buf[c], "s%02zu", c);
+        snprintf(ring_name_buf[c], sizeof ring_name_buf[c], "s%02u", (unsigned)(c % 100));
         ring_names[c] = ring_name_buf[c];
         ring_units[c] = (char *)"";
     }
@@ -299,19 +365,24 @@ static void compare_wide_forced(el_method method, el_resample_kind kind)
     assert_int_equal(el_boot_run(&s, &fit, &model, &modes, &opt, &fast, NULL, &err), EL_OK);
     assert_int_equal(fast.replicates, ref.replicates);
     assert_int_equal(fast.bias_corrected, ref.bias_corrected);
-    /* The same draws through the same model: every replicate differs in
-     * rounding only (~1e-13 of the sampling rate 1/dt = 100 1/s after the
-     * solves and the eigenvalues of well separated modes), so do the
-     * bounds; 1e-8 1/s leaves five orders for amplification and is far
-     * below a wrong path's effect (a lost feature or step moves a
+    /* The same draws through the same model: every model-based replicate
+     * differs in rounding only (~1e-13 of the sampling rate 1/dt = 100
+     * 1/s after the solves and the eigenvalues of well separated modes),
+     * so do the bounds; 1e-8 1/s leaves five orders for amplification.
+     * Moving blocks go through the wide engine's float tables: a block's
+     * centred sum rounded to 6e-8 of itself, which the iv solve and the
+     * eigenvalues amplify by its conditioning (measured: 7e-8 1/s at
+     * most); 1e-5 1/s leaves two orders above that. Both are far below a
+     * wrong path's effect (a lost feature, block or step moves a
      * replicate by its spread, ~0.1 1/s here). */
+    double tol = kind == EL_RESAMPLE_BLOCKS ? 1e-5 : 1e-8;
     for (size_t i = 0; i < ref.replicates * modes.n_modes; i++) {
-        assert_close(fast.lambda_re[i], ref.lambda_re[i], 0.0, 1e-8);
-        assert_close(fast.lambda_im[i], ref.lambda_im[i], 0.0, 1e-8);
+        assert_close(fast.lambda_re[i], ref.lambda_re[i], 0.0, tol);
+        assert_close(fast.lambda_im[i], ref.lambda_im[i], 0.0, tol);
     }
     for (size_t q = 0; q < modes.n_modes; q++) {
-        assert_close(fast.bounds[q].re.lo, ref.bounds[q].re.lo, 0.0, 1e-8);
-        assert_close(fast.bounds[q].re.hi, ref.bounds[q].re.hi, 0.0, 1e-8);
+        assert_close(fast.bounds[q].re.lo, ref.bounds[q].re.lo, 0.0, tol);
+        assert_close(fast.bounds[q].re.hi, ref.bounds[q].re.hi, 0.0, tol);
     }
     assert_close(fast.p_stable, ref.p_stable, 0.0, 0.0);
     el_boot_free(&ref);
@@ -330,13 +401,63 @@ static void test_wide_model_replicates(void **state)
 }
 
 /* iv with moving blocks: LAPACK's eigenvalues (matched to the same modes:
- * no ties here), the engine re-adding in runs and the block grid on the
- * engine's stride (here the stride it was asked for: 6 states are far
- * from the memory cap). */
+ * no ties here), the wide engine (float tables of the block and cut
+ * block sums, no prefix table) and the block grid on the engine's stride
+ * (here the stride it was asked for: 6 states are far from the memory
+ * cap). */
 static void test_wide_iv_blocks(void **state)
 {
     (void)state;
     compare_wide_forced(EL_METHOD_IV, EL_RESAMPLE_BLOCKS);
+}
+
+/* Residuals made per component for the block length (not stored: what a
+ * long log gets, forced here with el_boot_options.resid_store_cells = 1)
+ * give the same bootstrap, bit for bit, as stored residuals: the chunked
+ * products are the same doubles (el_resample.c, resid_component). The
+ * residuals reach the replicates only through the automatic block length,
+ * so this catches a wrong residual series when it moves that length (the
+ * Politis-White length is compared too); the replicates are compared bit
+ * for bit, the claim the narrow logs' byte-for-byte tests rest on. */
+static void test_streamed_residuals_bitwise(void **state)
+{
+    (void)state;
+    size_t p = 8, n = 9000;
+    double *values = mixed_values(p, n, 0.01, 21);
+    el_series s;
+    ring_series(&s, values, p, n);
+    el_fit_options fit;
+    el_fit_defaults(&fit);
+    fit.method = EL_METHOD_IV;
+    fit.rank = 6;
+    el_model model = {0};
+    el_modes modes = {0};
+    el_error err;
+    el_error_clear(&err);
+    assert_int_equal(el_fit(&s, &fit, &model, NULL, &err), EL_OK);
+    assert_int_equal(el_modes_compute(&model, &modes, NULL, &err), EL_OK);
+    el_boot_options opt;
+    el_boot_defaults(&opt);
+    opt.replicates = 150;
+    opt.seed = 5;
+    el_boot_result ref = {0}, streamed = {0};
+    assert_int_equal(el_boot_run(&s, &fit, &model, &modes, &opt, &ref, NULL, &err), EL_OK);
+    opt.resid_store_cells = 1;
+    assert_int_equal(el_boot_run(&s, &fit, &model, &modes, &opt, &streamed, NULL, &err), EL_OK);
+    assert_true(ref.block_was_auto);
+    assert_int_equal(streamed.block_length, ref.block_length);
+    assert_int_equal(streamed.block_length_pw, ref.block_length_pw);
+    assert_int_equal(streamed.replicates, ref.replicates);
+    for (size_t i = 0; i < ref.replicates * modes.n_modes; i++) {
+        assert_true(memcmp(&streamed.lambda_re[i], &ref.lambda_re[i], sizeof(double)) == 0);
+        assert_true(memcmp(&streamed.lambda_im[i], &ref.lambda_im[i], sizeof(double)) == 0);
+    }
+    assert_true(memcmp(&streamed.p_stable, &ref.p_stable, sizeof(double)) == 0);
+    el_boot_free(&ref);
+    el_boot_free(&streamed);
+    el_modes_free(&modes);
+    el_model_free(&model);
+    free(values);
 }
 
 int main(void)
@@ -346,8 +467,10 @@ int main(void)
         cmocka_unit_test(test_chol_refuses_singular),
         cmocka_unit_test(test_gauss_wide_matches_lapack),
         cmocka_unit_test(test_engine_runs_match_pairs),
+        cmocka_unit_test(test_wide_engine_matches_prefix),
         cmocka_unit_test(test_wide_model_replicates),
         cmocka_unit_test(test_wide_iv_blocks),
+        cmocka_unit_test(test_streamed_residuals_bitwise),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }
