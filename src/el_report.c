@@ -423,6 +423,7 @@ static void json_nonstationarity(el_json *j, const el_assessment *r)
     } else {
         el_json_null(j, "level");
     }
+    el_json_int(j, "level_explained", g != NULL ? (long long)g->level_explained : 0);
     el_json_object_begin(j, "split_halves");
     el_json_bool(j, "tested", sc->tested);
     el_json_string(j, "not_tested", sc->tested ? NULL : sc->not_tested);

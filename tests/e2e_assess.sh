@@ -98,5 +98,17 @@ check "stdin JSON names <stdin>; no bootstrap -> p_stable null" $?
 "$bin" assess datasets/booster_pump.csv --help >/dev/null
 check "assess --help exits 0" $?
 
+# A free decay of two channels towards their operating point (closed form:
+# two real modes, -0.2 and -1 1/s) is not two operating points: the model's
+# free run explains the fast fall, so the level check sets it aside, says so
+# in JSON (input.nonstationarity.level_explained) and the verdict is stable.
+awk 'BEGIN { print "t [s],y1,y2"
+    for (k = 0; k < 2000; k++) { t = k * 0.02
+        printf "%.2f,%.9f,%.9f\n", t, 10 + 1.2 * exp(-0.2 * t) + 0.25 * exp(-t),
+            13 - 0.4 * exp(-0.2 * t) + 0.95 * exp(-t) } }' >"$tmp/decay2.csv"
+"$bin" assess "$tmp/decay2.csv" --boot 100 --json "$tmp/decay2.json" >/dev/null 2>&1
+grep -q '"level_explained": 1' "$tmp/decay2.json" && grep -q '"stability": "stable"' "$tmp/decay2.json"
+check "a free decay is not a level step: level_explained 1, stable" $?
+
 echo "e2e_assess: $passed passed, $failed failed"
 [ "$failed" -eq 0 ]
