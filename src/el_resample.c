@@ -5,6 +5,7 @@
 #include "el_boot_bounds.h"
 #include "el_boot_engine.h"
 #include "el_boot_match.h"
+#include "el_boot_resid.h"
 #include "el_chunks.h"
 #include "el_eig.h"
 #include "el_estimator.h"
@@ -462,152 +463,6 @@ static size_t thread_count(size_t asked, size_t replicates)
     if (t > 256)
         t = 256;
     return t < 1 ? 1 : t;
-}
-
-/* Residuals of the point fit in reduced coordinates, centred (states of
- * r + nu doubles, the inputs after the state). */
-static void reduced_residuals(const double *states, size_t m, size_t r, size_t nu,
-                              const double *a, const double *bm, const double *c,
-                              double *res)
-{
-    double *mean = res + m * r; /* caller gives r spare doubles */
-    size_t sw = r + nu;
-    /* res = Y - A X - B U (columns are pairs), then minus c and centred. */
-    if (sw == r) {
-        memcpy(res, states + r, m * r * sizeof(double));
-    } else {
-        for (size_t k = 0; k < m; k++)
-            for (size_t i = 0; i < r; i++)
-                res[k * r + i] = states[(k + 1) * sw + i];
-    }
-    cblas_dgemm(CblasColMajor, CblasNoTrans, CblasNoTrans, (int)r, (int)m, (int)r, -1.0, a,
-                (int)r, states, (int)sw, 1.0, res, (int)r);
-    if (nu > 0)
-        cblas_dgemm(CblasColMajor, CblasNoTrans, CblasNoTrans, (int)r, (int)m, (int)nu,
-                    -1.0, bm, (int)r, states + r, (int)sw, 1.0, res, (int)r);
-    memset(mean, 0, r * sizeof(double));
-    for (size_t k = 0; k < m; k++)
-        for (size_t i = 0; i < r; i++) {
-            res[k * r + i] -= c[i];
-            mean[i] += res[k * r + i];
-        }
-    for (size_t i = 0; i < r; i++)
-        mean[i] /= (double)m;
-    for (size_t k = 0; k < m; k++)
-        for (size_t i = 0; i < r; i++)
-            res[k * r + i] -= mean[i];
-}
-
-/* Pairs whose residuals are made at a time when they are not stored. */
-#define BOOT_RESID_CHUNK 4096
-
-/* Residuals of more cells (pairs x reduced states) than this are not
- * stored when only the block length needs them (moving blocks): each
- * component is made again, a chunk of pairs at a time, for its
- * Politis-White length. At 1e6 x 8 that is 64 MB less at the bootstrap's
- * peak for some 0.1 s of products. Below it (every log under 260,000
- * pairs at 8 states) they are stored once as before. */
-#define BOOT_RESID_STORE_MAX_CELLS ((size_t)1 << 21)
-
-/* The point fit whose residuals are made on the fly. */
-typedef struct {
-    const double *states, *a, *bm, *c;
-    size_t m, r, nu;
-} resid_source;
-
-/* Component i of the centred residuals (reduced_residuals' res[k r + i])
- * into x (m doubles), a chunk of pairs at a time through chunk (r x
- * BOOT_RESID_CHUNK doubles). The same products on a chunk's columns give
- * the same doubles as on all of them (checked under every OpenBLAS kernel
- * the tests run: the product of one column does not depend on the
- * others), and the mean adds them in the same order, so x is bit for bit
- * the stored column. */
-static void resid_component(const resid_source *src, size_t i, double *x, double *chunk)
-{
-    size_t r = src->r, nu = src->nu, sw = r + nu, m = src->m;
-    double mean = 0.0;
-    for (size_t k0 = 0; k0 < m; k0 += BOOT_RESID_CHUNK) {
-        size_t n = m - k0 < BOOT_RESID_CHUNK ? m - k0 : BOOT_RESID_CHUNK;
-        for (size_t k = 0; k < n; k++)
-            memcpy(chunk + k * r, src->states + (k0 + k + 1) * sw, r * sizeof(double));
-        cblas_dgemm(CblasColMajor, CblasNoTrans, CblasNoTrans, (int)r, (int)n, (int)r, -1.0,
-                    src->a, (int)r, src->states + k0 * sw, (int)sw, 1.0, chunk, (int)r);
-        if (nu > 0)
-            cblas_dgemm(CblasColMajor, CblasNoTrans, CblasNoTrans, (int)r, (int)n, (int)nu,
-                        -1.0, src->bm, (int)r, src->states + k0 * sw + r, (int)sw, 1.0, chunk,
-                        (int)r);
-        for (size_t k = 0; k < n; k++) {
-            double v = chunk[k * r + i] - src->c[i];
-            x[k0 + k] = v;
-            mean += v;
-        }
-    }
-    mean /= (double)m;
-    for (size_t k = 0; k < m; k++)
-        x[k] -= mean;
-}
-
-typedef struct {
-    const double *res;            /* stored residuals, or NULL: made from src */
-    const resid_source *src;
-    size_t m, r;
-    double *x;                    /* m doubles per thread */
-    double *chunk;                /* r x BOOT_RESID_CHUNK per thread (streamed) */
-    double *b;                    /* r: each component's length */
-    el_status *st;                /* r */
-} pw_ctx;
-
-static void pw_component(void *arg, size_t i, size_t slot)
-{
-    pw_ctx *c = arg;
-    double *x = c->x + slot * c->m;
-    if (c->res != NULL) {
-        for (size_t k = 0; k < c->m; k++)
-            x[k] = c->res[k * c->r + i];
-    } else {
-        resid_component(c->src, i, x, c->chunk + slot * c->r * BOOT_RESID_CHUNK);
-    }
-    el_error err;
-    el_error_clear(&err);
-    c->b[i] = 1.0;
-    c->st[i] = el_boot_pw_block_length_inplace(x, c->m, &c->b[i], &err);
-}
-
-/* Politis-White on each reduced residual component (on up to threads
- * threads; res NULL: each component made from src); the largest wins, so
- * the component with the longest memory sets the block. */
-static el_status auto_block(const double *res, const resid_source *src, size_t m, size_t r,
-                            size_t threads, size_t *block, el_error *err)
-{
-    size_t slots = el_chunks_threads(r, threads);
-    pw_ctx c = { res, src, m, r, malloc(slots * m * sizeof(double)),
-                 res == NULL ? malloc(slots * r * BOOT_RESID_CHUNK * sizeof(double)) : NULL,
-                 malloc(r * sizeof(double)), malloc(r * sizeof(el_status)) };
-    if (c.x == NULL || c.b == NULL || c.st == NULL || (res == NULL && c.chunk == NULL)) {
-        free(c.x);
-        free(c.chunk);
-        free(c.b);
-        free(c.st);
-        return el_error_set(err, EL_ERR_NOMEM, "out of memory (block length)");
-    }
-    el_chunks_run(r, slots, pw_component, &c);
-    double best = 1.0;
-    el_status st = EL_OK;
-    for (size_t i = 0; i < r; i++) {
-        if (c.st[i] != EL_OK && st == EL_OK)
-            st = el_error_set(err, c.st[i], "out of memory (block length)");
-        if (c.b[i] > best)
-            best = c.b[i];
-    }
-    free(c.x);
-    free(c.chunk);
-    free(c.b);
-    free(c.st);
-    if (st != EL_OK)
-        return st;
-    size_t l = (size_t)llround(best);
-    *block = l < 1 ? 1 : (l > m ? m : l);
-    return EL_OK;
 }
 
 /* The automatic block length with its floor (EL_BOOT_MAX_BLOCKS). */
@@ -1069,8 +924,8 @@ static el_status block_length(const el_boot_options *opt, boot_shared *sh, boot_
             sh->block = opt->block_length;
         return EL_OK; /* blocks: engine_states set block and grid */
     }
-    resid_source src = { bf->states, bf->a0, bf->b0, bf->c0, ls_pairs, r, sh->nu_ls };
-    el_status st = auto_block(bf->resid, &src, ls_pairs, r, threads, &sh->block, err);
+    el_boot_resid_source src = { bf->states, bf->a0, bf->b0, bf->c0, ls_pairs, r, sh->nu_ls };
+    el_status st = el_boot_auto_block(bf->resid, &src, ls_pairs, r, threads, &sh->block, err);
     if (st != EL_OK)
         return st;
     sh->block_pw = sh->block;
@@ -1128,13 +983,13 @@ static el_status prepare(const el_series *series, const el_series *inputs,
     bf->pwork = malloc((4 * d + ls->work_doubles(&dims)) * sizeof(double));
     /* Residuals stored when model-based replicates (or the bias round)
      * read them, or when they are small; else made per component for the
-     * block length only (BOOT_RESID_STORE_MAX_CELLS). */
+     * block length only (EL_BOOT_RESID_STORE_MAX_CELLS). */
     const el_boot_bias_plan bias_plan = el_boot_bias_rule(model->n_pairs);
     int model_reads = opt->kind == EL_RESAMPLE_MODEL
                       || (opt->bias_correct && type->model_resampling
                           && bias_plan.replicates > 0);
     size_t cap = opt->resid_store_cells > 0 ? opt->resid_store_cells
-                                            : BOOT_RESID_STORE_MAX_CELLS;
+                                            : EL_BOOT_RESID_STORE_MAX_CELLS;
     int store = model_reads || (opt->block_length == 0 && (m + 1) * r <= cap);
     sh->nu_ls = nu;
     if (store)
@@ -1148,7 +1003,7 @@ static el_status prepare(const el_series *series, const el_series *inputs,
         st = EL_ERR_NUMERIC;
     }
     if (st == EL_OK && bf->resid != NULL)
-        reduced_residuals(bf->states, m, r, nu, bf->a0, bf->b0, bf->c0, bf->resid);
+        el_boot_reduced_residuals(bf->states, m, r, nu, bf->a0, bf->b0, bf->c0, bf->resid);
     /* The engine is done by now (it and the refit take about as long);
      * the block length then has every thread. */
     el_boot_engine *engine = NULL;
