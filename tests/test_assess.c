@@ -770,17 +770,7 @@ static void test_one_channel_gets_lags(void **state)
                 exp(-s1 * t) * cos(w1 * t) + 0.6 * exp(-s2 * t) * cos(w2 * t));
     }
     fclose(out);
-    el_assess_options opt;
-    el_assess_defaults(&opt);
-    opt.path = path;
-    opt.boot.replicates = 200;
-    opt.boot.threads = 2;
-    opt.boot.seed = 7;
-    el_assessment r;
-    memset(&r, 0, sizeof r);
-    el_error err;
-    el_error_clear(&err);
-    assert_int_equal(el_assess_run(&opt, &r, &err), EL_OK);
+    el_assessment r = run_unit_lags(path, NULL, 200, 0);
     assert_true(r.lags_were_auto && r.lags_for_one_channel);
     assert_true(r.model.lags >= 1);
     const double f[2] = {f1, f2}, z[2] = {z1, z2};
@@ -794,9 +784,7 @@ static void test_one_channel_gets_lags(void **state)
         assert_true(found);
     }
     el_assessment_free(&r);
-    opt.lags_fixed = 1;     /* --lags 0 */
-    memset(&r, 0, sizeof r);
-    assert_int_equal(el_assess_run(&opt, &r, &err), EL_OK);
+    r = run_unit_lags(path, NULL, 200, 1);     /* --lags 0 */
     assert_false(r.lags_were_auto);
     assert_int_equal(r.model.lags, 0);
     assert_int_equal(r.modes.n_modes, 1);
