@@ -600,22 +600,8 @@ static el_status cross_check(el_assess_plan *ap, const el_assess_options *opt,
      * regime (Dawson et al. 2016): its confident "stable" is weak evidence
      * against "unstable" (measured: it said stable for growing systems in
      * 10/10 logs at 30 dB and below, docs/accuracy.md), while its lean
-     * towards "unstable" still counts against a "stable". That holds where
-     * the bias can be there: when its correction round ran and showed no
-     * sensor-noise shift (el_verdict_method_fault), least squares is as
-     * consistent as the main estimator, and two consistent estimators
-     * that confidently disagree mean one model is wrong (measured: iv's
-     * fast mode, died out over its long horizon, came out growing at +1.2
-     * and +1.6 1/s on two stationary sink logs of the calibration, where
-     * least squares said stable in 200 of 200; docs/uncertainty.md). */
-    int ls_shown_unbiased =
-        r->cross_method == EL_METHOD_LS && isfinite(r->cross_p_stable) &&
-        r->cross_boot.bias_replicates > 0 &&
-        el_verdict_method_fault(EL_METHOD_LS,
-                                r->regime != NULL && r->regime->regime == EL_REGIME_STATIONARY,
-                                r->cross_boot.bias_refused ? r->cross_boot.bias_refused_spreads
-                                                           : 0.0) == EL_METHOD_FAULT_NONE;
-    int cross_biased_stable = r->cross_method == EL_METHOD_LS && !ls_shown_unbiased;
+     * towards "unstable" still counts against a "stable". */
+    int cross_biased_stable = r->cross_method == EL_METHOD_LS;
     r->cross_agrees = main_class == 0 || (main_class == 1 && !cross_leans_unstable) ||
                       (main_class == -1 && (cross_class != 1 || cross_biased_stable));
     if (r->cross_agrees)

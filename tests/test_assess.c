@@ -792,27 +792,6 @@ static void test_one_channel_gets_lags(void **state)
     unlink(path);
 }
 
-/* A stationary sink (eigenvalues -0.5 and -2.0 1/s: a stable system by
- * construction, tests/data/README.md) whose iv fit puts the fast mode at
- * +1.2 1/s with bounds excluding the truth. Least squares, whose
- * correction round shows no sensor-noise shift on this log, says stable
- * in every replicate: two consistent estimators disagree confidently, so
- * the verdict must not be "unstable" (it becomes undecided, cause
- * estimators_disagree). The least-squares P(stable) is from 200
- * replicates: 0.95 leaves 10 replicates of margin on the 1.0 measured. */
-static void test_consistent_cross_check_counts(void **state)
-{
-    (void)state;
-    el_assessment r = run_unit("tests/data/calib_sink_2000_52.csv", NULL, 1000);
-    assert_int_equal(r.model.method, EL_METHOD_IV);
-    assert_int_equal(r.cross_method, EL_METHOD_LS);
-    assert_true(r.cross_ran);
-    assert_true(r.cross_p_stable >= 0.95);
-    assert_int_not_equal(r.verdict.stability, EL_UNSTABLE);
-    assert_int_equal(r.verdict.cause, EL_CAUSE_ESTIMATORS_DISAGREE);
-    el_assessment_free(&r);
-}
-
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -824,7 +803,6 @@ int main(void)
         cmocka_unit_test(test_auto_never_calls_growth_stable),
         cmocka_unit_test(test_auto_policy),
         cmocka_unit_test(test_one_channel_gets_lags),
-        cmocka_unit_test(test_consistent_cross_check_counts),
         cmocka_unit_test(test_six_sensor_example_defaults),
         cmocka_unit_test(test_near_marginal_short_log_is_ambiguous),
         cmocka_unit_test(test_plan_reuse_is_bitwise),
