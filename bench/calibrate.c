@@ -33,6 +33,7 @@
 
 #include "el_estimator.h"
 #include "el_fit.h"
+#include "el_state_check.h"
 #include "el_modes.h"
 #include "el_regime.h"
 #include "el_resample.h"
@@ -353,6 +354,18 @@ static void one_log(const cal_case *c, size_t n_samples, size_t rep, const cal_o
         != EL_METHOD_FAULT_NONE) {
         out->withheld = 1;
         goto done;
+    }
+    /* As el_assess_execute: an "unstable" from iv's automatic multi-step
+     * state that iv on the plain state confidently contradicts is
+     * withdrawn (el_state_check): withheld, not covered or missed. */
+    if (br.p_stable <= 1.0 - bo.level && el_state_check_applies(&fo, &model)) {
+        el_state_check sc;
+        if (el_state_check_run(&s, &fo, &bo, &sc, &err) != EL_OK)
+            goto done;
+        if (sc.withdraws) {
+            out->withheld = 1;
+            goto done;
+        }
     }
     size_t ti = least_damped(&t);
     double tre = t.re[ti], tim = fabs(t.im[ti]);

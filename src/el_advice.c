@@ -129,6 +129,16 @@ static void disagree(const el_assessment *r, el_advice *a)
 {
     const char *main_m = el_method_name(r->model.method);
     const char *cross_m = el_method_name(r->cross_method);
+    if (r->state_check.withdraws) {
+        snprintf(a->reason, sizeof a->reason,
+                 "the estimators disagree: iv over a %zu-sample horizon says unstable and "
+                 "iv on the plain state says stable (P = %.2f)", r->model.lags + 1,
+                 r->state_check.p_stable);
+        snprintf(a->next_step, sizeof a->next_step,
+                 "compare `--method ssi`, or iv on the plain state (`--method iv "
+                 "--depth %d`); a longer log helps every estimator", EL_STATE_CHECK_DEPTH);
+        return;
+    }
     snprintf(a->reason, sizeof a->reason,
              "the estimators disagree: %s and the independent cross-check by %s lean to "
              "different sides of the stability boundary", main_m, cross_m);

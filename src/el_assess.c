@@ -624,6 +624,40 @@ static el_status cross_check(el_assess_plan *ap, const el_assess_options *opt,
                            el_method_name(cf.method), p_text, m ? m->lambda_re : NAN);
 }
 
+int el_assess_ls_stable_beside_growth(const el_assessment *r)
+{
+    return r != NULL && r->cross_ran && r->cross_agrees && r->cross_method == EL_METHOD_LS &&
+           isfinite(r->cross_p_stable) && r->cross_p_stable >= 0.5 && r->modes.n_modes > 0 &&
+           r->modes.modes[0].lambda_re > 0.0;
+}
+
+/* An "unstable" from iv's automatic multi-step state is withdrawn when iv
+ * on the plain state confidently says stable (el_state_check.h says why
+ * this estimator and not least squares). Only "unstable" is checked: a
+ * spurious growing root of a died-out fast mode is the failure seen; a
+ * "stable" has the cross-check and the growth veto. */
+static el_status plain_state_check(const el_assess_options *opt, const el_fit_options *fit,
+                                   el_assessment *r, el_error *err)
+{
+    if (r->verdict.ambiguous || r->verdict.stability != EL_UNSTABLE ||
+        !el_state_check_applies(fit, &r->model))
+        return EL_OK;
+    el_status st = el_state_check_run(&r->series, fit, &opt->boot, &r->state_check, err);
+    if (st != EL_OK || !r->state_check.withdraws)
+        return st;
+    el_verdict_set_undecided(&r->verdict, EL_CAUSE_ESTIMATORS_DISAGREE);
+    return el_warnings_add(&r->warnings,
+                           "the estimators disagree: iv over a %zu-sample horizon says "
+                           "unstable, but iv on the plain state (no lags) says stable in "
+                           "%.0f of its %zu bootstrap replicates (its least damped mode "
+                           "has Re lambda %.4g 1/s): a fast mode that dies out within a "
+                           "few samples can look growing over a long horizon; the "
+                           "verdict is ambiguous",
+                           r->model.lags + 1,
+                           r->state_check.p_stable * (double)r->state_check.replicates,
+                           r->state_check.replicates, r->state_check.re_max);
+}
+
 /* ---- one operating point: split halves, level shift and trend ------- */
 
 const char *el_nonstat_name(el_nonstat_kind kind)
@@ -1341,6 +1375,8 @@ el_status el_assess_execute(el_assess_plan *ap, const el_assess_options *opt,
         st = cross_check(ap, opt, &fit, r, err);
         stage(opt, "cross-check fit", 1);
     }
+    if (st == EL_OK && boot_run)
+        st = plain_state_check(opt, &fit, r, err);
     stage(opt, "checking the model", 0);
     if (st == EL_OK)
         st = veto_growth(r, err);

@@ -20,6 +20,7 @@
 #include "el_resample.h"
 #include "el_spectrum.h"
 #include "el_split.h"
+#include "el_state_check.h"
 #include "el_timebase.h"
 #include "el_validate.h"
 #include "el_verdict.h"
@@ -125,6 +126,8 @@ typedef struct {
     el_boot_result cross_boot;
     double cross_p_stable;        /* NaN without bootstrap */
     int cross_agrees;             /* 1: the cross-check supports the verdict */
+    el_state_check state_check;   /* iv's plain-state check of an "unstable" from the
+                                     automatic multi-step state (ran 0 when not made) */
     el_boot_result boot;          /* boot.replicates == 0 when not run */
     el_verdict verdict;
     double *detrend_level;        /* n_channels: removed level (0 without detrend) */
@@ -256,5 +259,11 @@ void el_assessment_free(el_assessment *result);
 
 /* The caution that goes with every report. Static text. */
 const char *el_assess_caution(void);
+
+/* 1 when r's least-squares cross-check leans stable (P(stable) >= 1/2)
+ * beside a growing least damped mode and was not counted against it
+ * (sensor noise biases least squares towards stability): the reports
+ * then say so instead of "agrees". Pure; r must be a filled result. */
+int el_assess_ls_stable_beside_growth(const el_assessment *r);
 
 #endif

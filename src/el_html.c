@@ -1106,12 +1106,25 @@ static void details_section(ctx *c)
         el_svg_esc(c, r->method_reason);
         if (r->cross_ran) {
             el_buf_printf(c->o, "; cross-check by %s %s", el_method_name(r->cross_method),
-                          r->cross_agrees ? "agrees" : "disagrees");
+                          el_assess_ls_stable_beside_growth(r)
+                              ? "leans stable, not counted against growth (sensor noise "
+                                "biases least squares towards stability)"
+                          : r->cross_agrees ? "agrees" : "disagrees");
             if (isfinite(r->cross_p_stable))
                 el_buf_printf(c->o, " (stable in %.0f of its %zu bootstrap replicates)",
                               r->cross_p_stable * (double)r->cross_boot.replicates,
                               r->cross_boot.replicates);
         }
+        el_svg_put(c, "</td></tr>");
+    }
+    if (r->state_check.ran) {
+        el_svg_detail_row_begin(c, "plain-state check");
+        el_buf_printf(c->o,
+                      "iv without lags: stable in %.0f of its %zu bootstrap replicates; %s",
+                      r->state_check.p_stable * (double)r->state_check.replicates,
+                      r->state_check.replicates,
+                      r->state_check.withdraws ? "the &ldquo;unstable&rdquo; is withdrawn"
+                                               : "the growth stands");
         el_svg_put(c, "</td></tr>");
     }
     el_svg_detail_row_begin(c, "one-step R&sup2;");

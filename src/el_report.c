@@ -83,10 +83,28 @@ static void text_model(const el_assessment *r, el_buf *out)
                 snprintf(p, sizeof p, ", stable in %.0f of its %zu bootstrap replicates",
                          r->cross_p_stable * (double)r->cross_boot.replicates,
                          r->cross_boot.replicates);
-            el_buf_printf(out, "  cross-check  %s %s%s\n", el_method_name(r->cross_method),
-                          r->cross_agrees ? "agrees" : "DISAGREES", p);
+            if (el_assess_ls_stable_beside_growth(r))
+                el_buf_printf(out,
+                              "  cross-check  ls leans stable (stable in %.0f of its %zu "
+                              "bootstrap replicates),\n"
+                              "               not counted against growth: sensor noise "
+                              "biases least squares\n"
+                              "               towards stability\n",
+                              r->cross_p_stable * (double)r->cross_boot.replicates,
+                              r->cross_boot.replicates);
+            else
+                el_buf_printf(out, "  cross-check  %s %s%s\n", el_method_name(r->cross_method),
+                              r->cross_agrees ? "agrees" : "DISAGREES", p);
         }
     }
+    if (r->state_check.ran)
+        el_buf_printf(out,
+                      "  plain state  iv without lags: stable in %.0f of its %zu bootstrap "
+                      "replicates%s\n",
+                      r->state_check.p_stable * (double)r->state_check.replicates,
+                      r->state_check.replicates,
+                      r->state_check.withdraws ? ": the \"unstable\" is withdrawn"
+                                               : ": the growth stands");
     else if (r->method_stood_in)
         el_buf_printf(out, "  estimator    %s, %s\n", el_method_name(m->method),
                       r->method_reason);
@@ -582,6 +600,22 @@ static void json_model(el_json *j, const el_assessment *r)
         el_json_object_end(j);
     } else {
         el_json_null(j, "stand_in");
+    }
+    if (r->state_check.ran) {
+        el_json_object_begin(j, "plain_state_check");
+        el_json_string(j, "method", "iv");
+        el_json_int(j, "lags", 0);
+        el_json_int(j, "depth", EL_STATE_CHECK_DEPTH);
+        el_json_int(j, "replicates", (long long)r->state_check.replicates);
+        el_json_number(j, "p_stable", r->state_check.p_stable);
+        el_json_object_begin(j, "least_damped");
+        el_json_number(j, "re", r->state_check.re_max);
+        el_json_number(j, "im", r->state_check.im_max);
+        el_json_object_end(j);
+        el_json_bool(j, "withdrew_unstable", r->state_check.withdraws);
+        el_json_object_end(j);
+    } else {
+        el_json_null(j, "plain_state_check");
     }
     if (r->cross_ran) {
         el_json_object_begin(j, "cross_check");

@@ -73,6 +73,13 @@ for real in nile_1871_1970 co2_mauna_loa_1959_1997; do
         valid assess "$tmp/assess_$real.json"
     check "assess $real validates" $?
 done
+# The plain-state check's object (docs/cli.md), filled on a log where it
+# withdraws iv's "unstable" (tests/data/README.md).
+"$bin" assess tests/data/calib_sink_2000_52.csv --boot 200 --json "$tmp/assess_sink.json" --quiet &&
+    valid assess "$tmp/assess_sink.json" &&
+    jq -e '.model.method_choice.plain_state_check.withdrew_unstable == true and
+           .verdict.stability == "undecided"' "$tmp/assess_sink.json" >/dev/null
+check "assess with the plain-state check validates; the check withdrew 'unstable'" $?
 grep -q '"bounds_computed": false' "$tmp/assess_7.json" && grep -q '"p_stable": null' "$tmp/assess_7.json"
 check "assess --boot 0: no bounds, p_stable null, still valid" $?
 grep -q '"channels": \[' "$tmp/assess_6.json" && [ "$(grep -c '"lambda": {' "$tmp/assess_6.json")" -eq 1 ]

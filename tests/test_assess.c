@@ -792,6 +792,72 @@ static void test_one_channel_gets_lags(void **state)
     unlink(path);
 }
 
+/* A stationary sink (eigenvalues -0.5 and -2.0 1/s: stable by
+ * construction, tests/data/README.md) on which iv's automatic 15-sample
+ * state puts the fast mode at +1.2 1/s with bounds excluding the truth.
+ * iv on the plain state sees both roots (-0.53 and -2.48 1/s) and says
+ * stable in every replicate: the "unstable" must be withdrawn (undecided,
+ * estimators_disagree). Its P(stable) is from 200 replicates: the 0.95
+ * level leaves 10 replicates of margin on the 1.0 measured. */
+static void test_plain_state_withdraws_spurious_growth(void **state)
+{
+    (void)state;
+    el_assessment r = run_unit("tests/data/calib_sink_2000_52.csv", NULL, 1000);
+    assert_int_equal(r.model.method, EL_METHOD_IV);
+    assert_true(r.model.lags > 0);
+    assert_true(r.state_check.ran);
+    assert_true(r.state_check.withdraws);
+    assert_true(r.state_check.re_max < 0.0);
+    assert_int_not_equal(r.verdict.stability, EL_UNSTABLE);
+    assert_int_equal(r.verdict.cause, EL_CAUSE_ESTIMATORS_DISAGREE);
+    el_assessment_free(&r);
+}
+
+/* The other side: a growing spiral (0.8 Hz, Re +0.04 1/s by construction)
+ * under 10 dB sensor noise, from the accuracy study (case sspiral-grow,
+ * seed 0, tests/data/README.md). iv's multi-step state calls it unstable;
+ * the plain state, noisy here (P(stable) 0.57 measured), is far from
+ * confident, so the right "unstable" must stand. */
+static void test_plain_state_keeps_real_growth(void **state)
+{
+    (void)state;
+    el_assessment r = run_unit("tests/data/acc_sspiral_grow_10db_0.csv", NULL, 1000);
+    assert_int_equal(r.model.method, EL_METHOD_IV);
+    assert_true(r.state_check.ran);
+    assert_false(r.state_check.withdraws);
+    assert_int_equal(r.verdict.stability, EL_UNSTABLE);
+    el_assessment_free(&r);
+}
+
+/* Which fits the check applies to (el_state_check.h): iv's automatic
+ * multi-step state of at most as many modes as channels, nothing the
+ * user fixed. Pure logic: no data. */
+static void test_plain_state_applies(void **state)
+{
+    (void)state;
+    el_fit_options asked;
+    el_fit_defaults(&asked);
+    asked.method = EL_METHOD_IV;
+    el_model m;
+    memset(&m, 0, sizeof m);
+    m.method = EL_METHOD_IV;
+    m.n_channels = 2;
+    m.lags = 14;
+    m.rank = 2;
+    assert_true(el_state_check_applies(&asked, &m));
+    m.rank = 3;     /* more modes than the plain state of 2 channels holds */
+    assert_false(el_state_check_applies(&asked, &m));
+    m.rank = 2;
+    m.lags = 0;     /* already the plain state */
+    assert_false(el_state_check_applies(&asked, &m));
+    m.lags = 14;
+    asked.depth = 3;    /* the user's --depth */
+    assert_false(el_state_check_applies(&asked, &m));
+    asked.depth = 0;
+    m.method = EL_METHOD_HANKEL;
+    assert_false(el_state_check_applies(&asked, &m));
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -803,6 +869,9 @@ int main(void)
         cmocka_unit_test(test_auto_never_calls_growth_stable),
         cmocka_unit_test(test_auto_policy),
         cmocka_unit_test(test_one_channel_gets_lags),
+        cmocka_unit_test(test_plain_state_withdraws_spurious_growth),
+        cmocka_unit_test(test_plain_state_keeps_real_growth),
+        cmocka_unit_test(test_plain_state_applies),
         cmocka_unit_test(test_six_sensor_example_defaults),
         cmocka_unit_test(test_near_marginal_short_log_is_ambiguous),
         cmocka_unit_test(test_plan_reuse_is_bitwise),
