@@ -437,6 +437,63 @@ static double grid_intervals(const double *time, size_t first, size_t last, doub
     return m_sum;
 }
 
+/* The index of row r (> first) over row r - 1: whole intervals of
+ * index_dt between their stamps (a missing row counts two) when index_dt
+ * > 0, else one row. */
+static double index_step(const double *time, size_t r, double index_dt)
+{
+    return index_dt > 0.0 ? intervals_of(time[r] - time[r - 1], index_dt) : 1.0;
+}
+
+/* Least-squares line t - t_first = a + slope m over the rows, m the index
+ * of index_step; stamps taken from t_first so an epoch-sized time keeps
+ * its digits. Both grid finders read the stamps through it. */
+typedef struct {
+    double slope;           /* time per index step: the grid's interval */
+    double index_mean;      /* mean index over the rows */
+    double time_mean;       /* mean of t - t_first */
+} stamp_line;
+
+static stamp_line fit_stamp_line(const double *time, size_t first, size_t last,
+                                 double index_dt)
+{
+    double n = (double)(last - first + 1), sm = 0.0, st = 0.0, m = 0.0;
+    for (size_t r = first; r <= last; r++) {
+        if (r > first)
+            m += index_step(time, r, index_dt);
+        sm += m;
+        st += time[r] - time[first];
+    }
+    stamp_line line = { NAN, sm / n, st / n };
+    double sxy = 0.0, sxx = 0.0;
+    m = 0.0;
+    for (size_t r = first; r <= last; r++) {
+        if (r > first)
+            m += index_step(time, r, index_dt);
+        sxy += (m - line.index_mean) * (time[r] - time[first] - line.time_mean);
+        sxx += (m - line.index_mean) * (m - line.index_mean);
+    }
+    line.slope = sxy / sxx;
+    return line;
+}
+
+/* Width of the band of the stamps about the line, the index counted with
+ * index_dt as in index_step. Rounding the times of a uniform grid to q
+ * gives a band of width q at most. */
+static double stamp_band(const double *time, size_t first, size_t last, double index_dt,
+                         const stamp_line *line)
+{
+    double lo = INFINITY, hi = -INFINITY, m = 0.0;
+    for (size_t r = first; r <= last; r++) {
+        if (r > first)
+            m += index_step(time, r, index_dt);
+        double dev = time[r] - time[first] - line->time_mean - (m - line->index_mean) * line->slope;
+        lo = fmin(lo, dev);
+        hi = fmax(hi, dev);
+    }
+    return hi - lo;
+}
+
 static void find_rounded_grid(const double *time, size_t first, size_t last, double dt_median,
                               rounded_grid *g)
 {
@@ -462,42 +519,17 @@ static void find_rounded_grid(const double *time, size_t first, size_t last, dou
     }
     if (!isfinite(q) || !(q < dt))
         return;
-    /* Least-squares line t - t_first = a + dt M over the rows; stamps taken
-     * from t_first so an epoch-sized time keeps its digits. */
-    double n = (double)(last - first + 1), sm = 0.0, st = 0.0, m_k = 0.0;
-    for (size_t r = first + 1; r <= last; r++) {
-        m_k += intervals_of(time[r] - time[r - 1], dt);
-        sm += m_k;
-        st += time[r] - time[first];
-    }
-    double m_mean = sm / n, t_mean = st / n, sxy = 0.0, sxx = 0.0;
-    m_k = 0.0;
-    for (size_t r = first; r <= last; r++) {
-        if (r > first)
-            m_k += intervals_of(time[r] - time[r - 1], dt);
-        sxy += (m_k - m_mean) * (time[r] - time[first] - t_mean);
-        sxx += (m_k - m_mean) * (m_k - m_mean);
-    }
-    double slope = sxy / sxx;
-    if (!(slope > 0.0) || grid_intervals(time, first, last, slope) != m_sum)
+    stamp_line line = fit_stamp_line(time, first, last, dt);
+    if (!(line.slope > 0.0) || grid_intervals(time, first, last, line.slope) != m_sum)
         return;
-    double lo = INFINITY, hi = -INFINITY;
-    m_k = 0.0;
-    for (size_t r = first; r <= last; r++) {
-        if (r > first)
-            m_k += intervals_of(time[r] - time[r - 1], slope);
-        double dev = time[r] - time[first] - t_mean - (m_k - m_mean) * slope;
-        lo = fmin(lo, dev);
-        hi = fmax(hi, dev);
-    }
-    dt = slope;
-    if (!(hi - lo <= q + tiny))
+    double band = stamp_band(time, first, last, line.slope, &line);
+    if (!(band <= q + tiny))
         return;
     g->found = 1;
-    g->dt = dt;
+    g->dt = line.slope;
     g->stamp_step = q;
     g->intervals = m_sum;
-    g->jitter = 0.5 * (hi - lo) / dt;
+    g->jitter = 0.5 * band / line.slope;
 }
 
 /* Rows that share a stamp: a logger sampling faster than its stamps'
@@ -533,33 +565,19 @@ static void find_repeated_grid(const double *time, size_t first, size_t last,
     }
     if (stamps < EL_TIMEBASE_MIN_STAMPS)
         return;
-    double n = (double)(last - first + 1), k_mean = 0.5 * (n - 1.0), t_mean = 0.0;
-    for (size_t r = first; r <= last; r++)
-        t_mean += time[r] - time[first];
-    t_mean /= n;
-    double sxy = 0.0, sxx = 0.0;
-    for (size_t r = first; r <= last; r++) {
-        double k = (double)(r - first) - k_mean;
-        sxy += k * (time[r] - time[first] - t_mean);
-        sxx += k * k;
-    }
-    double dt = sxy / sxx;
+    stamp_line line = fit_stamp_line(time, first, last, 0.0);
+    double dt = line.slope;
     if (!isfinite(q) || !(dt > 0.0) || !(1.5 * dt <= q))
         return;
     double tiny = 1e-9 * dt + 8.0 * DBL_EPSILON * fmax(fabs(time[first]), fabs(time[last]));
-    double lo = INFINITY, hi = -INFINITY;
-    for (size_t r = first; r <= last; r++) {
-        double dev = time[r] - time[first] - t_mean - ((double)(r - first) - k_mean) * dt;
-        lo = fmin(lo, dev);
-        hi = fmax(hi, dev);
-    }
-    if (!(hi - lo <= q + tiny))
+    double band = stamp_band(time, first, last, 0.0, &line);
+    if (!(band <= q + tiny))
         return;
     g->found = 1;
     g->dt = dt;
     g->stamp_step = q;
-    g->intervals = n - 1.0;
-    g->jitter = 0.5 * (hi - lo) / dt;
+    g->intervals = (double)(last - first);
+    g->jitter = 0.5 * band / dt;
 }
 
 /* The window holds repeated stamps: the grid of find_repeated_grid, or
