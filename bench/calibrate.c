@@ -367,6 +367,17 @@ static void one_log(const cal_case *c, size_t n_samples, size_t rep, const cal_o
             goto done;
         }
     }
+    /* As el_verdict_compute: a "stable" resting on a real least damped
+     * mode the data cannot tell from a random walk is withheld. */
+    if (br.p_stable >= bo.level) {
+        double t_ur = NAN;
+        if (el_verdict_unit_root_t(&modes, &model, &br, &t_ur, &err) != EL_OK)
+            goto done;
+        if (t_ur > EL_VERDICT_UNIT_ROOT_T) {
+            out->withheld = 1;
+            goto done;
+        }
+    }
     size_t ti = least_damped(&t);
     double tre = t.re[ti], tim = fabs(t.im[ti]);
     size_t best = 0;

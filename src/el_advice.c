@@ -207,6 +207,17 @@ static void reason_cause(const el_assessment *r, double level, el_advice *a)
                  "run with the bootstrap (--boot 1000, the default) to see whether the data "
                  "can tell either side");
         return;
+    case EL_CAUSE_NEAR_UNIT_ROOT:
+        snprintf(a->reason, sizeof a->reason,
+                 "the least damped mode is real and slow (Re lambda %.3g 1/s, %.2g bootstrap "
+                 "standard deviations below zero, where a random walk is rejected only "
+                 "beyond %.2f): the data cannot tell it from a slow wander that never "
+                 "returns", r->modes.modes[0].lambda_re, -v->unit_root_t,
+                 -EL_VERDICT_UNIT_ROOT_T);
+        snprintf(a->next_step, sizeof a->next_step,
+                 "a longer log (many of the slow mode's time constants) decides it; "
+                 "`eigenlog track` shows whether the level keeps wandering");
+        return;
     case EL_CAUSE_NO_BOOTSTRAP:
         snprintf(a->reason, sizeof a->reason,
                  "the point estimate alone (no bootstrap ran): no bounds, no support");

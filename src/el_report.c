@@ -1094,6 +1094,7 @@ static const struct {
     const char *phrase;
 } WARNING_CODES[] = {
     {"method_inconsistent", "withheld for this method"},
+    {"near_unit_root", "cannot tell it from a random walk"},
     {"no_dynamics", "cannot be told from white noise"},
     {"no_dynamics", "the data shows no dynamics"},
     {"sustained_oscillation", "possible sustained nonlinear oscillation"},

@@ -4,6 +4,7 @@
 
 #include <math.h>
 #include <stdio.h>
+#include <stdlib.h>
 #include <string.h>
 
 #include "el_boot_bounds.h"
@@ -336,7 +337,7 @@ const char *el_verdict_cause_code(el_verdict_cause cause)
         "none", "on_boundary", "bounds", "few_cycles", "low_excitation",
         "estimators_disagree", "drift", "level_trend", "level_shift", "growth",
         "too_few_replicates", "no_bounds", "nyquist", "type_open", "no_bootstrap",
-        "no_dynamics", "method_inconsistent"};
+        "no_dynamics", "method_inconsistent", "near_unit_root"};
     return (unsigned)cause < sizeof codes / sizeof codes[0] ? codes[cause] : "unknown";
 }
 
@@ -412,6 +413,41 @@ el_status el_verdict_withhold_method(el_verdict *v, el_method_fault fault, el_me
     return EL_OK;
 }
 
+static int cmp_double(const void *a, const void *b)
+{
+    double x = *(const double *)a, y = *(const double *)b;
+    return (x > y) - (x < y);
+}
+
+el_status el_verdict_unit_root_t(const el_modes *modes, const el_model *model,
+                                 const el_boot_result *boot, double *t, el_error *err)
+{
+    *t = NAN;
+    if (modes == NULL || model == NULL || boot == NULL || modes->n_modes == 0 ||
+        boot->lambda_re == NULL || boot->replicates < 4 || modes->modes[0].lambda_im != 0.0)
+        return EL_OK;
+    double span_tc = (double)model->n_pairs * model->dt * fabs(modes->modes[0].lambda_re);
+    if (!(span_tc < EL_VERDICT_UNIT_ROOT_SPAN))
+        return EL_OK;
+    double *re = malloc(boot->replicates * sizeof *re);
+    if (re == NULL)
+        return el_error_set(err, EL_ERR_NOMEM, "out of memory for the unit-root check");
+    size_t n = 0;
+    for (size_t r = 0; r < boot->replicates; r++) {
+        double x = boot->lambda_re[r * boot->n_modes];
+        if (isfinite(x))
+            re[n++] = x;
+    }
+    if (n >= 4) {
+        qsort(re, n, sizeof *re, cmp_double);
+        double sd = (el_boot_quantile(re, n, 0.75) - el_boot_quantile(re, n, 0.25)) / 1.349;
+        if (sd > 0.0)
+            *t = modes->modes[0].lambda_re / sd;
+    }
+    free(re);
+    return EL_OK;
+}
+
 el_status el_verdict_compute(const el_modes *modes, const el_model *model,
                              const struct el_boot_result *boot, double level,
                              el_verdict *v, el_warnings *warnings, el_error *err)
@@ -422,6 +458,7 @@ el_status el_verdict_compute(const el_modes *modes, const el_model *model,
     int use_boot = boot != NULL && boot->replicates > 0;
     memset(v, 0, sizeof *v);
     v->region = EL_REGION_NONE;
+    v->unit_root_t = NAN;
     v->p_stable = use_boot ? boot->p_stable : NAN;
     v->marginal_tolerance = EL_VERDICT_MARGINAL_REL / model->dt;
     v->margin_decay_rate = modes->modes[0].decay_rate;
@@ -443,6 +480,22 @@ el_status el_verdict_compute(const el_modes *modes, const el_model *model,
         v->cause = first == SIDE_MARGINAL ? EL_CAUSE_ON_BOUNDARY : EL_CAUSE_NO_BOOTSTRAP;
     } else if (boot->p_stable >= level) {
         set_stability(v, EL_STABLE);
+        double t_ur = NAN;
+        st = el_verdict_unit_root_t(modes, model, boot, &t_ur, err);
+        if (st != EL_OK)
+            return st;
+        v->unit_root_t = t_ur;
+        if (t_ur > EL_VERDICT_UNIT_ROOT_T) {
+            el_verdict_set_undecided(v, EL_CAUSE_NEAR_UNIT_ROOT);
+            st = checked(err, el_warnings_add(warnings,
+                "stability is undecided: the least damped mode is real and slow "
+                "(Re lambda %.3g 1/s, %.2g bootstrap standard deviations below zero; "
+                "a random walk is rejected only beyond %.2f): the data cannot tell it "
+                "from a random walk, and estimates of such a root lean towards "
+                "stability", modes->modes[0].lambda_re, -t_ur, -EL_VERDICT_UNIT_ROOT_T));
+            if (st != EL_OK)
+                return st;
+        }
     } else if (1.0 - boot->p_stable >= level) {
         set_stability(v, EL_UNSTABLE);
     } else {
@@ -462,7 +515,7 @@ el_status el_verdict_compute(const el_modes *modes, const el_model *model,
                                   "bounds and P(stable)",
                                   v->marginal_tolerance));
     } else {
-        if (v->ambiguous)
+        if (v->ambiguous && v->cause == EL_CAUSE_BOUNDS)
             st = warn_stability(modes, boot, level, warnings, err);
         if (st == EL_OK && v->has_plane && boot->has_plane)
             st = warn_plane(v, boot, level, warnings, err);

@@ -40,9 +40,11 @@ typedef enum {
     EL_CAUSE_NO_BOOTSTRAP,       /* --boot 0: the point estimate alone */
     EL_CAUSE_NO_DYNAMICS,        /* the data cannot be told from white noise: no
                                     type, no class (el_dynamics) */
-    EL_CAUSE_METHOD_INCONSISTENT /* the chosen estimator is known not to converge to
+    EL_CAUSE_METHOD_INCONSISTENT,/* the chosen estimator is known not to converge to
                                     the truth on what this log shows: its bounds are
                                     no bounds at their level (el_verdict_method_fault) */
+    EL_CAUSE_NEAR_UNIT_ROOT      /* the least damped mode is real and the data cannot
+                                    tell it from a random walk (el_verdict_unit_root) */
 } el_verdict_cause;
 
 /* "stable", "unstable", "marginal", "undecided"; "unknown" else. Static. */
@@ -73,6 +75,8 @@ typedef struct {
     double trace, determinant, discriminant;   /* of the continuous-time matrix */
     el_region region;
     el_verdict_cause cause;       /* why (EL_CAUSE_NONE: the class holds) */
+    double unit_root_t;           /* el_verdict_unit_root_t of a "stable" resting on a
+                                     real least damped mode; NaN when not computed */
 } el_verdict;
 
 /* Sets the word to undecided (ambiguous) for cause. The pipeline's later
@@ -126,6 +130,43 @@ typedef enum {
  * hankel: consistent in both cases). Pure function, can't fail. */
 el_method_fault el_verdict_method_fault(el_method method, int stationary,
                                         double refused_spreads);
+
+/* A "stable" that rests on a slow real mode the data cannot tell from a
+ * random walk. Least-squares and instrument estimates of a real root
+ * near 1 (per sample) are biased towards stability and their bootstrap
+ * is not consistent there (Dickey & Fuller 1979; Basawa et al. 1991),
+ * so a near-unit root can come out "stable" with bounds that exclude a
+ * slightly growing truth (measured: `calibrate --method auto`, saddle
+ * with its unstable root at +0.03 1/s over 200 s, one log of 60 called
+ * stable with P(stable) 0.99). The Dickey-Fuller test of a unit root
+ * with a constant rejects at 5% when t = (rho - 1) / se < -2.86
+ * (MacKinnon 2010, asymptotic value, recalled from memory); here t is
+ * approximated by the least damped mode's Re lambda over the robust
+ * standard deviation (IQR / 1.349) of its matched bootstrap replicates:
+ * Re lambda = ln(rho) / dt ~ (rho - 1) / dt near rho = 1, and both scale
+ * by the same dt. */
+#define EL_VERDICT_UNIT_ROOT_T (-2.86)
+/* The rule applies while the window spans fewer than this many time
+ * constants of the root (n (1 - rho) in the local-to-unity terms of
+ * Phillips 1987): there the estimate's bias and the bootstrap's failure
+ * are of the order of the root itself. Farther from the unit root the
+ * bootstrap's own P(stable) is trusted, since the Dickey-Fuller value,
+ * being the null's, would then withhold many right answers of short logs
+ * (measured on `calibrate --method auto`, sink -0.5 and -2 1/s at 500
+ * samples, 25 time constants: 31 of 60 logs withheld with no limit, 10
+ * with 20, 3 with 15). A rule of thumb of ours, set between the wrong
+ * saddle (11 time constants) and that case. */
+#define EL_VERDICT_UNIT_ROOT_SPAN 15.0
+
+/* The unit-root statistic of the least damped mode when it is real
+ * (lambda_im == 0), the model's window (n_pairs x dt) spans fewer than
+ * EL_VERDICT_UNIT_ROOT_SPAN of its time constants, and the bootstrap kept
+ * its matched replicates: t = Re lambda / (IQR / 1.349) of the
+ * replicates' Re lambda; NaN otherwise (a pair, a root far from the unit
+ * root, no bootstrap, a zero spread). Allocates a scratch copy;
+ * EL_ERR_NOMEM when it cannot. */
+el_status el_verdict_unit_root_t(const el_modes *modes, const el_model *model,
+                                 const struct el_boot_result *boot, double *t, el_error *err);
 
 /* Withholds the class for a method fault (fault != EL_METHOD_FAULT_NONE;
  * NONE is a no-op returning EL_OK): undecided (ambiguous) with cause

@@ -858,6 +858,25 @@ static void test_plain_state_applies(void **state)
     assert_false(el_state_check_applies(&asked, &m));
 }
 
+/* A saddle whose unstable root is +0.03 1/s (growth e^6 over the 200-s
+ * log by construction; tests/data/README.md) but that wanders like a
+ * random walk: the fit puts the slow root at -0.057 1/s with bounds
+ * below zero, a confident "stable" for an unstable system. The root is
+ * 1.8 bootstrap standard deviations below zero, short of the
+ * Dickey-Fuller 2.86: the verdict must not be "stable" (undecided, cause
+ * near_unit_root). */
+static void test_near_unit_root_not_stable(void **state)
+{
+    (void)state;
+    el_assessment r = run_unit("tests/data/calib_saddle_2000_22.csv", NULL, 1000);
+    assert_true(r.modes.n_modes > 0);
+    assert_true(r.modes.modes[0].lambda_im == 0.0);
+    assert_int_not_equal(r.verdict.stability, EL_STABLE);
+    assert_int_equal(r.verdict.cause, EL_CAUSE_NEAR_UNIT_ROOT);
+    assert_true(r.verdict.unit_root_t > EL_VERDICT_UNIT_ROOT_T);
+    el_assessment_free(&r);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -872,6 +891,7 @@ int main(void)
         cmocka_unit_test(test_plain_state_withdraws_spurious_growth),
         cmocka_unit_test(test_plain_state_keeps_real_growth),
         cmocka_unit_test(test_plain_state_applies),
+        cmocka_unit_test(test_near_unit_root_not_stable),
         cmocka_unit_test(test_six_sensor_example_defaults),
         cmocka_unit_test(test_near_marginal_short_log_is_ambiguous),
         cmocka_unit_test(test_plan_reuse_is_bitwise),

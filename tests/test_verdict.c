@@ -581,6 +581,64 @@ static void test_nstate_types_and_nyquist(void **state)
     el_warnings_free(&w);
 }
 
+/* The near-unit-root rule (el_verdict.h, EL_VERDICT_UNIT_ROOT_T: the
+ * Dickey-Fuller 5% critical value with a constant, -2.86, MacKinnon 2010,
+ * recalled from memory). A sink with a slow real root (-0.05 and -1 1/s,
+ * closed-form samples) and hand-made replicates of the slow root spread
+ * evenly, 0.001 1/s apart, around -0.05: all below zero (P(stable) 1),
+ * but the interquartile range (Hyndman-Fan type 7: x at ranks 24.75 and
+ * 74.25, 0.0495 apart) gives a robust sd of 0.0495 / 1.349 = 0.03669 and
+ * t = -0.05 / 0.03669 = -1.3626: not "stable", cause near_unit_root.
+ * The same spread ten times narrower gives t = -13.6: "stable" stands.
+ * Tolerance 1e-9 relative: t is a ratio of a fitted root (exact samples,
+ * rounding ~1e-12) and a spread computed exactly from the samples. */
+static void test_near_unit_root(void **state)
+{
+    (void)state;
+    const double a[4] = {-0.05, 0.0, 0.0, -1.0};
+    fitted f;
+    fit_plane_system(a, &f);
+    el_warnings_free(&f.warnings);
+    assert_int_equal(f.modes.n_modes, 2);
+    assert_close(f.modes.modes[0].lambda_re, -0.05, 1e-9, 0.0);
+    double samples[200];
+    el_mode_bounds bounds[2];
+    memset(bounds, 0, sizeof bounds);
+    el_boot_result b;
+    memset(&b, 0, sizeof b);
+    b.replicates = 100;
+    b.level = 0.95;
+    b.n_modes = 2;
+    b.bounds = bounds;
+    b.p_stable = 1.0;
+    b.lambda_re = samples;
+    bounds[0].re = (el_interval){-0.0995, -0.0005};
+    bounds[1].re = (el_interval){-1.1, -0.9};
+    for (size_t r = 0; r < 100; r++) {
+        samples[2 * r] = -0.05 + ((double)r - 49.5) * 0.001;
+        samples[2 * r + 1] = -1.0;
+    }
+    el_verdict v;
+    assert_int_equal(el_verdict_compute(&f.modes, &f.model, &b, 0.95, &v, &f.warnings, NULL),
+                     EL_OK);
+    double t_want = f.modes.modes[0].lambda_re / (0.0495 / 1.349);
+    assert_close(v.unit_root_t, t_want, 1e-9, 0.0);
+    assert_int_equal(v.stability, EL_UNDECIDED);
+    assert_int_equal(v.cause, EL_CAUSE_NEAR_UNIT_ROOT);
+    assert_string_equal(el_verdict_cause_code(v.cause), "near_unit_root");
+    assert_true(has_warning(&f.warnings, "random walk"));
+    assert_false(has_warning(&f.warnings, "neither stable nor unstable"));
+    el_warnings_free(&f.warnings);
+    for (size_t r = 0; r < 100; r++)
+        samples[2 * r] = -0.05 + ((double)r - 49.5) * 0.0001;
+    assert_int_equal(el_verdict_compute(&f.modes, &f.model, &b, 0.95, &v, &f.warnings, NULL),
+                     EL_OK);
+    assert_close(v.unit_root_t, 10.0 * t_want, 1e-9, 0.0);
+    assert_int_equal(v.stability, EL_STABLE);
+    assert_false(v.ambiguous && v.cause == EL_CAUSE_NEAR_UNIT_ROOT);
+    fitted_free(&f);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -595,6 +653,7 @@ int main(void)
         cmocka_unit_test(test_words_and_codes),
         cmocka_unit_test(test_bad_arguments),
         cmocka_unit_test(test_nstate_types_and_nyquist),
+        cmocka_unit_test(test_near_unit_root),
     };
     return cmocka_run_group_tests_name("verdict", tests, NULL, NULL);
 }
