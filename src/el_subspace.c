@@ -1084,6 +1084,12 @@ static void stabilise(el_subspace_plan *pl, const el_subspace_options *o,
 /* Execute                                                            */
 /* ------------------------------------------------------------------ */
 
+/* Samples of every channel written to the time-major y at a time: the
+ * rows of a block stay in cache while each channel's stretch is written
+ * into them, where one channel at a time over the whole record wrote one
+ * double per cache line per pass (same values). */
+#define SUB_SCALE_BLOCK 512
+
 static el_status scale_series(el_subspace_plan *pl, const el_series *s, el_error *err)
 {
     size_t n = s->n_samples, p = pl->p;
@@ -1106,8 +1112,15 @@ static el_status scale_series(el_subspace_plan *pl, const el_series *s, el_error
         }
         pl->mean[c] = mean;
         pl->scale[c] = sd;
-        for (size_t t = 0; t < n; t++)
-            pl->y[t * p + c] = (x[t] - mean) / sd;
+    }
+    for (size_t t0 = 0; t0 < n; t0 += SUB_SCALE_BLOCK) {
+        size_t t1 = n - t0 < SUB_SCALE_BLOCK ? n : t0 + SUB_SCALE_BLOCK;
+        for (size_t c = 0; c < p; c++) {
+            const double *x = s->values + c * n;
+            double mean = pl->mean[c], sd = pl->scale[c];
+            for (size_t t = t0; t < t1; t++)
+                pl->y[t * p + c] = (x[t] - mean) / sd;
+        }
     }
     return EL_OK;
 }
