@@ -1062,9 +1062,25 @@ static el_status band_plan(el_assess_plan *ap, const el_series *s, double lo, do
 /* el_fit through a kept plan of the same sizes and options (made on first
  * use: the same results, warnings and errors as el_fit, and like el_fit
  * the model is freed on error). */
+static el_status plan_fit_kept(el_assess_plan *ap, const el_series *s,
+                               const el_fit_options *fit_in, el_model *model,
+                               el_warnings *warnings, el_error *err);
+
 static el_status plan_fit(el_assess_plan *ap, const el_series *s,
                           const el_fit_options *fit_in, el_model *model,
                           el_warnings *warnings, el_error *err)
+{
+    el_status st = plan_fit_kept(ap, s, fit_in, model, warnings, err);
+    /* A subspace stage the preparation kept for the fit (el_subspace_keep)
+     * is the fit's to take; whatever the fit left is dropped here. */
+    el_subspace_drop_kept(fit_in->acf);
+    return st;
+}
+
+/* plan_fit's work; a stage the preparation keeps may be left kept. */
+static el_status plan_fit_kept(el_assess_plan *ap, const el_series *s,
+                               const el_fit_options *fit_in, el_model *model,
+                               el_warnings *warnings, el_error *err)
 {
     /* An estimator may size its model from the data (hankel: the lags). */
     el_fit_options prepared = *fit_in;

@@ -73,6 +73,9 @@ static el_status stage_run(const el_series *series, double horizon_time, size_t 
                            const el_subspace_acf *acf, hk_stage *out, el_error *err)
 {
     memset(out, 0, sizeof *out);
+    /* The same stage kept from the preparation (el_subspace_keep). */
+    if (el_subspace_take(acf, series, horizon_time, order, &out->plan, &out->res, &out->hz))
+        return EL_OK;
     el_subspace_options o;
     el_subspace_defaults(&o);
     o.horizon_time = horizon_time;
@@ -259,7 +262,11 @@ static el_status hankel_prepare(const el_series *series, el_fit_options *opt, el
         return st;
     size_t keep[2 * EL_SUBSPACE_MAX_ORDER + 2], n_eig = 0;
     size_t nk = kept_poles(&s, keep, &n_eig, err);
-    stage_free(&s);
+    /* The fit runs this stage again on the same series: kept for it when
+     * the series' autocorrelation can keep it (issue 13 item 3). */
+    if (nk == 0 || !el_subspace_keep(opt->acf, series, opt->horizon_time, opt->order,
+                                     s.plan, &s.res, &s.hz))
+        stage_free(&s);
     if (nk == 0)
         return no_mode_error(err);
     size_t k = lags_for(n_eig, series->n_channels);

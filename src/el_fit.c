@@ -4,6 +4,7 @@
  * statistics. */
 #include "el_fit.h"
 #include "el_stats.h"
+#include "el_subspace.h"
 
 #include <cblas.h>
 #include <float.h>
@@ -749,6 +750,9 @@ el_status el_fit(const el_series *series, const el_fit_options *opt,
                                 &plan, err);
     if (st == EL_OK)
         st = el_fit_plan_execute(plan, series, model, warnings, err);
+    /* A stage the preparation kept for the fit (el_subspace_keep) and the
+     * fit did not take is dropped. */
+    el_subspace_drop_kept(prepared.acf);
     el_fit_plan_destroy(plan);
     if (st != EL_OK)
         el_model_free(model);

@@ -388,26 +388,37 @@ static int test_channel(el_regime *r, const double *x, double dt, size_t c)
     for (size_t k = 0; k < n; k++)
         mean += x[k];
     mean /= (double)n;
-    /* the mean-removed copy straight into the transform's buffer */
-    for (size_t k = 0; k < n; k++)
+    /* The mean-removed copy straight into the transform's buffer, and in
+     * the same pass each segment's sums of d and d^2 (the values and the
+     * order of a pass of their own: one read of x fewer); y and m hold the
+     * sums until gamma0 is known. */
+    for (size_t k = 0; k < start; k++)
+        w->buffer[k] = x[k] - mean;
+    for (size_t a = 0; a < segs; a++) {
+        const double *seg = x + start + a * len;
+        double *out = w->buffer + start + a * len;
+        double ms = 0.0, lev = 0.0;
+        for (size_t k = 0; k < len; k++) {
+            double d = seg[k] - mean;
+            out[k] = d;
+            ms += d * d;
+            lev += d;
+        }
+        w->y[a] = ms;
+        w->m[a] = lev;
+    }
+    for (size_t k = start + segs * len; k < n; k++)
         w->buffer[k] = x[k] - mean;
     double gamma0 = autocorrelation(w, n);
     if (!(gamma0 > 0.0) || !isfinite(gamma0))
         return 0;
     double sd = sqrt(gamma0);
     for (size_t a = 0; a < segs; a++) {
-        const double *seg = x + start + a * len;
-        double ms = 0.0, lev = 0.0;
-        for (size_t k = 0; k < len; k++) {
-            double d = seg[k] - mean;
-            ms += d * d;
-            lev += d;
-        }
-        ms /= (double)len;
+        double ms = w->y[a] / (double)len;
         /* a segment with no motion at all would give ln 0: floor it at
          * rounding level of the window's variance */
         w->y[a] = 0.5 * log(fmax(ms, DBL_EPSILON * gamma0));
-        w->m[a] = lev / ((double)len * sd);
+        w->m[a] = w->m[a] / ((double)len * sd);
     }
     null_covariances(w, segs, len);
     double var_env = quadratic_form(w->weight, w->cov_y, segs);
@@ -557,8 +568,10 @@ typedef struct {
 } level_move;
 
 /* The least-squares split of x[lo..hi) (j samples before it, within the
- * whole window x[0..n)): maximises j (n - j) (mean after - mean before)^2. */
-static size_t locate_step(const double *x, size_t n, size_t lo, size_t hi)
+ * whole window x[0..n)): maximises j (n - j) (mean after - mean before)^2.
+ * *before_best: the sum of x[0..j) for that j, added in ascending order. */
+static size_t locate_step(const double *x, size_t n, size_t lo, size_t hi,
+                          double *before_best)
 {
     double total = 0.0, before = 0.0, best = -1.0;
     size_t best_j = lo;
@@ -566,6 +579,7 @@ static size_t locate_step(const double *x, size_t n, size_t lo, size_t hi)
         total += x[k];
     for (size_t k = 0; k < lo; k++)
         before += x[k];
+    *before_best = before;
     for (size_t j = lo; j < hi && j < n; j++) {
         if (j > 0) {
             double d = (total - before) / (double)(n - j) - before / (double)j;
@@ -573,6 +587,7 @@ static size_t locate_step(const double *x, size_t n, size_t lo, size_t hi)
             if (score > best) {
                 best = score;
                 best_j = j;
+                *before_best = before;
             }
         }
         before += x[j];
@@ -636,10 +651,13 @@ static void level_channel(const el_regime *r, const double *x, double t0, double
         }
     }
     if (best_k > 0) {
-        size_t j = locate_step(x, n, off + (best_k - 1) * len, off + (best_k + 1) * len);
+        /* the sum before the split is locate_step's (the same additions);
+         * the one after it is taken here */
         double before = 0.0, after = 0.0;
-        for (size_t k = 0; k < n; k++)
-            *(k < j ? &before : &after) += x[k];
+        size_t j = locate_step(x, n, off + (best_k - 1) * len, off + (best_k + 1) * len,
+                               &before);
+        for (size_t k = j; k < n; k++)
+            after += x[k];
         shift.step_t = t0 + ((double)j - 0.5) * dt;
         shift.change = after / (double)(n - j) - before / (double)j;
     }

@@ -52,6 +52,7 @@ struct el_subspace_plan {
     double *y;
     size_t n_samples, n_windows;
     int executed;
+    size_t executed_order;        /* the order the last execute chose */
     double dt;
     double *mean, *scale;
     double *hank;
@@ -159,6 +160,18 @@ static size_t horizon_lags(size_t n, size_t p, size_t max_rows)
     return lmax;
 }
 
+/* A stage kept by an el_subspace_acf (el_subspace_keep), with what it ran
+ * on: the series' identity and sizes, and the options that decide it. */
+struct el_subspace_kept {
+    el_subspace_plan *plan;   /* NULL: nothing kept */
+    el_subspace_result res;
+    el_subspace_horizon hz;
+    const double *values;
+    size_t n_samples, n_channels;
+    double dt, horizon_time;
+    size_t order;
+};
+
 /* The shared autocorrelation of exactly this series, when it holds the
  * lags asked for. */
 static int acf_fits(const el_subspace_acf *acf, const el_series *s, size_t lmax)
@@ -174,6 +187,11 @@ el_status el_subspace_acf_compute(const el_series *series, size_t max_rows,
     if (series == NULL || acf == NULL || series->values == NULL || series->n_channels == 0)
         return el_error_set(err, EL_ERR_INTERNAL, "el_subspace_acf_compute: bad arguments");
     acf->values = NULL;
+    /* A stage kept for the series before belongs to its old values. The
+     * record is optional: without it nothing is kept. */
+    el_subspace_drop_kept(acf);
+    if (acf->kept == NULL)
+        acf->kept = calloc(1, sizeof *acf->kept);
     size_t lmax = horizon_lags(series->n_samples, series->n_channels, max_rows);
     if (acf->capacity < 2 * (lmax + 1)) {
         free(acf->r);
@@ -197,8 +215,76 @@ void el_subspace_acf_free(el_subspace_acf *acf)
 {
     if (acf == NULL)
         return;
+    el_subspace_drop_kept(acf);
+    free(acf->kept);
     free(acf->r);
     memset(acf, 0, sizeof *acf);
+}
+
+
+static int kept_matches(const struct el_subspace_kept *k, const el_series *s,
+                        double horizon_time, size_t order)
+{
+    return k->plan != NULL && k->values == s->values && k->n_samples == s->n_samples &&
+           k->n_channels == s->n_channels && k->dt == s->dt &&
+           k->horizon_time == horizon_time && k->order == order;
+}
+
+void el_subspace_drop_kept(const el_subspace_acf *acf)
+{
+    if (acf == NULL || acf->kept == NULL)
+        return;
+    el_subspace_plan_destroy(acf->kept->plan);
+    acf->kept->plan = NULL;
+}
+
+int el_subspace_keep(const el_subspace_acf *acf, const el_series *series,
+                     double horizon_time, size_t order, el_subspace_plan *plan,
+                     const el_subspace_result *result, const el_subspace_horizon *hz)
+{
+    if (acf == NULL || acf->kept == NULL || series == NULL || plan == NULL ||
+        result == NULL || hz == NULL || !plan->executed ||
+        !acf_fits(acf, series, 0))
+        return 0;
+    el_subspace_drop_kept(acf);
+    struct el_subspace_kept *k = acf->kept;
+    k->plan = plan;
+    k->res = *result;
+    k->hz = *hz;
+    k->values = series->values;
+    k->n_samples = series->n_samples;
+    k->n_channels = series->n_channels;
+    k->dt = series->dt;
+    k->horizon_time = horizon_time;
+    k->order = order;
+    return 1;
+}
+
+int el_subspace_take(const el_subspace_acf *acf, const el_series *series,
+                     double horizon_time, size_t order, el_subspace_plan **plan,
+                     el_subspace_result *result, el_subspace_horizon *hz)
+{
+    if (acf == NULL || acf->kept == NULL || series == NULL || plan == NULL ||
+        result == NULL || hz == NULL || !acf_fits(acf, series, 0) ||
+        !kept_matches(acf->kept, series, horizon_time, order))
+        return 0;
+    struct el_subspace_kept *k = acf->kept;
+    el_subspace_result res = k->res;
+    el_subspace_plan *pl = k->plan;
+    /* The keeper may have moved the model to another order (hankel's kept
+     * poles): back to the execute's own, the same shift solve it ran. */
+    if (res.order != pl->executed_order) {
+        el_error quiet;
+        el_error_clear(&quiet);
+        if (pl->executed_order == 0 ||
+            el_subspace_set_order(pl, pl->executed_order, &res, &quiet) != EL_OK)
+            return 0;
+    }
+    k->plan = NULL;
+    *plan = pl;
+    *result = res;
+    *hz = k->hz;
+    return 1;
 }
 
 el_status el_subspace_choose_horizon(const el_series *series,
@@ -998,6 +1084,12 @@ static void stabilise(el_subspace_plan *pl, const el_subspace_options *o,
 /* Execute                                                            */
 /* ------------------------------------------------------------------ */
 
+/* Samples of every channel written to the time-major y at a time: the
+ * rows of a block stay in cache while each channel's stretch is written
+ * into them, where one channel at a time over the whole record wrote one
+ * double per cache line per pass (same values). */
+#define SUB_SCALE_BLOCK 512
+
 static el_status scale_series(el_subspace_plan *pl, const el_series *s, el_error *err)
 {
     size_t n = s->n_samples, p = pl->p;
@@ -1020,8 +1112,15 @@ static el_status scale_series(el_subspace_plan *pl, const el_series *s, el_error
         }
         pl->mean[c] = mean;
         pl->scale[c] = sd;
-        for (size_t t = 0; t < n; t++)
-            pl->y[t * p + c] = (x[t] - mean) / sd;
+    }
+    for (size_t t0 = 0; t0 < n; t0 += SUB_SCALE_BLOCK) {
+        size_t t1 = n - t0 < SUB_SCALE_BLOCK ? n : t0 + SUB_SCALE_BLOCK;
+        for (size_t c = 0; c < p; c++) {
+            const double *x = s->values + c * n;
+            double mean = pl->mean[c], sd = pl->scale[c];
+            for (size_t t = t0; t < t1; t++)
+                pl->y[t * p + c] = (x[t] - mean) / sd;
+        }
     }
     return EL_OK;
 }
@@ -1142,6 +1241,7 @@ el_status el_subspace_execute(el_subspace_plan *pl, const el_series *series,
         res->n_order_poles = fst[order + 1] - fst[order];
     }
     pl->executed = 1;
+    pl->executed_order = order;
     res->n_channels = p;
     res->horizon = h;
     res->n_windows = pl->n_windows;

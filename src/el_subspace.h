@@ -61,6 +61,8 @@ typedef struct el_subspace_acf {
     int unusable;          /* 1: a channel is constant or not finite */
     double *r;             /* lags + 1 (owned) */
     size_t capacity;       /* doubles allocated at r */
+    struct el_subspace_kept *kept;   /* owned: a stage run on this series, kept
+                                        for its next run (el_subspace_keep) */
 } el_subspace_acf;
 
 typedef struct {
@@ -126,7 +128,7 @@ el_status el_subspace_choose_horizon(const el_series *series,
 el_status el_subspace_acf_compute(const el_series *series, size_t max_rows,
                                   el_subspace_acf *acf, el_error *err);
 
-/* Frees acf->r and clears acf; NULL is fine. */
+/* Frees acf->r and any stage it keeps, and clears acf; NULL is fine. */
 void el_subspace_acf_free(el_subspace_acf *acf);
 
 /* One pole of the stabilisation analysis (a complex pair is one pole,
@@ -227,6 +229,30 @@ el_status el_subspace_execute(el_subspace_plan *plan, const el_series *series,
  * EL_ERR_NUMERIC when that order's shift equations are rank deficient. */
 el_status el_subspace_set_order(el_subspace_plan *plan, size_t order,
                                 el_subspace_result *result, el_error *err);
+
+/* A stage run twice on one series (hankel's preparation runs the stage
+ * to size the model's lags, and its fit then runs the same stage again)
+ * is kept in between by the series' shared autocorrelation, which is tied
+ * to that series. el_subspace_keep hands an executed plan (with its result
+ * and horizon; horizon_time and order the options it ran with) to acf and
+ * returns 1: acf then owns the plan (a stage kept before is destroyed).
+ * It returns 0 and keeps nothing when acf is NULL, is not series'
+ * (el_subspace_acf_compute of exactly this series) or has no room (its
+ * record could not be allocated): the caller still owns the plan.
+ * el_subspace_take gives back a stage kept for exactly this series and
+ * these options (returns 1; the caller owns *plan, and the result is set
+ * back to the order the execute chose, as if just executed) or returns 0
+ * and changes nothing. el_subspace_drop_kept destroys a kept stage (NULL
+ * or none: nothing). The stage is the same bit for bit as a new execute on
+ * the unchanged series: valid only while series' values are unchanged,
+ * like acf itself; el_subspace_acf_compute drops it. Can't fail. */
+int el_subspace_keep(const el_subspace_acf *acf, const el_series *series,
+                     double horizon_time, size_t order, el_subspace_plan *plan,
+                     const el_subspace_result *result, const el_subspace_horizon *hz);
+int el_subspace_take(const el_subspace_acf *acf, const el_series *series,
+                     double horizon_time, size_t order, el_subspace_plan **plan,
+                     el_subspace_result *result, el_subspace_horizon *hz);
+void el_subspace_drop_kept(const el_subspace_acf *acf);
 
 /* Length of one block-sum record (doubles) for the plan:
  * 1 + hp + n_v + hp n_v with n_v = max_order. */

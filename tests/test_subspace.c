@@ -513,6 +513,84 @@ static void test_shared_autocorrelation(void **state)
     ts_free(&ts);   /* frees v, which other borrowed too */
 }
 
+/* A stage kept by the series' shared autocorrelation (el_subspace_keep /
+ * el_subspace_take, issue 13 item 3: hankel's preparation and fit ran the
+ * same stage twice) is given back as a fresh execute gives it, bit for bit
+ * (exact equality: the same computation, kept), and at the order the
+ * execute chose even after the keeper moved it (el_subspace_set_order);
+ * only for the same series and options, once; a new autocorrelation drops
+ * it. The series: the noisy 6-sensor system above, 6000 samples. */
+static void test_kept_stage(void **state)
+{
+    (void)state;
+    double fn[2] = { 1.30, 0.384 }, zeta[2] = { 0.03, 0.252 }, a[16], dt = 0.01;
+    modal_a(2, fn, zeta, a);
+    size_t n = 6000;
+    test_series ts;
+    ts_init(&ts, n, 6, dt, simulate6(a, dt, n, 1, 20.0, 42));
+    el_subspace_options opt;
+    el_subspace_defaults(&opt);
+    run_t fresh, kept;
+    run_subspace(&ts.s, &opt, &fresh);
+    assert_true(fresh.res.order >= 2);
+    el_subspace_acf acf;
+    memset(&acf, 0, sizeof acf);
+    el_error err;
+    el_error_clear(&err);
+    /* no autocorrelation of this series: nothing is kept */
+    run_subspace(&ts.s, &opt, &kept);
+    assert_int_equal(el_subspace_keep(&acf, &ts.s, 0.0, 0, kept.plan, &kept.res, &kept.hz), 0);
+    assert_int_equal(el_subspace_keep(NULL, &ts.s, 0.0, 0, kept.plan, &kept.res, &kept.hz), 0);
+    assert_int_equal(el_subspace_acf_compute(&ts.s, 0, &acf, &err), EL_OK);
+    size_t order = kept.res.order;
+    assert_int_equal(el_subspace_set_order(kept.plan, 1, &kept.res, &err), EL_OK);
+    assert_int_equal(el_subspace_keep(&acf, &ts.s, 0.0, 0, kept.plan, &kept.res, &kept.hz), 1);
+    /* other options or another record: not given */
+    el_subspace_plan *pl = NULL;
+    el_subspace_result res;
+    el_subspace_horizon hz;
+    assert_int_equal(el_subspace_take(&acf, &ts.s, 0.0, 3, &pl, &res, &hz), 0);
+    assert_int_equal(el_subspace_take(&acf, &ts.s, 0.5, 0, &pl, &res, &hz), 0);
+    double *hv = malloc(6 * (n / 2) * sizeof *hv);
+    assert_non_null(hv);
+    for (size_t c = 0; c < 6; c++)
+        memcpy(hv + c * (n / 2), ts.s.values + c * n, n / 2 * sizeof(double));
+    test_series half;
+    ts_init(&half, n / 2, 6, dt, hv);
+    assert_int_equal(el_subspace_take(&acf, &half.s, 0.0, 0, &pl, &res, &hz), 0);
+    assert_null(pl);
+    /* the same: the fresh execute's stage */
+    assert_int_equal(el_subspace_take(&acf, &ts.s, 0.0, 0, &pl, &res, &hz), 1);
+    assert_true(pl == kept.plan);
+    assert_int_equal(res.order, order);
+    assert_int_equal(res.order, fresh.res.order);
+    assert_int_equal(hz.rows, fresh.hz.rows);
+    assert_int_equal(res.n_poles, fresh.res.n_poles);
+    assert_int_equal(res.first_pole, fresh.res.first_pole);
+    assert_int_equal(res.n_order_poles, fresh.res.n_order_poles);
+    assert_memory_equal(res.singular, fresh.res.singular, res.n_singular * sizeof(double));
+    assert_memory_equal(res.a, fresh.res.a, order * order * sizeof(double));
+    assert_memory_equal(res.c_raw, fresh.res.c_raw, 6 * order * sizeof(double));
+    for (size_t k = 0; k < res.n_poles; k++) {
+        assert_memory_equal(&res.poles[k].mu_re, &fresh.res.poles[k].mu_re, sizeof(double));
+        assert_memory_equal(&res.poles[k].mu_im, &fresh.res.poles[k].mu_im, sizeof(double));
+        assert_int_equal(res.poles[k].physical, fresh.res.poles[k].physical);
+    }
+    /* given once */
+    el_subspace_plan *again = NULL;
+    assert_int_equal(el_subspace_take(&acf, &ts.s, 0.0, 0, &again, &res, &hz), 0);
+    /* kept again, then a new autocorrelation: dropped (ASan: no leak) */
+    assert_int_equal(el_subspace_keep(&acf, &ts.s, 0.0, 0, pl, &res, &hz), 1);
+    assert_int_equal(el_subspace_acf_compute(&ts.s, 0, &acf, &err), EL_OK);
+    assert_int_equal(el_subspace_take(&acf, &ts.s, 0.0, 0, &again, &res, &hz), 0);
+    run_subspace(&ts.s, &opt, &kept);
+    assert_int_equal(el_subspace_keep(&acf, &ts.s, 0.0, 0, kept.plan, &kept.res, &kept.hz), 1);
+    el_subspace_acf_free(&acf);   /* frees the kept plan */
+    el_subspace_plan_destroy(fresh.plan);
+    ts_free(&half);
+    ts_free(&ts);
+}
+
 /* ------------------------------------------------------------------ */
 /* (c) the 6-sensor example of issue 10, (d) stabilisation labels     */
 /* ------------------------------------------------------------------ */
@@ -822,6 +900,7 @@ int main(void)
         cmocka_unit_test(test_white_noise_no_mode),
         cmocka_unit_test(test_replicate_reproduces_point),
         cmocka_unit_test(test_bad_arguments),
+        cmocka_unit_test(test_kept_stage),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }
