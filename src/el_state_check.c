@@ -49,12 +49,9 @@ el_status el_state_check_run(const el_series *series, const el_fit_options *fit_
     bo.progress_ctx = NULL;
     if (bo.replicates > EL_STATE_CHECK_REPLICATES)
         bo.replicates = EL_STATE_CHECK_REPLICATES;
-    el_model model;
-    memset(&model, 0, sizeof model);
-    el_modes modes;
-    memset(&modes, 0, sizeof modes);
-    el_boot_result br;
-    memset(&br, 0, sizeof br);
+    el_model model = {0};
+    el_modes modes = {0};
+    el_boot_result br = {0};
     el_error local;
     el_error_clear(&local);
     el_status st = el_fit(series, &fo, &model, NULL, &local);
