@@ -56,6 +56,21 @@
  * real 2.4 Hz mode has the same share but starts at order 4). */
 #define HK_LATE_FACTOR 2
 
+/* When the poles the automatic model takes at the stage's order carry
+ * less than this share of that order's modal contributions, the orders
+ * below are read for a set that holds more eigenvalues (kept_poles). The
+ * measured case: the slow pole of an overdamped node, 0.6-0.9 of the
+ * contributions, dropped with its chain broken, leaving a model of the
+ * fast pole with 0.06-0.14. A half: a model that leaves out most of what
+ * its order explains has lost a strong mode (our rule). Only then, and
+ * only when the stage's order keeps some chain: the lower orders repair a
+ * model, they never make one where the rules at the stage's order found
+ * none (which logs hankel models decides --method auto's choice; reading
+ * lower orders whenever they held more gave the second half of the fan
+ * warm-up demo log a model, and auto then took hankel for the whole log,
+ * whose model holds a weak growing pole: P(stable) 1 -> 0.67). */
+#define HK_LOW_KEPT_SHARE 0.5
+
 /* One run of the subspace stage. */
 typedef struct {
     el_subspace_plan *plan;
@@ -151,15 +166,87 @@ static size_t chain_start(const el_subspace_result *res, size_t chain)
     return y->order;
 }
 
+/* The chains the automatic model takes from the physical poles of order
+ * n: those whose share of the modal contributions is at least
+ * HK_MIN_SHARE_RATIO of the strongest physical pole's of that order, by
+ * the order their chain starts at, earliest first; a chain that starts
+ * later than HK_LATE_FACTOR times the eigenvalues kept with it (plus 2) is
+ * left out, and all after it. Writes the chains to chains and returns
+ * their count; *n_eig receives their eigenvalue count. */
+static size_t chains_of_order(const el_subspace_result *res, size_t n, size_t *chains,
+                              size_t *n_eig)
+{
+    double top = 0.0;
+    for (size_t k = 0; k < res->n_poles; k++) {
+        const el_subspace_pole *q = &res->poles[k];
+        if (q->order == n && q->physical && q->contribution > top)
+            top = q->contribution;
+    }
+    size_t cand[2 * EL_SUBSPACE_MAX_ORDER + 2], start[2 * EL_SUBSPACE_MAX_ORDER + 2];
+    size_t n_cand = 0;
+    for (size_t k = 0; k < res->n_poles; k++) {
+        const el_subspace_pole *q = &res->poles[k];
+        if (q->order != n || !q->physical || q->contribution < HK_MIN_SHARE_RATIO * top ||
+            n_cand >= 2 * EL_SUBSPACE_MAX_ORDER + 2)
+            continue;
+        size_t st = chain_start(res, q->chain);
+        size_t i = n_cand++;
+        for (; i > 0 && start[i - 1] > st; i--) {
+            cand[i] = cand[i - 1];
+            start[i] = start[i - 1];
+        }
+        cand[i] = k;
+        start[i] = st;
+    }
+    size_t eig = 0, n_chains = 0;
+    for (size_t i = 0; i < n_cand; i++) {
+        const el_subspace_pole *q = &res->poles[cand[i]];
+        size_t e = eig + (q->mu_im > 0.0 ? 2 : 1);
+        if (start[i] > HK_LATE_FACTOR * e + 2)
+            break;
+        eig = e;
+        chains[n_chains++] = q->chain;
+    }
+    *n_eig = eig;
+    return n_chains;
+}
+
+/* The share of order n's modal contributions that the poles of the given
+ * chains carry. */
+static double kept_share(const el_subspace_result *res, size_t n, const size_t *chains,
+                         size_t n_chains)
+{
+    double share = 0.0;
+    for (size_t k = 0; k < res->n_poles; k++) {
+        const el_subspace_pole *q = &res->poles[k];
+        if (q->order != n)
+            continue;
+        for (size_t c = 0; c < n_chains; c++)
+            if (q->chain == chains[c]) {
+                share += q->contribution;
+                break;
+            }
+    }
+    return share;
+}
+
 /* The poles kept: with the order given, all of that order's. Automatic:
- * the physical poles of the stage's order whose share of the modal
- * contributions is at least HK_MIN_SHARE_RATIO of the strongest one's
- * (their chains); the model then takes the lowest order at which every
- * one of those chains has a pole (el_subspace_set_order): fewer noise
- * poles in the model and in the bootstrap's replicates, whose eigenvalues
- * are matched to the kept ones. Writes the kept poles' indices (into the
- * model order's poles) to keep and returns their count (0: none); *n_eig
- * receives their eigenvalue count. */
+ * the chains of the stage's automatic order by chains_of_order; when
+ * there are some but their poles carry less than HK_LOW_KEPT_SHARE of that
+ * order's modal contributions (a strong mode was left out), of the orders
+ * up to the stage's, the one whose physical poles give the most eigenvalues by
+ * chains_of_order (the lowest on a tie), and its chains; the model then takes the lowest order at which every one of
+ * those chains has a pole (el_subspace_set_order): fewer noise poles in
+ * the model and in the bootstrap's replicates, whose eigenvalues are
+ * matched to the kept ones. Until 2026-12-05 only the stage's order was
+ * read, the smallest with the most physical poles at once, and noise
+ * chains count there too: on overdamped nodes a noise pole entering at
+ * order 8-14 broke the slow pole's chain (its estimate jumps by more than
+ * the tolerance), both were then dated late and the model kept only the
+ * fast pole, while the orders below held both (calibrate --misses: 5 of
+ * 54 sink logs at 5,000 samples, 6 of 57 at 20,000). Writes the kept
+ * poles' indices (into the model order's poles) to keep and returns their
+ * count (0: none); *n_eig receives their eigenvalue count. */
 static size_t kept_poles(hk_stage *s, size_t *keep, size_t *n_eig, el_error *err)
 {
     el_subspace_result *res = &s->res;
@@ -167,43 +254,29 @@ static size_t kept_poles(hk_stage *s, size_t *keep, size_t *n_eig, el_error *err
     if (res->order == 0)
         return 0;
     size_t chains[2 * EL_SUBSPACE_MAX_ORDER + 2], n_chains = 0;
-    double top = 0.0;
-    for (size_t k = 0; k < res->n_order_poles; k++) {
-        const el_subspace_pole *q = &res->poles[res->first_pole + k];
-        if (q->physical && q->contribution > top)
-            top = q->contribution;
-    }
     if (res->order_was_auto) {
-        /* Candidates by the order their chain starts at, earliest first;
-         * a chain that starts later than HK_LATE_FACTOR times the
-         * eigenvalues kept with it (plus 2) is left out, and all after it. */
-        size_t cand[2 * EL_SUBSPACE_MAX_ORDER + 2], start[2 * EL_SUBSPACE_MAX_ORDER + 2];
-        size_t n_cand = 0;
-        for (size_t k = 0; k < res->n_order_poles; k++) {
-            const el_subspace_pole *q = &res->poles[res->first_pole + k];
-            if (!q->physical || q->contribution < HK_MIN_SHARE_RATIO * top)
-                continue;
-            size_t st = chain_start(res, q->chain);
-            size_t i = n_cand++;
-            for (; i > 0 && start[i - 1] > st; i--) {
-                cand[i] = cand[i - 1];
-                start[i] = start[i - 1];
+        size_t best = res->order, best_eig = 0;
+        n_chains = chains_of_order(res, res->order, chains, &best_eig);
+        if (n_chains > 0 && kept_share(res, res->order, chains, n_chains) < HK_LOW_KEPT_SHARE) {
+            best = 0;
+            best_eig = 0;
+            for (size_t n = 1; n <= res->order; n++) {
+                size_t e = 0;
+                chains_of_order(res, n, chains, &e);
+                if (e > best_eig) {
+                    best_eig = e;
+                    best = n;
+                }
             }
-            cand[i] = k;
-            start[i] = st;
         }
-        size_t eig = 0;
-        for (size_t i = 0; i < n_cand; i++) {
-            const el_subspace_pole *q = &res->poles[res->first_pole + cand[i]];
-            eig += q->mu_im > 0.0 ? 2 : 1;
-            if (start[i] > HK_LATE_FACTOR * eig + 2)
-                break;
-            chains[n_chains++] = q->chain;
-        }
+        if (best == 0)
+            return 0;
+        size_t e = 0;
+        n_chains = chains_of_order(res, best, chains, &e);
         if (n_chains == 0)
             return 0;
-        size_t lowest = res->order;
-        for (size_t n = 1; n < res->order; n++) {
+        size_t lowest = best;
+        for (size_t n = 1; n < best; n++) {
             size_t found = 0;
             for (size_t c = 0; c < n_chains; c++)
                 for (size_t k = 0; k < res->n_poles; k++)
@@ -216,7 +289,7 @@ static size_t kept_poles(hk_stage *s, size_t *keep, size_t *n_eig, el_error *err
                 break;
             }
         }
-        if (lowest < res->order && el_subspace_set_order(s->plan, lowest, res, err) != EL_OK)
+        if (lowest != res->order && el_subspace_set_order(s->plan, lowest, res, err) != EL_OK)
             return 0;
     }
     size_t nk = 0;
