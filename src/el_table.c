@@ -469,6 +469,109 @@ static double median_select(double *a, size_t n, double *as_timebase)
     return 0.5 * (lower + upper);
 }
 
+/* The median step without the array of all steps, on the long logs
+ * where that array (8 bytes a row, fresh pages) and the selection's
+ * passes over it cost more than the rest of scan's statistics: the steps
+ * of an evenly spaced sample of BRACKET_SAMPLE rows, sorted, give a
+ * bracket [lo, hi] about the middle; one pass (the one that finds the
+ * smallest and largest step anyway) counts the steps below lo, equal to
+ * lo, strictly between, equal to hi and above. A rank that falls on lo
+ * or hi has its value then; one that falls strictly between is found by
+ * selection among only those steps (a second pass gathers them: a few
+ * percent of the steps on jittery stamps, none on regular ones, whose
+ * steps take few distinct values). The counts are ranks in the whole
+ * multiset of steps, so the value is the one selection over all steps
+ * gives, bit for bit; when a rank falls outside the bracket, or a step
+ * is NaN, scan falls back to that selection. */
+#define BRACKET_SAMPLE 1023
+#define BRACKET_HALF_WIDTH 48
+#define BRACKET_MIN_STEPS (16 * BRACKET_SAMPLE)
+
+typedef struct {
+    double lo, hi;                   /* the bracket, lo <= hi */
+    size_t below, at_lo, mid, at_hi; /* < lo, == lo, in (lo, hi), == hi when hi > lo */
+    size_t nan;                      /* steps that are NaN */
+} step_bracket;
+
+static int compare_double(const void *a, const void *b)
+{
+    double x = *(const double *)a, y = *(const double *)b;
+    return (x > y) - (x < y);
+}
+
+/* The bracket from the sample of the m >= BRACKET_MIN_STEPS steps of t;
+ * 0 when a sampled step is NaN. */
+static int bracket_from_sample(const double *t, size_t m, step_bracket *b)
+{
+    double sample[BRACKET_SAMPLE];
+    for (size_t i = 0; i < BRACKET_SAMPLE; i++) {
+        size_t r = i * (m / BRACKET_SAMPLE);
+        sample[i] = t[r + 1] - t[r];
+        if (isnan(sample[i]))
+            return 0;
+    }
+    qsort(sample, BRACKET_SAMPLE, sizeof sample[0], compare_double);
+    memset(b, 0, sizeof *b);
+    b->lo = sample[BRACKET_SAMPLE / 2 - BRACKET_HALF_WIDTH];
+    b->hi = sample[BRACKET_SAMPLE / 2 + BRACKET_HALF_WIDTH];
+    return 1;
+}
+
+/* Where rank k (0-based) of the steps lies: 1 on lo, 2 strictly
+ * between, 3 on hi, 0 outside the bracket. */
+static int bracket_zone(const step_bracket *b, size_t k)
+{
+    if (k < b->below)
+        return 0;
+    k -= b->below;
+    if (k < b->at_lo)
+        return 1;
+    k -= b->at_lo;
+    if (k < b->mid)
+        return 2;
+    k -= b->mid;
+    return k < b->at_hi ? 3 : 0;
+}
+
+/* The steps of t strictly inside (lo, hi), gathered into a new array of
+ * b->mid values; NULL when out of memory. */
+static double *bracket_gather(const double *t, size_t m, const step_bracket *b)
+{
+    double *a = malloc((b->mid > 0 ? b->mid : 1) * sizeof *a);
+    if (a == NULL)
+        return NULL;
+    size_t k = 0;
+    for (size_t r = 0; r < m; r++) {
+        double step = t[r + 1] - t[r];
+        if (step > b->lo && step < b->hi)
+            a[k++] = step;
+    }
+    return a;
+}
+
+/* Ranks k (and k - 1 when both is set) of the steps from the bracket:
+ * 1 with *upper (rank k) and *lower (rank k - 1) set; 0 when one lies
+ * outside it or there is no memory (then the caller selects over all). */
+static int bracket_ranks(const double *t, size_t m, const step_bracket *b, size_t k, int both,
+                         double *upper, double *lower)
+{
+    int zu = bracket_zone(b, k), zl = both ? bracket_zone(b, k - 1) : 1;
+    if (b->nan > 0 || zu == 0 || zl == 0)
+        return 0;
+    double *a = NULL;
+    if (zu == 2 || (both && zl == 2)) {
+        a = bracket_gather(t, m, b);
+        if (a == NULL)
+            return 0;
+    }
+    size_t off = b->below + b->at_lo;
+    *upper = zu == 1 ? b->lo : zu == 3 ? b->hi : select_kth(a, b->mid, k - off);
+    if (both)
+        *lower = zl == 1 ? b->lo : zl == 3 ? b->hi : select_kth(a, b->mid, k - 1 - off);
+    free(a);
+    return 1;
+}
+
 /* One cell into a lane of column_stats: a missing cell (NaN) adds 0
  * and fails both comparisons. */
 static inline void stat_lane(double x, double *sum, double *lo, double *hi, size_t *present)
@@ -616,9 +719,12 @@ el_status el_scan_table(const el_table *table, el_scan *scan, el_error *err)
         return EL_ERR_DATA;
     }
     const double *t = table->values + table->time_column * n;
-    double *steps = malloc((n - 1) * sizeof *steps);
+    size_t m = n - 1;
+    step_bracket br;
+    int bracketed = m >= BRACKET_MIN_STEPS && bracket_from_sample(t, m, &br);
     el_column_stats *cols = calloc(table->n_columns, sizeof *cols);
-    if (steps == NULL || cols == NULL) {
+    double *steps = bracketed ? NULL : malloc(m * sizeof *steps);
+    if ((steps == NULL && !bracketed) || cols == NULL) {
         free(steps);
         free(cols);
         return el_error_set(err, EL_ERR_NOMEM, "out of memory in scan");
@@ -627,22 +733,60 @@ el_status el_scan_table(const el_table *table, el_scan *scan, el_error *err)
     double lo = INFINITY, hi = -INFINITY;
     /* Counts in locals: scan's fields could alias steps for the compiler,
      * which then stored and reloaded them at every step. */
-    for (size_t r = 0; r + 1 < n; r++) {
-        double step = t[r + 1] - t[r];
-        steps[r] = step;
-        if (step <= 0.0 && nonpositive++ == 0)
-            first_back = r + 1;
-        backward += step < 0.0;
-        repeated += step == 0.0;
-        lo = step < lo ? step : lo;
-        hi = step > hi ? step : hi;
+    if (bracketed) {
+        size_t below = 0, at_lo = 0, mid = 0, at_hi = 0, nan = 0;
+        for (size_t r = 0; r + 1 < n; r++) {
+            double step = t[r + 1] - t[r];
+            if (step <= 0.0 && nonpositive++ == 0)
+                first_back = r + 1;
+            backward += step < 0.0;
+            repeated += step == 0.0;
+            lo = step < lo ? step : lo;
+            hi = step > hi ? step : hi;
+            below += step < br.lo;
+            at_lo += step == br.lo;
+            mid += step > br.lo && step < br.hi;
+            at_hi += step == br.hi && br.hi > br.lo;
+            nan += isnan(step);
+        }
+        br.below = below;
+        br.at_lo = at_lo;
+        br.mid = mid;
+        br.at_hi = at_hi;
+        br.nan = nan;
+    } else {
+        for (size_t r = 0; r + 1 < n; r++) {
+            double step = t[r + 1] - t[r];
+            steps[r] = step;
+            if (step <= 0.0 && nonpositive++ == 0)
+                first_back = r + 1;
+            backward += step < 0.0;
+            repeated += step == 0.0;
+            lo = step < lo ? step : lo;
+            hi = step > hi ? step : hi;
+        }
     }
     scan->nonpositive_steps = nonpositive;
     scan->backward_steps = backward;
     scan->repeated_steps = repeated;
-    size_t m = n - 1;
-    double dt_step;
-    double median = median_select(steps, m, &dt_step);
+    double dt_step, median, upper, lower = 0.0;
+    if (bracketed && bracket_ranks(t, m, &br, m / 2, m % 2 == 0, &upper, &lower)) {
+        /* median_select's arithmetic on the same two values */
+        median = dt_step = upper;
+        if (m % 2 == 0) {
+            dt_step = lower + (upper - lower) / 2;
+            median = 0.5 * (lower + upper);
+        }
+    } else {
+        if (steps == NULL && (steps = malloc(m * sizeof *steps)) != NULL)
+            for (size_t r = 0; r < m; r++)
+                steps[r] = t[r + 1] - t[r];
+        if (steps == NULL) {
+            free(cols);
+            return el_error_set(err, EL_ERR_NOMEM, "out of memory in scan");
+        }
+        median = median_select(steps, m, &dt_step);
+    }
     /* Stamps coarser than the sampling (10 Hz stamped in whole seconds):
      * most steps are 0; the mean step stands for the interval, and
      * el_timebase_survey says whether assess reads the rows as a grid. */
@@ -671,10 +815,25 @@ el_status el_scan_table(const el_table *table, el_scan *scan, el_error *err)
     scan->dt_max = hi;
     double jitter = 0.0;
     size_t long_steps = 0;
-    for (size_t r = 0; r < m; r++) {
-        double dev = fabs(steps[r] - median) / median;
-        jitter = dev > jitter ? dev : jitter;
-        long_steps += steps[r] > 1.5 * median;
+    if (steps != NULL) {
+        for (size_t r = 0; r < m; r++) {
+            double dev = fabs(steps[r] - median) / median;
+            jitter = dev > jitter ? dev : jitter;
+            long_steps += steps[r] > 1.5 * median;
+        }
+    } else {
+        /* |step - median| / median grows with the distance from the
+         * median on either side (each operation rounds monotonically), so
+         * its largest value is at the smallest or the largest step: the
+         * same maximum as the loop above. No step is NaN here. */
+        double ends[2] = {lo, hi};
+        for (int i = 0; i < 2; i++) {
+            double dev = fabs(ends[i] - median) / median;
+            jitter = dev > jitter ? dev : jitter;
+        }
+        if (hi > 1.5 * median)
+            for (size_t r = 0; r < m; r++)
+                long_steps += t[r + 1] - t[r] > 1.5 * median;
     }
     scan->jitter = jitter;
     scan->long_steps = long_steps;

@@ -1587,6 +1587,72 @@ static void test_median_step_selection(void **state)
     }
 }
 
+/* The median step of a long log (the bracket from a sample, counts in
+ * one pass; el_table.c) equals the middle of the sorted steps (qsort
+ * here), and the jitter and long-step count equal their definitions
+ * over every step (max |s - median| / median, #(s > 1.5 median)), bit
+ * for bit (tolerance 0: the same operations on the same doubles), for
+ * steps that take few values (ranks on the bracket's ends), jittery
+ * stamps (ranks strictly inside it; every step distinct, so a rank off
+ * by one shows), a sample that misses the median (the fallback to
+ * selection over all steps), odd and even counts, and long steps. */
+static void test_median_step_bracket(void **state)
+{
+    (void)state;
+    uint64_t seed = 4242;
+    const size_t sizes[] = {40000, 40001, 70000};
+    for (int kind = 0; kind < 4; kind++)
+        for (size_t z = 0; z < 3; z++) {
+            size_t n = sizes[z], m = n - 1;
+            char *text = malloc(n * 32 + 16);
+            double *steps = malloc(m * sizeof *steps);
+            assert_true(text != NULL && steps != NULL);
+            size_t w = (size_t)sprintf(text, "t,x\n");
+            double t = 1000.0;
+            for (size_t r = 0; r < n; r++) {
+                uint64_t x = next_random(&seed);
+                if (kind == 0) /* regular stamps printed to 1 ms: few distinct steps */
+                    t = 1000.0 + 0.001 * (double)r;
+                else if (kind == 1) /* jitter: a continuum of steps */
+                    t += 0.001 * (1.0 + (double)(x % 1000003) / 5e6);
+                else if (kind == 2) /* two values, 48 % the shorter (the median the
+                                     * bracket's upper end), long steps now and then */
+                    t += (x % 100 < 48 ? 0.001 : 0.002) + (x % 97 == 0 ? 0.01 : 0.0);
+                else if (r > 0) /* the sampled steps (every m / 1023-th) short, all
+                                 * others long: the median outside the bracket */
+                    t += (r - 1) % (m / 1023) == 0 ? 0.001 : 0.002;
+                w += (size_t)sprintf(text + w, kind == 0 ? "%.3f,1\n" : "%.17g,1\n", t);
+            }
+            el_table tab = {0};
+            el_error e;
+            el_scan s = {0};
+            assert_int_equal(read_text(text, &tab, &e), EL_OK);
+            assert_int_equal(el_scan_table(&tab, &s, &e), EL_OK);
+            for (size_t r = 0; r < m; r++)
+                steps[r] = tab.values[r + 1] - tab.values[r];
+            double jitter = 0.0;
+            size_t long_steps = 0;
+            qsort(steps, m, sizeof *steps, compare_steps);
+            double median = m % 2 ? steps[m / 2] : 0.5 * (steps[m / 2 - 1] + steps[m / 2]);
+            for (size_t r = 0; r < m; r++) {
+                double dev = fabs(steps[r] - median) / median;
+                jitter = dev > jitter ? dev : jitter;
+                long_steps += steps[r] > 1.5 * median;
+            }
+            if (memcmp(&s.dt_median, &median, sizeof median) != 0)
+                fail_msg("kind %d n %zu: median %.17g, sorted %.17g", kind, n, s.dt_median,
+                         median);
+            assert_memory_equal(&s.jitter, &jitter, sizeof jitter);
+            assert_int_equal(s.long_steps, long_steps);
+            assert_close(s.dt_min, steps[0], 0, 0);
+            assert_close(s.dt_max, steps[m - 1], 0, 0);
+            el_scan_free(&s);
+            el_table_free(&tab);
+            free(text);
+            free(steps);
+        }
+}
+
 /* The per-column statistics of scan (el_scan_table): a channel of the
  * integers 1..n with NA cells in between has the closed forms mean
  * (n+1)/2, min 1, max n and sample std sqrt(n(n+1)/12) over its present
@@ -1686,6 +1752,7 @@ int main(void)
         cmocka_unit_test(test_count_lines),
         cmocka_unit_test(test_stream_left_at_end),
         cmocka_unit_test(test_median_step_selection),
+        cmocka_unit_test(test_median_step_bracket),
     };
     return cmocka_run_group_tests_name("ingest", tests, NULL, NULL);
 }
