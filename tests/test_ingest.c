@@ -1520,9 +1520,9 @@ static void test_threads_parts_in_place(void **state)
     free(text);
 }
 
-/* el_rows_count_lines against a byte-by-byte count, on runs of line ends
- * longer than the 255-byte blocks it sums in (a byte-wide sum would wrap
- * at 256) and on lengths around the block size. */
+/* el_rows_count_lines (both its loops) against a byte-by-byte count, on
+ * runs of line ends longer than the 255-byte blocks it sums in (a
+ * byte-wide sum would wrap at 256) and on lengths around the block size. */
 static void test_count_lines(void **state)
 {
     (void)state;
@@ -1537,6 +1537,9 @@ static void test_count_lines(void **state)
                 expect += text[i] == '\n';
             }
             assert_int_equal(el_rows_count_lines(text, text + n), expect);
+            /* the AVX2 loop (where the CPU has it) and the SSE2 fallback */
+            assert_int_equal(el_rows_count_lines_using(1, text, text + n), expect);
+            assert_int_equal(el_rows_count_lines_using(0, text, text + n), expect);
         }
     }
 }
@@ -1653,6 +1656,47 @@ static void test_median_step_bracket(void **state)
         }
 }
 
+/* el_scan_column_stats with the AVX2 loops allowed and with SSE2 forced
+ * (the fallback of a CPU without AVX2): the same counts, extremes, mean
+ * and std bit for bit (tolerance 0: the same lanes, operations and
+ * order), on columns with NaN cells, signs, a large offset and every
+ * length's tail; and the mean is the documented four-lane sum. */
+static void test_scan_column_stats_paths(void **state)
+{
+    (void)state;
+    uint64_t seed = 99;
+    for (size_t n = 0; n < 5000; n = n * 2 + 1) {
+        double *v = malloc((n + 1) * sizeof *v);
+        assert_non_null(v);
+        double lane[4] = {0, 0, 0, 0};
+        size_t present = 0;
+        for (size_t r = 0; r < n; r++) {
+            uint64_t x = next_random(&seed);
+            v[r] = x % 11 == 0 ? NAN : (double)(int64_t)(x >> 11) * 1e-12 + 1e6;
+            if (!isnan(v[r])) {
+                lane[r >= (n & ~(size_t)3) ? 0 : r % 4] += v[r];
+                present++;
+            }
+        }
+        el_column_stats a, b;
+        el_scan_column_stats(v, n, 1, &a);
+        el_scan_column_stats(v, n, 0, &b);
+        assert_int_equal(a.present, present);
+        assert_int_equal(b.present, present);
+        assert_int_equal(a.missing, b.missing);
+        assert_int_equal(a.constant, b.constant);
+        assert_memory_equal(&a.min, &b.min, sizeof a.min);
+        assert_memory_equal(&a.max, &b.max, sizeof a.max);
+        assert_memory_equal(&a.mean, &b.mean, sizeof a.mean);
+        assert_memory_equal(&a.std, &b.std, sizeof a.std);
+        if (present > 0) {
+            double mean = ((lane[0] + lane[1]) + (lane[2] + lane[3])) / (double)present;
+            assert_memory_equal(&a.mean, &mean, sizeof mean);
+        }
+        free(v);
+    }
+}
+
 /* The per-column statistics of scan (el_scan_table): a channel of the
  * integers 1..n with NA cells in between has the closed forms mean
  * (n+1)/2, min 1, max n and sample std sqrt(n(n+1)/12) over its present
@@ -1753,6 +1797,7 @@ int main(void)
         cmocka_unit_test(test_stream_left_at_end),
         cmocka_unit_test(test_median_step_selection),
         cmocka_unit_test(test_median_step_bracket),
+        cmocka_unit_test(test_scan_column_stats_paths),
     };
     return cmocka_run_group_tests_name("ingest", tests, NULL, NULL);
 }
