@@ -367,7 +367,8 @@ static void test_scan_rows_batched_form(void **state)
                 want[c * ROWS + r] = strtod(cell, NULL);
                 if (comma != NULL && dec == ',')
                     *comma = ',';
-                if (round % 3 == 2 && r == (size_t)round * 211 % ROWS && c == (size_t)round % COLS) {
+                if (round % 3 == 2 && r == (size_t)round * 211 % ROWS &&
+                    c == (size_t)round % COLS) {
                     snprintf(cell, sizeof cell, "%s", round % 2 ? "1,2,3" : "1.2.3");
                     bad_row = r;
                 }
