@@ -15,6 +15,7 @@
 #include <unistd.h>
 
 #include "el_ingest.h"
+#include "el_number.h"
 #include "el_rng.h"
 
 #define N_CH 8
@@ -161,6 +162,12 @@ int main(int argc, char **argv)
         return 2;
     }
     double mb = (double)sb.st_size / 1e6;
+    /* Which row reader this CPU runs (el_number chooses at run time). */
+    const char *reader = el_number_rows_path_available(EL_ROWS_BATCHED)
+                             ? "batched (AVX2 + BMI2, four cells at once)"
+                         : el_number_rows_path_available(EL_ROWS_MASKED) ? "masked (SSE2)"
+                                                                         : "plain (cell by cell)";
+    printf("row reader: %s\n", reader);
     printf("ingest (in process): %zu rows x %zu columns, %.1f MB in %.3f s wall, %.3f s CPU "
            "(best of %d) = %.1f MB/s wall\n",
            table.n_rows, table.n_columns, mb, wall, cpu, RUNS, mb / wall);

@@ -727,6 +727,9 @@ static el_status resize_rows(ingest *g, size_t cap)
         free(v);
         return no_memory(g);
     }
+    /* The line numbers too: 8 MB at a million rows, 2,000 faults in
+     * small pages. */
+    el_rows_advise_large(lines, cap * sizeof *lines);
     free(t->values);
     t->values = v;
     t->source_line = lines;

@@ -55,6 +55,23 @@ const char *el_number_scan_rows(const char *p, const char *stop, const char *lim
                                 char delim, char *decimal, double *dst, size_t stride,
                                 size_t max_rows, size_t *rows);
 
+/* The row readers el_number_scan_rows chooses from, slowest first: cell
+ * by cell (any CPU), the cells' ends from separator masks (SSE2: every
+ * x86-64), and that with the common cells made four at a time (AVX2 and
+ * BMI2, chosen at run time). All give the same rows and the same doubles. */
+enum { EL_ROWS_PLAIN, EL_ROWS_MASKED, EL_ROWS_BATCHED };
+
+/* 1 when this build and CPU can run row reader path (EL_ROWS_*), else 0. */
+int el_number_rows_path_available(int path);
+
+/* el_number_scan_rows with the row reader given (tests and benchmarks
+ * compare them): a path this CPU cannot run is taken as the next slower
+ * one that it can (EL_ROWS_BATCHED as EL_ROWS_MASKED, that as
+ * EL_ROWS_PLAIN). Otherwise el_number_scan_rows's contract. */
+const char *el_number_scan_rows_using(int path, const char *p, const char *stop,
+                                      const char *lim, size_t n, char delim, char *decimal,
+                                      double *dst, size_t stride, size_t max_rows, size_t *rows);
+
 /* 1 when the trimmed cell s[0..n) is a missing value: empty, NA or NaN in
  * any case; else 0. */
 int el_number_is_missing(const char *s, size_t n);

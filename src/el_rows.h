@@ -51,6 +51,11 @@ size_t el_rows_split(const char *text, size_t n, size_t pieces, el_row_part *par
 /* The number of '\n' bytes in [begin, end). */
 size_t el_rows_count_lines(const char *begin, const char *end);
 
+/* The same count with the AVX2 loop allowed (1: where the CPU has it,
+ * chosen at run time) or not (0: the SSE2 loop of any x86-64): tests
+ * compare both. */
+size_t el_rows_count_lines_using(int allow_avx2, const char *begin, const char *end);
+
 /* Reads part k with el_rows_scan (n_columns, delim, decimal decided or
  * 0) into k->values (stride k->stride), at most k->max_rows rows, until
  * its end or the first row that needs the general reader; sets rows and

@@ -469,6 +469,109 @@ static double median_select(double *a, size_t n, double *as_timebase)
     return 0.5 * (lower + upper);
 }
 
+/* The median step without the array of all steps, on the long logs
+ * where that array (8 bytes a row, fresh pages) and the selection's
+ * passes over it cost more than the rest of scan's statistics: the steps
+ * of an evenly spaced sample of BRACKET_SAMPLE rows, sorted, give a
+ * bracket [lo, hi] about the middle; one pass (the one that finds the
+ * smallest and largest step anyway) counts the steps below lo, equal to
+ * lo, strictly between, equal to hi and above. A rank that falls on lo
+ * or hi has its value then; one that falls strictly between is found by
+ * selection among only those steps (a second pass gathers them: a few
+ * percent of the steps on jittery stamps, none on regular ones, whose
+ * steps take few distinct values). The counts are ranks in the whole
+ * multiset of steps, so the value is the one selection over all steps
+ * gives, bit for bit; when a rank falls outside the bracket, or a step
+ * is NaN, scan falls back to that selection. */
+#define BRACKET_SAMPLE 1023
+#define BRACKET_HALF_WIDTH 48
+#define BRACKET_MIN_STEPS (16 * BRACKET_SAMPLE)
+
+typedef struct {
+    double lo, hi;                   /* the bracket, lo <= hi */
+    size_t below, at_lo, mid, at_hi; /* < lo, == lo, in (lo, hi), == hi when hi > lo */
+    size_t nan;                      /* steps that are NaN */
+} step_bracket;
+
+static int compare_double(const void *a, const void *b)
+{
+    double x = *(const double *)a, y = *(const double *)b;
+    return (x > y) - (x < y);
+}
+
+/* The bracket from the sample of the m >= BRACKET_MIN_STEPS steps of t;
+ * 0 when a sampled step is NaN. */
+static int bracket_from_sample(const double *t, size_t m, step_bracket *b)
+{
+    double sample[BRACKET_SAMPLE];
+    for (size_t i = 0; i < BRACKET_SAMPLE; i++) {
+        size_t r = i * (m / BRACKET_SAMPLE);
+        sample[i] = t[r + 1] - t[r];
+        if (isnan(sample[i]))
+            return 0;
+    }
+    qsort(sample, BRACKET_SAMPLE, sizeof sample[0], compare_double);
+    memset(b, 0, sizeof *b);
+    b->lo = sample[BRACKET_SAMPLE / 2 - BRACKET_HALF_WIDTH];
+    b->hi = sample[BRACKET_SAMPLE / 2 + BRACKET_HALF_WIDTH];
+    return 1;
+}
+
+/* Where rank k (0-based) of the steps lies: 1 on lo, 2 strictly
+ * between, 3 on hi, 0 outside the bracket. */
+static int bracket_zone(const step_bracket *b, size_t k)
+{
+    if (k < b->below)
+        return 0;
+    k -= b->below;
+    if (k < b->at_lo)
+        return 1;
+    k -= b->at_lo;
+    if (k < b->mid)
+        return 2;
+    k -= b->mid;
+    return k < b->at_hi ? 3 : 0;
+}
+
+/* The steps of t strictly inside (lo, hi), gathered into a new array of
+ * b->mid values; NULL when out of memory. */
+static double *bracket_gather(const double *t, size_t m, const step_bracket *b)
+{
+    double *a = malloc((b->mid > 0 ? b->mid : 1) * sizeof *a);
+    if (a == NULL)
+        return NULL;
+    size_t k = 0;
+    for (size_t r = 0; r < m; r++) {
+        double step = t[r + 1] - t[r];
+        if (step > b->lo && step < b->hi)
+            a[k++] = step;
+    }
+    return a;
+}
+
+/* Ranks k (and k - 1 when both is set) of the steps from the bracket:
+ * 1 with *upper (rank k) and *lower (rank k - 1) set; 0 when one lies
+ * outside it or there is no memory (then the caller selects over all). */
+static int bracket_ranks(const double *t, size_t m, const step_bracket *b, size_t k, int both,
+                         double *upper, double *lower)
+{
+    int zu = bracket_zone(b, k), zl = both ? bracket_zone(b, k - 1) : 1;
+    if (b->nan > 0 || zu == 0 || zl == 0)
+        return 0;
+    double *a = NULL;
+    if (zu == 2 || (both && zl == 2)) {
+        a = bracket_gather(t, m, b);
+        if (a == NULL)
+            return 0;
+    }
+    size_t off = b->below + b->at_lo;
+    *upper = zu == 1 ? b->lo : zu == 3 ? b->hi : select_kth(a, b->mid, k - off);
+    if (both)
+        *lower = zl == 1 ? b->lo : zl == 3 ? b->hi : select_kth(a, b->mid, k - 1 - off);
+    free(a);
+    return 1;
+}
+
 /* One cell into a lane of column_stats: a missing cell (NaN) adds 0
  * and fails both comparisons. */
 static inline void stat_lane(double x, double *sum, double *lo, double *hi, size_t *present)
@@ -480,6 +583,65 @@ static inline void stat_lane(double x, double *sum, double *lo, double *hi, size
     *hi = x > *hi ? x : *hi;
 }
 
+#if EL_STATS_SSE2 && defined(__x86_64__) && (defined(__GNUC__) || defined(__clang__))
+#include <immintrin.h>
+#define EL_STATS_AVX2 1
+/* column_stats's two vector loops four lanes to a register on CPUs with
+ * AVX2 (chosen at run time): lane i is the same lane as in the pair of
+ * SSE2 registers (sa: lanes 0 and 1, sb: 2 and 3), with the same
+ * operations in the same order, so the same sums, extremes and counts
+ * bit for bit; half the instructions of the SSE2 loop. Both take the
+ * SSE2 registers' values, run the whole blocks of four from r and give
+ * the registers back, returning the next r. */
+__attribute__((target("avx2"))) static size_t
+stats_blocks_avx2(const double *v, size_t r, size_t n, __m128d *sa, __m128d *sb, __m128d *la,
+                  __m128d *lb, __m128d *ha, __m128d *hb, __m128i *pa, __m128i *pb)
+{
+    __m256d s4 = _mm256_set_m128d(*sb, *sa), l4 = _mm256_set_m128d(*lb, *la);
+    __m256d h4 = _mm256_set_m128d(*hb, *ha);
+    __m256i p4 = _mm256_set_m128i(*pb, *pa);
+    for (; r + 4 <= n; r += 4) {
+        __m256d x = _mm256_loadu_pd(v + r);
+        __m256d ok = _mm256_cmp_pd(x, x, _CMP_ORD_Q);
+        s4 = _mm256_add_pd(s4, _mm256_and_pd(x, ok));
+        l4 = _mm256_min_pd(x, l4);
+        h4 = _mm256_max_pd(x, h4);
+        p4 = _mm256_sub_epi64(p4, _mm256_castpd_si256(ok));
+    }
+    *sa = _mm256_castpd256_pd128(s4);
+    *sb = _mm256_extractf128_pd(s4, 1);
+    *la = _mm256_castpd256_pd128(l4);
+    *lb = _mm256_extractf128_pd(l4, 1);
+    *ha = _mm256_castpd256_pd128(h4);
+    *hb = _mm256_extractf128_pd(h4, 1);
+    *pa = _mm256_castsi256_si128(p4);
+    *pb = _mm256_extracti128_si256(p4, 1);
+    return r;
+}
+
+__attribute__((target("avx2"))) static size_t
+squares_blocks_avx2(const double *v, size_t r, size_t n, double mean, double scale, __m128d *qa,
+                    __m128d *qb)
+{
+    const __m256d m4 = _mm256_set1_pd(mean), k4 = _mm256_set1_pd(scale);
+    __m256d q4 = _mm256_set_m128d(*qb, *qa);
+    for (; r + 4 <= n; r += 4) {
+        __m256d d = _mm256_mul_pd(_mm256_sub_pd(_mm256_loadu_pd(v + r), m4), k4);
+        q4 = _mm256_add_pd(q4, _mm256_and_pd(_mm256_mul_pd(d, d), _mm256_cmp_pd(d, d, _CMP_ORD_Q)));
+    }
+    *qa = _mm256_castpd256_pd128(q4);
+    *qb = _mm256_extractf128_pd(q4, 1);
+    return r;
+}
+
+static int stats_avx2(void)
+{
+    return __builtin_cpu_supports("avx2");
+}
+#else
+#define EL_STATS_AVX2 0
+#endif
+
 /* Four lanes (cells r, r+1, r+2, r+3 go to lanes 0..3): four independent
  * chains of additions, so a pass runs at the speed of its loads rather
  * than of one addition's latency (one chain with a division per cell was
@@ -488,8 +650,9 @@ static inline void stat_lane(double x, double *sum, double *lo, double *hi, size
  * the same order, so the same sums bit for bit (minpd and maxpd are
  * x < lo ? x : lo and x > hi ? x : hi, NaN-blind as the C; a NaN's lane
  * adds the +0.0 of its cleared bits). */
-static void column_stats(const double *v, size_t n, el_column_stats *s)
+void el_scan_column_stats(const double *v, size_t n, int allow_avx2, el_column_stats *s)
 {
+    (void)allow_avx2;
     double s0 = 0.0, s1 = 0.0, s2 = 0.0, s3 = 0.0;
     double l0 = INFINITY, l1 = INFINITY, l2 = INFINITY, l3 = INFINITY;
     double h0 = -INFINITY, h1 = -INFINITY, h2 = -INFINITY, h3 = -INFINITY;
@@ -499,6 +662,10 @@ static void column_stats(const double *v, size_t n, el_column_stats *s)
         __m128d sa = _mm_setzero_pd(), sb = _mm_setzero_pd();
         __m128d la = _mm_set1_pd(INFINITY), lb = la, ha = _mm_set1_pd(-INFINITY), hb = ha;
         __m128i pa = _mm_setzero_si128(), pb = _mm_setzero_si128();
+#if EL_STATS_AVX2
+        if (allow_avx2 && stats_avx2())
+            r = stats_blocks_avx2(v, r, n, &sa, &sb, &la, &lb, &ha, &hb, &pa, &pb);
+#endif
         for (; r + 4 <= n; r += 4) {
             __m128d xa = _mm_loadu_pd(v + r), xb = _mm_loadu_pd(v + r + 2);
             __m128d oka = _mm_cmpord_pd(xa, xa), okb = _mm_cmpord_pd(xb, xb);
@@ -568,6 +735,10 @@ static void column_stats(const double *v, size_t n, el_column_stats *s)
         {
             const __m128d m2 = _mm_set1_pd(mean), k2 = _mm_set1_pd(scale);
             __m128d qa = _mm_setzero_pd(), qb = _mm_setzero_pd();
+#if EL_STATS_AVX2
+            if (allow_avx2 && stats_avx2())
+                r = squares_blocks_avx2(v, r, n, mean, scale, &qa, &qb);
+#endif
             for (; r + 4 <= n; r += 4) {
                 __m128d da = _mm_mul_pd(_mm_sub_pd(_mm_loadu_pd(v + r), m2), k2);
                 __m128d db = _mm_mul_pd(_mm_sub_pd(_mm_loadu_pd(v + r + 2), m2), k2);
@@ -616,9 +787,12 @@ el_status el_scan_table(const el_table *table, el_scan *scan, el_error *err)
         return EL_ERR_DATA;
     }
     const double *t = table->values + table->time_column * n;
-    double *steps = malloc((n - 1) * sizeof *steps);
+    size_t m = n - 1;
+    step_bracket br;
+    int bracketed = m >= BRACKET_MIN_STEPS && bracket_from_sample(t, m, &br);
     el_column_stats *cols = calloc(table->n_columns, sizeof *cols);
-    if (steps == NULL || cols == NULL) {
+    double *steps = bracketed ? NULL : malloc(m * sizeof *steps);
+    if ((steps == NULL && !bracketed) || cols == NULL) {
         free(steps);
         free(cols);
         return el_error_set(err, EL_ERR_NOMEM, "out of memory in scan");
@@ -627,22 +801,60 @@ el_status el_scan_table(const el_table *table, el_scan *scan, el_error *err)
     double lo = INFINITY, hi = -INFINITY;
     /* Counts in locals: scan's fields could alias steps for the compiler,
      * which then stored and reloaded them at every step. */
-    for (size_t r = 0; r + 1 < n; r++) {
-        double step = t[r + 1] - t[r];
-        steps[r] = step;
-        if (step <= 0.0 && nonpositive++ == 0)
-            first_back = r + 1;
-        backward += step < 0.0;
-        repeated += step == 0.0;
-        lo = step < lo ? step : lo;
-        hi = step > hi ? step : hi;
+    if (bracketed) {
+        size_t below = 0, at_lo = 0, mid = 0, at_hi = 0, nan = 0;
+        for (size_t r = 0; r + 1 < n; r++) {
+            double step = t[r + 1] - t[r];
+            if (step <= 0.0 && nonpositive++ == 0)
+                first_back = r + 1;
+            backward += step < 0.0;
+            repeated += step == 0.0;
+            lo = step < lo ? step : lo;
+            hi = step > hi ? step : hi;
+            below += step < br.lo;
+            at_lo += step == br.lo;
+            mid += step > br.lo && step < br.hi;
+            at_hi += step == br.hi && br.hi > br.lo;
+            nan += isnan(step);
+        }
+        br.below = below;
+        br.at_lo = at_lo;
+        br.mid = mid;
+        br.at_hi = at_hi;
+        br.nan = nan;
+    } else {
+        for (size_t r = 0; r + 1 < n; r++) {
+            double step = t[r + 1] - t[r];
+            steps[r] = step;
+            if (step <= 0.0 && nonpositive++ == 0)
+                first_back = r + 1;
+            backward += step < 0.0;
+            repeated += step == 0.0;
+            lo = step < lo ? step : lo;
+            hi = step > hi ? step : hi;
+        }
     }
     scan->nonpositive_steps = nonpositive;
     scan->backward_steps = backward;
     scan->repeated_steps = repeated;
-    size_t m = n - 1;
-    double dt_step;
-    double median = median_select(steps, m, &dt_step);
+    double dt_step, median, upper, lower = 0.0;
+    if (bracketed && bracket_ranks(t, m, &br, m / 2, m % 2 == 0, &upper, &lower)) {
+        /* median_select's arithmetic on the same two values */
+        median = dt_step = upper;
+        if (m % 2 == 0) {
+            dt_step = lower + (upper - lower) / 2;
+            median = 0.5 * (lower + upper);
+        }
+    } else {
+        if (steps == NULL && (steps = malloc(m * sizeof *steps)) != NULL)
+            for (size_t r = 0; r < m; r++)
+                steps[r] = t[r + 1] - t[r];
+        if (steps == NULL) {
+            free(cols);
+            return el_error_set(err, EL_ERR_NOMEM, "out of memory in scan");
+        }
+        median = median_select(steps, m, &dt_step);
+    }
     /* Stamps coarser than the sampling (10 Hz stamped in whole seconds):
      * most steps are 0; the mean step stands for the interval, and
      * el_timebase_survey says whether assess reads the rows as a grid. */
@@ -671,16 +883,31 @@ el_status el_scan_table(const el_table *table, el_scan *scan, el_error *err)
     scan->dt_max = hi;
     double jitter = 0.0;
     size_t long_steps = 0;
-    for (size_t r = 0; r < m; r++) {
-        double dev = fabs(steps[r] - median) / median;
-        jitter = dev > jitter ? dev : jitter;
-        long_steps += steps[r] > 1.5 * median;
+    if (steps != NULL) {
+        for (size_t r = 0; r < m; r++) {
+            double dev = fabs(steps[r] - median) / median;
+            jitter = dev > jitter ? dev : jitter;
+            long_steps += steps[r] > 1.5 * median;
+        }
+    } else {
+        /* |step - median| / median grows with the distance from the
+         * median on either side (each operation rounds monotonically), so
+         * its largest value is at the smallest or the largest step: the
+         * same maximum as the loop above. No step is NaN here. */
+        double ends[2] = {lo, hi};
+        for (int i = 0; i < 2; i++) {
+            double dev = fabs(ends[i] - median) / median;
+            jitter = dev > jitter ? dev : jitter;
+        }
+        if (hi > 1.5 * median)
+            for (size_t r = 0; r < m; r++)
+                long_steps += t[r + 1] - t[r] > 1.5 * median;
     }
     scan->jitter = jitter;
     scan->long_steps = long_steps;
     free(steps);
     for (size_t c = 0; c < table->n_columns; c++)
-        column_stats(table->values + c * n, n, &cols[c]);
+        el_scan_column_stats(table->values + c * n, n, 1, &cols[c]);
     scan->columns = cols;
     return EL_OK;
 }

@@ -131,6 +131,14 @@ typedef struct {
  * step). The caller frees with el_scan_free; on error nothing to free. */
 el_status el_scan_table(const el_table *table, el_scan *scan, el_error *err);
 
+/* The statistics of one column v[0..n) as el_scan_table gives them
+ * (present and missing cells, mean, min, max, sample std, constant):
+ * sums in four lanes (cell r into lane r % 4, the last n % 4 cells into
+ * lane 0, then (l0 + l1) + (l2 + l3)), fixed whatever the CPU. allow_avx2:
+ * 1 lets the loops take four lanes to a register where the CPU has AVX2,
+ * 0 keeps two (SSE2): the same numbers bit for bit (tests compare). */
+void el_scan_column_stats(const double *v, size_t n, int allow_avx2, el_column_stats *s);
+
 /* Frees what el_scan_table allocated. NULL is a no-op. */
 void el_scan_free(el_scan *scan);
 

@@ -1520,9 +1520,9 @@ static void test_threads_parts_in_place(void **state)
     free(text);
 }
 
-/* el_rows_count_lines against a byte-by-byte count, on runs of line ends
- * longer than the 255-byte blocks it sums in (a byte-wide sum would wrap
- * at 256) and on lengths around the block size. */
+/* el_rows_count_lines (both its loops) against a byte-by-byte count, on
+ * runs of line ends longer than the 255-byte blocks it sums in (a
+ * byte-wide sum would wrap at 256) and on lengths around the block size. */
 static void test_count_lines(void **state)
 {
     (void)state;
@@ -1537,6 +1537,9 @@ static void test_count_lines(void **state)
                 expect += text[i] == '\n';
             }
             assert_int_equal(el_rows_count_lines(text, text + n), expect);
+            /* the AVX2 loop (where the CPU has it) and the SSE2 fallback */
+            assert_int_equal(el_rows_count_lines_using(1, text, text + n), expect);
+            assert_int_equal(el_rows_count_lines_using(0, text, text + n), expect);
         }
     }
 }
@@ -1584,6 +1587,113 @@ static void test_median_step_selection(void **state)
         free(text);
         free(time);
         free(steps);
+    }
+}
+
+/* The median step of a long log (the bracket from a sample, counts in
+ * one pass; el_table.c) equals the middle of the sorted steps (qsort
+ * here), and the jitter and long-step count equal their definitions
+ * over every step (max |s - median| / median, #(s > 1.5 median)), bit
+ * for bit (tolerance 0: the same operations on the same doubles), for
+ * steps that take few values (ranks on the bracket's ends), jittery
+ * stamps (ranks strictly inside it; every step distinct, so a rank off
+ * by one shows), a sample that misses the median (the fallback to
+ * selection over all steps), odd and even counts, and long steps. */
+static void test_median_step_bracket(void **state)
+{
+    (void)state;
+    uint64_t seed = 4242;
+    const size_t sizes[] = {40000, 40001, 70000};
+    for (int kind = 0; kind < 4; kind++)
+        for (size_t z = 0; z < 3; z++) {
+            size_t n = sizes[z], m = n - 1;
+            char *text = malloc(n * 32 + 16);
+            double *steps = malloc(m * sizeof *steps);
+            assert_true(text != NULL && steps != NULL);
+            size_t w = (size_t)sprintf(text, "t,x\n");
+            double t = 1000.0;
+            for (size_t r = 0; r < n; r++) {
+                uint64_t x = next_random(&seed);
+                if (kind == 0) /* regular stamps printed to 1 ms: few distinct steps */
+                    t = 1000.0 + 0.001 * (double)r;
+                else if (kind == 1) /* jitter: a continuum of steps */
+                    t += 0.001 * (1.0 + (double)(x % 1000003) / 5e6);
+                else if (kind == 2) /* two values, 48 % the shorter (the median the
+                                     * bracket's upper end), long steps now and then */
+                    t += (x % 100 < 48 ? 0.001 : 0.002) + (x % 97 == 0 ? 0.01 : 0.0);
+                else if (r > 0) /* the sampled steps (every m / 1023-th) short, all
+                                 * others long: the median outside the bracket */
+                    t += (r - 1) % (m / 1023) == 0 ? 0.001 : 0.002;
+                w += (size_t)sprintf(text + w, kind == 0 ? "%.3f,1\n" : "%.17g,1\n", t);
+            }
+            el_table tab = {0};
+            el_error e;
+            el_scan s = {0};
+            assert_int_equal(read_text(text, &tab, &e), EL_OK);
+            assert_int_equal(el_scan_table(&tab, &s, &e), EL_OK);
+            for (size_t r = 0; r < m; r++)
+                steps[r] = tab.values[r + 1] - tab.values[r];
+            double jitter = 0.0;
+            size_t long_steps = 0;
+            qsort(steps, m, sizeof *steps, compare_steps);
+            double median = m % 2 ? steps[m / 2] : 0.5 * (steps[m / 2 - 1] + steps[m / 2]);
+            for (size_t r = 0; r < m; r++) {
+                double dev = fabs(steps[r] - median) / median;
+                jitter = dev > jitter ? dev : jitter;
+                long_steps += steps[r] > 1.5 * median;
+            }
+            if (memcmp(&s.dt_median, &median, sizeof median) != 0)
+                fail_msg("kind %d n %zu: median %.17g, sorted %.17g", kind, n, s.dt_median,
+                         median);
+            assert_memory_equal(&s.jitter, &jitter, sizeof jitter);
+            assert_int_equal(s.long_steps, long_steps);
+            assert_close(s.dt_min, steps[0], 0, 0);
+            assert_close(s.dt_max, steps[m - 1], 0, 0);
+            el_scan_free(&s);
+            el_table_free(&tab);
+            free(text);
+            free(steps);
+        }
+}
+
+/* el_scan_column_stats with the AVX2 loops allowed and with SSE2 forced
+ * (the fallback of a CPU without AVX2): the same counts, extremes, mean
+ * and std bit for bit (tolerance 0: the same lanes, operations and
+ * order), on columns with NaN cells, signs, a large offset and every
+ * length's tail; and the mean is the documented four-lane sum. */
+static void test_scan_column_stats_paths(void **state)
+{
+    (void)state;
+    uint64_t seed = 99;
+    for (size_t n = 0; n < 5000; n = n * 2 + 1) {
+        double *v = malloc((n + 1) * sizeof *v);
+        assert_non_null(v);
+        double lane[4] = {0, 0, 0, 0};
+        size_t present = 0;
+        for (size_t r = 0; r < n; r++) {
+            uint64_t x = next_random(&seed);
+            v[r] = x % 11 == 0 ? NAN : (double)(int64_t)(x >> 11) * 1e-12 + 1e6;
+            if (!isnan(v[r])) {
+                lane[r >= (n & ~(size_t)3) ? 0 : r % 4] += v[r];
+                present++;
+            }
+        }
+        el_column_stats a, b;
+        el_scan_column_stats(v, n, 1, &a);
+        el_scan_column_stats(v, n, 0, &b);
+        assert_int_equal(a.present, present);
+        assert_int_equal(b.present, present);
+        assert_int_equal(a.missing, b.missing);
+        assert_int_equal(a.constant, b.constant);
+        assert_memory_equal(&a.min, &b.min, sizeof a.min);
+        assert_memory_equal(&a.max, &b.max, sizeof a.max);
+        assert_memory_equal(&a.mean, &b.mean, sizeof a.mean);
+        assert_memory_equal(&a.std, &b.std, sizeof a.std);
+        if (present > 0) {
+            double mean = ((lane[0] + lane[1]) + (lane[2] + lane[3])) / (double)present;
+            assert_memory_equal(&a.mean, &mean, sizeof mean);
+        }
+        free(v);
     }
 }
 
@@ -1686,6 +1796,8 @@ int main(void)
         cmocka_unit_test(test_count_lines),
         cmocka_unit_test(test_stream_left_at_end),
         cmocka_unit_test(test_median_step_selection),
+        cmocka_unit_test(test_median_step_bracket),
+        cmocka_unit_test(test_scan_column_stats_paths),
     };
     return cmocka_run_group_tests_name("ingest", tests, NULL, NULL);
 }

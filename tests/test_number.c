@@ -293,22 +293,106 @@ static void test_scan_rows_masked(void **state)
             rows_one++;
         }
         assert_int_equal(rows_one, bad_row);
-        size_t rows = 0;
-        dec = round % 3 == 0 ? 0 : '.'; /* undecided: the first point decides */
-        const char *stop =
-            el_number_scan_rows(text, text + n, lim, COLS, ',', &dec, got, ROWS, ROWS, &rows);
-        assert_int_equal(rows, rows_one);
-        assert_ptr_equal(stop, p);
-        for (size_t c = 0; c < COLS; c++)
-            for (size_t r = 0; r < rows; r++)
-                if (memcmp(&got[c * ROWS + r], &want[c * ROWS + r], sizeof(double)) != 0)
-                    fail_msg("round %d row %zu column %zu: got %.17g, strtod %.17g", round, r,
-                             c, got[c * ROWS + r], want[c * ROWS + r]);
-        /* A row limit is kept. */
-        rows = 0;
-        dec = '.';
-        el_number_scan_rows(text, text + n, lim, COLS, ',', &dec, got, ROWS, 7, &rows);
-        assert_int_equal(rows, bad_row < 7 ? bad_row : 7);
+        /* Every row reader (those this CPU cannot run fall back to the
+         * next slower one, so the last two may be the same here). */
+        for (int path = EL_ROWS_PLAIN; path <= EL_ROWS_BATCHED; path++) {
+            size_t rows = 0;
+            dec = round % 3 == 0 ? 0 : '.'; /* undecided: the first point decides */
+            const char *stop = el_number_scan_rows_using(path, text, text + n, lim, COLS, ',',
+                                                         &dec, got, ROWS, ROWS, &rows);
+            assert_int_equal(rows, rows_one);
+            assert_ptr_equal(stop, p);
+            for (size_t c = 0; c < COLS; c++)
+                for (size_t r = 0; r < rows; r++)
+                    if (memcmp(&got[c * ROWS + r], &want[c * ROWS + r], sizeof(double)) != 0)
+                        fail_msg("path %d round %d row %zu column %zu: got %.17g, strtod %.17g",
+                                 path, round, r, c, got[c * ROWS + r], want[c * ROWS + r]);
+            /* A row limit is kept. */
+            rows = 0;
+            dec = '.';
+            el_number_scan_rows_using(path, text, text + n, lim, COLS, ',', &dec, got, ROWS, 7,
+                                      &rows);
+            assert_int_equal(rows, bad_row < 7 ? bad_row : 7);
+        }
+    }
+    free(text);
+    free(want);
+    free(got);
+}
+
+/* The batched reader's cells ([+-]digits.digits, 2 to 8 bytes after the
+ * sign, four made at once) beside the cells just outside that form (no
+ * point, 9 bytes, two points, a sign alone, a point alone, "-0.000"):
+ * random rows of mostly such cells, read by every row reader (the plain
+ * one, the masked one and the batched one, which the run-time check
+ * enables on AVX2 + BMI2 CPUs; elsewhere it is the masked one, the
+ * fallback this test then covers twice), must give strtod's doubles bit
+ * for bit (tolerance 0: correct rounding leaves no freedom), and all
+ * must stop at the same row: the spoiled one. A decimal comma with ';'
+ * between cells, and rows at every offset from the 64-byte windows (the
+ * cells' lengths vary), so cells and rows straddle the windows. */
+static void test_scan_rows_batched_form(void **state)
+{
+    (void)state;
+    enum { ROWS = 3000, COLS = 9 };
+    static const char *edge[] = {"5.", ".5", "-.5", "+7.", "-0.000", "0.0", "1234567.",
+                                 ".1234567", "-1234567.", "9999999.9", "12345678",
+                                 "1", "-3", "00.00001", "-9.96033", "+10.0571"};
+    size_t cap = (size_t)ROWS * COLS * 16 + 256;
+    char *text = malloc(cap);
+    double *want = malloc(sizeof(double) * ROWS * COLS);
+    double *got = malloc(sizeof(double) * ROWS * COLS);
+    assert_true(text != NULL && want != NULL && got != NULL);
+    printf("row readers on this CPU: masked %s, batched (AVX2) %s\n",
+           el_number_rows_path_available(EL_ROWS_MASKED) ? "yes" : "no (plain instead)",
+           el_number_rows_path_available(EL_ROWS_BATCHED) ? "yes" : "no (masked instead)");
+    uint64_t seed = 0x243F6A8885A308D3u;
+    for (int round = 0; round < 12; round++) {
+        char dec = round % 2 ? ',' : '.', delim = round % 2 ? ';' : ',';
+        size_t n = 0, bad_row = ROWS;
+        for (size_t r = 0; r < ROWS; r++)
+            for (size_t c = 0; c < COLS; c++) {
+                uint64_t x = next_random(&seed);
+                char cell[32];
+                if (x % 16 == 0) {
+                    snprintf(cell, sizeof cell, "%s", edge[(x >> 8) % 16]);
+                } else {
+                    /* 1 to 7 digits with the point anywhere among them */
+                    int digits = 1 + (int)((x >> 8) % 7), frac = (int)((x >> 16) % (digits + 1));
+                    double v = (double)((x >> 24) % 10000000) / 1e7 * pow(10.0, digits - frac);
+                    snprintf(cell, sizeof cell, "%s%.*f", (x >> 60) % 4 == 0 ? "-" : "", frac,
+                             v);
+                }
+                char *comma = strchr(cell, '.');
+                want[c * ROWS + r] = strtod(cell, NULL);
+                if (comma != NULL && dec == ',')
+                    *comma = ',';
+                if (round % 3 == 2 && r == (size_t)round * 211 % ROWS &&
+                    c == (size_t)round % COLS) {
+                    snprintf(cell, sizeof cell, "%s", round % 2 ? "1,2,3" : "1.2.3");
+                    bad_row = r;
+                }
+                n += (size_t)sprintf(text + n, "%s%s", cell,
+                                     c + 1 < COLS ? (char[]){delim, 0} : "\n");
+            }
+        memset(text + n, '\n', 128);
+        const char *lim = text + n + 128;
+        const char *stop_at[3];
+        for (int path = EL_ROWS_PLAIN; path <= EL_ROWS_BATCHED; path++) {
+            size_t rows = 0;
+            char d = dec;
+            memset(got, 0, sizeof(double) * ROWS * COLS);
+            stop_at[path] = el_number_scan_rows_using(path, text, text + n, lim, COLS, delim, &d,
+                                                      got, ROWS, ROWS, &rows);
+            assert_int_equal(rows, bad_row);
+            for (size_t c = 0; c < COLS; c++)
+                for (size_t r = 0; r < rows; r++)
+                    if (memcmp(&got[c * ROWS + r], &want[c * ROWS + r], sizeof(double)) != 0)
+                        fail_msg("path %d round %d row %zu column %zu: got %.17g, strtod %.17g",
+                                 path, round, r, c, got[c * ROWS + r], want[c * ROWS + r]);
+        }
+        assert_ptr_equal(stop_at[1], stop_at[0]);
+        assert_ptr_equal(stop_at[2], stop_at[0]);
     }
     free(text);
     free(want);
@@ -325,6 +409,7 @@ int main(void)
         cmocka_unit_test(test_random_printed_values),
         cmocka_unit_test(test_scan_row),
         cmocka_unit_test(test_scan_rows_masked),
+        cmocka_unit_test(test_scan_rows_batched_form),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }
