@@ -527,18 +527,41 @@ static size_t wide_unplanned(const el_boot_engine *e, const el_boot_block *block
 }
 
 /* Adds the table rows of the planned blocks to features [f0, f1) of sum,
- * in block order. */
+ * in block order. Four rows per pass over the tile: each feature still
+ * adds its rows one after the other in block order (the same sums to the
+ * last bit), but the sum is loaded and stored once per four rows instead
+ * of once per row, which was most of the loop's memory traffic. */
 static void wide_rows_add(const el_boot_engine *e, const el_boot_block *blocks,
                           size_t n_blocks, size_t f0, size_t f1, double *sum)
 {
-    for (size_t b = 0; b < n_blocks; b++) {
-        const float *row = wide_row(e, &blocks[b]);
-        if (row == NULL)
+    const float *rows[4];
+    size_t k = 0;
+    double *restrict acc = sum;
+    for (size_t b = 0; b <= n_blocks; b++) {
+        const float *row = b < n_blocks ? wide_row(e, &blocks[b]) : NULL;
+        if (row != NULL)
+            rows[k++] = row;
+        if (k < 4 && (b < n_blocks || k == 0))
             continue;
-        double *restrict acc = sum;
-        const float *restrict p = row;
-        for (size_t f = f0; f < f1; f++)
-            acc[f] += (double)p[f];
+        if (k == 4) {
+            const float *restrict p0 = rows[0], *restrict p1 = rows[1];
+            const float *restrict p2 = rows[2], *restrict p3 = rows[3];
+            for (size_t f = f0; f < f1; f++) {
+                double a = acc[f];
+                a += (double)p0[f];
+                a += (double)p1[f];
+                a += (double)p2[f];
+                a += (double)p3[f];
+                acc[f] = a;
+            }
+        } else {
+            for (size_t q = 0; q < k; q++) {
+                const float *restrict p = rows[q];
+                for (size_t f = f0; f < f1; f++)
+                    acc[f] += (double)p[f];
+            }
+        }
+        k = 0;
     }
 }
 

@@ -155,21 +155,35 @@ static void augment_row(el_boot_matcher *m, const double *rows, size_t i)
         /* The smallest minv and its first position, as two interleaved
          * running minima (even and odd positions) joined at the end:
          * the same value and position as one scan in order, without
-         * its chain of dependent comparisons; selects, not branches. */
-        double best[2] = { HUGE_VAL, HUGE_VAL };
-        size_t pos[2] = { n, n };
-        for (size_t t = 0; t < n_open; t++) {
-            size_t j = open[t], lane = t & 1;
-            double mv = minv[j] - last;
-            double cur = row[j] - ui - v[j];
-            int take = cur < mv;
-            way[j] = take ? j0 : way[j];
-            mv = take ? cur : mv;
-            minv[j] = mv;
-            int lower = mv < best[lane];
-            best[lane] = lower ? mv : best[lane];
-            pos[lane] = lower ? t : pos[lane];
+         * its chain of dependent comparisons. */
+        double b0 = HUGE_VAL, b1 = HUGE_VAL;
+        size_t p0 = n, p1 = n, t = 0;
+        for (; t + 2 <= n_open; t += 2) {
+            size_t ja = open[t], jb = open[t + 1];
+            double ma = minv[ja] - last, mb = minv[jb] - last;
+            double ca = row[ja] - ui - v[ja], cb = row[jb] - ui - v[jb];
+            way[ja] = ca < ma ? j0 : way[ja];
+            way[jb] = cb < mb ? j0 : way[jb];
+            ma = ca < ma ? ca : ma;
+            mb = cb < mb ? cb : mb;
+            minv[ja] = ma;
+            minv[jb] = mb;
+            p0 = ma < b0 ? t : p0;
+            b0 = ma < b0 ? ma : b0;
+            p1 = mb < b1 ? t + 1 : p1;
+            b1 = mb < b1 ? mb : b1;
         }
+        if (t < n_open) {
+            size_t ja = open[t];
+            double ma = minv[ja] - last, ca = row[ja] - ui - v[ja];
+            way[ja] = ca < ma ? j0 : way[ja];
+            ma = ca < ma ? ca : ma;
+            minv[ja] = ma;
+            p0 = ma < b0 ? t : p0;
+            b0 = ma < b0 ? ma : b0;
+        }
+        double best[2] = { b0, b1 };
+        size_t pos[2] = { p0, p1 };
         size_t at = best[1] < best[0] || (best[1] == best[0] && pos[1] < pos[0]) ? pos[1]
                                                                                  : pos[0];
         double delta = at == pos[0] ? best[0] : best[1];
