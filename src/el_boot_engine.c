@@ -500,13 +500,17 @@ static const float *wide_row(const el_boot_engine *e, const el_boot_block *bl)
  * in the first-level cache while every block's float row adds its part. */
 #define BOOT_WIDE_TILE 2048
 
-/* el_boot_engine_sum of a wide engine: a table row per planned block,
- * else the block's pairs by the provider's accumulate. The rows are added
- * a tile of features at a time (all blocks per tile): the sum of a wide
- * state is megabytes, and adding whole rows in turn moved it through
- * memory once per block. Each feature still adds its blocks in order. */
-static void wide_sum(const el_boot_engine *e, const el_boot_block *blocks,
-                     size_t n_blocks, double *sum, double *work)
+/* Features per tile of wide_sum_many: every replicate of the batch adds
+ * its rows' part of the tile in turn, so the tile of the table (4 KiB a
+ * row, a few hundred KiB for all rows) is fetched from memory once per
+ * batch and then read from the cache. */
+#define BOOT_WIDE_MANY_TILE 1024
+
+/* The blocks of a wide engine that have no table row, by the provider's
+ * accumulate: sum is zeroed, then those blocks' centred sums are added in
+ * block order. Returns the replicate's pairs. */
+static size_t wide_unplanned(const el_boot_engine *e, const el_boot_block *blocks,
+                             size_t n_blocks, double *sum, double *work)
 {
     size_t d = e->d, total = 0;
     memset(sum, 0, d * sizeof(double));
@@ -519,20 +523,101 @@ static void wide_sum(const el_boot_engine *e, const el_boot_block *blocks,
         for (size_t f = 0; f < d; f++)
             sum[f] += work[f] - len * e->gbar[f];
     }
+    return total;
+}
+
+/* Adds the table rows of the planned blocks to features [f0, f1) of sum,
+ * in block order. Four rows per pass over the tile: each feature still
+ * adds its rows one after the other in block order (the same sums to the
+ * last bit), but the sum is loaded and stored once per four rows instead
+ * of once per row, which was most of the loop's memory traffic. */
+static void wide_rows_add(const el_boot_engine *e, const el_boot_block *blocks,
+                          size_t n_blocks, size_t f0, size_t f1, double *sum)
+{
+    const float *rows[4];
+    size_t k = 0;
+    double *restrict acc = sum;
+    for (size_t b = 0; b <= n_blocks; b++) {
+        const float *row = b < n_blocks ? wide_row(e, &blocks[b]) : NULL;
+        if (row != NULL)
+            rows[k++] = row;
+        if (k < 4 && (b < n_blocks || k == 0))
+            continue;
+        if (k == 4) {
+            const float *restrict p0 = rows[0], *restrict p1 = rows[1];
+            const float *restrict p2 = rows[2], *restrict p3 = rows[3];
+            for (size_t f = f0; f < f1; f++) {
+                double a = acc[f];
+                a += (double)p0[f];
+                a += (double)p1[f];
+                a += (double)p2[f];
+                a += (double)p3[f];
+                acc[f] = a;
+            }
+        } else {
+            for (size_t q = 0; q < k; q++) {
+                const float *restrict p = rows[q];
+                for (size_t f = f0; f < f1; f++)
+                    acc[f] += (double)p[f];
+            }
+        }
+        k = 0;
+    }
+}
+
+/* el_boot_engine_sum of a wide engine: a table row per planned block,
+ * else the block's pairs by the provider's accumulate. The rows are added
+ * a tile of features at a time (all blocks per tile): the sum of a wide
+ * state is megabytes, and adding whole rows in turn moved it through
+ * memory once per block. Each feature still adds its blocks in order. */
+static void wide_sum(const el_boot_engine *e, const el_boot_block *blocks,
+                     size_t n_blocks, double *sum, double *work)
+{
+    size_t d = e->d, total = wide_unplanned(e, blocks, n_blocks, sum, work);
     for (size_t f0 = 0; f0 < d; f0 += BOOT_WIDE_TILE) {
         size_t f1 = f0 + BOOT_WIDE_TILE < d ? f0 + BOOT_WIDE_TILE : d;
-        for (size_t b = 0; b < n_blocks; b++) {
-            const float *row = wide_row(e, &blocks[b]);
-            if (row == NULL)
-                continue;
-            double *restrict acc = sum;
-            const float *restrict p = row;
-            for (size_t f = f0; f < f1; f++)
-                acc[f] += (double)p[f];
-        }
+        wide_rows_add(e, blocks, n_blocks, f0, f1, sum);
     }
     for (size_t f = 0; f < d; f++)
         sum[f] += (double)total * e->gbar[f];
+}
+
+void el_boot_engine_sum_many(const el_boot_engine *engine,
+                             const el_boot_block *const *blocks, const size_t *n_blocks,
+                             size_t count, double *const *sums, double *work)
+{
+    const el_boot_engine *e = engine;
+    if (!e->wide) {
+        for (size_t k = 0; k < count; k++)
+            el_boot_engine_sum(e, blocks[k], n_blocks[k], sums[k], work);
+        return;
+    }
+    size_t d = e->d;
+    for (size_t k = 0; k < count; k++)
+        wide_unplanned(e, blocks[k], n_blocks[k], sums[k], work);
+    for (size_t f0 = 0; f0 < d; f0 += BOOT_WIDE_MANY_TILE) {
+        size_t f1 = f0 + BOOT_WIDE_MANY_TILE < d ? f0 + BOOT_WIDE_MANY_TILE : d;
+        for (size_t k = 0; k < count; k++)
+            wide_rows_add(e, blocks[k], n_blocks[k], f0, f1, sums[k]);
+    }
+    for (size_t k = 0; k < count; k++) {
+        size_t total = 0;
+        for (size_t b = 0; b < n_blocks[k]; b++)
+            total += blocks[k][b].length;
+        for (size_t f = 0; f < d; f++)
+            sums[k][f] += (double)total * e->gbar[f];
+    }
+}
+
+int el_boot_engine_solve(const el_boot_engine *engine, const double *sum, double *a,
+                         double *offset, double *work)
+{
+    return engine->prov->solve(&engine->dims, sum, a, NULL, offset, work + engine->d);
+}
+
+int el_boot_engine_is_wide(const el_boot_engine *engine)
+{
+    return engine != NULL && engine->wide;
 }
 
 void el_boot_engine_sum(const el_boot_engine *engine,

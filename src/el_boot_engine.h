@@ -139,6 +139,26 @@ void el_boot_engine_sum(const el_boot_engine *engine,
                         const el_boot_block *blocks, size_t n_blocks,
                         double *sum, double *work);
 
+/* el_boot_engine_sum for count replicates at once: replicate k's blocks
+ * blocks[k] (n_blocks[k] of them) summed into sums[k] (features doubles
+ * each), every sum the same to the last bit as el_boot_engine_sum gives
+ * it (each feature adds the same terms in the same order). On a wide
+ * engine the table rows are read a tile of features at a time for all
+ * replicates, so a row is fetched from memory once per call instead of
+ * once per replicate that draws it (a replicate's rows are megabytes each
+ * at 200 states, and their loads were most of its time). work as for
+ * el_boot_engine_sum. Reads the engine only (threads as there). */
+void el_boot_engine_sum_many(const el_boot_engine *engine,
+                             const el_boot_block *const *blocks, const size_t *n_blocks,
+                             size_t count, double *const *sums, double *work);
+/* The provider's solve on a sum from el_boot_engine_sum(_many): a (r x r)
+ * and, when offset != NULL, the intercept; el_boot_engine_assemble is the
+ * sum and then this. work holds el_boot_engine_work_doubles doubles.
+ * Returns 0, or 1 when the replicate's system is singular. */
+int el_boot_engine_solve(const el_boot_engine *engine, const double *sum, double *a,
+                         double *offset, double *work);
+/* 1 for an engine of el_boot_engine_create_wide, else 0 (NULL: 0). */
+int el_boot_engine_is_wide(const el_boot_engine *engine);
 /* Sum over the blocks, then the provider's solve: a (r x r) and, when
  * offset != NULL, the intercept (r). work holds el_boot_engine_work_doubles
  * doubles. Returns 0, or 1 when the replicate's system is singular. */

@@ -33,8 +33,34 @@ static size_t iv_core_work(size_t r, size_t nu)
  * Regressor xi = [x; u], instruments eta = [zeta; u], W = Seta^+:
  * [A B] = Syeta W Sxieta' (Sxieta W Sxieta')^-1. Returns 1 when the
  * instruments do not determine the regressors. */
-static int iv_core(size_t r, size_t nu, const double *cov, size_t ld, double *a,
-                   double *b, double *work)
+/* Index in v of the i-th instrument (eta = [zeta; u]) and of the i-th
+ * regressor (xi = [x; u]). */
+static size_t iv_eta_index(size_t r, size_t i)
+{
+    return i < 2 * r ? 2 * r + i : 4 * r + (i - 2 * r);
+}
+
+static size_t iv_xi_index(size_t r, size_t i)
+{
+    return i < r ? i : 4 * r + (i - r);
+}
+
+/* iv_core's blocks (Seta, Sxieta, Syeta) in its work, where iv_core_blocks
+ * reads them. */
+static void iv_blocks(size_t r, size_t nu, double **see, double **sxe, double **sye,
+                      double *work)
+{
+    size_t e = 2 * r + nu, g = r + nu;
+    double *pool = work;
+    *see = el_est_take(&pool, e * e);
+    (void)el_est_take(&pool, e * e);
+    (void)el_est_take(&pool, el_est_sym_fun_work(e));
+    *sxe = el_est_take(&pool, g * e);
+    *sye = el_est_take(&pool, r * e);
+}
+
+/* iv_core once its blocks are in its work (iv_blocks). */
+static int iv_core_blocks(size_t r, size_t nu, double *a, double *b, double *work)
 {
     size_t e = 2 * r + nu, g = r + nu;
     double *pool = work;
@@ -42,19 +68,6 @@ static int iv_core(size_t r, size_t nu, const double *cov, size_t ld, double *a,
     double *sw = el_est_take(&pool, el_est_sym_fun_work(e));
     double *sxe = el_est_take(&pool, g * e), *sye = el_est_take(&pool, r * e);
     double *t = el_est_take(&pool, g * e), *mx = el_est_take(&pool, g * g), *nyt = el_est_take(&pool, g * r);
-    for (size_t j = 0; j < e; j++) {
-        size_t cj = j < 2 * r ? 2 * r + j : 4 * r + (j - 2 * r);
-        for (size_t i = 0; i < e; i++) {
-            size_t ci = i < 2 * r ? 2 * r + i : 4 * r + (i - 2 * r);
-            see[i + j * e] = cov[ci + cj * ld];
-        }
-        for (size_t i = 0; i < g; i++) {
-            size_t ci = i < r ? i : 4 * r + (i - r);
-            sxe[i + j * g] = cov[ci + cj * ld];
-        }
-        for (size_t i = 0; i < r; i++)
-            sye[i + j * r] = cov[(r + i) + cj * ld];
-    }
     if (el_est_sym_fun(e, see, e, -1.0, wm, e, sw) <= 0)
         return 1;
     el_est_gemm(0, 0, g, e, e, sxe, g, wm, e, t, g);          /* t = Sxe W */
@@ -69,6 +82,36 @@ static int iv_core(size_t r, size_t nu, const double *cov, size_t ld, double *a,
             b[i + j * r] = nyt[r + j + i * g];
     }
     return 0;
+}
+
+static int iv_core(size_t r, size_t nu, const double *cov, size_t ld, double *a,
+                   double *b, double *work)
+{
+    size_t e = 2 * r + nu, g = r + nu;
+    double *see, *sxe, *sye;
+    iv_blocks(r, nu, &see, &sxe, &sye, work);
+    for (size_t j = 0; j < e; j++) {
+        size_t cj = iv_eta_index(r, j);
+        for (size_t i = 0; i < e; i++)
+            see[i + j * e] = cov[iv_eta_index(r, i) + cj * ld];
+        for (size_t i = 0; i < g; i++)
+            sxe[i + j * g] = cov[iv_xi_index(r, i) + cj * ld];
+        for (size_t i = 0; i < r; i++)
+            sye[i + j * r] = cov[(r + i) + cj * ld];
+    }
+    return iv_core_blocks(r, nu, a, b, work);
+}
+
+/* Entry (i, j) of the centred cross-products from a feature sum, as
+ * el_est_unpack_cov makes it (the same doubles): sum of v_i v_j minus
+ * n mean_max mean_min, from the packed lower triangle. */
+static double iv_cov_entry(size_t dim, const double *sum, const double *mean, double n,
+                           size_t i, size_t j)
+{
+    size_t lo = i < j ? i : j, hi = i < j ? j : i;
+    /* Columns c < lo hold dim - c entries each: lo dim - lo (lo - 1) / 2. */
+    size_t idx = 1 + dim + lo * dim - (lo * (lo - (lo > 0))) / 2 + (hi - lo);
+    return sum[idx] - n * mean[hi] * mean[lo];
 }
 
 static size_t iv_work(const el_boot_dims *dims)
@@ -86,11 +129,28 @@ static int iv_solve(const el_boot_dims *dims, const double *sum, double *a, doub
     double *mean = work, *cov = work + dim, *core = cov + dim * dim;
     if (el_est_too_few(sum[0], dim))
         return 1;
-    el_est_unpack_cov(dim, sum, mean, cov);
-    /* Without a caller's b, B goes where the covariance was: iv_core has
-     * copied what it needs from cov before it writes a and b. */
+    /* Only the blocks iv_core reads, straight from the packed sums (the
+     * same doubles as el_est_unpack_cov's, in place): at 200 states the
+     * whole 800 x 800 matrix, written twice over by its symmetry, cost
+     * more than the blocks' use of it. */
+    double n = sum[0];
+    for (size_t i = 0; i < dim; i++)
+        mean[i] = sum[1 + i] / n;
+    size_t e = 2 * r + nu, g = r + nu;
+    double *see, *sxe, *sye;
+    iv_blocks(r, nu, &see, &sxe, &sye, core);
+    for (size_t j = 0; j < e; j++) {
+        size_t cj = iv_eta_index(r, j);
+        for (size_t i = 0; i < e; i++)
+            see[i + j * e] = iv_cov_entry(dim, sum, mean, n, iv_eta_index(r, i), cj);
+        for (size_t i = 0; i < g; i++)
+            sxe[i + j * g] = iv_cov_entry(dim, sum, mean, n, iv_xi_index(r, i), cj);
+        for (size_t i = 0; i < r; i++)
+            sye[i + j * r] = iv_cov_entry(dim, sum, mean, n, r + i, cj);
+    }
+    /* Without a caller's b, B goes where the covariance would be. */
     double *bb = b != NULL ? b : cov;
-    if (iv_core(r, nu, cov, dim, a, bb, core))
+    if (iv_core_blocks(r, nu, a, bb, core))
         return 1;
     if (offset != NULL)
         el_est_offset_from(r, nu, mean, mean + r, mean + 4 * r, a, bb, offset);

@@ -10,10 +10,12 @@
 #include "el_test.h"
 
 #include <lapacke.h>
+#include <math.h>
 #include <stdlib.h>
 #include <string.h>
 
 #include "el_boot_engine.h"
+#include "el_boot_match.h"
 #include "el_est_common.h"
 #include "el_fit.h"
 #include "el_modes.h"
@@ -460,6 +462,140 @@ static void test_streamed_residuals_bitwise(void **state)
     free(values);
 }
 
+/* el_boot_engine_sum_many (a batch of replicates reading the wide
+ * engine's table a tile at a time) gives every replicate's sum bit for
+ * bit as el_boot_engine_sum does, on grid draws and with blocks off the
+ * grid (summed from the states): the wide bootstrap's replicates rest on
+ * it being the same doubles. A tile added twice or a block left out
+ * moves a feature by a block's sum, O(50) here. */
+static void test_wide_sum_many_bitwise(void **state)
+{
+    (void)state;
+    size_t r = 12, n_states = 700, stride = 8, block = 48, count = 5;
+    double *w = ring_values(r, n_states, 7);
+    double *st = malloc(r * n_states * sizeof(double));
+    assert_non_null(st);
+    for (size_t k = 0; k < n_states; k++)
+        for (size_t c = 0; c < r; c++)
+            st[k * r + c] = w[c * n_states + k];
+    el_boot_dims dims = { r, 0, 0 };
+    el_boot_engine *wide = NULL;
+    el_error err;
+    el_error_clear(&err);
+    assert_int_equal(el_boot_engine_create_wide(el_boot_provider_ls(), &dims, st, n_states,
+                                                stride, &wide, &err), EL_OK);
+    assert_int_equal(el_boot_engine_plan_blocks(wide, block, &err), EL_OK);
+    assert_true(el_boot_engine_is_wide(wide));
+    size_t d = el_boot_engine_features(wide), m = el_boot_engine_pairs(wide);
+    size_t wd = el_boot_engine_work_doubles(wide), nbmax = m / block + 2;
+    double *one = malloc(d * sizeof(double)), *many = malloc(count * d * sizeof(double));
+    double *work = malloc(wd * sizeof(double));
+    el_boot_block *blocks = malloc(count * nbmax * sizeof(el_boot_block));
+    assert_true(one && many && work && blocks);
+    const el_boot_block *bl[5];
+    size_t nb[5];
+    double *sums[5];
+    el_rng rng;
+    el_rng_seed(&rng, 13, 0);
+    for (size_t k = 0; k < count; k++) {
+        bl[k] = blocks + k * nbmax;
+        sums[k] = many + k * d;
+        nb[k] = el_boot_draw_blocks_grid(&rng, m, block, stride, blocks + k * nbmax);
+    }
+    blocks[nbmax + 1] = (el_boot_block){ 9, 31 }; /* off the grid, unplanned length */
+    el_boot_engine_sum_many(wide, bl, nb, count, sums, work);
+    for (size_t k = 0; k < count; k++) {
+        el_boot_engine_sum(wide, bl[k], nb[k], one, work);
+        assert_true(memcmp(one, sums[k], d * sizeof(double)) == 0);
+    }
+    el_boot_engine_destroy(wide);
+    free(one);
+    free(many);
+    free(work);
+    free(blocks);
+    free(st);
+    free(w);
+}
+
+/* The matcher on 200 eigenvalue slots (the wide search with its lists of
+ * columns): replicate eigenvalues that are the point modes moved by less
+ * than a tenth of their smallest distance, in a shuffled order, are
+ * matched each to its own mode (the unique optimum: any other assignment
+ * moves some eigenvalue by more than the whole identity cost), so every
+ * mode gets back exactly its replicate values. A wrong augmenting path
+ * or potential gives some mode another mode's eigenvalue. */
+static void test_match_wide_identity(void **state)
+{
+    (void)state;
+    size_t nm = 120; /* 80 pairs and 40 real modes: 200 eigenvalues */
+    el_mode *md = calloc(nm, sizeof(el_mode));
+    double *re = malloc(200 * sizeof(double)), *im = malloc(200 * sizeof(double));
+    double *mre = malloc(nm * sizeof(double)), *mim = malloc(nm * sizeof(double));
+    size_t *perm = malloc(200 * sizeof(size_t));
+    assert_true(md && re && im && mre && mim && perm);
+    /* Point modes on a grid of spacing 1 (Re) by 1 (Im): every two at least
+     * 1 apart; the moves below are at most 0.05. */
+    for (size_t q = 0; q < nm; q++) {
+        md[q].pair = q < 80;
+        md[q].lambda_re = -(double)(q % 10) - 0.5;
+        md[q].lambda_im = q < 80 ? 1.0 + (double)(q / 10) : 0.0;
+        if (q >= 80)
+            md[q].lambda_re = -(double)(q - 80) - 0.25;
+    }
+    el_modes point = { 0 };
+    point.n_modes = nm;
+    point.n_eigenvalues = 200;
+    point.modes = md;
+    el_rng rng;
+    el_rng_seed(&rng, 17, 0);
+    double tre[200], tim[200];
+    size_t s = 0;
+    for (size_t q = 0; q < nm; q++) {
+        double dre = 0.05 * (2.0 * el_rng_uniform(&rng) - 1.0);
+        double dim = md[q].pair ? 0.05 * (2.0 * el_rng_uniform(&rng) - 1.0) : 0.0;
+        tre[s] = md[q].lambda_re + dre;
+        tim[s++] = md[q].lambda_im + dim;
+        if (md[q].pair) {
+            tre[s] = md[q].lambda_re + dre;
+            tim[s++] = -(md[q].lambda_im + dim);
+        }
+    }
+    for (size_t j = 0; j < 200; j++)
+        perm[j] = j;
+    for (size_t j = 199; j > 0; j--) {
+        size_t k = (size_t)el_rng_below(&rng, (uint64_t)(j + 1)), t = perm[j];
+        perm[j] = perm[k];
+        perm[k] = t;
+    }
+    for (size_t j = 0; j < 200; j++) {
+        re[j] = tre[perm[j]];
+        im[j] = tim[perm[j]];
+    }
+    el_boot_matcher *mt = NULL;
+    el_error err;
+    el_error_clear(&err);
+    assert_int_equal(el_boot_matcher_create(&point, &mt, &err), EL_OK);
+    int amb = -1;
+    assert_int_equal(el_boot_match(mt, re, im, 200, mre, mim, &amb), 0);
+    s = 0;
+    for (size_t q = 0; q < nm; q++) {
+        /* The mean of a pair's two equal folded values is that value. */
+        assert_true(mre[q] == tre[s]);
+        assert_true(mim[q] == fabs(tim[s]));
+        s += md[q].pair ? 2 : 1;
+    }
+    /* Every swap of two modes costs about 2 more against a total of at
+     * most 200 x 0.07: far from within 10%. */
+    assert_int_equal(amb, 0);
+    el_boot_matcher_destroy(mt);
+    free(md);
+    free(re);
+    free(im);
+    free(mre);
+    free(mim);
+    free(perm);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -468,6 +604,8 @@ int main(void)
         cmocka_unit_test(test_gauss_wide_matches_lapack),
         cmocka_unit_test(test_engine_runs_match_pairs),
         cmocka_unit_test(test_wide_engine_matches_prefix),
+        cmocka_unit_test(test_wide_sum_many_bitwise),
+        cmocka_unit_test(test_match_wide_identity),
         cmocka_unit_test(test_wide_model_replicates),
         cmocka_unit_test(test_wide_iv_blocks),
         cmocka_unit_test(test_streamed_residuals_bitwise),
