@@ -233,18 +233,19 @@ static double kept_share(const el_subspace_result *res, size_t n, const size_t *
 /* The poles kept: with the order given, all of that order's. Automatic:
  * the chains of the stage's automatic order by chains_of_order; when
  * there are some but their poles carry less than HK_LOW_KEPT_SHARE of that
- * order's modal contributions (a strong mode was left out), of the orders
- * up to the stage's, the one whose physical poles give the most eigenvalues by
- * chains_of_order (the lowest on a tie), and its chains; the model then takes the lowest order at which every one of
- * those chains has a pole (el_subspace_set_order): fewer noise poles in
- * the model and in the bootstrap's replicates, whose eigenvalues are
- * matched to the kept ones. Until 2026-12-05 only the stage's order was
- * read, the smallest with the most physical poles at once, and noise
- * chains count there too: on overdamped nodes a noise pole entering at
- * order 8-14 broke the slow pole's chain (its estimate jumps by more than
- * the tolerance), both were then dated late and the model kept only the
- * fast pole, while the orders below held both (calibrate --misses: 5 of
- * 54 sink logs at 5,000 samples, 6 of 57 at 20,000). Writes the kept
+ * order's modal contributions (a strong mode was left out), of the
+ * orders up to the stage's, the one whose physical poles give the most
+ * eigenvalues by chains_of_order (the lowest on a tie), and its chains.
+ * The model then takes the lowest order at which every one of those
+ * chains has a pole (el_subspace_set_order): fewer noise poles in the
+ * model and in the bootstrap's replicates, whose eigenvalues are matched
+ * to the kept ones. Until 2026-12-05 only the stage's order was read, the
+ * smallest with the most physical poles at once, and noise chains count
+ * there too: on overdamped nodes a noise pole entering at order 8-14
+ * broke the slow pole's chain (its estimate jumps by more than the
+ * tolerance), both were then dated late and the model kept only the fast
+ * pole, while the orders below held both (calibrate --misses: 4 of 54
+ * sink logs at 5,000 samples, 6 of 57 at 20,000). Writes the kept
  * poles' indices (into the model order's poles) to keep and returns their
  * count (0: none); *n_eig receives their eigenvalue count. */
 static size_t kept_poles(hk_stage *s, size_t *keep, size_t *n_eig, el_error *err)
@@ -257,7 +258,8 @@ static size_t kept_poles(hk_stage *s, size_t *keep, size_t *n_eig, el_error *err
     if (res->order_was_auto) {
         size_t best = res->order, best_eig = 0;
         n_chains = chains_of_order(res, res->order, chains, &best_eig);
-        if (n_chains > 0 && kept_share(res, res->order, chains, n_chains) < HK_LOW_KEPT_SHARE) {
+        if (n_chains > 0 &&
+            kept_share(res, res->order, chains, n_chains) < HK_LOW_KEPT_SHARE) {
             best = 0;
             best_eig = 0;
             for (size_t n = 1; n <= res->order; n++) {
