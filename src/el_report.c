@@ -97,6 +97,9 @@ static void text_model(const el_assessment *r, el_buf *out)
                               r->cross_agrees ? "agrees" : "DISAGREES", p);
         }
     }
+    else if (r->method_stood_in)
+        el_buf_printf(out, "  estimator    %s, %s\n", el_method_name(m->method),
+                      r->method_reason);
     if (r->state_check.ran)
         el_buf_printf(out,
                       "  plain state  iv without lags: stable in %.0f of its %zu bootstrap "
@@ -105,9 +108,6 @@ static void text_model(const el_assessment *r, el_buf *out)
                       r->state_check.replicates,
                       r->state_check.withdraws ? ": the \"unstable\" is withdrawn"
                                                : ": the growth stands");
-    else if (r->method_stood_in)
-        el_buf_printf(out, "  estimator    %s, %s\n", el_method_name(m->method),
-                      r->method_reason);
     if (r->lags_were_auto)
         el_buf_printf(out, "  lags         %zu chosen automatically%s: %s\n", m->lags,
                       r->lags_for_one_channel

@@ -143,6 +143,8 @@ PY
         grep -q 'UNDECIDED' "$b.txt" && grep -q '^  whiteness   Ljung-Box over' "$b.txt" &&
             ! grep -q 'STABLE' "$b.txt"
         check "white noise, $n channels, --method $m: text UNDECIDED with the whiteness line" $?
+        [ "$(grep -c '^  estimator ' "$b.txt")" -le 1 ]
+        check "white noise, $n channels, --method $m: one estimator line in the text report" $?
         if grep -q '"stand_in": {' "$b.json" && [ $m != auto ]; then
             grep -q "^  estimator    ls, in place of $m (--method $m)" "$b.txt" &&
                 grep -q "fitted by ls in place of $m: these modes describe noise" "$b.txt" &&
