@@ -373,7 +373,7 @@ static void one_log(const cal_case *c, size_t n_samples, size_t rep, const cal_o
         double t_ur = NAN;
         if (el_verdict_unit_root_t(&modes, &model, &br, &t_ur, &err) != EL_OK)
             goto done;
-        if (t_ur > EL_VERDICT_UNIT_ROOT_T) {
+        if (t_ur > el_verdict_unit_root_critical(bo.level)) {
             out->withheld = 1;
             goto done;
         }

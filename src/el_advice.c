@@ -213,7 +213,7 @@ static void reason_cause(const el_assessment *r, double level, el_advice *a)
                  "standard deviations below zero, where a random walk is rejected only "
                  "beyond %.2f): the data cannot tell it from a slow wander that never "
                  "returns", r->modes.modes[0].lambda_re, -v->unit_root_t,
-                 -EL_VERDICT_UNIT_ROOT_T);
+                 -el_verdict_unit_root_critical(level));
         snprintf(a->next_step, sizeof a->next_step,
                  "a longer log (many of the slow mode's time constants) decides it; "
                  "`eigenlog track` shows whether the level keeps wandering");

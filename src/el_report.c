@@ -785,6 +785,7 @@ static void json_verdict(el_json *j, const el_assessment *r, const el_assess_opt
     el_advice adv;
     el_advice_assess(r, opt != NULL ? opt->boot.level : NAN, &adv);
     el_json_string(j, "cause", el_verdict_cause_code(v->cause));
+    el_json_number(j, "unit_root_t", v->unit_root_t);
     el_json_string(j, "reason", adv.reason);
     el_json_string(j, "next_step", adv.next_step);
     el_json_string(j, "support", adv.support);

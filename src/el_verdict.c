@@ -413,6 +413,11 @@ el_status el_verdict_withhold_method(el_verdict *v, el_method_fault fault, el_me
     return EL_OK;
 }
 
+double el_verdict_unit_root_critical(double level)
+{
+    return level >= 0.99 ? -3.43 : level >= 0.95 ? EL_VERDICT_UNIT_ROOT_T : -2.57;
+}
+
 static int cmp_double(const void *a, const void *b)
 {
     double x = *(const double *)a, y = *(const double *)b;
@@ -485,14 +490,15 @@ el_status el_verdict_compute(const el_modes *modes, const el_model *model,
         if (st != EL_OK)
             return st;
         v->unit_root_t = t_ur;
-        if (t_ur > EL_VERDICT_UNIT_ROOT_T) {
+        double t_crit = el_verdict_unit_root_critical(level);
+        if (t_ur > t_crit) {
             el_verdict_set_undecided(v, EL_CAUSE_NEAR_UNIT_ROOT);
             st = checked(err, el_warnings_add(warnings,
                 "stability is undecided: the least damped mode is real and slow "
                 "(Re lambda %.3g 1/s, %.2g bootstrap standard deviations below zero; "
                 "a random walk is rejected only beyond %.2f): the data cannot tell it "
                 "from a random walk, and estimates of such a root lean towards "
-                "stability", modes->modes[0].lambda_re, -t_ur, -EL_VERDICT_UNIT_ROOT_T));
+                "stability", modes->modes[0].lambda_re, -t_ur, -t_crit));
             if (st != EL_OK)
                 return st;
         }

@@ -76,7 +76,8 @@ typedef struct {
     el_region region;
     el_verdict_cause cause;       /* why (EL_CAUSE_NONE: the class holds) */
     double unit_root_t;           /* el_verdict_unit_root_t of a "stable" resting on a
-                                     real least damped mode; NaN when not computed */
+                                     real least damped mode; NaN when not computed
+                                     (JSON verdict.unit_root_t, null then) */
 } el_verdict;
 
 /* Sets the word to undecided (ambiguous) for cause. The pipeline's later
@@ -146,6 +147,12 @@ el_method_fault el_verdict_method_fault(el_method method, int stationary,
  * Re lambda = ln(rho) / dt ~ (rho - 1) / dt near rho = 1, and both scale
  * by the same dt. */
 #define EL_VERDICT_UNIT_ROOT_T (-2.86)
+
+/* The critical value for the bounds' level: -3.43 at level >= 0.99 (the
+ * 1% value), -2.86 (EL_VERDICT_UNIT_ROOT_T) at >= 0.95, -2.57 (10%)
+ * below (MacKinnon 2010, asymptotic, with a constant; recalled from
+ * memory). Pure. */
+double el_verdict_unit_root_critical(double level);
 /* The rule applies while the window spans fewer than this many time
  * constants of the root (n (1 - rho) in the local-to-unity terms of
  * Phillips 1987): there the estimate's bias and the bootstrap's failure

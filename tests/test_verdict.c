@@ -636,6 +636,23 @@ static void test_near_unit_root(void **state)
     assert_close(v.unit_root_t, 10.0 * t_want, 1e-9, 0.0);
     assert_int_equal(v.stability, EL_STABLE);
     assert_false(v.ambiguous && v.cause == EL_CAUSE_NEAR_UNIT_ROOT);
+    /* The critical value follows the bounds' level (MacKinnon 2010's 1%,
+     * 5% and 10% asymptotic values with a constant, recalled from memory). */
+    assert_close(el_verdict_unit_root_critical(0.99), -3.43, 0.0, 0.0);
+    assert_close(el_verdict_unit_root_critical(0.95), -2.86, 0.0, 0.0);
+    assert_close(el_verdict_unit_root_critical(0.90), -2.57, 0.0, 0.0);
+    /* The spread scaled so that t = -2.9 (to the 1e-3 of the rounded
+     * -1.3626 above): stable at the 95% level, not at the 99% level. */
+    for (size_t r = 0; r < 100; r++)
+        samples[2 * r] = -0.05 + ((double)r - 49.5) * 0.001 * (1.3626 / 2.9);
+    el_warnings_free(&f.warnings);
+    assert_int_equal(el_verdict_compute(&f.modes, &f.model, &b, 0.95, &v, &f.warnings, NULL),
+                     EL_OK);
+    assert_close(v.unit_root_t, -2.9, 1e-3, 0.0);
+    assert_int_equal(v.stability, EL_STABLE);
+    assert_int_equal(el_verdict_compute(&f.modes, &f.model, &b, 0.99, &v, &f.warnings, NULL),
+                     EL_OK);
+    assert_int_equal(v.cause, EL_CAUSE_NEAR_UNIT_ROOT);
     fitted_free(&f);
 }
 
