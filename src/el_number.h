@@ -33,10 +33,16 @@ int el_number_parse(const char *s, size_t n, char *decimal, char delim, double *
 const char *el_number_scan(const char *s, const char *lim, char decimal, char delim,
                            double *out, char *point_out);
 
-/* The row loop of the fused reader (el_rows_scan's contract, which see):
- * n cells by el_number_scan, separated by delim and ended by LF or CRLF,
- * into dst[0], dst[stride], ...; returns the byte after the line end or
- * NULL. Here so that the scan of each cell is inlined into the loop. */
+/* The row loop of the fused reader: reads the row of n numbers at p,
+ * separated by delim and ended by LF or CRLF, each with el_number_scan (a
+ * '\n' must lie at or after p before lim), into dst[0], dst[stride], ...
+ * Returns the byte after the line end, or NULL when the row is anything
+ * else (blanks, quotes, missing or text cells, too few or too many cells;
+ * dst then holds junk and *decimal is unchanged). *decimal as in
+ * el_number_parse: 0 = not decided, then set by the first separator met,
+ * cell by cell from the left. Touches nothing else, so threads may call
+ * it at once. Here so that the scan of each cell is inlined into the
+ * loop. */
 const char *el_number_scan_row(const char *p, const char *lim, size_t n, char delim,
                                char *decimal, double *dst, size_t stride);
 

@@ -12,12 +12,6 @@
 
 #include "el_number.h"
 
-const char *el_rows_scan(const char *p, const char *lim, size_t n, char delim,
-                         char *decimal, double *dst, size_t stride)
-{
-    return el_number_scan_row(p, lim, n, delim, decimal, dst, stride);
-}
-
 void el_rows_advise_large(void *block, size_t bytes)
 {
 #if defined(MADV_HUGEPAGE)

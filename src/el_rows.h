@@ -5,17 +5,6 @@
 
 #include <stddef.h>
 
-/* Reads the row of n numbers at p, separated by delim and ended by LF or
- * CRLF, each with el_number_scan (a '\n' must lie at or after p before
- * lim), into dst[0], dst[stride], ... Returns the byte after the line end,
- * or NULL when the row is anything else (blanks, quotes, missing or text
- * cells, too few or too many cells; dst then holds junk and *decimal is
- * unchanged). *decimal as in el_number_parse: 0 = not decided, then set
- * by the first separator met, cell by cell from the left. Touches nothing
- * else, so threads may call it at once. */
-const char *el_rows_scan(const char *p, const char *lim, size_t n, char delim,
-                         char *decimal, double *dst, size_t stride);
-
 /* Asks the system for large pages for a block of at least 4 MiB of
  * column values (a table of tens of MB otherwise costs a page fault and
  * a page clear per 4 KiB). A hint: nothing happens where it is not
@@ -56,7 +45,7 @@ size_t el_rows_count_lines(const char *begin, const char *end);
  * compare both. */
 size_t el_rows_count_lines_using(int allow_avx2, const char *begin, const char *end);
 
-/* Reads part k with el_rows_scan (n_columns, delim, decimal decided or
+/* Reads part k with el_number_scan_row's rule (n_columns, delim, decimal decided or
  * 0) into k->values (stride k->stride), at most k->max_rows rows, until
  * its end or the first row that needs the general reader; sets rows and
  * stop. Reads the text only up to lim and writes nothing but the part's
