@@ -117,7 +117,8 @@ static double iv_cov_entry(size_t dim, const double *sum, const double *mean, do
 static size_t iv_work(const el_boot_dims *dims)
 {
     size_t dim = 4 * dims->r + dims->n_inputs;
-    size_t solve = dim + dim * dim + iv_core_work(dims->r, dims->n_inputs);
+    /* The means, a B for a caller that wants none, the solve's blocks. */
+    size_t solve = dim + dims->r * dims->n_inputs + iv_core_work(dims->r, dims->n_inputs);
     return solve > el_est_gram_work(dim) ? solve : el_est_gram_work(dim);
 }
 
@@ -126,7 +127,7 @@ static int iv_solve(const el_boot_dims *dims, const double *sum, double *a, doub
                     double *offset, double *work)
 {
     size_t r = dims->r, nu = dims->n_inputs, dim = 4 * r + nu;
-    double *mean = work, *cov = work + dim, *core = cov + dim * dim;
+    double *mean = work, *b_unused = work + dim, *core = b_unused + r * nu;
     if (el_est_too_few(sum[0], dim))
         return 1;
     /* Only the blocks iv_core reads, straight from the packed sums (the
@@ -148,8 +149,7 @@ static int iv_solve(const el_boot_dims *dims, const double *sum, double *a, doub
         for (size_t i = 0; i < r; i++)
             sye[i + j * r] = iv_cov_entry(dim, sum, mean, n, r + i, cj);
     }
-    /* Without a caller's b, B goes where the covariance would be. */
-    double *bb = b != NULL ? b : cov;
+    double *bb = b != NULL ? b : b_unused;
     if (iv_core_blocks(r, nu, a, bb, core))
         return 1;
     if (offset != NULL)

@@ -48,6 +48,48 @@ static void simulate_node(size_t n, uint64_t stream, double *values)
     }
 }
 
+static void series_of(el_series *s, double *values, size_t n)
+{
+    static char *names[] = { "a", "b" };
+    static char *units[] = { "", "" };
+    memset(s, 0, sizeof *s);
+    s->n_samples = n;
+    s->n_channels = 2;
+    s->dt = COV_DT;
+    s->values = values;
+    s->names = names;
+    s->units = units;
+    s->rows_used = n;
+}
+
+/* One log's fit, modes and (bo not NULL) bootstrap, zeroed first. */
+typedef struct {
+    el_model model;
+    el_modes modes;
+    el_boot_result br;
+} fitted_log;
+
+/* 1 when the fit, the modes and the bootstrap (when bo is given) all ran;
+ * f holds what ran either way: free it with fitted_log_free. */
+static int fit_log(const el_series *s, const el_fit_options *fo, const el_boot_options *bo,
+                   fitted_log *f)
+{
+    memset(f, 0, sizeof *f);
+    el_error err;
+    el_error_clear(&err);
+    return el_fit(s, fo, &f->model, NULL, &err) == EL_OK &&
+           el_modes_compute(&f->model, &f->modes, NULL, &err) == EL_OK &&
+           (bo == NULL ||
+            el_boot_run(s, fo, &f->model, &f->modes, bo, &f->br, NULL, &err) == EL_OK);
+}
+
+static void fitted_log_free(fitted_log *f)
+{
+    el_boot_free(&f->br);
+    el_modes_free(&f->modes);
+    el_model_free(&f->model);
+}
+
 typedef struct {
     size_t ok, covered, above;
 } cov_count;
@@ -58,54 +100,35 @@ typedef struct {
  * the truth, and how often the truth lies above them. */
 static cov_count run_study(el_resample_kind kind)
 {
-    static char *names[] = { "a", "b" };
-    static char *units[] = { "", "" };
     cov_count c = { 0, 0, 0 };
     double *values = malloc(2 * COV_SAMPLES * sizeof(double));
     assert_non_null(values);
     for (size_t log = 0; log < COV_LOGS; log++) {
         simulate_node(COV_SAMPLES, log, values);
         el_series s;
-        memset(&s, 0, sizeof s);
-        s.n_samples = COV_SAMPLES;
-        s.n_channels = 2;
-        s.dt = COV_DT;
-        s.values = values;
-        s.names = names;
-        s.units = units;
-        s.rows_used = COV_SAMPLES;
+        series_of(&s, values, COV_SAMPLES);
         el_fit_options fo;
         el_fit_defaults(&fo);
-        el_model model;
-        memset(&model, 0, sizeof model);
-        el_modes modes;
-        memset(&modes, 0, sizeof modes);
-        el_boot_result br;
-        memset(&br, 0, sizeof br);
         el_boot_options bo;
         el_boot_defaults(&bo);
         bo.replicates = 200;
         bo.threads = 1;
         bo.kind = kind;
         bo.seed = 1 + log;
-        el_error err;
-        el_error_clear(&err);
-        if (el_fit(&s, &fo, &model, NULL, &err) == EL_OK
-            && el_modes_compute(&model, &modes, NULL, &err) == EL_OK
-            && el_boot_run(&s, &fo, &model, &modes, &bo, &br, NULL, &err) == EL_OK) {
+        fitted_log f;
+        if (fit_log(&s, &fo, &bo, &f)) {
+            const el_modes *modes = &f.modes;
             size_t best = 0;
-            for (size_t q = 1; q < modes.n_modes; q++)
-                if (fabs(modes.modes[q].lambda_re - COV_SLOW)
-                    < fabs(modes.modes[best].lambda_re - COV_SLOW))
+            for (size_t q = 1; q < modes->n_modes; q++)
+                if (fabs(modes->modes[q].lambda_re - COV_SLOW)
+                    < fabs(modes->modes[best].lambda_re - COV_SLOW))
                     best = q;
-            const el_interval *re = &br.bounds[best].re;
+            const el_interval *re = &f.br.bounds[best].re;
             c.ok++;
             c.covered += re->lo <= COV_SLOW && COV_SLOW <= re->hi;
             c.above += COV_SLOW > re->hi;
         }
-        el_boot_free(&br);
-        el_modes_free(&modes);
-        el_model_free(&model);
+        fitted_log_free(&f);
     }
     free(values);
     return c;
@@ -178,20 +201,6 @@ static void simulate_2x2(const double *ad, size_t n, uint64_t seed, uint64_t str
     }
 }
 
-static void series_of(el_series *s, double *values, size_t n)
-{
-    static char *names[] = { "a", "b" };
-    static char *units[] = { "", "" };
-    memset(s, 0, sizeof *s);
-    s->n_samples = n;
-    s->n_channels = 2;
-    s->dt = COV_DT;
-    s->values = values;
-    s->names = names;
-    s->units = units;
-    s->rows_used = n;
-}
-
 /* Ad of a spiral sink, lambda = -0.3 +- 2i 1/s, exactly discretised at
  * COV_DT and mixed by T = [[1, 0.4], [-0.3, 1]]. */
 static void spiral_sink_ad(double *ad)
@@ -228,28 +237,17 @@ static size_t count_refused(size_t logs, double sensor_rel, size_t *n_ok)
         series_of(&s, values, COV_LONG);
         el_fit_options fo;
         el_fit_defaults(&fo);
-        el_model model;
-        memset(&model, 0, sizeof model);
-        el_modes modes;
-        memset(&modes, 0, sizeof modes);
-        el_boot_result br;
-        memset(&br, 0, sizeof br);
         el_boot_options bo;
         el_boot_defaults(&bo);
         bo.replicates = 200;
         bo.threads = 1;
         bo.seed = 1 + log;
-        el_error err;
-        el_error_clear(&err);
-        if (el_fit(&s, &fo, &model, NULL, &err) == EL_OK
-            && el_modes_compute(&model, &modes, NULL, &err) == EL_OK
-            && el_boot_run(&s, &fo, &model, &modes, &bo, &br, NULL, &err) == EL_OK) {
+        fitted_log f;
+        if (fit_log(&s, &fo, &bo, &f)) {
             (*n_ok)++;
-            refused += br.bias_refused && br.bias_refused_spreads >= 1.5;
+            refused += f.br.bias_refused && f.br.bias_refused_spreads >= 1.5;
         }
-        el_boot_free(&br);
-        el_modes_free(&modes);
-        el_model_free(&model);
+        fitted_log_free(&f);
     }
     free(values);
     return refused;
@@ -307,23 +305,16 @@ static size_t count_slow_kept(const double *ad, uint64_t seed, uint64_t first, s
         el_fit_options fo;
         el_fit_defaults(&fo);
         fo.method = EL_METHOD_HANKEL;
-        el_model model;
-        memset(&model, 0, sizeof model);
-        el_modes modes;
-        memset(&modes, 0, sizeof modes);
-        el_error err;
-        el_error_clear(&err);
-        if (el_fit(&s, &fo, &model, NULL, &err) == EL_OK
-            && el_modes_compute(&model, &modes, NULL, &err) == EL_OK) {
+        fitted_log f;
+        if (fit_log(&s, &fo, NULL, &f)) {
             (*n_ok)++;
             int found = 0;
-            for (size_t q = 0; q < modes.n_modes; q++)
-                found |= !modes.modes[q].pair
-                         && fabs(modes.modes[q].lambda_re - COV_SLOW) <= 0.2 * fabs(COV_SLOW);
+            for (size_t q = 0; q < f.modes.n_modes; q++)
+                found |= !f.modes.modes[q].pair &&
+                         fabs(f.modes.modes[q].lambda_re - COV_SLOW) <= 0.2 * fabs(COV_SLOW);
             kept += (size_t)found;
         }
-        el_modes_free(&modes);
-        el_model_free(&model);
+        fitted_log_free(&f);
     }
     free(values);
     return kept;
