@@ -244,7 +244,7 @@ static el_status assess_load(const el_assess_options *opt, el_assessment *r,
                              el_error *err)
 {
     el_ingest_options in = {opt->time_column, opt->time_unit, opt->decimal, opt->channels,
-                            opt->inputs};
+                            opt->inputs, 0};
     el_status st = opt->stream != NULL
                        ? el_table_read_stream(opt->stream, opt->path ? opt->path : "<stream>",
                                               &in, &r->table, err)

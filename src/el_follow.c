@@ -308,6 +308,8 @@ struct el_follow {
     el_follow_ring ring;
     int have_last;
     double last_t;                /* time of the newest kept row */
+    double *last_row;             /* its cells in every column of ref (el_dedup's rule) */
+    size_t repeats_dropped;       /* rows equal to the row before, left out */
     /* Windowing, fixed at the first window. */
     int planned;
     double dt, t_start;           /* interval; time of the first row (window 0 starts) */
@@ -353,7 +355,10 @@ el_status el_follow_create(const el_follow_options *opt, el_follow **out, el_err
         return el_error_set(err, EL_ERR_NOMEM, "out of memory (follow)");
     f->opt = *opt;
     const el_assess_options *a = &opt->track.assess;
-    el_ingest_options in = {a->time_column, a->time_unit, a->decimal, a->channels, a->inputs};
+    /* Rows that repeat the row before exactly are judged here, row by row,
+     * not per parse (a parse may hold a single row). */
+    el_ingest_options in = {a->time_column, a->time_unit, a->decimal, a->channels, a->inputs,
+                            1};
     f->ingest = in;
     f->expect_header = 1;
     *out = f;
@@ -367,6 +372,7 @@ void el_follow_destroy(el_follow *f)
     el_buf_free(&f->header);
     el_table_free(&f->ref);
     free(f->cols);
+    free(f->last_row);
     el_follow_ring_free(&f->ring);
     el_assess_plan_destroy(f->plan);
     free(f->wt.values);
@@ -457,7 +463,9 @@ static el_status choose_columns(el_follow *f, el_error *err)
         f->cols = ch;
         f->nc = nc;
         f->ni = ni;
-        st = el_follow_ring_init(&f->ring, nc + ni, 1024, err);
+        f->last_row = calloc(n, sizeof *f->last_row);
+        st = f->last_row != NULL ? el_follow_ring_init(&f->ring, nc + ni, 1024, err)
+                                 : el_error_set(err, EL_ERR_NOMEM, "out of memory (follow)");
     } else {
         free(ch);
     }
@@ -490,6 +498,31 @@ static el_status bad_row(el_follow *f, el_error *err)
     return EL_OK;
 }
 
+/* Row r of t equals the last kept row in every column but the time (which
+ * the caller compared after its shift), a missing cell equal to a missing
+ * cell: a row the logger wrote twice (el_dedup.h). */
+static int repeats_last(const el_follow *f, const el_table *t, size_t r)
+{
+    for (size_t c = 0; c < t->n_columns; c++) {
+        double v = t->values[c * t->n_rows + r], w = f->last_row[c];
+        if (c != t->time_column && !(v == w || (isnan(v) && isnan(w))))
+            return 0;
+    }
+    return 1;
+}
+
+/* The first row left out as a repeat gets a note; the count goes on. */
+static el_status note_repeat(el_follow *f, long line, el_error *err)
+{
+    if (f->repeats_dropped++ > 0)
+        return EL_OK;
+    if (el_warnings_add(&f->notes, "%s:%ld: the row repeats the row before exactly (same "
+                                   "time, same values) and is left out, as later such rows "
+                                   "will be", f->source, line) != EL_OK)
+        return el_error_set(err, EL_ERR_NOMEM, "out of memory (follow)");
+    return EL_OK;
+}
+
 /* Appends the rows of a parsed table to the ring. */
 static el_status keep_rows(el_follow *f, const el_table *t, el_error *err)
 {
@@ -504,6 +537,10 @@ static el_status keep_rows(el_follow *f, const el_table *t, el_error *err)
     for (size_t r = 0; st == EL_OK && r < t->n_rows; r++) {
         double time = t->values[t->time_column * t->n_rows + r] + shift;
         long line = f->parse_lines[t->source_line[r] - 2];
+        if (f->have_last && time == f->last_t && repeats_last(f, t, r)) {
+            st = note_repeat(f, line, err);
+            continue;
+        }
         if (f->have_last && !(time > f->last_t)) {
             el_error_set(err, EL_ERR_DATA, "time %s after the previous row's",
                          time == f->last_t ? "repeats" : "goes back");
@@ -517,6 +554,8 @@ static el_status keep_rows(el_follow *f, const el_table *t, el_error *err)
         st = el_follow_ring_push(&f->ring, time, vals, line, err);
         f->have_last = 1;
         f->last_t = time;
+        for (size_t c = 0; c < t->n_columns; c++)
+            f->last_row[c] = t->values[c * t->n_rows + r];
     }
     if (vals != row)
         free(vals);

@@ -16,6 +16,7 @@
 #include <unistd.h>
 
 #include "el_chunks.h"
+#include "el_dedup.h"
 #include "el_number.h"
 #include "el_rows.h"
 #include "el_source.h"
@@ -1335,6 +1336,8 @@ static el_status read_stream(FILE *stream, const char *name, const el_ingest_opt
     table->n_sources = 1;
     st = el_table_finish(table, info.text_line, err);
     free(info.text_line);
+    if (st == EL_OK && (opt == NULL || !opt->keep_repeats))
+        st = el_table_drop_repeats(table, NULL, err);
     if (st != EL_OK)
         el_table_free(table);
     return st;
@@ -1441,6 +1444,8 @@ el_status el_table_read_files(const char *const *paths, size_t n_paths,
         st = el_table_join(parts, lines, n_paths, paths, table, text_line, err);
     if (st == EL_OK)
         st = el_table_finish(table, text_line, err);
+    if (st == EL_OK && (opt == NULL || !opt->keep_repeats))
+        st = el_table_drop_repeats(table, NULL, err);
     for (size_t i = 0; parts != NULL && i < n_paths; i++) {
         el_table_free(&parts[i]);
         free(lines[i]);

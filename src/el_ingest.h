@@ -30,6 +30,10 @@ typedef struct {
      * error at that cell. */
     const char *channels;
     const char *inputs;
+    /* 1: keep rows that repeat the row before exactly (el_dedup); 0 (the
+     * default): drop them with a note, as el_table_drop_repeats says.
+     * el_follow sets it and judges each row against the last one kept. */
+    int keep_repeats;
 } el_ingest_options;
 
 /* Reads one log from each of paths[0..n_paths) as ONE log (daily files):

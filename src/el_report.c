@@ -1109,6 +1109,7 @@ static const struct {
     {"text_columns_skipped", "holding text that no option asked"},
     {"resampled", "resampled onto a uniform grid"},
     {"gaps_filled", "missing sample"},
+    {"repeated_rows_dropped", "the row before exactly"},
     {"few_samples", "too few to tell a"},
     {"no_variation", "no channel varies"},
     {"growth", "grows by a factor"},

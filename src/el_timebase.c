@@ -271,7 +271,9 @@ static el_status check_time_order(const el_table *table, size_t *backward, size_
                  *backward == 1 ? "" : "s", *repeated);
     locate(err, table, r, table->time_column);
     if (time[r] == time[r - 1]) {
-        el_error_hint(err, "remove the duplicated rows (each time may appear once)");
+        el_error_hint(err, "two rows give this time different values: keep the right one "
+                           "(each time may appear once; rows repeated exactly are left out "
+                           "by themselves)");
         return el_error_set(err, EL_ERR_DATA, "time repeats: %s again (as on line %ld)%s",
                             format_time(table, time[r], a, sizeof a),
                             row_line(table, r - 1), more);

@@ -70,5 +70,19 @@ expect "unwritable json path" 4 "no/such/dir" -- assess "$f" --json "$tmp/no/suc
 expect "bad option value" 1 "--lags" -- assess "$f" --lags -3 --json "$tmp/out.json"
 expect "unknown option" 1 "--bogus" -- assess "$f" --bogus --json "$tmp/out.json"
 
+# A row repeated exactly (a logger's retry) is left out with a warning;
+# the same time with another value is an error at that line.
+awk 'NR == 12 {print; print; next} {print}' "$f" >"$tmp/dup.csv"
+"$bin" assess "$tmp/dup.csv" --boot 0 --json "$tmp/dup.json" >/dev/null 2>"$tmp/stderr"
+if [ $? -eq 0 ] && grep -q '"code": *"repeated_rows_dropped"' "$tmp/dup.json" \
+    && grep -q 'line 13 of' "$tmp/dup.json"; then
+    passed=$((passed + 1))
+else
+    failed=$((failed + 1))
+    echo "FAIL an exactly repeated row is left out with a warning naming its line"
+fi
+awk -F, 'BEGIN{OFS=","} NR == 12 {print; $2 = $2 + 1; print; next} {print}' "$f" >"$tmp/dupval.csv"
+expect "repeated time, other value" 2 "dupval\.csv:13:1" -- assess "$tmp/dupval.csv" --json "$tmp/out.json"
+
 echo "e2e_errors: $passed passed, $failed failed"
 [ "$failed" -eq 0 ]

@@ -698,7 +698,7 @@ static void test_time_repeats(void **state)
     el_error_clear(&err);
     assert_int_equal(el_series_build(&t, &ch, 1, NULL, &s, NULL, &err), EL_ERR_DATA);
     assert_contains(err.message, "time repeats");
-    assert_contains(err.hint, "duplicated rows");
+    assert_contains(err.hint, "different values");
     assert_int_equal(err.line, t.source_line[31]);
     assert_int_equal(err.column, COL_TIME + 1);
     free_table(&t);
