@@ -9,7 +9,9 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "el_fit.h"
 #include "el_linalg.h"
+#include "el_modes.h"
 #include "el_subspace.h"
 
 #include <lapacke.h>
@@ -652,6 +654,56 @@ static void test_six_sensor_example(void **state)
     ts_free(&ts);
 }
 
+/* The same system through the estimator (el_fit, --method hankel, every
+ * option automatic), 20,000 samples (200 s, 77 periods of the slow mode),
+ * logs of seeds 1-16: every model holds both modes. The heavily damped
+ * mode's damping ratio moves between consecutive orders by more than the
+ * stabilisation's 5 % relative (0.238 -> 0.225), and the estimator dated
+ * its chain from the order where that happened; the late-chain rule then
+ * left it out: before the change in el_est_hankel.c's `continues`, seeds
+ * 1, 8 and 16 gave a model of the 1.30 Hz mode alone. Tolerance: a
+ * presence check, natural frequency within 12 % and damping ratio within
+ * 0.12, about 4.5 standard deviations of the estimates over 40 such logs
+ * (0.0102 Hz = 2.7 % and 0.027; the study's 5 % / 0.05 is met by 34 of
+ * those 40: the spread at this length, not the rule). */
+static void test_six_sensor_hankel_keeps_both(void **state)
+{
+    (void)state;
+    double fn[2] = { 1.30, 0.384 }, zeta[2] = { 0.03, 0.252 }, a[16], dt = 0.01;
+    modal_a(2, fn, zeta, a);
+    size_t n = 20000, both = 0;
+    for (uint64_t seed = 1; seed <= 16; seed++) {
+        test_series ts;
+        ts_init(&ts, n, 6, dt, simulate6(a, dt, n, 1, 20.0, seed));
+        el_fit_options fo;
+        el_fit_defaults(&fo);
+        fo.method = EL_METHOD_HANKEL;
+        el_model m;
+        el_modes md;
+        memset(&m, 0, sizeof m);
+        memset(&md, 0, sizeof md);
+        el_error err;
+        el_error_clear(&err);
+        assert_int_equal(el_fit(&ts.s, &fo, &m, NULL, &err), EL_OK);
+        assert_int_equal(el_modes_compute(&m, &md, NULL, &err), EL_OK);
+        int found[2] = { 0, 0 };
+        for (size_t q = 0; q < md.n_modes; q++) {
+            double re = md.modes[q].lambda_re, im = md.modes[q].lambda_im;
+            double f = hypot(re, im) / (2.0 * TEST_PI), z = -re / hypot(re, im);
+            for (int k = 0; k < 2; k++)
+                found[k] |= fabs(f - fn[k]) <= 0.12 * fn[k] && fabs(z - zeta[k]) <= 0.12;
+        }
+        if (!(found[0] && found[1]))
+            print_message("seed %u: %zu modes, fast %d slow %d\n", (unsigned)seed, md.n_modes,
+                          found[0], found[1]);
+        both += (size_t)(found[0] && found[1]);
+        el_modes_free(&md);
+        el_model_free(&m);
+        ts_free(&ts);
+    }
+    assert_int_equal(both, 16);
+}
+
 /* Transients at 20 dB (deterministic, from x0 = 1, no process noise;
  * sensor noise 1/100 of each channel's power): the ring-down of the same
  * system over 10 s, and a growing variant whose 1.30 Hz pair has Re lambda
@@ -896,6 +948,7 @@ int main(void)
         cmocka_unit_test(test_horizon_first_order),
         cmocka_unit_test(test_shared_autocorrelation),
         cmocka_unit_test(test_six_sensor_example),
+        cmocka_unit_test(test_six_sensor_hankel_keeps_both),
         cmocka_unit_test(test_transients),
         cmocka_unit_test(test_white_noise_no_mode),
         cmocka_unit_test(test_replicate_reproduces_point),
