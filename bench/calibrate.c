@@ -5,7 +5,8 @@
  * Usage: calibrate [--quick] [--logs N] [--boot N] [--threads N]
  *                  [--case NAME] [--resample blocks|model] [--block L]
  *                  [--method ls|fb|tls|iv|ssi|hankel|auto] [--length N]
- *                  [--no-bias-correction] [--verbose] [--misses]
+ *                  [--no-bias-correction] [--verbose] [--misses] [--each]
+ *                  [--horizon T]
  * --method: the estimator of every log (default ls); auto: the one the
  * default (--method auto) picks for the log. --length: one log length.
  * --choices: only print which estimator auto picks per case and length
@@ -31,6 +32,7 @@
 #include <time.h>
 #include <unistd.h>
 
+#include "el_boot_bounds.h"
 #include "el_estimator.h"
 #include "el_fit.h"
 #include "el_state_check.h"
@@ -90,6 +92,8 @@ typedef struct {
     const char *only;
     int verbose;
     int misses;          /* --misses: print every log whose Re bounds miss the truth */
+    int each;            /* --each: print every log's least-damped estimate and bounds */
+    double horizon_s;    /* --horizon T: hankel's and iv's horizon in seconds (0 = automatic) */
     int bias;
     int method_auto;     /* --method auto: the default's choice (method_for) */
     el_method method;    /* else this estimator */
@@ -310,6 +314,7 @@ static void one_log(const cal_case *c, size_t n_samples, size_t rep, const cal_o
     el_fit_options fo;
     el_fit_defaults(&fo);
     fo.method = method_for(o, &s);
+    fo.horizon_time = o->horizon_s;
     if (o->choices) {
         out->ok = 1;
         out->method = fo.method;
@@ -403,9 +408,14 @@ static void one_log(const cal_case *c, size_t n_samples, size_t rep, const cal_o
     int truly_stable = tre < 0.0;
     out->confident = br.p_stable >= 0.95 || br.p_stable <= 0.05;
     out->confident_wrong = truly_stable ? br.p_stable <= 0.05 : br.p_stable >= 0.95;
+    if (o->each)
+        fprintf(stderr, "log: %s n %zu log %zu %s order %zu rows %zu block %zu point %.5f "
+                "bounds %.5f %.5f truth %.5f\n", c->name, n_samples, rep,
+                el_method_name(fo.method), model.state_dim, model.subspace_rows,
+                br.block_length, modes.modes[best].lambda_re, b->re.lo, b->re.hi, tre);
     if (!out->cover_re && o->misses) {
-        fprintf(stderr, "miss: %s n %zu log %zu truth %.4f%+.4fi order %zu; modes:", c->name,
-                n_samples, rep, tre, tim, model.state_dim);
+        fprintf(stderr, "miss: %s n %zu log %zu truth %.4f%+.4fi %s order %zu; modes:",
+                c->name, n_samples, rep, tre, tim, el_method_name(fo.method), model.state_dim);
         for (size_t qm = 0; qm < modes.n_modes; qm++)
             fprintf(stderr, " %.4f%+.4fi [%.4f, %.4f]", modes.modes[qm].lambda_re,
                     modes.modes[qm].lambda_im, br.bounds[qm].re.lo, br.bounds[qm].re.hi);
@@ -458,6 +468,8 @@ static int parse_args(int argc, char **argv, cal_options *o)
     o->only = NULL;
     o->verbose = 0;
     o->misses = 0;
+    o->each = 0;
+    o->horizon_s = 0.0;
     o->bias = 1;
     o->method_auto = 0;
     o->method = EL_METHOD_LS;
@@ -474,6 +486,11 @@ static int parse_args(int argc, char **argv, cal_options *o)
             o->verbose = 1;
         } else if (strcmp(a, "--misses") == 0) {
             o->misses = 1;
+        } else if (strcmp(a, "--each") == 0) {
+            o->each = 1;
+        } else if (strcmp(a, "--horizon") == 0 && v) {
+            o->horizon_s = strtod(v, NULL);
+            i++;
         } else if (strcmp(a, "--logs") == 0 && v) {
             o->logs = (size_t)strtoul(v, NULL, 10);
             i++;
@@ -513,7 +530,8 @@ static int parse_args(int argc, char **argv, cal_options *o)
                     "                 [--case NAME] [--resample blocks|model] [--block L]\n"
                     "                 [--method ls|fb|tls|iv|ssi|hankel|auto] [--length N]\n"
                     "                 [--choices]\n"
-                    "                 [--no-bias-correction] [--verbose] [--misses]\n");
+                    "                 [--no-bias-correction] [--verbose] [--misses] [--each]\n"
+                    "                 [--horizon T]\n");
             return 1;
         }
     }
@@ -522,6 +540,17 @@ static int parse_args(int argc, char **argv, cal_options *o)
         return 1;
     }
     return 0;
+}
+
+/* The cell's binomial judgement (el_boot_coverage_judge): "ok" when its
+ * coverage of x in n is consistent with 0.95 (exact test, 5 % two-sided),
+ * "low" or "high" when it is not. */
+static const char *binom_judge(size_t x, size_t n)
+{
+    if (n == 0)
+        return "-";
+    int j = el_boot_coverage_judge(x, n, 0.95, 0.95);
+    return j < 0 ? "low" : j > 0 ? "high" : "ok";
 }
 
 typedef struct {
@@ -603,10 +632,14 @@ int main(int argc, char **argv)
     printf("coverage of the nominal 95%% bounds of the least-damped mode; wrong = p >= 0.95 "
            "for the wrong class; held = logs whose class the tool withholds because the "
            "method is inconsistent for them (not in ok, coverage or wrong)\n\n");
-    printf("%-14s %6s %5s %7s %7s %7s %7s %6s %9s %7s %7s %6s %6s %5s\n", "case", "n", "ok", "cov_re",
-           "cov_zeta", "p_stab", "wrong", "conf", "block", "w/sd", "bias/sd", "method", "above",
-           "held");
+    printf("%-14s %6s %5s %7s %7s %7s %7s %6s %9s %7s %7s %6s %6s %5s %11s %5s\n", "case", "n",
+           "ok", "cov_re", "cov_zeta", "p_stab", "wrong", "conf", "block", "w/sd", "bias/sd",
+           "method", "above", "held", "ci95_re", "vs95");
     tally all_long = { 0 }, all = { 0 }, unstable = { 0 }, clean_long = { 0 };
+    /* Cells of >= 2000 samples: outside the band, judged low or high by the
+     * binomial test, and what chance alone gives for a perfect method. */
+    size_t cells_long = 0, cells_out = 0, cells_low = 0, cells_high = 0;
+    double chance_out = 0.0, chance_reject = 0.0;
     for (size_t j0 = 0; j0 < q.n_jobs; j0 += o.logs) {
         const cal_case *c = &cases[q.job_case[j0]];
         size_t len = lengths[q.job_len[j0]];
@@ -660,10 +693,25 @@ int main(int argc, char **argv)
             snprintf(meth, sizeof meth, "%s", el_method_name((el_method)mode_m));
         else
             snprintf(meth, sizeof meth, "%s%zu", el_method_name((el_method)mode_m), used[mode_m]);
-        printf("%-14s %6zu %5zu %7.3f %7s %7.3f %7.3f %6.3f %9.1f %7.2f %7.2f %6s %6.3f %5zu\n",
+        double ci_lo, ci_hi;
+        el_boot_coverage_interval(t.re, t.n, 0.95, &ci_lo, &ci_hi);
+        const char *judge = binom_judge(t.re, t.n);
+        if (len >= 2000 && t.n > 0) {
+            double po, pr;
+            el_boot_coverage_chance(t.n, 0.95, 0.92, 0.98, 0.95, &po, &pr);
+            cells_long++;
+            chance_out += po;
+            chance_reject += pr;
+            double cov = (double)t.re / (double)t.n;
+            cells_out += cov < 0.92 - 1e-12 || cov > 0.98 + 1e-12;
+            cells_low += strcmp(judge, "low") == 0;
+            cells_high += strcmp(judge, "high") == 0;
+        }
+        printf("%-14s %6zu %5zu %7.3f %7s %7.3f %7.3f %6.3f %9.1f %7.2f %7.2f %6s %6.3f %5zu "
+               "%5.3f-%5.3f %5s\n",
                c->name, len, t.n, (double)t.re / n, zeta, ps / n, (double)t.wrong / n,
                (double)t.confident / n, blk / n, sw / n / (3.92 * sd_pt), (mean_pt - tre) / sd_pt,
-               meth, above / n, t.withheld);
+               meth, above / n, t.withheld, ci_lo, ci_hi, judge);
     }
     printf("\noverall (logs >= 2000 samples): coverage Re %.3f (%zu logs), zeta %.3f (%zu "
            "oscillatory)\n",
@@ -680,6 +728,10 @@ int main(int argc, char **argv)
            unstable.n);
     printf("withheld (method inconsistent for the log): %zu of %zu logs\n", all.withheld,
            all.withheld + all.n);
+    printf("cells of >= 2000 samples: %zu; outside 0.92-0.98: %zu (a method covering exactly "
+           "0.95 would put %.1f there by chance); coverage Re not consistent with 0.95 "
+           "(exact binomial test, 5 %% two-sided): %zu low, %zu high (%.1f by chance)\n",
+           cells_long, cells_out, chance_out, cells_low, cells_high, chance_reject);
     printf("targets: coverage 0.92-0.98 at >= 2000 samples; wrong <= 0.01 overall, 0 when "
            "unstable\n");
     free(tid);

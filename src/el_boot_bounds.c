@@ -168,3 +168,95 @@ el_status el_boot_summarise(const el_boot_records *sh, const el_modes *point,
     free(v);
     return EL_OK;
 }
+
+/* ------------------------------------------------------------------ */
+/* Judging a coverage study: exact binomial sums. */
+
+static double binom_pmf(size_t k, size_t n, double p)
+{
+    if (p <= 0.0)
+        return k == 0 ? 1.0 : 0.0;
+    if (p >= 1.0)
+        return k == n ? 1.0 : 0.0;
+    return exp(lgamma((double)n + 1.0) - lgamma((double)k + 1.0) -
+               lgamma((double)(n - k) + 1.0) + (double)k * log(p) +
+               (double)(n - k) * log1p(-p));
+}
+
+/* P(X <= x) of binomial(n, p). */
+static double binom_le(size_t x, size_t n, double p)
+{
+    double s = 0.0;
+    for (size_t k = 0; k <= x && k <= n; k++)
+        s += binom_pmf(k, n, p);
+    return s > 1.0 ? 1.0 : s;
+}
+
+/* P(X >= x) of binomial(n, p). */
+static double binom_ge(size_t x, size_t n, double p)
+{
+    double s = 0.0;
+    for (size_t k = x; k <= n; k++)
+        s += binom_pmf(k, n, p);
+    return s > 1.0 ? 1.0 : s;
+}
+
+void el_boot_coverage_interval(size_t covered, size_t n, double level, double *lo,
+                               double *hi)
+{
+    double tail = 0.5 * (1.0 - level);
+    *lo = 0.0;
+    *hi = 1.0;
+    if (n == 0 || covered > n)
+        return;
+    /* Each tail is monotone in p: bisection, 60 halvings (2^-60 of [0, 1]). */
+    if (covered > 0) {
+        double a = 0.0, b = 1.0;
+        for (int i = 0; i < 60; i++) {
+            double m = 0.5 * (a + b);
+            if (binom_ge(covered, n, m) < tail)
+                a = m;
+            else
+                b = m;
+        }
+        *lo = 0.5 * (a + b);
+    }
+    if (covered < n) {
+        double a = 0.0, b = 1.0;
+        for (int i = 0; i < 60; i++) {
+            double m = 0.5 * (a + b);
+            if (binom_le(covered, n, m) < tail)
+                b = m;
+            else
+                a = m;
+        }
+        *hi = 0.5 * (a + b);
+    }
+}
+
+int el_boot_coverage_judge(size_t covered, size_t n, double nominal, double level)
+{
+    if (n == 0 || covered > n)
+        return 0;
+    double tail = 0.5 * (1.0 - level);
+    if (binom_le(covered, n, nominal) < tail)
+        return -1;
+    if (binom_ge(covered, n, nominal) < tail)
+        return 1;
+    return 0;
+}
+
+void el_boot_coverage_chance(size_t n, double nominal, double band_lo, double band_hi,
+                             double level, double *out_band, double *reject)
+{
+    *out_band = 0.0;
+    *reject = 0.0;
+    for (size_t x = 0; x <= n && n > 0; x++) {
+        double pmf = binom_pmf(x, n, nominal), c = (double)x / (double)n;
+        /* The band as printed: a coverage equal to an end is inside. */
+        if (c < band_lo - 1e-12 || c > band_hi + 1e-12)
+            *out_band += pmf;
+        if (el_boot_coverage_judge(x, n, nominal, level) != 0)
+            *reject += pmf;
+    }
+}

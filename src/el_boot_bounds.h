@@ -89,4 +89,24 @@ typedef struct {
 el_status el_boot_summarise(const el_boot_records *records, const el_modes *point,
                             double level, el_boot_result *res, el_error *err);
 
+/* Judging a coverage study (bench/calibrate.c, tests/test_coverage.c):
+ * of n independent logs, covered had the truth inside their nominal
+ * bounds. el_boot_coverage_interval writes the exact (Clopper-Pearson)
+ * two-sided interval at level (e.g. 0.95) of the true coverage to *lo and
+ * *hi: the p at which P(X >= covered) and P(X <= covered) of a
+ * binomial(n, p) are (1 - level) / 2 (0 and 1 at the ends; [0, 1] for n
+ * = 0). el_boot_coverage_judge tests a nominal coverage against the
+ * count: -1 when the count is too low for it (P(X <= covered) below
+ * (1 - level) / 2 under binomial(n, nominal)), +1 when too high, 0 when
+ * consistent (nominal inside the interval) or n = 0. el_boot_coverage_chance
+ * gives, for a method whose true coverage is exactly nominal, the chance
+ * that n logs fall outside [band_lo, band_hi] (*out_band) and that the
+ * judge rejects (*reject). Exact sums of binomial terms (lgamma); no
+ * allocation; cannot fail. */
+void el_boot_coverage_interval(size_t covered, size_t n, double level, double *lo,
+                               double *hi);
+int el_boot_coverage_judge(size_t covered, size_t n, double nominal, double level);
+void el_boot_coverage_chance(size_t n, double nominal, double band_lo, double band_hi,
+                             double level, double *out_band, double *reject);
+
 #endif

@@ -10,6 +10,7 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "el_boot_bounds.h"
 #include "el_fit.h"
 #include "el_modes.h"
 #include "el_resample.h"
@@ -386,6 +387,61 @@ static void test_hankel_slow_pole_from_lower_orders(void **state)
     assert_true(kept >= 17);
 }
 
+/* P(X <= x) of binomial(n, p) by the product form of each term (the
+ * test's own arithmetic, not the library's lgamma sums). */
+static double binom_cdf_products(size_t x, size_t n, double p)
+{
+    double s = 0.0;
+    for (size_t k = 0; k <= x; k++) {
+        double t = 1.0;
+        for (size_t i = 0; i < k; i++)
+            t *= (double)(n - i) / (double)(i + 1) * p;
+        for (size_t i = k; i < n; i++)
+            t *= 1.0 - p;
+        s += t;
+    }
+    return s;
+}
+
+/* calibrate's per-cell judgement (el_boot_coverage_interval, _judge,
+ * _chance). Checks: (1) the exact interval's closed forms at the ends
+ * (x = 0: upper end 1 - 0.025^(1/n); x = n: lower end 0.025^(1/n), from
+ * P(X = 0) = (1 - p)^n and P(X = n) = p^n); (2) inside, each end of the
+ * interval of 57 of 60 puts 2.5 % in its tail, by the test's own product
+ * sums; (3) the judge of 60 logs against 0.95 says low exactly where
+ * P(X <= x) < 0.025 (x <= 52: coverage 0.867 and below, by the product
+ * sums; 53 of 60 gives 0.0297) and never high (P(X = 60) = 0.95^60 =
+ * 0.046); (4) the chance that a method covering exactly 0.95 puts a
+ * 60-log cell outside 0.92-0.98 is P(X <= 55) + P(X >= 59) = 0.1803 +
+ * 0.1916 = 0.3719 (hand sums of the binomial terms). Tolerances: 1e-9 for
+ * the interval (bisection to 2^-60; the sums' rounding is near 1e-15 per
+ * term) and for the tails; 5e-4 for 0.3719 (its four digits). */
+static void test_coverage_binomial_judgement(void **state)
+{
+    (void)state;
+    double lo, hi;
+    el_boot_coverage_interval(0, 60, 0.95, &lo, &hi);
+    assert_close(lo, 0.0, 0.0, 1e-12);
+    assert_close(hi, 1.0 - pow(0.025, 1.0 / 60.0), 0.0, 1e-9);
+    el_boot_coverage_interval(60, 60, 0.95, &lo, &hi);
+    assert_close(lo, pow(0.025, 1.0 / 60.0), 0.0, 1e-9);
+    assert_close(hi, 1.0, 0.0, 1e-12);
+    el_boot_coverage_interval(57, 60, 0.95, &lo, &hi);
+    assert_close(1.0 - binom_cdf_products(56, 60, lo), 0.025, 0.0, 1e-9);
+    assert_close(binom_cdf_products(57, 60, hi), 0.025, 0.0, 1e-9);
+    for (size_t x = 40; x <= 60; x++) {
+        int expect = binom_cdf_products(x, 60, 0.95) < 0.025 ? -1 : 0;
+        assert_int_equal(el_boot_coverage_judge(x, 60, 0.95, 0.95), expect);
+    }
+    assert_int_equal(el_boot_coverage_judge(52, 60, 0.95, 0.95), -1);
+    assert_int_equal(el_boot_coverage_judge(53, 60, 0.95, 0.95), 0);
+    assert_int_equal(el_boot_coverage_judge(240, 240, 0.95, 0.95), 1);
+    double out_band, reject;
+    el_boot_coverage_chance(60, 0.95, 0.92, 0.98, 0.95, &out_band, &reject);
+    assert_close(out_band, 0.3719, 0.0, 5e-4);
+    assert_close(reject, binom_cdf_products(52, 60, 0.95), 0.0, 1e-9);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -394,6 +450,7 @@ int main(void)
         cmocka_unit_test(test_sensor_noise_long_log_refused),
         cmocka_unit_test(test_hankel_keeps_slow_pole),
         cmocka_unit_test(test_hankel_slow_pole_from_lower_orders),
+        cmocka_unit_test(test_coverage_binomial_judgement),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }
