@@ -600,26 +600,18 @@ out:
 
 /* The batched reader's queue: cells of the common short form
  * [+-]digits.digits, at most 8 bytes after the sign, whose values are
- * made four at a time. Read back lane by lane (a 32-byte load of four
- * 8-byte stores just made would wait for them to reach the cache). */
+ * made four at a time. Per cell only what the scalar loop has at hand is
+ * stored (the 8 bytes after the sign as loaded, and one code word: L =
+ * bytes after the sign, and the sign); the point's place, the shifts and
+ * the power of ten are worked out for four lanes at once in queue_flush.
+ * Read back lane by lane (a 32-byte load of four 8-byte stores just made
+ * would wait for them to reach the cache). */
 typedef struct {
-    uint64_t word[4];   /* the cell's 8 bytes after the sign, as loaded */
-    uint64_t shifts[4]; /* 8 * integer digits (the point byte's bit offset), and
-                           8 * (8 - digits) (right-aligns the digits) << 32 */
-    double divisor[4];  /* 10^(fraction digits), exact; negative for a '-' */
+    uint64_t word[4]; /* the cell's 8 bytes after the sign, as loaded */
+    uint64_t code[4]; /* L | (1 for '-') << 8 */
     double *dst[4];
-    unsigned n;
 } cell_queue;
 
-/* The values of the queued cells (all four lanes; unused ones hold
- * cells already done and are not stored): the point byte taken out and
- * the digits right-aligned by per-lane shifts, then the usual vector
- * digit conversion (pairs 10a + b by pmaddubsw, pairs of pairs by
- * pmaddwd, halves by a 32x32 multiply) to an integer below 10^7, exact
- * in an int32 and in a double, divided by the exact power of ten: the
- * same exact operands and the same correctly rounded division as
- * lean_cell (a negative divisor gives -(m / 10^f) exactly, -0.0 for 0),
- * so the same double in every lane. */
 /* A lane of the queue, loaded alone: the empty asm makes the compiler
  * keep it a scalar load (it would merge four into one 32-byte load,
  * which cannot take its bytes from the four recent 8-byte stores and
@@ -631,37 +623,56 @@ static HOT_INLINE long long lane_u64(const uint64_t *p)
     return v;
 }
 
-static AVX2_TARGET HOT_INLINE double lane_f64(const double *p)
-{
-    double v = *p;
-    __asm__("" : "+x"(v));
-    return v;
-}
-
+/* The values of the queued cells (all four lanes; unused ones hold
+ * cells already done, or zeros, and are not stored): the point byte (the
+ * one byte among the first L that is not a digit, 0x1E or 0x1C after
+ * the '0' is taken off) found, the bytes below it kept, those above moved
+ * down over it, and the digits right-aligned by a shift of 8 * (9 - L),
+ * then the usual vector digit conversion (pairs
+ * 10a + b by pmaddubsw, pairs of pairs by pmaddwd, halves by a 32x32
+ * multiply) to an integer below 10^7, exact in an int32 and in a double,
+ * divided by 10^(fraction digits) (from a table of floats, exact up to
+ * 10^7), negated for a '-': the same exact operands and the same
+ * correctly rounded division as lean_cell (a negative divisor gives
+ * -(m / 10^f) exactly, -0.0 for 0), so the same double in every lane. */
 static AVX2_TARGET HOT_INLINE void queue_flush(cell_queue *q, unsigned n)
 {
-    const __m256i zeros = _mm256_set1_epi8('0'), one = _mm256_set1_epi64x(1);
+    const __m256i zeros = _mm256_set1_epi8('0'), one = _mm256_set1_epi64x(1),
+                  byte = _mm256_set1_epi64x(0xFF), ones = _mm256_set1_epi64x(-1);
+    const __m256 pow10f = _mm256_setr_ps(1e0f, 1e1f, 1e2f, 1e3f, 1e4f, 1e5f, 1e6f, 1e7f);
     __m256i x = _mm256_xor_si256(
         _mm256_set_epi64x(lane_u64(&q->word[3]), lane_u64(&q->word[2]),
                           lane_u64(&q->word[1]), lane_u64(&q->word[0])),
         zeros);
-    __m256i sh = _mm256_set_epi64x(lane_u64(&q->shifts[3]), lane_u64(&q->shifts[2]),
-                                   lane_u64(&q->shifts[1]), lane_u64(&q->shifts[0]));
-    __m256i below = _mm256_sub_epi64(
-        _mm256_sllv_epi64(one, _mm256_and_si256(sh, _mm256_set1_epi64x(0xFF))), one);
+    __m256i code = _mm256_set_epi64x(lane_u64(&q->code[3]), lane_u64(&q->code[2]),
+                                     lane_u64(&q->code[1]), lane_u64(&q->code[0]));
+    __m256i len = _mm256_and_si256(code, byte);
+    __m256i neg = _mm256_slli_epi64(_mm256_srli_epi64(code, 8), 63);
+    /* the first L bytes (L = 8: a shift by 64 gives 0, all bytes kept) */
+    __m256i cell = _mm256_andnot_si256(_mm256_sllv_epi64(ones, _mm256_slli_epi64(len, 3)), ones);
+    __m256i pt = _mm256_and_si256(_mm256_cmpgt_epi8(x, _mm256_set1_epi8(9)), cell);
+    __m256i below = _mm256_andnot_si256(pt, _mm256_sub_epi64(pt, one)); /* bytes before it */
+    /* integer digits: the count of bytes below the point */
+    __m256i nint = _mm256_sad_epu8(_mm256_and_si256(below, _mm256_set1_epi8(1)),
+                                   _mm256_setzero_si256());
     x = _mm256_or_si256(_mm256_and_si256(x, below),
                         _mm256_andnot_si256(below, _mm256_srli_epi64(x, 8)));
-    x = _mm256_sllv_epi64(x, _mm256_srli_epi64(sh, 32));
+    /* 8 * (9 - L) = 72 - 8 L: the L - 1 digits to the top bytes; a shift
+     * of 64 or more (an unused lane's L = 0) gives 0. */
+    x = _mm256_sllv_epi64(x, _mm256_sub_epi64(_mm256_set1_epi64x(72), _mm256_slli_epi64(len, 3)));
     x = _mm256_maddubs_epi16(x, _mm256_set1_epi16(0x010A));  /* 10a + b */
     x = _mm256_madd_epi16(x, _mm256_set1_epi32(0x00010064)); /* 100a + b */
     x = _mm256_add_epi64(_mm256_mul_epu32(x, _mm256_set1_epi64x(10000)),
                          _mm256_srli_epi64(x, 32));
-    __m128i v32 = _mm256_castsi256_si128(
-        _mm256_permutevar8x32_epi32(x, _mm256_setr_epi32(0, 2, 4, 6, 0, 2, 4, 6)));
-    __m256d v = _mm256_div_pd(
-        _mm256_cvtepi32_pd(v32),
-        _mm256_set_pd(lane_f64(&q->divisor[3]), lane_f64(&q->divisor[2]),
-                      lane_f64(&q->divisor[1]), lane_f64(&q->divisor[0])));
+    const __m256i evens = _mm256_setr_epi32(0, 2, 4, 6, 0, 2, 4, 6);
+    __m128i v32 = _mm256_castsi256_si128(_mm256_permutevar8x32_epi32(x, evens));
+    /* fraction digits L - 1 - nint (0..7; an unused lane's index wraps
+     * to 7 and divides 0 by 10^7: no exception flag) */
+    __m256i nfrac = _mm256_sub_epi64(_mm256_sub_epi64(len, one), nint);
+    __m256 p10 = _mm256_permutevar8x32_ps(pow10f, _mm256_permutevar8x32_epi32(nfrac, evens));
+    __m256d divisor = _mm256_castsi256_pd(_mm256_xor_si256(
+        _mm256_castpd_si256(_mm256_cvtps_pd(_mm256_castps256_ps128(p10))), neg));
+    __m256d v = _mm256_div_pd(_mm256_cvtepi32_pd(v32), divisor);
     __m128d lo = _mm256_castpd256_pd128(v), hi = _mm256_extractf128_pd(v, 1);
     switch (n) {
     case 4: _mm_storeh_pd(q->dst[3], hi); /* fall through */
@@ -669,52 +680,83 @@ static AVX2_TARGET HOT_INLINE void queue_flush(cell_queue *q, unsigned n)
     case 2: _mm_storeh_pd(q->dst[1], lo); /* fall through */
     default: _mm_storel_pd(q->dst[0], lo);
     }
-    q->n = 0;
 }
 
-/* Queues the cell s[0..) ending at bit b of the window (s at bit a)
- * when it has the queue's form; 1 when queued, 0 when it is anything
- * else (then nothing changed). */
-static AVX2_TARGET HOT_INLINE int queue_cell(cell_queue *q, const char *s, unsigned a, unsigned b,
-                                             const row_masks *w, double *d)
+/* The masks of a window for the batched reader: row_masks (for lean_cell
+ * and the cells' ends) from two 32-byte loads, and the bytes that are a
+ * sign ('-' or '+') and a '-'. */
+typedef struct {
+    row_masks w;
+    uint64_t sign, minus;
+} batch_masks;
+
+static AVX2_TARGET HOT_INLINE void batch_window(const char *p, __m256i delim, __m256i dec,
+                                                batch_masks *b)
 {
-    static const double pow10[] = {1e0,  1e1,  1e2,  1e3,  1e4,  1e5,  1e6,  1e7,
-                                   -1e0, -1e1, -1e2, -1e3, -1e4, -1e5, -1e6, -1e7};
-    unsigned char c0 = (unsigned char)s[0];
-    unsigned sign = c0 == '-' || c0 == '+';
-    unsigned a1 = a + sign;
-    uint64_t cell = (~(uint64_t)0 << a1) & (((uint64_t)1 << b) - 1);
-    uint64_t point = w->point & cell;
-    if ((w->other & cell) != 0 || point == 0 || (point & (point - 1)) != 0)
-        return 0;
-    unsigned digits = b - a1 - 1, nint = (unsigned)__builtin_ctzll(point) - a1;
-    if (digits - 1 >= 7)
-        return 0;
-    unsigned i = q->n;
-    q->word[i] = load8(s + sign);
-    q->shifts[i] = 8 * nint | (uint64_t)(8 * (8 - digits)) << 32;
-    q->divisor[i] = pow10[digits - nint + 8 * (c0 == '-')];
-    q->dst[i] = d;
-    q->n = i + 1;
-    return 1;
+    const __m256i zero = _mm256_set1_epi8('0'), nine = _mm256_set1_epi8(9),
+                  newline = _mm256_set1_epi8('\n'), minus = _mm256_set1_epi8('-'),
+                  plus = _mm256_set1_epi8('+');
+    uint32_t sep[2], point[2], other[2], nl[2], sign[2], neg[2];
+    for (unsigned i = 0; i < 2; i++) {
+        __m256i x = _mm256_loadu_si256((const __m256i *)(const void *)(p + 32 * i));
+        __m256i v = _mm256_sub_epi8(x, zero);
+        __m256i digit = _mm256_cmpeq_epi8(_mm256_min_epu8(v, nine), v);
+        __m256i pt = _mm256_cmpeq_epi8(x, dec), n = _mm256_cmpeq_epi8(x, newline);
+        __m256i m = _mm256_cmpeq_epi8(x, minus);
+        sep[i] = (uint32_t)_mm256_movemask_epi8(_mm256_or_si256(_mm256_cmpeq_epi8(x, delim), n));
+        nl[i] = (uint32_t)_mm256_movemask_epi8(n);
+        point[i] = (uint32_t)_mm256_movemask_epi8(pt);
+        other[i] = ~(uint32_t)_mm256_movemask_epi8(_mm256_or_si256(digit, pt));
+        neg[i] = (uint32_t)_mm256_movemask_epi8(m);
+        sign[i] = (uint32_t)_mm256_movemask_epi8(_mm256_or_si256(m, _mm256_cmpeq_epi8(x, plus)));
+    }
+    b->w.sep = sep[0] | (uint64_t)sep[1] << 32;
+    b->w.newline = nl[0] | (uint64_t)nl[1] << 32;
+    b->w.point = point[0] | (uint64_t)point[1] << 32;
+    b->w.other = other[0] | (uint64_t)other[1] << 32;
+    b->sign = sign[0] | (uint64_t)sign[1] << 32;
+    b->minus = neg[0] | (uint64_t)neg[1] << 32;
+}
+
+/* The separators (bits of b->w.sep) that end a cell of the window made
+ * of digits and exactly one point after an optional sign, all cells at
+ * once (the window starts at a cell's start). Additions carry a flag
+ * from a byte up to the next separator (through the run of ones of
+ * ~sep; a separator is 0 there, so the carry stops on it and sets it):
+ * the cells holding a stray byte (neither digit, point, separator nor a
+ * sign at a cell's start), the cells holding a point, and the cells
+ * holding a point whose nearest point or separator before it is a point
+ * (a second point: the same carry through the bytes that are neither). */
+static HOT_INLINE uint64_t queue_form_ends(const batch_masks *b)
+{
+    uint64_t sep = b->w.sep, point = b->w.point, between = ~sep;
+    uint64_t stray = b->w.other & ~sep & ~(b->sign & ((sep << 1) | 1));
+    uint64_t events = point | sep;
+    uint64_t second = (~events + (point << 1)) & point;
+    uint64_t bad = ((between + stray) | (between + second)) & sep;
+    return (between + point) & sep & ~bad;
 }
 
 /* scan_rows_masked with the common cells queued and made four at a time
  * (queue_flush) on CPUs with AVX2: the same rows taken, the same values
- * (every other cell as scan_rows_masked reads it). The queue is emptied
- * before it returns, so only the rows' own cells are written. */
+ * (every other cell as scan_rows_masked reads it). A cell [a, b) of the
+ * window (b its separator) is queued when it is [+-]digits.digits with 1
+ * to 7 digits: its end is in queue_form_ends's mask (worked out once per
+ * window) and L = b - a - sign is 2..8 (8 bytes after the sign at
+ * most). That is the queue's form exactly (lean_cell's conditions,
+ * narrowed to 8 bytes). The queue is emptied before it returns, so only
+ * the rows' own cells are written. */
 static AVX2_TARGET const char *scan_rows_avx2(const char *p, const char *stop, const char *lim,
                                               size_t n, char delim, char dec, double *dst,
                                               size_t stride, size_t max_rows, size_t *rows)
 {
-    const __m128i vdelim = _mm_set1_epi8(delim), vnewline = _mm_set1_epi8('\n'),
-                  vdec = _mm_set1_epi8(dec);
+    const __m256i vdelim = _mm256_set1_epi8(delim), vdec = _mm256_set1_epi8(dec);
     size_t r = *rows;
     const char *base = p;
-    row_masks w = {0, 0, 0, 0};
-    uint64_t m = 0;
-    /* Unused lanes divide 0 by 1 (no exception flags raised). */
-    cell_queue q = {{0}, {0}, {1, 1, 1, 1}, {NULL}, 0};
+    batch_masks bm = {{0, 0, 0, 0}, 0, 0};
+    uint64_t m = 0, good = 0;
+    unsigned queued = 0;
+    cell_queue q = {{0}, {0}, {NULL}};
     while (p < stop && r < max_rows) {
         const char *s = p;
         double *d = dst + r;
@@ -723,18 +765,27 @@ static AVX2_TARGET const char *scan_rows_avx2(const char *p, const char *stop, c
                 if (lim - s < MASK_READS)
                     goto out;
                 base = s;
-                w = window_masks(base, vdelim, vnewline, vdec);
-                m = w.sep;
+                batch_window(base, vdelim, vdec, &bm);
+                m = bm.w.sep;
                 if (m == 0)
                     goto out;
+                good = queue_form_ends(&bm);
             }
             unsigned a = (unsigned)(s - base), b = (unsigned)__builtin_ctzll(m);
             const char *e = base + b;
             m &= m - 1;
-            if (queue_cell(&q, s, a, b, &w, d)) {
-                if (q.n == 4)
+            unsigned sg = (unsigned)(bm.sign >> a) & 1u, len = b - a - sg;
+            if (((good >> b) & 1u) != 0 && len - 2 < 7) {
+                unsigned i = queued;
+                q.word[i] = load8(s + sg);
+                q.code[i] = len | ((bm.minus >> a) & 1u) << 8;
+                q.dst[i] = d;
+                queued = i + 1;
+                if (queued == 4) {
                     queue_flush(&q, 4);
-            } else if (!lean_cell(s, a, b - a, &w, d) &&
+                    queued = 0;
+                }
+            } else if (!lean_cell(s, a, b - a, &bm.w, d) &&
                        !other_cell(s, e, lim, dec, delim, c + 1 == n, d)) {
                 goto out;
             }
@@ -752,8 +803,8 @@ static AVX2_TARGET const char *scan_rows_avx2(const char *p, const char *stop, c
         }
     }
 out:
-    if (q.n > 0)
-        queue_flush(&q, q.n);
+    if (queued > 0)
+        queue_flush(&q, queued);
     *rows = r;
     return p;
 }
@@ -794,7 +845,9 @@ const char *el_number_scan_rows_using(int path, const char *p, const char *stop,
 #if EL_ROWMASK
         if (dec != 0 && path != EL_ROWS_PLAIN) {
 #if EL_ROWS_AVX2
-            if (path == EL_ROWS_BATCHED)
+            /* The batched reader's masks need the separator, the
+             * decimal separator and the signs to be different bytes. */
+            if (path == EL_ROWS_BATCHED && dec != delim && delim != '-' && delim != '+')
                 p = scan_rows_avx2(p, stop, lim, n, delim, dec, dst, stride, max_rows, &r);
             else
 #endif

@@ -69,12 +69,26 @@ static inline size_t count_lines(const char *begin, const char *end)
 }
 
 #if defined(__x86_64__) && (defined(__GNUC__) || defined(__clang__))
+#include <immintrin.h>
 #define EL_ROWS_COUNT_AVX2 1
-/* The same loop compiled for AVX2 (32 bytes a compare; chosen at run
- * time): a count is a count, whatever the vector width. */
-__attribute__((target("avx2"))) static size_t count_lines_avx2(const char *begin, const char *end)
+/* On AVX2 CPUs (chosen at run time; every one has POPCNT): 64 bytes a
+ * step, the line ends' bits of two compares counted with popcount (about
+ * a third of the byte-sum loop's instructions), the rest by the loop
+ * above. A count is a count, whatever the method. */
+__attribute__((target("avx2,popcnt"))) static size_t count_lines_avx2(const char *begin,
+                                                                      const char *end)
 {
-    return count_lines(begin, end);
+    const __m256i nl = _mm256_set1_epi8('\n');
+    size_t count = 0;
+    const char *p = begin;
+    for (; end - p >= 64; p += 64) {
+        __m256i a = _mm256_loadu_si256((const __m256i *)(const void *)p);
+        __m256i b = _mm256_loadu_si256((const __m256i *)(const void *)(p + 32));
+        uint64_t m = (uint32_t)_mm256_movemask_epi8(_mm256_cmpeq_epi8(a, nl)) |
+                     (uint64_t)(uint32_t)_mm256_movemask_epi8(_mm256_cmpeq_epi8(b, nl)) << 32;
+        count += (size_t)_mm_popcnt_u64(m);
+    }
+    return count + count_lines(p, end);
 }
 #else
 #define EL_ROWS_COUNT_AVX2 0
@@ -83,7 +97,7 @@ __attribute__((target("avx2"))) static size_t count_lines_avx2(const char *begin
 size_t el_rows_count_lines_using(int allow_avx2, const char *begin, const char *end)
 {
 #if EL_ROWS_COUNT_AVX2
-    if (allow_avx2 && __builtin_cpu_supports("avx2"))
+    if (allow_avx2 && __builtin_cpu_supports("avx2") && __builtin_cpu_supports("popcnt"))
         return count_lines_avx2(begin, end);
 #else
     (void)allow_avx2;

@@ -364,21 +364,49 @@ static void survey_steps(const double *time, size_t first, size_t last, double d
     double intervals = 0.0, jitter = 0.0, longest_gap = 0.0, gap_missing = 0.0;
     size_t gap_row = 0;
     int on_grid = 1;
-    for (size_t r = first + 1; r <= last; r++) {
-        double step = time[r] - time[r - 1];
-        double m = intervals_of(step, dt);
-        if (m - 1 > longest_gap)
-            longest_gap = m - 1;
-        if (m - 1 > (double)max_gap && gap_row == 0) {
-            gap_row = r;
-            gap_missing = m - 1;
+    if (dt > 0.0 && dt < INFINITY && jitter_limit >= 0.0) {
+        /* One division per step, not two: dividing by a positive finite
+         * dt rounds monotonically (x <= y gives x/dt <= y/dt, also for
+         * x = inf), so the largest deviation |step - m dt| / dt is the
+         * largest numerator divided once, and (the limit being >= 0, the
+         * largest at least 0) "some deviation exceeds jitter_limit" is
+         * "the largest does". A NaN numerator fails every comparison
+         * here as it did there. The same doubles as the
+         * loop below (tests/test_timebase.c compares them). */
+        double worst = 0.0, fewest = 1.0;
+        for (size_t r = first + 1; r <= last; r++) {
+            double step = time[r] - time[r - 1];
+            double m = intervals_of(step, dt);
+            if (m - 1 > longest_gap)
+                longest_gap = m - 1;
+            if (m - 1 > (double)max_gap && gap_row == 0) {
+                gap_row = r;
+                gap_missing = m - 1;
+            }
+            double off = fabs(step - (m >= 1 ? m : 1) * dt);
+            worst = off > worst ? off : worst;
+            fewest = m < fewest ? m : fewest;
+            intervals += m;
         }
-        double deviation = fabs(step - (m >= 1 ? m : 1) * dt) / dt;
-        if (deviation > jitter)
-            jitter = deviation;
-        if (m < 1 || deviation > jitter_limit)
-            on_grid = 0;
-        intervals += m;
+        jitter = worst / dt;
+        on_grid = !(fewest < 1) && !(jitter > jitter_limit);
+    } else {
+        for (size_t r = first + 1; r <= last; r++) {
+            double step = time[r] - time[r - 1];
+            double m = intervals_of(step, dt);
+            if (m - 1 > longest_gap)
+                longest_gap = m - 1;
+            if (m - 1 > (double)max_gap && gap_row == 0) {
+                gap_row = r;
+                gap_missing = m - 1;
+            }
+            double deviation = fabs(step - (m >= 1 ? m : 1) * dt) / dt;
+            if (deviation > jitter)
+                jitter = deviation;
+            if (m < 1 || deviation > jitter_limit)
+                on_grid = 0;
+            intervals += m;
+        }
     }
     sv->intervals = intervals;
     sv->jitter = jitter;

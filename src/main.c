@@ -61,21 +61,54 @@ static void print_main_help(void)
  * process id. A value the user set is kept as it is (and is the way to
  * skip the re-exec, e.g. under a debugger). When the exec fails (no /proc)
  * the program simply goes on as before. Numbers do not change: BLAS runs
- * on one thread either way. */
+ * on one thread either way.
+ * `scan` calls no BLAS at all, and the re-exec was about 5 ms of its CPU
+ * time (the dynamic linking of OpenBLAS, LAPACK and FFTW twice; issue 13
+ * measures scan against cat): it stops the idle workers instead, through
+ * OpenBLAS's own shutdown (the one its destructor calls; a second call
+ * does nothing), declared weak so that a BLAS without it links too and
+ * gets the re-exec as before. openblas_set_num_threads must not follow
+ * (it starts the pool again when it finds it stopped, as after a fork). */
 #define REEXEC_MARK "EL_BLAS_THREADS_SET_BY_EIGENLOG"
 
-static void blas_threads_before_start(char **argv)
+#if defined(__linux__) && (defined(__GNUC__) || defined(__clang__))
+extern int blas_thread_shutdown_(void) __attribute__((weak));
+#define EL_BLAS_SHUTDOWN 1
+#else
+#define EL_BLAS_SHUTDOWN 0
+#endif
+
+/* 1 when the subcommand argv[1] calls no BLAS and OpenBLAS's workers
+ * could be stopped in this process (so no re-exec is needed). */
+static int blas_workers_stopped(char **argv)
+{
+#if EL_BLAS_SHUTDOWN
+    if (argv[0] == NULL || argv[1] == NULL || strcmp(argv[1], "scan") != 0 ||
+        blas_thread_shutdown_ == NULL)
+        return 0;
+    (void)blas_thread_shutdown_();
+    return 1;
+#else
+    (void)argv;
+    return 0;
+#endif
+}
+
+/* Returns 1 when OpenBLAS's workers were stopped (scan), else 0. */
+static int blas_threads_before_start(char **argv)
 {
 #if defined(__linux__)
     const char *set = getenv("OPENBLAS_NUM_THREADS");
     if (set == NULL || set[0] == '\0') {
+        if (blas_workers_stopped(argv))
+            return 1;
         if (setenv("OPENBLAS_NUM_THREADS", "1", 1) == 0 &&
             setenv(REEXEC_MARK, "1", 1) == 0)
             execv("/proc/self/exe", argv);
         /* exec failed: go on in this process, environment as it was */
         (void)unsetenv("OPENBLAS_NUM_THREADS");
         (void)unsetenv(REEXEC_MARK);
-        return;
+        return 0;
     }
     /* The setting was ours, for OpenBLAS's start only: what this program
      * starts (an --on-alarm hook, a user's script under survey) gets the
@@ -96,6 +129,7 @@ static void blas_threads_before_start(char **argv)
 #else
     (void)argv;
 #endif
+    return 0;
 }
 
 /* A regular log file is read through a memory map (el_source): when
@@ -224,13 +258,14 @@ static void catch_shrinking_files(void)
 
 int main(int argc, char **argv)
 {
-    blas_threads_before_start(argv);
+    int blas_stopped = blas_threads_before_start(argv);
     catch_shrinking_files();
     /* eigenlog parallelises over bootstrap replicates itself; OpenBLAS
      * threads inside each small product would only oversubscribe the
      * cores (measured: a third of the run time spent in the kernel). Also
      * when the user set OPENBLAS_NUM_THREADS to more than 1. */
-    openblas_set_num_threads(1);
+    if (!blas_stopped)
+        openblas_set_num_threads(1);
     if (argc < 2 || strcmp(argv[1], "--help") == 0 || strcmp(argv[1], "-h") == 0 ||
         strcmp(argv[1], "help") == 0) {
         print_main_help();

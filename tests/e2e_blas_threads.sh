@@ -4,10 +4,11 @@
 # constructor, before main, unless OPENBLAS_NUM_THREADS says otherwise, and
 # an idle worker spins for about 0.1 s of CPU (main.c). main.c therefore
 # executes the program again with OPENBLAS_NUM_THREADS=1 when the variable
-# is unset. Checked on `scan -` waiting for its input on a FIFO (no thread
-# of eigenlog's own runs then): the process has one thread, its
-# environment says OPENBLAS_NUM_THREADS=1, it keeps its name, and a value
-# the user set is left alone. A thread count, not a time: it does not
+# is unset; `scan`, which calls no BLAS, stops the workers in place instead
+# (no second start). Checked on `assess -` and `scan -` waiting for their
+# input on a FIFO (no thread of eigenlog's own runs then): the process has
+# one thread, assess's environment says OPENBLAS_NUM_THREADS=1, both keep
+# their name, and a value the user set is left alone. A thread count, not a time: it does not
 # depend on the load of the machine. Skipped on one core (OpenBLAS starts
 # no worker there, so the check could not fail). Linux only (/proc).
 set -u
@@ -24,17 +25,18 @@ if [ "$(nproc)" -lt 2 ] || [ ! -r /proc/self/status ]; then
     exit 0
 fi
 
-# Starts `scan -` reading the FIFO with the environment given as arguments
-# (env syntax), waits (at most 20 s, in steps of 0.05 s) until it sits in
+# Starts `eigenlog SUBCOMMAND -` reading the FIFO with the environment
+# given as arguments (env syntax), waits (at most 20 s, in steps of 0.05 s) until it sits in
 # read(2) on its standard input, the only thing it does then, and records
 # its thread count, name and OPENBLAS_NUM_THREADS in $tmp/$1.*; then closes
 # the FIFO, so it ends (exit 2: no data).
-probe() { # probe TAG ENV-ASSIGNMENTS...
+probe() { # probe TAG SUBCOMMAND ENV-ASSIGNMENTS...
     tag=$1
-    shift
+    sub=$2
+    shift 2
     rm -f "$tmp/fifo"
     mkfifo "$tmp/fifo"
-    env -u OPENBLAS_NUM_THREADS "$@" "$bin" scan - <"$tmp/fifo" >/dev/null 2>&1 &
+    env -u OPENBLAS_NUM_THREADS "$@" "$bin" "$sub" - <"$tmp/fifo" >/dev/null 2>&1 &
     pid=$!
     exec 3>"$tmp/fifo"
     i=0
@@ -52,16 +54,27 @@ probe() { # probe TAG ENV-ASSIGNMENTS...
     wait $pid
 }
 
-probe default
+probe default assess
 [ "$(cat "$tmp/default.threads")" = 1 ]
-check "scan waiting for input runs 1 thread (got $(cat "$tmp/default.threads"); an idle OpenBLAS worker would make 2)" $?
+check "assess waiting for input runs 1 thread (got $(cat "$tmp/default.threads"); an idle OpenBLAS worker would make 2)" $?
 [ "$(cat "$tmp/default.env")" = 1 ]
-check "OPENBLAS_NUM_THREADS=1 is set for the program (got '$(cat "$tmp/default.env")')" $?
+check "OPENBLAS_NUM_THREADS=1 is set for assess (got '$(cat "$tmp/default.env")')" $?
 [ "$(cat "$tmp/default.comm")" = "$(basename "$bin")" ]
 check "the process keeps its name after the re-exec (got '$(cat "$tmp/default.comm")')" $?
 
+# scan stops the workers without the re-exec: one thread, no variable set.
+probe scan scan
+[ "$(cat "$tmp/scan.threads")" = 1 ]
+check "scan waiting for input runs 1 thread (got $(cat "$tmp/scan.threads"); an idle OpenBLAS worker would make 2)" $?
+[ "$(cat "$tmp/scan.comm")" = "$(basename "$bin")" ]
+check "scan keeps its name (got '$(cat "$tmp/scan.comm")')" $?
+# (This project links the OpenBLAS built for threads, which has the
+# shutdown: a scan that was started twice would show the variable.)
+[ -z "$(cat "$tmp/scan.env")" ]
+check "scan runs without the re-exec (got OPENBLAS_NUM_THREADS='$(cat "$tmp/scan.env")')" $?
+
 # A value the user set is kept (and OpenBLAS starts the workers it asks for).
-probe user OPENBLAS_NUM_THREADS=2
+probe user scan OPENBLAS_NUM_THREADS=2
 [ "$(cat "$tmp/user.env")" = 2 ]
 check "a user's OPENBLAS_NUM_THREADS=2 is left as set (got '$(cat "$tmp/user.env")')" $?
 [ "$(cat "$tmp/user.threads")" = 2 ]

@@ -1220,10 +1220,53 @@ static void test_survey_step_from_scan(void **state)
     }
 }
 
+/* The time-base survey's jitter and resample decision are the
+ * definition's (docs/method.md: max over steps of |step - m dt| / dt with
+ * m = round(step / dt) >= 1; resample when some step is off by more than
+ * jitter_limit = 0.01 of dt or m < 1), computed here the plain way, two
+ * divisions per step, and compared bit for bit: survey_steps divides the
+ * largest numerator once (its speed-up for scan). Jitter below and above
+ * the limit, and a gap (m = 3), on logs whose stamps are not rounded (so
+ * the survey reports this jitter, not a rounded grid's). */
+static void test_survey_jitter_definition(void **state)
+{
+    (void)state;
+    for (int k = 0; k < 5; k++) {
+        size_t n = 301 + (size_t)k * 50;
+        double amp = k == 0 ? 0.0005 : k == 1 ? 0.004 : k == 2 ? 0.2 : 0.003;
+        el_table t = jittered_table(n, 5.0, 0.01, amp, 901 + (uint64_t)k);
+        if (k >= 3) {
+            el_table g = drop_rows(&t, n / 2, 2);
+            free_table(&t);
+            t = g;
+            n -= 2;
+        }
+        el_time_survey v;
+        el_error err;
+        assert_int_equal(el_timebase_survey(&t, NULL, &v, &err), EL_OK);
+        assert_true(v.usable);
+        assert_true(v.stamp_step == 0.0);
+        double dt = v.dt_step, jitter = 0.0;
+        int off_grid = 0;
+        for (size_t r = 1; r < n; r++) {
+            double step = time_of(&t, r) - time_of(&t, r - 1);
+            double m = floor(step / dt + 0.5);
+            double dev = fabs(step - (m >= 1 ? m : 1) * dt) / dt;
+            jitter = dev > jitter ? dev : jitter;
+            off_grid |= m < 1 || dev > 0.01;
+        }
+        assert_close(v.jitter, jitter, 0, 0); /* bit for bit */
+        assert_int_equal(v.resample, off_grid);
+        assert_int_equal(v.resample, k == 2);
+        free_table(&t);
+    }
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_defaults),
+        cmocka_unit_test(test_survey_jitter_definition),
         cmocka_unit_test(test_uniform_passthrough),
         cmocka_unit_test(test_uniform_inexact_times),
         cmocka_unit_test(test_small_jitter_keeps_rows),
