@@ -53,52 +53,60 @@ int el_stats_spread(const double *x, size_t n, double *mean_out, double *sd_out)
     return largest == 0.0 || sd <= 1e-12 * fabs(mean);
 }
 
-/* Lags per pass of el_stats_lagged_products: eight sums are four SSE2
- * registers, leaving room for the loads. */
+/* Lags per pass of el_stats_lagged_products: sixteen sums are eight SSE2
+ * registers, each updated once per sample, so a pass is bound by the
+ * adds' throughput rather than by the latency of fewer, longer chains
+ * (eight lags a pass: 1.5 times the time per lag). A last block of at
+ * most eight lags takes the eight-wide pass. */
+#define STATS_LAG_WIDE 16
 #define STATS_LAG_BLOCK 8
-/* Samples centred per chunk in lag_block (two stack buffers of about this
+/* Samples centred per chunk in lag_pass (two stack buffers of about this
  * many doubles, 16 KiB: they stay in the first-level cache). */
 #define STATS_CENTRED_CHUNK 1024
 
-/* One pass for the lags k0 .. k0 + b - 1 (b <= STATS_LAG_BLOCK), written
- * with s = t - k: term s of lag k is (x[s] - mean)(x[s + k] - mean), the
- * plain loop's product with its factors swapped (the same double). Every
- * lag takes s = 0 .. n - 1 - kb together (kb the block's largest lag:
- * one broadcast of x[s] times a contiguous run of x, which vectorises),
- * then its own last terms up to s = n - 1 - k: for each lag the terms
- * arrive in ascending s, as in the plain loop. */
+/* One pass of `wide` (8 or 16: a constant after inlining, so the inner
+ * loop vectorises) sums over s = 0 .. common - 1 for the lags k0 ..
+ * k0 + b - 1 (b <= wide), written with s = t - k: term s of lag k is
+ * (x[s] - mean)(x[s + k] - mean), the plain loop's product with its
+ * factors swapped (the same double). The centred values are made a chunk
+ * at a time, each subtraction once instead of once per lag; lanes beyond
+ * b multiply zeros and are not read. */
+static inline void lag_pass(const double *x, size_t common, double mean, size_t k0,
+                            size_t b, size_t wide, double *acc)
+{
+    double da[STATS_CENTRED_CHUNK], dy[STATS_CENTRED_CHUNK + STATS_LAG_WIDE];
+    for (size_t s0 = 0; s0 < common; s0 += STATS_CENTRED_CHUNK) {
+        size_t len = common - s0 < STATS_CENTRED_CHUNK ? common - s0 : STATS_CENTRED_CHUNK;
+        size_t need = len + b - 1;
+        for (size_t i = 0; i < len; i++)
+            da[i] = x[s0 + i] - mean;
+        for (size_t i = 0; i + 1 < len + wide; i++)
+            dy[i] = i < need ? x[s0 + k0 + i] - mean : 0.0;
+        for (size_t i = 0; i < len; i++) {
+            double a = da[i];
+            const double *y = dy + i;
+            for (size_t j = 0; j < wide; j++)
+                acc[j] += a * y[j];
+        }
+    }
+}
+
+/* The lags k0 .. k0 + b - 1 (b <= STATS_LAG_WIDE): every lag takes s = 0
+ * .. n - 1 - kb together (kb the block's largest lag: one broadcast of
+ * x[s] times a contiguous run of x), then its own last terms up to
+ * s = n - 1 - k: for each lag the terms arrive in ascending s, as in the
+ * plain loop, so each lag's sum is bit for bit the plain loop's whatever
+ * block it falls in. */
 static void lag_block(const double *x, size_t n, double mean, size_t k0, size_t b,
                       double *out)
 {
-    double acc[STATS_LAG_BLOCK] = {0.0};
+    double acc[STATS_LAG_WIDE] = {0.0};
     size_t kb = k0 + b - 1;
     size_t common = n > kb ? n - kb : 0;
-    if (b == STATS_LAG_BLOCK) {
-        /* The centred values a chunk at a time, each subtraction made once
-         * instead of once per lag: the same doubles, multiplied and added
-         * in the same order. */
-        double da[STATS_CENTRED_CHUNK], dy[STATS_CENTRED_CHUNK + STATS_LAG_BLOCK];
-        for (size_t s0 = 0; s0 < common; s0 += STATS_CENTRED_CHUNK) {
-            size_t len = common - s0 < STATS_CENTRED_CHUNK ? common - s0 : STATS_CENTRED_CHUNK;
-            for (size_t i = 0; i < len; i++)
-                da[i] = x[s0 + i] - mean;
-            for (size_t i = 0; i + 1 < len + STATS_LAG_BLOCK; i++)
-                dy[i] = x[s0 + k0 + i] - mean;
-            for (size_t i = 0; i < len; i++) {
-                double a = da[i];
-                const double *y = dy + i;
-                for (size_t j = 0; j < STATS_LAG_BLOCK; j++)
-                    acc[j] += a * y[j];
-            }
-        }
-    } else {
-        for (size_t s = 0; s < common; s++) {
-            double a = x[s] - mean;
-            const double *y = x + s + k0;
-            for (size_t j = 0; j < b; j++)
-                acc[j] += a * (y[j] - mean);
-        }
-    }
+    if (b > STATS_LAG_BLOCK)
+        lag_pass(x, common, mean, k0, b, STATS_LAG_WIDE, acc);
+    else
+        lag_pass(x, common, mean, k0, b, STATS_LAG_BLOCK, acc);
     for (size_t j = 0; j < b; j++)
         for (size_t s = common; s + k0 + j < n; s++)
             acc[j] += (x[s] - mean) * (x[s + k0 + j] - mean);
@@ -109,8 +117,8 @@ static void lag_block(const double *x, size_t n, double mean, size_t k0, size_t 
 void el_stats_lagged_products(const double *x, size_t n, double mean, size_t k_first,
                               size_t count, double *out)
 {
-    for (size_t j0 = 0; j0 < count; j0 += STATS_LAG_BLOCK) {
-        size_t b = count - j0 < STATS_LAG_BLOCK ? count - j0 : STATS_LAG_BLOCK;
+    for (size_t j0 = 0; j0 < count; j0 += STATS_LAG_WIDE) {
+        size_t b = count - j0 < STATS_LAG_WIDE ? count - j0 : STATS_LAG_WIDE;
         lag_block(x, n, mean, k_first + j0, b, out + j0);
     }
 }
