@@ -4,15 +4,13 @@
 #include <math.h>
 #include <stddef.h>
 
-int el_stats_spread(const double *x, size_t n, double *mean_out, double *sd_out)
+/* The mean from the plain sum of x[0..n); when the sum overflowed (or a
+ * value is not finite) a mean from the scaled values, unless a value
+ * itself is not finite. */
+static double mean_of(const double *x, size_t n, double sum)
 {
-    double sum = 0.0;
-    for (size_t k = 0; k < n; k++)
-        sum += x[k];
     double mean = sum / (double)n;
     if (!isfinite(mean)) {
-        /* The sum overflowed (or a value is not finite): a mean from the
-         * scaled values, unless a value itself is not finite. */
         double big = 0.0;
         for (size_t k = 0; k < n; k++)
             big = fabs(x[k]) > big || isnan(x[k]) ? fabs(x[k]) : big;
@@ -24,15 +22,15 @@ int el_stats_spread(const double *x, size_t n, double *mean_out, double *sd_out)
             mean = s / (double)n * big;
         }
     }
-    /* The largest deviation and the plain sum of squares in one pass
-     * (the sum is used only when the largest allows it). */
-    double largest = 0.0, ss = 0.0;
-    for (size_t k = 0; k < n; k++) {
-        double d = fabs(x[k] - mean);
-        if (d > largest || isnan(d))
-            largest = d;
-        ss += (x[k] - mean) * (x[k] - mean);
-    }
+    return mean;
+}
+
+/* The spread from the largest deviation and the plain sum of squares (the
+ * sum is used only when the largest allows it), and the result of
+ * el_stats_spread. */
+static int spread_finish(const double *x, size_t n, double mean, double largest, double ss,
+                         double *mean_out, double *sd_out)
+{
     double sd = largest;
     if (largest > 1e-150 && largest < 1e150) {
         /* Squares of n deviations this size neither underflow nor
@@ -53,11 +51,78 @@ int el_stats_spread(const double *x, size_t n, double *mean_out, double *sd_out)
     return largest == 0.0 || sd <= 1e-12 * fabs(mean);
 }
 
+int el_stats_spread(const double *x, size_t n, double *mean_out, double *sd_out)
+{
+    double sum = 0.0;
+    for (size_t k = 0; k < n; k++)
+        sum += x[k];
+    double mean = mean_of(x, n, sum);
+    /* The largest deviation and the plain sum of squares in one pass. */
+    double largest = 0.0, ss = 0.0;
+    for (size_t k = 0; k < n; k++) {
+        double d = fabs(x[k] - mean);
+        if (d > largest || isnan(d))
+            largest = d;
+        ss += (x[k] - mean) * (x[k] - mean);
+    }
+    return spread_finish(x, n, mean, largest, ss, mean_out, sd_out);
+}
+
+/* Channels summed side by side in el_stats_spread_many: four independent
+ * chains of adds overlap where one chain waits on each add's latency. */
+#define STATS_SPREAD_GROUP 4
+
+void el_stats_spread_many(const double *x, size_t n, size_t count, double *mean_out,
+                          double *sd_out, int *constant)
+{
+    for (size_t c0 = 0; c0 < count; c0 += STATS_SPREAD_GROUP) {
+        size_t g = count - c0 < STATS_SPREAD_GROUP ? count - c0 : STATS_SPREAD_GROUP;
+        if (g < STATS_SPREAD_GROUP) {
+            for (size_t j = 0; j < g; j++)
+                constant[c0 + j] = el_stats_spread(x + (c0 + j) * n, n, mean_out + c0 + j,
+                                                   sd_out + c0 + j);
+            continue;
+        }
+        const double *x0 = x + c0 * n, *x1 = x0 + n, *x2 = x1 + n, *x3 = x2 + n;
+        double s0 = 0.0, s1 = 0.0, s2 = 0.0, s3 = 0.0;
+        for (size_t k = 0; k < n; k++) {
+            s0 += x0[k];
+            s1 += x1[k];
+            s2 += x2[k];
+            s3 += x3[k];
+        }
+        double m[STATS_SPREAD_GROUP] = { mean_of(x0, n, s0), mean_of(x1, n, s1),
+                                         mean_of(x2, n, s2), mean_of(x3, n, s3) };
+        double big[STATS_SPREAD_GROUP] = { 0.0 }, ss[STATS_SPREAD_GROUP] = { 0.0 };
+        for (size_t k = 0; k < n; k++) {
+            double d0 = x0[k] - m[0], d1 = x1[k] - m[1], d2 = x2[k] - m[2],
+                   d3 = x3[k] - m[3];
+            double a0 = fabs(d0), a1 = fabs(d1), a2 = fabs(d2), a3 = fabs(d3);
+            if (a0 > big[0] || isnan(a0))
+                big[0] = a0;
+            if (a1 > big[1] || isnan(a1))
+                big[1] = a1;
+            if (a2 > big[2] || isnan(a2))
+                big[2] = a2;
+            if (a3 > big[3] || isnan(a3))
+                big[3] = a3;
+            ss[0] += d0 * d0;
+            ss[1] += d1 * d1;
+            ss[2] += d2 * d2;
+            ss[3] += d3 * d3;
+        }
+        for (size_t j = 0; j < STATS_SPREAD_GROUP; j++)
+            constant[c0 + j] = spread_finish(x + (c0 + j) * n, n, m[j], big[j], ss[j],
+                                             mean_out + c0 + j, sd_out + c0 + j);
+    }
+}
+
 /* Lags per pass of el_stats_lagged_products: sixteen sums are eight SSE2
  * registers, each updated once per sample, so a pass is bound by the
  * adds' throughput rather than by the latency of fewer, longer chains
- * (eight lags a pass: 1.5 times the time per lag). A last block of at
- * most eight lags takes the eight-wide pass. */
+ * (eight lags a pass took 1.1-1.2 times as long per lag at 1e6 samples,
+ * 20 and 51 lags). A last block of at most eight lags takes the
+ * eight-wide pass. */
 #define STATS_LAG_WIDE 16
 #define STATS_LAG_BLOCK 8
 /* Samples centred per chunk in lag_pass (two stack buffers of about this
