@@ -4,6 +4,10 @@
 #include <math.h>
 #include <stddef.h>
 
+#if defined(__SSE2__)
+#include <emmintrin.h>
+#endif
+
 /* The mean from the plain sum of x[0..n); when the sum overflowed (or a
  * value is not finite) a mean from the scaled values, unless a value
  * itself is not finite. */
@@ -120,8 +124,9 @@ void el_stats_spread_many(const double *x, size_t n, size_t count, double *mean_
 /* Lags per pass of el_stats_lagged_products: sixteen sums are eight SSE2
  * registers, each updated once per sample, so a pass is bound by the
  * adds' throughput rather than by the latency of fewer, longer chains
- * (eight lags a pass took 1.1-1.2 times as long per lag at 1e6 samples,
- * 20 and 51 lags). A last block of at most eight lags takes the
+ * (eight lags a pass took about 1.4 times as long per lag: 0.109 s
+ * against 0.075 s for 52 lags of 8 channels x 1e6 samples, with the SSE2
+ * registers of lag_pass). A last block of at most eight lags takes the
  * eight-wide pass. */
 #define STATS_LAG_WIDE 16
 #define STATS_LAG_BLOCK 8
@@ -147,6 +152,38 @@ static inline void lag_pass(const double *x, size_t common, double mean, size_t 
             da[i] = x[s0 + i] - mean;
         for (size_t i = 0; i + 1 < len + wide; i++)
             dy[i] = i < need ? x[s0 + k0 + i] - mean : 0.0;
+#if defined(__SSE2__)
+        if (wide == STATS_LAG_WIDE) {
+            /* The same products and sums as the loop below, lane j of
+             * register j / 2 for lag j, in registers instead of memory
+             * (the compiler spills the sixteen sums of the plain loop). */
+            __m128d r0 = _mm_loadu_pd(acc), r1 = _mm_loadu_pd(acc + 2),
+                    r2 = _mm_loadu_pd(acc + 4), r3 = _mm_loadu_pd(acc + 6),
+                    r4 = _mm_loadu_pd(acc + 8), r5 = _mm_loadu_pd(acc + 10),
+                    r6 = _mm_loadu_pd(acc + 12), r7 = _mm_loadu_pd(acc + 14);
+            for (size_t i = 0; i < len; i++) {
+                __m128d a = _mm_set1_pd(da[i]);
+                const double *y = dy + i;
+                r0 = _mm_add_pd(r0, _mm_mul_pd(a, _mm_loadu_pd(y)));
+                r1 = _mm_add_pd(r1, _mm_mul_pd(a, _mm_loadu_pd(y + 2)));
+                r2 = _mm_add_pd(r2, _mm_mul_pd(a, _mm_loadu_pd(y + 4)));
+                r3 = _mm_add_pd(r3, _mm_mul_pd(a, _mm_loadu_pd(y + 6)));
+                r4 = _mm_add_pd(r4, _mm_mul_pd(a, _mm_loadu_pd(y + 8)));
+                r5 = _mm_add_pd(r5, _mm_mul_pd(a, _mm_loadu_pd(y + 10)));
+                r6 = _mm_add_pd(r6, _mm_mul_pd(a, _mm_loadu_pd(y + 12)));
+                r7 = _mm_add_pd(r7, _mm_mul_pd(a, _mm_loadu_pd(y + 14)));
+            }
+            _mm_storeu_pd(acc, r0);
+            _mm_storeu_pd(acc + 2, r1);
+            _mm_storeu_pd(acc + 4, r2);
+            _mm_storeu_pd(acc + 6, r3);
+            _mm_storeu_pd(acc + 8, r4);
+            _mm_storeu_pd(acc + 10, r5);
+            _mm_storeu_pd(acc + 12, r6);
+            _mm_storeu_pd(acc + 14, r7);
+            continue;
+        }
+#endif
         for (size_t i = 0; i < len; i++) {
             double a = da[i];
             const double *y = dy + i;
