@@ -226,6 +226,9 @@ typedef struct {
     double level_fit_r2;        /* fraction of the block means' variance it explains */
     size_t level_explained;     /* channels whose movement another explanation fits
                                    better (el_regime_level_recheck); 0 after a run */
+    size_t transform_rows;      /* 0: the autocorrelation by one transform; else by
+                                   the blocked one on a grid of this many rows
+                                   (el_regime_create_using) */
     struct el_regime_work *work;/* FFT plans and scratch */
 } el_regime;
 
@@ -239,6 +242,20 @@ typedef struct {
  * create and destroy plans from one thread at a time. */
 el_status el_regime_create(size_t n_samples, size_t n_channels, el_regime **out,
                            el_error *err);
+
+/* el_regime_create with the autocorrelation's transform chosen: rows 0
+ * the single zero-padded transform of length >= 2 N - 1; a power of two
+ * rows >= 2 (at most 2 N) the blocked one: two channels at once as one
+ * complex series on a grid of rows x cols points (cols a multiple of 8,
+ * rows x cols >= 2 N - 1), transformed down the columns a batch at a time
+ * and then along the rows, so every transform works in cache.
+ * el_regime_create picks the single transform below 2^22 points (the
+ * results bit for bit those of every earlier version) and the blocked one
+ * with 2048 rows from there, where the single transform is memory-bound;
+ * the two agree to rounding (tests/test_regime.c). Other arguments,
+ * outputs and errors as el_regime_create; EL_ERR_INTERNAL for other rows. */
+el_status el_regime_create_using(size_t n_samples, size_t n_channels, size_t rows,
+                                 el_regime **out, el_error *err);
 
 /* Classifies series (the prepared series the model will be fitted to; its
  * sizes must be the plan's, else EL_ERR_INTERNAL) with opt (NULL =

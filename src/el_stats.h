@@ -17,14 +17,22 @@
  * it). Can't fail otherwise. */
 int el_stats_spread(const double *x, size_t n, double *mean, double *sd);
 
+/* el_stats_spread of count channels of n samples each, channel c at
+ * x + c n: mean[c], sd[c] and constant[c] (its return value), bit for bit
+ * el_stats_spread's, with four channels' sums taken side by side in one
+ * pass (independent chains of adds, each in el_stats_spread's order).
+ * No allocation; can't fail. */
+void el_stats_spread_many(const double *x, size_t n, size_t count, double *mean,
+                          double *sd, int *constant);
+
 /* Lagged products of the centred x[0..n): out[j] = sum_{t=k}^{n-1}
  * (x[t] - mean)(x[t-k] - mean) for the lags k = k_first + j, j = 0 ..
  * count - 1 (0 for k >= n), the sums of the sample autocovariance. Each
  * lag's sum is one accumulator added in ascending t, the order of the
  * plain double loop, so the result is that loop's bit for bit on any CPU
- * (no reassociation, no BLAS); several lags share a pass over x (eight
+ * (no reassociation, no BLAS); several lags share a pass over x (sixteen
  * independent sums per pass: the adds then overlap instead of waiting on
- * one another, and x is read once per eight lags). No allocation;
+ * one another, and x is read once per sixteen lags). No allocation;
  * x must not be NULL when n > 0. Can't fail. */
 void el_stats_lagged_products(const double *x, size_t n, double mean, size_t k_first,
                               size_t count, double *out);

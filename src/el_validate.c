@@ -131,7 +131,7 @@ double el_validate_ljung_box(const double *e, size_t n, size_t h)
         c0 += (e[t] - mean) * (e[t] - mean);
     if (!(c0 > 0.0) || !isfinite(c0))
         return NAN;
-    /* The sums of the plain loop over t, bit for bit, eight lags a pass
+    /* The sums of the plain loop over t, bit for bit, sixteen lags a pass
      * (el_stats_lagged_products); a block at a time keeps this free of
      * allocation. */
     double ck[EL_VALIDATE_LAG_CHUNK];

@@ -92,12 +92,60 @@ static void test_lagged_bitwise(void **state)
     }
 }
 
+/* el_stats_spread_many against el_stats_spread channel by channel, bit
+ * for bit (tolerance 0: the contract promises the same additions in the
+ * same order), on seven channels (a group of four and a remainder of
+ * three): normal noise on a large level, a constant channel, one at
+ * 1e-170 (the scaled path of the squares), one near 1e300 (the overflowed
+ * sum's path), one with a NaN, a short ramp, noise again; closed forms
+ * for two: the constant channel is constant with sd 0, the ramp 0..n-1
+ * has mean (n-1)/2 (exact in doubles for n = 1001). */
+static void test_spread_many_bitwise(void **state)
+{
+    (void)state;
+    size_t n = 1001, nc = 7;
+    double *x = malloc(n * nc * sizeof *x);
+    assert_non_null(x);
+    el_rng rng;
+    el_rng_seed(&rng, 11, 0);
+    for (size_t k = 0; k < n; k++) {
+        x[k] = 1e5 + el_rng_normal(&rng);
+        x[n + k] = 2.5;
+        x[2 * n + k] = 1e-170 * el_rng_normal(&rng);
+        x[3 * n + k] = 1e300 * (1.0 + 0.5 * el_rng_normal(&rng));
+        x[4 * n + k] = el_rng_normal(&rng);
+        x[5 * n + k] = (double)k;
+        x[6 * n + k] = -3.0 + 1e-3 * el_rng_normal(&rng);
+    }
+    x[4 * n + 500] = NAN;
+    double mean[7], sd[7];
+    int constant[7];
+    el_stats_spread_many(x, n, nc, mean, sd, constant);
+    for (size_t c = 0; c < nc; c++) {
+        double m1, s1;
+        int k1 = el_stats_spread(x + c * n, n, &m1, &s1);
+        assert_int_equal(constant[c], k1);
+        assert_memory_equal(&mean[c], &m1, sizeof m1);
+        assert_memory_equal(&sd[c], &s1, sizeof s1);
+    }
+    assert_int_equal(constant[1], 1);
+    assert_true(sd[1] == 0.0);
+    assert_true(mean[5] == 500.0);
+    assert_true(sd[2] > 0.0 && constant[2] == 0);
+    assert_true(isnan(mean[4]) || isnan(sd[4]));
+    /* fewer than four channels: the single path */
+    el_stats_spread_many(x + 5 * n, n, 2, mean, sd, constant);
+    assert_true(mean[0] == 500.0 && constant[1] == 0);
+    free(x);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_lagged_alternating),
         cmocka_unit_test(test_lagged_centring),
         cmocka_unit_test(test_lagged_bitwise),
+        cmocka_unit_test(test_spread_many_bitwise),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }
