@@ -207,6 +207,15 @@ static void reason_cause(const el_assessment *r, double level, el_advice *a)
                  "run with the bootstrap (--boot 1000, the default) to see whether the data "
                  "can tell either side");
         return;
+    case EL_CAUSE_RANK_FORCED:
+        snprintf(a->reason, sizeof a->reason,
+                 "the growth is not that of one mode the data determine, in a model of "
+                 "rank %zu where the rank test supports %zu: the extra directions describe "
+                 "noise",
+                 r->model.rank, r->model.tested_rank);
+        snprintf(a->next_step, sizeof a->next_step,
+                 "run without --rank (the tested rank), or with --method auto");
+        return;
     case EL_CAUSE_NEAR_UNIT_ROOT:
         snprintf(a->reason, sizeof a->reason,
                  "the least damped mode is real and slow (Re lambda %.3g 1/s, %.2g bootstrap "
@@ -298,8 +307,11 @@ static void reason_cause(const el_assessment *r, double level, el_advice *a)
                  "run without --input (if the inputs are small) or with another --method");
         return;
     case EL_CAUSE_NYQUIST:
+        /* Set only when the class holds (el_verdict): say so, so that an
+         * UNSTABLE or STABLE above this line does not read as caused by it. */
         snprintf(a->reason, sizeof a->reason,
-                 "a mode sits at the Nyquist limit: its frequency and damping are unknown");
+                 "the stability class holds, but a mode sits at the Nyquist limit: its "
+                 "frequency and damping, and so the fixed point's type, are unknown");
         snprintf(a->next_step, sizeof a->next_step,
                  "sample faster, or low-pass filter before logging");
         return;

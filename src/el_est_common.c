@@ -1145,6 +1145,7 @@ el_status el_est_instrument_basis(el_est_plan *plan, const el_series *series,
         return st;
     model->rank_was_auto = rank_opt <= 0;
     model->rank = res.rank;
+    model->tested_rank = res.test_rank;
     if (rank_opt <= 0 && res.rank < d)
         st = el_warnings_add(warnings,
                              "%s: the past measurements predict %zu of the %zu state "

@@ -121,6 +121,8 @@ typedef struct {
     size_t rank;              /* rank used (== state_dim for a full-rank fit) */
     int rank_was_auto;        /* 1: rank chosen from the data (hard threshold, or the
                                  test of the canonical correlations) */
+    size_t tested_rank;       /* iv/ssi: the rank the test of the canonical correlations
+                                 supports, also when --rank sets another (0: no test) */
     el_method method;
     size_t depth;             /* past block rows used by the instrument step (iv, ssi;
                                  fb/tls with --rank auto); 0 when it did not run */

@@ -1096,6 +1096,7 @@ static const struct {
 } WARNING_CODES[] = {
     {"method_inconsistent", "withheld for this method"},
     {"near_unit_root", "cannot tell it from a random walk"},
+    {"rank_forced", "more states than the rank test supports"},
     {"no_dynamics", "cannot be told from white noise"},
     {"no_dynamics", "the data shows no dynamics"},
     {"sustained_oscillation", "possible sustained nonlinear oscillation"},

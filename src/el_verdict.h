@@ -43,8 +43,11 @@ typedef enum {
     EL_CAUSE_METHOD_INCONSISTENT,/* the chosen estimator is known not to converge to
                                     the truth on what this log shows: its bounds are
                                     no bounds at their level (el_verdict_method_fault) */
-    EL_CAUSE_NEAR_UNIT_ROOT      /* the least damped mode is real and the data cannot
+    EL_CAUSE_NEAR_UNIT_ROOT,     /* the least damped mode is real and the data cannot
                                     tell it from a random walk (el_verdict_unit_root) */
+    EL_CAUSE_RANK_FORCED         /* an "unstable" rests on a mode the data do not
+                                    determine, in a model given more states (--rank)
+                                    than the rank test supports */
 } el_verdict_cause;
 
 /* "stable", "unstable", "marginal", "undecided"; "unknown" else. Static. */

@@ -463,6 +463,7 @@ static void test_advice_words(void **state)
     r.verdict.cause = EL_CAUSE_NYQUIST;
     el_advice_assess(&r, 0.95, &adv);
     assert_non_null(strstr(adv.next_step, "sample faster"));
+    assert_non_null(strstr(adv.reason, "the stability class holds"));
 }
 
 static void test_few_cycles_cause(void **state)

@@ -656,6 +656,64 @@ static void test_near_unit_root(void **state)
     fitted_free(&f);
 }
 
+/* iv/ssi given more states than the rank test supports (--rank): an
+ * "unstable" stands only when the least damped mode is determined by the
+ * data and grows in its own replicates. A spiral source (0.5 +/- 2i 1/s)
+ * with hand-made bounds: narrow and growing -> unstable; damping bounds
+ * spanning 1.0 (> 0.5) or replicates of the mode on both sides of zero ->
+ * undecided, cause rank_forced; the same with the rank chosen by the test,
+ * or not above the tested rank -> unstable. Exact comparisons: the rule
+ * reads counts and interval widths, no tolerance involved. */
+static void test_rank_forced_unstable(void **state)
+{
+    (void)state;
+    const double a[4] = {0.5, -2.0, 2.0, 0.5};
+    fitted f;
+    fit_plane_system(a, &f);
+    el_warnings_free(&f.warnings);
+    assert_int_equal(f.modes.n_modes, 1);
+    test_boot tb;
+    boot_init(&tb, 0.0);
+    tb.b.has_plane = 0;
+    tb.bounds[0].re = (el_interval){0.4, 0.6};
+    tb.bounds[0].damping_ratio = (el_interval){-0.3, -0.2};
+    tb.bounds[0].decay_rate = (el_interval){-0.6, -0.4};
+    tb.b.lambda_re = tb.samples;
+    for (size_t r = 0; r < 100; r++)
+        tb.samples[r] = 0.5;
+    f.model.rank = 2;
+    f.model.tested_rank = 1;
+    f.model.rank_was_auto = 0;
+    el_verdict v;
+    assert_int_equal(el_verdict_compute(&f.modes, &f.model, &tb.b, 0.95, &v, &f.warnings,
+                                        NULL), EL_OK);
+    assert_int_equal(v.stability, EL_UNSTABLE);
+    tb.bounds[0].damping_ratio = (el_interval){-0.9, 0.1};
+    assert_int_equal(el_verdict_compute(&f.modes, &f.model, &tb.b, 0.95, &v, &f.warnings,
+                                        NULL), EL_OK);
+    assert_int_equal(v.stability, EL_UNDECIDED);
+    assert_int_equal(v.cause, EL_CAUSE_RANK_FORCED);
+    assert_string_equal(el_verdict_cause_code(v.cause), "rank_forced");
+    assert_true(has_warning(&f.warnings, "more states than the rank test supports"));
+    el_warnings_free(&f.warnings);
+    tb.bounds[0].damping_ratio = (el_interval){-0.3, -0.2};
+    for (size_t r = 0; r < 100; r += 2)
+        tb.samples[r] = -0.5;
+    assert_int_equal(el_verdict_compute(&f.modes, &f.model, &tb.b, 0.95, &v, &f.warnings,
+                                        NULL), EL_OK);
+    assert_int_equal(v.cause, EL_CAUSE_RANK_FORCED);
+    f.model.rank_was_auto = 1;
+    assert_int_equal(el_verdict_compute(&f.modes, &f.model, &tb.b, 0.95, &v, &f.warnings,
+                                        NULL), EL_OK);
+    assert_int_equal(v.stability, EL_UNSTABLE);
+    f.model.rank_was_auto = 0;
+    f.model.tested_rank = 2;
+    assert_int_equal(el_verdict_compute(&f.modes, &f.model, &tb.b, 0.95, &v, &f.warnings,
+                                        NULL), EL_OK);
+    assert_int_equal(v.stability, EL_UNSTABLE);
+    fitted_free(&f);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -671,6 +729,7 @@ int main(void)
         cmocka_unit_test(test_bad_arguments),
         cmocka_unit_test(test_nstate_types_and_nyquist),
         cmocka_unit_test(test_near_unit_root),
+        cmocka_unit_test(test_rank_forced_unstable),
     };
     return cmocka_run_group_tests_name("verdict", tests, NULL, NULL);
 }
