@@ -716,6 +716,7 @@ el_status el_fit_plan_execute_inputs(el_fit_plan *plan, const el_series *series,
     model->dt = series->dt;
     model->depth = 0;
     model->n_canonical = 0;
+    model->tested_rank = 0;   /* a reused model must not keep an earlier iv fit's */
     model->subspace_order = 0;
     model->subspace_rows = 0;
     model->subspace_physical = 0;

@@ -116,6 +116,39 @@ static void test_fewer_sensors_than_states(void **state)
     el_warnings_free(&w);
 }
 
+/* model.tested_rank (the rank the canonical-correlation test supports,
+ * which the verdict's rank_forced rule reads) is iv's: iv with --rank full
+ * on the fixture sets it below the rank; a least-squares fit into the same
+ * model afterwards (as track's windows reuse one) must not keep it, or an
+ * ls "unstable" would be judged by iv's test. */
+static void test_tested_rank_not_kept(void **state)
+{
+    (void)state;
+    el_series s;
+    fixture_series(&s);
+    el_fit_options opt;
+    el_fit_defaults(&opt);
+    opt.method = EL_METHOD_IV;
+    opt.rank = EL_RANK_ALL;
+    opt.lags = 3;
+    el_model m;
+    memset(&m, 0, sizeof m);
+    el_warnings w = { 0 };
+    el_error err;
+    el_error_clear(&err);
+    assert_int_equal(el_fit(&s, &opt, &m, &w, &err), EL_OK);
+    assert_true(m.tested_rank > 0);
+    assert_true(m.rank > m.tested_rank);
+    assert_int_equal(m.rank_was_auto, 0);
+    el_fit_defaults(&opt);
+    opt.lags = 3;
+    assert_int_equal(el_fit(&s, &opt, &m, &w, &err), EL_OK);
+    assert_int_equal(m.method, EL_METHOD_LS);
+    assert_int_equal(m.tested_rank, 0);
+    el_model_free(&m);
+    el_warnings_free(&w);
+}
+
 /* The subspace stage's horizon for s with iv's cap of 120 rows: what the
  * prepare hook starts from. */
 static el_subspace_horizon iv_horizon(const el_series *s)
@@ -215,6 +248,7 @@ int main(void)
 {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_fewer_sensors_than_states),
+        cmocka_unit_test(test_tested_rank_not_kept),
         cmocka_unit_test(test_prepare_rules),
         cmocka_unit_test(test_prepare_long_log_capped),
     };
