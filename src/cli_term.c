@@ -169,23 +169,22 @@ void cli_progress_stage(void *ctx, const char *stage, size_t done, size_t total)
     if (p == NULL || stage == NULL)
         return;
     pthread_mutex_lock(&p->mu);
-    if (!p->active || strcmp(p->stage, stage) != 0) {
+    int fresh = !p->active || strcmp(p->stage, stage) != 0;
+    if (fresh) {
         clear_line(p);
         snprintf(p->stage, sizeof p->stage, "%s", stage);
         clock_gettime(CLOCK_MONOTONIC, &p->started);
         p->active = 1;
-        p->done = done;
-        p->total = total;
-        /* No delay asked: a new stage is drawn at once, not at the next
-         * tick, so one shorter than a tick is seen too (tests/e2e_term.sh). */
-        if (p->delay_s <= 0.0 && !(total > 0 && done >= total))
-            draw_line(p);
     }
     p->done = done;
     p->total = total;
     if (total > 0 && done >= total) {
         clear_line(p);
         p->active = 0;
+    } else if (fresh && p->delay_s <= 0.0) {
+        /* No delay asked: a new stage is drawn at once, not at the next
+         * tick, so one shorter than a tick is seen too (tests/e2e_term.sh). */
+        draw_line(p);
     }
     pthread_mutex_unlock(&p->mu);
 }

@@ -5,16 +5,11 @@
 #include <stdlib.h>
 #include <string.h>
 
-static int same_cell(double a, double b)
-{
-    return a == b || (isnan(a) && isnan(b));
-}
-
 static int same_row(const el_table *t, size_t r)
 {
     size_t n = t->n_rows;
     for (size_t c = 0; c < t->n_columns; c++)
-        if (!same_cell(t->values[c * n + r], t->values[c * n + r - 1]))
+        if (!el_dedup_same_cell(t->values[c * n + r], t->values[c * n + r - 1]))
             return 0;
     return 1;
 }
@@ -48,10 +43,8 @@ static void compact(el_table *t, const unsigned char *keep, size_t n_kept)
     t->n_rows = n_kept;
 }
 
-el_status el_table_drop_repeats(el_table *t, size_t *dropped, el_error *err)
+el_status el_table_drop_repeats(el_table *t, el_error *err)
 {
-    if (dropped != NULL)
-        *dropped = 0;
     if (t == NULL)
         return el_error_set(err, EL_ERR_INTERNAL, "el_table_drop_repeats: NULL table");
     size_t n = t->n_rows;
@@ -97,7 +90,5 @@ el_status el_table_drop_repeats(el_table *t, size_t *dropped, el_error *err)
     }
     compact(t, keep, n - same);
     free(keep);
-    if (dropped != NULL)
-        *dropped = same;
     return EL_OK;
 }

@@ -15,6 +15,7 @@
 #ifndef EL_DEDUP_H
 #define EL_DEDUP_H
 
+#include <math.h>
 #include <stddef.h>
 
 #include "el_error.h"
@@ -25,15 +26,21 @@
  * steps) and its identical rows are kept. */
 #define EL_DEDUP_MAX_SHARE 0.25
 
+/* Two cells hold the same reading: equal, or both missing (NaN). The rule
+ * of el_table_drop_repeats, also applied row by row by el_follow. */
+static inline int el_dedup_same_cell(double a, double b)
+{
+    return a == b || (isnan(a) && isnan(b));
+}
+
 /* Drops from *t every row equal to the row before it in the time column
- * and in every other column (bit for bit, a missing cell equal to a
- * missing cell), unless more than EL_DEDUP_MAX_SHARE of the steps repeat
- * the time. Columns, source lines, source files and missing counts are
- * compacted in place (no allocation beyond a byte per row while rows are
- * dropped); one note in t->notes gives the count and the first such line.
- * *dropped (may be NULL) receives the count. EL_ERR_NOMEM (err set, the
+ * and in every other column (el_dedup_same_cell), unless more than
+ * EL_DEDUP_MAX_SHARE of the steps repeat the time. Columns, source lines,
+ * source files and missing counts are compacted in place (no allocation
+ * beyond a byte per row while rows are dropped); one note in t->notes
+ * gives the count and the first such line. EL_ERR_NOMEM (err set, the
  * table unchanged) when the note or the scratch cannot be allocated;
  * EL_ERR_INTERNAL for a NULL table. */
-el_status el_table_drop_repeats(el_table *t, size_t *dropped, el_error *err);
+el_status el_table_drop_repeats(el_table *t, el_error *err);
 
 #endif

@@ -12,6 +12,7 @@
 #include <sys/stat.h>
 #include <unistd.h>
 
+#include "el_dedup.h"
 #include "el_timebase.h"
 
 /* The interval is the median step of this many first rows (plus one): a
@@ -504,8 +505,8 @@ static el_status bad_row(el_follow *f, el_error *err)
 static int repeats_last(const el_follow *f, const el_table *t, size_t r)
 {
     for (size_t c = 0; c < t->n_columns; c++) {
-        double v = t->values[c * t->n_rows + r], w = f->last_row[c];
-        if (c != t->time_column && !(v == w || (isnan(v) && isnan(w))))
+        if (c != t->time_column &&
+            !el_dedup_same_cell(t->values[c * t->n_rows + r], f->last_row[c]))
             return 0;
     }
     return 1;

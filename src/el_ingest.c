@@ -1337,7 +1337,7 @@ static el_status read_stream(FILE *stream, const char *name, const el_ingest_opt
     st = el_table_finish(table, info.text_line, err);
     free(info.text_line);
     if (st == EL_OK && (opt == NULL || !opt->keep_repeats))
-        st = el_table_drop_repeats(table, NULL, err);
+        st = el_table_drop_repeats(table, err);
     if (st != EL_OK)
         el_table_free(table);
     return st;
@@ -1445,7 +1445,7 @@ el_status el_table_read_files(const char *const *paths, size_t n_paths,
     if (st == EL_OK)
         st = el_table_finish(table, text_line, err);
     if (st == EL_OK && (opt == NULL || !opt->keep_repeats))
-        st = el_table_drop_repeats(table, NULL, err);
+        st = el_table_drop_repeats(table, err);
     for (size_t i = 0; parts != NULL && i < n_paths; i++) {
         el_table_free(&parts[i]);
         free(lines[i]);
