@@ -301,6 +301,9 @@ struct el_follow {
     el_ingest_options ingest;
     el_buf header;                /* the first file's header line (no LF) */
     int have_header, expect_header;
+    el_buf units;                 /* its row of units under the header (no LF), if any */
+    int has_units, units_decided; /* units holds one; the first file's is judged */
+    int expect_units;             /* the next line may be the units row */
     char source[256];             /* current file, for messages */
     el_table ref;                 /* the first parsed rows: columns, units, time kind */
     int have_ref;
@@ -371,6 +374,7 @@ void el_follow_destroy(el_follow *f)
     if (f == NULL)
         return;
     el_buf_free(&f->header);
+    el_buf_free(&f->units);
     el_table_free(&f->ref);
     free(f->cols);
     free(f->last_row);
@@ -442,6 +446,34 @@ static el_status take_header(el_follow *f, const char *s, size_t n, long line, e
     el_error_hint(err, "a followed log must keep its columns; start a new run for the new "
                        "columns");
     return EL_ERR_DATA;
+}
+
+/* Line in a parse (header, units row if any, data lines) of its first
+ * data line. */
+static long header_rows(const el_follow *f)
+{
+    return f->has_units ? 3 : 2;
+}
+
+/* Whether the line after a header is the log's row of units, kept then
+ * with the header for every parse (ingest reads it as units, not as a
+ * row). The first file's is judged by ingest's own rule; a later file's
+ * must be the same line to be taken as its units. */
+static int units_row(el_follow *f, const char *s, size_t n)
+{
+    if (f->units_decided)
+        return f->has_units && n == f->units.length && memcmp(s, f->units.data, n) == 0;
+    f->units_decided = 1;
+    el_buf probe = {0};
+    el_buf_append(&probe, f->header.data, f->header.length);
+    el_buf_append(&probe, "\n", 1);
+    el_buf_append(&probe, s, n);
+    el_buf_append(&probe, "\n", 1);
+    int yes = !probe.failed && el_ingest_units_row(probe.data, probe.length, &f->ingest);
+    el_buf_free(&probe);
+    if (yes && el_buf_append(&f->units, s, n) == EL_OK && !f->units.failed)
+        f->has_units = 1;
+    return f->has_units;
 }
 
 /* The channels and inputs as table columns, from the first parsed rows. */
@@ -537,7 +569,7 @@ static el_status keep_rows(el_follow *f, const el_table *t, el_error *err)
     el_status st = EL_OK;
     for (size_t r = 0; st == EL_OK && r < t->n_rows; r++) {
         double time = t->values[t->time_column * t->n_rows + r] + shift;
-        long line = f->parse_lines[t->source_line[r] - 2];
+        long line = f->parse_lines[t->source_line[r] - header_rows(f)];
         if (f->have_last && time == f->last_t && repeats_last(f, t, r)) {
             st = note_repeat(f, line, err);
             continue;
@@ -599,11 +631,12 @@ static el_status parse_rows(el_follow *f, size_t k, el_error *err)
         }
         el_table_free(&t);
         /* A bad data line: its place in parse, then its line in the file. */
-        if (st != EL_ERR_DATA || e.line < 2 || (size_t)(e.line - 2) >= k) {
+        long first = header_rows(f);
+        if (st != EL_ERR_DATA || e.line < first || (size_t)(e.line - first) >= k) {
             *err = e;
             return st;
         }
-        size_t bad = (size_t)(e.line - 2);
+        size_t bad = (size_t)(e.line - first);
         e.line = f->parse_lines[bad];
         *err = e;
         if ((st = bad_row(f, err)) != EL_OK)
@@ -611,6 +644,8 @@ static el_status parse_rows(el_follow *f, size_t k, el_error *err)
         /* Cut the line out of parse and its number out of parse_lines. */
         char *p = f->parse.data;
         char *line = strchr(p, '\n') + 1;
+        if (f->has_units)
+            line = strchr(line, '\n') + 1;
         for (size_t i = 0; i < bad; i++)
             line = strchr(line, '\n') + 1;
         char *next = strchr(line, '\n') + 1;
@@ -643,10 +678,18 @@ el_status el_follow_add_lines(el_follow *f, const char *text, size_t len, size_t
             el_status st = EL_OK;
             if (f->expect_header) {
                 st = take_header(f, s, n, line, err);
+                f->expect_units = st == EL_OK;
+            } else if (f->expect_units && units_row(f, s, n)) {
+                f->expect_units = 0;
             } else {
+                f->expect_units = 0;
                 if (k == 0) {
                     el_buf_append(&f->parse, f->header.data, f->header.length);
                     el_buf_append(&f->parse, "\n", 1);
+                    if (f->has_units) {
+                        el_buf_append(&f->parse, f->units.data, f->units.length);
+                        el_buf_append(&f->parse, "\n", 1);
+                    }
                 }
                 el_buf_append(&f->parse, s, n);
                 el_buf_append(&f->parse, "\n", 1);

@@ -9,8 +9,8 @@
 #include <errno.h>
 #include <math.h>
 #include <stdarg.h>
-#include <stdlib.h>
 #include <stdint.h>
+#include <stdlib.h>
 #include <string.h>
 #include <sys/mman.h>
 #include <unistd.h>
@@ -92,6 +92,7 @@ typedef struct {
     el_error skip_error;      /* the error the first skipped text cell would have
                                  been: given when no number column is left */
     int skipped_any;
+    int time_unit_from_row;   /* 1: the time column's unit came from a units row */
     size_t first_row_bytes;   /* length of the first data row (size estimates) */
     size_t threads;           /* el_ingest_options.threads, 0 resolved */
     int chunks_tried;         /* 1: the parallel read was considered */
@@ -694,6 +695,105 @@ static el_status read_header(ingest *g, const el_ingest_options *opt)
 }
 
 /* ------------------------------------------------------------------ */
+/* A row of units under the header                                    */
+
+/* The cell of field c, trimmed, without one pair of enclosing brackets or
+ * parentheses ("[bar]", "(s)"): the unit as written. */
+static void unit_cell(const ingest *g, size_t c, const char **s, size_t *n)
+{
+    *s = g->spans[c].text;
+    *n = g->spans[c].length;
+    el_text_trim(s, n);
+    if (*n >= 2 && (((*s)[0] == '[' && (*s)[*n - 1] == ']')
+                    || ((*s)[0] == '(' && (*s)[*n - 1] == ')'))) {
+        (*s)++;
+        *n -= 2;
+        el_text_trim(s, n);
+    }
+}
+
+/* 1 when the record just split is a row of units: its time cell names a
+ * unit of time and no cell holds a number. A data row's time cell is a
+ * number or a date-time, never a unit, so no data row is taken for one. */
+static int is_units_row(const ingest *g, size_t n_fields)
+{
+    if (n_fields != g->n_columns)
+        return 0;
+    const char *s;
+    size_t n;
+    double scale, v;
+    const char *name;
+    unit_cell(g, g->t->time_column, &s, &n);
+    if (n == 0 || !el_time_unit_lookup(s, n, &scale, &name))
+        return 0;
+    char decimal = g->decimal;
+    for (size_t c = 0; c < g->n_columns; c++) {
+        s = g->spans[c].text;
+        n = g->spans[c].length;
+        el_text_trim(&s, &n);
+        char d = decimal;
+        if (n > 0 && el_number_parse(s, n, &d, g->delim, &v) == EL_NUM_OK)
+            return 0;
+    }
+    return 1;
+}
+
+/* Gives each column the unit the units row writes for it; a column whose
+ * header already names a unit must name the same one. */
+static el_status take_units(ingest *g, const record *r)
+{
+    el_table *t = g->t;
+    for (size_t c = 0; c < g->n_columns; c++) {
+        const char *s;
+        size_t n;
+        unit_cell(g, c, &s, &n);
+        if (n == 0)
+            continue;
+        if (t->units[c][0] != '\0') {
+            if (strlen(t->units[c]) == n && memcmp(t->units[c], s, n) == 0)
+                continue;
+            char shown[CELL_SHOW_MAX * 4 + 8];
+            show_cell(s, n, shown, sizeof shown);
+            return fail_at(g, r, g->spans[c].raw,
+                           "write each unit once: in the header as \"name [unit]\" or in "
+                           "the row of units under it",
+                           "the row of units gives \"%s\" for \"%.100s\", whose header says "
+                           "\"%.40s\"",
+                           shown, t->names[c], t->units[c]);
+        }
+        char *u = malloc(n + 1);
+        if (u == NULL)
+            return no_memory(g);
+        memcpy(u, s, n);
+        u[n] = '\0';
+        free(t->units[c]);
+        t->units[c] = u;
+        if (c == t->time_column)
+            g->time_unit_from_row = 1;
+    }
+    t->units_line = r->line;
+    return EL_OK;
+}
+
+static el_status parse_row(ingest *g, const record *r, size_t n_fields);
+
+/* Reads the first record after the header: a row of units (many loggers
+ * write one: "s,bar,l/min") is taken as the columns' units, anything else
+ * is the first data row, read as read_rows reads every row. */
+static el_status first_row(ingest *g)
+{
+    record r;
+    int found;
+    size_t n;
+    el_status st = next_record(g, &r, &found);
+    if (st != EL_OK || !found)
+        return st;
+    if ((st = split_record(g, &r, &n)) != EL_OK)
+        return st;
+    return is_units_row(g, n) ? take_units(g, &r) : parse_row(g, &r, n);
+}
+
+/* ------------------------------------------------------------------ */
 /* Data rows                                                          */
 
 /* Rows the rest of a mapped file will give beside those read, from its
@@ -824,8 +924,8 @@ static el_status parse_time_cell(ingest *g, const record *r, const span *f, doub
                           rc == EL_NUM_RANGE ? "out of range" : "neither a number nor a date-time",
                           "write the time as a number (e.g. seconds) or as an ISO 8601 "
                           "date-time like 2026-03-14T08:00:00.250+01:00; a row of units "
-                          "under the header is not read: remove it and write each unit "
-                          "in the header, as \"t [s]\" or \"p [bar]\"");
+                          "under the header is read only when its time cell names a unit "
+                          "of time (s, ms, min, h) and no cell is a number");
     }
     el_iso_time it;
     const char *why = iso ? el_iso_parse(s, n, &it) : NULL;
@@ -1237,7 +1337,7 @@ static el_status decide_time_unit(ingest *g, const el_ingest_options *opt)
                                   "year), or choose the time column with --time");
             return EL_ERR_DATA;
         }
-        how = "header";
+        how = g->time_unit_from_row ? "units row" : "header";
     } else if (!el_time_unit_from_name(t->names[tc], &scale, &unit, &how)) {
         unit = "s";
         scale = 1.0;
@@ -1281,6 +1381,8 @@ static el_status read_one(FILE *stream, const char *name, const el_ingest_option
     if (st == EL_OK)
         st = read_header(&g, opt);
     if (st == EL_OK)
+        st = first_row(&g);
+    if (st == EL_OK)
         st = read_rows(&g);
     if (st == EL_OK)
         compact(&g);
@@ -1316,6 +1418,44 @@ static el_status read_one(FILE *stream, const char *name, const el_ingest_option
     }
     info->text_line = g.text_line;
     return EL_OK;
+}
+
+int el_ingest_units_row(const char *text, size_t n, const el_ingest_options *opt)
+{
+    FILE *fp = fmemopen((void *)(uintptr_t)text, n, "r");
+    if (fp == NULL)
+        return 0;
+    el_table t;
+    memset(&t, 0, sizeof t);
+    el_error err;
+    el_error_clear(&err);
+    ingest g;
+    memset(&g, 0, sizeof g);
+    el_source_init(&g.rd, fp, "units probe", &err);
+    g.name = "units probe";
+    g.err = &err;
+    g.t = &t;
+    g.threads = 1;
+    if (opt != NULL && (opt->decimal == '.' || opt->decimal == ','))
+        g.decimal = opt->decimal;
+    int yes = 0;
+    if (el_source_start(&g.rd) == EL_OK && read_header(&g, opt) == EL_OK) {
+        record r;
+        int found;
+        size_t fields;
+        if (next_record(&g, &r, &found) == EL_OK && found
+            && split_record(&g, &r, &fields) == EL_OK)
+            yes = is_units_row(&g, fields);
+    }
+    el_source_close(&g.rd);
+    free(g.spans);
+    free(g.scratch);
+    free(g.col_kind);
+    free(g.wanted);
+    free(g.text_line);
+    el_table_free(&t);
+    fclose(fp);
+    return yes;
 }
 
 /* el_table_read_stream with a thread count (el_table_read_threads). */

@@ -59,14 +59,17 @@ el_status el_table_read_files(const char *const *paths, size_t n_paths,
  * it is read (zlib); RFC 4180 quoting; first non-comment
  * row is the header, each name optionally followed by a unit written
  * "name [unit]" (a header cell that is only "[unit]" keeps it all as its
- * name); delimiter detected among comma, semicolon and tab from
- * the header row; decimal comma as opt->decimal says; lines whose first
+ * name); a row of units right under the header (its time cell names a
+ * unit of time, no cell is a number: el_ingest_units_row) gives the
+ * columns their units (one the header also gives must be the same, else
+ * EL_ERR_DATA at that cell) and is no data row; delimiter detected among
+ * comma, semicolon and tab from the header row; decimal comma as opt->decimal says; lines whose first
  * non-blank character is '#' are comments and blank lines are skipped,
  * anywhere; LF, CRLF and CR-only line ends (CR-only when the first line
  * end is a lone CR); a UTF-8 byte-order mark is skipped; no line-length
  * limit. Text columns not asked for are skipped (see el_ingest_options).
  * The time unit comes from opt->time_unit, else the time column's header
- * (el_time_unit_parse on its "[unit]", a "(unit)" or "/unit" or "_unit"
+ * or units row (el_time_unit_parse on its "[unit]", a "(unit)" or "/unit" or "_unit"
  * ending of its name, or a name that is a unit such as "hours" or
  * "year"), else seconds; the time numbers are converted to seconds. Empty, NA and NaN
  * cells (any case, blanks trimmed) are missing; any other cell must be a
@@ -98,6 +101,14 @@ el_status el_table_read(const char *path, const el_ingest_options *opt,
  * its rows are the rows the sequential reader would have read. */
 el_status el_table_read_threads(const char *path, const el_ingest_options *opt,
                                 size_t threads, el_table *table, el_error *err);
+
+/* 1 when text (n bytes: a header line, then one more line) has under its
+ * header a row of units, as el_table_read takes one: the time cell names
+ * a unit of time and no cell holds a number; 0 otherwise, also when the
+ * header itself cannot be read (the read of the log then says why). For
+ * a reader that gets a log line by line (track --follow) and must keep
+ * that row with the header. opt as for el_table_read (may be NULL). */
+int el_ingest_units_row(const char *text, size_t n, const el_ingest_options *opt);
 
 /* As el_table_read, from an open stream; name is used in messages. The
  * stream is read to its end (a regular file at offset 0 is mapped, and

@@ -36,8 +36,11 @@ typedef struct {
     char time_unit[16];        /* unit the log's times were written in: "s", "ms",
                                   "us", "ns", "min", "h", "d" or "year" */
     char time_unit_source[24]; /* how it was found: "header" (time [ms], t (s), t/s),
+                                  "units row" (a row of units under the header),
                                   "column name" (time_s, hours), "--time-unit",
                                   "assumed" (no unit anywhere: seconds), "iso8601" */
+    long units_line;           /* line of a row of units under the header (its units
+                                  are in units[]), 0 when the file has none */
     char delimiter;            /* ',', ';' or '\t' as detected */
     char decimal;              /* '.' or ',' (decimal comma, detected or --decimal) */
     char source[256];          /* path as given, or "<stdin>"; several files:

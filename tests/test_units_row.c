@@ -1,0 +1,158 @@
+/* test_units_row: a row of units under the header, as many data loggers
+ * export it ("s,bar,l/min"), gives the columns their units and the time
+ * its unit; a row that is not one is read as data exactly as before; a
+ * unit given twice must agree; track --follow keeps the row with the
+ * header (el_ingest.h, el_follow.h). The expected values are written out
+ * by hand from the CSV text; times compare exactly where the scale is a
+ * power of ten applied once to a short decimal (10 ms = 0.01 s is the
+ * double nearest 0.01 either way: both sides round once). */
+#include "el_test.h"
+
+#include <stdlib.h>
+#include <string.h>
+
+#include "el_follow.h"
+#include "el_ingest.h"
+
+static el_status read_text(const char *text, el_table *t, el_error *e)
+{
+    FILE *fp = tmpfile();
+    assert_non_null(fp);
+    assert_int_equal(fwrite(text, 1, strlen(text), fp), strlen(text));
+    rewind(fp);
+    el_status st = el_table_read_stream(fp, "units.csv", NULL, t, e);
+    fclose(fp);
+    return st;
+}
+
+/* The second line names a unit per column: it is no row, the time unit
+ * (ms) scales the times, each channel gets its unit. */
+static void test_units_row_taken(void **state)
+{
+    (void)state;
+    const char *text = "time,pressure,flow\n"
+                       "ms,bar,l/min\n"
+                       "0,5.5,20\n"
+                       "10,5.25,21\n"
+                       "20,5,22\n";
+    el_table t = {0};
+    el_error e;
+    assert_int_equal(read_text(text, &t, &e), EL_OK);
+    assert_int_equal(t.n_rows, 3);
+    assert_string_equal(t.units[1], "bar");
+    assert_string_equal(t.units[2], "l/min");
+    assert_string_equal(t.time_unit, "ms");
+    assert_string_equal(t.time_unit_source, "units row");
+    assert_int_equal(t.units_line, 2);
+    assert_true(t.values[1] == 0.01);
+    assert_true(t.values[2] == 0.02);
+    assert_true(t.values[1 * 3 + 1] == 5.25);
+    assert_int_equal(t.source_line[0], 3);
+    el_table_free(&t);
+}
+
+/* Bracketed units are taken without their brackets; an empty cell leaves
+ * its column without a unit; a header unit that agrees is fine. */
+static void test_units_row_brackets_and_gaps(void **state)
+{
+    (void)state;
+    const char *text = "t [s];a;b\n"
+                       "[s];(V);\n"
+                       "0;1,5;2\n"
+                       "1;2,5;3\n";
+    el_table t = {0};
+    el_error e;
+    assert_int_equal(read_text(text, &t, &e), EL_OK);
+    assert_int_equal(t.n_rows, 2);
+    assert_string_equal(t.units[1], "V");
+    assert_string_equal(t.units[2], "");
+    assert_string_equal(t.time_unit_source, "header");
+    assert_true(t.values[1 * 2 + 0] == 1.5);
+    el_table_free(&t);
+}
+
+/* A unit written in the header and another in the units row: refused at
+ * the cell, naming both. */
+static void test_units_row_disagrees(void **state)
+{
+    (void)state;
+    const char *text = "t,p [kPa],q\n"
+                       "s,bar,m3/h\n"
+                       "0,1,2\n";
+    el_table t = {0};
+    el_error e;
+    assert_int_equal(read_text(text, &t, &e), EL_ERR_DATA);
+    assert_int_equal(e.line, 2);
+    assert_int_equal(e.column, 3);
+    assert_non_null(strstr(e.message, "\"bar\""));
+    assert_non_null(strstr(e.message, "\"kPa\""));
+}
+
+/* Not a units row: a number among the cells (here the second line is a
+ * malformed data row), or a time cell that is no unit of time. Both are
+ * read as data rows, and fail there as before, at their line. */
+static void test_not_a_units_row(void **state)
+{
+    (void)state;
+    el_table t = {0};
+    el_error e;
+    assert_int_equal(read_text("t,x,y\ns,1,V\n0,1,2\n", &t, &e), EL_ERR_DATA);
+    assert_int_equal(e.line, 2);
+    assert_int_equal(e.column, 1);
+    assert_int_equal(read_text("t,x\nbar,V\n0,1\n", &t, &e), EL_ERR_DATA);
+    assert_int_equal(e.line, 2);
+    /* A units row alone is a header with no rows. */
+    assert_int_equal(read_text("t,x\ns,V\n", &t, &e), EL_ERR_DATA);
+    assert_non_null(strstr(e.message, "no data rows"));
+}
+
+static void test_units_probe(void **state)
+{
+    (void)state;
+    const char *yes = "t,x\nms,V\n";
+    const char *no = "t,x\n0,1\n";
+    assert_int_equal(el_ingest_units_row(yes, strlen(yes), NULL), 1);
+    assert_int_equal(el_ingest_units_row(no, strlen(no), NULL), 0);
+}
+
+/* A followed log: later parses are read in the units row's unit (a time
+ * of 0.015 ms comes before the row at 10 ms, so it is a row out of order;
+ * read in seconds it would be after it), and a rotated file's copy of the
+ * units row is not a row. */
+static void test_follow_keeps_units(void **state)
+{
+    (void)state;
+    el_follow_options fo;
+    el_follow_defaults(&fo);
+    fo.track.window = 1000.0;
+    el_error err;
+    el_follow *f = NULL;
+    assert_int_equal(el_follow_create(&fo, &f, &err), EL_OK);
+    el_follow_new_file(f, "live.csv");
+    const char *first = "t,x\nms,V\n0,1\n10,2\n";
+    assert_int_equal(el_follow_add_lines(f, first, strlen(first), 4, 1, &err), EL_OK);
+    const char *next = "20,3\n";
+    assert_int_equal(el_follow_add_lines(f, next, strlen(next), 1, 5, &err), EL_OK);
+    assert_int_equal(el_follow_rows_held(f), 3);
+    el_follow_new_file(f, "live.2.csv");
+    const char *rotated = "t,x\nms,V\n30,4\n";
+    assert_int_equal(el_follow_add_lines(f, rotated, strlen(rotated), 3, 1, &err), EL_OK);
+    assert_int_equal(el_follow_rows_held(f), 4);
+    const char *early = "0.015,5\n";
+    assert_int_equal(el_follow_add_lines(f, early, strlen(early), 1, 4, &err), EL_ERR_DATA);
+    assert_int_equal(err.line, 4);
+    el_follow_destroy(f);
+}
+
+int main(void)
+{
+    const struct CMUnitTest tests[] = {
+        cmocka_unit_test(test_units_row_taken),
+        cmocka_unit_test(test_units_row_brackets_and_gaps),
+        cmocka_unit_test(test_units_row_disagrees),
+        cmocka_unit_test(test_not_a_units_row),
+        cmocka_unit_test(test_units_probe),
+        cmocka_unit_test(test_follow_keeps_units),
+    };
+    return cmocka_run_group_tests_name("units_row", tests, NULL, NULL);
+}
