@@ -144,7 +144,9 @@ void cli_print_help(const char *usage, const char *description,
 #define CLI_INPUT_OPTION_ROWS                                                                 \
     {"time", "COL", "time column (default: the first column)"},                               \
     {"time-unit", "UNIT", "s, ms, us, ns, min, h, d or year (default: the header's, else s)"}, \
-    {"decimal", ".|,", "decimal separator of the numbers (default: detected)"}
+    {"decimal", ".|,", "decimal separator of the numbers (default: detected)"},              \
+    {"date-order", "dmy|mdy",                                                                 \
+     "dates like 05/12/2026: day or month first (default: as the dates settle it)"}
 
 #define CLI_MODEL_OPTION_ROWS                                                                 \
     CLI_INPUT_OPTION_ROWS,                                                                    \
@@ -175,12 +177,14 @@ void cli_print_help(const char *usage, const char *description,
     {"seed", "S", "random seed (default 1): same seed, same numbers"},                        \
     {"threads", "N", "worker threads (default: all cores)"}
 
-/* Reads --time-unit and --decimal (rows CLI_INPUT_OPTION_ROWS) into
- * *unit (NULL when absent) and *decimal (0 when absent). EL_ERR_USAGE
- * naming the option, with a hint, for a value that is not a unit of time
- * or not "." or ",". */
+/* Reads --time-unit, --decimal and --date-order (rows
+ * CLI_INPUT_OPTION_ROWS) into *unit (NULL when absent), *decimal and
+ * *date_order (0 when absent). EL_ERR_USAGE naming the option, with a
+ * hint, for a value that is not a unit of time, not "." or ",", or not
+ * dmy or mdy. */
 el_status cli_input_options(const cli_args *args, const cli_option *table, size_t n_options,
-                            const char **unit, char *decimal, el_error *err);
+                            const char **unit, char *decimal, char *date_order,
+                            el_error *err);
 
 /* The log files of a subcommand that reads one log from one or more files
  * (the positional arguments): sets opt->path (the first) and opt->paths,

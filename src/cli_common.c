@@ -255,7 +255,8 @@ static el_status model_numbers(const cli_args *a, const cli_option *t, size_t n,
 }
 
 el_status cli_input_options(const cli_args *a, const cli_option *t, size_t n,
-                            const char **unit, char *decimal, el_error *err)
+                            const char **unit, char *decimal, char *date_order,
+                            el_error *err)
 {
     const char *v = cli_value(a, t, n, "time-unit");
     double scale;
@@ -275,6 +276,15 @@ el_status cli_input_options(const cli_args *a, const cli_option *t, size_t n,
         return EL_ERR_USAGE;
     }
     *decimal = v != NULL ? v[0] : 0;
+    v = cli_value(a, t, n, "date-order");
+    if (v != NULL && strcmp(v, "dmy") != 0 && strcmp(v, "mdy") != 0) {
+        el_error_set(err, EL_ERR_USAGE, "'%s' is not an order of day and month", v);
+        el_error_option(err, "--date-order");
+        el_error_hint(err, "give --date-order dmy (05/12/2026 is 5 December) or "
+                           "--date-order mdy (12/05/2026 is 5 December)");
+        return EL_ERR_USAGE;
+    }
+    *date_order = v == NULL ? 0 : v[0] == 'd' ? EL_DATE_DMY : EL_DATE_MDY;
     return EL_OK;
 }
 
@@ -305,7 +315,7 @@ el_status cli_model_options(const cli_args *a, const cli_option *t, size_t n,
                             el_assess_options *o, el_error *err)
 {
     static const char *const kinds[] = {"blocks", "model"};
-    el_status in = cli_input_options(a, t, n, &o->time_unit, &o->decimal, err);
+    el_status in = cli_input_options(a, t, n, &o->time_unit, &o->decimal, &o->date_order, err);
     if (in != EL_OK)
         return in;
     o->time_column = cli_value(a, t, n, "time");

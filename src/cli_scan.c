@@ -37,7 +37,10 @@ static void print_time(FILE *o, const el_table *t, const el_scan *s, const el_ti
 {
     char a[64], b[64], c[64];
     fprintf(o, "  time column  %s (%s", t->names[t->time_column],
-           t->time_is_iso ? "ISO 8601 date-times" : "numbers");
+           t->date_order == EL_DATE_DMY   ? "date-times, day first"
+           : t->date_order == EL_DATE_MDY ? "date-times, month first"
+           : t->time_is_iso               ? "ISO 8601 date-times"
+                                          : "numbers");
     if (t->time_is_iso)
         fprintf(o, ", %s)\n", t->time_zone_known ? "with zone" : "no zone: local time, zone unknown");
     else
@@ -176,6 +179,8 @@ static void json_scan_input(el_json *j, const el_table *t, const el_assess_optio
     el_json_string(j, "time_unit_source", t->time_unit_source);
     if (t->time_is_iso)
         el_json_bool(j, "time_zone_known", t->time_zone_known);
+    if (t->date_order != 0)
+        el_json_string(j, "date_order", t->date_order == EL_DATE_DMY ? "dmy" : "mdy");
     el_json_object_end(j);
 }
 
@@ -292,7 +297,8 @@ int cli_scan(int argc, char **argv)
     if (st == EL_OK)
         st = cli_log_files(&a, "eigenlog scan FILE... [options]", &files, &err);
     if (st == EL_OK)
-        st = cli_input_options(&a, OPTIONS, N_OPTIONS, &in.time_unit, &in.decimal, &err);
+        st = cli_input_options(&a, OPTIONS, N_OPTIONS, &in.time_unit, &in.decimal,
+                               &in.date_order, &err);
     if (st == EL_OK) {
         const cli_output_path outs[1] = {{"json", cli_value(&a, OPTIONS, N_OPTIONS, "json")}};
         st = cli_check_output_paths(files.paths, files.n_paths ? files.n_paths : 1, outs, 1,

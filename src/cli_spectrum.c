@@ -225,7 +225,8 @@ static el_status parse(const cli_args *a, el_assess_options *o,
     el_spectrum_defaults(so);
     el_status st = cli_log_files(a, "eigenlog spectrum FILE... [options]", o, err);
     if (st == EL_OK)
-        st = cli_input_options(a, OPTIONS, N_OPTIONS, &o->time_unit, &o->decimal, err);
+        st = cli_input_options(a, OPTIONS, N_OPTIONS, &o->time_unit, &o->decimal,
+                               &o->date_order, err);
     if (st != EL_OK)
         return st;
     o->time_column = val(a, "time");

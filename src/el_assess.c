@@ -243,8 +243,12 @@ el_status el_assess_load(const el_assess_options *opt, el_assessment *r,
 static el_status assess_load(const el_assess_options *opt, el_assessment *r,
                              el_error *err)
 {
-    el_ingest_options in = {opt->time_column, opt->time_unit, opt->decimal, opt->channels,
-                            opt->inputs, 0};
+    el_ingest_options in = {.time_column = opt->time_column,
+                            .time_unit = opt->time_unit,
+                            .decimal = opt->decimal,
+                            .date_order = opt->date_order,
+                            .channels = opt->channels,
+                            .inputs = opt->inputs};
     el_status st = opt->stream != NULL
                        ? el_table_read_stream(opt->stream, opt->path ? opt->path : "<stream>",
                                               &in, &r->table, err)

@@ -35,6 +35,8 @@ typedef struct {
     const char *time_unit;        /* --time-unit: unit of the log's time numbers; NULL =
                                      from the header, else seconds */
     char decimal;                 /* --decimal: 0 detect, '.' or ',' */
+    char date_order;              /* --date-order: 0 settled by the dates, EL_DATE_DMY or
+                                     EL_DATE_MDY (el_ingest_options.date_order) */
     const char *time_column;      /* NULL = first column */
     const char *channels;         /* comma-separated names; NULL = all but time and inputs */
     const char *inputs;           /* --input: comma-separated measured input columns, NULL = none */

@@ -361,8 +361,13 @@ el_status el_follow_create(const el_follow_options *opt, el_follow **out, el_err
     const el_assess_options *a = &opt->track.assess;
     /* Rows that repeat the row before exactly are judged here, row by row,
      * not per parse (a parse may hold a single row). */
-    el_ingest_options in = {a->time_column, a->time_unit, a->decimal, a->channels, a->inputs,
-                            1};
+    el_ingest_options in = {.time_column = a->time_column,
+                            .time_unit = a->time_unit,
+                            .decimal = a->decimal,
+                            .date_order = a->date_order,
+                            .channels = a->channels,
+                            .inputs = a->inputs,
+                            .keep_repeats = 1};
     f->ingest = in;
     f->expect_header = 1;
     *out = f;
@@ -620,6 +625,8 @@ static el_status parse_rows(el_follow *f, size_t k, el_error *err)
                 f->ref = t;
                 f->have_ref = 1;
                 f->ingest.decimal = t.decimal;
+                if (t.date_order != 0)
+                    f->ingest.date_order = t.date_order;
                 st = choose_columns(f, err);
                 if (st == EL_OK)
                     st = keep_rows(f, &f->ref, err);

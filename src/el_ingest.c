@@ -18,10 +18,12 @@
 #include "el_chunks.h"
 #include "el_dedup.h"
 #include "el_number.h"
+#include "el_record.h"
 #include "el_rows.h"
 #include "el_source.h"
 #include "el_text.h"
 #include "el_timefmt.h"
+#include "el_units.h"
 
 /* A mapped file is read by several threads only when each gets at least
  * this many bytes: below, starting threads costs more than it saves. */
@@ -36,19 +38,6 @@
 /* ------------------------------------------------------------------ */
 /* Reading records                                                    */
 
-enum { KIND_UNKNOWN, KIND_BLANK, KIND_COMMENT, KIND_DATA };
-
-/* Resumable state of the search for the end of the record at buf[beg]:
- * offsets are relative to beg so they survive the buffer being moved. */
-typedef struct {
-    size_t scan;        /* bytes examined so far */
-    int kind;
-    int in_quote;
-    int has_quote;
-    long newlines;      /* newlines inside quoted fields */
-    size_t open_quote;  /* quote that opened the field still open */
-    size_t last_close;  /* offset just past the last closing quote */
-} record_scan;
 
 typedef struct {
     const char *text;   /* not NUL-terminated; valid until the next read */
@@ -64,7 +53,7 @@ typedef struct {
     int quoted;         /* 1: text lies in the scratch buffer */
 } span;
 
-enum { TIME_UNKNOWN, TIME_NUMBER, TIME_ISO };
+enum { TIME_UNKNOWN, TIME_NUMBER, TIME_ISO, TIME_LOCAL };
 
 typedef struct {
     el_source rd;
@@ -84,6 +73,8 @@ typedef struct {
                            a separator decides; a comma only when the
                            delimiter is not a comma) */
     int zone_seen;      /* ISO: the first row had a zone */
+    char date_order;    /* dates with the year last: EL_DATE_DMY, EL_DATE_MDY, 0 not
+                           settled yet (--date-order, else the first date that can) */
     unsigned char *col_kind;  /* n_columns: COL_UNKNOWN, COL_NUMBER, COL_TEXT */
     unsigned char *wanted;    /* n_columns: asked for with --channels/--input */
     long *text_line;          /* n_columns: line of the first text cell, 0 = none */
@@ -111,68 +102,6 @@ static el_status no_memory(ingest *g)
     el_error_at(g->err, g->name, 0, 0);
     el_error_hint(g->err, "the log is too large for this machine; cut it into parts");
     return EL_ERR_NOMEM;
-}
-
-/* Finds the end of the record at p[0..n): returns 1 and its '\n' offset in
- * *stop, or 0 when more data is needed. A '"' toggles quoting wherever it
- * stands (so a doubled quote leaves quoting on), which is how RFC 4180
- * fields delimit; stray quotes inside unquoted fields are refused later by
- * the field splitter, so the two never disagree about a valid file. */
-static int scan_record(const char *p, size_t n, record_scan *s, size_t *stop)
-{
-    size_t i = s->scan;
-    if (s->kind == KIND_UNKNOWN) {
-        while (i < n && (p[i] == ' ' || p[i] == '\t' || p[i] == '\r'))
-            i++;
-        if (i == n) {
-            s->scan = n;
-            return 0;
-        }
-        if (p[i] == '\n') {
-            s->kind = KIND_BLANK;
-            *stop = i;
-            return 1;
-        }
-        /* Comment lines are skipped without looking at quotes, so a stray
-         * quote in a comment cannot swallow the lines after it. */
-        s->kind = p[i] == '#' ? KIND_COMMENT : KIND_DATA;
-    }
-    if (s->kind == KIND_COMMENT || (s->kind == KIND_DATA && !s->has_quote)) {
-        const char *nl = memchr(p + i, '\n', n - i);
-        size_t end = nl != NULL ? (size_t)(nl - p) : n;
-        const char *q = s->kind == KIND_DATA ? memchr(p + i, '"', end - i) : NULL;
-        if (q == NULL) {
-            if (nl != NULL) {
-                *stop = end;
-                return 1;
-            }
-            s->scan = n;
-            return 0;
-        }
-        /* Quoted records are rare in logs: take the byte loop from here. */
-        i = (size_t)(q - p);
-        s->has_quote = 1;
-    }
-    for (; i < n; i++) {
-        char c = p[i];
-        if (s->in_quote) {
-            if (c == '"') {
-                s->in_quote = 0;
-                s->last_close = i + 1;
-            } else if (c == '\n') {
-                s->newlines++;
-            }
-        } else if (c == '"') {
-            s->in_quote = 1;
-            if (s->last_close != i) /* not the second half of a "" pair */
-                s->open_quote = i;
-        } else if (c == '\n') {
-            *stop = i;
-            return 1;
-        }
-    }
-    s->scan = n;
-    return 0;
 }
 
 /* Line and 1-based character column (UTF-8 code points) of byte off of
@@ -247,11 +176,11 @@ static el_status next_record(ingest *g, record *rec, int *found)
 {
     el_source *rd = &g->rd;
     for (;;) {
-        record_scan s = {0, KIND_UNKNOWN, 0, 0, 0, 0, NONE};
+        el_record_scan_state s = {0, EL_RECORD_UNKNOWN, 0, 0, 0, 0, NONE};
         size_t stop = 0;
         int terminated;
         for (;;) {
-            terminated = scan_record(rd->buf + rd->beg, rd->end - rd->beg, &s, &stop);
+            terminated = el_record_scan(rd->buf + rd->beg, rd->end - rd->beg, &s, &stop);
             if (terminated || rd->eof)
                 break;
             el_status st = el_source_refill(rd);
@@ -260,7 +189,7 @@ static el_status next_record(ingest *g, record *rec, int *found)
         }
         size_t avail = rd->end - rd->beg;
         if (!terminated) {
-            if (avail == 0 || s.kind == KIND_UNKNOWN) {
+            if (avail == 0 || s.kind == EL_RECORD_UNKNOWN) {
                 rd->beg = rd->end;
                 *found = 0;
                 return EL_OK;
@@ -272,7 +201,7 @@ static el_status next_record(ingest *g, record *rec, int *found)
             return unterminated(g, &r, s.open_quote);
         rd->beg += terminated ? stop + 1 : stop;
         rd->line += 1 + s.newlines;
-        if (s.kind != KIND_DATA)
+        if (s.kind != EL_RECORD_DATA)
             continue;
         if (r.length > 0 && r.text[r.length - 1] == '\r')
             r.length--;
@@ -697,82 +626,40 @@ static el_status read_header(ingest *g, const el_ingest_options *opt)
 /* ------------------------------------------------------------------ */
 /* A row of units under the header                                    */
 
-/* The cell of field c, trimmed, without one pair of enclosing brackets or
- * parentheses ("[bar]", "(s)"): the unit as written. */
-static void unit_cell(const ingest *g, size_t c, const char **s, size_t *n)
-{
-    *s = g->spans[c].text;
-    *n = g->spans[c].length;
-    el_text_trim(s, n);
-    if (*n >= 2 && (((*s)[0] == '[' && (*s)[*n - 1] == ']')
-                    || ((*s)[0] == '(' && (*s)[*n - 1] == ')'))) {
-        (*s)++;
-        *n -= 2;
-        el_text_trim(s, n);
-    }
-}
-
-/* 1 when the record just split is a row of units: its time cell names a
- * unit of time and no cell holds a number. A data row's time cell is a
- * number or a date-time, never a unit, so no data row is taken for one. */
-static int is_units_row(const ingest *g, size_t n_fields)
+/* The split record's cells as the units row stage takes them (a row of
+ * n_fields; 0 when it is not a row of the header's width). */
+static el_units_cell *units_cells(ingest *g, size_t n_fields)
 {
     if (n_fields != g->n_columns)
-        return 0;
-    const char *s;
-    size_t n;
-    double scale, v;
-    const char *name;
-    unit_cell(g, g->t->time_column, &s, &n);
-    if (n == 0 || !el_time_unit_lookup(s, n, &scale, &name))
-        return 0;
-    char decimal = g->decimal;
-    for (size_t c = 0; c < g->n_columns; c++) {
-        s = g->spans[c].text;
-        n = g->spans[c].length;
-        el_text_trim(&s, &n);
-        char d = decimal;
-        if (n > 0 && el_number_parse(s, n, &d, g->delim, &v) == EL_NUM_OK)
-            return 0;
-    }
-    return 1;
+        return NULL;
+    el_units_cell *cells = malloc(n_fields * sizeof *cells);
+    for (size_t c = 0; cells != NULL && c < n_fields; c++)
+        cells[c] = (el_units_cell){g->spans[c].text, g->spans[c].length};
+    return cells;
 }
 
-/* Gives each column the unit the units row writes for it; a column whose
- * header already names a unit must name the same one. */
-static el_status take_units(ingest *g, const record *r)
+/* Takes the units of a row of units; a unit that differs from its
+ * header's is an error at its cell. */
+static el_status take_units(ingest *g, const record *r, const el_units_cell *cells)
 {
     el_table *t = g->t;
-    for (size_t c = 0; c < g->n_columns; c++) {
-        const char *s;
-        size_t n;
-        unit_cell(g, c, &s, &n);
-        if (n == 0)
-            continue;
-        if (t->units[c][0] != '\0') {
-            if (strlen(t->units[c]) == n && memcmp(t->units[c], s, n) == 0)
-                continue;
-            char shown[CELL_SHOW_MAX * 4 + 8];
-            show_cell(s, n, shown, sizeof shown);
-            return fail_at(g, r, g->spans[c].raw,
-                           "write each unit once: in the header as \"name [unit]\" or in "
-                           "the row of units under it",
-                           "the row of units gives \"%s\" for \"%.100s\", whose header says "
-                           "\"%.40s\"",
-                           shown, t->names[c], t->units[c]);
-        }
-        char *u = malloc(n + 1);
-        if (u == NULL)
-            return no_memory(g);
-        memcpy(u, s, n);
-        u[n] = '\0';
-        free(t->units[c]);
-        t->units[c] = u;
-        if (c == t->time_column)
-            g->time_unit_from_row = 1;
+    size_t c = 0;
+    el_status st = el_units_row_take(t, cells, g->n_columns, &c, &g->time_unit_from_row, g->err);
+    if (st != EL_ERR_DATA) {
+        t->units_line = r->line;
+        return st;
     }
-    t->units_line = r->line;
-    return EL_OK;
+    const char *s;
+    size_t n;
+    char shown[CELL_SHOW_MAX * 4 + 8];
+    el_units_row_unit(&cells[c], &s, &n);
+    show_cell(s, n, shown, sizeof shown);
+    return fail_at(g, r, g->spans[c].raw,
+                   "write each unit once: in the header as \"name [unit]\" or in the row "
+                   "of units under it",
+                   "the row of units gives \"%s\" for \"%.100s\", whose header says "
+                   "\"%.40s\"",
+                   shown, t->names[c], t->units[c]);
 }
 
 static el_status parse_row(ingest *g, const record *r, size_t n_fields);
@@ -790,7 +677,15 @@ static el_status first_row(ingest *g)
         return st;
     if ((st = split_record(g, &r, &n)) != EL_OK)
         return st;
-    return is_units_row(g, n) ? take_units(g, &r) : parse_row(g, &r, n);
+    el_units_cell *cells = units_cells(g, n);
+    if (cells == NULL && n == g->n_columns)
+        return no_memory(g);
+    if (cells != NULL && el_units_row_is(cells, n, g->t->time_column, g->delim, g->decimal))
+        st = take_units(g, &r, cells);
+    else
+        st = parse_row(g, &r, n);
+    free(cells);
+    return st;
 }
 
 /* ------------------------------------------------------------------ */
@@ -909,41 +804,41 @@ static el_status parse_time_cell(ingest *g, const record *r, const span *f, doub
     if (el_number_is_missing(s, n))
         return time_error(g, r, f, s, n, "the time is missing",
                           "every row needs a time; remove the row or fill in its time");
-    int iso = el_iso_looks(s, n);
+    int iso = el_iso_looks(s, n), local = !iso && el_local_looks(s, n);
     if (g->time_kind == TIME_UNKNOWN)
-        g->time_kind = iso ? TIME_ISO : TIME_NUMBER;
+        g->time_kind = iso ? TIME_ISO : local ? TIME_LOCAL : TIME_NUMBER;
     if (g->time_kind == TIME_NUMBER) {
         int rc = el_number_parse(s, n, &g->decimal, g->delim, out);
         if (rc == EL_NUM_OK)
             return EL_OK;
-        if (iso)
+        if (iso || local)
             return time_error(g, r, f, s, n,
                               "a date-time where the first row's time was a number",
                               "write every time in the same form as the first row");
         return time_error(g, r, f, s, n,
                           rc == EL_NUM_RANGE ? "out of range" : "neither a number nor a date-time",
                           "write the time as a number (e.g. seconds) or as an ISO 8601 "
-                          "date-time like 2026-03-14T08:00:00.250+01:00; a row of units "
-                          "under the header is read only when its time cell names a unit "
-                          "of time (s, ms, min, h) and no cell is a number");
+                          "date-time like 2026-03-14T08:00:00.250+01:00 (also read: "
+                          "14.03.2026 08:00:00); a row of units under the header is read "
+                          "when its time cell names a unit of time (s, ms, min, h)");
     }
-    el_iso_time it;
-    const char *why = iso ? el_iso_parse(s, n, &it) : NULL;
-    if (!iso) {
+    if (!(g->time_kind == TIME_ISO ? iso : local)) {
         double v;
         return time_error(g, r, f, s, n,
                           el_number_parse(s, n, &g->decimal, g->delim, &v) == EL_NUM_OK
                               ? "a number where the first row's time was a date-time"
-                              : "not an ISO 8601 date-time",
-                          "write every time as a date-time like the first row's, e.g. "
-                          "2026-03-14T08:00:00.250+01:00");
+                              : "not a date-time like the first row's",
+                          "write every time in the first row's form");
     }
+    el_iso_time it;
+    const char *hint;
+    const char *why = el_datetime_read(g->time_kind == TIME_LOCAL, &g->date_order, s, n, &it,
+                                       &hint);
     if (why != NULL)
-        return time_error(g, r, f, s, n, why,
-                          "write the time as YYYY-MM-DDTHH:MM:SS[.fff][Z|+HH:MM] with a "
-                          "real calendar date");
+        return time_error(g, r, f, s, n, why, hint);
     if (t->n_rows == 0) {
         t->time_is_iso = 1;
+        t->date_order = g->time_kind == TIME_LOCAL ? g->date_order : 0;
         t->time_origin_unix_s = it.unix_s;
         t->time_zone_minutes = it.zone_minutes;
         t->time_zone_known = it.has_zone;
@@ -1308,47 +1203,6 @@ static void compact(ingest *g)
         t->source_line = lines;
 }
 
-/* Decides the unit of the time numbers: --time-unit, the header's
- * "[unit]", a unit in or as the column name, else seconds (assumed). */
-static el_status decide_time_unit(ingest *g, const el_ingest_options *opt)
-{
-    el_table *t = g->t;
-    const char *unit = "s", *how = "assumed";
-    double scale = 1.0;
-    size_t tc = t->time_column;
-    if (t->time_is_iso) {
-        how = "iso8601";
-    } else if (opt != NULL && opt->time_unit != NULL) {
-        if (!el_time_unit_parse(opt->time_unit, &scale, &unit)) {
-            el_error_set(g->err, EL_ERR_USAGE, "\"%.60s\" is not a unit of time",
-                         opt->time_unit);
-            el_error_option(g->err, "--time-unit");
-            el_error_hint(g->err, "give s, ms, us, ns, min, h, d or year");
-            return EL_ERR_USAGE;
-        }
-        how = "--time-unit";
-    } else if (t->units[tc][0] != '\0') {
-        if (!el_time_unit_parse(t->units[tc], &scale, &unit)) {
-            el_error_set(g->err, EL_ERR_DATA,
-                         "the time column \"%.100s\" has the unit \"%.40s\", which is not a "
-                         "unit of time", t->names[tc], t->units[tc]);
-            el_error_at(g->err, g->name, g->header_line, g->time_header_column);
-            el_error_hint(g->err, "give the unit with --time-unit (s, ms, us, min, h, d or "
-                                  "year), or choose the time column with --time");
-            return EL_ERR_DATA;
-        }
-        how = g->time_unit_from_row ? "units row" : "header";
-    } else if (!el_time_unit_from_name(t->names[tc], &scale, &unit, &how)) {
-        unit = "s";
-        scale = 1.0;
-        how = "assumed";
-    }
-    t->time_scale_s = scale;
-    snprintf(t->time_unit, sizeof t->time_unit, "%s", unit);
-    snprintf(t->time_unit_source, sizeof t->time_unit_source, "%s", how);
-    return EL_OK;
-}
-
 /* What one file's read leaves beside its table. */
 typedef struct {
     long *text_line;    /* n_columns: line of the first text cell of a skipped
@@ -1372,6 +1226,8 @@ static el_status read_one(FILE *stream, const char *name, const el_ingest_option
     g.t = table;
     if (opt != NULL && (opt->decimal == '.' || opt->decimal == ','))
         g.decimal = opt->decimal;
+    if (opt != NULL && (opt->date_order == EL_DATE_DMY || opt->date_order == EL_DATE_MDY))
+        g.date_order = opt->date_order;
     g.threads = threads;
     if (g.threads == 0) {
         long cores = sysconf(_SC_NPROCESSORS_ONLN);
@@ -1397,7 +1253,9 @@ static el_status read_one(FILE *stream, const char *name, const el_ingest_option
         }
     }
     if (st == EL_OK)
-        st = decide_time_unit(&g, opt);
+        st = el_units_decide_time(table, opt != NULL ? opt->time_unit : NULL,
+                                  g.time_unit_from_row, g.header_line,
+                                  g.time_header_column, err);
     /* A mapped file cut short while it was read: whatever the read made of
      * the zeros of its last page, the cut is the error. */
     if (el_source_check_size(&g.rd) != EL_OK)
@@ -1443,9 +1301,12 @@ int el_ingest_units_row(const char *text, size_t n, const el_ingest_options *opt
         record r;
         int found;
         size_t fields;
+        el_units_cell *cells = NULL;
         if (next_record(&g, &r, &found) == EL_OK && found
-            && split_record(&g, &r, &fields) == EL_OK)
-            yes = is_units_row(&g, fields);
+            && split_record(&g, &r, &fields) == EL_OK
+            && (cells = units_cells(&g, fields)) != NULL)
+            yes = el_units_row_is(cells, fields, t.time_column, g.delim, g.decimal);
+        free(cells);
     }
     el_source_close(&g.rd);
     free(g.spans);

@@ -22,6 +22,11 @@ typedef struct {
     /* --decimal: 0 = detect (a comma in a number of a file separated by
      * semicolons or tabs makes it a decimal comma), '.' or ','. */
     char decimal;
+    /* --date-order: how a date with the year last (05.12.2026, 12/05/2026)
+     * is read: EL_DATE_DMY (day first), EL_DATE_MDY (month first), or 0 =
+     * as the first date that settles it says (a dot, or a field above 12);
+     * a date that cannot settle it before one did is an error. */
+    char date_order;
     /* The comma-separated columns asked for (--channels, --input); NULL =
      * none named. A column holding text (a cell that is neither a number
      * nor missing) is skipped with a note when it was not asked for: with

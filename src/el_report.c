@@ -485,6 +485,8 @@ static void json_input(el_json *j, const el_assessment *r, const el_assess_optio
                                                                  : "assumed");
     if (t->time_is_iso)
         el_json_bool(j, "time_zone_known", t->time_zone_known);
+    if (t->date_order != 0)
+        el_json_string(j, "date_order", t->date_order == EL_DATE_DMY ? "dmy" : "mdy");
     el_json_number(j, "dt", s->dt);
     el_json_int(j, "samples", (long long)s->n_samples);
     /* ISO logs: the window in Unix seconds, so machines get absolute time. */

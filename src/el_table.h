@@ -26,7 +26,10 @@ typedef struct {
     double *values;            /* n_rows * n_columns, column-major, owned */
     long *source_line;         /* n_rows: 1-based line of each row in its file */
     size_t *missing;           /* n_columns: missing cells per column */
-    int time_is_iso;           /* 1: the time column held ISO 8601 date-times */
+    int time_is_iso;           /* 1: the time column held date-times (ISO 8601, or
+                                  dates with the year last: date_order) */
+    char date_order;           /* 0: ISO 8601 or numbers; EL_DATE_DMY / EL_DATE_MDY:
+                                  dates with the year last, read day / month first */
     int64_t time_origin_unix_s;/* ISO: Unix time (s) that time value 0 stands for */
     int time_zone_minutes;     /* ISO: offset of the first timestamp (for display) */
     int time_zone_known;       /* ISO: 1 when the date-times carry a zone (Z, +01:00);

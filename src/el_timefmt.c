@@ -166,6 +166,162 @@ const char *el_iso_parse_or_date(const char *s, size_t n, el_iso_time *out)
     return el_iso_parse(s, n, out);
 }
 
+/* ------------------------------------------------------------------ */
+/* Dates with the day and month first (05.12.2026, 12/05/2026)        */
+
+/* Reads one or two digits at s[*i]; 0 when there are none. */
+static int read_1_2(const char *s, size_t n, size_t *i, int *value)
+{
+    if (*i >= n || !is_digit(s[*i]))
+        return 0;
+    int v = s[(*i)++] - '0';
+    if (*i < n && is_digit(s[*i]))
+        v = v * 10 + (s[(*i)++] - '0');
+    *value = v;
+    return 1;
+}
+
+/* The two leading fields and the separator of D{./-}M{same}YYYY; 0 when
+ * s does not start so. */
+static int local_fields(const char *s, size_t n, int *a, int *b, char *sep, size_t *i)
+{
+    int year;
+    *i = 0;
+    if (!read_1_2(s, n, i, a) || *i >= n)
+        return 0;
+    *sep = s[(*i)++];
+    if ((*sep != '.' && *sep != '/' && *sep != '-') || !read_1_2(s, n, i, b) || *i >= n
+        || s[(*i)++] != *sep || !read_digits(s, n, i, 4, &year))
+        return 0;
+    return *i == n || !is_digit(s[*i]);
+}
+
+int el_local_looks(const char *s, size_t n)
+{
+    int a, b;
+    char sep;
+    size_t i;
+    return local_fields(s, n, &a, &b, &sep, &i);
+}
+
+int el_local_order(const char *s, size_t n)
+{
+    int a, b;
+    char sep;
+    size_t i;
+    if (!local_fields(s, n, &a, &b, &sep, &i))
+        return 0;
+    if (sep == '.' || a > 12)
+        return EL_DATE_DMY;
+    return b > 12 ? EL_DATE_MDY : 0;
+}
+
+/* " AM"/" PM" (any case, the blank optional) at s[*i]: 1 AM, 2 PM, 0 none. */
+static int read_meridiem(const char *s, size_t n, size_t *i)
+{
+    size_t k = *i;
+    if (k < n && s[k] == ' ')
+        k++;
+    if (k + 2 > n || (s[k + 1] != 'M' && s[k + 1] != 'm'))
+        return 0;
+    int which = s[k] == 'A' || s[k] == 'a' ? 1 : s[k] == 'P' || s[k] == 'p' ? 2 : 0;
+    if (which != 0)
+        *i = k + 2;
+    return which;
+}
+
+const char *el_local_parse(const char *s, size_t n, int order, el_iso_time *out)
+{
+    const char *const shape = "expected a date-time like 05.12.2026 08:30:00 or "
+                              "12/05/2026 8:30:00 AM";
+    int a, b, year, hour, minute, second = 0;
+    char sep;
+    size_t i;
+    if (!local_fields(s, n, &a, &b, &sep, &i))
+        return shape;
+    year = 0;
+    for (size_t k = i - 4; k < i; k++)
+        year = year * 10 + (s[k] - '0');
+    int day = order == EL_DATE_MDY ? b : a, month = order == EL_DATE_MDY ? a : b;
+    if (i < n && s[i] == ',')
+        i++;
+    if (i >= n || (s[i] != ' ' && s[i] != 'T' && s[i] != 't'))
+        return shape;
+    if (s[i] == 'T' || s[i] == 't')
+        i++;
+    else
+        while (i < n && s[i] == ' ')
+            i++;
+    if (!read_1_2(s, n, &i, &hour) || i >= n || s[i++] != ':'
+        || !read_digits(s, n, &i, 2, &minute))
+        return shape;
+    if (month < 1 || month > 12)
+        return order == EL_DATE_MDY ? "month (the first field) out of range 1-12"
+                                    : "month (the second field) out of range 1-12";
+    if (day < 1 || day > days_in_month(year, month))
+        return "day does not exist in that month";
+    out->frac_s = 0.0;
+    out->zone_minutes = 0;
+    out->has_zone = 0;
+    if (i < n && s[i] == ':') {
+        i++;
+        if (!read_digits(s, n, &i, 2, &second))
+            return shape;
+        if (second > 60)
+            return "second out of range 0-60";
+        if (i < n && (s[i] == '.' || s[i] == ',')) {
+            size_t f = ++i;
+            uint64_t num = 0;
+            double scale = 1.0;
+            for (; i < n && is_digit(s[i]); i++)
+                if (i - f < 18) {
+                    num = num * 10 + (uint64_t)(s[i] - '0');
+                    scale *= 10.0;
+                }
+            if (i == f)
+                return "expected digits after the decimal point of the seconds";
+            out->frac_s = (double)num / scale;
+        }
+    }
+    int half = read_meridiem(s, n, &i);
+    if (half != 0) {
+        if (hour < 1 || hour > 12)
+            return "hour out of range 1-12 before AM or PM";
+        hour = hour % 12 + (half == 2 ? 12 : 0);
+    } else if (hour > 23) {
+        return "hour out of range 0-23";
+    }
+    if (minute > 59)
+        return "minute out of range 0-59";
+    if (i != n)
+        return shape;
+    out->unix_s = days_from_civil(year, month, day) * 86400 + hour * 3600 + minute * 60 + second;
+    return NULL;
+}
+
+const char *el_datetime_read(int local, char *date_order, const char *s, size_t n,
+                             el_iso_time *out, const char **hint)
+{
+    const char *why;
+    if (!local) {
+        why = el_iso_parse(s, n, out);
+        *hint = "write the time as YYYY-MM-DDTHH:MM:SS[.fff][Z|+HH:MM] with a real "
+                "calendar date";
+        return why;
+    }
+    if (*date_order == 0)
+        *date_order = (char)el_local_order(s, n);
+    if (*date_order == 0) {
+        *hint = "give --date-order dmy (day first) or --date-order mdy (month first)";
+        return "the date reads both as day/month and as month/day";
+    }
+    why = el_local_parse(s, n, *date_order, out);
+    *hint = *date_order == EL_DATE_MDY
+                ? "dates are read month first (MM/DD/YYYY HH:MM:SS, --date-order mdy)"
+                : "dates are read day first (DD.MM.YYYY HH:MM:SS, --date-order dmy)";
+    return why;
+}
+
 static int64_t floor_div(int64_t a, int64_t b)
 {
     int64_t q = a / b;

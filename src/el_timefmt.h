@@ -29,6 +29,36 @@ const char *el_iso_parse(const char *s, size_t n, el_iso_time *out);
 /* As el_iso_parse, and "YYYY-MM-DD" alone (n == 10) is that midnight. */
 const char *el_iso_parse_or_date(const char *s, size_t n, el_iso_time *out);
 
+/* Orders of a date whose day and month are numbers before the year. */
+enum { EL_DATE_DMY = 'd', EL_DATE_MDY = 'm' };
+
+/* 1 when s[0..n) starts like a date with the year last: one or two digits,
+ * a separator ('.', '/' or '-'), one or two digits, the same separator,
+ * four digits (05.12.2026, 12/5/2026, 5-12-2026). */
+int el_local_looks(const char *s, size_t n);
+
+/* The order such a date settles by itself: EL_DATE_DMY for a dot (the dot
+ * form is written day first) or a first field above 12, EL_DATE_MDY for a
+ * second field above 12; 0 when both fields could be the month. */
+int el_local_order(const char *s, size_t n);
+
+/* Parses D.M.YYYY, D/M/YYYY or D-M-YYYY (order EL_DATE_DMY; EL_DATE_MDY:
+ * month first), then ',' optional, ' ' or 'T', H[H]:MM[:SS[.fraction]]
+ * and an optional AM/PM (12-hour clock; hour 1-12), spanning all of
+ * s[0..n), into *out (no zone: as if UTC, has_zone 0). Returns NULL on
+ * success, else a static text saying what is wrong. */
+const char *el_local_parse(const char *s, size_t n, int order, el_iso_time *out);
+
+/* Reads one cell s[0..n) of a date-time column: ISO 8601 (local 0,
+ * el_iso_parse) or a date with the year last (local 1, el_local_parse in
+ * *date_order; when *date_order is 0 the cell settles it if it can,
+ * el_local_order, and *date_order is set: a log keeps the order its first
+ * settling date gave). Returns NULL and fills *out, or a static text of
+ * what is wrong with *hint (static) saying what to do, e.g. give
+ * --date-order when the first date reads both ways. */
+const char *el_datetime_read(int local, char *date_order, const char *s, size_t n,
+                             el_iso_time *out, const char **hint);
+
 /* Writes local_ms (milliseconds since 1970-01-01 on the local clock, that
  * is Unix time plus the zone offset) as "YYYY-MM-DDTHH:MM:SS.mmm" into
  * buf[0..size), followed by "+HH:MM"/"-HH:MM" of zone_minutes when
