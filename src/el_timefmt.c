@@ -67,6 +67,38 @@ int el_iso_looks(const char *s, size_t n)
            is_digit(s[3]) && s[4] == '-' && is_digit(s[5]);
 }
 
+/* Reads ":SS[.fraction]" at s[*i] when there (else second 0, fraction 0):
+ * NULL, or what is wrong (shape when the digits are missing). ISO 8601
+ * allows a comma before the fraction too. Up to 18 digits count (exact in
+ * uint64; 1e18 is exact in a double). */
+static const char *read_seconds(const char *s, size_t n, size_t *i, int *second,
+                                double *frac_s, const char *shape)
+{
+    *second = 0;
+    *frac_s = 0.0;
+    if (*i >= n || s[*i] != ':')
+        return NULL;
+    (*i)++;
+    if (!read_digits(s, n, i, 2, second))
+        return shape;
+    if (*second > 60)
+        return "second out of range 0-60";
+    if (*i < n && (s[*i] == '.' || s[*i] == ',')) {
+        size_t f = ++*i;
+        uint64_t num = 0;
+        double scale = 1.0;
+        for (; *i < n && is_digit(s[*i]); (*i)++)
+            if (*i - f < 18) {
+                num = num * 10 + (uint64_t)(s[*i] - '0');
+                scale *= 10.0;
+            }
+        if (*i == f)
+            return "expected digits after the decimal point of the seconds";
+        *frac_s = (double)num / scale;
+    }
+    return NULL;
+}
+
 static const char *parse_zone(const char *s, size_t n, size_t *i, el_iso_time *out)
 {
     if (*i == n)
@@ -119,31 +151,11 @@ const char *el_iso_parse(const char *s, size_t n, el_iso_time *out)
         return "hour out of range 0-23";
     if (minute > 59)
         return "minute out of range 0-59";
-    out->frac_s = 0.0;
     out->zone_minutes = 0;
     out->has_zone = 0;
-    if (i < n && s[i] == ':') {
-        i++;
-        if (!read_digits(s, n, &i, 2, &second))
-            return shape;
-        if (second > 60)
-            return "second out of range 0-60";
-        /* ISO 8601 allows a comma before the fraction too. Up to 18
-         * digits count (exact in uint64; 1e18 is exact in a double). */
-        if (i < n && (s[i] == '.' || s[i] == ',')) {
-            size_t f = ++i;
-            uint64_t num = 0;
-            double scale = 1.0;
-            for (; i < n && is_digit(s[i]); i++)
-                if (i - f < 18) {
-                    num = num * 10 + (uint64_t)(s[i] - '0');
-                    scale *= 10.0;
-                }
-            if (i == f)
-                return "expected digits after the decimal point of the seconds";
-            out->frac_s = (double)num / scale;
-        }
-    }
+    const char *why_s = read_seconds(s, n, &i, &second, &out->frac_s, shape);
+    if (why_s != NULL)
+        return why_s;
     const char *why = parse_zone(s, n, &i, out);
     if (why != NULL)
         return why;
@@ -260,29 +272,11 @@ const char *el_local_parse(const char *s, size_t n, int order, el_iso_time *out)
                                     : "month (the second field) out of range 1-12";
     if (day < 1 || day > days_in_month(year, month))
         return "day does not exist in that month";
-    out->frac_s = 0.0;
     out->zone_minutes = 0;
     out->has_zone = 0;
-    if (i < n && s[i] == ':') {
-        i++;
-        if (!read_digits(s, n, &i, 2, &second))
-            return shape;
-        if (second > 60)
-            return "second out of range 0-60";
-        if (i < n && (s[i] == '.' || s[i] == ',')) {
-            size_t f = ++i;
-            uint64_t num = 0;
-            double scale = 1.0;
-            for (; i < n && is_digit(s[i]); i++)
-                if (i - f < 18) {
-                    num = num * 10 + (uint64_t)(s[i] - '0');
-                    scale *= 10.0;
-                }
-            if (i == f)
-                return "expected digits after the decimal point of the seconds";
-            out->frac_s = (double)num / scale;
-        }
-    }
+    const char *why_s = read_seconds(s, n, &i, &second, &out->frac_s, shape);
+    if (why_s != NULL)
+        return why_s;
     int half = read_meridiem(s, n, &i);
     if (half != 0) {
         if (hour < 1 || hour > 12)
