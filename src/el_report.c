@@ -51,7 +51,10 @@ static void text_header(const el_assessment *r, el_buf *out)
                   s->n_samples, s->dt, s->rows_used, t->n_rows,
                   s->resampled ? ", resampled" : "");
     if (t->time_is_iso)
-        el_buf_printf(out, "  time         ISO 8601 date-times, %s\n",
+        el_buf_printf(out, "  time         %s, %s\n",
+                      t->date_order == EL_DATE_DMY   ? "date-times written day first"
+                      : t->date_order == EL_DATE_MDY ? "date-times written month first"
+                                                     : "ISO 8601 date-times",
                       t->time_zone_known ? "with zone" : "local time of an unknown zone");
     else if (strcmp(t->time_unit_source, "assumed") == 0 || t->time_unit_source[0] == '\0')
         el_buf_printf(out, "  time unit    s (assumed: the log gives no unit)\n");
