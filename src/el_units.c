@@ -31,8 +31,9 @@ int el_units_row_is(const el_units_cell *cells, size_t n, size_t time_column, ch
     if (time_column >= n)
         return 0;
     el_units_row_unit(&cells[time_column], &s, &len);
-    if (len == 0 || !el_time_unit_lookup(s, len, &scale, &name))
+    if (len > 0 && !el_time_unit_lookup(s, len, &scale, &name))
         return 0;
+    int time_empty = len == 0, a_unit = 0;
     for (size_t c = 0; c < n; c++) {
         s = cells[c].text;
         len = cells[c].length;
@@ -40,8 +41,11 @@ int el_units_row_is(const el_units_cell *cells, size_t n, size_t time_column, ch
         char d = decimal; /* a unit must not decide the separator */
         if (len > 0 && el_number_parse(s, len, &d, delim, &v) == EL_NUM_OK)
             return 0;
+        a_unit |= c != time_column && len > 0 && !el_number_is_missing(s, len);
     }
-    return 1;
+    /* An empty time cell (a date-time column has no unit) needs a unit
+     * beside it: a row with no time and no units is a broken data row. */
+    return !time_empty || a_unit;
 }
 
 el_status el_units_row_take(el_table *t, const el_units_cell *cells, size_t n,
@@ -52,8 +56,8 @@ el_status el_units_row_take(el_table *t, const el_units_cell *cells, size_t n,
         const char *s;
         size_t len;
         el_units_row_unit(&cells[c], &s, &len);
-        if (len == 0)
-            continue;
+        if (len == 0 || el_number_is_missing(s, len))
+            continue; /* "", NA: no unit written */
         if (t->units[c][0] != '\0') {
             if (strlen(t->units[c]) == len && memcmp(t->units[c], s, len) == 0)
                 continue;

@@ -22,15 +22,17 @@ typedef struct {
 void el_units_row_unit(const el_units_cell *c, const char **unit, size_t *n);
 
 /* 1 when cells[0..n) are a row of units: the cell of time_column names a
- * unit of time (el_time_unit_lookup) and no cell is a number (as
- * el_number_parse reads it with this delimiter and decimal separator, 0 =
- * not decided yet). A data row's time cell is a number or a date-time,
- * never a unit of time, so no data row is ever taken for one. */
+ * unit of time (el_time_unit_lookup), or is empty while another cell
+ * names a unit (a column of date-times has none), and no cell is a number
+ * (as el_number_parse reads it with this delimiter and decimal separator,
+ * 0 = not decided yet). A data row's time cell is a number or a
+ * date-time, never a unit of time, and a data row without its time is an
+ * error anyway, so no valid data row is ever taken for one. */
 int el_units_row_is(const el_units_cell *cells, size_t n, size_t time_column, char delim,
                     char decimal);
 
 /* Gives column c of t (c < n, n == t->n_columns) the unit cells[c] holds;
- * an empty cell leaves the column as it is. A column whose header already
+ * an empty cell or NA leaves the column as it is. A column whose header already
  * named a unit must name the same one: else EL_ERR_DATA with *conflict =
  * c and nothing of that column changed (the caller, who knows where the
  * cell lies, words the error). EL_ERR_NOMEM with err set. *time_unit_taken

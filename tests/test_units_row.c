@@ -71,6 +71,28 @@ static void test_units_row_brackets_and_gaps(void **state)
     el_table_free(&t);
 }
 
+/* Date-times have no unit: the time cell of their units row is empty. A
+ * row with neither a time nor a unit is a broken data row, as before. */
+static void test_units_row_for_date_times(void **state)
+{
+    (void)state;
+    const char *text = "stamp,p,q\n"
+                       ",bar,NA\n"
+                       "2026-03-14T08:00:00Z,1,2\n"
+                       "2026-03-14T08:00:01Z,2,3\n";
+    el_table t = {0};
+    el_error e;
+    assert_int_equal(read_text(text, &t, &e), EL_OK);
+    assert_int_equal(t.n_rows, 2);
+    assert_string_equal(t.units[1], "bar");
+    assert_string_equal(t.units[2], ""); /* NA: no unit written */
+    assert_int_equal(t.units_line, 2);
+    el_table_free(&t);
+    assert_int_equal(read_text("stamp,p\n,NA\n2026-03-14T08:00:00Z,1\n", &t, &e),
+                     EL_ERR_DATA);
+    assert_int_equal(e.line, 2);
+}
+
 /* A unit written in the header and another in the units row: refused at
  * the cell, naming both. */
 static void test_units_row_disagrees(void **state)
@@ -149,6 +171,7 @@ int main(void)
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_units_row_taken),
         cmocka_unit_test(test_units_row_brackets_and_gaps),
+        cmocka_unit_test(test_units_row_for_date_times),
         cmocka_unit_test(test_units_row_disagrees),
         cmocka_unit_test(test_not_a_units_row),
         cmocka_unit_test(test_units_probe),
