@@ -59,12 +59,13 @@ static int read_digits(const char *s, size_t n, size_t *i, int count, int *value
     return 1;
 }
 
-/* A cell that starts like a date (YYYY-M) is taken for a date-time, so
- * that its errors speak of dates rather than of numbers. */
+/* A cell that starts like a date (YYYY-M, or YYYY/M as some loggers
+ * write it) is taken for a date-time, so that its errors speak of dates
+ * rather than of numbers. Not YYYY.M: that is a number (decimal years). */
 int el_iso_looks(const char *s, size_t n)
 {
     return n >= 6 && is_digit(s[0]) && is_digit(s[1]) && is_digit(s[2]) &&
-           is_digit(s[3]) && s[4] == '-' && is_digit(s[5]);
+           is_digit(s[3]) && (s[4] == '-' || s[4] == '/') && is_digit(s[5]);
 }
 
 /* Reads ":SS[.fraction]" at s[*i] when there (else second 0, fraction 0):
@@ -135,8 +136,13 @@ const char *el_iso_parse(const char *s, size_t n, el_iso_time *out)
     const char *const shape = "expected a date-time like 2026-03-14T08:00:00.250+01:00";
     size_t i = 0;
     int year, month, day, hour, minute, second = 0;
-    if (!read_digits(s, n, &i, 4, &year) || i >= n || s[i++] != '-' ||
-        !read_digits(s, n, &i, 2, &month) || i >= n || s[i++] != '-' ||
+    /* The date's separator: '-' (ISO 8601) or '/' (2026/03/14, as some
+     * loggers write it), the same twice. */
+    char dsep = n > 4 ? s[4] : '-';
+    if (dsep != '/')
+        dsep = '-';
+    if (!read_digits(s, n, &i, 4, &year) || i >= n || s[i++] != dsep ||
+        !read_digits(s, n, &i, 2, &month) || i >= n || s[i++] != dsep ||
         !read_digits(s, n, &i, 2, &day) || i >= n)
         return shape;
     char sep = s[i++];

@@ -15,12 +15,14 @@ typedef struct {
     int has_zone;       /* 1: Z or an offset was written */
 } el_iso_time;
 
-/* 1 when s[0..n) starts like a date (YYYY-M), so that a cell is taken for
- * a date-time and its errors speak of dates rather than of numbers. */
+/* 1 when s[0..n) starts like a date (YYYY-M or YYYY/M), so that a cell is
+ * taken for a date-time and its errors speak of dates rather than of
+ * numbers. */
 int el_iso_looks(const char *s, size_t n);
 
 /* Parses YYYY-MM-DD(T| )HH:MM[:SS[.fraction]][Z|+HH:MM|-HH:MM|+HHMM]
- * spanning all of s[0..n) (fraction: '.' or ',', up to 18 digits count)
+ * (also YYYY/MM/DD for the date, as some loggers write it) spanning all
+ * of s[0..n) (fraction: '.' or ',', up to 18 digits count)
  * into *out. Returns NULL on success, else a static text saying what is
  * wrong (*out then partly written). A time without zone is computed as if
  * UTC; second 60 (a leap second) lands on the next minute's second 0. */

@@ -1,4 +1,4 @@
-/* el_units_row: a row of units under the header (el_units.h). */
+/* el_units: the units of a log's columns (el_units.h). */
 #include "el_units.h"
 
 #include <stdio.h>

@@ -41,6 +41,21 @@ static void test_day_first_and_month_first(void **state)
     assert_true(frac == 0.25);
 }
 
+/* The year first with slashes (2026/12/05 08:30:00) is ISO 8601's order
+ * with another separator; a dot after the year is a number (decimal years),
+ * never a date; mixed separators are refused. */
+static void test_year_first_slashes(void **state)
+{
+    (void)state;
+    el_iso_time it;
+    const char *s = "2026/12/05 08:30:00";
+    assert_int_equal(el_iso_looks(s, strlen(s)), 1);
+    assert_null(el_iso_parse(s, strlen(s), &it));
+    assert_int_equal(it.unix_s, 1796459400);
+    assert_int_equal(el_iso_looks("2026.12", 7), 0);
+    assert_non_null(el_iso_parse("2026/12-05 08:30", 16, &it));
+}
+
 /* The 12-hour clock: 12 AM is midnight, 12 PM noon (2026-12-05T00:00:00
  * = 1796428800, T12:00:00 = 1796472000, T20:30:00 = 1796502600). */
 static void test_twelve_hour_clock(void **state)
@@ -141,6 +156,7 @@ int main(void)
 {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_day_first_and_month_first),
+        cmocka_unit_test(test_year_first_slashes),
         cmocka_unit_test(test_twelve_hour_clock),
         cmocka_unit_test(test_refused),
         cmocka_unit_test(test_order_settled),
