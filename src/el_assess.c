@@ -1,5 +1,6 @@
 /* el_assess: the main job as one library call. */
 #include "el_assess.h"
+#include "el_channels.h"
 #include "el_subspace.h"
 
 #include <math.h>
@@ -60,94 +61,6 @@ const char *el_assess_caution(void)
            "limits, local codes and licensed engineering judgement.";
 }
 
-/* Appends the table's column names except the time column to buf. */
-static void list_columns(const el_table *table, char *buf, size_t size)
-{
-    size_t used = 0;
-    buf[0] = '\0';
-    for (size_t c = 0; c < table->n_columns && used < size; c++) {
-        if (c == table->time_column)
-            continue;
-        int n = snprintf(buf + used, size - used, "%s%s", used ? ", " : "",
-                         table->names[c]);
-        if (n < 0)
-            break;
-        used += (size_t)n;
-    }
-}
-
-static el_status channel_error(el_error *err, const el_table *table,
-                               const char *option, const char *fmt_name,
-                               const char *why)
-{
-    char names[EL_ERROR_TEXT_MAX - 32];
-    list_columns(table, names, sizeof names);
-    el_error_set(err, EL_ERR_USAGE, "column '%s' %s", fmt_name, why);
-    el_error_option(err, option);
-    el_error_hint(err, "channels in this log: %s", names);
-    return EL_ERR_USAGE;
-}
-
-static int listed(const size_t *set, size_t n, size_t c)
-{
-    for (size_t i = 0; i < n; i++)
-        if (set[i] == c)
-            return 1;
-    return 0;
-}
-
-el_status el_assess_select_channels(const el_table *table, const char *list,
-                                    size_t *out, size_t *n_out, el_error *err)
-{
-    return el_assess_select_columns(table, list, "--channels", NULL, 0, out, n_out, err);
-}
-
-el_status el_assess_select_columns(const el_table *table, const char *list,
-                                   const char *option, const size_t *exclude,
-                                   size_t n_exclude, size_t *out, size_t *n_out,
-                                   el_error *err)
-{
-    *n_out = 0;
-    if (list == NULL || list[0] == '\0') {
-        for (size_t c = 0; c < table->n_columns; c++)
-            if (c != table->time_column && !listed(exclude, n_exclude, c))
-                out[(*n_out)++] = c;
-        if (*n_out == 0) {
-            el_error_set(err, EL_ERR_DATA, "the log has a time column only");
-            el_error_at(err, table->source, 0, 0);
-            el_error_hint(err, "a log needs at least one channel besides time");
-            return EL_ERR_DATA;
-        }
-        return EL_OK;
-    }
-    const char *p = list;
-    while (*p != '\0') {
-        const char *end = strchr(p, ',');
-        size_t len = end ? (size_t)(end - p) : strlen(p);
-        char name[256];
-        snprintf(name, sizeof name, "%.*s", (int)(len < 255 ? len : 255), p);
-        long idx = el_table_find(table, name);
-        if (idx < 0)
-            return channel_error(err, table, option, name, "is not in the log");
-        if ((size_t)idx == table->time_column)
-            return channel_error(err, table, option, name, "is the time column");
-        if (listed(out, *n_out, (size_t)idx))
-            return channel_error(err, table, option, name, "is listed twice");
-        if (listed(exclude, n_exclude, (size_t)idx))
-            return channel_error(err, table, option, name,
-                                 "is both a state channel and a measured input");
-        if (*n_out >= table->n_columns)
-            return channel_error(err, table, option, name, "is one too many");
-        out[(*n_out)++] = (size_t)idx;
-        p += len;
-        if (*p == ',')
-            p++;
-    }
-    if (*n_out == 0)
-        return channel_error(err, table, option, "", "list is empty");
-    return EL_OK;
-}
-
 static el_status build_series(const el_assess_options *opt, el_assessment *r,
                               el_error *err)
 {
@@ -179,14 +92,23 @@ static el_status build_series(const el_assess_options *opt, el_assessment *r,
     size_t n_channels = 0, n_inputs = 0;
     st = EL_OK;
     if (opt->inputs != NULL)
-        st = el_assess_select_columns(&r->table, opt->inputs, "--input", NULL, 0, inputs,
+        st = el_channels_select(&r->table, opt->inputs, "--input", NULL, 0, inputs,
                                       &n_inputs, err);
     if (st == EL_OK)
-        st = el_assess_select_columns(&r->table, opt->channels, "--channels", inputs,
+        st = el_channels_select(&r->table, opt->channels, "--channels", inputs,
                                       n_inputs, channels, &n_channels, err);
     if (st == EL_OK)
         st = el_series_build(&r->table, channels, n_channels, &tb, &r->series,
                              &r->input_warnings, err);
+    if (st == EL_OK && (opt->channels == NULL || opt->channels[0] == '\0')) {
+        /* Constant channels of the default set left out: built again. */
+        size_t kept = n_channels;
+        st = el_channels_drop_constant(&r->series, channels, &kept, &r->input_warnings, err);
+        if (st == EL_OK && kept < n_channels) {
+            el_series_free(&r->series);
+            st = el_series_build(&r->table, channels, kept, &tb, &r->series, NULL, err);
+        }
+    }
     /* The inputs share the time column, hence the grid, of the channels. */
     if (st == EL_OK && n_inputs > 0) {
         st = el_series_build(&r->table, inputs, n_inputs, &tb, &r->inputs, NULL, err);

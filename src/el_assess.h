@@ -171,22 +171,6 @@ typedef struct {
     el_warnings warnings;         /* about the model and the verdict */
 } el_assessment;
 
-/* Parses a comma-separated list of channel names against the table into
- * table column indices (out must hold table->n_columns entries). NULL or
- * "" selects every column but the time column. EL_ERR_USAGE (option
- * "--channels", hint listing the columns) for an unknown, repeated or time
- * column name. */
-el_status el_assess_select_channels(const el_table *table, const char *list,
-                                    size_t *out, size_t *n_out, el_error *err);
-
-/* As el_assess_select_channels for a list given with option (e.g.
- * "--input"); the default (NULL or "") selects every column but the time
- * column and the exclude[0..n_exclude) columns. */
-el_status el_assess_select_columns(const el_table *table, const char *list,
-                                   const char *option, const size_t *exclude,
-                                   size_t n_exclude, size_t *out, size_t *n_out,
-                                   el_error *err);
-
 /* The first two stages only: reads the log and builds the uniform series
  * of the chosen channels over the window (result->table, result->series,
  * result->input_warnings). Used by subcommands that need the data but no

@@ -12,6 +12,7 @@
 #include <sys/stat.h>
 #include <unistd.h>
 
+#include "el_channels.h"
 #include "el_dedup.h"
 #include "el_timebase.h"
 
@@ -492,9 +493,9 @@ static el_status choose_columns(el_follow *f, el_error *err)
     size_t *in = ch + n, nc = 0, ni = 0;
     el_status st = EL_OK;
     if (a->inputs != NULL)
-        st = el_assess_select_columns(&f->ref, a->inputs, "--input", NULL, 0, in, &ni, err);
+        st = el_channels_select(&f->ref, a->inputs, "--input", NULL, 0, in, &ni, err);
     if (st == EL_OK)
-        st = el_assess_select_columns(&f->ref, a->channels, "--channels", in, ni, ch, &nc,
+        st = el_channels_select(&f->ref, a->channels, "--channels", in, ni, ch, &nc,
                                       err);
     if (st == EL_OK) {
         memmove(ch + nc, in, ni * sizeof *ch);

@@ -1116,6 +1116,7 @@ static const struct {
     {"resampled", "resampled onto a uniform grid"},
     {"gaps_filled", "missing sample"},
     {"repeated_rows_dropped", "the row before exactly"},
+    {"constant_channel_dropped", "was left out: a stuck"},
     {"few_samples", "too few to tell a"},
     {"no_variation", "no channel varies"},
     {"growth", "grows by a factor"},
