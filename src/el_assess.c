@@ -1,6 +1,7 @@
 /* el_assess: the main job as one library call. */
 #include "el_assess.h"
 #include "el_channels.h"
+#include "el_spikes.h"
 #include "el_subspace.h"
 
 #include <math.h>
@@ -61,6 +62,40 @@ const char *el_assess_caution(void)
            "limits, local codes and licensed engineering judgement.";
 }
 
+/* A table time as the reports write it: ISO text, or the number and the
+ * log's time unit. */
+static const char *when(const el_table *t, double time, char *buf, size_t size)
+{
+    char num[64];
+    el_table_format_time(t, time, num, sizeof num);
+    snprintf(buf, size, "%.40s%s%.15s", num, t->time_is_iso ? "" : " ",
+             t->time_is_iso ? "" : t->time_unit[0] ? t->time_unit : "s");
+    return buf;
+}
+
+/* One warning per channel with isolated one-sample spikes (el_spikes):
+ * the fit follows them, so the reader must know they are there. */
+static el_status note_spikes(el_assessment *r, el_error *err)
+{
+    const el_series *s = &r->series;
+    for (size_t c = 0; c < s->n_channels; c++) {
+        el_spikes sp = el_spikes_find(s->values + c * s->n_samples, s->n_samples);
+        if (sp.count == 0)
+            continue;
+        char at[80];
+        when(&r->table, s->t0 + (double)sp.first * s->dt, at, sizeof at);
+        if (el_warnings_add(&r->input_warnings,
+                            "channel '%s' has %zu isolated one-sample spike%s (the first at "
+                            "%s, up to %.0f times the typical sample-to-sample change): "
+                            "sensor glitches? The fit follows them; if they are not real, "
+                            "cut them out of the log or choose a window without them",
+                            s->names[c], sp.count, sp.count == 1 ? "" : "s", at,
+                            sp.largest_sd) != EL_OK)
+            return el_error_set(err, EL_ERR_NOMEM, "out of memory");
+    }
+    return EL_OK;
+}
+
 static el_status build_series(const el_assess_options *opt, el_assessment *r,
                               el_error *err)
 {
@@ -109,6 +144,8 @@ static el_status build_series(const el_assess_options *opt, el_assessment *r,
             st = el_series_build(&r->table, channels, kept, &tb, &r->series, NULL, err);
         }
     }
+    if (st == EL_OK)
+        st = note_spikes(r, err);
     /* The inputs share the time column, hence the grid, of the channels. */
     if (st == EL_OK && n_inputs > 0) {
         st = el_series_build(&r->table, inputs, n_inputs, &tb, &r->inputs, NULL, err);
@@ -745,16 +782,6 @@ static el_status split_halves(el_assess_plan *ap, const el_assess_options *opt,
     return EL_OK;
 }
 
-/* A table time as the reports write it: ISO text, or the number and the
- * log's time unit. */
-static const char *when(const el_table *t, double time, char *buf, size_t size)
-{
-    char num[64];
-    el_table_format_time(t, time, num, sizeof num);
-    snprintf(buf, size, "%.40s%s%.15s", num, t->time_is_iso ? "" : " ",
-             t->time_is_iso ? "" : t->time_unit[0] ? t->time_unit : "s");
-    return buf;
-}
 
 /* A free decay towards the operating point reads as a level step or line
  * in the block means (sink-decay in docs/accuracy.md: the fast mode's

@@ -1117,6 +1117,7 @@ static const struct {
     {"gaps_filled", "missing sample"},
     {"repeated_rows_dropped", "the row before exactly"},
     {"constant_channel_dropped", "was left out: a stuck"},
+    {"spikes", "isolated one-sample spike"},
     {"few_samples", "too few to tell a"},
     {"no_variation", "no channel varies"},
     {"growth", "grows by a factor"},
