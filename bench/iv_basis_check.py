@@ -24,7 +24,10 @@ w/sd (mean width over 3.92 x the spread of the point estimates).
 
 Usage: iv_basis_check.py [--logs 80] [--boot 300] [--length 2000]
                          [--lags 14] [--block 35] [--superset 6]
-                         [--sensor-noise 0] [--model]
+                         [--sensor-noise 0] [--model] [--first 0]
+                         [--held-only]
+--first: the first log's number (seeds 1000 + number); --held-only: only
+the held basis (and --model's kinds).
 Run with OPENBLAS_NUM_THREADS=1 under nice on a shared machine.
 """
 import argparse
@@ -39,6 +42,8 @@ ap.add_argument('--block', type=int, default=35)
 ap.add_argument('--superset', type=int, default=6)
 ap.add_argument('--sensor-noise', type=float, default=0.0)
 ap.add_argument('--model', action='store_true')
+ap.add_argument('--first', type=int, default=0)
+ap.add_argument('--held-only', action='store_true')
 o = ap.parse_args()
 N, K, L, SUP, SN = o.length, o.lags, o.block, o.superset, o.sensor_noise
 DT, RE, IM = 0.1, -0.3, 2.0
@@ -126,10 +131,11 @@ def draw(rng):
     return c
 
 
-kinds = ['held', 'refit', 'super'] + (['model', 'widen'] if o.model else [])
+kinds = ['held'] + ([] if o.held_only else ['refit', 'super'])
+kinds += ['model', 'widen'] if o.model else []
 res = {k: [] for k in kinds}
 points = []
-for lg in range(o.logs):
+for lg in range(o.first, o.first + o.logs):
     lo = Log(simulate(np.random.default_rng(1000 + lg + int(1e6 * SN)), AD))
     ub = lo.basis(np.ones(len(lo.rows_k)))
     pt = re_of(lo.iv(ub, np.ones(lo.nw)))
@@ -141,6 +147,8 @@ for lg in range(o.logs):
         c = draw(brng)
         wr, ww = c[lo.rows_k], c[lo.win_sample]
         reps['held'].append(re_of(lo.iv(ub, ww), pt).real)
+        if o.held_only:
+            continue
         reps['refit'].append(re_of(lo.iv(lo.basis(wr), ww), pt).real)
         inner = lo.basis(wr, R, lo.z @ us)
         reps['super'].append(re_of(lo.iv(us @ inner, ww), pt).real)
