@@ -224,3 +224,28 @@ void el_stats_lagged_products(const double *x, size_t n, double mean, size_t k_f
         lag_block(x, n, mean, k_first + j0, b, out + j0);
     }
 }
+
+/* Eight rows a pass: each element's additions are one chain in row order
+ * (the compiler may not reassociate them), and the eight row streams and
+ * the sum are each read once per pass. Measured on the hankel bootstrap's
+ * sums (39 rows of 3,007 doubles from a 9 MB table): 56 us a replicate
+ * against 66-76 us for one daxpy per row. */
+void el_stats_add_rows(double *sum, size_t n, const double *const *rows, size_t n_rows)
+{
+    double *restrict s = sum;
+    size_t r = 0, n8 = n_rows - n_rows % 8;
+    for (; r < n8; r += 8) {
+        const double *restrict x0 = rows[r], *restrict x1 = rows[r + 1];
+        const double *restrict x2 = rows[r + 2], *restrict x3 = rows[r + 3];
+        const double *restrict x4 = rows[r + 4], *restrict x5 = rows[r + 5];
+        const double *restrict x6 = rows[r + 6], *restrict x7 = rows[r + 7];
+        for (size_t j = 0; j < n; j++)
+            s[j] = ((((((((s[j] + x0[j]) + x1[j]) + x2[j]) + x3[j]) + x4[j]) + x5[j]) + x6[j]) +
+                    x7[j]);
+    }
+    for (; r < n_rows; r++) {
+        const double *restrict x = rows[r];
+        for (size_t j = 0; j < n; j++)
+            s[j] += x[j];
+    }
+}

@@ -37,4 +37,15 @@ void el_stats_spread_many(const double *x, size_t n, size_t count, double *mean,
 void el_stats_lagged_products(const double *x, size_t n, double mean, size_t k_first,
                               size_t count, double *out);
 
+/* Adds n_rows rows of n doubles to sum, in row order: for every j,
+ * sum[j] = (...((sum[j] + rows[0][j]) + rows[1][j]) ...) + rows[n_rows-1][j],
+ * each addition rounded on its own, which is bit for bit what one
+ * cblas_daxpy of weight 1 per row does (x + 1.0 * y is x + y exactly,
+ * fused multiply-add or not) on any kernel. Eight rows a pass over sum,
+ * so sum is read and written once per eight rows instead of once per row
+ * (the bootstrap's block sums: rows of thousands of doubles scattered over
+ * a table larger than the cache). The rows must not overlap sum. No
+ * allocation; can't fail. */
+void el_stats_add_rows(double *sum, size_t n, const double *const *rows, size_t n_rows);
+
 #endif

@@ -777,7 +777,139 @@ void el_scan_column_stats(const double *v, size_t n, int allow_avx2, el_column_s
     s->constant = lo == hi || s->std <= 1e-12 * fabs(mean);
 }
 
-el_status el_scan_table(const el_table *table, el_scan *scan, el_error *err)
+/* What the bracketed scan counts over the steps of t (one pass). */
+typedef struct {
+    size_t first_back, nonpositive, backward, repeated;
+    size_t below, at_lo, mid, at_hi, nan;
+    double lo, hi;
+} step_counts;
+
+/* The plain loop over the steps ending at rows r + 1 .. n - 1 (the
+ * definition; the AVX2 blocks below give the same counts and extremes). */
+static void count_steps_plain(const double *t, size_t r, size_t n, const step_bracket *br,
+                              step_counts *c)
+{
+    /* Counts in locals: c's fields could alias t for the compiler, which
+     * then stored and reloaded them at every step. */
+    size_t first_back = c->first_back, nonpositive = c->nonpositive, backward = c->backward;
+    size_t repeated = c->repeated, below = c->below, at_lo = c->at_lo, mid = c->mid;
+    size_t at_hi = c->at_hi, nan = c->nan;
+    double lo = c->lo, hi = c->hi;
+    for (; r + 1 < n; r++) {
+        double step = t[r + 1] - t[r];
+        if (step <= 0.0 && nonpositive++ == 0)
+            first_back = r + 1;
+        backward += step < 0.0;
+        repeated += step == 0.0;
+        lo = step < lo ? step : lo;
+        hi = step > hi ? step : hi;
+        below += step < br->lo;
+        at_lo += step == br->lo;
+        mid += step > br->lo && step < br->hi;
+        at_hi += step == br->hi && br->hi > br->lo;
+        nan += isnan(step);
+    }
+    *c = (step_counts){first_back, nonpositive, backward, repeated, below, at_lo, mid, at_hi,
+                       nan, lo, hi};
+}
+
+#if EL_STATS_AVX2
+static inline __attribute__((target("avx2"))) size_t lanes_sum(__m256i v)
+{
+    uint64_t a[4];
+    _mm256_storeu_si256((__m256i *)(void *)a, v);
+    return (size_t)(a[0] + a[1] + a[2] + a[3]);
+}
+
+/* count_steps_plain's counts four steps at a time (whole blocks from row
+ * 0; returns the next r): every count is a number of steps that pass a
+ * test, whatever their order, and first_back the first such step in row
+ * order. The extremes lo and hi are taken per lane and then across the
+ * lanes, which gives the plain loop's value unless the extreme is a
+ * zero (+0.0 and -0.0 compare equal, and the plain loop keeps the first
+ * it meets): then the caller takes them again in order (*zero_ends). */
+__attribute__((target("avx2"))) static size_t count_steps_avx2(const double *t, size_t n,
+                                                                const step_bracket *br,
+                                                                step_counts *c)
+{
+    size_t r = 0;
+    const __m256d blo = _mm256_set1_pd(br->lo), bhi = _mm256_set1_pd(br->hi);
+    const __m256d zero = _mm256_setzero_pd();
+    const __m256d hi_on = br->hi > br->lo ? _mm256_castsi256_pd(_mm256_set1_epi64x(-1)) : zero;
+    __m256d lo4 = _mm256_set1_pd(INFINITY), hi4 = _mm256_set1_pd(-INFINITY);
+    __m256i nonpos = _mm256_setzero_si256(), back = nonpos, rep = nonpos, below = nonpos;
+    __m256i at_lo = nonpos, mid = nonpos, at_hi = nonpos, nan = nonpos;
+    size_t first_back = 0;
+    int any_back = 0;
+    for (; r + 4 < n; r += 4) {
+        __m256d step = _mm256_sub_pd(_mm256_loadu_pd(t + r + 1), _mm256_loadu_pd(t + r));
+        __m256d le0 = _mm256_cmp_pd(step, zero, _CMP_LE_OQ);
+        if (!any_back) {
+            int bits = _mm256_movemask_pd(le0);
+            if (bits != 0) {
+                any_back = 1;
+                first_back = r + 1 + (size_t)__builtin_ctz((unsigned)bits);
+            }
+        }
+        nonpos = _mm256_sub_epi64(nonpos, _mm256_castpd_si256(le0));
+        back = _mm256_sub_epi64(back, _mm256_castpd_si256(_mm256_cmp_pd(step, zero, _CMP_LT_OQ)));
+        rep = _mm256_sub_epi64(rep, _mm256_castpd_si256(_mm256_cmp_pd(step, zero, _CMP_EQ_OQ)));
+        lo4 = _mm256_blendv_pd(lo4, step, _mm256_cmp_pd(step, lo4, _CMP_LT_OQ));
+        hi4 = _mm256_blendv_pd(hi4, step, _mm256_cmp_pd(step, hi4, _CMP_GT_OQ));
+        below = _mm256_sub_epi64(below, _mm256_castpd_si256(_mm256_cmp_pd(step, blo, _CMP_LT_OQ)));
+        at_lo = _mm256_sub_epi64(at_lo, _mm256_castpd_si256(_mm256_cmp_pd(step, blo, _CMP_EQ_OQ)));
+        __m256d in = _mm256_and_pd(_mm256_cmp_pd(step, blo, _CMP_GT_OQ),
+                                   _mm256_cmp_pd(step, bhi, _CMP_LT_OQ));
+        mid = _mm256_sub_epi64(mid, _mm256_castpd_si256(in));
+        __m256d top = _mm256_and_pd(_mm256_cmp_pd(step, bhi, _CMP_EQ_OQ), hi_on);
+        at_hi = _mm256_sub_epi64(at_hi, _mm256_castpd_si256(top));
+        nan = _mm256_sub_epi64(nan, _mm256_castpd_si256(_mm256_cmp_pd(step, step, _CMP_UNORD_Q)));
+    }
+    double l[4], h[4];
+    _mm256_storeu_pd(l, lo4);
+    _mm256_storeu_pd(h, hi4);
+    double lo = INFINITY, hi = -INFINITY;
+    for (int i = 0; i < 4; i++) {
+        lo = l[i] < lo ? l[i] : lo;
+        hi = h[i] > hi ? h[i] : hi;
+    }
+    *c = (step_counts){first_back, lanes_sum(nonpos), lanes_sum(back), lanes_sum(rep),
+                       lanes_sum(below), lanes_sum(at_lo), lanes_sum(mid), lanes_sum(at_hi),
+                       lanes_sum(nan), lo, hi};
+    return r;
+}
+#endif
+
+/* The bracketed scan's one pass over the steps: counts, the first step
+ * that does not go forward, the smallest and largest step. allow_avx2 as
+ * for el_scan_column_stats. */
+static void count_steps(const double *t, size_t n, const step_bracket *br, int allow_avx2,
+                        step_counts *c)
+{
+    *c = (step_counts){0, 0, 0, 0, 0, 0, 0, 0, 0, INFINITY, -INFINITY};
+    size_t r = 0;
+    (void)allow_avx2;
+#if EL_STATS_AVX2
+    if (allow_avx2 && stats_avx2()) {
+        r = count_steps_avx2(t, n, br, c);
+        if (c->lo == 0.0 || c->hi == 0.0) {
+            /* a zero extreme: its sign as the plain loop meets it */
+            double lo = INFINITY, hi = -INFINITY;
+            for (size_t q = 0; q < r; q++) {
+                double step = t[q + 1] - t[q];
+                lo = step < lo ? step : lo;
+                hi = step > hi ? step : hi;
+            }
+            c->lo = lo;
+            c->hi = hi;
+        }
+    }
+#endif
+    count_steps_plain(t, r, n, br, c);
+}
+
+el_status el_scan_table_using(const el_table *table, int allow_avx2, el_scan *scan,
+                              el_error *err)
 {
     if (table == NULL || scan == NULL)
         return el_error_set(err, EL_ERR_INTERNAL, "el_scan_table: NULL argument");
@@ -806,26 +938,19 @@ el_status el_scan_table(const el_table *table, el_scan *scan, el_error *err)
     /* Counts in locals: scan's fields could alias steps for the compiler,
      * which then stored and reloaded them at every step. */
     if (bracketed) {
-        size_t below = 0, at_lo = 0, mid = 0, at_hi = 0, nan = 0;
-        for (size_t r = 0; r + 1 < n; r++) {
-            double step = t[r + 1] - t[r];
-            if (step <= 0.0 && nonpositive++ == 0)
-                first_back = r + 1;
-            backward += step < 0.0;
-            repeated += step == 0.0;
-            lo = step < lo ? step : lo;
-            hi = step > hi ? step : hi;
-            below += step < br.lo;
-            at_lo += step == br.lo;
-            mid += step > br.lo && step < br.hi;
-            at_hi += step == br.hi && br.hi > br.lo;
-            nan += isnan(step);
-        }
-        br.below = below;
-        br.at_lo = at_lo;
-        br.mid = mid;
-        br.at_hi = at_hi;
-        br.nan = nan;
+        step_counts c;
+        count_steps(t, n, &br, allow_avx2, &c);
+        first_back = c.first_back;
+        nonpositive = c.nonpositive;
+        backward = c.backward;
+        repeated = c.repeated;
+        lo = c.lo;
+        hi = c.hi;
+        br.below = c.below;
+        br.at_lo = c.at_lo;
+        br.mid = c.mid;
+        br.at_hi = c.at_hi;
+        br.nan = c.nan;
     } else {
         for (size_t r = 0; r + 1 < n; r++) {
             double step = t[r + 1] - t[r];
@@ -911,9 +1036,14 @@ el_status el_scan_table(const el_table *table, el_scan *scan, el_error *err)
     scan->long_steps = long_steps;
     free(steps);
     for (size_t c = 0; c < table->n_columns; c++)
-        el_scan_column_stats(table->values + c * n, n, 1, &cols[c]);
+        el_scan_column_stats(table->values + c * n, n, allow_avx2, &cols[c]);
     scan->columns = cols;
     return EL_OK;
+}
+
+el_status el_scan_table(const el_table *table, el_scan *scan, el_error *err)
+{
+    return el_scan_table_using(table, 1, scan, err);
 }
 
 void el_scan_free(el_scan *scan)

@@ -137,6 +137,13 @@ typedef struct {
  * step). The caller frees with el_scan_free; on error nothing to free. */
 el_status el_scan_table(const el_table *table, el_scan *scan, el_error *err);
 
+/* el_scan_table with the AVX2 loops (on CPUs that have them) allowed
+ * (allow_avx2 = 1, what el_scan_table does) or not (0: the plain loop
+ * over the steps, SSE2 column sums): the same scan bit for bit (tests
+ * compare the two). */
+el_status el_scan_table_using(const el_table *table, int allow_avx2, el_scan *scan,
+                              el_error *err);
+
 /* The statistics of one column v[0..n) as el_scan_table gives them
  * (present and missing cells, mean, min, max, sample std, constant):
  * sums in four lanes (cell r into lane r % 4, the last n % 4 cells into

@@ -344,19 +344,97 @@ static double intervals_of(double step, double dt)
     return floor(step / dt + 0.5);
 }
 
-/* What the steps of rows first..last say about the grid with interval dt:
- * the same judgement for el_series_build and for el_timebase_survey. */
-typedef struct {
-    double intervals;       /* whole intervals spanned by all steps */
-    double jitter;          /* max |step - m dt| / dt */
-    int on_grid;            /* every step within jitter_limit of m >= 1 intervals */
-    size_t gap_row;         /* first row after a time gap longer than max_gap (0: none) */
-    double gap_missing;     /* samples missing in that gap */
-    double longest_gap;     /* samples missing in the longest time gap */
-} step_survey;
+typedef el_step_survey step_survey;
 
-static void survey_steps(const double *time, size_t first, size_t last, double dt,
-                         size_t max_gap, double jitter_limit, step_survey *sv)
+#if defined(__x86_64__) && (defined(__GNUC__) || defined(__clang__))
+#include <immintrin.h>
+#define EL_SURVEY_AVX2 1
+/* The running figures of the step survey's first loop (a positive finite
+ * dt), kept four lanes at a time by survey_blocks_avx2. */
+typedef struct {
+    double worst, fewest, longest_gap, gap_missing, intervals;
+    size_t gap_row;
+} survey_run;
+
+/* Lane maxima and minima back into the running figures: the scalar loop
+ * keeps the first of equal values and skips NaN, and equal doubles here
+ * are the same bits (no -0.0 arises: m is floor(q + 0.5), never -0.0,
+ * and off is a magnitude), so the order of the lanes does not matter. */
+__attribute__((target("avx2"))) static void survey_fold(__m256d worst4, __m256d fewest4,
+                                                         __m256d longest4, survey_run *run)
+{
+    double w[4], f[4], l[4];
+    _mm256_storeu_pd(w, worst4);
+    _mm256_storeu_pd(f, fewest4);
+    _mm256_storeu_pd(l, longest4);
+    for (int i = 0; i < 4; i++) {
+        run->worst = w[i] > run->worst ? w[i] : run->worst;
+        run->fewest = f[i] < run->fewest ? f[i] : run->fewest;
+        run->longest_gap = l[i] > run->longest_gap ? l[i] : run->longest_gap;
+    }
+}
+
+/* survey_steps's first loop over the steps ending at rows r .. (whole
+ * blocks of four), each step with the scalar loop's operations (a
+ * subtraction, a division, + 0.5, floor, a multiplication and a
+ * subtraction: IEEE-exact each, no fused multiply-add, so the same
+ * doubles lane by lane). The sum of the intervals is taken in four lanes
+ * only when it is exact: every m an integer of magnitude at most 2^53 /
+ * (steps in the blocks), so every partial sum in any order is an exact
+ * integer, the sequential loop's sum bit for bit; otherwise (NaN, inf,
+ * huge steps) the caller adds them again in order (*exact = 0). Returns
+ * the next row. */
+__attribute__((target("avx2"))) static size_t
+survey_blocks_avx2(const double *time, size_t r, size_t last, double dt, double max_gap,
+                   survey_run *run, int *exact)
+{
+    size_t n_blocks = (last + 1 - r) / 4;
+    if (n_blocks == 0)
+        return r;
+    const __m256d dt4 = _mm256_set1_pd(dt), half = _mm256_set1_pd(0.5);
+    const __m256d one = _mm256_set1_pd(1.0), gap4 = _mm256_set1_pd(max_gap);
+    const __m256d absmask = _mm256_castsi256_pd(_mm256_set1_epi64x(0x7fffffffffffffffLL));
+    const __m256d limit = _mm256_set1_pd(9007199254740992.0 / (double)(4 * n_blocks));
+    __m256d worst4 = _mm256_set1_pd(run->worst), fewest4 = _mm256_set1_pd(run->fewest);
+    __m256d longest4 = _mm256_set1_pd(run->longest_gap), sum4 = _mm256_setzero_pd();
+    __m256d within = _mm256_castsi256_pd(_mm256_set1_epi64x(-1));
+    for (size_t b = 0; b < n_blocks; b++, r += 4) {
+        __m256d step = _mm256_sub_pd(_mm256_loadu_pd(time + r), _mm256_loadu_pd(time + r - 1));
+        __m256d m = _mm256_floor_pd(_mm256_add_pd(_mm256_div_pd(step, dt4), half));
+        __m256d m1 = _mm256_sub_pd(m, one);
+        longest4 = _mm256_blendv_pd(longest4, m1, _mm256_cmp_pd(m1, longest4, _CMP_GT_OQ));
+        int over = _mm256_movemask_pd(_mm256_cmp_pd(m1, gap4, _CMP_GT_OQ));
+        if (over != 0 && run->gap_row == 0) {
+            double lane[4];
+            _mm256_storeu_pd(lane, m1);
+            int i = __builtin_ctz((unsigned)over);
+            run->gap_row = r + (size_t)i;
+            run->gap_missing = lane[i];
+        }
+        __m256d mm = _mm256_blendv_pd(one, m, _mm256_cmp_pd(m, one, _CMP_GE_OQ));
+        __m256d off = _mm256_and_pd(_mm256_sub_pd(step, _mm256_mul_pd(mm, dt4)), absmask);
+        worst4 = _mm256_blendv_pd(worst4, off, _mm256_cmp_pd(off, worst4, _CMP_GT_OQ));
+        fewest4 = _mm256_blendv_pd(fewest4, m, _mm256_cmp_pd(m, fewest4, _CMP_LT_OQ));
+        sum4 = _mm256_add_pd(sum4, m);
+        within = _mm256_and_pd(within,
+                               _mm256_cmp_pd(_mm256_and_pd(m, absmask), limit, _CMP_LE_OQ));
+    }
+    survey_fold(worst4, fewest4, longest4, run);
+    *exact = _mm256_movemask_pd(within) == 0xf;
+    if (*exact) {
+        double s[4];
+        _mm256_storeu_pd(s, sum4);
+        run->intervals += (s[0] + s[1]) + (s[2] + s[3]);  /* exact integers */
+    }
+    return r;
+}
+#else
+#define EL_SURVEY_AVX2 0
+#endif
+
+void el_timebase_step_survey(const double *time, size_t first, size_t last, double dt,
+                             size_t max_gap, double jitter_limit, int allow_avx2,
+                             el_step_survey *sv)
 {
     memset(sv, 0, sizeof *sv);
     /* The running values in locals: sv's fields could alias time for the
@@ -364,6 +442,7 @@ static void survey_steps(const double *time, size_t first, size_t last, double d
     double intervals = 0.0, jitter = 0.0, longest_gap = 0.0, gap_missing = 0.0;
     size_t gap_row = 0;
     int on_grid = 1;
+    (void)allow_avx2;
     if (dt > 0.0 && dt < INFINITY && jitter_limit >= 0.0) {
         /* One division per step, not two: dividing by a positive finite
          * dt rounds monotonically (x <= y gives x/dt <= y/dt, also for
@@ -374,7 +453,26 @@ static void survey_steps(const double *time, size_t first, size_t last, double d
          * here as it did there. The same doubles as the
          * loop below (tests/test_timebase.c compares them). */
         double worst = 0.0, fewest = 1.0;
-        for (size_t r = first + 1; r <= last; r++) {
+        size_t r = first + 1;
+#if EL_SURVEY_AVX2
+        if (allow_avx2 && last >= r && __builtin_cpu_supports("avx2")) {
+            survey_run run = {0.0, 1.0, 0.0, 0.0, 0.0, 0};
+            int exact = 1;
+            size_t end = survey_blocks_avx2(time, r, last, dt, (double)max_gap, &run, &exact);
+            if (!exact) {
+                for (size_t q = r; q < end; q++)
+                    run.intervals += intervals_of(time[q] - time[q - 1], dt);
+            }
+            worst = run.worst;
+            fewest = run.fewest;
+            longest_gap = run.longest_gap;
+            gap_row = run.gap_row;
+            gap_missing = run.gap_missing;
+            intervals = run.intervals;
+            r = end;
+        }
+#endif
+        for (; r <= last; r++) {
             double step = time[r] - time[r - 1];
             double m = intervals_of(step, dt);
             if (m - 1 > longest_gap)
@@ -414,6 +512,14 @@ static void survey_steps(const double *time, size_t first, size_t last, double d
     sv->gap_row = gap_row;
     sv->gap_missing = gap_missing;
     sv->longest_gap = longest_gap;
+}
+
+/* What the steps of rows first..last say about the grid with interval dt:
+ * the same judgement for el_series_build and for el_timebase_survey. */
+static void survey_steps(const double *time, size_t first, size_t last, double dt,
+                         size_t max_gap, double jitter_limit, step_survey *sv)
+{
+    el_timebase_step_survey(time, first, last, dt, max_gap, jitter_limit, 1, sv);
 }
 
 static el_status time_gap_error(const timebase_plan *plan, size_t row, double missing,

@@ -127,6 +127,30 @@ el_status el_timebase_survey(const el_table *table, const el_timebase_options *o
 el_status el_timebase_survey_step(const el_table *table, const el_timebase_options *opt,
                                   double dt_step, el_time_survey *out, el_error *err);
 
+/* What the steps of the increasing times time[first..last] say about a
+ * grid of interval dt (el_series_build and el_timebase_survey judge a log
+ * by it): intervals, the whole intervals m = floor(step / dt + 0.5) summed
+ * in row order; jitter, the largest |step - max(m, 1) dt| / dt; on_grid,
+ * every m >= 1 and no deviation above jitter_limit; gap_row, the first row
+ * whose step has m - 1 > max_gap (0: none) and gap_missing its m - 1;
+ * longest_gap, the largest m - 1 (at least 0). allow_avx2 = 0 keeps to
+ * the plain loop; otherwise, on CPUs with AVX2 (checked at run time),
+ * four steps at a time with the same doubles bit for bit (the test
+ * compares the two). No allocation; can't fail. */
+typedef struct {
+    double intervals;
+    double jitter;
+    int on_grid;
+    size_t gap_row;
+    double gap_missing;
+    double longest_gap;
+} el_step_survey;
+
+void el_timebase_step_survey(const double *time, size_t first, size_t last, double dt,
+                             size_t max_gap, double jitter_limit, int allow_avx2,
+                             el_step_survey *out);
+
+
 /* Frees everything the series owns and zeroes it. NULL is a no-op. */
 void el_series_free(el_series *series);
 

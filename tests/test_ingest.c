@@ -1656,6 +1656,74 @@ static void test_median_step_bracket(void **state)
         }
 }
 
+/* el_scan_table's one pass over the steps of a long log (the bracketed
+ * median's counts, the first step not forward, the smallest and largest
+ * step) four steps at a time on AVX2 CPUs, against the plain loop
+ * (el_scan_table_using with allow_avx2 = 0), bit for bit (tolerance 0:
+ * each count is a number of steps passing a test, the extremes the same
+ * doubles): regular stamps, jitter, steps back and repeated stamps, and
+ * signed zeros as the smallest step (+0.0 met first, -0.0 later in
+ * another lane: the plain loop keeps +0.0, which a lane-wise minimum
+ * would not). Lengths leave every tail of a block of four. */
+static void test_scan_steps_paths(void **state)
+{
+    (void)state;
+    uint64_t seed = 515;
+    for (int kind = 0; kind < 4; kind++)
+        for (size_t n = 40001; n < 40005; n++) {
+            char *text = malloc(n * 48 + 16);
+            assert_non_null(text);
+            size_t w = (size_t)sprintf(text, "t,x\n");
+            double t = 1000.0;
+            for (size_t r = 0; r < n; r++) {
+                uint64_t x = next_random(&seed);
+                if (kind == 0)
+                    t = 1000.0 + 0.001 * (double)r;
+                else if (kind == 1)
+                    t += 0.001 * (1.0 + (double)(x % 1000003) / 5e6);
+                else if (kind == 2)  /* now and then a step back or a repeat */
+                    t += x % 53 == 0 ? -0.0005 : x % 59 == 0 ? 0.0 : 0.001;
+                else  /* -1, 0, 0, 0, 0, -0, then on: steps 1, +0, +0, +0, -0, ... */
+                    t = r == 0 ? -1.0 : r < 5 ? 0.0 : r == 5 ? -0.0 : 0.001 * (double)r;
+                w += (size_t)sprintf(text + w, kind == 0 ? "%.3f,%zu\n" : "%.17g,%zu\n", t, r);
+            }
+            el_table tab = {0};
+            el_error e;
+            el_scan a = {0}, b = {0};
+            assert_int_equal(read_text(text, &tab, &e), EL_OK);
+            assert_int_equal(tab.n_rows, n);
+            el_status sa = el_scan_table_using(&tab, 1, &a, &e);
+            el_status sb = el_scan_table_using(&tab, 0, &b, &e);
+            assert_int_equal(sa, sb);
+            assert_int_equal(sa, EL_OK);
+            assert_int_equal(a.nonpositive_steps, b.nonpositive_steps);
+            assert_int_equal(a.backward_steps, b.backward_steps);
+            assert_int_equal(a.repeated_steps, b.repeated_steps);
+            assert_int_equal(a.long_steps, b.long_steps);
+            assert_int_equal(a.dt_is_mean, b.dt_is_mean);
+            assert_memory_equal(&a.dt_median, &b.dt_median, sizeof a.dt_median);
+            assert_memory_equal(&a.dt_step, &b.dt_step, sizeof a.dt_step);
+            assert_memory_equal(&a.dt_min, &b.dt_min, sizeof a.dt_min);
+            assert_memory_equal(&a.dt_max, &b.dt_max, sizeof a.dt_max);
+            assert_memory_equal(&a.jitter, &b.jitter, sizeof a.jitter);
+            for (size_t c = 0; c < tab.n_columns; c++) {
+                assert_memory_equal(&a.columns[c].mean, &b.columns[c].mean, sizeof(double));
+                assert_memory_equal(&a.columns[c].std, &b.columns[c].std, sizeof(double));
+            }
+            if (kind == 2)
+                assert_true(a.backward_steps > 0 && a.repeated_steps > 0);
+            if (kind == 3) {  /* IEEE 754: 0.0 - 0.0 is +0.0, -0.0 - 0.0 is -0.0 */
+                assert_true(a.dt_min == 0.0 && !signbit(a.dt_min));
+                assert_int_equal(a.repeated_steps, 4);
+                assert_int_equal(a.backward_steps, 0);
+            }
+            el_scan_free(&a);
+            el_scan_free(&b);
+            el_table_free(&tab);
+            free(text);
+        }
+}
+
 /* el_scan_column_stats with the AVX2 loops allowed and with SSE2 forced
  * (the fallback of a CPU without AVX2): the same counts, extremes, mean
  * and std bit for bit (tolerance 0: the same lanes, operations and
@@ -1797,6 +1865,7 @@ int main(void)
         cmocka_unit_test(test_stream_left_at_end),
         cmocka_unit_test(test_median_step_selection),
         cmocka_unit_test(test_median_step_bracket),
+        cmocka_unit_test(test_scan_steps_paths),
         cmocka_unit_test(test_scan_column_stats_paths),
     };
     return cmocka_run_group_tests_name("ingest", tests, NULL, NULL);

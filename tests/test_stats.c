@@ -11,6 +11,8 @@
 
 #include "el_rng.h"
 #include "el_stats.h"
+#include <cblas.h>
+#include <math.h>
 
 /* The plain loop of the contract: one accumulator per lag, ascending t. */
 static double plain_lag(const double *x, size_t n, double mean, size_t k)
@@ -139,6 +141,44 @@ static void test_spread_many_bitwise(void **state)
     free(x);
 }
 
+/* el_stats_add_rows against one cblas_daxpy of weight 1 per row (what the
+ * hankel bootstrap's replicate sums did before), bit for bit: rows of
+ * wide dynamic range, so that any other order of the additions shows in
+ * the result, row counts around the eight-row pass (0 .. 19) and lengths
+ * off the vector width. Closed form (IEEE 754 doubles, round to nearest
+ * even): 1e16 + 1 rounds to 1e16 (the spacing there is 2), so the rows
+ * 1e16, 1, -1e16 in this order sum to 0, not 1. */
+static void test_add_rows_bitwise(void **state)
+{
+    (void)state;
+    enum { N_ROWS = 19, LEN = 131 };
+    double *rows = malloc(N_ROWS * LEN * sizeof *rows);
+    double a[LEN], b[LEN];
+    assert_non_null(rows);
+    el_rng rng;
+    el_rng_seed(&rng, 12, 0);
+    for (size_t k = 0; k < N_ROWS * LEN; k++)
+        rows[k] = el_rng_normal(&rng) * pow(10.0, (double)(k % 33) - 16.0);
+    const double *ptr[N_ROWS];
+    for (size_t r = 0; r < N_ROWS; r++)
+        ptr[r] = rows + ((r * 7) % N_ROWS) * LEN;  /* not in memory order */
+    for (size_t nr = 0; nr <= N_ROWS; nr++) {
+        for (size_t len = 1; len <= LEN; len += 13) {
+            for (size_t j = 0; j < len; j++)
+                a[j] = b[j] = 0.25 * (double)j - 3.0;
+            el_stats_add_rows(a, len, ptr, nr);
+            for (size_t r = 0; r < nr; r++)
+                cblas_daxpy((int)len, 1.0, ptr[r], 1, b, 1);
+            assert_memory_equal(a, b, len * sizeof *a);
+        }
+    }
+    double big = 1e16, one = 1.0, minus = -1e16, s = 0.0;
+    const double *seq[3] = {&big, &one, &minus};
+    el_stats_add_rows(&s, 1, seq, 3);
+    assert_true(s == 0.0);
+    free(rows);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -146,6 +186,7 @@ int main(void)
         cmocka_unit_test(test_lagged_centring),
         cmocka_unit_test(test_lagged_bitwise),
         cmocka_unit_test(test_spread_many_bitwise),
+        cmocka_unit_test(test_add_rows_bitwise),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }

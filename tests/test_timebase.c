@@ -16,6 +16,7 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "el_rng.h"
 #include "el_timebase.h"
 
 /* Rounding in a handful of flops on values of size `scale` stays within a
@@ -1262,11 +1263,82 @@ static void test_survey_jitter_definition(void **state)
     }
 }
 
+/* el_timebase_step_survey's four-steps-at-a-time path (AVX2, where the
+ * CPU has it) against the plain loop (allow_avx2 = 0), bit for bit, on
+ * times made to reach every branch: jitter below and above the limit,
+ * gaps (the first one over max_gap named, the longest one kept), a step
+ * back and a repeated stamp (m < 1), steps so large that the intervals'
+ * sum is no longer exact in doubles (the in-order sum is then taken
+ * again), inf and NaN, and every length from 1 to 40 rows so that the
+ * blocks of four end everywhere. The plain loop is the definition
+ * (docs/method.md); on a CPU without AVX2 both calls take it. */
+static void test_step_survey_paths_agree(void **state)
+{
+    (void)state;
+    enum { N = 40 };
+    double t[N];
+    el_rng rng;
+    el_rng_seed(&rng, 77, 0);
+    for (int kind = 0; kind < 8; kind++) {
+        t[0] = 100.0;
+        for (size_t r = 1; r < N; r++)
+            t[r] = t[r - 1] + 0.01 * (1.0 + (kind == 1 ? 0.03 : 0.001) * el_rng_normal(&rng));
+        if (kind == 2) {
+            t[9] += 0.05;  /* a gap of 5 intervals ... */
+            for (size_t r = 10; r < N; r++)
+                t[r] += 0.05;
+            for (size_t r = 30; r < N; r++)  /* ... and a longer one after it */
+                t[r] += 0.2;
+        }
+        if (kind == 3)
+            t[17] = t[16] - 0.004;  /* a step back (m = 0), then one of 2 intervals */
+        if (kind == 4)
+            t[21] = t[20];  /* a repeated stamp */
+        if (kind == 5)
+            for (size_t r = 5; r < N; r++)
+                t[r] = t[r - 1] + (r % 3 == 0 ? 1e300 : 0.01);
+        if (kind == 6)
+            t[25] = INFINITY;
+        if (kind == 7)
+            t[13] = NAN;
+        for (size_t last = 0; last < N; last++) {
+            for (size_t first = 0; first <= last && first < 6; first++) {
+                el_step_survey a, b;
+                el_timebase_step_survey(t, first, last, 0.01, 3, 0.01, 0, &a);
+                el_timebase_step_survey(t, first, last, 0.01, 3, 0.01, 1, &b);
+                assert_memory_equal(&a.intervals, &b.intervals, sizeof a.intervals);
+                assert_memory_equal(&a.jitter, &b.jitter, sizeof a.jitter);
+                assert_memory_equal(&a.gap_missing, &b.gap_missing, sizeof a.gap_missing);
+                assert_memory_equal(&a.longest_gap, &b.longest_gap, sizeof a.longest_gap);
+                assert_int_equal(a.on_grid, b.on_grid);
+                assert_int_equal(a.gap_row, b.gap_row);
+            }
+        }
+        /* closed forms on the whole log: the gaps of kind 2 span 6 and 21
+         * intervals (5 and 20 samples missing), the first past max_gap 3
+         * ends at row 9; kind 1's jitter of 3 % of dt leaves the grid */
+        el_step_survey a;
+        el_timebase_step_survey(t, 0, N - 1, 0.01, 3, 0.01, 1, &a);
+        if (kind == 2) {
+            assert_int_equal(a.gap_row, 9);
+            assert_true(a.gap_missing == 5.0 && a.longest_gap == 20.0);
+            assert_true(a.intervals == (double)(N - 1) + 25.0);
+        }
+        if (kind == 0)
+            assert_true(a.on_grid && a.intervals == (double)(N - 1));
+        if (kind == 1)
+            assert_false(a.on_grid);
+        if (kind == 3 || kind == 4)
+            assert_false(a.on_grid);
+    }
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_defaults),
         cmocka_unit_test(test_survey_jitter_definition),
+        cmocka_unit_test(test_step_survey_paths_agree),
         cmocka_unit_test(test_uniform_passthrough),
         cmocka_unit_test(test_uniform_inexact_times),
         cmocka_unit_test(test_small_jitter_keeps_rows),
