@@ -410,9 +410,12 @@ static void one_log(const cal_case *c, size_t n_samples, size_t rep, const cal_o
     out->confident_wrong = truly_stable ? br.p_stable <= 0.05 : br.p_stable >= 0.95;
     if (o->each)
         fprintf(stderr, "log: %s n %zu log %zu %s order %zu rows %zu block %zu point %.5f "
-                "bounds %.5f %.5f truth %.5f\n", c->name, n_samples, rep,
-                el_method_name(fo.method), model.state_dim, model.subspace_rows,
-                br.block_length, modes.modes[best].lambda_re, b->re.lo, b->re.hi, tre);
+                "bounds %.5f %.5f truth %.5f own %.5f %.5f repeated %d merged %.4f "
+                "mean %.5f %.5f\n", c->name, n_samples, rep, el_method_name(fo.method),
+                model.state_dim, model.subspace_rows, br.block_length,
+                modes.modes[best].lambda_re, b->re.lo, b->re.hi, tre, b->re_own.lo,
+                b->re_own.hi, b->repeated_root, b->merged_fraction, b->re_pair_mean.lo,
+                b->re_pair_mean.hi);
     if (!out->cover_re && o->misses) {
         fprintf(stderr, "miss: %s n %zu log %zu truth %.4f%+.4fi %s order %zu; modes:",
                 c->name, n_samples, rep, tre, tim, el_method_name(fo.method), model.state_dim);

@@ -1333,6 +1333,8 @@ el_status el_assess_execute(el_assess_plan *ap, const el_assess_options *opt,
     if (st == EL_OK && boot_run)
         st = el_boot_run(&r->series, &fit, &r->model, &r->modes, &opt->boot,
                          &r->boot, &r->warnings, err);
+    if (st == EL_OK && boot_run)
+        st = el_boot_warn_repeated(&r->boot, &r->warnings, err);
     if (st == EL_OK)
         st = verdict(opt, boot_run, r, err);
     if (st == EL_OK && opt->boot.replicates > 0 && !boot_run)

@@ -51,6 +51,136 @@ static el_interval percentile_interval(double *v, size_t n, double level)
     return out;
 }
 
+/* ------------------------------------------------------------------ */
+/* A possible repeated root. */
+
+/* Two real point modes' replicate values come from one complex pair when
+ * both carry the same positive Im: the matcher folds a pair onto Im >= 0
+ * as two equal slots, and a real mode's Im is never shifted (el_resample.c,
+ * recentre). Relative tolerance 1e-9: |Im| of a conjugate pair is equal to
+ * the last bits, while two different pairs of one replicate differ far
+ * more than that. */
+static int one_pair(double im_q, double im_p)
+{
+    return im_q > 0.0 && im_p > 0.0 && fabs(im_q - im_p) <= 1e-9 * fmax(im_q, im_p);
+}
+
+/* Whether point mode q can be half of a repeated real root: a real mode
+ * with a Re (not at the Nyquist limit, not instantaneous). */
+static int repeat_candidate(const el_mode *md)
+{
+    return !md->pair && !md->at_nyquist && !md->instantaneous && isfinite(md->lambda_re);
+}
+
+/* The candidate nearest to q in Re (ties: the lower index); nm when none. */
+static size_t nearest_real(const el_modes *point, size_t q)
+{
+    size_t best = point->n_modes;
+    double bd = HUGE_VAL;
+    for (size_t p = 0; p < point->n_modes; p++) {
+        if (p == q || !repeat_candidate(&point->modes[p]))
+            continue;
+        double d = fabs(point->modes[p].lambda_re - point->modes[q].lambda_re);
+        if (d < bd) {
+            bd = d;
+            best = p;
+        }
+    }
+    return best;
+}
+
+/* Extends one mode's Re, decay-rate and damping-ratio bounds by the pair
+ * mean's Re bounds (a real root at any Re inside them: decay rate -Re,
+ * damping ratio 1 below zero and -1 above). */
+static void extend_by_mean(el_mode_bounds *b)
+{
+    el_interval m = b->re_pair_mean;
+    b->repeated_root = 1;
+    b->re.lo = fmin(b->re.lo, m.lo);
+    b->re.hi = fmax(b->re.hi, m.hi);
+    b->decay_rate.lo = fmin(b->decay_rate.lo, -m.hi);
+    b->decay_rate.hi = fmax(b->decay_rate.hi, -m.lo);
+    if (m.lo < 0.0) {
+        b->damping_ratio.lo = fmin(b->damping_ratio.lo, 1.0);
+        b->damping_ratio.hi = fmax(b->damping_ratio.hi, 1.0);
+    }
+    if (m.hi > 0.0) {
+        b->damping_ratio.lo = fmin(b->damping_ratio.lo, -1.0);
+        b->damping_ratio.hi = fmax(b->damping_ratio.hi, -1.0);
+    }
+}
+
+/* At a double real root the eigenvalues are not differentiable functions
+ * of the matrix (they move like the square root of the discriminant), and
+ * the bootstrap of either root is not consistent (Beran & Srivastava 1985,
+ * Ann. Statist. 13(1), for a multiple root of a covariance matrix;
+ * recalled from memory): the larger of two split roots sits above the
+ * double root, and its replicates spread about the split estimate, not
+ * about the truth. The mean of the two roots (a smooth function of the
+ * matrix: log det / (2 dt) of a two-state model's Ad) has a consistent
+ * bootstrap, and a double root equals it. So when two real point modes
+ * (each the other's nearest real mode) were one complex pair in at least
+ * EL_BOOT_REPEATED_TAIL (1 - level) of the replicates, i.e. the bounds of
+ * the pair's discriminant (lambda_q - lambda_p)^2 at that tail reach below
+ * zero and the data cannot tell the two real roots from a double one,
+ * each mode's bounds are extended to hold the mean's. For two distinct
+ * real roots the larger is above the mean and the smaller below it, so
+ * the extension can only add coverage. A point pair needs nothing: its
+ * replicate Re is already the mean of the two slots it is matched to. The
+ * mean's bounds and the merged fraction are kept for every real pair that
+ * merged at all (el_mode_bounds). v: n_ok doubles of scratch. */
+static void widen_repeated_roots(const el_modes *point, const double *re, const double *im,
+                                 size_t n_ok, double level, double *v, el_boot_result *res)
+{
+    size_t nm = point->n_modes;
+    /* Less one part in 1e12: 0.1 x 0.05 x 400 is 2 + 4e-16 in doubles. */
+    double need = fmax(1.0, EL_BOOT_REPEATED_TAIL * (1.0 - level) * (double)n_ok
+                                * (1.0 - 1e-12));
+    for (size_t q = 0; q < nm; q++) {
+        if (!repeat_candidate(&point->modes[q]))
+            continue;
+        size_t p = nearest_real(point, q);
+        if (p >= nm || p < q || nearest_real(point, p) != q)
+            continue; /* each pair once (q < p), and only mutual nearest modes */
+        size_t merged = 0;
+        for (size_t i = 0; i < n_ok; i++)
+            merged += (size_t)one_pair(im[i * nm + q], im[i * nm + p]);
+        if (merged == 0)
+            continue;
+        for (size_t i = 0; i < n_ok; i++)
+            v[i] = 0.5 * (re[i * nm + q] + re[i * nm + p]);
+        el_interval mean_re = percentile_interval(v, n_ok, level);
+        el_mode_bounds *bq = &res->bounds[q], *bp = &res->bounds[p];
+        bq->repeated_partner = p;
+        bp->repeated_partner = q;
+        bq->merged_fraction = bp->merged_fraction = (double)merged / (double)n_ok;
+        bq->re_pair_mean = bp->re_pair_mean = mean_re;
+        if ((double)merged < need || !isfinite(mean_re.lo) || !isfinite(mean_re.hi))
+            continue;
+        extend_by_mean(bq);
+        extend_by_mean(bp);
+    }
+}
+
+el_status el_boot_warn_repeated(const el_boot_result *res, el_warnings *w, el_error *err)
+{
+    for (size_t q = 0; res->bounds != NULL && q < res->n_modes; q++) {
+        const el_mode_bounds *b = &res->bounds[q];
+        if (!b->repeated_root || b->repeated_partner <= q)
+            continue; /* each pair once */
+        el_status st = el_warnings_add(
+            w,
+            "modes %zu and %zu may be one repeated real root (one complex pair in %.1f%% "
+            "of the bootstrap replicates): the Re bounds of each also hold those of "
+            "their mean, %.4g to %.4g",
+            q + 1, b->repeated_partner + 1, 100.0 * b->merged_fraction, b->re_pair_mean.lo,
+            b->re_pair_mean.hi);
+        if (st != EL_OK)
+            return el_error_set(err, st, "out of memory for a warning");
+    }
+    return EL_OK;
+}
+
 void el_boot_free(el_boot_result *result)
 {
     if (result == NULL)
@@ -138,7 +268,10 @@ el_status el_boot_summarise(const el_boot_records *sh, const el_modes *point,
             b->damping_ratio = none;
             b->decay_rate = none;
         }
+        b->re_own = b->re;
+        b->re_pair_mean = none;
     }
+    widen_repeated_roots(point, res->lambda_re, res->lambda_im, n_ok, level, v, res);
     if (sh->has_plane) {
         double scale = 0.0;
         for (size_t q = 0; q < nm; q++) {

@@ -20,7 +20,29 @@ typedef struct {
 
 typedef struct {
     el_interval re, im, frequency_hz, damping_ratio, decay_rate;
+    /* A possible repeated root (el_boot_summarise): 1 when this real mode
+     * and its partner (the real mode nearest in Re) were one complex pair
+     * in enough replicates that the data cannot tell two distinct real
+     * roots from a double one; re, decay_rate and damping_ratio then also
+     * hold the bounds of the pair's mean Re. */
+    int repeated_root;
+    size_t repeated_partner;      /* the partner's mode index (when merged_fraction > 0) */
+    double merged_fraction;       /* fraction of replicates in which this real mode and
+                                     its partner were one complex pair (0: never, or no
+                                     partner) */
+    el_interval re_pair_mean;     /* bounds of the pair's mean Re (NaN when
+                                     merged_fraction is 0) */
+    el_interval re_own;           /* the mode's own percentile bounds of Re lambda
+                                     (== re unless repeated_root widened them) */
 } el_mode_bounds;
+
+/* The share of (1 - level) at which the replicates are taken not to
+ * exclude a double root (el_boot_summarise): at level 0.95, two real modes
+ * merged into one pair in at least 0.5 % of the replicates. A tenth, not
+ * the interval's own tail (1 - level) / 2: a log of a true double root
+ * whose pair is not widened loses its coverage outright, so the test must
+ * pass on nearly every such log (docs/uncertainty.md, "Repeated roots"). */
+#define EL_BOOT_REPEATED_TAIL 0.1
 
 typedef struct el_boot_result {
     size_t replicates;            /* replicates that gave a model */
@@ -84,10 +106,26 @@ typedef struct {
  * thread count cannot change anything): two-sided percentile bounds at
  * level (el_boot_quantile), NaN for what the point mode does not have
  * (frequency at the Nyquist limit; Re, damping and decay of an
- * instantaneous mode). Errors: EL_ERR_NUMERIC when fewer than half of the
- * replicates gave a model; EL_ERR_NOMEM. */
+ * instantaneous mode). A possible repeated root: two real point modes
+ * that are each other's nearest real mode in Re and are matched to one
+ * and the same complex pair in at least EL_BOOT_REPEATED_TAIL x (1 - level)
+ * of the replicates (and in one at least) get Re bounds that also hold the percentile bounds of their mean
+ * (re_q + re_p) / 2 over the replicates (decay rate and damping ratio
+ * alike; repeated_root, repeated_partner, re_own): the bootstrap of
+ * either root is not consistent at a double root, that of their mean is
+ * (docs/uncertainty.md, "Repeated roots"). Point estimates, the matched
+ * replicates and p_stable are not changed. Errors: EL_ERR_NUMERIC when
+ * fewer than half of the replicates gave a model; EL_ERR_NOMEM. */
 el_status el_boot_summarise(const el_boot_records *records, const el_modes *point,
                             double level, el_boot_result *res, el_error *err);
+
+/* Adds one warning to w for each pair of modes whose bounds
+ * el_boot_summarise widened for a possible repeated root (repeated_root):
+ * which modes (numbered from 1, as in the reports), in what share of the
+ * replicates they were one complex pair, and the bounds of their mean Re
+ * that each mode's Re bounds now hold. Nothing when no bounds were widened
+ * or res holds no bounds. Errors: EL_ERR_NOMEM. */
+el_status el_boot_warn_repeated(const el_boot_result *res, el_warnings *w, el_error *err);
 
 /* Judging a coverage study (bench/calibrate.c, tests/test_coverage.c):
  * of n independent logs, covered had the truth inside their nominal

@@ -676,6 +676,7 @@ static void json_mode_bounds(el_json *j, const el_assessment *r, size_t i)
     el_json_pair(j, "frequency_hz", b->frequency_hz.lo, b->frequency_hz.hi);
     el_json_pair(j, "damping_ratio", b->damping_ratio.lo, b->damping_ratio.hi);
     el_json_pair(j, "decay_rate", b->decay_rate.lo, b->decay_rate.hi);
+    el_json_bool(j, "repeated_root", b->repeated_root);
     el_json_object_end(j);
 }
 
@@ -1132,6 +1133,7 @@ static const struct {
     {"bootstrap_basis_fixed", "keep the rank-"},
     {"bootstrap_failed_replicates", "singular refit"},
     {"mode_swap", "modes could swap"},
+    {"repeated_root", "may be one repeated real root"},
     {"bootstrap_not_bias_corrected", "not bias-corrected"},
     {"bootstrap_reduced", "does not reproduce the point estimate"},
     {"band_edge", "--band"},
