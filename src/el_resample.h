@@ -55,7 +55,8 @@ el_boot_bias_plan el_boot_bias_rule(size_t n_pairs);
  * widened about their median, given that quantity's spread (IQR / 1.349)
  * among the bias round's n_model accepted model-based replicates, its
  * spread among the block replicates, and the round's weight
- * (el_boot_bias_rule): 1 + weight (f - 1) with f = model / blocks when
+ * (el_boot_bias_rule; the run passes it times el_boot_growth_weight of
+ * the quantity's mode): 1 + weight (f - 1) with f = model / blocks when
  * f > 1, else 1; also 1 with fewer than 20 model replicates (too noisy a
  * spread to widen by) or a non-finite or non-positive spread. Never
  * narrows; continuous in the weight, so bounds do not jump where the round
