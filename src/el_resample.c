@@ -61,6 +61,16 @@ double el_boot_widen_factor(double model_spread, double blocks_spread, double we
     return isfinite(f) && f > 1.0 ? 1.0 + (weight < 1.0 ? weight : 1.0) * (f - 1.0) : 1.0;
 }
 
+double el_boot_growth_weight(double efolds)
+{
+    if (!isfinite(efolds) || efolds <= EL_BOOT_GROWTH_WIDEN_FULL)
+        return 1.0;
+    if (efolds >= EL_BOOT_GROWTH_WIDEN_NONE)
+        return 0.0;
+    return (EL_BOOT_GROWTH_WIDEN_NONE - efolds)
+           / (EL_BOOT_GROWTH_WIDEN_NONE - EL_BOOT_GROWTH_WIDEN_FULL);
+}
+
 void el_boot_defaults(el_boot_options *opt)
 {
     memset(opt, 0, sizeof *opt);
@@ -1140,6 +1150,24 @@ static void replicate_location(const boot_shared *sh, const double *v, size_t st
     *spread = (el_boot_quantile(tmp, c, 0.75) - el_boot_quantile(tmp, c, 0.25)) / 1.349;
 }
 
+/* The share of the widening that quantity k of the bias round's records
+ * keeps (el_boot_growth_weight): Re and Im of mode q (k = q, n_modes + q)
+ * by that mode's growth over the log, Re lambda_q m dt (the point
+ * estimate, m pairs of dt); trace and determinant by the least growing
+ * mode's, whose spread is the larger part of theirs. A decaying mode
+ * keeps the widening whatever the others do (a saddle's stable mode). */
+static double growth_share(const boot_shared *sh, size_t k)
+{
+    double duration_s = (double)sh->m * sh->dt;
+    size_t nm = sh->n_modes;
+    if (k < 2 * nm)
+        return el_boot_growth_weight(sh->point->modes[k % nm].lambda_re * duration_s);
+    double share = 0.0;
+    for (size_t q = 0; q < nm; q++)
+        share = fmax(share, el_boot_growth_weight(sh->point->modes[q].lambda_re * duration_s));
+    return share;
+}
+
 /* The factor that widens the block replicates of one quantity to the
  * spread the model-based replicates of the bias round found (1 when there
  * was no accepted round, for model-based replicates, or when the blocks
@@ -1150,8 +1178,8 @@ static double widen_factor(const boot_shared *sh, size_t k, double blocks_spread
      * would be Monte Carlo noise only. */
     if (sh->model_spread == NULL || sh->kind != EL_RESAMPLE_BLOCKS || !(blocks_spread > 0.0))
         return 1.0;
-    return el_boot_widen_factor(sh->model_spread[k], blocks_spread, sh->model_weight,
-                                sh->model_count);
+    return el_boot_widen_factor(sh->model_spread[k], blocks_spread,
+                                sh->model_weight * growth_share(sh, k), sh->model_count);
 }
 
 /* The refusal test of measure_bias for a round of fewer than

@@ -55,13 +55,44 @@ el_boot_bias_plan el_boot_bias_rule(size_t n_pairs);
  * widened about their median, given that quantity's spread (IQR / 1.349)
  * among the bias round's n_model accepted model-based replicates, its
  * spread among the block replicates, and the round's weight
- * (el_boot_bias_rule): 1 + weight (f - 1) with f = model / blocks when
+ * (el_boot_bias_rule; the run passes it times el_boot_growth_weight of
+ * the quantity's mode): 1 + weight (f - 1) with f = model / blocks when
  * f > 1, else 1; also 1 with fewer than 20 model replicates (too noisy a
  * spread to widen by) or a non-finite or non-positive spread. Never
  * narrows; continuous in the weight, so bounds do not jump where the round
  * starts to taper. Pure function. */
 double el_boot_widen_factor(double model_spread, double blocks_spread, double weight,
                             size_t n_model);
+
+/* Growth over the log, in e-foldings (Re lambda of a mode times the log's
+ * duration), below which the widening of el_boot_widen_factor applies in
+ * full, and from which it does not apply at all (linear in between). On a
+ * log that grows, the model-based replicates regenerate the whole growth
+ * from its first state, and the size of the growth's envelope (the
+ * regressors' sum of squares, which sets the estimate's precision) then
+ * differs from replicate to replicate by orders of magnitude: their spread
+ * is that of the estimate over every envelope the model could have made,
+ * while the log has one. Conditional on it (the explosive autoregression's
+ * estimate is mixed normal: Anderson 1959, Ann. Math. Statist. 30(3);
+ * recalled from memory) the pairs' spread is the right one, and widening
+ * to the model-based spread over-covered (spiral source, 5,000 samples,
+ * least squares: 0.969 on 480 fresh logs, bounds 15 % too wide;
+ * docs/uncertainty.md, "Growing logs"). The ends are a rule of thumb: a
+ * log that starts at rest and grows by c e-foldings has an expected sum
+ * of squares (e^(2c) - 1 - 2c) / (2 c^2) times a random walk's: 2.2 at
+ * c = 1, still near a unit root (where the estimate given the envelope is
+ * not normal and the model-based spread is the better one), 22 at c = 3,
+ * where the growth dominates. */
+#define EL_BOOT_GROWTH_WIDEN_FULL 1.0
+#define EL_BOOT_GROWTH_WIDEN_NONE 3.0
+
+/* The share (0..1) of the widening (el_boot_widen_factor's weight) a
+ * quantity keeps when the mode it belongs to grows by efolds e-foldings
+ * over the log: 1 up to EL_BOOT_GROWTH_WIDEN_FULL (every decaying mode),
+ * 0 from EL_BOOT_GROWTH_WIDEN_NONE, linear in between, so bounds do not
+ * jump where a log starts to count as growing; 1 for a non-finite efolds
+ * (the widening as before). Pure function. */
+double el_boot_growth_weight(double efolds);
 
 /* Default el_boot_options.wide_states: above the IV_MAX_ROWS = 120 rows
  * the automatic horizon builds, so only logs of about 128 channels or
