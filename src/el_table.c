@@ -233,6 +233,10 @@ el_status el_table_join(el_table *parts, long *const *text_lines, size_t n,
     out->time_origin_unix_s = ref->time_origin_unix_s;
     out->time_zone_minutes = ref->time_zone_minutes;
     out->time_zone_known = ref->time_zone_known;
+    /* An ISO file may come first in time: the form of any file's dates
+     * with the year last reads --from/--to and names the form in reports. */
+    for (size_t k = 0; k < n && out->date_order == 0; k++)
+        out->date_order = parts[order[k]].date_order;
     out->time_scale_s = ref->time_scale_s;
     memcpy(out->time_unit, ref->time_unit, sizeof out->time_unit);
     memcpy(out->time_unit_source, ref->time_unit_source, sizeof out->time_unit_source);
