@@ -166,6 +166,35 @@ static void test_follow_keeps_units(void **state)
     el_follow_destroy(f);
 }
 
+/* A rotated file of a followed log whose row of units differs from the
+ * first file's (other units, or a row the first file did not have) stops
+ * at that row with the cause named, not with a bad time "s" read as a
+ * data row. */
+static void test_follow_units_changed(void **state)
+{
+    (void)state;
+    el_follow_options fo;
+    el_follow_defaults(&fo);
+    fo.track.window = 1000.0;
+    el_error err;
+    for (int had = 0; had <= 1; had++) {
+        el_follow *f = NULL;
+        assert_int_equal(el_follow_create(&fo, &f, &err), EL_OK);
+        el_follow_new_file(f, "live.csv");
+        const char *first = had ? "t,x\nms,V\n0,1\n10,2\n" : "t,x\n0,1\n10,2\n";
+        assert_int_equal(el_follow_add_lines(f, first, strlen(first), had ? 4 : 3, 1, &err),
+                         EL_OK);
+        el_follow_new_file(f, "live.2.csv");
+        const char *rotated = "t,x\nms,mV\n30,4\n";
+        assert_int_equal(el_follow_add_lines(f, rotated, strlen(rotated), 3, 1, &err),
+                         EL_ERR_DATA);
+        assert_string_equal(err.file, "live.2.csv");
+        assert_int_equal(err.line, 2);
+        assert_non_null(strstr(err.message, "row of units"));
+        el_follow_destroy(f);
+    }
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -176,6 +205,7 @@ int main(void)
         cmocka_unit_test(test_not_a_units_row),
         cmocka_unit_test(test_units_probe),
         cmocka_unit_test(test_follow_keeps_units),
+        cmocka_unit_test(test_follow_units_changed),
     };
     return cmocka_run_group_tests_name("units_row", tests, NULL, NULL);
 }
