@@ -815,6 +815,12 @@ static el_status parse_time_cell(ingest *g, const record *r, const span *f, doub
             return time_error(g, r, f, s, n,
                               "a date-time where the first row's time was a number",
                               "write every time in the same form as the first row");
+        double scale;
+        const char *unit;
+        if (t->n_rows == 0 && el_time_unit_lookup(s, n, &scale, &unit))
+            return time_error(g, r, f, s, n, "a unit of time, but the row is no row of units",
+                              "a row of units under the header is read only when none of "
+                              "its cells is a number: write a unit of 1 as - or leave it empty");
         return time_error(g, r, f, s, n,
                           rc == EL_NUM_RANGE ? "out of range" : "neither a number nor a date-time",
                           "write the time as a number (e.g. seconds) or as an ISO 8601 "

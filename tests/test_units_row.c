@@ -195,6 +195,22 @@ static void test_follow_units_changed(void **state)
     }
 }
 
+/* A row of units with a number in it ("1", the SI unit of a ratio) is no
+ * row of units: the error at its time cell says so and how to write the
+ * unit, instead of asking for a time. */
+static void test_units_row_with_number(void **state)
+{
+    (void)state;
+    el_table t = {0};
+    el_error e;
+    assert_int_equal(read_text("t,p,ratio\ns,bar,1\n0,1,2\n1,2,3\n", &t, &e), EL_ERR_DATA);
+    assert_int_equal(e.line, 2);
+    assert_int_equal(e.column, 1);
+    assert_non_null(strstr(e.message, "no row of units"));
+    assert_non_null(strstr(e.hint, "none of its cells is a number"));
+    el_table_free(&t);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -206,6 +222,7 @@ int main(void)
         cmocka_unit_test(test_units_probe),
         cmocka_unit_test(test_follow_keeps_units),
         cmocka_unit_test(test_follow_units_changed),
+        cmocka_unit_test(test_units_row_with_number),
     };
     return cmocka_run_group_tests_name("units_row", tests, NULL, NULL);
 }
