@@ -343,11 +343,13 @@ static el_status series_scaling(const el_series *s, double *mean_out,
         double mean = mean_out[c], sd = scale_out[c];
         int constant = constant_of[c % 4];
         const char *name = s->names != NULL && s->names[c] != NULL ? s->names[c] : "?";
+        /* The option that named the column, for the hint. */
+        const char *option = strcmp(kind, "input") == 0 ? "--input" : "--channels";
         if (!isfinite(mean) || !isfinite(sd)) {
             el_error_set(err, EL_ERR_DATA,
                          "%s '%s' has values that are not finite or too "
                          "large to fit (its mean or spread overflows)", kind, name);
-            el_error_hint(err, "rescale the channel, or leave it out with --channels");
+            el_error_hint(err, "rescale the %s, or leave it out with %s", kind, option);
             return EL_ERR_DATA;
         }
         /* Scale-free (el_stats_spread): relative 1e-12 of the mean. */
@@ -355,8 +357,8 @@ static el_status series_scaling(const el_series *s, double *mean_out,
             el_error_set(err, EL_ERR_DATA,
                          "%s '%s' is constant over the window "
                          "(value %.9g): it has no dynamics to fit", kind, name, mean);
-            el_error_hint(err, "leave it out with --channels, or choose a "
-                               "window where it moves");
+            el_error_hint(err, "leave it out with %s, or choose a window where it moves",
+                          option);
             return EL_ERR_DATA;
         }
         mean_out[c] = mean;

@@ -461,15 +461,10 @@ static long header_rows(const el_follow *f)
     return f->has_units ? 3 : 2;
 }
 
-/* Whether the line after a header is the log's row of units, kept then
- * with the header for every parse (ingest reads it as units, not as a
- * row). The first file's is judged by ingest's own rule; a later file's
- * must be the same line to be taken as its units. */
-static int units_row(el_follow *f, const char *s, size_t n)
+/* 1 when the line s under the kept header is a row of units by ingest's
+ * own rule. */
+static int probe_units(const el_follow *f, const char *s, size_t n)
 {
-    if (f->units_decided)
-        return f->has_units && n == f->units.length && memcmp(s, f->units.data, n) == 0;
-    f->units_decided = 1;
     el_buf probe = {0};
     el_buf_append(&probe, f->header.data, f->header.length);
     el_buf_append(&probe, "\n", 1);
@@ -477,9 +472,36 @@ static int units_row(el_follow *f, const char *s, size_t n)
     el_buf_append(&probe, "\n", 1);
     int yes = !probe.failed && el_ingest_units_row(probe.data, probe.length, &f->ingest);
     el_buf_free(&probe);
-    if (yes && el_buf_append(&f->units, s, n) == EL_OK && !f->units.failed)
-        f->has_units = 1;
-    return f->has_units;
+    return yes;
+}
+
+/* Whether the line after a header is the log's row of units (*is), kept
+ * then with the header for every parse (ingest reads it as units, not as
+ * a row). The first file's is judged by ingest's own rule; a later file's
+ * must be the same line to be taken as its units, and a row of units that
+ * is not (other units, or one the first file did not have) is an error at
+ * it, as a changed header is, not a data row with a bad time. */
+static el_status units_row(el_follow *f, const char *s, size_t n, long line, int *is,
+                           el_error *err)
+{
+    *is = 0;
+    if (!f->units_decided) {
+        f->units_decided = 1;
+        if (probe_units(f, s, n) && el_buf_append(&f->units, s, n) == EL_OK
+            && !f->units.failed)
+            f->has_units = 1;
+        *is = f->has_units;
+        return EL_OK;
+    }
+    *is = f->has_units && n == f->units.length && memcmp(s, f->units.data, n) == 0;
+    if (*is || !probe_units(f, s, n))
+        return EL_OK;
+    el_error_set(err, EL_ERR_DATA, "the row of units of %s differs from the first file's%s",
+                 f->source, f->has_units ? "" : ", which had none");
+    el_error_at(err, f->source, line, 1);
+    el_error_hint(err, "a followed log must keep its columns and their units; start a new "
+                       "run for the new units");
+    return EL_ERR_DATA;
 }
 
 /* The channels and inputs as table columns, from the first parsed rows. */
@@ -684,10 +706,13 @@ el_status el_follow_add_lines(el_follow *f, const char *text, size_t len, size_t
         size_t n = lf != NULL ? (size_t)(lf - s) : (size_t)(end - s);
         if (!blank_or_comment(s, n)) {
             el_status st = EL_OK;
+            int is_units = 0;
             if (f->expect_header) {
                 st = take_header(f, s, n, line, err);
                 f->expect_units = st == EL_OK;
-            } else if (f->expect_units && units_row(f, s, n)) {
+            } else if (f->expect_units
+                       && ((st = units_row(f, s, n, line, &is_units, err)) != EL_OK
+                           || is_units)) {
                 f->expect_units = 0;
             } else {
                 f->expect_units = 0;

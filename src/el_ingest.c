@@ -815,6 +815,12 @@ static el_status parse_time_cell(ingest *g, const record *r, const span *f, doub
             return time_error(g, r, f, s, n,
                               "a date-time where the first row's time was a number",
                               "write every time in the same form as the first row");
+        double scale;
+        const char *unit;
+        if (t->n_rows == 0 && el_time_unit_lookup(s, n, &scale, &unit))
+            return time_error(g, r, f, s, n, "a unit of time, but the row is no row of units",
+                              "a row of units under the header is read only when none of "
+                              "its cells is a number: write a unit of 1 as - or leave it empty");
         return time_error(g, r, f, s, n,
                           rc == EL_NUM_RANGE ? "out of range" : "neither a number nor a date-time",
                           "write the time as a number (e.g. seconds) or as an ISO 8601 "
@@ -1426,13 +1432,21 @@ el_status el_table_read_files(const char *const *paths, size_t n_paths,
     long **lines = calloc(n_paths, sizeof *lines);
     long *text_line = NULL;
     el_status st = parts != NULL && lines != NULL ? EL_OK : table_no_memory(err, paths[0]);
+    /* One log has one date form: the day or month first settled by an
+     * earlier file's dates reads a later file's, whose first date may
+     * read both ways (01/04/2026 after 31/03/2026). */
+    el_ingest_options each = {0};
+    if (opt != NULL)
+        each = *opt;
     for (size_t i = 0; st == EL_OK && i < n_paths; i++) {
         FILE *fp;
         file_info info = {0};
         if ((st = open_log(paths[i], &fp, err)) != EL_OK)
             break;
         int is_stdin = fp == stdin;
-        st = read_one(fp, is_stdin ? "<stdin>" : paths[i], opt, 0, &parts[i], &info, err);
+        st = read_one(fp, is_stdin ? "<stdin>" : paths[i], &each, 0, &parts[i], &info, err);
+        if (st == EL_OK && each.date_order == 0)
+            each.date_order = parts[i].date_order;
         if (!is_stdin)
             fclose(fp);
         lines[i] = info.text_line;

@@ -113,7 +113,8 @@ int el_number_parse(const char *s, size_t n, char *decimal, char delim, double *
     if (point != 0 && *decimal == 0)
         *decimal = point;
 #if FLT_EVAL_METHOD == 0
-    if (mant == 0) {
+    /* Only an exact mant: more than 19 digits can wrap it to 0 (2^64). */
+    if (exact && mant == 0) {
         *out = negative ? -0.0 : 0.0;
         return EL_NUM_OK;
     }

@@ -44,6 +44,12 @@ el_spikes el_spikes_find(const double *x, size_t n)
         double b = x[k + 1] - x[k];
         if (fabs(b) <= t || (a > 0.0) == (b > 0.0) || fabs(x[k + 1] - x[k - 1]) >= 0.25 * t)
             continue;
+        /* Isolated: the neighbours move as usual on their other sides. A
+         * burst of chatter or the peaks of a growing oscillation have
+         * neighbours that jump as far, and are no glitch. */
+        if ((k >= 2 && fabs(x[k - 1] - x[k - 2]) > t)
+            || (k + 2 < n && fabs(x[k + 2] - x[k + 1]) > t))
+            continue;
         if (found.count == 0)
             found.first = k;
         found.count++;

@@ -23,7 +23,8 @@ typedef struct {
 
 /* Looks for isolated spikes in x[0..n): sample k (0 < k < n-1) with steps
  * a = x[k] - x[k-1] and b = x[k+1] - x[k] both beyond T in size, of
- * opposite signs, and |x[k+1] - x[k-1]| below T / 4, where T is
+ * opposite signs, |x[k+1] - x[k-1]| below T / 4, and the neighbours' other
+ * steps (x[k-1] - x[k-2], x[k+2] - x[k+1]) within T, where T is
  * EL_SPIKES_THRESHOLD_SD times the robust spread of the steps (1.4826
  * times the median absolute step, from at most 4,097 steps evenly spread
  * over the series: the scale only sets the threshold). A series whose

@@ -289,7 +289,7 @@ el_status el_survey_list_add_input(el_survey_list *list, const char *input, el_e
 
 static const char *const PER_LOG_OPTIONS[] = {
     "time", "channels", "from", "to", "max-gap", "detrend", "band", "input",
-    "lags", "rank", "method", "depth",
+    "lags", "rank", "method", "depth", "time-unit", "decimal", "date-order",
 };
 #define N_PER_LOG (sizeof PER_LOG_OPTIONS / sizeof PER_LOG_OPTIONS[0])
 
@@ -369,7 +369,8 @@ static el_status manifest_line(el_survey_list *list, const char *name, long line
 {
     static const char hint_opts[] =
         "per-log options: --time --channels --from --to --max-gap --detrend --band "
-        "--input --lags --rank --method --depth, each with a value";
+        "--input --lags --rank --method --depth --time-unit --decimal --date-order, each "
+        "with a value";
     size_t pos = 0;
     token t;
     int got = next_token(line, length, &pos, &t);

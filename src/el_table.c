@@ -140,9 +140,14 @@ el_status el_table_check_same(const el_table *a, const el_table *b, long line,
     }
     for (size_t c = 0; c < a->n_columns; c++)
         if (strcmp(a->names[c], b->names[c]) != 0 || strcmp(a->units[c], b->units[c]) != 0) {
-            snprintf(what, sizeof what, "column %zu is \"%.100s [%.30s]\", not \"%.100s [%.30s]\"",
-                     c + 1, b->names[c], b->units[c], a->names[c], a->units[c]);
-            return differs(err, a, b, line, what, c);
+            snprintf(what, sizeof what,
+                     "column %zu is \"%.100s\" %s%.30s%s, not \"%.100s\" %s%.30s%s", c + 1,
+                     b->names[c], b->units[c][0] ? "[" : "(no unit", b->units[c],
+                     b->units[c][0] ? "]" : ")", a->names[c], a->units[c][0] ? "[" : "(no unit",
+                     a->units[c], a->units[c][0] ? "]" : ")");
+            /* Same name, other unit: the unit is on b's row of units if it has one. */
+            int at_units = strcmp(a->names[c], b->names[c]) == 0 && b->units_line > 0;
+            return differs(err, a, b, at_units ? b->units_line : line, what, c);
         }
     if (a->time_column != b->time_column || a->time_is_iso != b->time_is_iso ||
         a->time_zone_known != b->time_zone_known)
@@ -233,6 +238,10 @@ el_status el_table_join(el_table *parts, long *const *text_lines, size_t n,
     out->time_origin_unix_s = ref->time_origin_unix_s;
     out->time_zone_minutes = ref->time_zone_minutes;
     out->time_zone_known = ref->time_zone_known;
+    /* An ISO file may come first in time: the form of any file's dates
+     * with the year last reads --from/--to and names the form in reports. */
+    for (size_t k = 0; k < n && out->date_order == 0; k++)
+        out->date_order = parts[order[k]].date_order;
     out->time_scale_s = ref->time_scale_s;
     memcpy(out->time_unit, ref->time_unit, sizeof out->time_unit);
     memcpy(out->time_unit_source, ref->time_unit_source, sizeof out->time_unit_source);

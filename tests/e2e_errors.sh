@@ -58,7 +58,10 @@ expect "time backwards" 2 "back\.csv:11" -- assess "$tmp/back.csv" --json "$tmp/
 { head -n 10 "$f"; echo "8,1.0,2.0"; tail -n +11 "$f"; } >"$tmp/repeat.csv"
 expect "repeated time" 2 "repeat\.csv:1[01]" -- assess "$tmp/repeat.csv" --json "$tmp/out.json"
 awk -F, 'BEGIN{OFS=","} NR==1{print; next} {$3="4.0"; print}' "$f" >"$tmp/const.csv"
-expect "constant channel" 2 "const\.csv.*b" -- assess "$tmp/const.csv" --json "$tmp/out.json"
+# A constant default channel is left out with a warning; named in
+# --channels it stops the run.
+expect "constant channel" 2 "const\.csv.*b" -- assess "$tmp/const.csv" --channels a,b \
+    --json "$tmp/out.json"
 expect "unknown channel" 1 "--channels" -- assess "$f" --channels a,zz --json "$tmp/out.json"
 head -n 4 "$f" >"$tmp/short.csv"
 expect "too few rows" 2 "short\.csv" -- assess "$tmp/short.csv" --lags 2 --json "$tmp/out.json"

@@ -109,6 +109,15 @@ static void test_assess_skips_stuck_channel(void **state)
     assert_int_equal(el_assess_run(&opt, &r, &e), EL_ERR_DATA);
     assert_non_null(strstr(e.message, "constant"));
     el_assessment_free(&r);
+    /* A constant measured input stops the run too; the hint names the
+     * option it was given with (--input), not --channels. */
+    memset(&r, 0, sizeof r);
+    opt.channels = NULL;
+    opt.inputs = "stuck";
+    assert_int_equal(el_assess_run(&opt, &r, &e), EL_ERR_DATA);
+    assert_non_null(strstr(e.message, "input 'stuck' is constant"));
+    assert_non_null(strstr(e.hint, "--input"));
+    el_assessment_free(&r);
     remove(path);
 }
 

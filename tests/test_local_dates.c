@@ -8,7 +8,10 @@
  * outside this project; they are exact integers, so every check is exact. */
 #include "el_test.h"
 
+#include <stdio.h>
+#include <stdlib.h>
 #include <string.h>
+#include <unistd.h>
 
 #include "el_follow.h"
 #include "el_ingest.h"
@@ -152,6 +155,48 @@ static void test_follow_keeps_order(void **state)
     el_follow_destroy(f);
 }
 
+/* Writes text to a new temporary file; its name into path (a mkstemp
+ * template). */
+static void write_temp(char *path, const char *text)
+{
+    int fd = mkstemp(path);
+    assert_true(fd >= 0);
+    FILE *fp = fdopen(fd, "w");
+    assert_non_null(fp);
+    assert_int_equal(fwrite(text, 1, strlen(text), fp), strlen(text));
+    assert_int_equal(fclose(fp), 0);
+}
+
+/* Several files read as one log keep the order an earlier file settled:
+ * the second day's file, whose first date (01/04/2026) reads both ways,
+ * is read day first as the first file's 31/03/2026 said, not refused;
+ * one whose date exists only month first is then refused at its cell. */
+static void test_files_keep_order(void **state)
+{
+    (void)state;
+    char a[] = "/tmp/eigenlog_dmyXXXXXX", b[] = "/tmp/eigenlog_dmyXXXXXX",
+         c[] = "/tmp/eigenlog_dmyXXXXXX";
+    write_temp(a, "t,x\n31/03/2026 23:59:58,1\n31/03/2026 23:59:59,2\n");
+    write_temp(b, "t,x\n01/04/2026 00:00:00,3\n01/04/2026 00:00:01,4\n");
+    write_temp(c, "t,x\n04/13/2026 00:00:00,3\n");
+    const char *paths[] = {a, b}, *bad[] = {a, c};
+    el_table t = {0};
+    el_error e;
+    assert_int_equal(el_table_read_files(paths, 2, NULL, &t, &e), EL_OK);
+    assert_int_equal(t.n_rows, 4);
+    assert_int_equal(t.date_order, EL_DATE_DMY);
+    /* 2026-03-31T23:59:58 to 2026-04-01T00:00:01 is 3 s. */
+    assert_true(t.values[3] == 3.0);
+    el_table_free(&t);
+    assert_int_equal(el_table_read_files(bad, 2, NULL, &t, &e), EL_ERR_DATA);
+    assert_non_null(strstr(e.file, "eigenlog_dmy"));
+    assert_int_equal(e.line, 2);
+    assert_int_equal(e.column, 1);
+    remove(a);
+    remove(b);
+    remove(c);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -162,6 +207,7 @@ int main(void)
         cmocka_unit_test(test_order_settled),
         cmocka_unit_test(test_ingest_order),
         cmocka_unit_test(test_follow_keeps_order),
+        cmocka_unit_test(test_files_keep_order),
     };
     return cmocka_run_group_tests_name("local_dates", tests, NULL, NULL);
 }

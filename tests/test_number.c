@@ -475,10 +475,36 @@ static void test_scan_rows_window_flags(void **state)
     free(got);
 }
 
+/* Significands of more than 19 digits that are multiples of 2^64 wrap the
+ * uint64 accumulator to exactly 0: such a cell must still be read as its
+ * value (strtod's), not as zero. 2^64 = 18446744073709551616 (closed
+ * form); the 33-digit cell is a double near -5.16e32 printed with %.5f,
+ * as a logger's export writes a large value (its significand times 10^5
+ * is a multiple of 2^64). Both el_number_parse and the scan are checked,
+ * bit for bit against strtod (tolerance 0: correct rounding). */
+static void test_wrapped_significand(void **state)
+{
+    (void)state;
+    static const char *cells[] = {"18446744073709551616", "-18446744073709551616.0",
+                                  "36893488147419103232", "1844674407370955161600",
+                                  "-515902363161897553521941810249728.00000"};
+    for (size_t i = 0; i < sizeof cells / sizeof cells[0]; i++) {
+        size_t n = strlen(cells[i]), want_n;
+        double want = strtod_n(cells[i], n, &want_n), got = 0.0;
+        char dec = '.';
+        assert_int_equal(el_number_parse(cells[i], n, &dec, ',', &got), EL_NUM_OK);
+        if (memcmp(&got, &want, sizeof got) != 0)
+            fail_msg("cell \"%s\": el_number_parse gave %.17g, strtod %.17g", cells[i], got,
+                     want);
+        check_cell(cells[i], ',', '.', ',');
+    }
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_edge_cells_match_strtod),
+        cmocka_unit_test(test_wrapped_significand),
         cmocka_unit_test(test_decimal_comma_cells),
         cmocka_unit_test(test_scan_stops_like_strtod),
         cmocka_unit_test(test_random_digit_strings),

@@ -79,12 +79,38 @@ static void test_quantised_no_scale(void **state)
     free(x);
 }
 
+/* Not isolated, so not reported: a burst of chatter at the Nyquist rate
+ * (every sample a step of 1000 sd from both neighbours, 60 samples long),
+ * and an oscillation growing out of the noise (10 samples a period, to
+ * 200 times the noise by the end) whose peaks stand above both
+ * neighbours by more than the threshold: in both the samples beside the
+ * "spike" move as much as it does, which a glitch's neighbours do not. */
+static void test_not_isolated(void **state)
+{
+    (void)state;
+    double *x = ar1_series(6);
+    for (size_t k = 4000; k < 4060; k++)
+        x[k] += k % 2 ? 500.0 : -500.0;
+    el_spikes burst = el_spikes_find(x, N);
+    assert_int_equal(burst.count, 0);
+    free(x);
+    x = ar1_series(7);
+    for (size_t k = 15000; k < N; k++) {
+        double t = (double)(k - 15000);
+        x[k] += 0.5 * exp(0.0012 * t) * cos(2.0 * M_PI * t / 10.0);
+    }
+    el_spikes grow = el_spikes_find(x, N);
+    assert_int_equal(grow.count, 0);
+    free(x);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_spikes_found),
         cmocka_unit_test(test_not_spikes),
         cmocka_unit_test(test_quantised_no_scale),
+        cmocka_unit_test(test_not_isolated),
     };
     return cmocka_run_group_tests_name("spikes", tests, NULL, NULL);
 }

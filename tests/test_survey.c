@@ -79,6 +79,15 @@ static void test_manifest(void **state)
     assert_string_equal(list.logs[2].args[0], "--channels=p, q");
     el_survey_list_free(&list);
     assert_int_equal(list.count, 0);
+    /* How a log was written is the log's own: loggers of a campaign differ
+     * in date order, decimal separator and time unit. */
+    const char *forms = "us.csv --date-order mdy\nde.csv --decimal , --time-unit ms\n";
+    assert_int_equal(el_survey_parse_manifest(&list, "m.txt", forms, &err), EL_OK);
+    assert_int_equal(list.count, 2);
+    assert_string_equal(list.logs[0].args[0], "--date-order=mdy");
+    assert_string_equal(list.logs[1].args[0], "--decimal=,");
+    assert_string_equal(list.logs[1].args[1], "--time-unit=ms");
+    el_survey_list_free(&list);
 }
 
 static void test_manifest_errors(void **state)

@@ -8,8 +8,10 @@
  * double nearest 0.01 either way: both sides round once). */
 #include "el_test.h"
 
+#include <fcntl.h>
 #include <stdlib.h>
 #include <string.h>
+#include <unistd.h>
 
 #include "el_follow.h"
 #include "el_ingest.h"
@@ -166,6 +168,85 @@ static void test_follow_keeps_units(void **state)
     el_follow_destroy(f);
 }
 
+/* A rotated file of a followed log whose row of units differs from the
+ * first file's (other units, or a row the first file did not have) stops
+ * at that row with the cause named, not with a bad time "s" read as a
+ * data row. */
+static void test_follow_units_changed(void **state)
+{
+    (void)state;
+    el_follow_options fo;
+    el_follow_defaults(&fo);
+    fo.track.window = 1000.0;
+    el_error err;
+    for (int had = 0; had <= 1; had++) {
+        el_follow *f = NULL;
+        assert_int_equal(el_follow_create(&fo, &f, &err), EL_OK);
+        el_follow_new_file(f, "live.csv");
+        const char *first = had ? "t,x\nms,V\n0,1\n10,2\n" : "t,x\n0,1\n10,2\n";
+        assert_int_equal(el_follow_add_lines(f, first, strlen(first), had ? 4 : 3, 1, &err),
+                         EL_OK);
+        el_follow_new_file(f, "live.2.csv");
+        const char *rotated = "t,x\nms,mV\n30,4\n";
+        assert_int_equal(el_follow_add_lines(f, rotated, strlen(rotated), 3, 1, &err),
+                         EL_ERR_DATA);
+        assert_string_equal(err.file, "live.2.csv");
+        assert_int_equal(err.line, 2);
+        assert_non_null(strstr(err.message, "row of units"));
+        el_follow_destroy(f);
+    }
+}
+
+/* A row of units with a number in it ("1", the SI unit of a ratio) is no
+ * row of units: the error at its time cell says so and how to write the
+ * unit, instead of asking for a time. */
+static void test_units_row_with_number(void **state)
+{
+    (void)state;
+    el_table t = {0};
+    el_error e;
+    assert_int_equal(read_text("t,p,ratio\ns,bar,1\n0,1,2\n1,2,3\n", &t, &e), EL_ERR_DATA);
+    assert_int_equal(e.line, 2);
+    assert_int_equal(e.column, 1);
+    assert_non_null(strstr(e.message, "no row of units"));
+    assert_non_null(strstr(e.hint, "none of its cells is a number"));
+    el_table_free(&t);
+}
+
+/* Two files read as one log whose units differ: the error is at the row
+ * of units of the second file (line 2, the column of the unit), and a
+ * column without a unit is said to have none (not "[]"). */
+static void test_files_units_differ(void **state)
+{
+    (void)state;
+    char a[] = "/tmp/eigenlog_uaXXXXXX", b[] = "/tmp/eigenlog_ubXXXXXX";
+    int fa = mkstemp(a), fb = mkstemp(b);
+    assert_true(fa >= 0 && fb >= 0);
+    const char *ta = "t,p\ns,bar\n0,1\n1,2\n", *tb = "t,p\ns,psi\n2,3\n3,4\n";
+    assert_int_equal(write(fa, ta, strlen(ta)), (ssize_t)strlen(ta));
+    assert_int_equal(write(fb, tb, strlen(tb)), (ssize_t)strlen(tb));
+    close(fa);
+    close(fb);
+    const char *paths[] = {a, b};
+    el_table t = {0};
+    el_error e;
+    assert_int_equal(el_table_read_files(paths, 2, NULL, &t, &e), EL_ERR_DATA);
+    assert_string_equal(e.file, b);
+    assert_int_equal(e.line, 2);
+    assert_int_equal(e.column, 2);
+    assert_non_null(strstr(e.message, "\"p\" [psi], not \"p\" [bar]"));
+    const char *tn = "t,p\n2,3\n3,4\n";
+    fb = open(b, O_WRONLY | O_TRUNC);
+    assert_true(fb >= 0);
+    assert_int_equal(write(fb, tn, strlen(tn)), (ssize_t)strlen(tn));
+    close(fb);
+    assert_int_equal(el_table_read_files(paths, 2, NULL, &t, &e), EL_ERR_DATA);
+    assert_int_equal(e.line, 1);
+    assert_non_null(strstr(e.message, "\"t\" (no unit), not \"t\" [s]"));
+    remove(a);
+    remove(b);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -176,6 +257,9 @@ int main(void)
         cmocka_unit_test(test_not_a_units_row),
         cmocka_unit_test(test_units_probe),
         cmocka_unit_test(test_follow_keeps_units),
+        cmocka_unit_test(test_follow_units_changed),
+        cmocka_unit_test(test_units_row_with_number),
+        cmocka_unit_test(test_files_units_differ),
     };
     return cmocka_run_group_tests_name("units_row", tests, NULL, NULL);
 }
