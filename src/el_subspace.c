@@ -46,23 +46,16 @@
  * from noise directions. A rule of thumb of ours, not a published value. */
 #define SUB_WINDOWS_PER_ROW 4
 
-/* Weighted past directions a bootstrap record carries (nv, el_subspace_
- * block_sums): every one of the hp when the left-out ones matter and the
- * record stays small, else max_order as before. A replicate sees the
- * resampled past only through these directions; the noise of the
- * left-out ones enters the leading subspace at second order, and its size
- * against the first order's grows as hp / sqrt(windows): at 2,000 samples
- * of two channels (hp = 66, 1,935 windows: 1.5) a few logs had bounds far
- * too narrow with the point's 30 leading directions, at 20,000 samples
- * (0.47) the whole past moved widths by under 2 % in 10 of 11 logs
- * (docs/uncertainty.md, "hankel's bounds"). So the whole past is taken
- * when hp >= SUB_WHOLE_PAST_RATIO sqrt(windows) and hp * hp is within the
- * largest record an automatic plan makes anyway (EL_SUBSPACE_MAX_ROWS rows
- * times EL_SUBSPACE_MAX_ORDER directions: hp <= 77). Neither holds for the
- * plans the cost targets are measured on (bench_boot: hp = 32 of 100,000
- * samples, 0.10; track's 10-s windows of the bench log: hp = 96), whose
- * records and results stay bit for bit as they were; the whole past at
- * hp = 200 cost 8.2 point fits per 1,000 replicates (target 3). */
+/* Weighted past directions a bootstrap record carries (nv): all hp when
+ * hp >= SUB_WHOLE_PAST_RATIO sqrt(windows) and hp * hp is within the
+ * largest record an automatic plan makes anyway (200 rows x 30: hp <= 77),
+ * else max_order. The left-out directions' noise enters the leading
+ * subspace at second order, about hp / sqrt(windows) of the first: 1.5 at
+ * 2,000 samples of two channels (hp 66), where a few logs had bounds far
+ * too narrow with 30 directions; 0.47 at 20,000 (widths moved under 2 %).
+ * bench_boot (100,000 samples) and track's bench windows (hp 96) keep
+ * their records bit for bit; the whole past at hp = 200 cost 8.2 point
+ * fits per 1,000 replicates (docs/uncertainty.md, "hankel's bounds"). */
 #define SUB_WHOLE_PAST_RATIO 0.5
 #define SUB_RECORD_BUDGET ((size_t)EL_SUBSPACE_MAX_ROWS * EL_SUBSPACE_MAX_ORDER)
 
