@@ -6,13 +6,15 @@
  *                  [--case NAME] [--resample blocks|model] [--block L]
  *                  [--method ls|fb|tls|iv|ssi|hankel|auto] [--length N]
  *                  [--no-bias-correction] [--verbose] [--misses] [--each]
- *                  [--horizon T]
+ *                  [--horizon T] [--first-log K]
  * --method: the estimator of every log (default ls); auto: the one the
  * default (--method auto) picks for the log. --length: one log length.
  * --choices: only print which estimator auto picks per case and length
  * (no fits), so the default's coverage can be read off the per-method
  * tables of the same logs (same seeds). The cases are the same for every
  * method, so one estimator's table and another's come from the same logs.
+ * --first-log K: the logs K .. K + N - 1 (their own seeds) instead of
+ * 0 .. N - 1, to tell a cell's shortfall from the chance of its logs.
  * A log on which the tool withholds the class because the method cannot be
  * right there (el_verdict_method_fault: fb/tls on a stationary log, ls
  * with a refused bias round) is counted as withheld ("held"), not as
@@ -98,6 +100,8 @@ typedef struct {
     int method_auto;     /* --method auto: the default's choice (method_for) */
     el_method method;    /* else this estimator */
     size_t only_length;  /* 0 = every length */
+    size_t first_log;    /* --first-log K: logs K .. K + logs - 1 (other seeds: is a
+                            cell's shortfall the method's or its 240 logs'?) */
     int choices;         /* --choices: print auto's estimator per case and length, no fits */
     pthread_mutex_t *fftw_lock; /* the regime stage's FFTW plans are made one at a time */
 } cal_options;
@@ -455,7 +459,7 @@ static void *worker(void *arg)
         size_t j = atomic_fetch_add(&q->next, 1);
         if (j >= q->n_jobs)
             break;
-        size_t rep = j % q->o->logs;
+        size_t rep = q->o->first_log + j % q->o->logs;
         one_log(&cases[q->job_case[j]], lengths[q->job_len[j]], rep, q->o, &q->res[j]);
     }
     return NULL;
@@ -478,6 +482,7 @@ static int parse_args(int argc, char **argv, cal_options *o)
     o->method = EL_METHOD_LS;
     o->only_length = 0;
     o->choices = 0;
+    o->first_log = 0;
     for (int i = 1; i < argc; i++) {
         const char *a = argv[i], *v = i + 1 < argc ? argv[i + 1] : NULL;
         if (strcmp(a, "--quick") == 0) {
@@ -518,6 +523,9 @@ static int parse_args(int argc, char **argv, cal_options *o)
         } else if (strcmp(a, "--choices") == 0) {
             o->choices = 1;
             o->method_auto = 1;
+        } else if (strcmp(a, "--first-log") == 0 && v) {
+            o->first_log = (size_t)strtoul(v, NULL, 10);
+            i++;
         } else if (strcmp(a, "--length") == 0 && v) {
             o->only_length = (size_t)strtoul(v, NULL, 10);
             i++;
@@ -534,7 +542,7 @@ static int parse_args(int argc, char **argv, cal_options *o)
                     "                 [--method ls|fb|tls|iv|ssi|hankel|auto] [--length N]\n"
                     "                 [--choices]\n"
                     "                 [--no-bias-correction] [--verbose] [--misses] [--each]\n"
-                    "                 [--horizon T]\n");
+                    "                 [--horizon T] [--first-log K]\n");
             return 1;
         }
     }
@@ -628,6 +636,9 @@ int main(int argc, char **argv)
     clock_gettime(CLOCK_MONOTONIC, &t1);
     double secs = (double)(t1.tv_sec - t0.tv_sec) + 1e-9 * (double)(t1.tv_nsec - t0.tv_nsec);
 
+    if (o.first_log > 0)
+        printf("logs %zu .. %zu of each cell (--first-log)\n", o.first_log,
+               o.first_log + o.logs - 1);
     printf("eigenlog bootstrap calibration: %zu logs per case and length, %zu replicates, "
            "method %s, resample %s, block %s, bias correction %s, %zu threads, %.1f s\n",
            o.logs, o.boot, o.method_auto ? "auto" : el_method_name(o.method), o.kind == EL_RESAMPLE_MODEL ? "model" : "blocks",

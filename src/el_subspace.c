@@ -46,8 +46,24 @@
  * from noise directions. A rule of thumb of ours, not a published value. */
 #define SUB_WINDOWS_PER_ROW 4
 
+/* Weighted past directions a bootstrap record carries (nv): all hp when
+ * hp >= SUB_WHOLE_PAST_RATIO sqrt(windows) and hp * hp is within the
+ * largest record an automatic plan makes anyway (200 rows x 30: hp <= 77),
+ * else max_order. The left-out directions' noise enters the leading
+ * subspace at second order, about hp / sqrt(windows) of the first: 1.5 at
+ * 2,000 samples of two channels (hp 66), where a few logs had bounds far
+ * too narrow with 30 directions; 0.47 at 20,000 (widths moved under 2 %).
+ * bench_boot (100,000 samples) and track's bench windows (hp 96) keep
+ * their records bit for bit; the whole past at hp = 200 cost 8.2 point
+ * fits per 1,000 replicates (docs/uncertainty.md, "hankel's bounds"). */
+#define SUB_WHOLE_PAST_RATIO 0.5
+#define SUB_RECORD_BUDGET ((size_t)EL_SUBSPACE_MAX_ROWS * EL_SUBSPACE_MAX_ORDER)
+
 struct el_subspace_plan {
     size_t p, max_samples, h, hp, nmax;
+    size_t nv;                    /* past directions of a bootstrap record (>= nmax):
+                                     set by each execute, at most nv_cap */
+    size_t nv_cap;                /* hp when hp * hp <= SUB_RECORD_BUDGET, else nmax */
     /* scaled data, time-major: sample k of channel c at y[k * p + c] */
     double *y;
     size_t n_samples, n_windows;
@@ -64,7 +80,7 @@ struct el_subspace_plan {
     double *w1, *w1inv, *w2;      /* CVA weights: Sff^-1/2, Sff^1/2, Spp^-1/2 */
     double *sym_vec, *sym_lam, *sym_work, *tmp;
     size_t sym_lwork;
-    double *sv, *u, *vt, *v;      /* SVD of H; v: hp x nmax right vectors */
+    double *sv, *u, *vt, *v;      /* SVD of H; v: hp x nv right vectors */
     double *svd_work;
     size_t svd_lwork;
     double *obs;                  /* hp x nmax: W1^-1 U S^1/2 */
@@ -489,6 +505,9 @@ el_status el_subspace_plan_create(size_t n_channels, size_t max_samples,
     pl->h = h;
     pl->hp = hp;
     pl->nmax = nmax;
+    size_t nv = hp * hp <= SUB_RECORD_BUDGET ? hp : nmax;
+    pl->nv_cap = nv;
+    pl->nv = nmax;
     pl->max_poles = nmax * (nmax + 1) / 2;
     if (query_work(pl)) {
         free(pl);
@@ -515,7 +534,7 @@ el_status el_subspace_plan_create(size_t n_channels, size_t max_samples,
     pl->sv = malloc(hp * sizeof(double));
     pl->u = malloc(hp * hp * sizeof(double));
     pl->vt = malloc(hp * hp * sizeof(double));
-    pl->v = malloc(hp * nmax * sizeof(double));
+    pl->v = malloc(hp * nv * sizeof(double));
     pl->svd_work = malloc(pl->svd_lwork * sizeof(double));
     pl->obs = malloc(hp * nmax * sizeof(double));
     pl->gp = malloc(hp * nmax * sizeof(double));
@@ -1175,6 +1194,9 @@ el_status el_subspace_execute(el_subspace_plan *pl, const el_series *series,
     pl->n_windows = series->n_samples - 2 * h + 1;
     pl->dt = series->dt;
     pl->cva = opt->weighting == EL_SUBSPACE_CVA;
+    pl->nv = pl->nv_cap > nmax &&
+             (double)hp >= SUB_WHOLE_PAST_RATIO * sqrt((double)pl->n_windows)
+             ? pl->nv_cap : nmax;
     build_hankel(pl);
     if (pl->cva && cva_weight(pl))
         return el_error_set(err, EL_ERR_NUMERIC, "the weights of the block Hankel failed "
@@ -1186,7 +1208,7 @@ el_status el_subspace_execute(el_subspace_plan *pl, const el_series *series,
     if (info != 0)
         return el_error_set(err, EL_ERR_NUMERIC, "the SVD of the block Hankel failed "
                             "(LAPACK dgesvd info %d)", (int)info);
-    for (size_t j = 0; j < nmax; j++)
+    for (size_t j = 0; j < pl->nv; j++)
         for (size_t i = 0; i < hp; i++)
             pl->v[i + j * hp] = pl->vt[j + i * hp];
     observability(hp, nmax, pl->u, hp, pl->sv, pl->obs);
@@ -1199,9 +1221,9 @@ el_status el_subspace_execute(el_subspace_plan *pl, const el_series *series,
         memcpy(pl->tmp, pl->obs, hp * nmax * sizeof(double));
         cblas_dgemm(CblasColMajor, CblasNoTrans, CblasNoTrans, (int)hp, (int)nmax, (int)hp,
                     1.0, pl->w1inv, (int)hp, pl->tmp, (int)hp, 0.0, pl->obs, (int)hp);
-        memcpy(pl->tmp, pl->v, hp * nmax * sizeof(double));
-        cblas_dgemm(CblasColMajor, CblasNoTrans, CblasNoTrans, (int)hp, (int)nmax, (int)hp,
-                    1.0, pl->w2, (int)hp, pl->tmp, (int)hp, 0.0, pl->v, (int)hp);
+        memcpy(pl->tmp, pl->v, hp * pl->nv * sizeof(double));
+        cblas_dgemm(CblasColMajor, CblasNoTrans, CblasNoTrans, (int)hp, (int)pl->nv,
+                    (int)hp, 1.0, pl->w2, (int)hp, pl->tmp, (int)hp, 0.0, pl->v, (int)hp);
     }
 
     size_t *fst = pl->first;
@@ -1296,7 +1318,7 @@ size_t el_subspace_sum_doubles(const el_subspace_plan *pl)
 {
     if (pl == NULL)
         return 0;
-    return 1 + pl->hp + pl->nmax + pl->hp * pl->nmax;
+    return 1 + pl->hp + pl->nv + pl->hp * pl->nv;
 }
 
 el_status el_subspace_block_sums(const el_subspace_plan *pl, size_t t_begin,
@@ -1305,7 +1327,7 @@ el_status el_subspace_block_sums(const el_subspace_plan *pl, size_t t_begin,
     if (pl == NULL || sum == NULL || !pl->executed || t_begin > t_end ||
         t_end > pl->n_windows)
         return el_error_set(err, EL_ERR_INTERNAL, "el_subspace_block_sums: bad arguments");
-    size_t hp = pl->hp, nv = pl->nmax;
+    size_t hp = pl->hp, nv = pl->nv;
     double *sf = sum + 1, *sg = sf + hp, *sfg = sg + nv;
     memset(sum, 0, el_subspace_sum_doubles(pl) * sizeof(double));
     sum[0] = (double)(t_end - t_begin);
@@ -1378,7 +1400,8 @@ size_t el_subspace_replicate_work(const el_subspace_plan *pl)
 {
     if (pl == NULL)
         return 0;
-    size_t hp = pl->hp, nv = pl->nmax, rows = (pl->h - 1) * pl->p;
+    /* the largest record an execute of this plan can make */
+    size_t hp = pl->hp, nv = pl->nv_cap, rows = (pl->h - 1) * pl->p;
     size_t lw = pl->rep_svd_lwork;
     if (pl->rep_ls_lwork > lw)
         lw = pl->rep_ls_lwork;
@@ -1397,7 +1420,7 @@ el_status el_subspace_replicate_solve(const el_subspace_plan *pl, const double *
     if (pl == NULL || sum == NULL || work == NULL || order == 0 || order > pl->nmax ||
         !pl->executed)
         return el_error_set(err, EL_ERR_INTERNAL, "el_subspace_replicate_solve: bad arguments");
-    size_t hp = pl->hp, nv = pl->nmax, rows = (pl->h - 1) * pl->p;
+    size_t hp = pl->hp, nv = pl->nv, rows = (pl->h - 1) * pl->p;
     double cnt = sum[0];
     if (!(cnt > 0.0) || !isfinite(cnt))
         return el_error_set(err, EL_ERR_NUMERIC, "replicate without windows");

@@ -210,8 +210,8 @@ void el_subspace_plan_destroy(el_subspace_plan *plan);
  * scaled channels, as a share of its order's total) is >= stab_min_share.
  * opt NULL = defaults (the horizon fields are not read: the plan has the
  * horizon). Keeps the scaled data, the weights and the projection of the
- * past V2 = W2 V_n (hp x max_order, V the leading right singular vectors)
- * for el_subspace_block_sums. Errors: EL_ERR_INTERNAL for NULL or mismatched
+ * past V2 = W2 V_nv (hp x n_v, V the leading right singular vectors; n_v
+ * as el_subspace_sum_doubles) for el_subspace_block_sums. Errors: EL_ERR_INTERNAL for NULL or mismatched
  * arguments; EL_ERR_DATA for a constant or non-finite channel;
  * EL_ERR_USAGE (option "--order") for an order above max_order;
  * EL_ERR_NUMERIC when LAPACK fails or the order's shift equations are
@@ -254,8 +254,14 @@ int el_subspace_take(const el_subspace_acf *acf, const el_series *series,
                      el_subspace_result *result, el_subspace_horizon *hz);
 void el_subspace_drop_kept(const el_subspace_acf *acf);
 
-/* Length of one block-sum record (doubles) for the plan:
- * 1 + hp + n_v + hp n_v with n_v = max_order. */
+/* Length of one block-sum record (doubles) for the plan after its last
+ * execute: 1 + hp + n_v + hp n_v, with n_v the weighted past directions a
+ * record carries: all hp of them when hp >= 0.5 sqrt(windows) (the
+ * left-out directions' noise, of second order, is then not small) and
+ * hp * hp <= EL_SUBSPACE_MAX_ROWS * EL_SUBSPACE_MAX_ORDER (a record no
+ * larger than the largest automatic plan's); else the plan's max_order.
+ * With all hp a replicate redoes the whole SVD of its weighted block
+ * Hankel. Before any execute: the max_order size. */
 size_t el_subspace_sum_doubles(const el_subspace_plan *plan);
 
 /* The bootstrap's additive features over the windows t_begin <= w < t_end
@@ -271,7 +277,8 @@ size_t el_subspace_sum_doubles(const el_subspace_plan *plan);
 el_status el_subspace_block_sums(const el_subspace_plan *plan, size_t t_begin,
                                  size_t t_end, double *sum, el_error *err);
 
-/* Doubles of workspace el_subspace_replicate_solve needs. */
+/* Doubles of workspace el_subspace_replicate_solve needs (for any execute
+ * of the plan). */
 size_t el_subspace_replicate_work(const el_subspace_plan *plan);
 
 /* A replicate's model of the given order (1 <= order <= max_order) from a
