@@ -374,9 +374,8 @@ el_status el_table_parse_time(const el_table *table, const char *text,
     el_iso_time it;
     const char *why = "";
     if (rc != EL_NUM_OK && table->time_is_iso)
-        why = table->date_order != 0 && el_local_looks(s, n)
-                  ? el_local_parse(s, n, table->date_order, &it)
-                  : el_iso_parse_or_date(s, n, &it);
+        why = el_local_looks(s, n) ? el_local_parse_or_date(s, n, table->date_order, &it)
+                                   : el_iso_parse_or_date(s, n, &it);
     if (rc == EL_NUM_OK) {
         /* A number is in the log's own unit (ISO: seconds from the start). */
         *time_out = v * el_table_time_unit_s(table);

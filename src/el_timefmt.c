@@ -318,8 +318,28 @@ const char *el_datetime_read(int local, char *date_order, const char *s, size_t 
     why = el_local_parse(s, n, *date_order, out);
     *hint = *date_order == EL_DATE_MDY
                 ? "dates are read month first (MM/DD/YYYY HH:MM:SS, --date-order mdy)"
-                : "dates are read day first (DD.MM.YYYY HH:MM:SS, --date-order dmy)";
+                : "dates are read day first (DD.MM.YYYY or DD/MM/YYYY HH:MM:SS, "
+                  "--date-order dmy)";
     return why;
+}
+
+const char *el_local_parse_or_date(const char *s, size_t n, int order, el_iso_time *out)
+{
+    int own = el_local_order(s, n);
+    if (own != 0)
+        order = own;
+    if (order == 0)
+        return "the date reads both as day/month and as month/day";
+    int a, b;
+    char sep;
+    size_t i;
+    if (local_fields(s, n, &a, &b, &sep, &i) && i == n && n + 9 < 32) {
+        char full[32];
+        memcpy(full, s, n);
+        memcpy(full + n, " 00:00:00", 9);
+        return el_local_parse(full, n + 9, order, out);
+    }
+    return el_local_parse(s, n, order, out);
 }
 
 static int64_t floor_div(int64_t a, int64_t b)

@@ -51,6 +51,12 @@ int el_local_order(const char *s, size_t n);
  * success, else a static text saying what is wrong. */
 const char *el_local_parse(const char *s, size_t n, int order, el_iso_time *out);
 
+/* As el_local_parse for a time typed by a person (--from/--to): the
+ * date's own order when it settles one (a dot, a field above 12), else
+ * order (0: an error saying it reads both ways); a date alone is that
+ * midnight. */
+const char *el_local_parse_or_date(const char *s, size_t n, int order, el_iso_time *out);
+
 /* Reads one cell s[0..n) of a date-time column: ISO 8601 (local 0,
  * el_iso_parse) or a date with the year last (local 1, el_local_parse in
  * *date_order; when *date_order is 0 the cell settles it if it can,

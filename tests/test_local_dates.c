@@ -59,6 +59,21 @@ static void test_year_first_slashes(void **state)
     assert_non_null(el_iso_parse("2026/12-05 08:30", 16, &it));
 }
 
+/* A time typed on the command line: the date's own order first, then
+ * the log's; a date alone is midnight (2026-12-05T00:00:00 = 1796428800,
+ * 2026-05-12T00:00:00 = 1778544000, timegm). */
+static void test_typed_times(void **state)
+{
+    (void)state;
+    el_iso_time it;
+    assert_null(el_local_parse_or_date("05.12.2026", 10, EL_DATE_MDY, &it));
+    assert_int_equal(it.unix_s, 1796428800);
+    assert_null(el_local_parse_or_date("05/12/2026", 10, EL_DATE_MDY, &it));
+    assert_int_equal(it.unix_s, 1778544000);
+    assert_null(el_local_parse_or_date("13/05/2026 0:00", 15, EL_DATE_MDY, &it));
+    assert_non_null(el_local_parse_or_date("05/12/2026", 10, 0, &it));
+}
+
 /* The 12-hour clock: 12 AM is midnight, 12 PM noon (2026-12-05T00:00:00
  * = 1796428800, T12:00:00 = 1796472000, T20:30:00 = 1796502600). */
 static void test_twelve_hour_clock(void **state)
@@ -202,6 +217,7 @@ int main(void)
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_day_first_and_month_first),
         cmocka_unit_test(test_year_first_slashes),
+        cmocka_unit_test(test_typed_times),
         cmocka_unit_test(test_twelve_hour_clock),
         cmocka_unit_test(test_refused),
         cmocka_unit_test(test_order_settled),
