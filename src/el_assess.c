@@ -128,10 +128,10 @@ static el_status build_series(const el_assess_options *opt, el_assessment *r,
     st = EL_OK;
     if (opt->inputs != NULL)
         st = el_channels_select(&r->table, opt->inputs, "--input", NULL, 0, inputs,
-                                      &n_inputs, err);
+                                &n_inputs, err);
     if (st == EL_OK)
         st = el_channels_select(&r->table, opt->channels, "--channels", inputs,
-                                      n_inputs, channels, &n_channels, err);
+                                n_inputs, channels, &n_channels, err);
     if (st == EL_OK)
         st = el_series_build(&r->table, channels, n_channels, &tb, &r->series,
                              &r->input_warnings, err);

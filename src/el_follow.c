@@ -517,8 +517,7 @@ static el_status choose_columns(el_follow *f, el_error *err)
     if (a->inputs != NULL)
         st = el_channels_select(&f->ref, a->inputs, "--input", NULL, 0, in, &ni, err);
     if (st == EL_OK)
-        st = el_channels_select(&f->ref, a->channels, "--channels", in, ni, ch, &nc,
-                                      err);
+        st = el_channels_select(&f->ref, a->channels, "--channels", in, ni, ch, &nc, err);
     if (st == EL_OK) {
         memmove(ch + nc, in, ni * sizeof *ch);
         f->cols = ch;
