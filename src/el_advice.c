@@ -20,15 +20,6 @@ const char *el_advice_excitation_caution(void)
            "site authorisation.";
 }
 
-/* A table time as the reports write it: ISO text, or the number and unit. */
-static const char *when(const el_table *t, double time, char *buf, size_t size)
-{
-    char num[64];
-    el_table_format_time(t, time, num, sizeof num);
-    snprintf(buf, size, "%.40s%s%.15s", num, t->time_is_iso ? "" : " ",
-             t->time_is_iso ? "" : t->time_unit[0] ? t->time_unit : "s");
-    return buf;
-}
 
 /* A duration in seconds as a log's own unit would read it. */
 static void duration(double seconds, char *buf, size_t size)
@@ -270,7 +261,7 @@ static void reason_cause(const el_assessment *r, double level, el_advice *a)
         snprintf(a->reason, sizeof a->reason,
                  "the level of %s steps at about %s: the window holds two operating "
                  "points", s->names[g->level_channel],
-                 when(&r->table, g->level_step_t, t1, sizeof t1));
+                 el_table_format_when(&r->table, g->level_step_t, t1, sizeof t1));
         snprintf(a->next_step, sizeof a->next_step,
                  "assess a window after the step (--from %s) or before it, or run "
                  "`eigenlog track`",
@@ -279,8 +270,10 @@ static void reason_cause(const el_assessment *r, double level, el_advice *a)
     case EL_CAUSE_LEVEL_TREND:
         snprintf(a->reason, sizeof a->reason,
                  "the level of %s moves steadily from %s to %s: the operating point is "
-                 "not fixed", s->names[g->level_channel], when(&r->table, s->t0, t1, sizeof t1),
-                 when(&r->table, s->t0 + (double)(s->n_samples - 1) * s->dt, t2, sizeof t2));
+                 "not fixed",
+                 s->names[g->level_channel], el_table_format_when(&r->table, s->t0, t1, sizeof t1),
+                 el_table_format_when(&r->table, s->t0 + (double)(s->n_samples - 1) * s->dt, t2,
+                                      sizeof t2));
         snprintf(a->next_step, sizeof a->next_step,
                  "remove the trend with --detrend linear, or follow it with `eigenlog "
                  "track`");

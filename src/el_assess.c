@@ -62,16 +62,6 @@ const char *el_assess_caution(void)
            "limits, local codes and licensed engineering judgement.";
 }
 
-/* A table time as the reports write it: ISO text, or the number and the
- * log's time unit. */
-static const char *when(const el_table *t, double time, char *buf, size_t size)
-{
-    char num[64];
-    el_table_format_time(t, time, num, sizeof num);
-    snprintf(buf, size, "%.40s%s%.15s", num, t->time_is_iso ? "" : " ",
-             t->time_is_iso ? "" : t->time_unit[0] ? t->time_unit : "s");
-    return buf;
-}
 
 /* One warning per channel with isolated one-sample spikes (el_spikes):
  * the fit follows them, so the reader must know they are there. */
@@ -83,7 +73,7 @@ static el_status note_spikes(el_assessment *r, el_error *err)
         if (sp.count == 0)
             continue;
         char at[80];
-        when(&r->table, s->t0 + (double)sp.first * s->dt, at, sizeof at);
+        el_table_format_when(&r->table, s->t0 + (double)sp.first * s->dt, at, sizeof at);
         if (el_warnings_add(&r->input_warnings,
                             "channel '%s' has %zu isolated one-sample spike%s (the first at "
                             "%s, up to %.0f times the typical sample-to-sample change): "
@@ -831,7 +821,7 @@ static el_status judge_one_point(el_assessment *r, el_error *err)
             "%.0f%% of its variance): the window holds two operating points",
             r->series.names[g->level_channel], g->level_change,
             r->series.units[g->level_channel][0] ? " " : "", r->series.units[g->level_channel],
-            when(&r->table, g->level_step_t, a, sizeof a), g->level_move_z,
+            el_table_format_when(&r->table, g->level_step_t, a, sizeof a), g->level_move_z,
             100.0 * g->level_share);
     } else if (g != NULL && g->level_kind == EL_REGIME_LEVEL_TREND) {
         r->nonstat = EL_NONSTAT_LEVEL_TREND;
@@ -844,8 +834,9 @@ static el_status judge_one_point(el_assessment *r, el_error *err)
             "%.0f%% of its variance): the operating point moves through the window",
             s->names[g->level_channel], g->level_change,
             s->units[g->level_channel][0] ? " " : "", s->units[g->level_channel],
-            when(&r->table, s->t0, a, sizeof a),
-            when(&r->table, s->t0 + (double)(s->n_samples - 1) * s->dt, b, sizeof b),
+            el_table_format_when(&r->table, s->t0, a, sizeof a),
+            el_table_format_when(&r->table, s->t0 + (double)(s->n_samples - 1) * s->dt, b,
+                                 sizeof b),
             g->level_move_z, 100.0 * g->level_share);
     } else if (sc->drift) {
         r->nonstat = EL_NONSTAT_DRIFT;
@@ -859,7 +850,7 @@ static el_status judge_one_point(el_assessment *r, el_error *err)
             "halves (split-half check, |z| >= %.3g)",
             sc->decay_rate[0], sc->decay_rate[1], sc->z_decay, sc->frequency_hz[0],
             sc->frequency_hz[1], sc->z_frequency,
-            when(&r->table, sc->split_t, a, sizeof a), EL_ASSESS_SPLIT_Z);
+            el_table_format_when(&r->table, sc->split_t, a, sizeof a), EL_ASSESS_SPLIT_Z);
     }
     if (st != EL_OK)
         return el_error_set(err, st, "out of memory for a warning");

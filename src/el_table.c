@@ -409,6 +409,16 @@ el_status el_table_parse_time(const el_table *table, const char *text,
     return EL_ERR_USAGE;
 }
 
+const char *el_table_format_when(const el_table *table, double t, char *buf, size_t size)
+{
+    char num[64];
+    el_table_format_time(table, t, num, sizeof num);
+    int iso = table != NULL && table->time_is_iso;
+    snprintf(buf, size, "%.40s%s%.15s", num, iso ? "" : " ",
+             iso ? "" : table != NULL && table->time_unit[0] ? table->time_unit : "s");
+    return buf;
+}
+
 char *el_table_format_time(const el_table *table, double t, char *buf, size_t size)
 {
     if (buf == NULL || size == 0)

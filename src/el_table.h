@@ -98,6 +98,11 @@ el_status el_table_parse_time(const el_table *table, const char *text,
  * (t / time_scale_s; also for a non-finite t). Returns buf, always NUL-terminated. */
 char *el_table_format_time(const el_table *table, double t, char *buf, size_t size);
 
+/* A table time as the reports write it: el_table_format_time's text, and
+ * for a log of time numbers a blank and the log's time unit ("12.5 min";
+ * "s" when none). Returns buf (size > 0, always NUL-terminated). */
+const char *el_table_format_when(const el_table *table, double t, char *buf, size_t size);
+
 /* Per-column summary for `eigenlog scan`. */
 typedef struct {
     size_t present;            /* non-missing cells */
