@@ -122,18 +122,25 @@ static el_status build_series(const el_assess_options *opt, el_assessment *r,
     if (st == EL_OK)
         st = el_channels_select(&r->table, opt->channels, "--channels", inputs,
                                 n_inputs, channels, &n_channels, err);
+    /* The build's notes are kept aside: when constant channels of the
+     * default set are left out, the series is built again and only that
+     * build's notes stand (the first one's may count the channels left out). */
+    el_warnings built = {0};
     if (st == EL_OK)
-        st = el_series_build(&r->table, channels, n_channels, &tb, &r->series,
-                             &r->input_warnings, err);
+        st = el_series_build(&r->table, channels, n_channels, &tb, &r->series, &built, err);
     if (st == EL_OK && (opt->channels == NULL || opt->channels[0] == '\0')) {
-        /* Constant channels of the default set left out: built again. */
         size_t kept = n_channels;
         st = el_channels_drop_constant(&r->series, channels, &kept, &r->input_warnings, err);
         if (st == EL_OK && kept < n_channels) {
+            el_warnings_free(&built);
             el_series_free(&r->series);
-            st = el_series_build(&r->table, channels, kept, &tb, &r->series, NULL, err);
+            st = el_series_build(&r->table, channels, kept, &tb, &r->series, &built, err);
         }
     }
+    for (size_t i = 0; st == EL_OK && i < built.count; i++)
+        if (el_warnings_add(&r->input_warnings, "%s", built.items[i]) != EL_OK)
+            st = el_error_set(err, EL_ERR_NOMEM, "out of memory");
+    el_warnings_free(&built);
     if (st == EL_OK)
         st = note_spikes(r, err);
     /* The inputs share the time column, hence the grid, of the channels. */
