@@ -1118,6 +1118,7 @@ static const struct {
     {"gaps_filled", "missing sample"},
     {"repeated_rows_dropped", "the row before exactly"},
     {"constant_channel_dropped", "was left out: a stuck"},
+    {"constant_channel_windows", "was constant in"},
     {"spikes", "isolated one-sample spike"},
     {"few_samples", "too few to tell a"},
     {"no_variation", "no channel varies"},

@@ -8,6 +8,7 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "el_channels.h"
 #include "el_json.h"
 #include "el_report.h"
 #include "el_warnlines.h"
@@ -212,12 +213,90 @@ static el_status summarise(const el_assessment *a, double level, el_track_window
     return EL_OK;
 }
 
+/* Channel c of series moved down to position k (k < c): values, name,
+ * unit and source column; the slots it leaves are reused or freed by the
+ * caller. */
+static void move_channel(el_series *s, size_t c, size_t k)
+{
+    size_t n = s->n_samples;
+    memmove(s->values + k * n, s->values + c * n, n * sizeof(double));
+    free(s->names[k]);
+    free(s->units[k]);
+    s->names[k] = s->names[c];
+    s->units[k] = s->units[c];
+    s->names[c] = s->units[c] = NULL;
+    if (s->source_column != NULL)
+        s->source_column[k] = s->source_column[c];
+}
+
+/* The window's default channels that are constant over it while another
+ * moves (el_channels_drop_constant, the rule assess applies to a log) are
+ * taken out of the series, and their names written to w. A sensor that
+ * sticks part-way through a long log would otherwise fail every window
+ * after it, though assess on any of those windows fits the rest. */
+static el_status leave_out_stuck(const el_track_options *opt, el_series *s,
+                                 el_track_window *w, el_error *err)
+{
+    size_t nc = s->n_channels, kept = nc;
+    if ((opt->assess.channels != NULL && opt->assess.channels[0] != '\0') || nc < 2)
+        return EL_OK;
+    size_t *keep = malloc(nc * sizeof *keep);
+    if (keep == NULL)
+        return el_error_set(err, EL_ERR_NOMEM, "out of memory (tracking window)");
+    for (size_t c = 0; c < nc; c++)
+        keep[c] = c;
+    el_warnings said = {0};
+    el_status st = el_channels_drop_constant(s, keep, &kept, &said, err);
+    el_warnings_free(&said);
+    if (st != EL_OK || kept == nc) {
+        free(keep);
+        return st;
+    }
+    size_t k = 0, used = 0;
+    for (size_t c = 0; c < nc; c++) {
+        if (k < kept && keep[k] == c) {
+            if (k != c)
+                move_channel(s, c, k);
+            k++;
+            continue;
+        }
+        int wrote = snprintf(w->left_out + used, sizeof w->left_out - used, "%s%s",
+                             used > 0 ? ", " : "", s->names[c]);
+        if (wrote > 0 && (size_t)wrote < sizeof w->left_out - used)
+            used += (size_t)wrote;
+        else
+            w->left_out[used] = '\0'; /* cut at the name that does not fit */
+        w->n_left_out++;
+    }
+    for (size_t c = kept; c < nc; c++) {
+        free(s->names[c]);
+        free(s->units[c]);
+        s->names[c] = s->units[c] = NULL;
+    }
+    s->n_channels = kept;
+    free(keep);
+    return EL_OK;
+}
+
 el_status el_track_assess_window(const el_track_options *opt, el_assess_plan *plan,
                                  const el_table *times, size_t index, el_series *series,
                                  el_series *inputs, el_track_window *w, el_error *err)
 {
     el_assessment a;
     memset(&a, 0, sizeof a);
+    el_assess_plan *own_plan = NULL;
+    el_status st = leave_out_stuck(opt, series, w, err);
+    if (st == EL_OK && w->n_left_out > 0)
+        st = el_assess_plan_create(series->n_samples, series->n_channels,
+                                   inputs != NULL ? inputs->n_channels : 0, &own_plan, err);
+    if (st != EL_OK) {
+        el_series_free(series);
+        if (inputs != NULL)
+            el_series_free(inputs);
+        return st;
+    }
+    if (own_plan != NULL)
+        plan = own_plan;
     /* The assessment owns the series from here on (freed with it). */
     a.series = *series;
     memset(series, 0, sizeof *series);
@@ -236,7 +315,7 @@ el_status el_track_assess_window(const el_track_options *opt, el_assess_plan *pl
     o.stage_progress = NULL;      /* the run reports windows, not their stages */
     el_error werr;
     el_error_clear(&werr);
-    el_status st = el_assess_execute(plan, &o, &a, &werr);
+    st = el_assess_execute(plan, &o, &a, &werr);
     if (st == EL_OK) {
         st = summarise(&a, opt->assess.boot.level, w, err);
     } else if (st != EL_ERR_NOMEM && st != EL_ERR_INTERNAL && st != EL_ERR_USAGE) {
@@ -250,6 +329,7 @@ el_status el_track_assess_window(const el_track_options *opt, el_assess_plan *pl
         *err = werr;
     }
     el_assessment_free(&a);
+    el_assess_plan_destroy(own_plan); /* after the result that borrowed from it */
     return st;
 }
 
@@ -561,6 +641,59 @@ static el_status warn_no_dynamics(el_track_result *r, el_error *err)
     return st == EL_OK ? EL_OK : el_error_set(err, st, "out of memory (trend)");
 }
 
+/* A channel left out of some windows (el_track_window.left_out): the
+ * windows' margins then rest on different channel sets, and a stuck sensor
+ * is itself worth knowing. One warning per channel name, in the order
+ * first seen, with its count and its first window. */
+static el_status warn_left_out(el_track_result *r, el_error *err)
+{
+    for (size_t i = 0; i < r->n_windows; i++) {
+        const el_track_window *w = &r->windows[i];
+        if (!w->ok || w->n_left_out == 0)
+            continue;
+        const char *p = w->left_out;
+        while (*p != '\0') {
+            size_t len = strcspn(p, ",");
+            int seen = 0;
+            size_t count = 0;
+            for (size_t k = 0; k < r->n_windows && !seen; k++) {
+                const el_track_window *v = &r->windows[k];
+                if (!v->ok || v->n_left_out == 0)
+                    continue;
+                const char *q = v->left_out;
+                while (*q != '\0') {
+                    size_t lq = strcspn(q, ",");
+                    if (lq == len && strncmp(p, q, len) == 0) {
+                        seen = k < i;
+                        count++;
+                        break;
+                    }
+                    q += lq;
+                    q += strspn(q, ", ");
+                }
+            }
+            el_status st = EL_OK;
+            if (!seen && count < r->n_ok)
+                st = el_warnings_add(
+                    &r->warnings,
+                    "channel '%.*s' was constant in %zu of %zu assessed windows (from %s): "
+                    "a stuck or disconnected sensor? Those windows were fitted without it, "
+                    "so their margins rest on fewer channels than the others'",
+                    (int)len, p, count, r->n_ok, w->from_text);
+            else if (!seen)
+                st = el_warnings_add(&r->warnings,
+                                     "channel '%.*s' was constant in every assessed window: a "
+                                     "stuck or disconnected sensor? The windows were fitted "
+                                     "without it", (int)len, p);
+            if (st != EL_OK)
+                return el_error_set(err, EL_ERR_NOMEM, "out of memory (trend)");
+            p += len;
+            p += strspn(p, ", ");
+        }
+    }
+    return EL_OK;
+}
+
 el_status el_track_fit_trend(el_track_result *r, el_error *err)
 {
     r->has_trend = 0;
@@ -570,6 +703,8 @@ el_status el_track_fit_trend(el_track_result *r, el_error *err)
     r->time_to_zero = r->time_to_zero_lo = r->time_to_zero_hi = NAN;
     r->widening = 1.0;
     el_status st = warn_no_dynamics(r, err);
+    if (st == EL_OK)
+        st = warn_left_out(r, err);
     if (st != EL_OK)
         return st;
     trend_data d;
@@ -705,10 +840,11 @@ void el_track_window_text(el_buf *out, const el_track_window *w, int width)
         el_buf_printf(out, "%6.3f  ", w->p_stable);
     else
         el_buf_printf(out, "%6s  ", "n/a");
-    el_buf_printf(out, "%s%s  %s\n",
+    el_buf_printf(out, "%s%s  %s%s%s%s\n",
                   w->no_dynamics ? "no dynamics" : stability_name(w->stability),
                   w->ambiguous && w->stability != EL_UNDECIDED ? " (ambiguous)" : "",
-                  el_method_name(w->method));
+                  el_method_name(w->method), w->n_left_out > 0 ? ", without " : "",
+                  w->left_out, w->n_left_out > 0 && w->left_out[0] == '\0' ? "?" : "");
 }
 
 /* The time unit, "time unit" when the log does not say. */
@@ -844,6 +980,16 @@ void el_track_window_json(el_json *j, const char *key, const el_track_window *w,
     el_json_bool(j, "no_dynamics", w->no_dynamics);
     el_json_int(j, "replicates", (long long)w->n_replicates);
     el_json_int(j, "warnings", (long long)w->n_warnings);
+    el_json_array_begin(j, "channels_left_out");
+    for (const char *p = w->left_out; *p != '\0';) {
+        size_t len = strcspn(p, ",");
+        char name[EL_ERROR_TEXT_MAX];
+        snprintf(name, sizeof name, "%.*s", (int)len, p);
+        el_json_string(j, NULL, name);
+        p += len;
+        p += strspn(p, ", ");
+    }
+    el_json_array_end(j);
     el_json_object_end(j);
 }
 

@@ -64,6 +64,12 @@ typedef struct {
     int no_dynamics;              /* 1: the window's data cannot be told from white
                                      noise (verdict withheld, cause no_dynamics): its
                                      margin describes noise and stays out of the trend */
+    /* Default channels constant over this window while another moved (a
+     * sensor that sticks part-way through the log), left out of its fit
+     * as assess leaves them out: their names, ", "-separated ("" none;
+     * cut at a name that does not fit), and how many. */
+    char left_out[EL_ERROR_TEXT_MAX];
+    size_t n_left_out;
 } el_track_window;
 
 typedef struct {
@@ -159,7 +165,12 @@ el_status el_track_check_options(const el_track_options *opt, el_error *err);
  * written as the log writes times (el_table_format_time on times, whose
  * other parts may be empty), the margin, its bounds and replicates. The
  * series (and inputs) are taken over and freed, also on error (they are
- * left zeroed). A window whose assessment fails for its own data (too
+ * left zeroed). Without --channels (opt->assess.channels NULL or ""), a
+ * channel constant over the window while another moves is left out of
+ * the window's fit, as el_assess_load leaves it out of a log, and named in
+ * w->left_out; that window is then fitted through a plan of its own for
+ * the channels kept (plan serves the full set). A window whose assessment
+ * fails for its own data (too
  * flat, singular) gives w->ok = 0 with the message and EL_OK; EL_ERR_USAGE,
  * EL_ERR_NOMEM and EL_ERR_INTERNAL stop (err says why). Free w with
  * el_track_window_free. */

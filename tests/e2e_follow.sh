@@ -93,6 +93,25 @@ check "the final trend equals offline track's" $?
 [ "$(grep -c '"record": "trend"' "$tmp/pipe.jsonl")" -eq 7 ]
 check "a trend line per window from the third, and the final one (7)" $?
 
+# --- A sensor that sticks part-way: offline and followed windows alike --
+# vib_vertical frozen from 1500 s: windows 6-8 are fitted without it (as
+# assess fits any of them) and say so, instead of failing.
+awk -F, 'NR > 1 && $1 + 0 >= 1500 { $3 = "0.120" } { print }' OFS=, "$fan" >"$tmp/stuck.csv"
+"$bin" track "$tmp/stuck.csv" $opts --json "$tmp/stuck_off.json" >/dev/null
+check "offline track of a log whose sensor sticks mid-way: exit 0" $?
+[ "$(jq '[.windows[] | select(.ok and .channels_left_out == ["vib_vertical"])] | length' \
+    "$tmp/stuck_off.json")" -eq 3 ]
+check "offline: the three windows after the sensor stuck are fitted without it" $?
+cat "$tmp/stuck.csv" | "$bin" track - --follow $opts --json - >"$tmp/stuck.jsonl" 2>/dev/null
+check "followed: exit 0" $?
+[ "$(jq -s '[.[] | select(.record == "window" and .window.ok
+    and .window.channels_left_out == ["vib_vertical"])] | length' "$tmp/stuck.jsonl")" -eq 3 ]
+check "followed: the same three windows fitted without the stuck sensor" $?
+offline_numbers "$tmp/stuck_off.json" >"$tmp/stuck_off.tsv"
+follow_numbers "$tmp/stuck.jsonl" >"$tmp/stuck_fol.tsv"
+same_numbers "$tmp/stuck_off.tsv" "$tmp/stuck_fol.tsv"
+check "followed windows equal the offline ones when a sensor sticks" $?
+
 # --- A writer appending in accelerated time; alarm; on-alarm; html ------
 # The offline call: the first window count whose trend is "shrinking".
 first_shrinking=""

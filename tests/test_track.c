@@ -307,6 +307,99 @@ static void test_steady_margin(void **state)
     el_track_free(&r);
 }
 
+/* drifting_csv with channel y stuck at -0.5 from sample stuck_from on
+ * (a sensor that freezes part-way through the log). */
+static char *stuck_csv(size_t n, size_t stuck_from, uint64_t seed, size_t *len)
+{
+    size_t in_len = 0;
+    char *in = drifting_csv(0.5, 0.1, n, seed, &in_len);
+    char *out = malloc(2 * in_len + 64); /* a stuck value may be longer than the one it replaces */
+    assert_non_null(out);
+    size_t pos = 0, row = 0;
+    for (char *line = strtok(in, "\n"); line != NULL; line = strtok(NULL, "\n"), row++) {
+        char *last = strrchr(line, ',');
+        if (row > stuck_from && last != NULL) /* row 0 is the header */
+            pos += (size_t)sprintf(out + pos, "%.*s,-0.500000000\n", (int)(last - line), line);
+        else
+            pos += (size_t)sprintf(out + pos, "%s\n", line);
+    }
+    free(in);
+    *len = pos;
+    return out;
+}
+
+/* A sensor that sticks part-way through: the windows after it are fitted
+ * on the channel that still moves (as assess would fit any of them), named
+ * per window and in one warning, instead of failing; a --channels list that
+ * names the stuck channel still fails those windows. The margin's truth is
+ * the same closed form as test_drifting_margin's (each window's middle). */
+static void test_sensor_sticks_mid_log(void **state)
+{
+    (void)state;
+    const size_t n = 16000;
+    size_t len = 0;
+    char *csv = stuck_csv(n, 10000, 7, &len); /* y constant from 500 s: windows 5-7 */
+    el_track_result r;
+    el_error err;
+    el_error_clear(&err);
+    if (run_track(csv, len, 100.0, 300, &r, &err) != EL_OK)
+        fail_msg("track failed: %s", err.message);
+    assert_int_equal(r.n_windows, 8);
+    assert_int_equal(r.n_ok, 8);
+    size_t covered = 0;
+    for (size_t i = 0; i < r.n_windows; i++) {
+        const el_track_window *w = &r.windows[i];
+        assert_int_equal(w->n_left_out, i >= 5 ? 1 : 0);
+        assert_string_equal(w->left_out, i >= 5 ? "y" : "");
+        double mid = 0.5 * (w->t_from + w->t_to);
+        double truth = 0.5 + (0.1 - 0.5) * mid / ((double)(n - 1) * 0.05);
+        covered += w->margin_lo <= truth && truth <= w->margin_hi;
+    }
+    /* 95 % bounds per window: fewer than 6 of 8 has probability 0.6 %. */
+    if (covered < 6)
+        fail_msg("only %zu of 8 windows hold their true margin", covered);
+    int warned = 0;
+    for (size_t i = 0; i < r.warnings.count; i++)
+        warned += strstr(r.warnings.items[i], "channel 'y' was constant in 3 of 8") != NULL;
+    assert_int_equal(warned, 1);
+    el_track_options opt;
+    el_track_defaults(&opt);
+    opt.assess.path = "drift.csv";
+    el_buf json = {0};
+    assert_int_equal(el_track_report_json(&r, &opt, &json), EL_OK);
+    size_t lists = 0, with_y = 0;
+    for (const char *key = strstr(json.data, "\"channels_left_out\": [");
+         key != NULL; key = strstr(key + 1, "\"channels_left_out\": [")) {
+        const char *y = strstr(key, "\"y\"");
+        lists++;
+        with_y += y != NULL && y < strchr(key, ']');
+    }
+    assert_int_equal(lists, 8);
+    assert_int_equal(with_y, 3);
+    el_buf_free(&json);
+    el_track_free(&r);
+
+    /* Named in --channels: the stuck channel stops those windows. */
+    el_track_defaults(&opt);
+    opt.assess.path = "drift.csv";
+    opt.assess.channels = "x,y";
+    opt.assess.stream = fmemopen(csv, len, "r");
+    assert_non_null(opt.assess.stream);
+    opt.assess.boot.replicates = 100;
+    opt.assess.boot.threads = 2;
+    opt.window = 100.0;
+    memset(&r, 0, sizeof r);
+    assert_int_equal(el_track_run(&opt, &r, &err), EL_OK);
+    fclose(opt.assess.stream);
+    assert_int_equal(r.n_ok, 5);
+    for (size_t i = 5; i < r.n_windows; i++) {
+        assert_false(r.windows[i].ok);
+        assert_non_null(strstr(r.windows[i].error, "constant"));
+    }
+    el_track_free(&r);
+    free(csv);
+}
+
 /* Bad options: each refused before any window is assessed, naming the
  * option. */
 static void test_errors(void **state)
@@ -437,6 +530,7 @@ int main(void)
         cmocka_unit_test(test_trend_too_few),
         cmocka_unit_test(test_drifting_margin),
         cmocka_unit_test(test_steady_margin),
+        cmocka_unit_test(test_sensor_sticks_mid_log),
         cmocka_unit_test(test_errors),
         cmocka_unit_test(test_cautions_clock_time),
         cmocka_unit_test(test_text_folds_warnings),
