@@ -18,6 +18,7 @@
 #endif
 #include "el_text.h"
 #include "el_timefmt.h"
+#include "el_units.h"
 
 static el_status table_no_memory(el_error *err, const char *name)
 {
@@ -83,6 +84,12 @@ el_status el_table_finish(el_table *t, const long *text_line, el_error *err)
     if (st != EL_OK)
         return st;
     size_t tc = t->time_column;
+    /* Zone-less date-times under a units row that says UTC are UTC: the
+     * row is where such loggers write the zone. Set after the rows, which
+     * are read (and checked alike) as written, without a zone. */
+    if (t->time_is_iso && !t->time_zone_known && t->units != NULL
+        && el_units_time_label_is_utc(t->units[tc]))
+        t->time_zone_known = 1;
     if (t->time_scale_s != 1.0) {
         double *time = t->values + tc * t->n_rows;
         for (size_t r = 0; r < t->n_rows; r++)

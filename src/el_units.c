@@ -1,6 +1,7 @@
 /* el_units: the units of a log's columns (el_units.h). */
 #include "el_units.h"
 
+#include <ctype.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -22,6 +23,80 @@ void el_units_row_unit(const el_units_cell *c, const char **unit, size_t *n)
     }
 }
 
+/* 1 when s[0..n) equals word, ignoring case. */
+static int same_word(const char *s, size_t n, const char *word)
+{
+    if (strlen(word) != n)
+        return 0;
+    for (size_t i = 0; i < n; i++)
+        if (tolower((unsigned char)s[i]) != tolower((unsigned char)word[i]))
+            return 0;
+    return 1;
+}
+
+/* A zone's name a logger writes above its date-times: UTC, GMT or Z,
+ * optionally with an offset (UTC+01:00), or a common abbreviation. */
+static int zone_label(const char *s, size_t n)
+{
+    static const char *const zones[] = {"utc",  "gmt",  "z",    "local", "local time",
+                                        "cet",  "cest", "eet",  "eest",  "wet",
+                                        "west", "bst",  "est",  "edt",   "cst",
+                                        "cdt",  "mst",  "mdt",  "pst",   "pdt",
+                                        "jst",  "aest", "aedt"};
+    for (size_t i = 0; i < sizeof zones / sizeof zones[0]; i++)
+        if (same_word(s, n, zones[i]))
+            return 1;
+    if (n < 5 || !(same_word(s, 3, "utc") || same_word(s, 3, "gmt"))
+        || (s[3] != '+' && s[3] != '-'))
+        return 0;
+    for (size_t i = 4; i < n; i++)
+        if (!isdigit((unsigned char)s[i]) && s[i] != ':')
+            return 0;
+    return 1;
+}
+
+/* A pattern of a date-time's fields ("hh:mm:ss", "YYYY-MM-DD hh:mm:ss.fff",
+ * "DD.MM.YYYY HH:MM"): field letters and separators only, with at least two
+ * different fields. */
+static int format_label(const char *s, size_t n)
+{
+    int fields = 0;
+    for (size_t i = 0; i < n; i++) {
+        char c = (char)tolower((unsigned char)s[i]);
+        const char *f = strchr("ymdhsf", c);
+        if (c != '\0' && f != NULL)
+            fields |= 1 << (f - "ymdhsf");
+        else if (strchr(" -/:.,_t", c) == NULL && !(c == 'a' || c == 'p'))
+            return 0;
+    }
+    int distinct = 0;
+    for (int b = 0; b < 6; b++)
+        distinct += (fields >> b) & 1;
+    return distinct >= 2;
+}
+
+/* 1 when the time cell of a units row labels a column of date-times
+ * instead of naming a unit: its zone or its pattern, or a word for it. */
+static int time_label(const char *s, size_t n)
+{
+    static const char *const words[] = {"date",      "time",     "date/time", "date time",
+                                        "datetime",  "timestamp", "iso 8601", "iso8601"};
+    if (n == 0 || n > 40 || el_iso_looks(s, n) || el_local_looks(s, n))
+        return 0;
+    for (size_t i = 0; i < sizeof words / sizeof words[0]; i++)
+        if (same_word(s, n, words[i]))
+            return 1;
+    return zone_label(s, n) || format_label(s, n);
+}
+
+int el_units_time_label_is_utc(const char *unit)
+{
+    size_t n = unit != NULL ? strlen(unit) : 0;
+    return same_word(unit, n, "utc") || same_word(unit, n, "gmt") || same_word(unit, n, "z")
+           || same_word(unit, n, "utc+00:00") || same_word(unit, n, "utc+0")
+           || same_word(unit, n, "gmt+0");
+}
+
 int el_units_row_is(const el_units_cell *cells, size_t n, size_t time_column, char delim,
                     char decimal)
 {
@@ -31,9 +106,10 @@ int el_units_row_is(const el_units_cell *cells, size_t n, size_t time_column, ch
     if (time_column >= n)
         return 0;
     el_units_row_unit(&cells[time_column], &s, &len);
-    if (len > 0 && !el_time_unit_lookup(s, len, &scale, &name))
+    int labelled = len > 0 && !el_time_unit_lookup(s, len, &scale, &name);
+    if (labelled && !time_label(s, len))
         return 0;
-    int time_empty = len == 0, a_unit = 0;
+    int time_empty = len == 0 || labelled, a_unit = 0;
     for (size_t c = 0; c < n; c++) {
         s = cells[c].text;
         len = cells[c].length;
@@ -43,8 +119,9 @@ int el_units_row_is(const el_units_cell *cells, size_t n, size_t time_column, ch
             return 0;
         a_unit |= c != time_column && len > 0 && !el_number_is_missing(s, len);
     }
-    /* An empty time cell (a date-time column has no unit) needs a unit
-     * beside it: a row with no time and no units is a broken data row. */
+    /* An empty or labelling time cell (a date-time column has no unit)
+     * needs a unit beside it: a row with no time and no units is a broken
+     * data row. */
     return !time_empty || a_unit;
 }
 
@@ -95,11 +172,17 @@ el_status el_units_decide_time(el_table *t, const char *opt_unit, int from_row,
     } else if (t->units[tc][0] != '\0') {
         if (!el_time_unit_parse(t->units[tc], &scale, &unit)) {
             el_error_set(err, EL_ERR_DATA,
-                         "the time column \"%.100s\" has the unit \"%.40s\", which is not a "
-                         "unit of time", t->names[tc], t->units[tc]);
-            el_error_at(err, t->source, header_line, header_column);
+                         "the time column \"%.100s\" has the unit \"%.40s\"%s, which is not "
+                         "a unit of time", t->names[tc], t->units[tc],
+                         from_row ? " in the units row" : "");
+            el_error_at(err, t->source, from_row && t->units_line > 0 ? t->units_line
+                                                                      : header_line,
+                        header_column);
             el_error_hint(err, "give the unit with --time-unit (s, ms, us, min, h, d or "
-                               "year), or choose the time column with --time");
+                               "year), or choose the time column with --time%s",
+                          from_row ? "; a zone or a pattern (UTC, hh:mm:ss) labels a column "
+                                     "of date-times, and these times are numbers"
+                                   : "");
             return EL_ERR_DATA;
         }
         how = from_row ? "units row" : "header";

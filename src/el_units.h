@@ -22,14 +22,21 @@ typedef struct {
 void el_units_row_unit(const el_units_cell *c, const char **unit, size_t *n);
 
 /* 1 when cells[0..n) are a row of units: the cell of time_column names a
- * unit of time (el_time_unit_lookup), or is empty while another cell
- * names a unit (a column of date-times has none), and no cell is a number
+ * unit of time (el_time_unit_lookup), or is empty or labels date-times
+ * (a zone: UTC, UTC+01:00, CET, local; a pattern: hh:mm:ss,
+ * YYYY-MM-DD hh:mm:ss; a word: date, timestamp) while another cell names
+ * a unit (a column of date-times has none), and no cell is a number
  * (as el_number_parse reads it with this delimiter and decimal separator,
  * 0 = not decided yet). A data row's time cell is a number or a
  * date-time, never a unit of time, and a data row without its time is an
  * error anyway, so no valid data row is ever taken for one. */
 int el_units_row_is(const el_units_cell *cells, size_t n, size_t time_column, char delim,
                     char decimal);
+
+/* 1 when a time column's unit as a units row gave it (el_units_row_take)
+ * says its date-times are UTC: UTC, GMT or Z (any case), or UTC+00:00.
+ * NULL gives 0. */
+int el_units_time_label_is_utc(const char *unit);
 
 /* Gives column c of t (c < n, n == t->n_columns) the unit cells[c] holds;
  * an empty cell or NA leaves the column as it is. A column whose header already

@@ -95,6 +95,55 @@ static void test_units_row_for_date_times(void **state)
     assert_int_equal(e.line, 2);
 }
 
+/* Above date-times a logger may write their zone or their pattern instead
+ * of leaving the cell empty: the row is still a units row. "UTC" also says
+ * the zone-less times are UTC (no zone warning); another zone's name or a
+ * pattern leaves the zone unknown. Over a column of numbers such a label is
+ * no unit of time: refused at the units row's line. */
+static void test_units_row_labels_date_times(void **state)
+{
+    (void)state;
+    el_table t = {0};
+    el_error e;
+    assert_int_equal(read_text("stamp,p,q\nUTC,bar,l/min\n2026-03-14T08:00:00,1,2\n"
+                               "2026-03-14T08:00:01,2,3\n", &t, &e), EL_OK);
+    assert_int_equal(t.n_rows, 2);
+    assert_int_equal(t.units_line, 2);
+    assert_string_equal(t.units[1], "bar");
+    assert_string_equal(t.units[2], "l/min");
+    assert_int_equal(t.time_zone_known, 1);
+    for (size_t i = 0; i < t.notes.count; i++)
+        assert_null(strstr(t.notes.items[i], "carry no zone"));
+    el_table_free(&t);
+
+    const char *unknown_zone[] = {
+        "stamp,p\nhh:mm:ss,bar\n2026-03-14 08:00:00,1\n2026-03-14 08:00:01,2\n",
+        "stamp;p\nDD.MM.YYYY hh:mm:ss;bar\n14.03.2026 08:00:00;1\n14.03.2026 08:00:01;2\n",
+        "stamp,p\nCET,bar\n2026-03-14T08:00:00,1\n2026-03-14T08:00:01,2\n",
+        "stamp,p\ntimestamp,bar\n2026-03-14T08:00:00,1\n2026-03-14T08:00:01,2\n",
+    };
+    for (size_t i = 0; i < sizeof unknown_zone / sizeof unknown_zone[0]; i++) {
+        memset(&t, 0, sizeof t);
+        if (read_text(unknown_zone[i], &t, &e) != EL_OK)
+            fail_msg("case %zu: %s", i, e.message);
+        assert_int_equal(t.n_rows, 2);
+        assert_string_equal(t.units[1], "bar");
+        assert_int_equal(t.time_zone_known, 0);
+        el_table_free(&t);
+    }
+
+    memset(&t, 0, sizeof t);
+    assert_int_equal(read_text("t,p\nUTC,bar\n0,1\n1,2\n", &t, &e), EL_ERR_DATA);
+    assert_int_equal(e.line, 2);
+    assert_non_null(strstr(e.message, "\"UTC\" in the units row"));
+    /* Text that neither names a unit of time nor labels date-times: a
+     * broken data row, as before. */
+    assert_int_equal(read_text("t,p\nbar,V\n0,1\n", &t, &e), EL_ERR_DATA);
+    assert_int_equal(e.line, 2);
+    assert_int_equal(read_text("t,p\nmm,V\n0,1\n", &t, &e), EL_ERR_DATA);
+    assert_int_equal(e.line, 2);
+}
+
 /* A unit written in the header and another in the units row: refused at
  * the cell, naming both. */
 static void test_units_row_disagrees(void **state)
@@ -253,6 +302,7 @@ int main(void)
         cmocka_unit_test(test_units_row_taken),
         cmocka_unit_test(test_units_row_brackets_and_gaps),
         cmocka_unit_test(test_units_row_for_date_times),
+        cmocka_unit_test(test_units_row_labels_date_times),
         cmocka_unit_test(test_units_row_disagrees),
         cmocka_unit_test(test_not_a_units_row),
         cmocka_unit_test(test_units_probe),
