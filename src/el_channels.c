@@ -7,28 +7,12 @@
 
 #include "el_stats.h"
 
-/* Appends the table's column names except the time column to buf. */
-static void list_columns(const el_table *table, char *buf, size_t size)
-{
-    size_t used = 0;
-    buf[0] = '\0';
-    for (size_t c = 0; c < table->n_columns && used < size; c++) {
-        if (c == table->time_column)
-            continue;
-        int n = snprintf(buf + used, size - used, "%s%s", used ? ", " : "",
-                         table->names[c]);
-        if (n < 0)
-            break;
-        used += (size_t)n;
-    }
-}
-
 static el_status channel_error(el_error *err, const el_table *table,
                                const char *option, const char *fmt_name,
                                const char *why)
 {
     char names[EL_ERROR_TEXT_MAX - 32];
-    list_columns(table, names, sizeof names);
+    el_table_list_columns(table, 0, 0, names, sizeof names);
     el_error_set(err, EL_ERR_USAGE, "column '%s' %s", fmt_name, why);
     el_error_option(err, option);
     el_error_hint(err, "channels in this log: %s", names);

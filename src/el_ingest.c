@@ -16,6 +16,7 @@
 #include <unistd.h>
 
 #include "el_chunks.h"
+#include "el_datecols.h"
 #include "el_dedup.h"
 #include "el_number.h"
 #include "el_record.h"
@@ -91,6 +92,9 @@ typedef struct {
                                        read by threads into their rows of the table */
     size_t n_chunks, next_chunk;
     size_t text_released;     /* bytes of the mapped text given back (release_text) */
+    size_t clock_column1;     /* 1 + the column holding the time of day when the time
+                                 column holds dates only (el_datecols); 0 none */
+    char joined[128];         /* that row's date and time of day, joined */
 } ingest;
 
 enum { COL_UNKNOWN, COL_NUMBER, COL_TEXT };
@@ -365,19 +369,7 @@ static el_status split_record(ingest *g, const record *r, size_t *n_fields)
 /* Copies a cell for a message: control bytes escaped, long cells cut. */
 static void show_cell(const char *s, size_t n, char *out, size_t size)
 {
-    size_t w = 0;
-    for (size_t i = 0; i < n && w + 8 < size; i++) {
-        unsigned char c = (unsigned char)s[i];
-        if (i >= CELL_SHOW_MAX) {
-            w += (size_t)snprintf(out + w, size - w, "...");
-            break;
-        }
-        if (c < 0x20 || c == 0x7F || c == '"' || c == '\\')
-            w += (size_t)snprintf(out + w, size - w, c == '"' || c == '\\' ? "\\%c" : "\\x%02X", c);
-        else
-            out[w++] = (char)c;
-    }
-    out[w] = '\0';
+    el_text_show(s, n, CELL_SHOW_MAX, out, size);
 }
 
 /* ------------------------------------------------------------------ */
@@ -424,19 +416,6 @@ static el_status add_column(ingest *g, size_t c, const char *s, size_t n)
     return EL_OK;
 }
 
-static void list_columns(const el_table *t, char *out, size_t size)
-{
-    size_t w = 0;
-    out[0] = '\0';
-    for (size_t c = 0; c < t->n_columns && w < size; c++) {
-        int k = snprintf(out + w, size - w, "%s\"%s\"", c ? ", " : "", t->names[c]);
-        if (k < 0)
-            break;
-        w += (size_t)k;
-    }
-    if (w >= size && size > 4)
-        memcpy(out + size - 4, "...", 4);
-}
 
 typedef struct {
     const char *name;
@@ -533,7 +512,7 @@ static el_status find_time_column(ingest *g, const el_ingest_options *opt)
         return EL_OK;
     }
     char names[EL_ERROR_TEXT_MAX - 32];
-    list_columns(t, names, sizeof names);
+    el_table_list_columns(t, 1, 1, names, sizeof names);
     el_error_set(g->err, EL_ERR_USAGE, "no column \"%.200s\" for the time", opt->time_column);
     el_error_option(g->err, "--time");
     el_error_at(g->err, g->name, g->header_line, 0);
@@ -792,7 +771,33 @@ static el_status time_error(ingest *g, const record *r, const span *f, const cha
 {
     char shown[CELL_SHOW_MAX * 4 + 8];
     show_cell(s, n, shown, sizeof shown);
-    return fail_at(g, r, value_offset(f, s), hint, "time cell \"%s\": %s", shown, what);
+    /* A date joined with its time of day lies outside the record. */
+    size_t off = s == g->joined ? value_offset(f, f->text) : value_offset(f, s);
+    return fail_at(g, r, off, hint, "time cell \"%s\": %s", shown, what);
+}
+
+/* At the first data row: a time column of dates alone followed by a
+ * column of times of day (spreadsheet exports) makes the two one time
+ * (el_datecols), named by both; the second is then no channel, and is
+ * dropped by el_table_finish without a note (text_line -1). */
+static void find_clock_column(ingest *g)
+{
+    size_t tc = g->t->time_column;
+    if (g->t->n_rows > 0 || tc + 1 >= g->n_columns)
+        return;
+    const char *d = g->spans[tc].text, *c = g->spans[tc + 1].text;
+    size_t nd = g->spans[tc].length, nc = g->spans[tc + 1].length;
+    el_text_trim(&d, &nd);
+    el_text_trim(&c, &nc);
+    char *both;
+    if (!el_datecols_is_date(d, nd) || !el_datecols_is_clock(c, nc)
+        || (both = el_datecols_name(g->t->names[tc], g->t->names[tc + 1])) == NULL)
+        return;
+    free(g->t->names[tc]);
+    g->t->names[tc] = both;
+    g->clock_column1 = tc + 2;
+    g->col_kind[tc + 1] = COL_TEXT;
+    g->text_line[tc + 1] = -1;
 }
 
 static el_status parse_time_cell(ingest *g, const record *r, const span *f, double *out)
@@ -804,6 +809,20 @@ static el_status parse_time_cell(ingest *g, const record *r, const span *f, doub
     if (el_number_is_missing(s, n))
         return time_error(g, r, f, s, n, "the time is missing",
                           "every row needs a time; remove the row or fill in its time");
+    if (g->clock_column1 > 0) {
+        const span *cf = &g->spans[g->clock_column1 - 1];
+        const char *c = cf->text, *hint;
+        size_t nc = cf->length, nj = 0;
+        int at_clock;
+        el_text_trim(&c, &nc);
+        const char *why = el_datecols_row_time(s, n, c, nc, g->joined, sizeof g->joined, &nj,
+                                               &at_clock, &hint);
+        if (why != NULL)
+            return at_clock ? time_error(g, r, cf, c, nc, why, hint)
+                            : time_error(g, r, f, s, n, why, hint);
+        n = nj;
+        s = g->joined; /* errors below point at the date's cell (time_error) */
+    }
     int iso = el_iso_looks(s, n), local = !iso && el_local_looks(s, n);
     if (g->time_kind == TIME_UNKNOWN)
         g->time_kind = iso ? TIME_ISO : local ? TIME_LOCAL : TIME_NUMBER;
@@ -873,9 +892,14 @@ static el_status parse_row(ingest *g, const record *r, size_t n_fields)
         return st;
     el_table *t = g->t;
     size_t row = t->n_rows, cap = g->cap_rows;
+    find_clock_column(g);
     for (size_t c = 0; c < g->n_columns; c++) {
         const span *f = &g->spans[c];
         double *dst = t->values + c * cap + row;
+        if (c + 1 == g->clock_column1) {
+            *dst = NAN; /* part of the time: read with the time column */
+            continue;
+        }
         if (c == t->time_column) {
             if ((st = parse_time_cell(g, r, f, dst)) != EL_OK)
                 return st;

@@ -18,7 +18,6 @@
 #endif
 #include "el_text.h"
 #include "el_timefmt.h"
-#include "el_units.h"
 
 static el_status table_no_memory(el_error *err, const char *name)
 {
@@ -34,8 +33,11 @@ static el_status drop_text_columns(el_table *t, const long *text_line, el_error 
     size_t skipped = 0;
     char list[400] = "";
     size_t w = 0;
+    size_t time_parts = 0;
     for (size_t c = 0; c < t->n_columns; c++) {
-        if (text_line[c] == 0)
+        if (text_line[c] < 0)
+            time_parts++; /* the time of day beside a date: part of the time */
+        if (text_line[c] <= 0)
             continue;
         if (skipped < 5 && w < sizeof list) {
             int k = snprintf(list + w, sizeof list - w, "%s\"%.60s\" (text from line %ld)",
@@ -44,18 +46,20 @@ static el_status drop_text_columns(el_table *t, const long *text_line, el_error 
         }
         skipped++;
     }
-    if (skipped == 0)
+    if (skipped == 0 && time_parts == 0)
         return EL_OK;
-    if (skipped == t->n_columns - 1) {
+    if (skipped > 0 && skipped + time_parts == t->n_columns - 1) {
         el_error_set(err, EL_ERR_DATA, "no column but the time holds numbers: %s", list);
         el_error_at(err, t->source, 0, 0);
         el_error_hint(err, "check the delimiter and the decimal separator (--decimal)");
         return EL_ERR_DATA;
     }
-    el_status st = el_warnings_add(&t->notes,
-                                   "skipped %zu column%s holding text that no option asked "
-                                   "for: %s%s", skipped, skipped == 1 ? "" : "s", list,
-                                   skipped > 5 ? ", ..." : "");
+    el_status st = EL_OK;
+    if (skipped > 0)
+        st = el_warnings_add(&t->notes,
+                             "skipped %zu column%s holding text that no option asked "
+                             "for: %s%s", skipped, skipped == 1 ? "" : "s", list,
+                             skipped > 5 ? ", ..." : "");
     if (st != EL_OK)
         return table_no_memory(err, t->source);
     size_t n = t->n_rows, kept = 0;
@@ -84,12 +88,6 @@ el_status el_table_finish(el_table *t, const long *text_line, el_error *err)
     if (st != EL_OK)
         return st;
     size_t tc = t->time_column;
-    /* Zone-less date-times under a units row that says UTC are UTC: the
-     * row is where such loggers write the zone. Set after the rows, which
-     * are read (and checked alike) as written, without a zone. */
-    if (t->time_is_iso && !t->time_zone_known && t->units != NULL
-        && el_units_time_label_is_utc(t->units[tc]))
-        t->time_zone_known = 1;
     if (t->time_scale_s != 1.0) {
         double *time = t->values + tc * t->n_rows;
         for (size_t r = 0; r < t->n_rows; r++)
@@ -337,6 +335,26 @@ static void split_name_unit(const char *text, const char **name, size_t *name_n,
             *unit_n = un;
             return;
         }
+}
+
+void el_table_list_columns(const el_table *table, int with_time, int quoted, char *out,
+                           size_t size)
+{
+    size_t w = 0;
+    if (size == 0)
+        return;
+    out[0] = '\0';
+    for (size_t c = 0; c < table->n_columns && w < size; c++) {
+        if (c == table->time_column && !with_time)
+            continue;
+        int k = snprintf(out + w, size - w, quoted ? "%s\"%s\"" : "%s%s", w ? ", " : "",
+                         table->names[c]);
+        if (k < 0)
+            break;
+        w += (size_t)k;
+    }
+    if (w >= size && size > 4)
+        memcpy(out + size - 4, "...", 4);
 }
 
 long el_table_find(const el_table *table, const char *name)

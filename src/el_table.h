@@ -80,6 +80,13 @@ void el_table_release_rows(el_table *table);
  * ("accel_a [m/s2]"). */
 long el_table_find(const el_table *table, const char *name);
 
+/* The table's column names for a hint, ", "-separated into out (size
+ * bytes, NUL-terminated), each in double quotes when quoted, the time
+ * column left out unless with_time; a list that does not fit ends in
+ * "...". */
+void el_table_list_columns(const el_table *table, int with_time, int quoted, char *out,
+                           size_t size);
+
 /* Parses a time as written on the command line (--from/--to): a plain
  * number in the log's own time unit (converted to seconds as the time
  * column was; for an ISO table: seconds from the first row),

@@ -3,6 +3,7 @@
  * depend on the locale of the machine reading it. */
 #include "el_text.h"
 
+#include <stdio.h>
 #include <string.h>
 
 int el_text_is_blank(char c)
@@ -34,4 +35,23 @@ int el_text_equals_nocase(const char *s, size_t n, const char *word)
         if (el_text_lower(s[i]) != word[i])
             return 0;
     return 1;
+}
+
+void el_text_show(const char *s, size_t n, size_t max, char *out, size_t size)
+{
+    size_t w = 0;
+    if (size == 0)
+        return;
+    for (size_t i = 0; i < n && w + 8 < size; i++) {
+        unsigned char c = (unsigned char)s[i];
+        if (i >= max) {
+            w += (size_t)snprintf(out + w, size - w, "...");
+            break;
+        }
+        if (c < 0x20 || c == 0x7F || c == '"' || c == '\\')
+            w += (size_t)snprintf(out + w, size - w, c == '"' || c == '\\' ? "\\%c" : "\\x%02X", c);
+        else
+            out[w++] = (char)c;
+    }
+    out[w] = '\0';
 }

@@ -19,4 +19,9 @@ int el_text_equals_nocase(const char *s, size_t n, const char *word);
 /* ASCII lower case of c (no locale); other bytes unchanged. */
 int el_text_lower(char c);
 
+/* Copies the cell s[0..n) into out (size bytes, NUL-terminated) for a
+ * message: control bytes written \xHH, '"' and '\\' escaped, and a cell
+ * longer than max bytes cut there with "...". Never writes past size. */
+void el_text_show(const char *s, size_t n, size_t max, char *out, size_t size);
+
 #endif

@@ -1,7 +1,6 @@
 /* el_units: the units of a log's columns (el_units.h). */
 #include "el_units.h"
 
-#include <ctype.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -23,17 +22,6 @@ void el_units_row_unit(const el_units_cell *c, const char **unit, size_t *n)
     }
 }
 
-/* 1 when s[0..n) equals word, ignoring case. */
-static int same_word(const char *s, size_t n, const char *word)
-{
-    if (strlen(word) != n)
-        return 0;
-    for (size_t i = 0; i < n; i++)
-        if (tolower((unsigned char)s[i]) != tolower((unsigned char)word[i]))
-            return 0;
-    return 1;
-}
-
 /* A zone's name a logger writes above its date-times: UTC, GMT or Z,
  * optionally with an offset (UTC+01:00), or a common abbreviation. */
 static int zone_label(const char *s, size_t n)
@@ -44,13 +32,13 @@ static int zone_label(const char *s, size_t n)
                                         "cdt",  "mst",  "mdt",  "pst",   "pdt",
                                         "jst",  "aest", "aedt"};
     for (size_t i = 0; i < sizeof zones / sizeof zones[0]; i++)
-        if (same_word(s, n, zones[i]))
+        if (el_text_equals_nocase(s, n, zones[i]))
             return 1;
-    if (n < 5 || !(same_word(s, 3, "utc") || same_word(s, 3, "gmt"))
+    if (n < 5 || !(el_text_equals_nocase(s, 3, "utc") || el_text_equals_nocase(s, 3, "gmt"))
         || (s[3] != '+' && s[3] != '-'))
         return 0;
     for (size_t i = 4; i < n; i++)
-        if (!isdigit((unsigned char)s[i]) && s[i] != ':')
+        if ((s[i] < '0' || s[i] > '9') && s[i] != ':')
             return 0;
     return 1;
 }
@@ -62,7 +50,7 @@ static int format_label(const char *s, size_t n)
 {
     int fields = 0;
     for (size_t i = 0; i < n; i++) {
-        char c = (char)tolower((unsigned char)s[i]);
+        char c = (char)el_text_lower(s[i]);
         const char *f = strchr("ymdhsf", c);
         if (c != '\0' && f != NULL)
             fields |= 1 << (f - "ymdhsf");
@@ -84,17 +72,21 @@ static int time_label(const char *s, size_t n)
     if (n == 0 || n > 40 || el_iso_looks(s, n) || el_local_looks(s, n))
         return 0;
     for (size_t i = 0; i < sizeof words / sizeof words[0]; i++)
-        if (same_word(s, n, words[i]))
+        if (el_text_equals_nocase(s, n, words[i]))
             return 1;
     return zone_label(s, n) || format_label(s, n);
 }
 
-int el_units_time_label_is_utc(const char *unit)
+/* 1 when a time column's unit (from a units row) says its date-times are
+ * UTC: UTC, GMT or Z in any case, or UTC+00:00. */
+static int label_is_utc(const char *unit)
 {
+    static const char *const utc[] = {"utc", "gmt", "z", "utc+00:00", "utc+0", "gmt+0"};
     size_t n = unit != NULL ? strlen(unit) : 0;
-    return same_word(unit, n, "utc") || same_word(unit, n, "gmt") || same_word(unit, n, "z")
-           || same_word(unit, n, "utc+00:00") || same_word(unit, n, "utc+0")
-           || same_word(unit, n, "gmt+0");
+    for (size_t i = 0; n > 0 && i < sizeof utc / sizeof utc[0]; i++)
+        if (el_text_equals_nocase(unit, n, utc[i]))
+            return 1;
+    return 0;
 }
 
 int el_units_row_is(const el_units_cell *cells, size_t n, size_t time_column, char delim,
@@ -161,6 +153,9 @@ el_status el_units_decide_time(el_table *t, const char *opt_unit, int from_row,
     size_t tc = t->time_column;
     if (t->time_is_iso) {
         how = "iso8601";
+        /* Loggers that write zone-less times say their zone in this row. */
+        if (!t->time_zone_known && label_is_utc(t->units[tc]))
+            t->time_zone_known = 1;
     } else if (opt_unit != NULL) {
         if (!el_time_unit_parse(opt_unit, &scale, &unit)) {
             el_error_set(err, EL_ERR_USAGE, "\"%.60s\" is not a unit of time", opt_unit);

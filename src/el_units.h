@@ -33,11 +33,6 @@ void el_units_row_unit(const el_units_cell *c, const char **unit, size_t *n);
 int el_units_row_is(const el_units_cell *cells, size_t n, size_t time_column, char delim,
                     char decimal);
 
-/* 1 when a time column's unit as a units row gave it (el_units_row_take)
- * says its date-times are UTC: UTC, GMT or Z (any case), or UTC+00:00.
- * NULL gives 0. */
-int el_units_time_label_is_utc(const char *unit);
-
 /* Gives column c of t (c < n, n == t->n_columns) the unit cells[c] holds;
  * an empty cell or NA leaves the column as it is. A column whose header already
  * named a unit must name the same one: else EL_ERR_DATA with *conflict =
@@ -49,7 +44,10 @@ el_status el_units_row_take(el_table *t, const el_units_cell *cells, size_t n,
                             size_t *conflict, int *time_unit_taken, el_error *err);
 
 /* Decides the unit of t's time numbers and sets t->time_scale_s,
- * time_unit and time_unit_source: "iso8601" for date-times; else
+ * time_unit and time_unit_source: "iso8601" for date-times (whose
+ * time_zone_known it sets when they carry no zone and the time column's
+ * unit, from a units row, says UTC, GMT or Z: called after the rows,
+ * which are read as written, without a zone); else
  * opt_unit (--time-unit, "--time-unit"); else the time column's unit
  * ("units row" when from_row, else "header"); else a unit in or as the
  * column's name (el_time_unit_from_name); else seconds ("assumed").

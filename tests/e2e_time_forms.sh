@@ -3,7 +3,8 @@
 # (ISO 8601 date-times with a zone) rewritten with its dates day first
 # (14.03.2026 08:00:00,050) and month first on a 12-hour clock (3/14/2026
 # 8:00:00.050 AM), both without the zone, must give the same modes as the
-# ISO log without its zone; the rig log with its units moved from the
+# ISO log without its zone, and so must the date and the time of day
+# written in two columns; the rig log with its units moved from the
 # header into a row of units must give the same modes as the original.
 # The reference is the same log in the plain form (the readers are
 # compared with each other, not with stored numbers). Also: --date-order
@@ -31,17 +32,39 @@ awk -F, 'NR == 1 { print; next } {
     split($1, dt, "T"); split(dt[1], d, "-"); sub(/\+01:00$/, "", dt[2])
     split(dt[2], hms, ":"); h = hms[1] + 0; ap = h < 12 ? "AM" : "PM"; h = h % 12; if (h == 0) h = 12
     print (d[2] + 0) "/" (d[3] + 0) "/" d[1] " " h ":" hms[2] ":" hms[3] " " ap "," $2 "," $3 }' "$pump" >"$tmp/mdy.csv"
-for f in iso dmy mdy; do
+# The date and the time of day in two columns, as spreadsheet exports
+# write them (day first, decimal comma, semicolons), and ISO dates beside
+# their times, under a units row that labels the date-times UTC.
+awk -F, 'NR == 1 { print "Datum;Uhrzeit;" $2 ";" $3; next } {
+    split($1, dt, "T"); split(dt[1], d, "-"); sub(/\+01:00$/, "", dt[2]); sub(/\./, ",", dt[2])
+    print d[3] "." d[2] "." d[1] ";" dt[2] ";" $2 ";" $3 }' "$pump" >"$tmp/cols.csv"
+awk -F, 'NR == 1 { print "date,time," $2 "," $3; print "UTC,hh:mm:ss,,"; next } {
+    split($1, dt, "T"); sub(/\+01:00$/, "", dt[2])
+    print dt[1] "," dt[2] "," $2 "," $3 }' "$pump" >"$tmp/isocols.csv"
+for f in iso dmy mdy cols isocols; do
     "$bin" assess "$tmp/$f.csv" --boot 0 --quiet --json "$tmp/$f.json" 2>"$tmp/$f.err"
     check "assess of the $f form runs" $?
 done
 modes "$tmp/iso.json" >"$tmp/iso.modes"
 [ -s "$tmp/iso.modes" ]
 check "the ISO log has modes" $?
-for f in dmy mdy; do
+for f in dmy mdy cols isocols; do
     modes "$tmp/$f.json" | cmp -s - "$tmp/iso.modes"
     check "the $f form gives the ISO form's modes" $?
 done
+flat "$tmp/cols.json" | grep -q '"time_column":"Datum+Uhrzeit"'
+check "the time is named by both columns" $?
+flat "$tmp/cols.json" | grep -q '"channel_names":\["discharge_pressure","flow"\]'
+check "the time of day is no channel" $?
+! grep -q 'skipped' "$tmp/cols.err" && ! flat "$tmp/cols.json" | grep -q 'text_columns_skipped'
+check "the time of day column gives no skipped-column note" $?
+flat "$tmp/isocols.json" | grep -q '"time_zone_known":true'
+check "a units row's UTC gives the zone-less date-times their zone" $?
+printf 'Date,Time,x\n14.03.2026,08:00:00.0,1\n14.03.2026,08:00:00.1,2\n14.03.2026,08:00:0x,3\n' \
+    >"$tmp/badclock.csv"
+"$bin" scan "$tmp/badclock.csv" >/dev/null 2>"$tmp/badclock.err"
+[ $? -eq 2 ] && grep -q 'badclock.csv:4:12:' "$tmp/badclock.err"
+check "a bad time of day is an error at its own cell (line 4, column 12)" $?
 flat "$tmp/dmy.json" | grep -q '"date_order":"dmy"'
 check "date_order dmy reported" $?
 "$bin" assess "$tmp/mdy.csv" --boot 0 --quiet --json "$tmp/from.json" --from "3/14/2026 8:00:30 AM" 2>/dev/null
