@@ -218,36 +218,6 @@ static el_status next_record(ingest *g, record *rec, int *found)
 /* ------------------------------------------------------------------ */
 /* Fields                                                             */
 
-/* The delimiter is the one of comma, semicolon and tab that occurs most
- * often outside quotes in the header row (names rarely contain any of
- * them, while the delimiter occurs n_columns - 1 times). On a tie the tab
- * wins, then the semicolon: a tab in a name is almost unheard of, and a
- * semicolon-separated file may carry a comma inside a unit ("[m,s]")
- * whereas the reverse is rarer. No candidate at all means one column. */
-static char detect_delimiter(const record *r)
-{
-    size_t comma = 0, semi = 0, tab = 0;
-    int in_quote = 0;
-    for (size_t i = 0; i < r->length; i++) {
-        char c = r->text[i];
-        if (c == '"')
-            in_quote = !in_quote;
-        else if (in_quote)
-            continue;
-        else if (c == ',')
-            comma++;
-        else if (c == ';')
-            semi++;
-        else if (c == '\t')
-            tab++;
-    }
-    if (tab > 0 && tab >= semi && tab >= comma)
-        return '\t';
-    if (semi > 0 && semi >= comma)
-        return ';';
-    return ',';
-}
-
 static el_status push_span(ingest *g, size_t *n, const char *text, size_t length,
                            size_t raw, int quoted)
 {
@@ -578,7 +548,7 @@ static el_status read_header(ingest *g, const el_ingest_options *opt)
         return EL_ERR_DATA;
     }
     g->header_line = r.line;
-    g->delim = detect_delimiter(&r);
+    g->delim = el_record_delimiter(r.text, r.length);
     g->t->delimiter = g->delim;
     size_t n;
     if ((st = split_record(g, &r, &n)) != EL_OK)

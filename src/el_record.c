@@ -60,3 +60,27 @@ int el_record_scan(const char *p, size_t n, el_record_scan_state *s, size_t *sto
     return 0;
 }
 
+
+char el_record_delimiter(const char *text, size_t length)
+{
+    size_t comma = 0, semi = 0, tab = 0;
+    int in_quote = 0;
+    for (size_t i = 0; i < length; i++) {
+        char c = text[i];
+        if (c == '"')
+            in_quote = !in_quote;
+        else if (in_quote)
+            continue;
+        else if (c == ',')
+            comma++;
+        else if (c == ';')
+            semi++;
+        else if (c == '\t')
+            tab++;
+    }
+    if (tab > 0 && tab >= semi && tab >= comma)
+        return '\t';
+    if (semi > 0 && semi >= comma)
+        return ';';
+    return ',';
+}

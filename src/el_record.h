@@ -33,4 +33,13 @@ typedef struct {
  * (quotes in it are not looked at); a line of blanks is blank. */
 int el_record_scan(const char *p, size_t n, el_record_scan_state *s, size_t *stop);
 
+/* The delimiter of a header row text[0..length): the one of comma,
+ * semicolon and tab that occurs most often outside quotes (names rarely
+ * contain any of them, while the delimiter occurs n_columns - 1 times). On
+ * a tie the tab wins, then the semicolon: a tab in a name is almost
+ * unheard of, and a semicolon-separated file may carry a comma inside a
+ * unit ("[m,s]") whereas the reverse is rarer. No candidate at all means
+ * one column (','). */
+char el_record_delimiter(const char *text, size_t length);
+
 #endif

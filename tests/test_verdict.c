@@ -265,9 +265,8 @@ static size_t read_lynx(double *out, size_t max)
 
 /* Moran (1953), Australian Journal of Zoology 1, 163-173: AR(2) on log10
  * lynx trappings, x_t = 1.05 + 1.41 x_{t-1} - 0.77 x_{t-2}; period about
- * 9.8 years. Tolerances from tests/data/README.md and
- * /work/shared/reference/README.md: ordinary least squares on this file
- * gives 1.0576, 1.3842, -0.7478 and a period of 9.77 years; the difference
+ * 9.8 years. Tolerances from tests/data/README.md: ordinary least squares
+ * on this file gives 1.0576, 1.3842, -0.7478 and a period of 9.77 years; the difference
  * from Moran is his estimator, not the data (the series mean matches his),
  * so 0.03 on the coefficients and 0.3 years on the period are the honest
  * allowance. The exact OLS answer is checked separately against numpy. */
