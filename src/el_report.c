@@ -299,10 +299,9 @@ static el_status text_warnings(const el_assessment *r, el_buf *out)
     el_status st = el_warnlines_fold(lists, 2, &lines, &folded);
     if (st != EL_OK)
         return st;
-    if (folded > 0)
-        el_buf_printf(out, "Warnings (%zu, on %zu lines)\n", n, lines.count);
-    else
-        el_buf_printf(out, "Warnings (%zu)\n", n);
+    char heading[80];
+    el_buf_printf(out, "%s\n", el_warnlines_heading(n, lines.count, folded, heading,
+                                                    sizeof heading));
     for (size_t i = 0; i < lines.count; i++)
         el_buf_printf(out, "  ! %s\n", lines.items[i]);
     el_buf_printf(out, "\n");

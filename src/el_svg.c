@@ -339,12 +339,11 @@ void el_svg_warnings_box(el_html_ctx *c, const el_warnings *const *lists, size_t
     el_warnings lines = {0};
     size_t folded = 0;
     int joined = el_warnlines_fold(lists, n_lists, &lines, &folded) == EL_OK;
-    if (joined && folded > 0)
-        el_buf_printf(c->o, "<section class=\"warnings\" id=\"warnings\"><h2>Warnings (%zu, "
-                      "on %zu lines)</h2><ul>\n", n, lines.count);
-    else
-        el_buf_printf(c->o, "<section class=\"warnings\" id=\"warnings\"><h2>Warnings (%zu)"
-                      "</h2><ul>\n", n);
+    char heading[80];
+    el_warnlines_heading(n, joined ? lines.count : n, joined ? folded : 0, heading,
+                         sizeof heading);
+    el_buf_printf(c->o, "<section class=\"warnings\" id=\"warnings\"><h2>%s</h2><ul>\n",
+                  heading);
     if (joined) {
         for (size_t i = 0; i < lines.count; i++) {
             el_svg_put(c, "<li>");

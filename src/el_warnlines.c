@@ -336,3 +336,14 @@ el_status el_warnlines_fold(const el_warnings *const *lists, size_t n_lists,
         *n_collapsed = folded;
     return st;
 }
+
+char *el_warnlines_heading(size_t n_warnings, size_t n_lines, size_t n_folded, char *buf,
+                           size_t size)
+{
+    if (n_folded > 0)
+        snprintf(buf, size, "Warnings (%zu, on %zu line%s)", n_warnings, n_lines,
+                 n_lines == 1 ? "" : "s");
+    else
+        snprintf(buf, size, "Warnings (%zu)", n_warnings);
+    return buf;
+}

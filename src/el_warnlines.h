@@ -29,4 +29,10 @@
 el_status el_warnlines_fold(const el_warnings *const *lists, size_t n_lists,
                             el_warnings *out, size_t *n_collapsed);
 
+/* The heading over those lines: "Warnings (N)" when none was folded, else
+ * "Warnings (N, on K lines)" ("line" for one), into buf (size bytes,
+ * NUL-terminated, cut short when it does not fit). Returns buf. */
+char *el_warnlines_heading(size_t n_warnings, size_t n_lines, size_t n_folded, char *buf,
+                           size_t size);
+
 #endif

@@ -130,6 +130,19 @@ static void test_channels_folded(void **state)
 }
 
 /* Nothing to fold: the lines are the warnings; no warnings: no lines. */
+/* The heading counts warnings and, when some were folded, the lines they
+ * are printed on, with the right number for one line. */
+static void test_heading(void **state)
+{
+    (void)state;
+    char buf[64];
+    assert_string_equal(el_warnlines_heading(3, 3, 0, buf, sizeof buf), "Warnings (3)");
+    assert_string_equal(el_warnlines_heading(3, 1, 2, buf, sizeof buf),
+                        "Warnings (3, on 1 line)");
+    assert_string_equal(el_warnlines_heading(9, 4, 5, buf, sizeof buf),
+                        "Warnings (9, on 4 lines)");
+}
+
 static void test_nothing_folded(void **state)
 {
     (void)state;
@@ -157,6 +170,7 @@ int main(void)
         cmocka_unit_test(test_modes_small_groups),
         cmocka_unit_test(test_channels_folded),
         cmocka_unit_test(test_nothing_folded),
+        cmocka_unit_test(test_heading),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }
