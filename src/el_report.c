@@ -1143,9 +1143,10 @@ static const struct {
     {"fb_branch", "square-root branch"},
     /* Before "rank": its remedy suggests a lower rank. */
     {"ambiguous", "not determined by the data"},
+    /* Before "rank": its cause may be the lowered rank. */
+    {"residuals_correlated", "residuals strongly correlated"},
     {"estimator_fallback", "gave no model ("},
     {"rank_limited", "rank"},
-    {"residuals_correlated", "residuals strongly correlated"},
     {"free_run_diverges", "free run diverges"},
     {"explains_little", "explains little"},
     {"ambiguous", "ambiguous"},

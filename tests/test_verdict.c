@@ -461,6 +461,13 @@ static void test_boot_samples_and_wide(void **state)
     for (size_t i = 0; i < f.warnings.count; i++)
         if (strstr(f.warnings.items[i], "not determined by the data") != NULL)
             assert_string_equal(el_warning_code(f.warnings.items[i]), "ambiguous");
+    /* Likewise correlated residuals whose cause may be the lowered rank
+     * (el_validate's wording): "residuals_correlated", not "rank_limited". */
+    assert_string_equal(el_warning_code("residuals strongly correlated (Ljung-Box p < 1e-16 on "
+                                        "channel acc_2), which the lowered rank (4 of 6 states: "
+                                        "the directions left out stay in the residuals) can "
+                                        "cause by itself: no sign of missing lags"),
+                        "residuals_correlated");
     el_warnings_free(&f.warnings);
     /* 97 of 100 below zero: the mode is on the stable side. */
     for (size_t r = 0; r < 100; r++)
