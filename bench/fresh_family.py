@@ -436,6 +436,7 @@ def cmd_score(a):
                   (snr, n, 100.0 * ok / n, ok, wr, 100.0 * un / n, un, fl))
 
     print("fresh family: %d logs scored (%s)" % (len(rows), a.dir))
+    table("every drawn system (all variants)", lambda r: "six" not in r["s"]["variants"])
     table("core (white noise, no drift, no close modes)", lambda r: r["s"]["core"] and "six" not in r["s"]["variants"])
     for var in ("slow20", "coloured", "drift", "close"):
         table("variant %s" % var, lambda r, v=var: v in r["s"]["variants"])
