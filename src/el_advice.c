@@ -74,7 +74,14 @@ static void reason_decided(const el_assessment *r, double level, el_advice *a)
 {
     const el_verdict *v = &r->verdict;
     const char *side = v->stability == EL_STABLE ? "decays" : "grows";
-    const char *cross = r->cross_ran ? "; the cross-check agrees" : "";
+    /* A least-squares cross-check that leans stable beside a growing mode
+     * is not counted against it (sensor noise biases least squares towards
+     * stability), but it does not agree either: say which. */
+    const char *cross = !r->cross_ran ? ""
+                        : el_assess_ls_stable_beside_growth(r)
+                            ? "; the least-squares cross-check leans stable, which sensor "
+                              "noise alone can cause, so it is not counted against growth"
+                            : "; the cross-check agrees";
     snprintf(a->reason, sizeof a->reason,
              "the least damped mode %s in at least %.0f%% of the bootstrap replicates%s",
              side, 100.0 * level, cross);

@@ -770,6 +770,22 @@ static void find_clock_column(ingest *g)
     g->text_line[tc + 1] = -1;
 }
 
+/* 1 when a cell holds only a sign, digits and separators, with a digit;
+ * with a separator the log does not read as its decimal (15.00 in a log
+ * of decimal commas, 1,250.5) its hint is the number's. */
+static int numeral_like(const char *s, size_t n)
+{
+    int digit = 0;
+    for (size_t i = 0; i < n; i++) {
+        char c = s[i];
+        if (c >= '0' && c <= '9')
+            digit = 1;
+        else if (!(c == '.' || c == ',' || ((c == '+' || c == '-') && i == 0)))
+            return 0;
+    }
+    return digit;
+}
+
 static el_status parse_time_cell(ingest *g, const record *r, const span *f, double *out)
 {
     el_table *t = g->t;
@@ -810,6 +826,10 @@ static el_status parse_time_cell(ingest *g, const record *r, const span *f, doub
             return time_error(g, r, f, s, n, "a unit of time, but the row is no row of units",
                               "a row of units under the header is read only when none of "
                               "its cells is a number: write a unit of 1 as - or leave it empty");
+        if (rc != EL_NUM_RANGE && numeral_like(s, n) &&
+            (memchr(s, ',', n) != NULL || (g->decimal == ',' && memchr(s, '.', n) != NULL)))
+            return time_error(g, r, f, s, n, "not a number as this log writes numbers",
+                              el_number_hint(s, n, g->delim, g->decimal, 0));
         return time_error(g, r, f, s, n,
                           rc == EL_NUM_RANGE ? "out of range" : "neither a number nor a date-time",
                           "write the time as a number (e.g. seconds) or as an ISO 8601 "

@@ -901,6 +901,14 @@ const char *el_number_hint(const char *s, size_t n, char delim, char decimal, in
     if (el_text_equals_nocase(rest, rest_n, "nan") ||
         (rest_n > 3 && el_text_equals_nocase(rest, 4, "nan(")))
         return "write NA (or NaN, without sign or payload) for a missing value";
+    /* Both separators in a cell of digits: a thousands separator
+     * (1,250.5 or 1.250,5), which the decimal hints below would misread. */
+    size_t plain = 0;   /* leading digits and separators (the cell is not NUL-ended) */
+    while (plain < rest_n && (is_digit(rest[plain]) || rest[plain] == '.' || rest[plain] == ','))
+        plain++;
+    if (plain == rest_n && memchr(s, '.', n) != NULL && memchr(s, ',', n) != NULL)
+        return "thousands separators are not read: write the number without them "
+               "(1250.5, or 1250,5 in a log with decimal commas)";
     if (decimal == ',' && memchr(s, '.', n) != NULL)
         return "this log's numbers use a decimal comma (found in an earlier cell): write "
                "1,5, not 1.5, or give --decimal . if the point is right";
