@@ -7,6 +7,8 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "el_sort.h"
+
 #define BOOT_PI 3.14159265358979323846
 
 /* ------------------------------------------------------------------ */
@@ -28,12 +30,6 @@ double el_boot_quantile(const double *sorted, size_t n, double p)
     return sorted[lo] + frac * (sorted[lo + 1] - sorted[lo]);
 }
 
-static int cmp_double(const void *a, const void *b)
-{
-    double x = *(const double *)a, y = *(const double *)b;
-    return (x > y) - (x < y);
-}
-
 /* Percentile interval of the finite values among v[0..n) (reordered in
  * place); NaN bounds when there are none. */
 static el_interval percentile_interval(double *v, size_t n, double level)
@@ -45,7 +41,7 @@ static el_interval percentile_interval(double *v, size_t n, double level)
     el_interval out = { NAN, NAN };
     if (k == 0)
         return out;
-    qsort(v, k, sizeof(double), cmp_double);
+    el_sort_finite(v, k);
     out.lo = el_boot_quantile(v, k, 0.5 * (1.0 - level));
     out.hi = el_boot_quantile(v, k, 0.5 * (1.0 + level));
     return out;

@@ -4,12 +4,19 @@
  * Knows estimators only through el_boot_provider (el_estimator.h). */
 #include "el_boot_engine.h"
 
+#include "el_bigmem.h"
+
 #include <float.h>
 #include <math.h>
 #include <stdlib.h>
 #include <string.h>
 
-
+#if defined(__x86_64__) && (defined(__GNUC__) || defined(__clang__))
+#include <immintrin.h>
+#define EL_ENGINE_AVX2 1
+#else
+#define EL_ENGINE_AVX2 0
+#endif
 
 /* ------------------------------------------------------------------ */
 /* Moving blocks. */
@@ -71,6 +78,7 @@ struct el_boot_engine {
     int wide;
     size_t wide_len, wide_cut, wide_rows;  /* block length, cut length, rows */
     float *wide_block, *wide_cut_sum;      /* wide_rows * d each */
+    int vector;           /* add table rows four features a step (AVX2 CPUs) */
 };
 
 /* Hint to fetch a table row before it is needed: a replicate's rows are
@@ -134,6 +142,17 @@ static el_status engine_create(const el_boot_provider *provider,
                                size_t n_states, size_t max_bytes, size_t stride,
                                el_boot_engine **engine, el_error *err);
 
+/* 1 when the table rows may be added by the AVX2 loop (checked at run
+ * time: the build targets every x86-64 CPU). */
+static int cpu_has_avx2(void)
+{
+#if EL_ENGINE_AVX2
+    return __builtin_cpu_supports("avx2");
+#else
+    return 0;
+#endif
+}
+
 el_status el_boot_engine_create(const el_boot_provider *provider,
                                 const el_boot_dims *dims, const double *states,
                                 size_t n_states, size_t max_bytes,
@@ -188,8 +207,9 @@ static el_status engine_create(const el_boot_provider *provider,
         e->stride = 1;
     e->n_chk = e->n_pairs / e->stride + 1;
     e->states = states;
+    e->vector = cpu_has_avx2();
     e->gbar = calloc(e->d, sizeof(double));
-    e->prefix = malloc(e->n_chk * e->d * sizeof(double));
+    e->prefix = el_bigmem_alloc(e->n_chk * e->d * sizeof(double));
     double *s = calloc(2 * e->d, sizeof(double));
     double *g = malloc((e->d + provider->work_doubles(dims)) * sizeof(double));
     if (e->gbar == NULL || e->prefix == NULL || s == NULL
@@ -328,6 +348,49 @@ void el_boot_engine_set_runs(el_boot_engine *engine, int runs)
         engine->runs = runs != 0 && engine->prov->accumulate != NULL;
 }
 
+/* acc[f] += sign * (g[f] - gbar[f]) for every feature: a pair's centred
+ * features (add_prefix). */
+static void centred_add_plain(const el_boot_engine *e, double sign, const double *g,
+                              double *acc)
+{
+    double *restrict a = acc;
+    const double *restrict t = g, *restrict gb = e->gbar;
+    for (size_t f = 0; f < e->d; f++)
+        a[f] += sign * (t[f] - gb[f]);
+}
+
+#if EL_ENGINE_AVX2
+/* centred_add_plain four features a step: the same subtraction,
+ * multiplication and addition per feature (no fused operations), so the
+ * same doubles. */
+__attribute__((target("avx2"))) static void centred_add_avx2(const el_boot_engine *e,
+                                                             double sign, const double *g,
+                                                             double *acc)
+{
+    size_t d = e->d, f = 0;
+    const double *gb = e->gbar;
+    __m256d sv = _mm256_set1_pd(sign);
+    for (; f + 4 <= d; f += 4) {
+        __m256d t = _mm256_sub_pd(_mm256_loadu_pd(g + f), _mm256_loadu_pd(gb + f));
+        _mm256_storeu_pd(acc + f, _mm256_add_pd(_mm256_loadu_pd(acc + f),
+                                                _mm256_mul_pd(sv, t)));
+    }
+    for (; f < d; f++)
+        acc[f] += sign * (g[f] - gb[f]);
+}
+#endif
+
+static void centred_add(const el_boot_engine *e, double sign, const double *g, double *acc)
+{
+#if EL_ENGINE_AVX2
+    if (e->vector) {
+        centred_add_avx2(e, sign, g, acc);
+        return;
+    }
+#endif
+    centred_add_plain(e, sign, g, acc);
+}
+
 /* acc += sign * P(j), the prefix sum of centred features over pairs [0, j).
  * tmp: d doubles, and with runs d + the provider's work after them. */
 static void add_prefix(const el_boot_engine *e, size_t j, double sign,
@@ -348,8 +411,7 @@ static void add_prefix(const el_boot_engine *e, size_t j, double sign,
     }
     for (size_t k = q * e->stride; k < j; k++) {
         e->prov->features(&e->dims, e->states + k * e->sw, tmp);
-        for (size_t f = 0; f < d; f++)
-            acc[f] += sign * (tmp[f] - e->gbar[f]);
+        centred_add(e, sign, tmp, acc);
     }
 }
 
@@ -450,7 +512,7 @@ el_status el_boot_engine_plan_blocks(el_boot_engine *engine, size_t block_length
                             "of the stride", block_length);
     el_boot_engine *e = engine;
     size_t steps = block_length / e->stride, rows = e->n_chk - steps, d = e->d;
-    double *table = malloc(rows * d * sizeof(double));
+    double *table = el_bigmem_alloc(rows * d * sizeof(double));
     if (table == NULL)
         return el_error_set(err, EL_ERR_NOMEM, "out of memory (bootstrap block table)");
     for (size_t q = 0; q < rows; q++) {
@@ -620,6 +682,168 @@ int el_boot_engine_is_wide(const el_boot_engine *engine)
     return engine != NULL && engine->wide;
 }
 
+/* Table rows added per pass of rows_add, and how many blocks ahead of
+ * the pass their rows are fetched (one pass ahead: the rows of a
+ * replicate are scattered over a table larger than a core's cache). */
+#define BOOT_ROW_GROUP 8
+
+/* acc[f] += rows[0][f], then rows[1][f], ... rows[k - 1][f] for every
+ * feature f < d: each feature adds the rows one after the other in the
+ * given order (the sum of adding them row by row, to the last bit), but
+ * acc is loaded and stored once per k rows instead of once per row. */
+static void rows_add_plain(const double *const *rows, size_t k, size_t d, double *acc)
+{
+    if (k == BOOT_ROW_GROUP) {
+        const double *restrict p0 = rows[0], *restrict p1 = rows[1], *restrict p2 = rows[2];
+        const double *restrict p3 = rows[3], *restrict p4 = rows[4], *restrict p5 = rows[5];
+        const double *restrict p6 = rows[6], *restrict p7 = rows[7];
+        double *restrict a = acc;
+        for (size_t f = 0; f < d; f++) {
+            double v = a[f];
+            v += p0[f];
+            v += p1[f];
+            v += p2[f];
+            v += p3[f];
+            v += p4[f];
+            v += p5[f];
+            v += p6[f];
+            v += p7[f];
+            a[f] = v;
+        }
+        return;
+    }
+    for (size_t q = 0; q < k; q++) {
+        const double *restrict p = rows[q];
+        double *restrict a = acc;
+        for (size_t f = 0; f < d; f++)
+            a[f] += p[f];
+    }
+}
+
+#if EL_ENGINE_AVX2
+/* rows_add_plain four features a step: the same additions in the same
+ * order per feature (IEEE additions, no fused operations), so the same
+ * doubles. */
+__attribute__((target("avx2"))) static void rows_add_avx2(const double *const *rows,
+                                                           size_t k, size_t d, double *acc)
+{
+    size_t f = 0;
+    for (; f + 16 <= d; f += 16) {
+        __m256d a0 = _mm256_loadu_pd(acc + f), a1 = _mm256_loadu_pd(acc + f + 4);
+        __m256d a2 = _mm256_loadu_pd(acc + f + 8), a3 = _mm256_loadu_pd(acc + f + 12);
+        for (size_t q = 0; q < k; q++) {
+            const double *p = rows[q] + f;
+            a0 = _mm256_add_pd(a0, _mm256_loadu_pd(p));
+            a1 = _mm256_add_pd(a1, _mm256_loadu_pd(p + 4));
+            a2 = _mm256_add_pd(a2, _mm256_loadu_pd(p + 8));
+            a3 = _mm256_add_pd(a3, _mm256_loadu_pd(p + 12));
+        }
+        _mm256_storeu_pd(acc + f, a0);
+        _mm256_storeu_pd(acc + f + 4, a1);
+        _mm256_storeu_pd(acc + f + 8, a2);
+        _mm256_storeu_pd(acc + f + 12, a3);
+    }
+    for (; f + 4 <= d; f += 4) {
+        __m256d a0 = _mm256_loadu_pd(acc + f);
+        for (size_t q = 0; q < k; q++)
+            a0 = _mm256_add_pd(a0, _mm256_loadu_pd(rows[q] + f));
+        _mm256_storeu_pd(acc + f, a0);
+    }
+    for (; f < d; f++) {
+        double v = acc[f];
+        for (size_t q = 0; q < k; q++)
+            v += rows[q][f];
+        acc[f] = v;
+    }
+}
+#endif
+
+static void rows_add(const el_boot_engine *e, const double *const *rows, size_t k,
+                     double *acc)
+{
+#if EL_ENGINE_AVX2
+    if (e->vector) {
+        rows_add_avx2(rows, k, e->d, acc);
+        return;
+    }
+#endif
+    rows_add_plain(rows, k, e->d, acc);
+}
+
+/* Fetches a table row (d doubles). */
+static void prefetch_row(const double *row, size_t d)
+{
+    /* Every 64-byte line the row touches (it need not start on one); four
+     * a step, so the loop costs little beside the fetches themselves. */
+    const char *p = (const char *)row;
+    size_t n = d * sizeof(double), o = 0;
+    for (; o + 256 <= n; o += 256) {
+        BOOT_PREFETCH(p + o);
+        BOOT_PREFETCH(p + o + 64);
+        BOOT_PREFETCH(p + o + 128);
+        BOOT_PREFETCH(p + o + 192);
+    }
+    for (; o < n; o += 64)
+        BOOT_PREFETCH(p + o);
+    BOOT_PREFETCH(p + n - 1);
+}
+
+/* The stored row of a block of the planned length that starts on a stored
+ * prefix, or NULL for any other block. */
+static const double *planned_row(const el_boot_engine *e, const el_boot_block *bl)
+{
+    if (bl->start % e->stride != 0 || bl->length != e->block_steps * e->stride)
+        return NULL;
+    return e->block_sum + (bl->start / e->stride) * e->d;
+}
+
+/* The leading blocks that have a stored row (every block of a replicate
+ * but its cut last one, for blocks drawn on the grid): their rows added
+ * into the zeroed sum in block order, BOOT_ROW_GROUP rows a pass, each
+ * row fetched a pass before it is added. Returns how many blocks were
+ * added and adds their pairs to *total. */
+static size_t planned_rows_sum(const el_boot_engine *e, const el_boot_block *blocks,
+                               size_t n_blocks, double *sum, size_t *total)
+{
+    /* ring[k % (2 G)]: the row of block k, fetched when it was found. */
+    const double *ring[2 * BOOT_ROW_GROUP];
+    size_t found = 0, added = 0;
+    for (;;) {
+        const double *row = found < n_blocks ? planned_row(e, &blocks[found]) : NULL;
+        if (row != NULL) {
+            prefetch_row(row, e->d);
+            ring[found % (2 * BOOT_ROW_GROUP)] = row;
+            found++;
+        }
+        /* A full pass once the next one is being fetched; the rest at the
+         * end of the planned blocks. */
+        if (row != NULL && found - added < 2 * BOOT_ROW_GROUP)
+            continue;
+        while (added < found) {
+            size_t k = found - added < BOOT_ROW_GROUP ? found - added : BOOT_ROW_GROUP;
+            if (row != NULL && k < BOOT_ROW_GROUP)
+                break;
+            const double *rows[BOOT_ROW_GROUP];
+            for (size_t q = 0; q < k; q++)
+                rows[q] = ring[(added + q) % (2 * BOOT_ROW_GROUP)];
+            rows_add(e, rows, k, sum);
+            added += k;
+            if (row != NULL)
+                break;
+        }
+        if (row == NULL)
+            break;
+    }
+    *total += found * e->block_steps * e->stride;
+    return found;
+}
+
+void el_boot_engine_set_vector(el_boot_engine *engine, int allow)
+{
+    if (engine != NULL)
+        engine->vector = allow != 0 && cpu_has_avx2();
+}
+
 void el_boot_engine_sum(const el_boot_engine *engine,
                         const el_boot_block *blocks, size_t n_blocks,
                         double *sum, double *work)
@@ -631,7 +855,9 @@ void el_boot_engine_sum(const el_boot_engine *engine,
     }
     size_t d = e->d, total = 0, planned = e->block_steps * e->stride;
     memset(sum, 0, d * sizeof(double));
-    for (size_t b = 0; b < n_blocks; b++) {
+    size_t first = e->block_sum != NULL ? planned_rows_sum(e, blocks, n_blocks, sum, &total)
+                                        : 0;
+    for (size_t b = first; b < n_blocks; b++) {
         size_t a0 = blocks[b].start, a1 = blocks[b].start + blocks[b].length;
         total += blocks[b].length;
         /* Two blocks ahead: far enough for the row to arrive in time. */
@@ -706,6 +932,79 @@ static double autocov(const double *x, size_t n, size_t k)
     return ((s0 + s1) + (s2 + s3)) / (double)n;
 }
 
+/* Lags autocov_many takes in one pass over x. */
+#define BOOT_ACV_LAGS 4
+
+#if EL_ENGINE_AVX2
+/* autocov for lags k0 .. k0 + count - 1 (count <= BOOT_ACV_LAGS) in one
+ * pass: lane l of lag j's register is autocov's s_l (the products of
+ * t = l mod 4 in ascending t, each a rounded multiplication then a
+ * rounded addition, no fused operations), so every lag gets autocov's
+ * doubles; x[t .. t + 3] is loaded once for all lags. */
+__attribute__((target("avx2"))) static void autocov_many_avx2(const double *x, size_t n,
+                                                              size_t k0, size_t count,
+                                                              double *out)
+{
+    __m256d acc[BOOT_ACV_LAGS];
+    for (size_t j = 0; j < count; j++)
+        acc[j] = _mm256_setzero_pd();
+    /* Steps of four that every lag takes (the shortest, the last lag's). */
+    size_t common = (n - (k0 + count - 1)) / 4 * 4, t = 0;
+    if (count == BOOT_ACV_LAGS) {
+        __m256d a0 = acc[0], a1 = acc[1], a2 = acc[2], a3 = acc[3];
+        const double *y = x + k0;
+        for (; t < common; t += 4) {
+            __m256d v = _mm256_loadu_pd(x + t);
+            a0 = _mm256_add_pd(a0, _mm256_mul_pd(v, _mm256_loadu_pd(y + t)));
+            a1 = _mm256_add_pd(a1, _mm256_mul_pd(v, _mm256_loadu_pd(y + t + 1)));
+            a2 = _mm256_add_pd(a2, _mm256_mul_pd(v, _mm256_loadu_pd(y + t + 2)));
+            a3 = _mm256_add_pd(a3, _mm256_mul_pd(v, _mm256_loadu_pd(y + t + 3)));
+        }
+        acc[0] = a0;
+        acc[1] = a1;
+        acc[2] = a2;
+        acc[3] = a3;
+    } else {
+        for (; t < common; t += 4) {
+            __m256d v = _mm256_loadu_pd(x + t);
+            for (size_t j = 0; j < count; j++)
+                acc[j] = _mm256_add_pd(acc[j],
+                                       _mm256_mul_pd(v, _mm256_loadu_pd(x + t + k0 + j)));
+        }
+    }
+    for (size_t j = 0; j < count; j++) {
+        size_t k = k0 + j, len = n - k, u = common;
+        __m256d a = acc[j];
+        for (; u + 4 <= len; u += 4)
+            a = _mm256_add_pd(a, _mm256_mul_pd(_mm256_loadu_pd(x + u),
+                                               _mm256_loadu_pd(x + u + k)));
+        double s[4];
+        _mm256_storeu_pd(s, a);
+        for (; u < len; u++)
+            s[0] += x[u] * x[u + k];
+        out[j] = ((s[0] + s[1]) + (s[2] + s[3])) / (double)n;
+    }
+}
+#endif
+
+void el_boot_autocov_lags(const double *x, size_t n, size_t k0, size_t count,
+                          int allow_vector, double *out)
+{
+#if EL_ENGINE_AVX2
+    if (allow_vector && cpu_has_avx2()) {
+        for (size_t j = 0; j < count; j += BOOT_ACV_LAGS) {
+            size_t c = count - j < BOOT_ACV_LAGS ? count - j : BOOT_ACV_LAGS;
+            autocov_many_avx2(x, n, k0 + j, c, out + j);
+        }
+        return;
+    }
+#else
+    (void)allow_vector;
+#endif
+    for (size_t j = 0; j < count; j++)
+        out[j] = autocov(x, n, k0 + j);
+}
+
 /* Flat-top (trapezoid) lag window of Politis & Romano. */
 static double flat_top(double t)
 {
@@ -718,6 +1017,7 @@ static double flat_top(double t)
 }
 
 static el_status pw_length(double *y, size_t n, double *b_out, el_error *err);
+static el_status pw_from_centred(const double *x, size_t n, double *b_out, el_error *err);
 
 el_status el_boot_pw_block_length(const double *x, size_t n, double *b_out,
                                   el_error *err)
@@ -742,27 +1042,49 @@ el_status el_boot_pw_block_length_inplace(double *x, size_t n, double *b_out, el
     return pw_length(x, n, b_out, err);
 }
 
+el_status el_boot_pw_block_length_centred(const double *y, size_t n, double *b_out,
+                                          el_error *err)
+{
+    *b_out = 1.0;
+    if (n < 8)
+        return EL_OK;
+    return pw_from_centred(y, n, b_out, err);
+}
+
+double el_boot_pw_mean(const double *x, size_t n)
+{
+    double mean = 0.0;
+    for (size_t t = 0; t < n; t++)
+        mean += x[t];
+    return mean / (double)n;
+}
+
 /* The block length of y (n >= 8), demeaned in place. */
 static el_status pw_length(double *y, size_t n, double *b_out, el_error *err)
 {
-    const double *x = y;
+    double mean = el_boot_pw_mean(y, n);
+    for (size_t t = 0; t < n; t++)
+        y[t] = y[t] - mean;
+    return pw_from_centred(y, n, b_out, err);
+}
+
+/* The block length of the demeaned x (n >= 8). Autocovariances are
+ * costly, so they are computed lazily, BOOT_ACV_LAGS lags a pass (a lag
+ * or three past the last one needed cost little and are not read). */
+static el_status pw_from_centred(const double *x, size_t n, double *b_out, el_error *err)
+{
     size_t kn = (size_t)ceil(sqrt(log10((double)n)));
     if (kn < 5)
         kn = 5;
     size_t m_max = (size_t)ceil(sqrt((double)n)) + kn;
     if (m_max + kn >= n)
         m_max = n > kn + 1 ? n - kn - 1 : 0;
-    double *acv = malloc((m_max + kn + 1) * sizeof(double));
+    size_t n_acv = m_max + kn + 1;
+    double *acv = malloc(n_acv * sizeof(double));
     if (acv == NULL)
         return el_error_set(err, EL_ERR_NOMEM, "out of memory (block length)");
-    double mean = 0.0;
-    for (size_t t = 0; t < n; t++)
-        mean += x[t];
-    mean /= (double)n;
-    for (size_t t = 0; t < n; t++)
-        y[t] = x[t] - mean;
-    size_t have = 0; /* acv[0..have) computed; autocovariances are costly, so lazily */
-    acv[have++] = autocov(y, n, 0);
+    size_t have = 0; /* acv[0..have) computed */
+    acv[have++] = autocov(x, n, 0);
     if (!(acv[0] > 0.0)) {
         free(acv);
         return EL_OK;
@@ -771,8 +1093,9 @@ static el_status pw_length(double *y, size_t n, double *b_out, el_error *err)
     size_t m_hat = m_max, run = 0;
     for (size_t k = 1; k <= m_max + kn; k++) {
         if (k >= have) {
-            acv[k] = autocov(y, n, k);
-            have = k + 1;
+            size_t c = n_acv - have < BOOT_ACV_LAGS ? n_acv - have : BOOT_ACV_LAGS;
+            el_boot_autocov_lags(x, n, have, c, 1, acv + have);
+            have += c;
         }
         if (fabs(acv[k] / acv[0]) < crit) {
             if (++run == kn) {
@@ -786,8 +1109,10 @@ static el_status pw_length(double *y, size_t n, double *b_out, el_error *err)
     size_t big_m = 2 * m_hat;
     if (big_m > m_max)
         big_m = m_max;
-    for (; have <= big_m; have++)
-        acv[have] = autocov(y, n, have);
+    if (have <= big_m) {
+        el_boot_autocov_lags(x, n, have, big_m + 1 - have, 1, acv + have);
+        have = big_m + 1;
+    }
     double g_sum = acv[0], big_g = 0.0;
     for (size_t k = 1; k <= big_m; k++) {
         double lam = flat_top((double)k / (double)big_m);

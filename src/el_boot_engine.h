@@ -106,6 +106,12 @@ el_status el_boot_engine_create_wide(const el_boot_provider *provider,
  * bits). NULL and wide engines (always in runs) are a no-op. */
 void el_boot_engine_set_runs(el_boot_engine *engine, int runs);
 
+/* Lets el_boot_engine_sum add the stored block rows four features a step
+ * on CPUs with AVX2 (allow 1, the default where the CPU has it) or
+ * forbids it (0: the plain loop, for tests that compare the two; both
+ * give the same doubles). NULL is a no-op. */
+void el_boot_engine_set_vector(el_boot_engine *engine, int allow);
+
 /* Frees the engine. NULL is a no-op. */
 void el_boot_engine_destroy(el_boot_engine *engine);
 
@@ -182,6 +188,24 @@ el_status el_boot_pw_block_length(const double *x, size_t n, double *b_out,
  * doubles the copy would hold), which saves a copy of the series. */
 el_status el_boot_pw_block_length_inplace(double *x, size_t n, double *b_out,
                                           el_error *err);
+
+/* el_boot_pw_block_length of a series already demeaned as it demeans:
+ * y[t] = x[t] - el_boot_pw_mean(x, n) (so the caller may demean while it
+ * copies). The same *b_out to the last bit. Errors as there. */
+el_status el_boot_pw_block_length_centred(const double *y, size_t n, double *b_out,
+                                          el_error *err);
+
+/* The mean el_boot_pw_block_length takes: x[0] + x[1] + ... in order,
+ * divided by n (n >= 1). */
+double el_boot_pw_mean(const double *x, size_t n);
+
+/* The block length's sample autocovariances of the demeaned x (divisor n)
+ * at lags k0 .. k0 + count - 1 (all below n) into out: four partial sums
+ * (the products of t = 0, 1, 2, 3 mod 4 in ascending t, the last few into
+ * the first), ((s0 + s1) + (s2 + s3)) / n. With allow_vector on a CPU with
+ * AVX2, four lags a pass over x, the same doubles (tests compare the two). */
+void el_boot_autocov_lags(const double *x, size_t n, size_t k0, size_t count,
+                          int allow_vector, double *out);
 
 /* The provider's solve on the sum of the features of every pair (the
  * full-sample refit), in one compensated pass. work holds 4 d +

@@ -32,17 +32,21 @@ void el_boot_reduced_residuals(const double *states, size_t m, size_t r, size_t 
     if (nu > 0)
         cblas_dgemm(CblasColMajor, CblasNoTrans, CblasNoTrans, (int)r, (int)m, (int)nu,
                     -1.0, bm, (int)r, states + r, (int)sw, 1.0, res, (int)r);
-    memset(mean, 0, r * sizeof(double));
+    /* restrict: the r spare doubles of the mean lie past the m r
+     * residuals, so the loops vectorise (the same operations per cell). */
+    double *restrict rs = res, *restrict mn = mean;
+    const double *restrict cc = c;
+    memset(mn, 0, r * sizeof(double));
     for (size_t k = 0; k < m; k++)
         for (size_t i = 0; i < r; i++) {
-            res[k * r + i] -= c[i];
-            mean[i] += res[k * r + i];
+            rs[k * r + i] -= cc[i];
+            mn[i] += rs[k * r + i];
         }
     for (size_t i = 0; i < r; i++)
-        mean[i] /= (double)m;
+        mn[i] /= (double)m;
     for (size_t k = 0; k < m; k++)
         for (size_t i = 0; i < r; i++)
-            res[k * r + i] -= mean[i];
+            rs[k * r + i] -= mn[i];
 }
 
 /* Pairs whose residuals are made at a time when they are not stored. */
@@ -87,6 +91,7 @@ typedef struct {
     double *x;                    /* m doubles per thread */
     double *chunk;                /* r x BOOT_RESID_CHUNK per thread (streamed) */
     double *b;                    /* r: each component's length */
+    double *mean;                 /* r: each stored component's mean (pw_means) */
     el_status *st;                /* r */
 } pw_ctx;
 
@@ -94,16 +99,40 @@ static void pw_component(void *arg, size_t i, size_t slot)
 {
     pw_ctx *c = arg;
     double *x = c->x + slot * c->m;
-    if (c->res != NULL) {
-        for (size_t k = 0; k < c->m; k++)
-            x[k] = c->res[k * c->r + i];
-    } else {
-        resid_component(c->src, i, x, c->chunk + slot * c->r * BOOT_RESID_CHUNK);
-    }
     el_error err;
     el_error_clear(&err);
     c->b[i] = 1.0;
+    if (c->res != NULL) {
+        /* Copied and demeaned in one pass: the mean is the one
+         * el_boot_pw_block_length takes (pw_means), so these are the
+         * doubles it would demean the copy to. */
+        const double *restrict src = c->res + i;
+        double *restrict y = x, mean = c->mean[i];
+        size_t r = c->r;
+        for (size_t k = 0; k < c->m; k++)
+            y[k] = src[k * r] - mean;
+        c->st[i] = el_boot_pw_block_length_centred(x, c->m, &c->b[i], &err);
+        return;
+    }
+    resid_component(c->src, i, x, c->chunk + slot * c->r * BOOT_RESID_CHUNK);
     c->st[i] = el_boot_pw_block_length_inplace(x, c->m, &c->b[i], &err);
+}
+
+/* mean[i] = el_boot_pw_mean of component i of the stored residuals, all
+ * components in one pass over them: each adds its column in pair order,
+ * as el_boot_pw_mean does, but the r sums advance together instead of one
+ * chain of m dependent additions after another. */
+static void pw_means(const double *res, size_t m, size_t r, double *mean)
+{
+    double *restrict s = mean;
+    memset(s, 0, r * sizeof(double));
+    for (size_t k = 0; k < m; k++) {
+        const double *restrict row = res + k * r;
+        for (size_t i = 0; i < r; i++)
+            s[i] += row[i];
+    }
+    for (size_t i = 0; i < r; i++)
+        s[i] /= (double)m;
 }
 
 el_status el_boot_auto_block(const double *res, const el_boot_resid_source *src, size_t m,
@@ -112,7 +141,7 @@ el_status el_boot_auto_block(const double *res, const el_boot_resid_source *src,
     size_t slots = el_chunks_threads(r, threads);
     pw_ctx c = { res, src, m, r, malloc(slots * m * sizeof(double)),
                  res == NULL ? malloc(slots * r * BOOT_RESID_CHUNK * sizeof(double)) : NULL,
-                 malloc(r * sizeof(double)), malloc(r * sizeof(el_status)) };
+                 malloc(2 * r * sizeof(double)), NULL, malloc(r * sizeof(el_status)) };
     if (c.x == NULL || c.b == NULL || c.st == NULL || (res == NULL && c.chunk == NULL)) {
         free(c.x);
         free(c.chunk);
@@ -120,6 +149,10 @@ el_status el_boot_auto_block(const double *res, const el_boot_resid_source *src,
         free(c.st);
         return el_error_set(err, EL_ERR_NOMEM, "out of memory (block length)");
     }
+    c.mean = c.b + r;
+    memset(c.mean, 0, r * sizeof(double));
+    if (res != NULL && m > 0)
+        pw_means(res, m, r, c.mean);
     el_chunks_run(r, slots, pw_component, &c);
     double best = 1.0;
     el_status st = EL_OK;

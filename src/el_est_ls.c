@@ -36,22 +36,50 @@ static size_t ls_work_doubles(const el_boot_dims *dims)
 
 /* Regressor xi = [w_k; u_k] (the state's stored values), response
  * y = w_k+1 (the next state's first r values). */
-static void ls_features(const el_boot_dims *dims, const double *states, double *out)
+/* ls_features' layout for r states and g regressors: inlined with
+ * constant r and g for the common small sizes (ls_features), so the
+ * compiler unrolls the loops and stores the products in vectors; the same
+ * products either way (each one rounded multiplication). restrict: out
+ * never overlaps the states. */
+static inline void ls_features_rg(size_t r, size_t g, const double *restrict states,
+                                  double *restrict out)
 {
-    size_t r = dims->r, g = r + dims->n_inputs;
-    const double *xi = states, *v = states + g;
-    size_t idx = 1 + g + r;
+    const double *restrict xi = states, *restrict v = states + g;
     out[0] = 1.0;
     for (size_t i = 0; i < g; i++)
         out[1 + i] = xi[i];
     for (size_t i = 0; i < r; i++)
         out[1 + g + i] = v[i];
-    for (size_t j = 0; j < g; j++)
+    double *restrict o = out + 1 + g + r;
+    for (size_t j = 0; j < g; j++) {
+        double xj = xi[j];
         for (size_t i = j; i < g; i++)
-            out[idx++] = xi[i] * xi[j];
-    for (size_t j = 0; j < g; j++)
+            o[i - j] = xi[i] * xj;
+        o += g - j;
+    }
+    for (size_t j = 0; j < g; j++) {
+        double xj = xi[j];
         for (size_t i = 0; i < r; i++)
-            out[idx++] = v[i] * xi[j];
+            o[i] = v[i] * xj;
+        o += r;
+    }
+}
+
+static void ls_features(const el_boot_dims *dims, const double *restrict states,
+                        double *restrict out)
+{
+    size_t r = dims->r, g = r + dims->n_inputs;
+    if (r == g) {
+        switch (r) {
+        case 2: ls_features_rg(2, 2, states, out); return;
+        case 3: ls_features_rg(3, 3, states, out); return;
+        case 4: ls_features_rg(4, 4, states, out); return;
+        case 6: ls_features_rg(6, 6, states, out); return;
+        case 8: ls_features_rg(8, 8, states, out); return;
+        default: break;
+        }
+    }
+    ls_features_rg(r, g, states, out);
 }
 
 /* [A B] = Syxi Sxixi^-1 with the centred cross-products. In the reduced
@@ -122,12 +150,38 @@ static void ls_accumulate(const el_boot_dims *dims, const double *states, size_t
     double *sx = acc + 1, *sy = acc + 1 + g, *sxx = acc + 1 + g + r;
     double *syx = sxx + g * (g + 1) / 2;
     acc[0] += (double)n_pairs;
-    for (size_t k = 0; k < n_pairs; k++) {
+    /* Four pairs a pass: each sum still adds its terms one after the
+     * other in pair order (the same doubles), but is loaded and stored once
+     * per four pairs; the response of pair k is the regressor's first r
+     * values one state further. */
+    double *restrict ax = sx, *restrict ay = sy;
+    size_t k = 0;
+    for (; k + 4 <= n_pairs; k += 4) {
+        const double *restrict x0 = states + k * g, *restrict x1 = x0 + g;
+        const double *restrict x2 = x1 + g, *restrict x3 = x2 + g, *restrict x4 = x3 + g;
+        for (size_t i = 0; i < g; i++) {
+            double v = ax[i];
+            v += x0[i];
+            v += x1[i];
+            v += x2[i];
+            v += x3[i];
+            ax[i] = v;
+        }
+        for (size_t i = 0; i < r; i++) {
+            double v = ay[i];
+            v += x1[i];
+            v += x2[i];
+            v += x3[i];
+            v += x4[i];
+            ay[i] = v;
+        }
+    }
+    for (; k < n_pairs; k++) {
         const double *xi = states + k * g;
         for (size_t i = 0; i < g; i++)
-            sx[i] += xi[i];
+            ax[i] += xi[i];
         for (size_t i = 0; i < r; i++)
-            sy[i] += xi[g + i];
+            ay[i] += xi[g + i];
     }
     /* Lower triangle of X X' into work, then packed column by column as
      * ls_features lays it out. */

@@ -3,6 +3,7 @@
  * snapshots on the model's basis, their Gram and its whitening, in fixed
  * chunks on threads; and the small Cholesky kernels. */
 #include "el_reduced.h"
+#include "el_bigmem.h"
 
 #include "el_chunks.h"
 
@@ -234,7 +235,7 @@ el_status el_boot_reduced_states_threads(const el_series *series, const el_model
                             model != NULL ? model->rank : 0);
     size_t r = model->rank, m = model->n_pairs;
     double *g = malloc(r * r * sizeof(double));
-    double *w = malloc((m + 1) * r * sizeof(double));
+    double *w = el_bigmem_alloc((m + 1) * r * sizeof(double));
     if (g == NULL || w == NULL) {
         free(g);
         free(w);

@@ -10,6 +10,8 @@
 #include "el_eig.h"
 #include "el_estimator.h"
 #include "el_reduced.h"
+#include "el_bigmem.h"
+#include "el_sort.h"
 
 #include <cblas.h>
 #include <float.h>
@@ -1064,7 +1066,7 @@ static el_status prepare(const el_series *series, const el_series *inputs,
     int store = model_reads || (opt->block_length == 0 && (m + 1) * r <= cap);
     sh->nu_ls = nu;
     if (store)
-        bf->resid = malloc((m + 1) * r * sizeof(double));
+        bf->resid = el_bigmem_alloc((m + 1) * r * sizeof(double));
     if (!bf->a0 || !bf->b0 || !bf->c0 || !bf->pwork || (store && !bf->resid)) {
         st = el_error_set(err, EL_ERR_NOMEM, "out of memory (bootstrap)");
     } else if (el_boot_full_sample_solve(ls, &dims, bf->states, m + 1, bf->a0, bf->b0, bf->c0,
@@ -1145,7 +1147,7 @@ static void replicate_location(const boot_shared *sh, const double *v, size_t st
     *median = *spread = NAN;
     if (c == 0)
         return;
-    qsort(tmp, c, sizeof(double), cmp_double);
+    el_sort_finite(tmp, c);
     *median = el_boot_quantile(tmp, c, 0.5);
     *spread = (el_boot_quantile(tmp, c, 0.75) - el_boot_quantile(tmp, c, 0.25)) / 1.349;
 }

@@ -203,6 +203,58 @@ static void test_block_length_white(void **state)
     free(x);
 }
 
+/* The block length's autocovariances four lags a pass (AVX2 CPUs) are the
+ * scalar ones to the last bit: lengths n of every residue mod 4, lag
+ * batches that straddle the end of the four-step loop, and one to three
+ * lags in a batch; and el_boot_pw_block_length_centred of a series
+ * demeaned as el_boot_pw_mean says gives el_boot_pw_block_length's
+ * length exactly (the block length of the bootstrap reads it so). The
+ * scalar sums are the reference: ((s0 + s1) + (s2 + s3)) / n as the
+ * header states, checked here against that formula written out. */
+static void test_autocov_lags_paths(void **state)
+{
+    (void)state;
+    const size_t lens[] = { 8, 9, 10, 11, 97, 1000, 1003 };
+    double *x = malloc(1003 * sizeof(double)), *y = malloc(1003 * sizeof(double));
+    double vec[7], plain[7];
+    assert_non_null(x);
+    assert_non_null(y);
+    el_rng rng;
+    el_rng_seed(&rng, 12, 0);
+    for (size_t t = 0; t < 1003; t++)
+        x[t] = el_rng_normal(&rng) + (t % 7 == 0 ? 0.25 : -0.04);
+    for (size_t q = 0; q < sizeof lens / sizeof lens[0]; q++) {
+        size_t n = lens[q];
+        for (size_t k0 = 0; k0 + 1 < n; k0++) {
+            size_t count = n - k0 < 7 ? n - k0 : 7;
+            el_boot_autocov_lags(x, n, k0, count, 1, vec);
+            el_boot_autocov_lags(x, n, k0, count, 0, plain);
+            assert_memory_equal(vec, plain, count * sizeof(double));
+            for (size_t j = 0; j < count; j++) {
+                size_t k = k0 + j, len = n - k, t = 0;
+                double s[4] = { 0.0, 0.0, 0.0, 0.0 };
+                for (; t + 4 <= len; t += 4)
+                    for (size_t l = 0; l < 4; l++)
+                        s[l] += x[t + l] * x[t + l + k];
+                for (; t < len; t++)
+                    s[0] += x[t] * x[t + k];
+                double want = ((s[0] + s[1]) + (s[2] + s[3])) / (double)n;
+                assert_memory_equal(&plain[j], &want, sizeof(double));
+            }
+        }
+        double mean = el_boot_pw_mean(x, n), b_ref = 0.0, b = 0.0;
+        for (size_t t = 0; t < n; t++)
+            y[t] = x[t] - mean;
+        el_error err;
+        el_error_clear(&err);
+        assert_int_equal(el_boot_pw_block_length(x, n, &b_ref, &err), EL_OK);
+        assert_int_equal(el_boot_pw_block_length_centred(y, n, &b, &err), EL_OK);
+        assert_memory_equal(&b, &b_ref, sizeof(double));
+    }
+    free(x);
+    free(y);
+}
+
 /* ------------------------------------------------------------------ */
 /* Assembly identity. */
 
@@ -393,6 +445,80 @@ static void test_block_table(void **state)
     free(count);
     free(w);
     el_boot_engine_destroy(e);
+}
+
+/* The engine's fast paths for a replicate's sums (el_boot_engine_sum:
+ * stored block rows added eight at a time, four features a step on AVX2
+ * CPUs, and a cut block's pairs re-added by the vector loop) give the same
+ * doubles to the last bit as the plain loop and as an engine without the
+ * block table (prefix differences, block by block): each feature adds the
+ * same terms in the same order. Five states (51 features: tiles of 16, 4
+ * and single features), replicates of 501 blocks (no multiple of the
+ * eight-row pass) whose cut last block ends three pairs past a stored
+ * prefix, and hand-made lists with an off-grid block and a block of
+ * another length between planned ones, and with fewer blocks than a pass. */
+static void test_block_sum_paths(void **state)
+{
+    (void)state;
+    const size_t r = 5, n_states = 6004, stride = 4, block = 12;
+    double *w = malloc(n_states * r * sizeof(double));
+    assert_non_null(w);
+    el_rng rng;
+    el_rng_seed(&rng, 41, 0);
+    for (size_t k = 0; k < n_states * r; k++)
+        w[k] = 3.0 + el_rng_normal(&rng);
+    el_boot_dims dims = { r, 0, 0 };
+    el_error err;
+    el_error_clear(&err);
+    el_boot_engine *fast = NULL, *bare = NULL;
+    assert_int_equal(el_boot_engine_create_strided(el_boot_provider_ls(), &dims, w, n_states,
+                                                   stride, &fast, &err), EL_OK);
+    assert_int_equal(el_boot_engine_create_strided(el_boot_provider_ls(), &dims, w, n_states,
+                                                   stride, &bare, &err), EL_OK);
+    assert_int_equal(el_boot_engine_plan_blocks(fast, block, &err), EL_OK);
+    el_boot_engine_set_vector(bare, 0);
+    size_t m = el_boot_engine_pairs(fast), d = el_boot_engine_features(fast);
+    assert_int_equal(d, 51);
+    size_t nb = el_boot_block_count(m, block);
+    assert_int_equal(nb, 501);
+    assert_int_equal((m - (nb - 1) * block) % stride, 3);
+    el_boot_block *blocks = malloc(nb * sizeof *blocks);
+    double *work = malloc(el_boot_engine_work_doubles(fast) * sizeof(double));
+    double *sums = malloc(3 * d * sizeof(double));
+    assert_non_null(blocks);
+    assert_non_null(work);
+    assert_non_null(sums);
+    el_boot_block mixed[] = { { 0, 12 }, { 40, 12 }, { 5, 12 }, { 80, 12 }, { 16, 8 },
+                              { 4, 12 }, { 400, 12 }, { 800, 12 }, { 96, 12 }, { 12, 12 },
+                              { 24, 12 }, { 36, 12 }, { 48, 12 }, { 60, 12 }, { 3, 7 } };
+    el_boot_block few[] = { { 8, 12 }, { 1000, 12 }, { 2000, 11 } };
+    for (size_t rep = 0; rep < 6; rep++) {
+        const el_boot_block *bl = blocks;
+        size_t n = nb;
+        if (rep < 4) {
+            el_rng_seed(&rng, 9, rep);
+            assert_int_equal(el_boot_draw_blocks_grid(&rng, m, block, stride, blocks), nb);
+        } else if (rep == 4) {
+            bl = mixed;
+            n = sizeof mixed / sizeof mixed[0];
+        } else {
+            bl = few;
+            n = sizeof few / sizeof few[0];
+        }
+        el_boot_engine_set_vector(fast, 1);
+        el_boot_engine_sum(fast, bl, n, sums, work);
+        el_boot_engine_set_vector(fast, 0);
+        el_boot_engine_sum(fast, bl, n, sums + d, work);
+        el_boot_engine_sum(bare, bl, n, sums + 2 * d, work);
+        assert_memory_equal(sums, sums + d, d * sizeof(double));
+        assert_memory_equal(sums, sums + 2 * d, d * sizeof(double));
+    }
+    free(blocks);
+    free(work);
+    free(sums);
+    free(w);
+    el_boot_engine_destroy(fast);
+    el_boot_engine_destroy(bare);
 }
 
 /* The full-sample sum in the reduced coordinates of a real fit reproduces
@@ -1290,8 +1416,10 @@ int main(void)
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_block_length_ar1),
         cmocka_unit_test(test_block_length_white),
+        cmocka_unit_test(test_autocov_lags_paths),
         cmocka_unit_test(test_assembly_identity),
         cmocka_unit_test(test_block_table),
+        cmocka_unit_test(test_block_sum_paths),
         cmocka_unit_test(test_point_identity),
         cmocka_unit_test(test_matching_swap),
         cmocka_unit_test(test_matching_split_and_ambiguity),
