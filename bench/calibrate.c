@@ -6,7 +6,11 @@
  *                  [--case NAME] [--resample blocks|model] [--block L]
  *                  [--method ls|fb|tls|iv|ssi|hankel|auto] [--length N]
  *                  [--no-bias-correction] [--verbose] [--misses] [--each]
- *                  [--horizon T] [--first-log K]
+ *                  [--horizon T] [--first-log K] [--horizons]
+ * --horizons: no fits; one line per log (stderr) with the first zero
+ * crossing of the mean autocorrelation, its lobe's depth in standard
+ * errors and the horizon rows of hankel and of iv's multi-step state
+ * under the automatic rule and under its old rule (b).
  * --method: the estimator of every log (default ls); auto: the one the
  * default (--method auto) picks for the log. --length: one log length.
  * --choices: only print which estimator auto picks per case and length
@@ -103,6 +107,7 @@ typedef struct {
     size_t first_log;    /* --first-log K: logs K .. K + logs - 1 (other seeds: is a
                             cell's shortfall the method's or its 240 logs'?) */
     int choices;         /* --choices: print auto's estimator per case and length, no fits */
+    int horizons;        /* --horizons: print every log's horizons (rule and old rule), no fits */
     pthread_mutex_t *fftw_lock; /* the regime stage's FFTW plans are made one at a time */
 } cal_options;
 
@@ -293,6 +298,59 @@ static int log_is_stationary(const cal_options *o, const el_series *s)
     return stationary;
 }
 
+/* The old rule (b) on this log: four times the first zero crossing
+ * whatever its lobe's depth (before 2026-12-05), from the chosen horizon's
+ * record, with the same caps. */
+static size_t old_rule_rows(const el_series *s, const el_subspace_horizon *hz, size_t max_rows)
+{
+    size_t p = s->n_channels, hmin = 1 + (24 + p - 1) / p;
+    if (hmin < 3)
+        hmin = 3;
+    size_t cap = max_rows / p, hdata = (s->n_samples + 1) / (2 + 4 * p);
+    if (cap < hmin)
+        cap = hmin;
+    size_t scale = hz->scale_lags;
+    if (4 * hz->crossing_lags > scale)
+        scale = 4 * hz->crossing_lags;
+    size_t h = scale < cap ? scale : cap;
+    if (h > hdata)
+        h = hdata;
+    return h < hmin ? hmin : h;
+}
+
+/* --horizons: one line per log (stderr) with the first zero crossing of
+ * the mean autocorrelation, its lobe's depth in standard errors, and the
+ * horizon rows for hankel (cap 200 rows) and iv's multi-step state
+ * (iv's prepare, cap 120) under the rule and under the old rule (b). */
+static void print_horizons(const cal_case *c, size_t n_samples, size_t rep, const el_series *s)
+{
+    el_subspace_options so;
+    el_subspace_defaults(&so);
+    el_subspace_horizon hz, hzi;
+    el_error local;
+    el_error_clear(&local);
+    if (el_subspace_choose_horizon(s, &so, &hz, &local) != EL_OK)
+        return;
+    so.max_rows = 120;
+    if (el_subspace_choose_horizon(s, &so, &hzi, &local) != EL_OK)
+        return;
+    el_fit_options fo;
+    el_fit_defaults(&fo);
+    fo.method = EL_METHOD_IV;
+    if (el_estimator_prepare(s, &fo, &local) != EL_OK)
+        return;
+    size_t iv_new = fo.lags + 1;
+    el_fit_defaults(&fo);
+    fo.method = EL_METHOD_IV;
+    fo.horizon_time = (double)old_rule_rows(s, &hzi, 120) * s->dt;
+    if (el_estimator_prepare(s, &fo, &local) != EL_OK)
+        return;
+    size_t iv_old = fo.lags + 1;
+    fprintf(stderr, "horizon: %s n %zu log %zu cross %zu se %.3f hankel %zu old %zu iv %zu old %zu\n",
+            c->name, n_samples, rep, hz.crossing_lags, hz.crossing_se, hz.rows,
+            old_rule_rows(s, &hz, 200), iv_new, iv_old);
+}
+
 static void one_log(const cal_case *c, size_t n_samples, size_t rep, const cal_options *o,
                     log_result *out)
 {
@@ -319,7 +377,9 @@ static void one_log(const cal_case *c, size_t n_samples, size_t rep, const cal_o
     el_fit_defaults(&fo);
     fo.method = method_for(o, &s);
     fo.horizon_time = o->horizon_s;
-    if (o->choices) {
+    if (o->horizons)
+        print_horizons(c, n_samples, rep, &s);
+    if (o->choices || o->horizons) {
         out->ok = 1;
         out->method = fo.method;
         free(values);
@@ -482,6 +542,7 @@ static int parse_args(int argc, char **argv, cal_options *o)
     o->method = EL_METHOD_LS;
     o->only_length = 0;
     o->choices = 0;
+    o->horizons = 0;
     o->first_log = 0;
     for (int i = 1; i < argc; i++) {
         const char *a = argv[i], *v = i + 1 < argc ? argv[i + 1] : NULL;
@@ -520,6 +581,8 @@ static int parse_args(int argc, char **argv, cal_options *o)
                 return 1;
             }
             i++;
+        } else if (strcmp(a, "--horizons") == 0) {
+            o->horizons = 1;
         } else if (strcmp(a, "--choices") == 0) {
             o->choices = 1;
             o->method_auto = 1;
@@ -540,7 +603,7 @@ static int parse_args(int argc, char **argv, cal_options *o)
                     "usage: calibrate [--quick] [--logs N] [--boot N] [--threads N]\n"
                     "                 [--case NAME] [--resample blocks|model] [--block L]\n"
                     "                 [--method ls|fb|tls|iv|ssi|hankel|auto] [--length N]\n"
-                    "                 [--choices]\n"
+                    "                 [--choices] [--horizons]\n"
                     "                 [--no-bias-correction] [--verbose] [--misses] [--each]\n"
                     "                 [--horizon T] [--first-log K]\n");
             return 1;

@@ -4,6 +4,7 @@
  * block bootstrap. */
 #include "el_subspace.h"
 
+#include "el_horizon.h"
 #include "el_stats.h"
 
 #include <cblas.h>
@@ -135,33 +136,6 @@ static size_t max_horizon_for(size_t n, size_t p)
     return (n + 1) / (2 + SUB_WINDOWS_PER_ROW * p);
 }
 
-/* Mean over channels of the autocorrelation r(k), k = 0 .. lmax, of the
- * centred channels (g: lmax + 1 doubles of scratch). Returns 1 when a
- * channel is constant or not finite. */
-static int mean_autocorr(const el_series *s, size_t lmax, double *r, double *g)
-{
-    size_t n = s->n_samples, p = s->n_channels;
-    for (size_t k = 0; k <= lmax; k++)
-        r[k] = 0.0;
-    for (size_t c = 0; c < p; c++) {
-        const double *x = s->values + c * n;
-        double mean = 0.0;
-        for (size_t t = 0; t < n; t++)
-            mean += x[t];
-        mean /= (double)n;
-        double g0 = 0.0;
-        for (size_t t = 0; t < n; t++)
-            g0 += (x[t] - mean) * (x[t] - mean);
-        if (!(g0 > 0.0) || !isfinite(g0))
-            return 1;
-        /* The sums of the plain loop, bit for bit, eight lags a pass. */
-        el_stats_lagged_products(x, n, mean, 0, lmax + 1, g);
-        for (size_t k = 0; k <= lmax; k++)
-            r[k] += g[k] / g0 / (double)p;
-    }
-    return 0;
-}
-
 /* Lags of the mean autocorrelation an automatic horizon of at most
  * max_rows rows reads (the cost cap + 1, at most half the record). */
 static size_t horizon_lags(size_t n, size_t p, size_t max_rows)
@@ -219,7 +193,7 @@ el_status el_subspace_acf_compute(const el_series *series, size_t max_rows,
     }
     /* Each lag's sum is the same whatever the number of lags computed
      * (el_stats_lagged_products), so a prefix is what a smaller cap reads. */
-    acf->unusable = mean_autocorr(series, lmax, acf->r, acf->r + lmax + 1);
+    acf->unusable = el_horizon_mean_acf(series, 0, lmax, acf->r, acf->r + lmax + 1);
     acf->lags = lmax;
     acf->values = series->values;
     acf->n_samples = series->n_samples;
@@ -349,15 +323,20 @@ el_status el_subspace_choose_horizon(const el_series *series,
     if (cap < hmin)
         cap = hmin;
     size_t lmax = horizon_lags(n, p, opt->max_rows);
-    double *r = malloc(2 * (lmax + 1) * sizeof *r);
+    /* Rule (b) reads a crossing's lobe at least as far as the default cap's
+     * lags (a prefix of the shared autocorrelation el_assess computes). */
+    size_t lread = horizon_lags(n, p, 0);
+    if (lread < lmax)
+        lread = lmax;
+    double *r = malloc(2 * (lread + 1) * sizeof *r);
     if (r == NULL)
         return el_error_set(err, EL_ERR_NOMEM, "out of memory (horizon)");
     int unusable;
-    if (acf_fits(opt->acf, series, lmax)) {
+    if (acf_fits(opt->acf, series, lread)) {
         unusable = opt->acf->unusable;
-        memcpy(r, opt->acf->r, (lmax + 1) * sizeof *r);
+        memcpy(r, opt->acf->r, (lread + 1) * sizeof *r);
     } else {
-        unusable = mean_autocorr(series, lmax, r, r + lmax + 1);
+        unusable = el_horizon_mean_acf(series, 0, lread, r, r + lread + 1);
     }
     if (unusable) {
         free(r);
@@ -373,16 +352,31 @@ el_status el_subspace_choose_horizon(const el_series *series,
         if (env < exp(-1.0))
             k_env = k;
     }
-    /* (b) four times the first zero crossing. */
-    size_t k_zero = 0;
-    for (size_t k = 1; k <= lmax; k++)
-        if (r[k] <= 0.0) {
-            k_zero = k;
-            break;
+    /* (b) four times the first zero crossing, when its negative lobe is
+     * deeper than the sampling noise of r (el_horizon_crossing). A lobe
+     * still open at the last lag read is read on to twice the crossing's
+     * lag, where an oscillation's lobe has its bottom (a slow mode seen
+     * by many channels crosses near the cap's lags). */
+    double lobe_se = 0.0;
+    int open = 0;
+    size_t k_cross = el_horizon_crossing(r, lmax, lread, n, &lobe_se, &open);
+    size_t lfar = 2 * k_cross + 2 < n / 2 ? 2 * k_cross + 2 : n / 2;
+    if (open && lobe_se < EL_HORIZON_LOBE_SE && lfar > lread) {
+        double *rf = realloc(r, 2 * (lfar + 1) * sizeof *r);
+        if (rf == NULL) {
+            free(r);
+            return el_error_set(err, EL_ERR_NOMEM, "out of memory (horizon)");
         }
+        r = rf;
+        el_horizon_mean_acf(series, lread + 1, lfar, r, r + lfar + 1);
+        k_cross = el_horizon_crossing(r, lmax, lfar, n, &lobe_se, &open);
+    }
+    size_t k_zero = lobe_se >= EL_HORIZON_LOBE_SE ? k_cross : 0;
     free(r);
-    /* No zero crossing within the lags looked at: no oscillation seen, the
-     * envelope alone says how long the memory is. */
+    /* No zero crossing within the lags looked at, or one within the noise
+     * (a positive, decaying autocorrelation whose estimate wanders below
+     * zero): no oscillation seen, the envelope alone says how long the
+     * memory is. */
     size_t scale = k_env;
     if (k_zero > 0 && 4 * k_zero > scale)
         scale = 4 * k_zero;
@@ -402,14 +396,22 @@ el_status el_subspace_choose_horizon(const el_series *series,
     out->time = (double)h * series->dt;
     out->scale_lags = scale;
     out->capped = capped;
+    out->crossing_lags = k_cross;
+    out->crossing_se = lobe_se;
+    char noise[128] = "";
+    if (k_cross > 0 && k_zero == 0)
+        snprintf(noise, sizeof noise,
+                 " (a zero crossing at %zu samples is within the noise: its lobe is %.2g "
+                 "standard errors deep)",
+                 k_cross, lobe_se);
     snprintf(out->reason, sizeof out->reason,
              "horizon %zu samples (%.4g): the slowest time scale seen in the "
-             "autocorrelation is %s%zu samples%s",
+             "autocorrelation is %s%zu samples%s%s",
              h, out->time, scale >= lmax ? ">= " : "",
              scale,
              capped ? (h == hdata ? ", capped by the record length"
                                   : ", capped for cost")
-                    : "");
+                    : "", noise);
     return EL_OK;
 }
 

@@ -97,7 +97,12 @@ typedef struct {
     double time;           /* h dt, series time unit */
     size_t scale_lags;     /* the data's slowest time scale seen (samples) */
     int capped;            /* 1: the cost cap or the record length set h */
-    char reason[256];      /* one sentence for a report */
+    size_t crossing_lags;  /* the autocorrelation's first zero crossing (lag;
+                              0: none seen, or a manual horizon) */
+    double crossing_se;    /* depth of its negative lobe in standard errors
+                              of r (Bartlett); rule (b) counts the crossing
+                              from 3 on */
+    char reason[400];      /* one sentence for a report */
 } el_subspace_horizon;
 
 /* Chooses the horizon h. Manual (opt->horizon_time > 0): h =
@@ -106,7 +111,10 @@ typedef struct {
  * slowest time scale seen is the larger of (a) the first lag at which the
  * envelope max_{k' >= k} |r(k')| falls below 1/e (the correlation time of
  * the least damped mode) and (b) four times the first zero crossing of r
- * (about one period of the dominant slow oscillation); h is that many
+ * (about one period of the dominant slow oscillation) when the negative
+ * lobe after it reaches 3 standard errors of r below zero (Bartlett's
+ * formula; a shallower lobe is the noise of a positive, decaying r and is
+ * reported in out->crossing_lags / crossing_se, not counted); h is that many
  * samples, capped at max_rows / n_channels. Either way h is raised to
  * h_min = max(3, 1 + ceil(24 / p)) (24 rows in the shift equations: room
  * for orders up to 12) and must leave m >= 4 h p windows (automatic: lowered to

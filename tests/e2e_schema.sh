@@ -74,8 +74,9 @@ for real in nile_1871_1970 co2_mauna_loa_1959_1997; do
     check "assess $real validates" $?
 done
 # The plain-state check's object (docs/cli.md), filled on a log where it
-# withdraws iv's "unstable" (tests/data/README.md).
-"$bin" assess tests/data/calib_sink_2000_52.csv --boot 200 --json "$tmp/assess_sink.json" --quiet &&
+# withdraws iv's "unstable" (tests/data/README.md: iv's 15-sample state).
+"$bin" assess tests/data/calib_sink_2000_52.csv --method iv --horizon 1.5 --boot 200 \
+    --json "$tmp/assess_sink.json" --quiet &&
     valid assess "$tmp/assess_sink.json" &&
     jq -e '.model.method_choice.plain_state_check.withdrew_unstable == true and
            .verdict.stability == "undecided"' "$tmp/assess_sink.json" >/dev/null

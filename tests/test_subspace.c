@@ -451,6 +451,139 @@ static void test_horizon_first_order(void **state)
     ts_free(&ts);
 }
 
+/* The channels' mean sample autocorrelation r(0 .. lmax) by the plain
+ * definition (centred, divided by the lag-0 sum), written out here apart
+ * from the library's lagged products. */
+static void plain_mean_acf(const double *v, size_t n, size_t p, size_t lmax, double *r)
+{
+    for (size_t k = 0; k <= lmax; k++)
+        r[k] = 0.0;
+    for (size_t c = 0; c < p; c++) {
+        const double *x = v + c * n;
+        double m = 0.0, g0 = 0.0;
+        for (size_t t = 0; t < n; t++)
+            m += x[t];
+        m /= (double)n;
+        for (size_t t = 0; t < n; t++)
+            g0 += (x[t] - m) * (x[t] - m);
+        for (size_t k = 0; k <= lmax; k++) {
+            double g = 0.0;
+            for (size_t t = k; t < n; t++)
+                g += (x[t] - m) * (x[t - k] - m);
+            r[k] += g / g0 / (double)p;
+        }
+    }
+}
+
+/* Rule (b) against a noise crossing (docs/uncertainty.md, "The automatic
+ * horizon (z)"). A first-order process x[k+1] = phi x[k] + e, phi =
+ * exp(-1/15) (the correlation time of calibrate's degenerate node), seen
+ * by two sensors without noise: r(k) = phi^k > 0 at every lag (closed
+ * form), below 1/e from k = 16 on. Its estimate at 20,000 samples has a
+ * standard error of about sqrt((1 + 2 sum phi^2j) / n) = 0.027 at large
+ * lags (Bartlett 1946), so on many logs it wanders below zero within the
+ * 101 lags the horizon reads, and the old rule (b) took four times that
+ * crossing for an oscillation's period: 100 rows, the cost cap. The
+ * horizon must be the envelope's 16 +- 5 on every log (+-5 lags: r falls
+ * by 0.0245 per lag at 1/e, so 5 lags are 4.5 standard errors), capped or
+ * not, and the crossing must still be reported (its lag as the plain
+ * autocorrelation has it, its lobe under 3 standard errors). The test
+ * checks that many of the 24 logs do cross (at least 10: 19 do with
+ * these seeds), so that it fails with the old rule (measured: built with
+ * every crossing counted, it fails at the first crossing log). */
+static void test_horizon_noise_crossing(void **state)
+{
+    (void)state;
+    size_t n = 20000, lmax = 101, crossed = 0;
+    double *r = malloc((lmax + 1) * sizeof *r);
+    assert_non_null(r);
+    for (uint64_t seed = 1; seed <= 24; seed++) {
+        double *v = malloc(2 * n * sizeof *v);
+        assert_non_null(v);
+        uint64_t rs = 1000 + seed;
+        double phi = exp(-1.0 / 15.0), x = 0.0;
+        for (size_t k = 0; k < 300; k++)
+            x = phi * x + test_normal(&rs);
+        for (size_t k = 0; k < n; k++) {
+            v[k] = x;
+            v[k + n] = 3.0 - 0.5 * x;
+            x = phi * x + test_normal(&rs);
+        }
+        plain_mean_acf(v, n, 2, lmax, r);
+        size_t k0 = 0;
+        for (size_t k = 1; k <= lmax && k0 == 0; k++)
+            if (r[k] <= 0.0)
+                k0 = k;
+        crossed += k0 > 0;
+        test_series ts;
+        ts_init(&ts, n, 2, 0.1, v);
+        el_subspace_options opt;
+        el_subspace_defaults(&opt);
+        el_subspace_horizon hz;
+        el_error err;
+        assert_int_equal(el_subspace_choose_horizon(&ts.s, &opt, &hz, &err), EL_OK);
+        assert_true(hz.rows >= 11 && hz.rows <= 21);
+        assert_int_equal(hz.capped, 0);
+        assert_int_equal(hz.crossing_lags, k0);
+        assert_true(hz.crossing_se < 3.0);
+        /* iv's cap (120 rows: 60 block rows, 61 lags) likewise */
+        opt.max_rows = 120;
+        assert_int_equal(el_subspace_choose_horizon(&ts.s, &opt, &hz, &err), EL_OK);
+        assert_true(hz.rows >= 11 && hz.rows <= 21);
+        ts_free(&ts);
+    }
+    assert_true(crossed >= 10);
+    free(r);
+}
+
+/* Rule (b) keeps a real oscillation. A rotation with decay, x[k+1] =
+ * g R(theta) x[k] + e (2 states, white e of unit variance), seen directly
+ * by two sensors: the stationary covariance is I / (1 - g^2) (R is
+ * orthogonal), so each channel's autocorrelation is g^k cos(k theta)
+ * (closed form). With g = exp(-0.06), theta = 0.2 rad per sample: the
+ * first zero crossing is at k0 = ceil(pi / (2 theta)) = 8 (7.85), the
+ * lobe's bottom at pi / theta = 15.7 is g^15.7 = 0.39 deep, about 6
+ * standard errors at 2,000 samples (Bartlett: se = sqrt((1 + 2 sum_{j <
+ * 16} r(j)^2) / n) ~ 0.06), while the envelope g^k falls below 1/e at
+ * k = 17. So the horizon is four times the crossing, 32 rows, not the
+ * envelope's 17; the sample crossing moves by under a lag (r's slope at
+ * the crossing is g^8 theta = 0.12 per lag against an error of ~0.05), so
+ * 4 x (8 +- 1) on each of 12 logs, and the lobe counted (>= 3 standard
+ * errors). */
+static void test_horizon_keeps_oscillation(void **state)
+{
+    (void)state;
+    size_t n = 2000;
+    double g = exp(-0.06), th = 0.2;
+    for (uint64_t seed = 1; seed <= 12; seed++) {
+        double *v = malloc(2 * n * sizeof *v);
+        assert_non_null(v);
+        uint64_t rs = 2000 + seed;
+        double x0 = 0.0, x1 = 0.0;
+        for (size_t k = 0; k < 300 + n; k++) {
+            if (k >= 300) {
+                v[k - 300] = x0;
+                v[k - 300 + n] = x1;
+            }
+            double y0 = g * (cos(th) * x0 - sin(th) * x1) + test_normal(&rs);
+            double y1 = g * (sin(th) * x0 + cos(th) * x1) + test_normal(&rs);
+            x0 = y0;
+            x1 = y1;
+        }
+        test_series ts;
+        ts_init(&ts, n, 2, 0.1, v);
+        el_subspace_options opt;
+        el_subspace_defaults(&opt);
+        el_subspace_horizon hz;
+        el_error err;
+        assert_int_equal(el_subspace_choose_horizon(&ts.s, &opt, &hz, &err), EL_OK);
+        assert_true(hz.crossing_lags >= 7 && hz.crossing_lags <= 9);
+        assert_true(hz.crossing_se >= 3.0);
+        assert_int_equal(hz.rows, 4 * hz.crossing_lags);
+        ts_free(&ts);
+    }
+}
+
 /* The shared autocorrelation (el_subspace_acf_compute, issue 13 item 3:
  * computed once per window instead of once per horizon choice) gives the
  * horizon the direct computation gives, bit for bit (exact equality: the
@@ -1167,6 +1300,8 @@ int main(void)
         cmocka_unit_test(test_replicate_whole_past),
         cmocka_unit_test(test_bad_arguments),
         cmocka_unit_test(test_kept_stage),
+        cmocka_unit_test(test_horizon_noise_crossing),
+        cmocka_unit_test(test_horizon_keeps_oscillation),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }

@@ -15,7 +15,8 @@ De Roeck 1999) on explicit window matrices with numpy linear algebra:
 
 The automatic horizon rule (el_subspace_choose_horizon) is written out
 too: the mean autocorrelation of the channels, the envelope below 1/e,
-four times the first zero crossing, the cap max_rows / p.
+four times the first zero crossing when its negative lobe reaches 3
+standard errors (Bartlett's formula), the cap max_rows / p.
 
 Data set: 3 mixed sensors of a 4-state system (0.9 Hz zeta 0.05 and 2.3 Hz
 zeta 0.10, dt 0.02 s) driven by white process noise, 2000 samples, 20 dB
@@ -117,18 +118,36 @@ def auto_horizon(y, max_rows):
     hdata = (n + 1) // (2 + 4 * p)
     cap = max(max_rows // p, hmin)
     lmax = min(cap + 1, n // 2)
-    r = np.zeros(lmax + 1)
+    # the lobe of a crossing is read to the default cap's lags, and on to
+    # twice the crossing's lag while it stays at or below zero
+    lread = max(lmax, min(max(200 // p, hmin) + 1, n // 2))
+    lfar = max(lread, min(2 * lread + 2, n // 2))
+    r = np.zeros(lfar + 1)
     for c in range(p):
         x = y[:, c] - y[:, c].mean()
         g0 = x @ x
-        for k in range(lmax + 1):
+        for k in range(lfar + 1):
             r[k] += (x[k:] @ x[:n - k]) / g0 / p
     k_env = lmax
     for k in range(lmax + 1):
-        if np.max(np.abs(r[k:])) < math.exp(-1):
+        if np.max(np.abs(r[k:lmax + 1])) < math.exp(-1):
             k_env = k
             break
     k_zero = next((k for k in range(1, lmax + 1) if r[k] <= 0), 0)
+    if k_zero > 0:
+        # rule (b) counts the crossing when its negative lobe reaches 3
+        # Bartlett (1946) standard errors: se(k)^2 = (1 + 2 sum_{j<k} r(j)^2) / n
+        last = lread
+        if all(r[k] <= 0 for k in range(k_zero, lread + 1)):
+            last = max(lread, min(2 * k_zero + 2, n // 2))
+        depth = 0.0
+        for k in range(k_zero, last + 1):
+            if r[k] > 0:
+                break
+            se = math.sqrt((1 + 2 * np.sum(r[1:k] ** 2)) / n)
+            depth = max(depth, -r[k] / se)
+        if depth < 3.0:
+            k_zero = 0
     scale = k_env
     if k_zero > 0 and 4 * k_zero > scale:
         scale = 4 * k_zero
