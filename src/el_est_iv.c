@@ -260,6 +260,7 @@ static el_status iv_prepare(const el_series *series, el_fit_options *opt, el_err
     el_subspace_defaults(&so);
     so.horizon_time = opt->horizon_time;
     so.max_rows = IV_MAX_ROWS;
+    so.crossing_test = 1; /* a noise crossing would set a state of up to 120 rows */
     so.acf = opt->acf;
     el_subspace_horizon hz;
     el_error e2;

@@ -361,7 +361,7 @@ el_status el_subspace_choose_horizon(const el_series *series,
     int open = 0;
     size_t k_cross = el_horizon_crossing(r, lmax, lread, n, &lobe_se, &open);
     size_t lfar = 2 * k_cross + 2 < n / 2 ? 2 * k_cross + 2 : n / 2;
-    if (open && lobe_se < EL_HORIZON_LOBE_SE && lfar > lread) {
+    if (opt->crossing_test && open && lobe_se < EL_HORIZON_LOBE_SE && lfar > lread) {
         double *rf = realloc(r, 2 * (lfar + 1) * sizeof *r);
         if (rf == NULL) {
             free(r);
@@ -371,7 +371,7 @@ el_status el_subspace_choose_horizon(const el_series *series,
         el_horizon_mean_acf(series, lread + 1, lfar, r, r + lfar + 1);
         k_cross = el_horizon_crossing(r, lmax, lfar, n, &lobe_se, &open);
     }
-    size_t k_zero = lobe_se >= EL_HORIZON_LOBE_SE ? k_cross : 0;
+    size_t k_zero = !opt->crossing_test || lobe_se >= EL_HORIZON_LOBE_SE ? k_cross : 0;
     free(r);
     /* No zero crossing within the lags looked at, or one within the noise
      * (a positive, decaying autocorrelation whose estimate wanders below

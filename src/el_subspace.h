@@ -72,6 +72,11 @@ typedef struct {
                                      of computing it; the same h bit for bit */
     double horizon_time;   /* future = past horizon in the series' time unit;
                               0 = automatic (el_subspace_choose_horizon) */
+    int crossing_test;     /* 1: rule (b) of the automatic horizon counts a zero
+                              crossing only when its lobe is EL_HORIZON_LOBE_SE
+                              standard errors deep (iv's state); 0 (default): any
+                              crossing counts (hankel's horizon and auto's choice,
+                              whose sink logs need the longer horizon) */
     size_t max_rows;       /* automatic horizon: h * n_channels <= max_rows
                               (0 = EL_SUBSPACE_MAX_ROWS) */
     size_t max_order;      /* stabilisation up to this order (0 = default
@@ -111,10 +116,11 @@ typedef struct {
  * slowest time scale seen is the larger of (a) the first lag at which the
  * envelope max_{k' >= k} |r(k')| falls below 1/e (the correlation time of
  * the least damped mode) and (b) four times the first zero crossing of r
- * (about one period of the dominant slow oscillation) when the negative
- * lobe after it reaches 3 standard errors of r below zero (Bartlett's
- * formula; a shallower lobe is the noise of a positive, decaying r and is
- * reported in out->crossing_lags / crossing_se, not counted); h is that many
+ * (about one period of the dominant slow oscillation), with
+ * opt->crossing_test only when the negative lobe after it reaches 3
+ * standard errors of r below zero (Bartlett's formula; a shallower lobe is
+ * the noise of a positive, decaying r and is reported in
+ * out->crossing_lags / crossing_se, not counted); h is that many
  * samples, capped at max_rows / n_channels. Either way h is raised to
  * h_min = max(3, 1 + ceil(24 / p)) (24 rows in the shift equations: room
  * for orders up to 12) and must leave m >= 4 h p windows (automatic: lowered to
