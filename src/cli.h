@@ -172,7 +172,7 @@ void cli_print_help(const char *usage, const char *description,
     {"resample", "blocks|model", "bootstrap scheme (default blocks)"},                        \
     {"block", "L|auto", "block length of the bootstrap (default auto)"},                      \
     {"no-bias-correction", NULL,                                                              \
-     "ls: do not correct the bootstrap for the estimator's small-sample bias"},               \
+     "ls: no small-sample bias correction; ls, iv: no widening to model-based replicates"},   \
     {"level", "P", "level of the bounds and of a confident verdict (default 0.95)"},          \
     {"seed", "S", "random seed (default 1): same seed, same numbers"},                        \
     {"threads", "N", "worker threads (default: all cores)"}

@@ -278,7 +278,7 @@ static el_status iv_prepare(const el_series *series, el_fit_options *opt, el_err
 }
 
 const el_estimator_type el_estimator_iv = {
-    EL_METHOD_IV, "iv", "instrumental variables", 1, 0,
+    EL_METHOD_IV, "iv", "instrumental variables", 1, EL_MODEL_RESAMPLING_SPREAD,
     iv_plan_create, el_est_plan_destroy_state, iv_fit, &iv_provider, el_est_boot_states, 0,
     iv_prepare, NULL
 };

@@ -89,9 +89,17 @@ const el_boot_provider *el_boot_provider_ls(void);
  *   name:             the --method spelling ("ls", ...);
  *   description:      its name for people ("instrumental variables", ...);
  *   takes_inputs:     1 when it fits measured inputs (--input);
- *   model_resampling: 1 when the bootstrap may regenerate one-step pairs
- *                     through its model (--resample model and the bias
- *                     round: one-step regression estimators only);
+ *   model_resampling: EL_MODEL_RESAMPLING_FULL (1) when the bootstrap may
+ *                     regenerate one-step pairs through its model
+ *                     (--resample model and the bias round: one-step
+ *                     regression estimators only);
+ *                     EL_MODEL_RESAMPLING_SPREAD when the bootstrap's
+ *                     model round regenerates the states its provider
+ *                     reads through the estimator's own full-sample fit
+ *                     and widens the moving-block replicates to that
+ *                     spread, with no bias shift and no --resample model
+ *                     (el_resample.c, "spread round"); 0 (NONE) for
+ *                     neither;
  *   plan_create:      sizes and allocates its private workspace for series
  *                     of n_samples x n_channels with n_inputs inputs and
  *                     the options (checks the options it alone knows;
@@ -124,6 +132,11 @@ const el_boot_provider *el_boot_provider_ls(void);
  *                     block sums of the subspace stage, el_est_hankel.h),
  *                     with el_boot_run's contract (el_resample.h), which
  *                     calls it. */
+/* Values of el_estimator_type.model_resampling. */
+#define EL_MODEL_RESAMPLING_NONE 0
+#define EL_MODEL_RESAMPLING_FULL 1
+#define EL_MODEL_RESAMPLING_SPREAD 2
+
 typedef struct el_estimator_type {
     el_method method;
     const char *name;

@@ -26,12 +26,7 @@
 /* Model-based replicates that measure the bias (a mean of a few hundred
  * replicates leaves a Monte Carlo error far below the bootstrap spread),
  * drawn from streams far above any replicate index. */
-#define BOOT_BIAS_REPLICATES 200
 #define BOOT_BIAS_STREAM ((uint64_t)1 << 62)
-/* Fewest bias replicates whose spread may refuse the correction (a
- * quartile of fewer is mostly noise; the taper weights such rounds by at
- * most 20 / 200). */
-#define BOOT_BIAS_MIN_JUDGED 20
 /* The largest small-sample bias of Re lambda the bias round accepts, in
  * units of (r + 1) / T: least squares on an AR(1) near a unit root is
  * biased by about -(1 + 3 rho) / n per step, -4 / T in Re lambda, and on
@@ -40,38 +35,6 @@
  * that. In the calibration, shifts that sensor noise causes were 19 / T
  * and more at 500 samples (r = 2), growing with T (docs/uncertainty.md). */
 #define BOOT_BIAS_PLAUSIBLE_T 5.0
-
-el_boot_bias_plan el_boot_bias_rule(size_t n_pairs)
-{
-    el_boot_bias_plan p = { BOOT_BIAS_REPLICATES, 1.0 };
-    if (n_pairs > EL_BOOT_BIAS_FULL_PAIRS) {
-        /* B(n) = 200 (n0 / n)^2: the cost B n falls like 1/n, the weight
-         * B / 200 like 1/n^2, and both join the full round at n0. */
-        double f = (double)EL_BOOT_BIAS_FULL_PAIRS / (double)n_pairs;
-        p.replicates = (size_t)floor((double)BOOT_BIAS_REPLICATES * f * f);
-        p.weight = (double)p.replicates / (double)BOOT_BIAS_REPLICATES;
-    }
-    return p;
-}
-
-double el_boot_widen_factor(double model_spread, double blocks_spread, double weight,
-                            size_t n_model)
-{
-    if (n_model < BOOT_BIAS_MIN_JUDGED || !(blocks_spread > 0.0) || !(weight > 0.0))
-        return 1.0;
-    double f = model_spread / blocks_spread;
-    return isfinite(f) && f > 1.0 ? 1.0 + (weight < 1.0 ? weight : 1.0) * (f - 1.0) : 1.0;
-}
-
-double el_boot_growth_weight(double efolds)
-{
-    if (!isfinite(efolds) || efolds <= EL_BOOT_GROWTH_WIDEN_FULL)
-        return 1.0;
-    if (efolds >= EL_BOOT_GROWTH_WIDEN_NONE)
-        return 0.0;
-    return (EL_BOOT_GROWTH_WIDEN_NONE - efolds)
-           / (EL_BOOT_GROWTH_WIDEN_NONE - EL_BOOT_GROWTH_WIDEN_FULL);
-}
 
 void el_boot_defaults(el_boot_options *opt)
 {
@@ -116,6 +79,11 @@ typedef struct {
     double model_weight;   /* the bias round's weight B / 200, for the widening */
     size_t model_count;    /* its accepted replicates */
     int bias_phase;               /* 1: the run measures the bias */
+    /* 1: the model round is the spread round (iv, ssi: the provider's
+     * states through the method's own fit, smodel; widening only). */
+    int spread_round;
+    el_boot_state_model smodel;
+    el_boot_bias_plan s_plan;     /* its replicates and weight (el_boot_spread_rule) */
     double *bias_rec;             /* bias phase: 2 n_modes + 2 per replicate */
     unsigned char *bias_ok;
     size_t r, sw, nu, m, block, block_pw, grid, n_modes, total, n_bias;
@@ -125,7 +93,7 @@ typedef struct {
     size_t batch;                 /* block replicates summed together (wide engines) */
     size_t wide_from;             /* reduced states from which the wide paths apply */
     /* A round too small to judge by its own spread (fewer than
-     * BOOT_BIAS_MIN_JUDGED replicates): per mode, its median shift of Re
+     * EL_BOOT_BIAS_MIN_JUDGED replicates): per mode, its median shift of Re
      * lambda, judged after the replicates by their spread (NULL: none). */
     double *bias_pending_shift;
     int bias_refused;             /* the bias round measured no small-sample bias */
@@ -152,6 +120,8 @@ typedef struct {
     double *a, *ageev, *wr, *wi, *lre, *lim, *geev, *eig;
     double *path, *gwork;         /* wide model replicates: (m + 1) states, accumulate scratch */
     el_boot_block *bblocks;       /* sh->batch * sh->max_blocks: a batch's blocks */
+    el_boot_block *sblocks;       /* spread round: blocks of n_pairs */
+    double *spath;                /* spread round: n_pairs + 1 states, accumulate scratch */
     double *bsum;                 /* sh->batch * features: a batch's sums */
     lapack_int lwork;
     const el_boot_options *opt;  /* progress callback: main worker only */
@@ -178,6 +148,8 @@ static void worker_free(boot_worker *w)
     free(w->gwork);
     free(w->bblocks);
     free(w->bsum);
+    free(w->sblocks);
+    free(w->spath);
     memset(w, 0, sizeof *w);
 }
 
@@ -222,6 +194,16 @@ static el_status worker_init(boot_worker *w, boot_shared *sh, const el_modes *po
         w->path = malloc((sh->m + 1) * sh->sw * sizeof(double));
         w->gwork = malloc((d + sh->prov->work_doubles(&sh->dims)) * sizeof(double));
         if (w->path == NULL || w->gwork == NULL) {
+            worker_free(w);
+            return el_error_set(err, EL_ERR_NOMEM, "out of memory (bootstrap workspace)");
+        }
+    }
+    if (sh->spread_round) {
+        w->sblocks = malloc(el_boot_block_count(sh->smodel.n_pairs, sh->block)
+                            * sizeof(el_boot_block));
+        size_t path = (sh->smodel.n_pairs + 1) * sh->sw;
+        w->spath = malloc((path + d + sh->prov->work_doubles(&sh->dims)) * sizeof(double));
+        if (w->sblocks == NULL || w->spath == NULL) {
             worker_free(w);
             return el_error_set(err, EL_ERR_NOMEM, "out of memory (bootstrap workspace)");
         }
@@ -322,6 +304,19 @@ static int model_replicate(boot_worker *w, el_rng *rng)
     return sh->prov->solve(&sh->dims, w->sum, w->a, NULL, NULL, w->work);
 }
 
+/* One replicate of the spread round: el_boot_state_model_sum on moving
+ * blocks of the model's residuals, then the provider's solve. */
+static int spread_replicate(boot_worker *w, el_rng *rng)
+{
+    boot_shared *sh = w->sh;
+    size_t nb = el_boot_draw_blocks(rng, sh->smodel.n_pairs, sh->block, w->sblocks);
+    size_t path = (sh->smodel.n_pairs + 1) * sh->sw;
+    if (el_boot_state_model_sum(&sh->smodel, w->sblocks, nb, w->spath, w->sum, w->feat,
+                                w->spath + path))
+        return 1;
+    return sh->prov->solve(&sh->dims, w->sum, w->a, NULL, NULL, w->work);
+}
+
 /* Continuous eigenvalues of the r x r reduced matrix a. Returns 0 or 1.
  * el_eig first (a third of LAPACK's time at r = 8, where LAPACK's call
  * overhead was the largest cost of a replicate); LAPACK when it reports a
@@ -398,7 +393,7 @@ static void run_bias_replicate(boot_worker *w, size_t rep)
     el_rng_seed(&rng, sh->seed, BOOT_BIAS_STREAM + (uint64_t)rep);
     double *rec = sh->bias_rec + rep * stride, max_re = 0.0;
     int amb = 0;
-    int fail = model_replicate(w, &rng);
+    int fail = sh->spread_round ? spread_replicate(w, &rng) : model_replicate(w, &rng);
     if (!fail)
         fail = replicate_modes(w, rec, rec + nm, &amb, &max_re, rec + 2 * nm,
                                rec + 2 * nm + 1);
@@ -598,6 +593,7 @@ static double point_mismatch(boot_worker *w, const boot_shared *sh, const el_mod
 typedef struct {
     double *states, *resid, *a0, *b0, *c0, *pwork, *bias, *bias_samples, *spread, *pending;
     double *est_states;           /* the method's own states (non-ls methods) */
+    double *s_fit;                /* spread round: A, B, c and residuals */
     unsigned char *bias_ok;
     el_boot_engine *engine;
     el_boot_engine *est_engine;   /* engine of the method's provider (non-ls) */
@@ -615,6 +611,7 @@ static void buffers_free(boot_buffers *b)
     free(b->workers);
     free(b->states);
     free(b->est_states);
+    free(b->s_fit);
     el_boot_engine_destroy(b->est_engine);
     free(b->resid);
     free(b->a0);
@@ -747,23 +744,32 @@ static el_status measure_bias(boot_shared *sh, boot_buffers *bf, el_boot_bias_pl
              * standard errors (1.2533 sd / sqrt(c)) is no evidence of a
              * misfit. With the full 200 this is implied by the first test
              * (3 x 1.2533 / sqrt(200) = 0.27 < 0.5). Fewer than
-             * BOOT_BIAS_MIN_JUDGED replicates cannot show a spread at all;
+             * EL_BOOT_BIAS_MIN_JUDGED replicates cannot show a spread at all;
              * their weight is then at most a tenth. */
             double mc_se = 1.2533 * sd / sqrt((double)c);
-            if (c >= BOOT_BIAS_MIN_JUDGED && isfinite(shift) && fabs(shift) > 0.5 * sd && fabs(shift) > bias_cap
+            if (c >= EL_BOOT_BIAS_MIN_JUDGED && isfinite(shift) && fabs(shift) > 0.5 * sd
+                && fabs(shift) > bias_cap
                 && fabs(shift) > 3.0 * mc_se) {
                 implausible = 1;
                 sh->bias_refused_spreads = fmax(sh->bias_refused_spreads, fabs(shift) / sd);
             }
         }
     }
-    if (implausible) {
+    if (implausible || sh->spread_round) {
         free(med);
         free(tmp);
-        sh->bias_refused = 1;
+        /* A spread round whose median left the estimate (a model that
+         * does not reproduce it) does not widen; else it only widens. */
+        if (implausible) {
+            sh->bias_refused = !sh->spread_round;
+            return EL_OK;
+        }
+        sh->model_spread = bf->spread;
+        sh->model_weight = wgt;
+        sh->model_count = n_ok;
         return EL_OK;
     }
-    if (n_ok < BOOT_BIAS_MIN_JUDGED) {
+    if (n_ok < EL_BOOT_BIAS_MIN_JUDGED) {
         /* Too few replicates for a spread of their own: keep the shifts and
          * judge them against the replicates' spread (judge_small_round). */
         for (size_t q = 0; q < nm; q++)
@@ -790,7 +796,7 @@ static el_status measure_bias(boot_shared *sh, boot_buffers *bf, el_boot_bias_pl
     sh->bias_re = bf->bias;
     sh->bias_im = bf->bias + nm;
     /* A tapered round widens with its weight (so the bounds do not jump at
-     * EL_BOOT_BIAS_FULL_PAIRS), and not at all below BOOT_BIAS_MIN_JUDGED
+     * EL_BOOT_BIAS_FULL_PAIRS), and not at all below EL_BOOT_BIAS_MIN_JUDGED
      * replicates: their IQR is too noisy, and taking the larger of two
      * spreads would turn that noise into wider bounds. */
     sh->model_spread = bf->spread;
@@ -954,6 +960,8 @@ static el_status engine_states(const el_series *series, const el_series *inputs,
                             el_method_name(model->method));
     size_t pairs = n_states - span + 1;
     sh->m = pairs;
+    sh->smodel = (el_boot_state_model){ prov, dims, states, n_states - 1,
+                                        NULL, NULL, NULL, NULL };
     size_t stride = 1;
     if (opt->kind == EL_RESAMPLE_BLOCKS) {
         if (opt->block_length > 0) {
@@ -1010,6 +1018,24 @@ static el_status block_length(const el_boot_options *opt, boot_shared *sh, boot_
     return EL_OK;
 }
 
+/* The spread round's size (el_boot_spread_rule) and model
+ * (el_boot_state_model_fit); no round, or a fit that fails, leaves the
+ * replicates as the blocks make them. */
+static el_status prepare_spread_round(boot_shared *sh, boot_buffers *bf, size_t n_pairs,
+                                      el_error *err)
+{
+    el_boot_state_model *sm = &sh->smodel;
+    sh->s_plan = el_boot_spread_rule(n_pairs, sh->m, sh->prov->n_features(&sh->dims));
+    if (sh->s_plan.replicates == 0)
+        return EL_OK;
+    int fitted = 0;
+    el_status st = el_boot_state_model_fit(sm, &bf->s_fit, &fitted, err);
+    if (st != EL_OK || !fitted)
+        return st;
+    sh->spread_round = 1;
+    return EL_OK;
+}
+
 /* Everything before the replicates: the least-squares states, fit,
  * residuals and block length (every method takes its block length from
  * them; with inputs the fit is DMD with control), and the engine of the
@@ -1031,7 +1057,7 @@ static el_status prepare(const el_series *series, const el_series *inputs,
     if (type == NULL)
         return el_error_set(err, EL_ERR_INTERNAL, "no estimator for method %d",
                             (int)model->method);
-    if (opt->kind == EL_RESAMPLE_MODEL && !type->model_resampling) {
+    if (opt->kind == EL_RESAMPLE_MODEL && type->model_resampling != EL_MODEL_RESAMPLING_FULL) {
         el_error_set(err, EL_ERR_USAGE, "model-based resampling works with --method ls only");
         el_error_option(err, "--resample");
         el_error_hint(err, "use --resample blocks (the default) with --method %s",
@@ -1059,7 +1085,8 @@ static el_status prepare(const el_series *series, const el_series *inputs,
      * block length only (EL_BOOT_RESID_STORE_MAX_CELLS). */
     const el_boot_bias_plan bias_plan = el_boot_bias_rule(model->n_pairs);
     int model_reads = opt->kind == EL_RESAMPLE_MODEL
-                      || (opt->bias_correct && type->model_resampling
+                      || (opt->bias_correct
+                          && type->model_resampling == EL_MODEL_RESAMPLING_FULL
                           && bias_plan.replicates > 0);
     size_t cap = opt->resid_store_cells > 0 ? opt->resid_store_cells
                                             : EL_BOOT_RESID_STORE_MAX_CELLS;
@@ -1131,6 +1158,9 @@ static el_status prepare(const el_series *series, const el_series *inputs,
         el_error_hint(err, "use a lower --rank");
         return EL_ERR_NUMERIC;
     }
+    if (opt->bias_correct && opt->kind == EL_RESAMPLE_BLOCKS
+        && type->model_resampling == EL_MODEL_RESAMPLING_SPREAD)
+        return prepare_spread_round(sh, bf, model->n_pairs, err);
     return EL_OK;
 }
 
@@ -1152,24 +1182,6 @@ static void replicate_location(const boot_shared *sh, const double *v, size_t st
     *spread = (el_boot_quantile(tmp, c, 0.75) - el_boot_quantile(tmp, c, 0.25)) / 1.349;
 }
 
-/* The share of the widening that quantity k of the bias round's records
- * keeps (el_boot_growth_weight): Re and Im of mode q (k = q, n_modes + q)
- * by that mode's growth over the log, Re lambda_q m dt (the point
- * estimate, m pairs of dt); trace and determinant by the least growing
- * mode's, whose spread is the larger part of theirs. A decaying mode
- * keeps the widening whatever the others do (a saddle's stable mode). */
-static double growth_share(const boot_shared *sh, size_t k)
-{
-    double duration_s = (double)sh->m * sh->dt;
-    size_t nm = sh->n_modes;
-    if (k < 2 * nm)
-        return el_boot_growth_weight(sh->point->modes[k % nm].lambda_re * duration_s);
-    double share = 0.0;
-    for (size_t q = 0; q < nm; q++)
-        share = fmax(share, el_boot_growth_weight(sh->point->modes[q].lambda_re * duration_s));
-    return share;
-}
-
 /* The factor that widens the block replicates of one quantity to the
  * spread the model-based replicates of the bias round found (1 when there
  * was no accepted round, for model-based replicates, or when the blocks
@@ -1181,11 +1193,12 @@ static double widen_factor(const boot_shared *sh, size_t k, double blocks_spread
     if (sh->model_spread == NULL || sh->kind != EL_RESAMPLE_BLOCKS || !(blocks_spread > 0.0))
         return 1.0;
     return el_boot_widen_factor(sh->model_spread[k], blocks_spread,
-                                sh->model_weight * growth_share(sh, k), sh->model_count);
+                                sh->model_weight * el_boot_growth_share(sh->point, k, (double)sh->m * sh->dt),
+                                sh->model_count);
 }
 
 /* The refusal test of measure_bias for a round of fewer than
- * BOOT_BIAS_MIN_JUDGED replicates (a long log's tapered round), whose own
+ * EL_BOOT_BIAS_MIN_JUDGED replicates (a long log's tapered round), whose own
  * quartiles are too noisy to measure a spread: the spread is taken from
  * the replicates of the run instead (hundreds, and the same quantity to
  * within the widening's Monte Carlo error when the model fits). The median
@@ -1432,8 +1445,12 @@ el_status el_boot_run(const el_series *series, const el_fit_options *opt_fit,
         result->setup_seconds = t_bias - t_start;
         const el_estimator_type *type = el_estimator_for(model->method);
         el_boot_bias_plan bias_plan = el_boot_bias_rule(model->n_pairs);
-        if (opt->bias_correct && type != NULL && type->model_resampling &&
-            bias_plan.replicates > 0) {
+        if (sh.spread_round) {
+            /* iv, ssi: the model round measures a spread only. */
+            st = measure_bias(&sh, &bf, sh.s_plan, err);
+        } else if (opt->bias_correct && type != NULL
+                   && type->model_resampling == EL_MODEL_RESAMPLING_FULL
+                   && bias_plan.replicates > 0) {
             st = measure_bias(&sh, &bf, bias_plan, err);
             result->bias_corrected = st == EL_OK && sh.bias_re != NULL;
             result->bias_replicates = sh.n_bias;

@@ -11,6 +11,7 @@
 #include "el_boot_bounds.h"
 #include "el_boot_engine.h"
 #include "el_boot_match.h"
+#include "el_boot_model.h"
 #include "el_estimator.h"
 #include "el_model.h"
 #include "el_modes.h"
@@ -24,75 +25,6 @@
  * moving-block variance estimate consistent: its bias falls as 1/L and its
  * variance grows as L/n = 1/EL_BOOT_MAX_BLOCKS; Kunsch 1989). */
 #define EL_BOOT_MAX_BLOCKS 400
-
-/* The bias round (el_boot_options.bias_correct) in full, 200 model-based
- * replicates applied at full weight, up to this many snapshot pairs; above
- * it the round tapers smoothly (el_boot_bias_rule, docs/uncertainty.md,
- * "Bias round on long logs"): the least-squares bias falls like 1/n while
- * the bootstrap spread falls like 1/sqrt(n), so the share of the interval
- * the bias moves falls like 1/sqrt(n) and its effect on coverage like 1/n,
- * while every model-based replicate regenerates the whole log (cost n).
- * In the calibration the correction changed nothing measurable from 5,000
- * samples on. */
-#define EL_BOOT_BIAS_FULL_PAIRS 5000
-
-/* The bias round for a log of n_pairs snapshot pairs: replicates
- * B(n) = 200 for n <= EL_BOOT_BIAS_FULL_PAIRS, else
- * floor(200 (EL_BOOT_BIAS_FULL_PAIRS / n)^2), and the weight B / 200 the
- * measured bias is applied with. The round's cost B(n) n is at most
- * 200 EL_BOOT_BIAS_FULL_PAIRS regenerated pairs, falls like 1/n above it
- * and reaches zero (B = 0: no round) above about 70,700 pairs; adjacent n
- * differ by at most one replicate and 1/200 of weight (no cliff). Can't
- * fail. */
-typedef struct {
-    size_t replicates;            /* model-based replicates; 0 = no bias round */
-    double weight;                /* 0..1: share of the measured bias applied */
-} el_boot_bias_plan;
-
-el_boot_bias_plan el_boot_bias_rule(size_t n_pairs);
-
-/* The factor by which the moving-block replicates of one quantity are
- * widened about their median, given that quantity's spread (IQR / 1.349)
- * among the bias round's n_model accepted model-based replicates, its
- * spread among the block replicates, and the round's weight
- * (el_boot_bias_rule; the run passes it times el_boot_growth_weight of
- * the quantity's mode): 1 + weight (f - 1) with f = model / blocks when
- * f > 1, else 1; also 1 with fewer than 20 model replicates (too noisy a
- * spread to widen by) or a non-finite or non-positive spread. Never
- * narrows; continuous in the weight, so bounds do not jump where the round
- * starts to taper. Pure function. */
-double el_boot_widen_factor(double model_spread, double blocks_spread, double weight,
-                            size_t n_model);
-
-/* Growth over the log, in e-foldings (Re lambda of a mode times the log's
- * duration), below which the widening of el_boot_widen_factor applies in
- * full, and from which it does not apply at all (linear in between). On a
- * log that grows, the model-based replicates regenerate the whole growth
- * from its first state, and the size of the growth's envelope (the
- * regressors' sum of squares, which sets the estimate's precision) then
- * differs from replicate to replicate by orders of magnitude: their spread
- * is that of the estimate over every envelope the model could have made,
- * while the log has one. Conditional on it (the explosive autoregression's
- * estimate is mixed normal: Anderson 1959, Ann. Math. Statist. 30(3);
- * recalled from memory) the pairs' spread is the right one, and widening
- * to the model-based spread over-covered (spiral source, 5,000 samples,
- * least squares: 0.969 on 480 fresh logs, bounds 15 % too wide;
- * docs/uncertainty.md, "Growing logs"). The ends are a rule of thumb: a
- * log that starts at rest and grows by c e-foldings has an expected sum
- * of squares (e^(2c) - 1 - 2c) / (2 c^2) times a random walk's: 2.2 at
- * c = 1, still near a unit root (where the estimate given the envelope is
- * not normal and the model-based spread is the better one), 22 at c = 3,
- * where the growth dominates. */
-#define EL_BOOT_GROWTH_WIDEN_FULL 1.0
-#define EL_BOOT_GROWTH_WIDEN_NONE 3.0
-
-/* The share (0..1) of the widening (el_boot_widen_factor's weight) a
- * quantity keeps when the mode it belongs to grows by efolds e-foldings
- * over the log: 1 up to EL_BOOT_GROWTH_WIDEN_FULL (every decaying mode),
- * 0 from EL_BOOT_GROWTH_WIDEN_NONE, linear in between, so bounds do not
- * jump where a log starts to count as growing; 1 for a non-finite efolds
- * (the widening as before). Pure function. */
-double el_boot_growth_weight(double efolds);
 
 /* Default el_boot_options.wide_states: above the IV_MAX_ROWS = 120 rows
  * the automatic horizon builds, so only logs of about 128 channels or
