@@ -52,69 +52,71 @@ static el_interval percentile_interval(double *v, size_t n, double level)
 }
 
 /* ------------------------------------------------------------------ */
-/* Growing modes: symmetric bounds. */
+/* Growing modes: reflected bounds. */
 
-double el_boot_symmetric_weight(double efolds)
+double el_boot_reflect_weight(double efolds)
 {
-    if (!isfinite(efolds) || efolds <= EL_BOOT_SYMMETRIC_FROM)
+    if (!isfinite(efolds) || efolds <= EL_BOOT_REFLECT_FROM)
         return 0.0;
-    if (efolds >= EL_BOOT_SYMMETRIC_FULL)
+    if (efolds >= EL_BOOT_REFLECT_FULL)
         return 1.0;
-    return (efolds - EL_BOOT_SYMMETRIC_FROM) / (EL_BOOT_SYMMETRIC_FULL - EL_BOOT_SYMMETRIC_FROM);
+    return (efolds - EL_BOOT_REFLECT_FROM) / (EL_BOOT_REFLECT_FULL - EL_BOOT_REFLECT_FROM);
 }
 
-/* The symmetric bootstrap interval (Hall 1988, J. R. Statist. Soc. B
- * 50(1); recalled from memory) about the median c of the finite values of
- * v[0..n): c -+ xi, xi the level quantile of |v_i - c|. v is reordered. */
-static el_interval symmetric_interval(double *v, size_t n, double level)
+/* The median of the finite values of v[0..n) (reordered); NaN when none. */
+static double finite_median(double *v, size_t n)
 {
     size_t k = 0;
     for (size_t i = 0; i < n; i++)
         if (isfinite(v[i]))
             v[k++] = v[i];
-    el_interval out = { NAN, NAN };
     if (k == 0)
-        return out;
+        return NAN;
     qsort(v, k, sizeof(double), cmp_double);
-    double c = el_boot_quantile(v, k, 0.5);
-    for (size_t i = 0; i < k; i++)
-        v[i] = fabs(v[i] - c);
-    qsort(v, k, sizeof(double), cmp_double);
-    double xi = el_boot_quantile(v, k, level);
-    out.lo = c - xi;
-    out.hi = c + xi;
-    return out;
+    return el_boot_quantile(v, k, 0.5);
 }
 
-/* A mode growing by more than EL_BOOT_SYMMETRIC_FROM e-foldings over the
- * log. Its estimate is then a mixed normal, normal given the growth's
- * envelope (Anderson 1959, Ann. Math. Statist. 30(3); recalled from
- * memory) and so symmetric about the truth, while its replicates can be
- * skewed (resampled pairs of an explosive log, and two growing roots
- * close together, make the replicate eigenvalue a curved function of the
- * resampled sums): a percentile interval then carries the replicates'
- * skew to the wrong side of the estimate. The symmetric interval keeps
- * the replicates' spread and drops their skew. Re and decay-rate bounds of
- * such a mode are blended toward it with el_boot_symmetric_weight; the
- * bounds of a decaying or slowly growing mode stay as they are, bit for
- * bit. v: n_ok doubles of scratch. */
-static void symmetric_growing(const el_modes *point, const double *re, size_t n_ok,
-                              double level, double duration_s, double *v, el_boot_result *res)
+/* A real mode growing by more than EL_BOOT_REFLECT_FROM e-foldings over
+ * the log. Given the growth's envelope its estimate is close to normal (an
+ * explosive autoregression's least-squares estimate is mixed normal:
+ * Anderson 1959, Ann. Math. Statist. 30(3); recalled from memory), and
+ * resampled pairs keep the envelope; what skew is left comes from the
+ * eigenvalue being a curved function of the estimated matrix (two growing
+ * roots close together, a growing and a decaying root of one matrix),
+ * (a real root of a 2 x 2 block is m +- sqrt(D) / 2: curved in the
+ * discriminant D, whereas a pair's Re is the smooth mean m, whose
+ * replicates show no skew; pairs keep the percentile form), and the
+ * replicates reproduce that skew with the same sign (to first
+ * order the bootstrap copies the law of a smooth function: Hall 1988,
+ * Ann. Statist. 16(3); recalled from memory). The percentile interval
+ * then puts the long tail on the wrong side of the estimate; the basic
+ * (reflected) interval [2 c - q_hi, 2 c - q_lo] about the replicates'
+ * centre c (their median: after recentre the bias-corrected estimate)
+ * puts it on the right one (Davison & Hinkley 1997, Bootstrap Methods and
+ * their Application, sec. 5.2; recalled from memory). Re and decay-rate
+ * bounds of such a mode are blended toward it with el_boot_reflect_weight;
+ * a decaying or slowly growing mode keeps its bounds bit for bit
+ * (stationary logs keep the percentile form, whose cells are calibrated
+ * as they are). v: n_ok doubles of scratch. */
+static void reflect_growing(const el_modes *point, const double *re, size_t n_ok,
+                            double duration_s, double *v, el_boot_result *res)
 {
     size_t nm = point->n_modes;
     for (size_t q = 0; q < nm && duration_s > 0.0; q++) {
         const el_mode *md = &point->modes[q];
-        double g = el_boot_symmetric_weight(md->lambda_re * duration_s);
-        if (md->instantaneous || !(g > 0.0))
+        double g = el_boot_reflect_weight(md->lambda_re * duration_s);
+        el_mode_bounds *b = &res->bounds[q];
+        if (md->pair || md->instantaneous || !(g > 0.0) || !isfinite(b->re.lo)
+            || !isfinite(b->re.hi))
             continue;
         for (size_t i = 0; i < n_ok; i++)
             v[i] = re[i * nm + q];
-        el_interval s = symmetric_interval(v, n_ok, level);
-        el_mode_bounds *b = &res->bounds[q];
-        if (!isfinite(s.lo) || !isfinite(s.hi))
+        double c = finite_median(v, n_ok);
+        if (!isfinite(c))
             continue;
-        b->re.lo = (1.0 - g) * b->re.lo + g * s.lo;
-        b->re.hi = (1.0 - g) * b->re.hi + g * s.hi;
+        double lo = 2.0 * c - b->re.hi, hi = 2.0 * c - b->re.lo;
+        b->re.lo = (1.0 - g) * b->re.lo + g * lo;
+        b->re.hi = (1.0 - g) * b->re.hi + g * hi;
         b->decay_rate.lo = -b->re.hi;
         b->decay_rate.hi = -b->re.lo;
     }
@@ -472,7 +474,7 @@ el_status el_boot_summarise(const el_boot_records *sh, const el_modes *point,
         b->re_pair_mean = none;
         b->re_double_root = none;
     }
-    symmetric_growing(point, res->lambda_re, n_ok, level, sh->duration_s, v, res);
+    reflect_growing(point, res->lambda_re, n_ok, sh->duration_s, v, res);
     for (size_t q = 0; q < nm; q++)
         res->bounds[q].re_own = res->bounds[q].re;
     widen_repeated_roots(point, res->lambda_re, res->lambda_im, n_ok, level, v, res);
