@@ -1038,7 +1038,10 @@ static el_status hankel_boot_run(const el_series *series, const el_fit_options *
         result->n_modes = modes->n_modes;
         el_boot_records r = { b.total, b.n_modes, b.has_plane, b.ok, b.amb, b.stable,
                               b.mode_re, b.mode_im, b.trace, b.det, b.mode_disc,
-                              (double)(series->n_samples - 1) * model->dt };
+                              0.0 /* percentile bounds on growing logs too: the
+                                     block replicates' skew is not the estimate's
+                                     (docs/uncertainty.md, "Bounds at a Jordan
+                                     block and on growing modes") */ };
         st = el_boot_summarise(&r, modes, opt->level, result, err);
         result->setup_seconds = t1 - t0;
         result->replicate_seconds = wall_seconds() - t1;
