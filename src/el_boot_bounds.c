@@ -48,6 +48,77 @@ static el_interval percentile_interval(double *v, size_t n, double level)
 }
 
 /* ------------------------------------------------------------------ */
+/* Growing modes: reflected bounds. */
+
+double el_boot_reflect_weight(double efolds)
+{
+    if (!isfinite(efolds) || efolds <= EL_BOOT_REFLECT_FROM)
+        return 0.0;
+    if (efolds >= EL_BOOT_REFLECT_FULL)
+        return 1.0;
+    return (efolds - EL_BOOT_REFLECT_FROM) / (EL_BOOT_REFLECT_FULL - EL_BOOT_REFLECT_FROM);
+}
+
+/* The median of the finite values of v[0..n) (reordered); NaN when none. */
+static double finite_median(double *v, size_t n)
+{
+    size_t k = 0;
+    for (size_t i = 0; i < n; i++)
+        if (isfinite(v[i]))
+            v[k++] = v[i];
+    if (k == 0)
+        return NAN;
+    qsort(v, k, sizeof(double), cmp_double);
+    return el_boot_quantile(v, k, 0.5);
+}
+
+/* A real mode growing by more than EL_BOOT_REFLECT_FROM e-foldings over
+ * the log. Given the growth's envelope its estimate is close to normal (an
+ * explosive autoregression's least-squares estimate is mixed normal:
+ * Anderson 1959, Ann. Math. Statist. 30(3); recalled from memory), and
+ * resampled pairs keep the envelope; what skew is left comes from the
+ * eigenvalue being a curved function of the estimated matrix (two growing
+ * roots close together, a growing and a decaying root of one matrix),
+ * (a real root of a 2 x 2 block is m +- sqrt(D) / 2: curved in the
+ * discriminant D, whereas a pair's Re is the smooth mean m, whose
+ * replicates show no skew; pairs keep the percentile form), and the
+ * replicates reproduce that skew with the same sign (to first
+ * order the bootstrap copies the law of a smooth function: Hall 1988,
+ * Ann. Statist. 16(3); recalled from memory). The percentile interval
+ * then puts the long tail on the wrong side of the estimate; the basic
+ * (reflected) interval [2 c - q_hi, 2 c - q_lo] about the replicates'
+ * centre c (their median: after recentre the bias-corrected estimate)
+ * puts it on the right one (Davison & Hinkley 1997, Bootstrap Methods and
+ * their Application, sec. 5.2; recalled from memory). Re and decay-rate
+ * bounds of such a mode are blended toward it with el_boot_reflect_weight;
+ * a decaying or slowly growing mode keeps its bounds bit for bit
+ * (stationary logs keep the percentile form, whose cells are calibrated
+ * as they are). v: n_ok doubles of scratch. */
+static void reflect_growing(const el_modes *point, const double *re, size_t n_ok,
+                            double duration_s, double *v, el_boot_result *res)
+{
+    size_t nm = point->n_modes;
+    for (size_t q = 0; q < nm && duration_s > 0.0; q++) {
+        const el_mode *md = &point->modes[q];
+        double g = el_boot_reflect_weight(md->lambda_re * duration_s);
+        el_mode_bounds *b = &res->bounds[q];
+        if (md->pair || md->instantaneous || !(g > 0.0) || !isfinite(b->re.lo)
+            || !isfinite(b->re.hi))
+            continue;
+        for (size_t i = 0; i < n_ok; i++)
+            v[i] = re[i * nm + q];
+        double c = finite_median(v, n_ok);
+        if (!isfinite(c))
+            continue;
+        double lo = 2.0 * c - b->re.hi, hi = 2.0 * c - b->re.lo;
+        b->re.lo = (1.0 - g) * b->re.lo + g * lo;
+        b->re.hi = (1.0 - g) * b->re.hi + g * hi;
+        b->decay_rate.lo = -b->re.hi;
+        b->decay_rate.hi = -b->re.lo;
+    }
+}
+
+/* ------------------------------------------------------------------ */
 /* A possible repeated root. */
 
 /* Two real point modes' replicate values come from one complex pair when
@@ -83,6 +154,15 @@ static size_t nearest_real(const el_modes *point, size_t q)
         }
     }
     return best;
+}
+
+/* The number of replicates in which a pair must merge (or split) for the
+ * data not to exclude a double root: EL_BOOT_REPEATED_TAIL (1 - level) of
+ * them, at least one. Less one part in 1e12: 0.1 x 0.05 x 400 is 2 + 4e-16
+ * in doubles. */
+static double repeated_need(double level, size_t n_ok)
+{
+    return fmax(1.0, EL_BOOT_REPEATED_TAIL * (1.0 - level) * (double)n_ok * (1.0 - 1e-12));
 }
 
 /* Extends one mode's Re, decay-rate and damping-ratio bounds by the pair
@@ -129,9 +209,7 @@ static void widen_repeated_roots(const el_modes *point, const double *re, const 
                                  size_t n_ok, double level, double *v, el_boot_result *res)
 {
     size_t nm = point->n_modes;
-    /* Less one part in 1e12: 0.1 x 0.05 x 400 is 2 + 4e-16 in doubles. */
-    double need = fmax(1.0, EL_BOOT_REPEATED_TAIL * (1.0 - level) * (double)n_ok
-                                * (1.0 - 1e-12));
+    double need = repeated_need(level, n_ok);
     for (size_t q = 0; q < nm; q++) {
         if (!repeat_candidate(&point->modes[q]))
             continue;
@@ -158,10 +236,128 @@ static void widen_repeated_roots(const el_modes *point, const double *re, const 
     }
 }
 
+/* IQR / 1.349 of the finite values of v[0..n) (reordered): the standard
+ * deviation for a normal law, unmoved by a few far values; 0 when fewer
+ * than two. */
+static double robust_spread(double *v, size_t n)
+{
+    size_t k = 0;
+    for (size_t i = 0; i < n; i++)
+        if (isfinite(v[i]))
+            v[k++] = v[i];
+    if (k < 2)
+        return 0.0;
+    qsort(v, k, sizeof(double), cmp_double);
+    return (el_boot_quantile(v, k, 0.75) - el_boot_quantile(v, k, 0.25)) / 1.349;
+}
+
+/* The regression slope of y on x over n records (stride, offset) from
+ * robust scales: s_y rho / s_x, with rho by Gnanadesikan and Kettenring
+ * (1972, Biometrics 28(1); recalled from memory) from the spreads of the
+ * standardised sum and difference, (s_u^2 - s_v^2) / (s_u^2 + s_v^2) for
+ * u, v = y / s_y +- x / s_x, every spread robust_spread. A replicate whose
+ * pair split into a far real root has a discriminant and a mean far out
+ * (both grow with the split); a least-squares slope would follow those few
+ * and miss the linear relation of the rest. 0 when a spread is 0. w: n
+ * doubles of scratch. */
+static double robust_slope(const double *y, const double *x, size_t n, size_t stride,
+                           size_t off, double *w)
+{
+    for (size_t i = 0; i < n; i++)
+        w[i] = y[i * stride + off];
+    double sy = robust_spread(w, n);
+    for (size_t i = 0; i < n; i++)
+        w[i] = x[i * stride + off];
+    double sx = robust_spread(w, n);
+    if (!(sy > 0.0) || !(sx > 0.0))
+        return 0.0;
+    for (size_t i = 0; i < n; i++)
+        w[i] = y[i * stride + off] / sy + x[i * stride + off] / sx;
+    double su = robust_spread(w, n);
+    for (size_t i = 0; i < n; i++)
+        w[i] = y[i * stride + off] / sy - x[i * stride + off] / sx;
+    double sv = robust_spread(w, n);
+    double den = su * su + sv * sv;
+    return den > 0.0 ? sy * (su * su - sv * sv) / den / sx : 0.0;
+}
+
+/* A point pair at a possible double real root. Its replicate Re is the
+ * mean m of its two slots, a smooth function of the model matrix, and its
+ * bounds cover the mean over all logs; but at a Jordan block the
+ * discriminant D = (lambda_1 - lambda_2)^2, also smooth (to first order
+ * linear in the matrix's error), is correlated with m, and the logs whose
+ * estimate is a pair (D < 0) are those whose m came out on one side.
+ * Given a double root (D = 0) the estimate of the root with that
+ * correlation removed is m - beta D, beta the regression slope of m on D
+ * (a control variate; both are functions of the same matrix error, so the
+ * slope is the replicates', robust_slope, consistent since m and D are
+ * smooth); it is
+ * uncorrelated with D, so its bounds hold whatever the sign of the
+ * estimate's D. When the replicates split the pair into two reals in at
+ * least the share of the repeated-root rule for merging (the data cannot
+ * exclude D = 0 at that tail) the pair's Re bounds are extended to the
+ * percentile bounds of m* - beta (D* - median D*) - beta D_hat over the
+ * replicates (D_hat = -4 Im^2 of the point pair), its decay rate alike,
+ * its damping ratio to 1 (or -1) and its Im and frequency down to 0.
+ * disc: n_ok x nm discriminants in replicate order; v, w: n_ok doubles. */
+static void widen_split_pairs(const el_modes *point, const double *re, const double *disc,
+                              size_t n_ok, double level, double need, double *v, double *w,
+                              el_boot_result *res)
+{
+    size_t nm = point->n_modes;
+    for (size_t q = 0; q < nm; q++) {
+        const el_mode *md = &point->modes[q];
+        if (!md->pair || md->at_nyquist || md->instantaneous || !isfinite(md->lambda_re))
+            continue;
+        size_t split = 0, k = 0;
+        for (size_t i = 0; i < n_ok; i++) {
+            double d = disc[i * nm + q];
+            split += (size_t)(d >= 0.0);
+            if (isfinite(d))
+                w[k++] = d;
+        }
+        el_mode_bounds *b = &res->bounds[q];
+        b->split_fraction = (double)split / (double)n_ok;
+        if (split == 0 || k == 0)
+            continue;
+        qsort(w, k, sizeof(double), cmp_double);
+        double d_med = el_boot_quantile(w, k, 0.5);
+        double d_hat = -4.0 * md->lambda_im * md->lambda_im;
+        double beta = robust_slope(re, disc, n_ok, nm, q, w);
+        b->double_root_slope = beta;
+        for (size_t i = 0; i < n_ok; i++) {
+            double d = disc[i * nm + q];
+            v[i] = re[i * nm + q] - beta * ((isfinite(d) ? d - d_med : 0.0) + d_hat);
+        }
+        el_interval root = percentile_interval(v, n_ok, level);
+        b->re_double_root = root;
+        if ((double)split < need || !isfinite(root.lo) || !isfinite(root.hi))
+            continue;
+        b->repeated_partner = q;
+        b->re_pair_mean = root;
+        extend_by_mean(b);
+        b->im.lo = fmin(b->im.lo, 0.0);
+        b->frequency_hz.lo = fmin(b->frequency_hz.lo, 0.0);
+    }
+}
+
 el_status el_boot_warn_repeated(const el_boot_result *res, el_warnings *w, el_error *err)
 {
     for (size_t q = 0; res->bounds != NULL && q < res->n_modes; q++) {
         const el_mode_bounds *b = &res->bounds[q];
+        if (b->repeated_root && b->repeated_partner == q) {
+            /* A point pair (widen_split_pairs). */
+            el_status st = el_warnings_add(
+                w,
+                "mode %zu (a complex pair) may be one repeated real root (two real roots "
+                "in %.1f%% of the bootstrap replicates): its Re bounds also hold those of "
+                "the double root, %.4g to %.4g",
+                q + 1, 100.0 * b->split_fraction, b->re_double_root.lo,
+                b->re_double_root.hi);
+            if (st != EL_OK)
+                return el_error_set(err, st, "out of memory for a warning");
+            continue;
+        }
         if (!b->repeated_root || b->repeated_partner <= q)
             continue; /* each pair once */
         el_status st = el_warnings_add(
@@ -213,13 +409,18 @@ el_status el_boot_summarise(const el_boot_records *sh, const el_modes *point,
     res->lambda_re = malloc(n_ok * nm * sizeof(double));
     res->lambda_im = malloc(n_ok * nm * sizeof(double));
     double *v = malloc(n_ok * sizeof(double));
+    double *disc = sh->mode_disc != NULL ? malloc(n_ok * nm * sizeof(double)) : NULL;
+    double *w = sh->mode_disc != NULL ? malloc(n_ok * sizeof(double)) : NULL;
     if (sh->has_plane) {
         res->trace_samples = malloc(n_ok * sizeof(double));
         res->det_samples = malloc(n_ok * sizeof(double));
     }
     if (!res->bounds || !res->lambda_re || !res->lambda_im || !v
+        || (sh->mode_disc != NULL && (!disc || !w))
         || (sh->has_plane && (!res->trace_samples || !res->det_samples))) {
         free(v);
+        free(disc);
+        free(w);
         return el_error_set(err, EL_ERR_NOMEM, "out of memory (bootstrap result)");
     }
     size_t k = 0;
@@ -228,6 +429,8 @@ el_status el_boot_summarise(const el_boot_records *sh, const el_modes *point,
             continue;
         memcpy(res->lambda_re + k * nm, sh->mode_re + i * nm, nm * sizeof(double));
         memcpy(res->lambda_im + k * nm, sh->mode_im + i * nm, nm * sizeof(double));
+        if (disc != NULL)
+            memcpy(disc + k * nm, sh->mode_disc + i * nm, nm * sizeof(double));
         if (sh->has_plane) {
             res->trace_samples[k] = sh->trace[i];
             res->det_samples[k] = sh->det[i];
@@ -264,10 +467,18 @@ el_status el_boot_summarise(const el_boot_records *sh, const el_modes *point,
             b->damping_ratio = none;
             b->decay_rate = none;
         }
-        b->re_own = b->re;
         b->re_pair_mean = none;
+        b->re_double_root = none;
     }
+    reflect_growing(point, res->lambda_re, n_ok, sh->duration_s, v, res);
+    for (size_t q = 0; q < nm; q++)
+        res->bounds[q].re_own = res->bounds[q].re;
     widen_repeated_roots(point, res->lambda_re, res->lambda_im, n_ok, level, v, res);
+    if (disc != NULL)
+        widen_split_pairs(point, res->lambda_re, disc, n_ok, level, repeated_need(level, n_ok),
+                          v, w, res);
+    free(disc);
+    free(w);
     if (sh->has_plane) {
         double scale = 0.0;
         for (size_t q = 0; q < nm; q++) {

@@ -34,6 +34,17 @@ typedef struct {
                                      merged_fraction is 0) */
     el_interval re_own;           /* the mode's own percentile bounds of Re lambda
                                      (== re unless repeated_root widened them) */
+    /* A point pair that may be one repeated real root (el_boot_summarise):
+     * split_fraction is the share of replicates in which its two slots were
+     * two real roots (0 for a real mode, or when the records keep no
+     * discriminants); re_double_root the bounds of the double root read
+     * from the replicates' slot mean and discriminant (NaN when none was
+     * computed). repeated_root is then 1 with repeated_partner the mode
+     * itself, and re, decay_rate and damping_ratio also hold re_double_root. */
+    double split_fraction;
+    el_interval re_double_root;
+    double double_root_slope;     /* the slope of the slot mean on the discriminant
+                                     over the replicates (0 when not computed) */
 } el_mode_bounds;
 
 /* The share of (1 - level) at which the replicates are taken not to
@@ -43,6 +54,23 @@ typedef struct {
  * whose pair is not widened loses its coverage outright, so the test must
  * pass on nearly every such log (docs/uncertainty.md, "Repeated roots"). */
 #define EL_BOOT_REPEATED_TAIL 0.1
+
+/* A real mode that grows by c = Re lambda x duration e-foldings over the
+ * log (its point estimate) gets basic (reflected) bounds about the replicates'
+ * median (el_boot_summarise) in full from c = EL_BOOT_REFLECT_FULL,
+ * percentile bounds up to c = EL_BOOT_REFLECT_FROM, and the linear blend
+ * of the two between (no jump). The ends as el_boot_growth_weight's: up
+ * to one e-folding the log is still near a unit root (stationary logs
+ * keep their bounds bit for bit); from three the growth dominates
+ * (docs/uncertainty.md, "Bounds at a Jordan block and on growing
+ * modes"). */
+#define EL_BOOT_REFLECT_FROM 1.0
+#define EL_BOOT_REFLECT_FULL 3.0
+
+/* The share of the reflected form in a mode's Re bounds for a growth of
+ * efolds e-foldings over the log (EL_BOOT_REFLECT_FROM/FULL): 0 up to
+ * FROM (and for a non-finite argument), 1 from FULL, linear between. */
+double el_boot_reflect_weight(double efolds);
 
 typedef struct el_boot_result {
     size_t replicates;            /* replicates that gave a model */
@@ -97,6 +125,12 @@ typedef struct {
     int has_plane;
     const unsigned char *ok, *amb, *stable;
     const double *mode_re, *mode_im, *trace, *det;
+    const double *mode_disc;      /* total x n_modes: each point pair's discriminant
+                                     (el_boot_match_discriminants), NaN for real modes;
+                                     NULL when the run keeps none */
+    double duration_s;            /* the log's length in time (pairs x dt), for the
+                                     form of a growing mode's bounds; 0: not known
+                                     (percentile bounds for every mode) */
 } el_boot_records;
 
 /* Fills res (replicates, failed_replicates, ambiguous_matches, p_stable,
@@ -113,7 +147,15 @@ typedef struct {
  * (re_q + re_p) / 2 over the replicates (decay rate and damping ratio
  * alike; repeated_root, repeated_partner, re_own): the bootstrap of
  * either root is not consistent at a double root, that of their mean is
- * (docs/uncertainty.md, "Repeated roots"). Point estimates, the matched
+ * (docs/uncertainty.md, "Repeated roots"). A point pair whose two slots
+ * were two real roots in as many replicates (records->mode_disc given)
+ * gets Re bounds that also hold those of the double root read through
+ * its discriminant (a control variate: split_fraction, re_double_root,
+ * double_root_slope). A real mode growing by more than
+ * EL_BOOT_REFLECT_FROM e-foldings over records->duration_s gets basic
+ * (reflected) Re and decay-rate bounds about the replicates' median,
+ * blended by el_boot_reflect_weight (docs/uncertainty.md, "Bounds at a
+ * Jordan block and on growing modes"). Point estimates, the matched
  * replicates and p_stable are not changed. Errors: EL_ERR_NUMERIC when
  * fewer than half of the replicates gave a model; EL_ERR_NOMEM. */
 el_status el_boot_summarise(const el_boot_records *records, const el_modes *point,
@@ -123,8 +165,10 @@ el_status el_boot_summarise(const el_boot_records *records, const el_modes *poin
  * el_boot_summarise widened for a possible repeated root (repeated_root):
  * which modes (numbered from 1, as in the reports), in what share of the
  * replicates they were one complex pair, and the bounds of their mean Re
- * that each mode's Re bounds now hold. Nothing when no bounds were widened
- * or res holds no bounds. Errors: EL_ERR_NOMEM. */
+ * that each mode's Re bounds now hold; for a point pair so widened, the
+ * share of replicates in which it split into two reals and the double
+ * root's bounds. Nothing when no bounds were widened or res holds no
+ * bounds. Errors: EL_ERR_NOMEM. */
 el_status el_boot_warn_repeated(const el_boot_result *res, el_warnings *w, el_error *err);
 
 /* Judging a coverage study (bench/calibrate.c, tests/test_coverage.c):

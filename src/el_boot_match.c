@@ -425,3 +425,18 @@ size_t el_boot_matched_mode(const el_boot_matcher *m, size_t j)
             return m->slot_mode[i];
     return 0;
 }
+
+void el_boot_match_discriminants(const el_boot_matcher *m, double *disc)
+{
+    for (size_t q = 0; q < m->n_modes; q++)
+        disc[q] = NAN;
+    /* A pair's two slots are consecutive rows (el_boot_matcher_create). */
+    for (size_t i = 0; i + 1 < m->n; i++) {
+        if (m->slot_mode[i] != m->slot_mode[i + 1])
+            continue;
+        size_t j1 = m->best[i], j2 = m->best[i + 1];
+        double dre = m->fre[j1] - m->fre[j2], sim = m->fim[j1] + m->fim[j2];
+        disc[m->slot_mode[i]] = dre * dre - sim * sim;
+        i++;
+    }
+}

@@ -43,4 +43,15 @@ int el_boot_match(el_boot_matcher *matcher, const double *lambda_re,
  * eigenvalue (column) j; 0 when none. */
 size_t el_boot_matched_mode(const el_boot_matcher *matcher, size_t j);
 
+/* The discriminant (z_1 - z_2)^2 of the two replicate eigenvalues that the
+ * last el_boot_match gave each point pair's two slots, from their folded
+ * values (Re z_1 - Re z_2)^2 - (Im z_1 + Im z_2)^2: (r_1 - r_2)^2 >= 0 when
+ * the pair split into two reals r_1, r_2, -4 b^2 when it stayed one pair
+ * a +- i b (whose conjugates fold onto the same slot value). With the
+ * slots' mean (el_boot_match's mode_re) it gives a replicate's two roots;
+ * unlike the roots, both are smooth functions of the model matrix at a
+ * double root (docs/uncertainty.md, "Bounds at a Jordan block"). disc
+ * (n_modes) gets NaN for a real mode (one slot). Cannot fail. */
+void el_boot_match_discriminants(const el_boot_matcher *matcher, double *disc);
+
 #endif

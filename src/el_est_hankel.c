@@ -643,6 +643,8 @@ typedef struct {
     uint64_t seed;
     unsigned char *ok, *amb, *stable;
     double *mode_re, *mode_im;
+    double *mode_disc;            /* total x n_modes: each point pair's discriminant
+                                     (el_boot_match_discriminants) */
     int has_plane;                /* a two-state model: trace and determinant */
     double *trace, *det;
     atomic_size_t next;
@@ -801,6 +803,7 @@ static void run_replicate(hk_worker *w, size_t rep)
     b->ok[rep] = (unsigned char)!fail;
     if (fail)
         return;
+    el_boot_match_discriminants(w->matcher, b->mode_disc + rep * b->n_modes);
     b->amb[rep] = (unsigned char)amb;
     double top = -INFINITY;
     for (size_t q = 0; q < b->n_point; q++)
@@ -986,7 +989,7 @@ static el_status hankel_boot_run(const el_series *series, const el_fit_options *
     double *cells = malloc(b.n_cells * b.rec * sizeof(double));
     double *pts = malloc(2 * model->rank * sizeof(double));
     unsigned char *flags = calloc(3 * b.total, 1);
-    double *rec = malloc((2 * b.n_modes + 2) * b.total * sizeof(double) + 1);
+    double *rec = malloc((3 * b.n_modes + 2) * b.total * sizeof(double) + 1);
     if (st == EL_OK && (!cells || !pts || !flags || !rec))
         st = el_error_set(err, EL_ERR_NOMEM, "out of memory (hankel bootstrap)");
     for (size_t c = 0; st == EL_OK && c < b.n_cells; c++) {
@@ -1024,6 +1027,7 @@ static el_status hankel_boot_run(const el_series *series, const el_fit_options *
         b.has_plane = model->state_dim == 2 && model->rank == 2;
         b.trace = rec + 2 * b.n_modes * b.total;
         b.det = b.trace + b.total;
+        b.mode_disc = b.det + b.total;
         st = boot_replicates(&b, opt, &threads, err);
     }
     if (st == EL_OK) {
@@ -1033,7 +1037,11 @@ static el_status hankel_boot_run(const el_series *series, const el_fit_options *
         result->seed = opt->seed;
         result->n_modes = modes->n_modes;
         el_boot_records r = { b.total, b.n_modes, b.has_plane, b.ok, b.amb, b.stable,
-                              b.mode_re, b.mode_im, b.trace, b.det };
+                              b.mode_re, b.mode_im, b.trace, b.det, b.mode_disc,
+                              0.0 /* percentile bounds on growing logs too: the
+                                     block replicates' skew is not the estimate's
+                                     (docs/uncertainty.md, "Bounds at a Jordan
+                                     block and on growing modes") */ };
         st = el_boot_summarise(&r, modes, opt->level, result, err);
         result->setup_seconds = t1 - t0;
         result->replicate_seconds = wall_seconds() - t1;

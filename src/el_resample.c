@@ -106,6 +106,8 @@ typedef struct {
     /* per replicate, written by exactly one thread */
     unsigned char *ok, *amb, *stable;
     double *mode_re, *mode_im, *trace, *det;
+    double *mode_disc;            /* n_modes per replicate: each point pair's discriminant
+                                     (el_boot_match_discriminants; NaN for real modes) */
     double *eig_re;               /* r per replicate: Re lambda of each eigenvalue,
                                      bias-shifted, for P(stable) after the recentring */
     size_t *eig_mode;             /* r per replicate: its matched point mode */
@@ -416,6 +418,7 @@ static void finish_replicate(boot_worker *w, size_t rep, int fail)
         return;
     sh->amb[rep] = (unsigned char)amb;
     sh->stable[rep] = (unsigned char)(max_re < 0.0);
+    el_boot_match_discriminants(w->matcher, sh->mode_disc + rep * nm);
     for (size_t j = 0; j < sh->r; j++) {
         size_t q = el_boot_matched_mode(w->matcher, j);
         sh->eig_mode[rep * sh->r + j] = q;
@@ -563,7 +566,8 @@ static el_status summarise(const boot_shared *sh, const el_modes *point,
                            el_error *err)
 {
     el_boot_records rec = { sh->total, sh->n_modes, sh->has_plane, sh->ok, sh->amb,
-                            sh->stable, sh->mode_re, sh->mode_im, sh->trace, sh->det };
+                            sh->stable, sh->mode_re, sh->mode_im, sh->trace, sh->det,
+                            sh->mode_disc, (double)sh->m * sh->dt };
     return el_boot_summarise(&rec, point, opt->level, res, err);
 }
 
@@ -1411,7 +1415,7 @@ el_status el_boot_run(const el_series *series, const el_fit_options *opt_fit,
         sh.batch = opt->kind == EL_RESAMPLE_BLOCKS && el_boot_engine_is_wide(sh.engine)
                        ? EL_BOOT_MAX_BATCH : 1;
         bf.flags = calloc(3 * total, 1);
-        bf.rec = malloc(((2 * nm + 2) * total + total * sh.r) * sizeof(double));
+        bf.rec = malloc(((3 * nm + 2) * total + total * sh.r) * sizeof(double));
         bf.eig_mode = malloc(total * sh.r * sizeof(size_t) + 1);
         size_t nt = thread_count(opt->threads, total);
         bf.workers = calloc(nt, sizeof(boot_worker));
@@ -1425,7 +1429,8 @@ el_status el_boot_run(const el_series *series, const el_fit_options *opt_fit,
             sh.mode_im = bf.rec + nm * total;
             sh.trace = bf.rec + 2 * nm * total;
             sh.det = sh.trace + total;
-            sh.eig_re = sh.det + total;
+            sh.mode_disc = sh.det + total;
+            sh.eig_re = sh.mode_disc + nm * total;
             sh.eig_mode = bf.eig_mode;
             for (size_t i = 0; i < nt && st == EL_OK; i++) {
                 st = worker_init(&bf.workers[i], &sh, modes, err);

@@ -17,6 +17,7 @@
 #include <string.h>
 
 #include "el_boot_bounds.h"
+#include "el_boot_match.h"
 #include "el_modes.h"
 #include "el_rng.h"
 
@@ -132,7 +133,7 @@ static void double_root_log(rr_fixture *f, double mh, double dh, size_t total, u
 static el_status summarise(rr_fixture *f, el_boot_result *res)
 {
     el_boot_records r = { f->total, f->nm, 0, f->ok, f->amb, f->stable,
-                          f->re, f->im, NULL, NULL };
+                          f->re, f->im, NULL, NULL, NULL, 0.0 };
     el_error err;
     el_error_clear(&err);
     memset(res, 0, sizeof *res);
@@ -356,6 +357,248 @@ static void test_double_root_coverage(void **state)
     assert_true(c_new >= 0.92 && c_new <= 0.98);
 }
 
+/* ------------------------------------------------------------------ */
+/* A point pair at the double root (widen_split_pairs): the estimate's
+ * mean m and discriminant D correlated, as at a Jordan block where both
+ * are functions of one matrix error (to first order m - a = (e11 + e22) / 2
+ * and D = 4 e21 in Jordan coordinates, correlated through the regressors'
+ * covariance; calibrate's degenerate node shows a correlation of -0.49
+ * across hankel's logs and -0.74 across iv's at 5,000 samples). */
+
+#define CV_RHO (-0.8)    /* correlation of m and D */
+#define CV_SD_DISC 0.06  /* spread of D, (1/s)^2 */
+#define CV_REPS 400
+
+typedef struct {
+    unsigned char ok[CV_REPS], amb[CV_REPS], stable[CV_REPS];
+    double re[CV_REPS], im[CV_REPS], disc[CV_REPS], ms[CV_REPS], ds[CV_REPS];
+    el_mode mode;
+    el_modes point;
+} cv_fixture;
+
+/* One correlated draw (m, D) about (m0, d0). */
+static void cv_draw(el_rng *rng, double m0, double d0, double *m, double *d)
+{
+    double z1 = el_rng_normal(rng), z2 = el_rng_normal(rng);
+    *m = m0 + RR_SD_MEAN * (CV_RHO * z1 + sqrt(1.0 - CV_RHO * CV_RHO) * z2);
+    *d = d0 + CV_SD_DISC * z1;
+}
+
+/* A log whose point is the pair (mh, dh < 0): replicates about it, recorded
+ * as the matcher records a point pair (the mean of its two slots, the
+ * folded Im, el_boot_match_discriminants' D). */
+static void cv_log(cv_fixture *f, double mh, double dh, el_rng *rng)
+{
+    memset(f, 0, sizeof *f);
+    set_mode(&f->mode, mh, 0.5 * sqrt(-dh));
+    f->point.n_modes = 1;
+    f->point.modes = &f->mode;
+    for (size_t i = 0; i < CV_REPS; i++) {
+        cv_draw(rng, mh, dh, &f->ms[i], &f->ds[i]);
+        f->re[i] = f->ms[i];
+        f->im[i] = f->ds[i] < 0.0 ? 0.5 * sqrt(-f->ds[i]) : 0.0;
+        f->disc[i] = f->ds[i];
+        f->ok[i] = 1;
+        f->stable[i] = (unsigned char)(f->re[i] < 0.0);
+    }
+}
+
+static el_status cv_summarise(cv_fixture *f, int with_disc, el_boot_result *res)
+{
+    el_boot_records r = { CV_REPS, 1, 0, f->ok, f->amb, f->stable, f->re, f->im, NULL, NULL,
+                          with_disc ? f->disc : NULL, 0.0 };
+    el_error err;
+    el_error_clear(&err);
+    memset(res, 0, sizeof *res);
+    return el_boot_summarise(&r, &f->point, RR_LEVEL, res, &err);
+}
+
+/* IQR / 1.349 of a copy of v (quantile7 sorts its argument). */
+static double iqr_sd(const double *v, size_t n)
+{
+    double w[CV_REPS];
+    memcpy(w, v, n * sizeof(double));
+    double q3 = quantile7(w, n, 0.75);
+    memcpy(w, v, n * sizeof(double));
+    return (q3 - quantile7(w, n, 0.25)) / 1.349;
+}
+
+/* One pair log against the closed form written out here: the slope of m
+ * on D from robust scales (Gnanadesikan & Kettenring 1972: rho = (s_u^2 -
+ * s_v^2) / (s_u^2 + s_v^2), u, v = m / s_m +- D / s_D), the double root's
+ * replicates m - beta (D - median D) - beta D_hat, their percentile
+ * bounds, and the pair's Re bounds extended to hold them. Tolerance 1e-12
+ * relative: the same quantiles of values that differ only by rounding
+ * in the order of a few operations. Without the discriminants (a run that
+ * keeps none) the bounds are the pair's own, bit for bit. */
+static void test_split_pair_control_variate(void **state)
+{
+    (void)state;
+    static cv_fixture f;
+    el_rng rng;
+    el_rng_seed(&rng, 20261205u, 40);
+    double mh = -0.74, dh = -0.08; /* m 2 spreads high, D 1.3 of its spreads below 0 */
+    cv_log(&f, mh, dh, &rng);
+    el_boot_result res;
+    assert_int_equal(cv_summarise(&f, 1, &res), EL_OK);
+    const el_mode_bounds *b = &res.bounds[0];
+    double sm = iqr_sd(f.ms, CV_REPS), sd = iqr_sd(f.ds, CV_REPS);
+    double u[CV_REPS], v[CV_REPS], w[CV_REPS];
+    size_t split = 0;
+    for (size_t i = 0; i < CV_REPS; i++) {
+        u[i] = f.ms[i] / sm + f.ds[i] / sd;
+        v[i] = f.ms[i] / sm - f.ds[i] / sd;
+        split += f.ds[i] >= 0.0;
+    }
+    double su = iqr_sd(u, CV_REPS), sv = iqr_sd(v, CV_REPS);
+    double beta = sm * (su * su - sv * sv) / (su * su + sv * sv) / sd;
+    memcpy(w, f.ds, sizeof w);
+    double dmed = quantile7(w, CV_REPS, 0.5);
+    for (size_t i = 0; i < CV_REPS; i++)
+        w[i] = f.ms[i] - beta * (f.ds[i] - dmed) - beta * dh;
+    double lo = quantile7(w, CV_REPS, 0.025);
+    double hi = quantile7(w, CV_REPS, 0.975);
+    memcpy(w, f.ms, sizeof w);
+    double own_lo = quantile7(w, CV_REPS, 0.025), own_hi = quantile7(w, CV_REPS, 0.975);
+    assert_true(split >= 2); /* the rule applies (0.5 % of 400) */
+    assert_close(b->double_root_slope, beta, 1e-12, 0.0);
+    assert_close(b->re_double_root.lo, lo, 1e-12, 0.0);
+    assert_close(b->re_double_root.hi, hi, 1e-12, 0.0);
+    assert_close(b->split_fraction, (double)split / CV_REPS, 1e-15, 0.0);
+    assert_int_equal(b->repeated_root, 1);
+    assert_int_equal(b->repeated_partner, 0);
+    assert_close(b->re.lo, fmin(own_lo, lo), 1e-12, 0.0);
+    assert_close(b->re.hi, fmax(own_hi, hi), 1e-12, 0.0);
+    assert_true(b->re_own.lo == own_lo && b->re_own.hi == own_hi);
+    /* The failure it mends: the own bounds exclude the double root. */
+    assert_true(own_lo > RR_TRUTH);
+    assert_true(b->re.lo <= RR_TRUTH);
+    /* A real double root is critically damped, with no frequency. */
+    assert_true(b->damping_ratio.lo <= 1.0 && 1.0 <= b->damping_ratio.hi);
+    assert_true(b->im.lo == 0.0 && b->frequency_hz.lo == 0.0);
+    /* The warning names the pair and the double root's bounds. */
+    el_warnings wl;
+    memset(&wl, 0, sizeof wl);
+    res.n_modes = 1; /* as el_boot_run sets it */
+    el_error err;
+    el_error_clear(&err);
+    assert_int_equal(el_boot_warn_repeated(&res, &wl, &err), EL_OK);
+    assert_int_equal(wl.count, 1);
+    assert_non_null(strstr(wl.items[0], "mode 1 (a complex pair) may be one repeated real root"));
+    el_warnings_free(&wl);
+    el_boot_free(&res);
+    /* No discriminants kept: the pair's own bounds. */
+    assert_int_equal(cv_summarise(&f, 0, &res), EL_OK);
+    assert_true(res.bounds[0].re.lo == own_lo && res.bounds[0].re.hi == own_hi);
+    assert_int_equal(res.bounds[0].repeated_root, 0);
+    el_boot_free(&res);
+}
+
+/* A pair whose replicates split in fewer than 0.5 % of them (one of 400)
+ * is not widened: the data exclude a double root at that tail. The double
+ * root's bounds and the split share are still kept. */
+static void test_split_pair_threshold(void **state)
+{
+    (void)state;
+    static cv_fixture f;
+    el_rng rng;
+    el_rng_seed(&rng, 20261205u, 41);
+    cv_log(&f, -0.74, -0.08, &rng);
+    /* All replicates a pair but one. */
+    size_t first = CV_REPS;
+    for (size_t i = 0; i < CV_REPS; i++)
+        if (f.disc[i] >= 0.0) {
+            if (first == CV_REPS) {
+                first = i;
+                continue;
+            }
+            f.disc[i] = f.ds[i] = -f.disc[i] - 1e-3;
+            f.im[i] = 0.5 * sqrt(-f.ds[i]);
+        }
+    assert_true(first < CV_REPS);
+    el_boot_result res;
+    assert_int_equal(cv_summarise(&f, 1, &res), EL_OK);
+    const el_mode_bounds *b = &res.bounds[0];
+    assert_close(b->split_fraction, 1.0 / CV_REPS, 1e-15, 0.0);
+    assert_int_equal(b->repeated_root, 0);
+    assert_true(b->re.lo == b->re_own.lo && b->re.hi == b->re_own.hi);
+    assert_true(isfinite(b->re_double_root.lo) && isfinite(b->re_double_root.hi));
+    el_boot_free(&res);
+}
+
+/* Coverage over the logs whose estimate is a pair with D below minus one of
+ * its spreads (an Im of 0.12 1/s and more here: calibrate's misses at
+ * 5,000 samples are such pairs), drawn until 300 of them: selected by
+ * their D, their m came out high (E[m - a | D] = rho s_m D / s_D), and the
+ * pair's own bounds cover about 0.84 (a Monte Carlo of 4,000 logs in a
+ * script of the same law: 0.843 own, 0.94 the double root's bounds, 0.95
+ * widened). The check asks the band 0.92-0.98 (issue 10's target) for the
+ * widened bounds (binomial standard error at 300 logs 0.013) and below
+ * 0.92 for the own ones, so that the fixture keeps showing the failure. */
+static void test_split_pair_coverage(void **state)
+{
+    (void)state;
+    static cv_fixture f;
+    el_rng rng;
+    el_rng_seed(&rng, 20261205u, 42);
+    size_t logs = 0, own = 0, widened = 0;
+    while (logs < 300) {
+        double mh, dh;
+        cv_draw(&rng, RR_TRUTH, 0.0, &mh, &dh);
+        if (dh >= -CV_SD_DISC)
+            continue;
+        cv_log(&f, mh, dh, &rng);
+        el_boot_result res;
+        assert_int_equal(cv_summarise(&f, 1, &res), EL_OK);
+        const el_mode_bounds *b = &res.bounds[0];
+        own += b->re_own.lo <= RR_TRUTH && RR_TRUTH <= b->re_own.hi;
+        widened += b->re.lo <= RR_TRUTH && RR_TRUTH <= b->re.hi;
+        el_boot_free(&res);
+        logs++;
+    }
+    double c_own = (double)own / (double)logs, c_new = (double)widened / (double)logs;
+    print_message("point pair at a double root: coverage %.3f own bounds, %.3f widened\n",
+                  c_own, c_new);
+    assert_true(c_own < 0.92);
+    assert_true(c_new >= 0.92 && c_new <= 0.98);
+}
+
+/* el_boot_match_discriminants against the closed form (z1 - z2)^2 of the
+ * two eigenvalues a point pair's slots received: two reals -0.7, -0.9
+ * give 0.04; a conjugate pair -0.8 +- 0.2i gives (0.4i)^2 = -0.16; a real
+ * mode has one slot and gets NaN. Tolerance 1e-15 relative (one
+ * subtraction and one product of exact inputs). */
+static void test_match_discriminants(void **state)
+{
+    (void)state;
+    el_mode modes[2];
+    set_mode(&modes[0], -0.8, 0.1);  /* a pair: two slots */
+    set_mode(&modes[1], -3.0, 0.0);  /* a real mode: one slot */
+    el_modes point;
+    memset(&point, 0, sizeof point);
+    point.n_modes = 2;
+    point.n_eigenvalues = 3;
+    point.modes = modes;
+    el_boot_matcher *m = NULL;
+    el_error err;
+    el_error_clear(&err);
+    assert_int_equal(el_boot_matcher_create(&point, &m, &err), EL_OK);
+    double re[3] = { -0.7, -3.1, -0.9 }, im[3] = { 0.0, 0.0, 0.0 };
+    double mre[2], mim[2], disc[2];
+    int amb = 0;
+    assert_int_equal(el_boot_match(m, re, im, 3, mre, mim, &amb), 0);
+    el_boot_match_discriminants(m, disc);
+    assert_close(disc[0], 0.04, 1e-15, 1e-17);
+    assert_true(isnan(disc[1]));
+    assert_close(mre[0], -0.8, 1e-15, 0.0);
+    double re2[3] = { -0.8, -0.8, -3.1 }, im2[3] = { 0.2, -0.2, 0.0 };
+    assert_int_equal(el_boot_match(m, re2, im2, 3, mre, mim, &amb), 0);
+    el_boot_match_discriminants(m, disc);
+    assert_close(disc[0], -0.16, 1e-15, 0.0);
+    assert_true(isnan(disc[1]));
+    el_boot_matcher_destroy(m);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -364,6 +607,10 @@ int main(void)
         cmocka_unit_test(test_merged_threshold),
         cmocka_unit_test(test_four_modes),
         cmocka_unit_test(test_double_root_coverage),
+        cmocka_unit_test(test_split_pair_control_variate),
+        cmocka_unit_test(test_split_pair_threshold),
+        cmocka_unit_test(test_split_pair_coverage),
+        cmocka_unit_test(test_match_discriminants),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }
