@@ -68,7 +68,7 @@ static double finite_median(double *v, size_t n)
             v[k++] = v[i];
     if (k == 0)
         return NAN;
-    qsort(v, k, sizeof(double), cmp_double);
+    el_sort_finite(v, k);
     return el_boot_quantile(v, k, 0.5);
 }
 
@@ -247,7 +247,7 @@ static double robust_spread(double *v, size_t n)
             v[k++] = v[i];
     if (k < 2)
         return 0.0;
-    qsort(v, k, sizeof(double), cmp_double);
+    el_sort_finite(v, k);
     return (el_boot_quantile(v, k, 0.75) - el_boot_quantile(v, k, 0.25)) / 1.349;
 }
 
@@ -320,7 +320,7 @@ static void widen_split_pairs(const el_modes *point, const double *re, const dou
         b->split_fraction = (double)split / (double)n_ok;
         if (split == 0 || k == 0)
             continue;
-        qsort(w, k, sizeof(double), cmp_double);
+        el_sort_finite(w, k);
         double d_med = el_boot_quantile(w, k, 0.5);
         double d_hat = -4.0 * md->lambda_im * md->lambda_im;
         double beta = robust_slope(re, disc, n_ok, nm, q, w);
