@@ -386,7 +386,6 @@ static el_status add_column(ingest *g, size_t c, const char *s, size_t n)
     return EL_OK;
 }
 
-
 typedef struct {
     const char *name;
     size_t index;
