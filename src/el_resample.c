@@ -1196,8 +1196,9 @@ static double widen_factor(const boot_shared *sh, size_t k, double blocks_spread
      * would be Monte Carlo noise only. */
     if (sh->model_spread == NULL || sh->kind != EL_RESAMPLE_BLOCKS || !(blocks_spread > 0.0))
         return 1.0;
+    double duration = (double)sh->m * sh->dt;
     return el_boot_widen_factor(sh->model_spread[k], blocks_spread,
-                                sh->model_weight * el_boot_growth_share(sh->point, k, (double)sh->m * sh->dt),
+                                sh->model_weight * el_boot_growth_share(sh->point, k, duration),
                                 sh->model_count);
 }
 
