@@ -405,6 +405,7 @@ el_status el_boot_summarise(const el_boot_records *sh, const el_modes *point,
         return EL_ERR_NUMERIC;
     }
     res->p_stable = (double)n_stable / (double)n_ok;
+    res->n_modes = nm; /* the count of bounds: el_boot_warn_repeated reads it */
     res->bounds = calloc(nm, sizeof(el_mode_bounds));
     res->lambda_re = malloc(n_ok * nm * sizeof(double));
     res->lambda_im = malloc(n_ok * nm * sizeof(double));

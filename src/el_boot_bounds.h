@@ -134,7 +134,7 @@ typedef struct {
 } el_boot_records;
 
 /* Fills res (replicates, failed_replicates, ambiguous_matches, p_stable,
- * bounds, lambda_re/im, and with a plane trace_samples, det_samples,
+ * n_modes, bounds, lambda_re/im, and with a plane trace_samples, det_samples,
  * trace, determinant, discriminant and region_probability) from the
  * records of the replicates that gave a model, in replicate order (so the
  * thread count cannot change anything): two-sided percentile bounds at
@@ -143,8 +143,9 @@ typedef struct {
  * instantaneous mode). A possible repeated root: two real point modes
  * that are each other's nearest real mode in Re and are matched to one
  * and the same complex pair in at least EL_BOOT_REPEATED_TAIL x (1 - level)
- * of the replicates (and in one at least) get Re bounds that also hold the percentile bounds of their mean
- * (re_q + re_p) / 2 over the replicates (decay rate and damping ratio
+ * of the replicates (and in one at least) get Re bounds that also hold
+ * the percentile bounds of their mean (re_q + re_p) / 2 over the
+ * replicates (decay rate and damping ratio
  * alike; repeated_root, repeated_partner, re_own): the bootstrap of
  * either root is not consistent at a double root, that of their mean is
  * (docs/uncertainty.md, "Repeated roots"). A point pair whose two slots

@@ -152,6 +152,14 @@ static void test_double_root_widened(void **state)
     double_root_log(&f, mh, dh, 2000, 1);
     el_boot_result res;
     assert_int_equal(summarise(&f, &res), EL_OK);
+    /* A library caller's result says how many bounds it holds, so that
+     * el_boot_warn_repeated sees them without the caller's help. */
+    assert_int_equal(res.n_modes, f.nm);
+    el_warnings said = {0};
+    el_error werr;
+    assert_int_equal(el_boot_warn_repeated(&res, &said, &werr), EL_OK);
+    assert_true(said.count >= 1);
+    el_warnings_free(&said);
     const el_mode_bounds *b0 = &res.bounds[0], *b1 = &res.bounds[1];
     /* The failure: the larger root's own percentile bounds sit above the
      * double root (checked so that the test keeps testing it). */
