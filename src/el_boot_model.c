@@ -109,14 +109,7 @@ int el_boot_state_model_sum(const el_boot_state_model *m, const el_boot_block *b
             const double *e = m->resid + (blocks[bl].start + t) * r;
             const double *prev = path + step * sw;
             double *next = path + (step + 1) * sw;
-            for (size_t i = 0; i < r; i++) {
-                double v = m->c[i] + e[i];
-                for (size_t j = 0; j < r; j++)
-                    v += m->a[i + j * r] * prev[j];
-                for (size_t j = 0; j < nu; j++)
-                    v += m->b[i + j * r] * prev[r + j];
-                next[i] = v;
-            }
+            el_boot_model_step(r, nu, m->a, m->b, m->c, e, prev, next);
             memcpy(next + r, m->states + (step + 1) * sw + r, nu * sizeof(double));
         }
     size_t span = m->prov->span(&m->dims);

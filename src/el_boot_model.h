@@ -167,4 +167,23 @@ int el_boot_state_model_sum(const el_boot_state_model *m, const el_boot_block *b
                             size_t n_blocks, double *path, double *sum, double *feat,
                             double *work);
 
+/* One step of a model-based replicate's state: next[i] = c[i] + e[i] +
+ * sum_j a[i + j r] prev[j] + sum_j b[i + j r] prev[r + j], i < r (a: r x r,
+ * b: r x nu, column-major; prev holds the state then the nu inputs). The
+ * one arithmetic of every regenerated path (the bias round and iv's spread
+ * round), in this order, so both give the bits they gave. Can't fail. */
+static inline void el_boot_model_step(size_t r, size_t nu, const double *a, const double *b,
+                                      const double *c, const double *e, const double *prev,
+                                      double *next)
+{
+    for (size_t i = 0; i < r; i++) {
+        double v = c[i] + e[i];
+        for (size_t j = 0; j < r; j++)
+            v += a[i + j * r] * prev[j];
+        for (size_t j = 0; j < nu; j++)
+            v += b[i + j * r] * prev[r + j];
+        next[i] = v;
+    }
+}
+
 #endif

@@ -286,14 +286,7 @@ static int model_replicate(boot_worker *w, el_rng *rng)
             const double *e = sh->resid + (w->blocks[b].start + t) * r;
             /* The measured inputs stay where they were (fixed regressors):
              * only the state is regenerated. */
-            for (size_t i = 0; i < r; i++) {
-                double v = sh->c0[i] + e[i];
-                for (size_t j = 0; j < r; j++)
-                    v += sh->a0[i + j * r] * prev[j];
-                for (size_t j = 0; j < nu; j++)
-                    v += sh->b0[i + j * r] * prev[r + j];
-                next[i] = v;
-            }
+            el_boot_model_step(r, nu, sh->a0, sh->b0, sh->c0, e, prev, next);
             memcpy(next + r, sh->w0 + (step + 1) * sw + r, nu * sizeof(double));
             sh->prov->features(&sh->dims, w->st, w->feat);
             for (size_t f = 0; f < d; f++)
