@@ -41,7 +41,8 @@ reported beside them.
 Usage (numpy, scipy; /usr/bin/python3):
   bench/fresh_family.py gen DIR [--systems 100] [--seed 5120512] [--six 20]
   bench/fresh_family.py run DIR [--eigenlog build/rel/eigenlog] [--jobs 1]
-  bench/fresh_family.py score DIR [--verbose]
+                              [--out out] [--only 5,13] [--extra "--method iv"]
+  bench/fresh_family.py score DIR [--verbose] [--out out] [--only 5,13]
 `gen` writes DIR/logs/*.csv and DIR/truth.json; `run` assesses every log
 with default options (`nice -n 10 eigenlog assess LOG --json J`, text
 report kept beside it) and skips logs already done; `score` prints the
@@ -324,16 +325,16 @@ def cmd_gen(a):
 
 def cmd_run(a):
     truth = json.load(open(os.path.join(a.dir, "truth.json")))
-    out = os.path.join(a.dir, "out")
+    out = os.path.join(a.dir, a.out)
     os.makedirs(out, exist_ok=True)
-    todo = [lg for lg in truth["logs"]
-            if not os.path.exists(os.path.join(out, lg["file"] + ".rc"))]
+    todo = [lg for lg in truth["logs"] if selected(a, lg)
+            and not os.path.exists(os.path.join(out, lg["file"] + ".rc"))]
     procs = []
     t0 = time.time()
     for i, lg in enumerate(todo):
         base = os.path.join(out, lg["file"])
         cmd = ["nice", "-n", "10", a.eigenlog, "assess", os.path.join(a.dir, "logs", lg["file"]),
-               "--json", base + ".json"]
+               "--json", base + ".json"] + a.extra.split()
         fo, fe = open(base + ".txt", "w"), open(base + ".err", "w")
         procs.append((subprocess.Popen(cmd, stdout=fo, stderr=fe), base, time.time(), fo, fe))
         while len(procs) >= a.jobs or (i == len(todo) - 1 and procs):
@@ -347,6 +348,14 @@ def cmd_run(a):
             if len(procs) >= a.jobs or (i == len(todo) - 1 and procs):
                 time.sleep(0.05)
     print("ran %d logs in %.0f s" % (len(todo), time.time() - t0))
+
+
+def selected(a, lg):
+    """--only: comma-separated system numbers (5,13) or file names."""
+    if not a.only:
+        return True
+    keys = set(k.strip() for k in a.only.split(",") if k.strip())
+    return lg["file"] in keys or str(lg["system"]) in keys
 
 
 def true_lambdas(s):
@@ -390,8 +399,10 @@ def cmd_score(a):
     systems = {s["id"]: s for s in truth["systems"]}
     rows = []
     for lg in truth["logs"]:
+        if not selected(a, lg):
+            continue
         s = systems[lg["system"]]
-        base = os.path.join(a.dir, "out", lg["file"])
+        base = os.path.join(a.dir, a.out, lg["file"])
         if not os.path.exists(base + ".rc"):
             continue
         rc, secs = open(base + ".rc").read().split()
@@ -461,12 +472,12 @@ def cmd_score(a):
             if r["rc"] == 0 and (not r["ok"] or r["und"] or r["wrong"]):
                 s = r["s"]
                 print("%s %s grow=%d p=%d %s kinds=%s n=%d dt=%g spp=%.0f | %s p=%s cause=%s "
-                      "method=%s nmodes=%d | %s | warn=%s" % (
+                      "method=%s nmodes=%d | %d of %d true modes matched: %s | warn=%s" % (
                           r["file"], "+".join(s["variants"]) or "core", s["growing"],
                           s["n_sensors"], s["format"], ",".join(s["kinds"]), s["n_samples"],
                           s["dt"], s["spp"], r["stab"],
                           "n/a" if r["p"] is None else "%.3f" % r["p"], r["cause"],
-                          r["method"], r["nmodes"],
+                          r["method"], r["nmodes"], len(r["per"]), len(s["fn"]),
                           " ".join("%.4g/%.3f->%.4g/%.3f" % t for t in r["per"]),
                           ",".join(sorted(set(r["warn"])))))
 
@@ -483,9 +494,14 @@ def main():
     r.add_argument("dir")
     r.add_argument("--eigenlog", default="build/rel/eigenlog")
     r.add_argument("--jobs", type=int, default=1)
+    r.add_argument("--out", default="out", help="output directory under DIR")
+    r.add_argument("--only", default="", help="system numbers or file names, comma-separated")
+    r.add_argument("--extra", default="", help="further eigenlog assess options")
     sc = sub.add_parser("score")
     sc.add_argument("dir")
     sc.add_argument("--verbose", action="store_true")
+    sc.add_argument("--out", default="out", help="output directory under DIR")
+    sc.add_argument("--only", default="", help="system numbers or file names, comma-separated")
     a = ap.parse_args()
     {"gen": cmd_gen, "run": cmd_run, "score": cmd_score}[a.cmd](a)
 
