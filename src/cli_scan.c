@@ -40,8 +40,12 @@ static void print_time(FILE *o, const el_table *t, const el_scan *s, const el_ti
            t->date_order == EL_DATE_DMY   ? "date-times, day first"
            : t->date_order == EL_DATE_MDY ? "date-times, month first"
            : t->time_is_iso               ? "ISO 8601 date-times"
+           : t->time_is_clock             ? "times of day without a date"
                                           : "numbers");
-    if (t->time_is_iso)
+    if (t->time_is_clock)
+        fprintf(o, ", %zu midnight crossing%s counted)\n", t->clock_midnights,
+                t->clock_midnights == 1 ? "" : "s");
+    else if (t->time_is_iso)
         fprintf(o, ", %s)\n", t->time_zone_known ? "with zone" : "no zone: local time, zone unknown");
     else
         fprintf(o, " in %s, %s)\n", t->time_unit,
@@ -181,13 +185,18 @@ static void json_scan_input(el_json *j, const el_table *t, const el_assess_optio
         el_json_bool(j, "time_zone_known", t->time_zone_known);
     if (t->date_order != 0)
         el_json_string(j, "date_order", t->date_order == EL_DATE_DMY ? "dmy" : "mdy");
+    if (t->time_is_clock) {
+        el_json_bool(j, "time_of_day", 1);
+        el_json_int(j, "midnight_crossings", (long long)t->clock_midnights);
+    }
     el_json_object_end(j);
 }
 
 static void json_scan_time(el_json *j, const el_table *t, const el_scan *s,
                            const el_time_survey *v, size_t max_gap)
 {
-    double origin = t->time_is_iso ? (double)t->time_origin_unix_s : 0.0;
+    double origin = t->time_is_iso     ? (double)t->time_origin_unix_s
+                    : t->time_is_clock ? (double)t->clock_origin_s : 0.0;
     char a[64], b[64];
     el_json_object_begin(j, "time");
     el_json_pair(j, "span", origin + s->time_first, origin + s->time_last);

@@ -1,6 +1,7 @@
 /* el_datecols: a date and a time of day in two columns (el_datecols.h). */
 #include "el_datecols.h"
 
+#include <math.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -47,6 +48,98 @@ int el_datecols_is_clock(const char *s, size_t n)
         if (!digit(s[i]) && (s[i] == '\0' || strchr(":.,+- AaPpMmZ", s[i]) == NULL))
             return 0;
     return 1;
+}
+
+/* Reads the digits at s[*i..n) into *v (at most max_digits of them, at
+ * least one); returns how many were read. */
+static size_t read_digits(const char *s, size_t n, size_t *i, size_t max_digits, long *v)
+{
+    size_t k = 0;
+    *v = 0;
+    while (*i < n && k < max_digits && digit(s[*i])) {
+        *v = *v * 10 + (s[*i] - '0');
+        (*i)++;
+        k++;
+    }
+    return k;
+}
+
+/* A trailing " AM" / " PM" (either case, blanks before it optional):
+ * 1 AM, 2 PM, 0 none; *end is where the clock time proper ends. */
+static int meridiem(const char *s, size_t n, size_t *end)
+{
+    *end = n;
+    if (n < 2 || (s[n - 1] != 'M' && s[n - 1] != 'm'))
+        return 0;
+    char c = s[n - 2];
+    int kind = c == 'A' || c == 'a' ? 1 : c == 'P' || c == 'p' ? 2 : 0;
+    if (kind == 0)
+        return 0;
+    size_t e = n - 2;
+    while (e > 0 && s[e - 1] == ' ')
+        e--;
+    *end = e;
+    return kind;
+}
+
+const char *el_datecols_clock_seconds(const char *s, size_t n, long *whole_s, double *frac_s)
+{
+    size_t end, i = 0;
+    int half = meridiem(s, n, &end);
+    long h, m, sec = 0;
+    if (read_digits(s, end, &i, 2, &h) == 0 || i >= end || s[i++] != ':' ||
+        read_digits(s, end, &i, 2, &m) != 2)
+        return "not a time of day like HH:MM:SS";
+    if (i < end && s[i] == ':') {
+        i++;
+        if (read_digits(s, end, &i, 2, &sec) != 2)
+            return "not a time of day like HH:MM:SS";
+    }
+    double frac = 0.0;
+    if (i < end && (s[i] == '.' || s[i] == ',')) {
+        if (++i >= end || !digit(s[i]))
+            return "a decimal separator with no digits after it";
+        /* One division, so 00:00:00.250 is 0.25 exactly; digits beyond
+         * the ninth (below a nanosecond) are read but not counted. */
+        long v = 0, scale = 1;
+        for (; i < end && digit(s[i]); i++)
+            if (scale < 1000000000L) {
+                v = v * 10 + (s[i] - '0');
+                scale *= 10;
+            }
+        frac = (double)v / (double)scale;
+    }
+    if (i != end)
+        return s[i] == 'Z' || s[i] == '+' || s[i] == '-' ? "a zone on a time of day without a date"
+                                                         : "not a time of day like HH:MM:SS";
+    if (half != 0 && (h < 1 || h > 12))
+        return "an hour outside 1-12 before AM or PM";
+    if (h > 23 || m > 59 || sec > 59)
+        return "an hour above 23, or minutes or seconds above 59";
+    if (half != 0)
+        h = h % 12 + (half == 2 ? 12 : 0);
+    *whole_s = h * 3600 + m * 60 + sec;
+    *frac_s = frac;
+    return NULL;
+}
+
+double el_clock_run_next(el_clock_run *run, long whole_s, double frac_s)
+{
+    if (!run->started)
+        run->origin_s = whole_s;
+    else if (whole_s + run->day_s < run->last_s - 43200) {
+        run->day_s += 86400;
+        run->midnights++;
+    }
+    run->started = 1;
+    run->last_s = whole_s + run->day_s;
+    return (double)(run->last_s - run->origin_s) + frac_s;
+}
+
+double el_clock_shift(double last_s, double first_s)
+{
+    double shift = floor(last_s / 86400.0) * 86400.0;
+    return first_s + shift < last_s - 43200.0 ? shift + 86400.0 : shift;
 }
 
 size_t el_datecols_join(const char *date, size_t n_date, const char *clock, size_t n_clock,

@@ -13,6 +13,7 @@
 #include <unistd.h>
 
 #include "el_channels.h"
+#include "el_datecols.h"
 #include "el_dedup.h"
 #include "el_timebase.h"
 
@@ -537,7 +538,7 @@ static el_status choose_columns(el_follow *f, el_error *err)
 static int same_columns(const el_table *a, const el_table *b)
 {
     if (a->n_columns != b->n_columns || a->time_column != b->time_column
-        || a->time_is_iso != b->time_is_iso)
+        || a->time_is_iso != b->time_is_iso || a->time_is_clock != b->time_is_clock)
         return 0;
     for (size_t c = 0; c < a->n_columns; c++)
         if (strcmp(a->names[c], b->names[c]) != 0)
@@ -588,6 +589,11 @@ static el_status keep_rows(el_follow *f, const el_table *t, el_error *err)
 {
     double shift = t->time_is_iso ? (double)(t->time_origin_unix_s - f->ref.time_origin_unix_s)
                                   : 0.0;
+    if (t->time_is_clock && f->have_last && t->n_rows > 0)
+        shift = (double)(t->clock_origin_s - f->ref.clock_origin_s) +
+                el_clock_shift(f->last_t + (double)f->ref.clock_origin_s,
+                               t->values[t->time_column * t->n_rows] +
+                                   (double)t->clock_origin_s);
     size_t width = f->nc + f->ni;
     double row[256];
     double *vals = width <= 256 ? row : malloc(width * sizeof(double));

@@ -54,7 +54,7 @@ typedef struct {
     int quoted;         /* 1: text lies in the scratch buffer */
 } span;
 
-enum { TIME_UNKNOWN, TIME_NUMBER, TIME_ISO, TIME_LOCAL };
+enum { TIME_UNKNOWN, TIME_NUMBER, TIME_ISO, TIME_LOCAL, TIME_CLOCK };
 
 typedef struct {
     el_source rd;
@@ -95,6 +95,7 @@ typedef struct {
     size_t clock_column1;     /* 1 + the column holding the time of day when the time
                                  column holds dates only (el_datecols); 0 none */
     char joined[128];         /* that row's date and time of day, joined */
+    el_clock_run clock;       /* TIME_CLOCK: the midnights crossed so far */
 } ingest;
 
 enum { COL_UNKNOWN, COL_NUMBER, COL_TEXT };
@@ -769,20 +770,23 @@ static void find_clock_column(ingest *g)
     g->text_line[tc + 1] = -1;
 }
 
-/* 1 when a cell holds only a sign, digits and separators, with a digit;
- * with a separator the log does not read as its decimal (15.00 in a log
- * of decimal commas, 1,250.5) its hint is the number's. */
-static int numeral_like(const char *s, size_t n)
+/* A time of day without a date (el_table.h, time_is_clock). */
+static el_status clock_time(ingest *g, const record *r, const span *f, const char *s,
+                            size_t n, double *out)
 {
-    int digit = 0;
-    for (size_t i = 0; i < n; i++) {
-        char c = s[i];
-        if (c >= '0' && c <= '9')
-            digit = 1;
-        else if (!(c == '.' || c == ',' || ((c == '+' || c == '-') && i == 0)))
-            return 0;
-    }
-    return digit;
+    long whole = 0;
+    double frac = 0.0;
+    const char *why = el_datecols_clock_seconds(s, n, &whole, &frac);
+    if (why != NULL)
+        return time_error(g, r, f, s, n, why,
+                          "write every time as a time of day like the first row's "
+                          "(HH:MM:SS, a fraction after a point or comma), or give each "
+                          "row its date");
+    *out = el_clock_run_next(&g->clock, whole, frac);
+    g->t->time_is_clock = 1;
+    g->t->clock_origin_s = g->clock.origin_s;
+    g->t->clock_midnights = g->clock.midnights;
+    return EL_OK;
 }
 
 static el_status parse_time_cell(ingest *g, const record *r, const span *f, double *out)
@@ -810,7 +814,12 @@ static el_status parse_time_cell(ingest *g, const record *r, const span *f, doub
     }
     int iso = el_iso_looks(s, n), local = !iso && el_local_looks(s, n);
     if (g->time_kind == TIME_UNKNOWN)
-        g->time_kind = iso ? TIME_ISO : local ? TIME_LOCAL : TIME_NUMBER;
+        g->time_kind = iso     ? TIME_ISO
+                       : local ? TIME_LOCAL
+                       : g->clock_column1 == 0 && el_datecols_is_clock(s, n) ? TIME_CLOCK
+                                                                             : TIME_NUMBER;
+    if (g->time_kind == TIME_CLOCK)
+        return clock_time(g, r, f, s, n, out);
     if (g->time_kind == TIME_NUMBER) {
         int rc = el_number_parse(s, n, &g->decimal, g->delim, out);
         if (rc == EL_NUM_OK)
@@ -825,7 +834,7 @@ static el_status parse_time_cell(ingest *g, const record *r, const span *f, doub
             return time_error(g, r, f, s, n, "a unit of time, but the row is no row of units",
                               "a row of units under the header is read only when none of "
                               "its cells is a number: write a unit of 1 as - or leave it empty");
-        if (rc != EL_NUM_RANGE && numeral_like(s, n) &&
+        if (rc != EL_NUM_RANGE && el_number_numeral_like(s, n) &&
             (memchr(s, ',', n) != NULL || (g->decimal == ',' && memchr(s, '.', n) != NULL)))
             return time_error(g, r, f, s, n, "not a number as this log writes numbers",
                               el_number_hint(s, n, g->delim, g->decimal, 0));

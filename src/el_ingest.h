@@ -48,7 +48,10 @@ typedef struct {
  * of their first time and their rows concatenated, so a join that goes
  * back in time or leaves a gap is found by el_series_build like any other
  * (its error names the file and line). ISO times are put on the first
- * file's origin. Text columns skipped in any file are skipped in all. "-"
+ * file's origin. Times of day without a date (el_table.h, time_is_clock)
+ * carry nothing to order by: the files are taken in the order given, each
+ * after the one before across midnight (el_clock_shift). Text columns
+ * skipped in any file are skipped in all. "-"
  * may be one of the paths. n_paths == 1 is el_table_read. Errors as
  * el_table_read; EL_ERR_USAGE for n_paths == 0. */
 el_status el_table_read_files(const char *const *paths, size_t n_paths,

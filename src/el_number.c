@@ -924,3 +924,16 @@ const char *el_number_hint(const char *s, size_t n, char delim, char decimal, in
     return "use NA for a missing value; any other cell must be a decimal number "
            "such as 1.5 or -2e-3";
 }
+
+int el_number_numeral_like(const char *s, size_t n)
+{
+    int digit = 0;
+    for (size_t i = 0; i < n; i++) {
+        char c = s[i];
+        if (c >= '0' && c <= '9')
+            digit = 1;
+        else if (!(c == '.' || c == ',' || ((c == '+' || c == '-') && i == 0)))
+            return 0;
+    }
+    return digit;
+}

@@ -82,6 +82,12 @@ const char *el_number_scan_rows_using(int path, const char *p, const char *stop,
  * any case; else 0. */
 int el_number_is_missing(const char *s, size_t n);
 
+/* 1 when s[0..n) holds only a sign (first), digits and the separators
+ * '.' and ',', with at least one digit: a numeral that a log with the
+ * other decimal separator (15.00 among decimal commas) or a thousands
+ * separator (1,250.5) fails to read, whose hint is then the number's. */
+int el_number_numeral_like(const char *s, size_t n);
+
 /* The hint for a cell s[0..n) that el_number_parse refused (range: 1 when
  * it said EL_NUM_RANGE), given the file's delimiter and decimal separator
  * (0 = not decided): why it was refused and how to write it. Static text. */

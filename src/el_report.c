@@ -45,8 +45,9 @@ static void text_header(const el_assessment *r, el_buf *out)
     el_table_format_time(t, s->t0 + (double)(s->n_samples - 1) * s->dt, b, sizeof b);
     el_buf_printf(out, "eigenlog %s  %s\n\n", EL_VERSION, t->source);
     el_buf_printf(out, "Data\n");
-    el_buf_printf(out, "  window       %s .. %s%s%s\n", a, b, t->time_is_iso ? "" : " ",
-                  t->time_is_iso ? "" : t->time_unit[0] ? t->time_unit : "s");
+    int bare = t->time_is_iso || t->time_is_clock;
+    el_buf_printf(out, "  window       %s .. %s%s%s\n", a, b, bare ? "" : " ",
+                  bare ? "" : t->time_unit[0] ? t->time_unit : "s");
     el_buf_printf(out, "  samples      %zu at dt = %.6g s (%zu rows of %zu used)%s\n",
                   s->n_samples, s->dt, s->rows_used, t->n_rows,
                   s->resampled ? ", resampled" : "");
@@ -56,6 +57,10 @@ static void text_header(const el_assessment *r, el_buf *out)
                       : t->date_order == EL_DATE_MDY ? "date-times written month first"
                                                      : "ISO 8601 date-times",
                       t->time_zone_known ? "with zone" : "local time of an unknown zone");
+    else if (t->time_is_clock)
+        el_buf_printf(out, "  time         times of day without a date, %zu midnight "
+                      "crossing%s counted\n", t->clock_midnights,
+                      t->clock_midnights == 1 ? "" : "s");
     else if (strcmp(t->time_unit_source, "assumed") == 0 || t->time_unit_source[0] == '\0')
         el_buf_printf(out, "  time unit    s (assumed: the log gives no unit)\n");
     else
@@ -468,7 +473,8 @@ static void json_input(el_json *j, const el_assessment *r, const el_assess_optio
 {
     const el_table *t = &r->table;
     const el_series *s = &r->series;
-    double origin = t->time_is_iso ? (double)t->time_origin_unix_s : 0.0;
+    double origin = t->time_is_iso     ? (double)t->time_origin_unix_s
+                    : t->time_is_clock ? (double)t->clock_origin_s : 0.0;
     double t1 = s->t0 + (double)(s->n_samples - 1) * s->dt;
     char a[64], b[64];
     el_json_object_begin(j, "input");
@@ -489,6 +495,11 @@ static void json_input(el_json *j, const el_assessment *r, const el_assess_optio
         el_json_bool(j, "time_zone_known", t->time_zone_known);
     if (t->date_order != 0)
         el_json_string(j, "date_order", t->date_order == EL_DATE_DMY ? "dmy" : "mdy");
+    if (t->time_is_clock) {
+        /* Times in seconds after the first row's midnight. */
+        el_json_bool(j, "time_of_day", 1);
+        el_json_int(j, "midnight_crossings", (long long)t->clock_midnights);
+    }
     el_json_number(j, "dt", s->dt);
     el_json_int(j, "samples", (long long)s->n_samples);
     /* ISO logs: the window in Unix seconds, so machines get absolute time. */

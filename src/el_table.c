@@ -9,6 +9,7 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "el_datecols.h"
 #include "el_number.h"
 #if defined(__SSE2__)
 #include <emmintrin.h>
@@ -155,10 +156,12 @@ el_status el_table_check_same(const el_table *a, const el_table *b, long line,
             return differs(err, a, b, at_units ? b->units_line : line, what, c);
         }
     if (a->time_column != b->time_column || a->time_is_iso != b->time_is_iso ||
-        a->time_zone_known != b->time_zone_known)
+        a->time_zone_known != b->time_zone_known || a->time_is_clock != b->time_is_clock)
         return differs(err, a, b, line,
                        a->time_is_iso != b->time_is_iso
                            ? "one writes times as date-times, the other as numbers"
+                       : a->time_is_clock != b->time_is_clock
+                           ? "one writes times of day, the other numbers"
                            : "one writes date-times with a zone, the other without",
                        b->time_column);
     return EL_OK;
@@ -183,7 +186,9 @@ el_status el_table_join(el_table *parts, long *const *text_lines, size_t n,
         return table_no_memory(err, paths[0]);
     for (size_t i = 0; i < n; i++)
         order[i] = i;
-    for (size_t i = 1; i < n; i++) /* insertion sort: stable, n is small */
+    /* Times of day carry no date to order files by: they are taken in the
+     * order given, each after the one before (below). */
+    for (size_t i = 1; i < n && !parts[0].time_is_clock; i++) /* insertion sort: stable */
         for (size_t k = i; k > 0 && first_time(&parts[order[k]]) < first_time(&parts[order[k - 1]]); k--) {
             size_t tmp = order[k];
             order[k] = order[k - 1];
@@ -222,6 +227,12 @@ el_status el_table_join(el_table *parts, long *const *text_lines, size_t n,
         const el_table *p = &parts[order[k]];
         double shift = p->time_is_iso ? (double)(p->time_origin_unix_s - ref->time_origin_unix_s)
                                       : 0.0;
+        if (p->time_is_clock && row > 0) /* each file restarts at its first midnight */
+            shift = (double)(p->clock_origin_s - ref->clock_origin_s) +
+                    el_clock_shift(out->values[ref->time_column * rows + row - 1] +
+                                       (double)ref->clock_origin_s,
+                                   p->values[ref->time_column * p->n_rows] +
+                                       (double)p->clock_origin_s);
         for (size_t c = 0; c < nc; c++) {
             double *dst = out->values + c * rows + row;
             memcpy(dst, p->values + c * p->n_rows, p->n_rows * sizeof *dst);
@@ -240,6 +251,11 @@ el_status el_table_join(el_table *parts, long *const *text_lines, size_t n,
     out->n_rows = rows;
     out->time_column = ref->time_column;
     out->time_is_iso = ref->time_is_iso;
+    out->time_is_clock = ref->time_is_clock;
+    out->clock_origin_s = ref->clock_origin_s;
+    if (out->time_is_clock && rows > 0)
+        out->clock_midnights = (size_t)floor((out->values[out->time_column * rows + rows - 1] +
+                                              (double)ref->clock_origin_s) / 86400.0);
     out->time_origin_unix_s = ref->time_origin_unix_s;
     out->time_zone_minutes = ref->time_zone_minutes;
     out->time_zone_known = ref->time_zone_known;
@@ -385,6 +401,30 @@ long el_table_find(const el_table *table, const char *name)
 /* ------------------------------------------------------------------ */
 /* Times on the command line                                          */
 
+/* A time of day on the command line for a log of times of day: its first
+ * occurrence at or after the log's first row (a log that crosses
+ * midnight is cut where the person reading its times means). */
+static el_status clock_option_time(const el_table *table, const char *text, const char *s,
+                                   size_t n, double *time_out, el_error *err)
+{
+    long whole = 0;
+    double frac = 0.0;
+    const char *why = el_datecols_clock_seconds(s, n, &whole, &frac);
+    if (why != NULL) {
+        el_error_set(err, EL_ERR_USAGE, "cannot read the time \"%.100s\": %s", text, why);
+        el_error_hint(err, "give a time of day like 08:30:00, as the log writes its times, "
+                           "or seconds from the log's start");
+        return EL_ERR_USAGE;
+    }
+    double first = table->n_rows > 0 && table->values != NULL
+                       ? table->values[table->time_column * table->n_rows] : 0.0;
+    double t = (double)(whole - table->clock_origin_s) + frac;
+    while (t < first - 1e-9)
+        t += 86400.0;
+    *time_out = t;
+    return EL_OK;
+}
+
 el_status el_table_parse_time(const el_table *table, const char *text,
                               double *time_out, el_error *err)
 {
@@ -401,6 +441,8 @@ el_status el_table_parse_time(const el_table *table, const char *text,
     if (rc != EL_NUM_OK && table->time_is_iso)
         why = el_local_looks(s, n) ? el_local_parse_or_date(s, n, table->date_order, &it)
                                    : el_iso_parse_or_date(s, n, &it);
+    if (rc != EL_NUM_OK && table->time_is_clock)
+        return clock_option_time(table, text, s, n, time_out, err);
     if (rc == EL_NUM_OK) {
         /* A number is in the log's own unit (ISO: seconds from the start). */
         *time_out = v * el_table_time_unit_s(table);
@@ -438,9 +480,9 @@ const char *el_table_format_when(const el_table *table, double t, char *buf, siz
 {
     char num[64];
     el_table_format_time(table, t, num, sizeof num);
-    int iso = table != NULL && table->time_is_iso;
-    snprintf(buf, size, "%.40s%s%.15s", num, iso ? "" : " ",
-             iso ? "" : table != NULL && table->time_unit[0] ? table->time_unit : "s");
+    int bare = table != NULL && (table->time_is_iso || table->time_is_clock);
+    snprintf(buf, size, "%.40s%s%.15s", num, bare ? "" : " ",
+             bare ? "" : table != NULL && table->time_unit[0] ? table->time_unit : "s");
     return buf;
 }
 
@@ -448,14 +490,27 @@ char *el_table_format_time(const el_table *table, double t, char *buf, size_t si
 {
     if (buf == NULL || size == 0)
         return buf;
+    int64_t ms = table != NULL && table->time_is_clock && isfinite(t) && fabs(t) < 1e12
+                     ? (int64_t)floor(t * 1000.0 + 0.5) + (int64_t)table->clock_origin_s * 1000
+                     : -1;
+    if (ms >= 0) {
+        /* Milliseconds rounded once, so 59.9996 s shows as the next minute. */
+        int64_t day = ms / 86400000;
+        int64_t in_day = ms % 86400000;
+        snprintf(buf, size, "%02d:%02d:%02d.%03d", (int)(in_day / 3600000),
+                 (int)(in_day / 60000 % 60), (int)(in_day / 1000 % 60), (int)(in_day % 1000));
+        if (day > 0)
+            snprintf(buf + strlen(buf), size - strlen(buf), " (+%dd)", (int)day);
+        return buf;
+    }
     /* 1e14 s is far beyond year 9999 and keeps t * 1000 exact in int64. */
     if (table == NULL || !table->time_is_iso || !isfinite(t) || fabs(t) > 1e14) {
         snprintf(buf, size, "%.9g", t / el_table_time_unit_s(table));
         return buf;
     }
     int zone = table->time_zone_minutes;
-    int64_t ms = (int64_t)floor(t * 1000.0 + 0.5) +
-                 (table->time_origin_unix_s + (int64_t)zone * 60) * 1000;
+    ms = (int64_t)floor(t * 1000.0 + 0.5) +
+         (table->time_origin_unix_s + (int64_t)zone * 60) * 1000;
     el_iso_format(ms, zone, table->time_zone_known, buf, size);
     return buf;
 }

@@ -28,6 +28,13 @@ typedef struct {
     size_t *missing;           /* n_columns: missing cells per column */
     int time_is_iso;           /* 1: the time column held date-times (ISO 8601, or
                                   dates with the year last: date_order) */
+    int time_is_clock;         /* 1: times of day without a date (08:30:00): the time
+                                  column holds seconds after clock_origin_s, a
+                                  midnight crossing counted wherever the clock goes
+                                  back by more than 12 h (time_is_iso 0, unit "s",
+                                  time_unit_source "time of day") */
+    long clock_origin_s;       /* clock: the first row's whole seconds after midnight */
+    size_t clock_midnights;    /* clock: the midnight crossings counted so */
     char date_order;           /* 0: ISO 8601 or numbers; EL_DATE_DMY / EL_DATE_MDY:
                                   dates with the year last, read day / month first */
     int64_t time_origin_unix_s;/* ISO: Unix time (s) that time value 0 stands for */

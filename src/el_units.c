@@ -151,7 +151,17 @@ el_status el_units_decide_time(el_table *t, const char *opt_unit, int from_row,
     const char *unit = "s", *how = "assumed";
     double scale = 1.0;
     size_t tc = t->time_column;
-    if (t->time_is_iso) {
+    if (t->time_is_clock) {
+        /* Times of day are seconds already; a label over them is a label. */
+        how = "time of day";
+        if (opt_unit != NULL) {
+            el_error_set(err, EL_ERR_USAGE, "--time-unit %.60s: this log's times are times "
+                         "of day (HH:MM:SS), not numbers", opt_unit);
+            el_error_option(err, "--time-unit");
+            el_error_hint(err, "leave --time-unit out: times of day are read in seconds");
+            return EL_ERR_USAGE;
+        }
+    } else if (t->time_is_iso) {
         how = "iso8601";
         /* Loggers that write zone-less times say their zone in this row. */
         if (!t->time_zone_known && label_is_utc(t->units[tc]))

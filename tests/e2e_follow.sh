@@ -112,6 +112,29 @@ follow_numbers "$tmp/stuck.jsonl" >"$tmp/stuck_fol.tsv"
 same_numbers "$tmp/stuck_off.tsv" "$tmp/stuck_fol.tsv"
 check "followed windows equal the offline ones when a sensor sticks" $?
 
+# --- Times of day without a date, across midnight ------------------------
+# The fan log's times written as times of day from 23:40:00: the clock
+# passes midnight in window 5; a stream arrives in pieces, each read on its
+# own, and each must follow the last across midnight as the offline read
+# does (el_clock_shift).
+awk -F, 'NR == 1 { print; next } { ms = (int($1 * 1000 + 0.5) + 85200000) % 86400000
+    $1 = sprintf("%02d:%02d:%02d.%03d", int(ms / 3600000), int(ms / 60000) % 60,
+                 int(ms / 1000) % 60, ms % 1000); print }' OFS=, "$fan" >"$tmp/clock.csv"
+"$bin" track "$tmp/clock.csv" $opts --json "$tmp/clock_off.json" >/dev/null
+check "offline track of a log of times of day across midnight: exit 0" $?
+[ "$(jq -r '.windows[4].from_text' "$tmp/clock_off.json")" = "00:00:00.000 (+1d)" ]
+check "offline: window 5 starts at midnight of the next day" $?
+offline_numbers "$tmp/clock_off.json" >"$tmp/clock_off.tsv"
+cut -f 1-12 "$tmp/off.tsv" >"$tmp/off12.tsv"
+cut -f 1-12 "$tmp/clock_off.tsv" >"$tmp/clock_off12.tsv"
+same_numbers "$tmp/off12.tsv" "$tmp/clock_off12.tsv"
+check "times of day give the numbered log's windows" $?
+cat "$tmp/clock.csv" | "$bin" track - --follow $opts --json - >"$tmp/clock.jsonl" 2>/dev/null
+check "followed: exit 0" $?
+follow_numbers "$tmp/clock.jsonl" >"$tmp/clock_fol.tsv"
+same_numbers "$tmp/clock_off.tsv" "$tmp/clock_fol.tsv"
+check "followed windows equal the offline ones across midnight" $?
+
 # --- A writer appending in accelerated time; alarm; on-alarm; html ------
 # The offline call: the first window count whose trend is "shrinking".
 first_shrinking=""

@@ -4,7 +4,8 @@
 # (14.03.2026 08:00:00,050) and month first on a 12-hour clock (3/14/2026
 # 8:00:00.050 AM), both without the zone, must give the same modes as the
 # ISO log without its zone, and so must the date and the time of day
-# written in two columns; the rig log with its units moved from the
+# written in two columns, and written as times of day without a date
+# across midnight; the rig log with its units moved from the
 # header into a row of units must give the same modes as the original.
 # The reference is the same log in the plain form (the readers are
 # compared with each other, not with stored numbers). Also: --date-order
@@ -41,14 +42,21 @@ awk -F, 'NR == 1 { print "Datum;Uhrzeit;" $2 ";" $3; next } {
 awk -F, 'NR == 1 { print "date,time," $2 "," $3; print "UTC,hh:mm:ss,,"; next } {
     split($1, dt, "T"); sub(/\+01:00$/, "", dt[2])
     print dt[1] "," dt[2] "," $2 "," $3 }' "$pump" >"$tmp/isocols.csv"
-for f in iso dmy mdy cols isocols; do
+# Times of day without a date (some loggers write no date), moved to
+# 23:55:00 so that the log crosses midnight.
+awk -F, 'NR == 1 { print; next } {
+    split($1, dt, "T"); sub(/\+01:00$/, "", dt[2]); split(dt[2], hms, ":")
+    ms = (hms[1] * 3600000 + hms[2] * 60000 + int(hms[3] * 1000 + 0.5) + 57300000) % 86400000
+    printf "%02d:%02d:%02d.%03d,%s,%s\n", int(ms / 3600000), int(ms / 60000) % 60,
+           int(ms / 1000) % 60, ms % 1000, $2, $3 }' "$pump" >"$tmp/clock.csv"
+for f in iso dmy mdy cols isocols clock; do
     "$bin" assess "$tmp/$f.csv" --boot 0 --quiet --json "$tmp/$f.json" 2>"$tmp/$f.err"
     check "assess of the $f form runs" $?
 done
 modes "$tmp/iso.json" >"$tmp/iso.modes"
 [ -s "$tmp/iso.modes" ]
 check "the ISO log has modes" $?
-for f in dmy mdy cols isocols; do
+for f in dmy mdy cols isocols clock; do
     modes "$tmp/$f.json" | cmp -s - "$tmp/iso.modes"
     check "the $f form gives the ISO form's modes" $?
 done
@@ -65,6 +73,20 @@ printf 'Date,Time,x\n14.03.2026,08:00:00.0,1\n14.03.2026,08:00:00.1,2\n14.03.202
 "$bin" scan "$tmp/badclock.csv" >/dev/null 2>"$tmp/badclock.err"
 [ $? -eq 2 ] && grep -q 'badclock.csv:4:12:' "$tmp/badclock.err"
 check "a bad time of day is an error at its own cell (line 4, column 12)" $?
+flat "$tmp/clock.json" | grep -q '"time_of_day":true,"midnight_crossings":1' &&
+    flat "$tmp/clock.json" | grep -q '"window_text":\["23:55:00.000","00:04:59.950(+1d)"\]'
+check "times of day: one midnight crossing, the window shown as the log writes it" $?
+"$bin" assess "$tmp/clock.csv" --boot 0 --quiet --json "$tmp/clock_from.json" \
+    --from 00:01:00 --to 00:03:00 2>/dev/null &&
+    flat "$tmp/clock_from.json" |
+    grep -q '"window_text":\["00:01:00.000(+1d)","00:03:00.000(+1d)"\]'
+check "--from/--to as times of day after midnight" $?
+printf 't,x\n08:00:00,1\n08:00:01,2\n07:59:00,3\n08:00:03,4\n' >"$tmp/clockback.csv"
+"$bin" assess "$tmp/clockback.csv" --boot 0 >/dev/null 2>"$tmp/clockback.err"
+[ $? -eq 2 ] &&
+    grep -q "clockback.csv:4:1: time goes backwards: 07:59:00.000 after 08:00:01.000" \
+        "$tmp/clockback.err"
+check "a time of day a minute back is time going back (line 4), not a midnight" $?
 flat "$tmp/dmy.json" | grep -q '"date_order":"dmy"'
 check "date_order dmy reported" $?
 "$bin" assess "$tmp/mdy.csv" --boot 0 --quiet --json "$tmp/from.json" --from "3/14/2026 8:00:30 AM" 2>/dev/null
