@@ -83,6 +83,22 @@ static el_status drop_text_columns(el_table *t, const long *text_line, el_error 
 }
 
 /* Converts the time column to seconds and writes the notes about time. */
+/* Times that read as spreadsheet day numbers of the years 2000-2050
+ * (36,526 = 2000-01-01 .. 55,153 = 2050-12-31 in days since 1899-12-30,
+ * the count spreadsheets keep dates in; recalled from memory) stepping by
+ * less than 100 s as days: a date column exported without its format. As
+ * seconds the same steps would be a sampling above 800 Hz at 10-15 h into
+ * a day, which is why the note says "if so". */
+static int looks_like_day_numbers(const el_table *t)
+{
+    if (t->n_rows < 2)
+        return 0;
+    const double *time = t->values + t->time_column * t->n_rows;
+    double first = time[0], last = time[t->n_rows - 1];
+    double step = (last - first) / (double)(t->n_rows - 1);
+    return first >= 36526.0 && last <= 55153.0 && step > 0.0 && step < 100.0 / 86400.0;
+}
+
 el_status el_table_finish(el_table *t, const long *text_line, el_error *err)
 {
     el_status st = drop_text_columns(t, text_line, err);
@@ -106,7 +122,12 @@ el_status el_table_finish(el_table *t, const long *text_line, el_error *err)
         st = el_warnings_add(&t->notes,
                              "the time column \"%.100s\" names no unit: its numbers are taken "
                              "as seconds (give --time-unit, or write the unit in the header "
-                             "as \"%.60s [ms]\")", t->names[tc], t->names[tc]);
+                             "as \"%.60s [ms]\")%s", t->names[tc], t->names[tc],
+                             looks_like_day_numbers(t)
+                                 ? "; they look like spreadsheet day numbers (days since "
+                                   "1899-12-30, dates of 2000-2050 with fractions for the "
+                                   "time of day): if so, give --time-unit d"
+                                 : "");
     if (st == EL_OK && t->time_is_iso && !t->time_zone_known)
         st = el_warnings_add(&t->notes,
                              "the date-times carry no zone (Z or +01:00): they are read as "

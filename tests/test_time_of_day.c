@@ -212,6 +212,30 @@ static void test_joined_files(void **state)
     rmdir(dir);
 }
 
+/* A time column of numbers with no unit whose values read as spreadsheet
+ * day numbers (46,095.5 = 2026-03-14 12:00, days since 1899-12-30;
+ * recalled from memory) gets the hint to give --time-unit d; seconds of
+ * an ordinary log do not. */
+static void test_day_numbers_hint(void **state)
+{
+    (void)state;
+    el_table t = {0};
+    el_error e;
+    if (read_text("t,x\n46095.5,1\n46095.50001,2\n46095.50002,3\n", &t, &e) != EL_OK)
+        fail_msg("%s", e.message);
+    int hinted = 0;
+    for (size_t i = 0; i < t.notes.count; i++)
+        hinted |= strstr(t.notes.items[i], "--time-unit d") != NULL;
+    assert_true(hinted);
+    el_table_free(&t);
+    memset(&t, 0, sizeof t);
+    if (read_text("t,x\n0,1\n0.05,2\n0.1,3\n", &t, &e) != EL_OK)
+        fail_msg("%s", e.message);
+    for (size_t i = 0; i < t.notes.count; i++)
+        assert_null(strstr(t.notes.items[i], "day numbers"));
+    el_table_free(&t);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -220,6 +244,7 @@ int main(void)
         cmocka_unit_test(test_log_across_midnight),
         cmocka_unit_test(test_clock_errors),
         cmocka_unit_test(test_joined_files),
+        cmocka_unit_test(test_day_numbers_hint),
     };
     return cmocka_run_group_tests_name("time_of_day", tests, NULL, NULL);
 }
