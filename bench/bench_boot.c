@@ -1,8 +1,9 @@
 /* bench_boot: cost of 1,000 bootstrap replicates on a 100,000-sample x
  * 8-channel log, against one point fit of the same log, and the speed-up
  * from 1 to 2 threads. Prints figures; not a pass/fail test.
- * Usage: bench_boot [METHOD] (default ls; e.g. hankel, as --method spells
- * it). */
+ * Usage: bench_boot [METHOD [RUNS]] (METHOD default ls; e.g. hankel, as
+ * --method spells it; RUNS the runs each figure is the best of, default 5:
+ * 1 for a profile under callgrind). */
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
@@ -59,6 +60,7 @@ static int make_series(el_series *s)
 /* Best of BEST_OF runs (the fair figure on a shared machine, as for the
  * point fit); *out keeps the last run's result. */
 #define BEST_OF 5
+static int best_of = BEST_OF;
 
 static double run_boot(const el_series *s, const el_fit_options *fo, const el_model *m,
                        const el_modes *modes, size_t threads, int bias_correct,
@@ -70,7 +72,7 @@ static double run_boot(const el_series *s, const el_fit_options *fo, const el_mo
     bo.threads = threads;
     bo.bias_correct = bias_correct;
     double best = 1e30;
-    for (int rep = 0; rep < BEST_OF; rep++) {
+    for (int rep = 0; rep < best_of; rep++) {
         el_boot_free(out);
         el_warnings w = {0};
         el_error err;
@@ -110,6 +112,13 @@ int main(int argc, char **argv)
             return 1;
         }
     }
+    if (argc > 2) {
+        best_of = atoi(argv[2]);
+        if (best_of < 1 || best_of > 100) {
+            fprintf(stderr, "bench_boot: RUNS must be 1..100\n");
+            return 1;
+        }
+    }
     el_model m;
     el_modes modes;
     memset(&m, 0, sizeof m);
@@ -120,7 +129,7 @@ int main(int argc, char **argv)
     /* The point fit is timed over several runs (it is short); the best run
      * is the fair figure on a shared machine. */
     double fit_s = 1e30;
-    for (int rep = 0; rep < 5; rep++) {
+    for (int rep = 0; rep < best_of; rep++) {
         el_model_free(&m);
         double t0 = now_s();
         if (el_fit(&s, &fo, &m, &w, &err) != EL_OK) {
@@ -145,7 +154,7 @@ int main(int argc, char **argv)
                       sizeof(double) * one.replicates * one.n_modes) == 0;
     printf("bootstrap (--method %s, rank %zu): %d replicates on %d samples x %d channels "
            "(block length %zu), best of %d runs\n", el_method_name(fo.method), m.rank,
-           N_REPLICATES, N_SAMPLES, N_CH, one.block_length, BEST_OF);
+           N_REPLICATES, N_SAMPLES, N_CH, one.block_length, best_of);
     printf("  one point fit           %.4f s\n", fit_s);
     printf("  1 thread                %.4f s = %.2f point fits (set-up %.4f s, replicates "
            "%.4f s)\n", t1, t1 / fit_s, set1, rep1);
