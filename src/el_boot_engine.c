@@ -101,6 +101,61 @@ static void kahan_add(double *s, double *c, double y)
     *s = t;
 }
 
+static int cpu_has_avx2(void);
+
+/* kahan_add of y[f] = run[f] - len * centre[f] (centre NULL: run[f]) into
+ * (s[f], c[f]) for every feature f < d. */
+static void kahan_run_plain(double *s, double *c, const double *run, const double *centre,
+                            double len, size_t d)
+{
+    for (size_t f = 0; f < d; f++)
+        kahan_add(&s[f], &c[f], centre != NULL ? run[f] - len * centre[f] : run[f]);
+}
+
+#if EL_ENGINE_AVX2
+/* kahan_run_plain four features a step: both of kahan_add's branches are
+ * computed and the one its comparison picks is kept (an ordered >=, so a
+ * NaN takes the second branch as there), with the same IEEE operations in
+ * the same order and no fused ones: the same doubles, without a branch
+ * per feature (the compensated pass over the data of a 32-number window,
+ * 561 features a stride, spent a fifth of the engine's build on it). */
+__attribute__((target("avx2"))) static void kahan_run_avx2(double *s, double *c,
+                                                           const double *run,
+                                                           const double *centre,
+                                                           double len, size_t d)
+{
+    const __m256d sign = _mm256_set1_pd(-0.0), lv = _mm256_set1_pd(len);
+    size_t f = 0;
+    for (; f + 4 <= d; f += 4) {
+        __m256d y = _mm256_loadu_pd(run + f);
+        if (centre != NULL)
+            y = _mm256_sub_pd(y, _mm256_mul_pd(lv, _mm256_loadu_pd(centre + f)));
+        __m256d sv = _mm256_loadu_pd(s + f), cv = _mm256_loadu_pd(c + f);
+        __m256d t = _mm256_add_pd(sv, y);
+        __m256d ge = _mm256_cmp_pd(_mm256_andnot_pd(sign, sv), _mm256_andnot_pd(sign, y),
+                                   _CMP_GE_OQ);
+        __m256d big_s = _mm256_add_pd(_mm256_sub_pd(sv, t), y);
+        __m256d big_y = _mm256_add_pd(_mm256_sub_pd(y, t), sv);
+        cv = _mm256_add_pd(cv, _mm256_blendv_pd(big_y, big_s, ge));
+        _mm256_storeu_pd(c + f, cv);
+        _mm256_storeu_pd(s + f, t);
+    }
+    kahan_run_plain(s + f, c + f, run + f, centre != NULL ? centre + f : NULL, len, d - f);
+}
+#endif
+
+static void kahan_run(double *s, double *c, const double *run, const double *centre,
+                      double len, size_t d)
+{
+#if EL_ENGINE_AVX2
+    if (cpu_has_avx2()) {
+        kahan_run_avx2(s, c, run, centre, len, d);
+        return;
+    }
+#endif
+    kahan_run_plain(s, c, run, centre, len, d);
+}
+
 /* Pairs summed plainly before their sum joins a compensated total: short
  * enough that a plain sum of O(1) features loses nothing that matters
  * (about BOOT_RUN_PAIRS * eps relative), long enough that the compensated
@@ -131,9 +186,7 @@ static void sum_pairs_compensated(const el_boot_provider *prov, const el_boot_di
                     acc[f] += gk[f];
             }
         }
-        double len = (double)(k1 - k0);
-        for (size_t f = 0; f < d; f++)
-            kahan_add(&s[f], &c[f], centre != NULL ? run[f] - len * centre[f] : run[f]);
+        kahan_run(s, c, run, centre, (double)(k1 - k0), d);
     }
 }
 

@@ -290,6 +290,12 @@ int el_est_sym_fun(size_t n, const double *s, size_t lds, double power, double *
     double *v = work, *lam = v + n * n, *lw = lam + n;
     if (el_est_sym_eig(n, s, lds, v, lam, lw))
         return -1;
+    return el_est_sym_fun_from_eig(n, v, lam, power, out, ldo);
+}
+
+int el_est_sym_fun_from_eig(size_t n, const double *v, const double *lam, double power,
+                            double *out, size_t ldo)
+{
     for (size_t j = 0; j < n; j++)
         for (size_t i = 0; i < n; i++)
             out[i + j * ldo] = 0.0;

@@ -133,6 +133,14 @@ int el_est_sym_eig(size_t n, const double *s, size_t lds, double *v, double *lam
 int el_est_sym_fun(size_t n, const double *s, size_t lds, double power, double *out,
                    size_t ldo, double *work);
 
+/* el_est_sym_fun's second step on a decomposition el_est_sym_eig made (v,
+ * lam): out = V f(Lambda) V' as there, the same doubles, so one dsyev
+ * serves several powers of the same matrix (ssi takes S^-1/2 and S^1/2
+ * of one Sxx in every bootstrap replicate). Returns the number of
+ * eigenvalues kept. */
+int el_est_sym_fun_from_eig(size_t n, const double *v, const double *lam, double power,
+                            double *out, size_t ldo);
+
 /* C (m x n, ldc) = A (m x k, lda) * B (k x n, ldb), with transposes
  * (ta, tb: 1 = transposed). */
 void el_est_gemm(int ta, int tb, size_t m, size_t n, size_t k, const double *a,

@@ -43,9 +43,16 @@ static int ssi_core(size_t r, const double *cov, size_t ld, double *a, double *w
     double *u = el_est_take(&pool, n2 * n2), *s = el_est_take(&pool, n2);
     double *svw = el_est_take(&pool, 10 * n2 + 8), *o1 = el_est_take(&pool, r * r);
     double *o2 = el_est_take(&pool, r * r), *rw = el_est_take(&pool, 2 * r * r);
-    if (el_est_sym_fun(r, cov, ld, -0.5, wx, r, sw) < (int)r)
+    /* Sxx^-1/2 and Sxx^1/2 from one decomposition of Sxx (the same
+     * doubles as two el_est_sym_fun calls: dsyev gives the same bits for
+     * the same matrix; a replicate spent a sixth of its solve on the
+     * second one). */
+    double *sv = sw, *slam = sv + r * r;
+    if (el_est_sym_eig(r, cov, ld, sv, slam, slam + r))
         return 1;
-    if (el_est_sym_fun(r, cov, ld, 0.5, wxi, r, sw) < (int)r)
+    if (el_est_sym_fun_from_eig(r, sv, slam, -0.5, wx, r) < (int)r)
+        return 1;
+    if (el_est_sym_fun_from_eig(r, sv, slam, 0.5, wxi, r) < (int)r)
         return 1;
     if (el_est_sym_fun(n2, cov + 2 * r + 2 * r * ld, ld, -0.5, wz, n2, sw) < (int)r)
         return 1;
