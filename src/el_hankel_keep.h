@@ -17,9 +17,11 @@
 
 /* The chains of res (an el_subspace_execute result with the automatic
  * order, res->order > 0) the automatic hankel model keeps. When the
- * stage's order res->order keeps some chain by the rules below, the order
- * up to res->order whose physical poles give the most eigenvalues by the
- * same rules (the lowest on a tie) supplies the chains: the physical
+ * stage's order res->order keeps some chain by the rules below, the
+ * lowest order below it whose physical poles give more eigenvalues by the
+ * same rules (the most; as many too when the stage's set carries less than
+ * half of its order's modal contributions) supplies the chains, else
+ * res->order itself. The rules, per order: the physical
  * poles of that order whose share of the modal contributions is at least
  * 1 % of the strongest physical decaying pole's of that order (of the
  * strongest pole's when none decays), by the order their chain starts at,
