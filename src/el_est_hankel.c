@@ -17,6 +17,7 @@
  * fewest with (K + 1) channels >= n_k, so the data are read twice (once
  * for the order, once for the fit): the point fit costs two stage runs. */
 #include "el_estimator.h"
+#include "el_hankel_keep.h"
 #include "el_modes.h"
 #include "el_resample.h"
 #include "el_stats.h"
@@ -40,37 +41,6 @@
 /* Fewest blocks of one replicate the automatic block length aims at
  * (auto_block). A rule of thumb of ours. */
 #define HK_MIN_BLOCKS 20
-
-/* A physical pole is kept only when its share of the modal contributions
- * is at least this fraction of the strongest physical pole's (a floor
- * against poles the stage labels physical at a share of a few 1e-3). */
-#define HK_MIN_SHARE_RATIO 0.01
-
-/* A physical chain that first appears at an order above this factor times
- * the eigenvalues kept so far (its own included) plus 2 is left out: real
- * modes enter the stabilisation early (at about their eigenvalue count),
- * while at the high orders the automatic order can reach on short
- * two-sensor logs a noise pole can persist over the five orders the stage
- * asks for, beside a real mode (measured: a 100-s window of a slowly
- * drifting oscillator, e2e_track.sh, had a chain starting at order 17 with
- * 8 % of the contributions and negative damping; datasets/rig_test.csv's
- * real 2.4 Hz mode has the same share but starts at order 4). */
-#define HK_LATE_FACTOR 2
-
-/* When the poles the automatic model takes at the stage's order carry
- * less than this share of that order's modal contributions, the orders
- * below are read for a set that holds more eigenvalues (kept_poles). The
- * measured case: the slow pole of an overdamped node, 0.6-0.9 of the
- * contributions, dropped with its chain broken, leaving a model of the
- * fast pole with 0.06-0.14. A half: a model that leaves out most of what
- * its order explains has lost a strong mode (our rule). Only then, and
- * only when the stage's order keeps some chain: the lower orders repair a
- * model, they never make one where the rules at the stage's order found
- * none (which logs hankel models decides --method auto's choice; reading
- * lower orders whenever they held more gave the second half of the fan
- * warm-up demo log a model, and auto then took hankel for the whole log,
- * whose model holds a weak growing pole: P(stable) 1 -> 0.67). */
-#define HK_LOW_KEPT_SHARE 0.5
 
 /* One run of the subspace stage. */
 typedef struct {
@@ -108,200 +78,23 @@ static el_status stage_run(const el_series *series, double horizon_time, size_t 
     return st;
 }
 
-/* Whether pole z (order n - 1) continues pole y (order n) in frequency
- * and damping, by the stabilisation rule's tolerances (el_subspace.c:
- * max(stab_freq_rel, a tenth of the half-power band 2 zeta) in natural
- * frequency) without its shape test, and twice its relative tolerance in
- * damping ratio (10 %; its absolute floor of 0.005 unchanged, so nothing
- * moves for damping ratios below 0.05). The stabilisation's 5 % is
- * narrower than an order-to-order move of a heavily damped mode
- * (measured: the 0.384 Hz, zeta 0.252 mode of issue 10's 6-sensor system,
- * 20,000 samples, damping 0.238 -> 0.225 between orders 19 and 20; dated
- * from order 20, the late-chain rule dropped it in 3 of 16 logs,
- * tests/test_subspace.c). Not wider for light damping: an absolute
- * tolerance of a tenth of the frequency band's (0.01 at zeta 0.03) also
- * dated a growing pole of the fan warm-up demo's drift from early orders
- * and gave that log a hankel model (tests/e2e_assess.sh). And without its
- * test of kind: a real pole that an order estimates as a pair of damping
- * ratio within the damping tolerance of 1 is the same mode (near a
- * repeated or critically damped eigenvalue the estimate moves across the
- * split by its noise; measured: the slow pole of an overdamped node became
- * a pair of damping 0.999 at one order of 30). */
-static int continues(const el_subspace_options *o, const el_subspace_pole *z,
-                     const el_subspace_pole *y)
-{
-    if (!isfinite(z->natural_hz)
-        || !isfinite(y->natural_hz) || !isfinite(z->damping_ratio)
-        || !isfinite(y->damping_ratio))
-        return 0;
-    double tol = fmax(o->stab_freq_rel, 0.2 * fmin(fabs(y->damping_ratio), 1.0));
-    return fabs(z->natural_hz - y->natural_hz) <= tol * y->natural_hz
-           && fabs(z->damping_ratio - y->damping_ratio)
-                  <= fmax(2.0 * o->stab_damp_rel * fabs(y->damping_ratio), o->stab_damp_abs);
-}
-
-/* The order at which a chain's mode first appears: the chain's lowest
- * order, walked down while the order below has a pole that continues it
- * in frequency and damping. A chain can break where its shape test fails
- * once, when a noise pole of the same frequency enters at a high order
- * and shares its shape (measured: the slow real pole of an overdamped
- * node, 20,000 samples, chain broken at order 8 of 30 beside a noise pair
- * at 0.1 Hz); the mode itself was there from order 1, and the late-chain
- * rule (HK_LATE_FACTOR) should not count it as a newcomer. */
-static size_t chain_start(const el_subspace_result *res, size_t chain)
-{
-    el_subspace_options o;
-    el_subspace_defaults(&o);
-    const el_subspace_pole *y = NULL;
-    for (size_t j = 0; j < res->n_poles; j++)
-        if (res->poles[j].chain == chain && (y == NULL || res->poles[j].order < y->order))
-            y = &res->poles[j];
-    if (y == NULL)
-        return SIZE_MAX;
-    for (size_t n = y->order; n > 1;) {
-        const el_subspace_pole *z = NULL;
-        double best = INFINITY;
-        for (size_t j = 0; j < res->n_poles; j++) {
-            const el_subspace_pole *c = &res->poles[j];
-            double d = fabs(c->natural_hz - y->natural_hz);
-            if (c->order == n - 1 && continues(&o, c, y) && d < best) {
-                best = d;
-                z = c;
-            }
-        }
-        if (z == NULL)
-            break;
-        y = z;
-        n--;
-    }
-    return y->order;
-}
-
-/* The chains the automatic model takes from the physical poles of order
- * n: those whose share of the modal contributions is at least
- * HK_MIN_SHARE_RATIO of the strongest physical pole's of that order, by
- * the order their chain starts at, earliest first; a chain that starts
- * later than HK_LATE_FACTOR times the eigenvalues kept with it (plus 2) is
- * left out, and all after it. Writes the chains to chains and returns
- * their count; *n_eig receives their eigenvalue count. */
-static size_t chains_of_order(const el_subspace_result *res, size_t n, size_t *chains,
-                              size_t *n_eig)
-{
-    double top = 0.0;
-    for (size_t k = 0; k < res->n_poles; k++) {
-        const el_subspace_pole *q = &res->poles[k];
-        if (q->order == n && q->physical && q->contribution > top)
-            top = q->contribution;
-    }
-    size_t cand[2 * EL_SUBSPACE_MAX_ORDER + 2], start[2 * EL_SUBSPACE_MAX_ORDER + 2];
-    size_t n_cand = 0;
-    for (size_t k = 0; k < res->n_poles; k++) {
-        const el_subspace_pole *q = &res->poles[k];
-        if (q->order != n || !q->physical || q->contribution < HK_MIN_SHARE_RATIO * top ||
-            n_cand >= 2 * EL_SUBSPACE_MAX_ORDER + 2)
-            continue;
-        size_t st = chain_start(res, q->chain);
-        size_t i = n_cand++;
-        for (; i > 0 && start[i - 1] > st; i--) {
-            cand[i] = cand[i - 1];
-            start[i] = start[i - 1];
-        }
-        cand[i] = k;
-        start[i] = st;
-    }
-    size_t eig = 0, n_chains = 0;
-    for (size_t i = 0; i < n_cand; i++) {
-        const el_subspace_pole *q = &res->poles[cand[i]];
-        size_t e = eig + (q->mu_im > 0.0 ? 2 : 1);
-        if (start[i] > HK_LATE_FACTOR * e + 2)
-            break;
-        eig = e;
-        chains[n_chains++] = q->chain;
-    }
-    *n_eig = eig;
-    return n_chains;
-}
-
-/* The share of order n's modal contributions that the poles of the given
- * chains carry. */
-static double kept_share(const el_subspace_result *res, size_t n, const size_t *chains,
-                         size_t n_chains)
-{
-    double share = 0.0;
-    for (size_t k = 0; k < res->n_poles; k++) {
-        const el_subspace_pole *q = &res->poles[k];
-        if (q->order != n)
-            continue;
-        for (size_t c = 0; c < n_chains; c++)
-            if (q->chain == chains[c]) {
-                share += q->contribution;
-                break;
-            }
-    }
-    return share;
-}
-
-/* The poles kept: with the order given, all of that order's. Automatic:
- * the chains of the stage's automatic order by chains_of_order; when
- * there are some but their poles carry less than HK_LOW_KEPT_SHARE of that
- * order's modal contributions (a strong mode was left out), of the
- * orders up to the stage's, the one whose physical poles give the most
- * eigenvalues by chains_of_order (the lowest on a tie), and its chains.
- * The model then takes the lowest order at which every one of those
- * chains has a pole (el_subspace_set_order): fewer noise poles in the
- * model and in the bootstrap's replicates, whose eigenvalues are matched
- * to the kept ones. Until 2026-12-05 only the stage's order was read, the
- * smallest with the most physical poles at once, and noise chains count
- * there too: on overdamped nodes a noise pole entering at order 8-14
- * broke the slow pole's chain (its estimate jumps by more than the
- * tolerance), both were then dated late and the model kept only the fast
- * pole, while the orders below held both (calibrate --misses: 4 of 54
- * sink logs at 5,000 samples, 6 of 57 at 20,000). Writes the kept
- * poles' indices (into the model order's poles) to keep and returns their
- * count (0: none); *n_eig receives their eigenvalue count. */
+/* The poles kept: with the order given, all of that order's; automatic:
+ * the chains el_hankel_keep_chains keeps, at the lowest order that holds
+ * them all (el_subspace_set_order). Writes the kept poles' indices (into
+ * the model order's poles) to keep and returns their count (0: none);
+ * *n_eig receives their eigenvalue count. */
 static size_t kept_poles(hk_stage *s, size_t *keep, size_t *n_eig, el_error *err)
 {
     el_subspace_result *res = &s->res;
     *n_eig = 0;
     if (res->order == 0)
         return 0;
-    size_t chains[2 * EL_SUBSPACE_MAX_ORDER + 2], n_chains = 0;
+    size_t chains[EL_HANKEL_KEEP_MAX], n_chains = 0;
     if (res->order_was_auto) {
-        size_t best = res->order, best_eig = 0;
-        n_chains = chains_of_order(res, res->order, chains, &best_eig);
-        if (n_chains > 0 &&
-            kept_share(res, res->order, chains, n_chains) < HK_LOW_KEPT_SHARE) {
-            best = 0;
-            best_eig = 0;
-            for (size_t n = 1; n <= res->order; n++) {
-                size_t e = 0;
-                chains_of_order(res, n, chains, &e);
-                if (e > best_eig) {
-                    best_eig = e;
-                    best = n;
-                }
-            }
-        }
-        if (best == 0)
-            return 0;
-        size_t e = 0;
-        n_chains = chains_of_order(res, best, chains, &e);
+        size_t lowest = 0, e = 0;
+        n_chains = el_hankel_keep_chains(res, chains, &lowest, &e);
         if (n_chains == 0)
             return 0;
-        size_t lowest = best;
-        for (size_t n = 1; n < best; n++) {
-            size_t found = 0;
-            for (size_t c = 0; c < n_chains; c++)
-                for (size_t k = 0; k < res->n_poles; k++)
-                    if (res->poles[k].order == n && res->poles[k].chain == chains[c]) {
-                        found++;
-                        break;
-                    }
-            if (found == n_chains) {
-                lowest = n;
-                break;
-            }
-        }
         if (lowest != res->order && el_subspace_set_order(s->plan, lowest, res, err) != EL_OK)
             return 0;
     }
