@@ -1123,9 +1123,9 @@ el_status el_assess_analyse(const el_assess_options *opt, el_assessment *r,
  * replicate's estimate then depends on how many late windows it drew,
  * not only on the noise. Measured on a 4-sensor log growing 6.9-fold
  * (bench/fresh_family.py, system 13 at 30 dB, 12 redraws of the same
- * system): hankel's point estimate of Re lambda was 0.08-0.11 1/s (true
+ * system): hankel's point estimate of Re lambda was 0.06-0.11 1/s (true
  * 0.094) in 10 of 12 draws, but its 95 % bounds reached -5 to -18 1/s and
- * P(stable) was 0.38-0.53 in 8 of them; of one draw's replicates, those
+ * P(stable) was 0.38-0.53 in 7 of them; of one draw's replicates, those
  * with under a tenth of late windows (a quarter expected) were stable in
  * 65 %, those with over a third in 2 %. iv's replicates are
  * regressions on snapshot pairs, each weighted by its own amplitude, and
