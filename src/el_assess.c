@@ -1130,8 +1130,9 @@ el_status el_assess_analyse(const el_assess_options *opt, el_assessment *r,
  * with under a tenth of late windows (a quarter expected) were stable in
  * 65 %, those with over a third in 2 %, and the block length (44 to 1000
  * windows) did not change P(stable). iv's bounds ([0.065, 0.121] on a
- * draw with 0.092) matched the spread of the draws. The weaker test than the veto's (per channel, unadjusted, a
- * factor of at least 3) suffices because the choice claims nothing about
+ * draw with 0.092) matched the spread of the draws. The weaker test
+ * than the veto's (per channel, unadjusted, a factor of at least 3)
+ * suffices because the choice claims nothing about
  * stability: iv is consistent for stationary logs too, so a stationary
  * window taken for a growing one keeps a valid estimator (iv is the
  * default for every short or single-channel log); the factor keeps the
