@@ -38,6 +38,7 @@
 #include <time.h>
 #include <unistd.h>
 
+#include "el_assess.h"
 #include "el_boot_bounds.h"
 #include "el_estimator.h"
 #include "el_fit.h"
@@ -257,15 +258,17 @@ static size_t least_damped(const truth *t)
 
 /* The estimator --method auto (the default) fits on this log: hankel for
  * two or more channels when the block Hankel at the automatic horizon has
- * at least 20 windows per row, else iv (el_assess.c, choose_subspace and
+ * at least 20 windows per row and the envelope does not grow
+ * (EL_ASSESS_HANKEL_GROWTH_FACTOR), else iv (el_assess.c, choose_subspace and
  * EL_ASSESS_SUBSPACE_WINDOWS_PER_ROW; no inputs, no --lags here). The
  * fallback to iv when hankel gives no model is in one_log. */
 #define CAL_SUBSPACE_WINDOWS_PER_ROW 20
+static int log_envelope_grows(const cal_options *o, const el_series *s);
 static el_method method_for(const cal_options *o, const el_series *s)
 {
     if (!o->method_auto)
         return o->method;
-    if (s->n_channels < 2)
+    if (s->n_channels < 2 || log_envelope_grows(o, s))
         return EL_METHOD_IV;
     el_subspace_options so;
     el_subspace_defaults(&so);
@@ -277,6 +280,26 @@ static el_method method_for(const cal_options *o, const el_series *s)
     size_t rows = hz.rows * s->n_channels;
     size_t windows = s->n_samples + 1 - 2 * hz.rows;
     return windows < CAL_SUBSPACE_WINDOWS_PER_ROW * rows ? EL_METHOD_IV : EL_METHOD_HANKEL;
+}
+
+/* Whether the regime stage finds the envelope growth that keeps auto off
+ * hankel (el_assess.h, EL_ASSESS_HANKEL_GROWTH_FACTOR); 0 when it cannot
+ * tell. */
+static int log_envelope_grows(const cal_options *o, const el_series *s)
+{
+    el_regime *rg = NULL;
+    el_error local;
+    el_error_clear(&local);
+    pthread_mutex_lock(o->fftw_lock);
+    el_status st = el_regime_create(s->n_samples, s->n_channels, &rg, &local);
+    pthread_mutex_unlock(o->fftw_lock);
+    int grows = st == EL_OK && el_regime_run(rg, s, NULL, NULL, &local) == EL_OK &&
+                el_regime_envelope_grows(rg, EL_ASSESS_HANKEL_GROWTH_FACTOR,
+                                         EL_ASSESS_HANKEL_GROWTH_P, NULL, NULL, NULL);
+    pthread_mutex_lock(o->fftw_lock);
+    el_regime_destroy(rg);
+    pthread_mutex_unlock(o->fftw_lock);
+    return grows;
 }
 
 /* Whether the regime stage calls this log stationary (no free transient),

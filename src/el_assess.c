@@ -1112,15 +1112,31 @@ el_status el_assess_analyse(const el_assess_options *opt, el_assessment *r,
  * ours, set from that case and the 6-sensor example (151 per row). */
 #define EL_ASSESS_SUBSPACE_WINDOWS_PER_ROW 20
 
+
 /* --method auto on a multi-sensor log without measured inputs: the
  * block-Hankel subspace estimator leads (docs/accuracy.md, family M: every
  * mode within 5 % / 0.05 in far more logs than iv at the default lags,
  * because its horizon covers the slow modes' time scale); the regime's
- * cross-check stays. One channel or measured inputs keep iv. */
+ * cross-check stays. One channel, measured inputs or a growing envelope
+ * (EL_ASSESS_HANKEL_GROWTH_FACTOR, el_assess.h says why) keep iv. */
 static void choose_subspace(el_assess_plan *ap, el_assessment *r, el_fit_options *fit)
 {
     if (r->has_inputs || r->series.n_channels < 2 || fit->lags > 0)
         return;
+    size_t grow_channel = 0;
+    double grow_factor = NAN, grow_p = NAN;
+    if (el_regime_envelope_grows(r->regime, EL_ASSESS_HANKEL_GROWTH_FACTOR,
+                                 EL_ASSESS_HANKEL_GROWTH_P, &grow_channel, &grow_factor,
+                                 &grow_p)) {
+        snprintf(r->method_reason, sizeof r->method_reason,
+                 "the amplitude of %.40s grows %.3g-fold over the window (one-sided p "
+                 "%.2g): instrumental variables, cross-checked by %s; not hankel, whose "
+                 "block bootstrap takes every window as alike",
+                 r->series.names != NULL && r->series.names[grow_channel] != NULL
+                     ? r->series.names[grow_channel] : "a channel",
+                 grow_factor, grow_p, el_method_name(r->cross_method));
+        return;
+    }
     /* The autocorrelation every automatic horizon of this window reads
      * (here, then the hankel or iv preparation): computed once. */
     el_error local;

@@ -1082,6 +1082,33 @@ int el_regime_growth_veto(const el_regime *r, double *factor, double *p_value,
     return r != NULL && r->growth;
 }
 
+int el_regime_envelope_grows(const el_regime *r, double min_factor, double max_p,
+                             size_t *channel, double *factor, double *p_value)
+{
+    if (r == NULL || r->tested == NULL)
+        return 0;
+    size_t best = 0;
+    int found = 0;
+    for (size_t c = 0; c < r->n_channels; c++) {
+        /* NaN (untested) never compares true */
+        if (!r->tested[c] || !(r->envelope_factor[c] >= min_factor) ||
+            !(r->envelope_p_growth[c] <= max_p))
+            continue;
+        if (!found || r->envelope_p_growth[c] < r->envelope_p_growth[best])
+            best = c;
+        found = 1;
+    }
+    if (!found)
+        return 0;
+    if (channel != NULL)
+        *channel = best;
+    if (factor != NULL)
+        *factor = r->envelope_factor[best];
+    if (p_value != NULL)
+        *p_value = r->envelope_p_growth[best];
+    return 1;
+}
+
 el_status el_regime_growth_warning(const el_regime *r, const el_series *series,
                                    el_warnings *warnings, el_error *err)
 {

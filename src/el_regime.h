@@ -294,6 +294,18 @@ void el_regime_level_recheck(el_regime *r, const el_series *series,
 int el_regime_growth_veto(const el_regime *r, double *factor, double *p_value,
                           size_t *channel);
 
+/* Whether the amplitude envelope of some tested channel of the last run
+ * grows by at least min_factor over the window (envelope_factor) with a
+ * one-sided, per-channel p of at most max_p (envelope_p_growth, not
+ * adjusted over channels): a weaker question than the veto's, for choices
+ * that must not rest on a steady envelope but claim nothing about
+ * stability (--method auto keeps the block-Hankel estimator off such a
+ * log: el_assess.c, choose_subspace). Returns 1 and sets channel, factor
+ * and p_value (each may be NULL) to the qualifying channel with the
+ * smallest p; else 0 and leaves them alone. 0 for a NULL r. Can't fail. */
+int el_regime_envelope_grows(const el_regime *r, double min_factor, double max_p,
+                             size_t *channel, double *factor, double *p_value);
+
 /* Adds the veto's sentence when el_regime_growth_veto is 1: "the amplitude
  * of channel X grows by a factor F over the window (p = P, model-free
  * envelope test): the operating point cannot be called stable", or for
