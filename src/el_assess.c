@@ -1,7 +1,6 @@
 /* el_assess: the main job as one library call. */
 #include "el_assess.h"
 #include "el_channels.h"
-#include "el_envelope_check.h"
 #include "el_spikes.h"
 #include "el_subspace.h"
 
@@ -1347,11 +1346,10 @@ el_status el_assess_execute(el_assess_plan *ap, const el_assess_options *opt,
     }
     if (st == EL_OK && boot_run)
         st = plain_state_check(opt, &fit, r, err);
-    el_envelope_check envelope;
     if (st == EL_OK && boot_run)
         st = el_envelope_check_verdict(r->regime, &r->series, &r->modes, &r->boot,
                                        r->model.method, opt->boot.level, &r->verdict,
-                                       &envelope, &r->warnings, err);
+                                       &r->envelope_check, &r->warnings, err);
     stage(opt, "checking the model", 0);
     if (st == EL_OK)
         st = veto_growth(r, err);

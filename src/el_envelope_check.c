@@ -115,14 +115,15 @@ el_status el_envelope_check_verdict(const el_regime *regime, const el_series *se
                         "the estimators disagree: %s says unstable, its fastest mode "
                         "growing at Re lambda %.4g 1/s (%.3g e-folds over the %.4g-s "
                         "envelope), but the log's own envelope allows at most %.4g 1/s "
-                        "(%s, upper bound at family level %.2g); %zu of %zu "
-                        "bootstrap replicates stay within that, and %.0f of them grow: "
-                        "the model does not describe this log's growth; the verdict is "
-                        "ambiguous",
+                        "(%s, upper bound at family level %.2g); %zu of %zu bootstrap "
+                        "replicates grow only faster than the log allows, and of the "
+                        "%zu others %.0f grow: the model does not describe this log's "
+                        "growth; the verdict is ambiguous",
                         el_method_name(method), out->model_rate, efolds, out->span,
                         out->rate_hi, series->names != NULL ? series->names[out->channel]
                                                             : "a channel",
-                        EL_ENVELOPE_CHECK_ALPHA, out->kept, boot->replicates,
+                        EL_ENVELOPE_CHECK_ALPHA, boot->replicates - out->kept,
+                        boot->replicates, out->kept,
                         out->p_allowed * (double)out->kept) != EL_OK)
         return el_error_set(err, EL_ERR_NOMEM, "out of memory for a warning");
     return EL_OK;
