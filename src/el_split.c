@@ -177,6 +177,7 @@ static size_t shape_partner(const el_split_check *sc, size_t h, size_t i)
 static int match_shapes(el_split_check *sc)
 {
     sc->mac = NAN;
+    sc->rematched = 0;
     if (sc->shape_channels < 2 || sc->n_records[0] == 0 || sc->n_records[1] == 0)
         return 1;
     const el_split_mode_record *a = &sc->records[0][sc->compared[0]];
