@@ -137,6 +137,16 @@ static void disagree(const el_assessment *r, el_advice *a)
                  "--depth %d`); a longer log helps every estimator", EL_STATE_CHECK_DEPTH);
         return;
     }
+    if (r->envelope_check.withdraws) {
+        snprintf(a->reason, sizeof a->reason,
+                 "the estimators disagree: %s's fastest mode grows at %.3g 1/s, but the "
+                 "log's own envelope grows at most at %.3g 1/s", main_m,
+                 r->envelope_check.model_rate, r->envelope_check.rate_hi);
+        snprintf(a->next_step, sizeof a->next_step,
+                 "compare `--method ssi`; a growing mode the log does not show can be "
+                 "sensor noise with its own dynamics (coloured noise) taken for a mode");
+        return;
+    }
     snprintf(a->reason, sizeof a->reason,
              "the estimators disagree: %s and the independent cross-check by %s lean to "
              "different sides of the stability boundary", main_m, cross_m);

@@ -1362,6 +1362,10 @@ el_status el_assess_execute(el_assess_plan *ap, const el_assess_options *opt,
     }
     if (st == EL_OK && boot_run)
         st = plain_state_check(opt, &fit, r, err);
+    if (st == EL_OK && boot_run)
+        st = el_envelope_check_verdict(r->regime, &r->series, &r->modes, &r->boot,
+                                       r->model.method, opt->boot.level, &r->verdict,
+                                       &r->envelope_check, &r->warnings, err);
     stage(opt, "checking the model", 0);
     if (st == EL_OK)
         st = veto_growth(r, err);

@@ -20,6 +20,7 @@
 #include "el_resample.h"
 #include "el_spectrum.h"
 #include "el_split.h"
+#include "el_envelope_check.h"
 #include "el_state_check.h"
 #include "el_timebase.h"
 #include "el_validate.h"
@@ -159,6 +160,8 @@ typedef struct {
     int cross_agrees;             /* 1: the cross-check supports the verdict */
     el_state_check state_check;   /* iv's plain-state check of an "unstable" from the
                                      automatic multi-step state (ran 0 when not made) */
+    el_envelope_check envelope_check; /* an "unstable" against the log's envelope
+                                     (el_envelope_check; made 0 when not run) */
     el_boot_result boot;          /* boot.replicates == 0 when not run */
     el_verdict verdict;
     double *detrend_level;        /* n_channels: removed level (0 without detrend) */

@@ -57,6 +57,31 @@ static void test_reason_names_ls_leaning_stable(void **state)
     assert_non_null(strstr(a.reason, "the cross-check agrees"));
 }
 
+/* The "unstable" withdrawn by the envelope check (fresh log s026 at 20
+ * dB): the reason names the model's growth and the log's envelope, not a
+ * disagreement with the least-squares cross-check, which leaned stable
+ * and was not counted. Built by hand with the fields el_advice reads. */
+static void test_reason_names_envelope(void **state)
+{
+    (void)state;
+    el_assessment r;
+    el_mode m;
+    el_advice a;
+    fill_unstable(&r, &m, 1.0);
+    r.verdict.stability = EL_UNDECIDED;
+    r.verdict.ambiguous = 1;
+    r.verdict.cause = EL_CAUSE_ESTIMATORS_DISAGREE;
+    r.model.method = EL_METHOD_IV;
+    r.envelope_check.made = 1;
+    r.envelope_check.withdraws = 1;
+    r.envelope_check.model_rate = 4.1;
+    r.envelope_check.rate_hi = 0.0035;
+    el_advice_assess(&r, 0.95, &a);
+    assert_non_null(strstr(a.reason, "envelope"));
+    assert_non_null(strstr(a.reason, "4.1"));
+    assert_null(strstr(a.reason, "cross-check by ls"));
+}
+
 /* Reads text through a temporary stream as "test.csv"; expects a data
  * error at line/column whose message holds what and hint holds word. */
 static void expect_ingest_error(const char *text, long line, long column, const char *what,
@@ -105,6 +130,7 @@ int main(void)
 {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_reason_names_ls_leaning_stable),
+        cmocka_unit_test(test_reason_names_envelope),
         cmocka_unit_test(test_separator_hints),
     };
     return cmocka_run_group_tests_name("fresh_qa", tests, NULL, NULL);
