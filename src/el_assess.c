@@ -1112,7 +1112,6 @@ el_status el_assess_analyse(const el_assess_options *opt, el_assessment *r,
  * ours, set from that case and the 6-sensor example (151 per row). */
 #define EL_ASSESS_SUBSPACE_WINDOWS_PER_ROW 20
 
-
 /* --method auto on a multi-sensor log without measured inputs: the
  * block-Hankel subspace estimator leads (docs/accuracy.md, family M: every
  * mode within 5 % / 0.05 in far more logs than iv at the default lags,
