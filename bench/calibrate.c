@@ -282,10 +282,10 @@ static el_method method_for(const cal_options *o, const el_series *s)
     return windows < CAL_SUBSPACE_WINDOWS_PER_ROW * rows ? EL_METHOD_IV : EL_METHOD_HANKEL;
 }
 
-/* Whether the regime stage finds the envelope growth that keeps auto off
- * hankel (el_assess.h, EL_ASSESS_HANKEL_GROWTH_FACTOR); 0 when it cannot
- * tell. */
-static int log_envelope_grows(const cal_options *o, const el_series *s)
+/* The regime stage run on s as el_assess runs it before the fit (the
+ * plan's FFTW calls under the lock), or NULL when it cannot be run; free
+ * with regime_free. */
+static el_regime *regime_of(const cal_options *o, const el_series *s)
 {
     el_regime *rg = NULL;
     el_error local;
@@ -293,12 +293,32 @@ static int log_envelope_grows(const cal_options *o, const el_series *s)
     pthread_mutex_lock(o->fftw_lock);
     el_status st = el_regime_create(s->n_samples, s->n_channels, &rg, &local);
     pthread_mutex_unlock(o->fftw_lock);
-    int grows = st == EL_OK && el_regime_run(rg, s, NULL, NULL, &local) == EL_OK &&
-                el_regime_envelope_grows(rg, EL_ASSESS_HANKEL_GROWTH_FACTOR,
-                                         EL_ASSESS_HANKEL_GROWTH_P, NULL, NULL, NULL);
+    if (st == EL_OK && el_regime_run(rg, s, NULL, NULL, &local) == EL_OK)
+        return rg;
     pthread_mutex_lock(o->fftw_lock);
     el_regime_destroy(rg);
     pthread_mutex_unlock(o->fftw_lock);
+    return NULL;
+}
+
+static void regime_free(const cal_options *o, el_regime *rg)
+{
+    pthread_mutex_lock(o->fftw_lock);
+    el_regime_destroy(rg);
+    pthread_mutex_unlock(o->fftw_lock);
+}
+
+/* Whether the regime stage finds the envelope growth that keeps auto off
+ * hankel (el_assess.h, EL_ASSESS_HANKEL_GROWTH_FACTOR); 0 when it cannot
+ * tell. */
+static int log_envelope_grows(const cal_options *o, const el_series *s)
+{
+    el_regime *rg = regime_of(o, s);
+    int grows = rg != NULL && el_regime_envelope_grows(rg, EL_ASSESS_HANKEL_GROWTH_FACTOR,
+                                                       EL_ASSESS_HANKEL_GROWTH_P, NULL,
+                                                       NULL, NULL);
+    if (rg != NULL)
+        regime_free(o, rg);
     return grows;
 }
 
@@ -306,18 +326,10 @@ static int log_envelope_grows(const cal_options *o, const el_series *s)
  * as el_assess does before the fit; 0 when it cannot tell. */
 static int log_is_stationary(const cal_options *o, const el_series *s)
 {
-    el_regime *rg = NULL;
-    el_error local;
-    el_error_clear(&local);
-    pthread_mutex_lock(o->fftw_lock);
-    el_status st = el_regime_create(s->n_samples, s->n_channels, &rg, &local);
-    pthread_mutex_unlock(o->fftw_lock);
-    int stationary = 0;
-    if (st == EL_OK && el_regime_run(rg, s, NULL, NULL, &local) == EL_OK)
-        stationary = rg->regime == EL_REGIME_STATIONARY;
-    pthread_mutex_lock(o->fftw_lock);
-    el_regime_destroy(rg);
-    pthread_mutex_unlock(o->fftw_lock);
+    el_regime *rg = regime_of(o, s);
+    int stationary = rg != NULL && rg->regime == EL_REGIME_STATIONARY;
+    if (rg != NULL)
+        regime_free(o, rg);
     return stationary;
 }
 
