@@ -9,6 +9,7 @@
 
 #include "el_cycle.h"
 #include "el_dynamics.h"
+#include "el_envelope_check.h"
 #include "el_error.h"
 #include "el_estimator.h"
 #include "el_lags.h"
@@ -20,7 +21,6 @@
 #include "el_resample.h"
 #include "el_spectrum.h"
 #include "el_split.h"
-#include "el_envelope_check.h"
 #include "el_state_check.h"
 #include "el_timebase.h"
 #include "el_validate.h"
