@@ -159,8 +159,11 @@ static const el_mode *growing_mode(const el_assessment *r)
  * growing system may be called stable. Before auto kept iv here it took
  * hankel on every one, whose point estimate was as good but whose bounds
  * reached several 1/s below zero (seed 1: P(stable) 0.51, undecided).
- * hankel is run alone on seed 1 to show that the trap is real: its point
- * estimate grows, its verdict is not "unstable". */
+ * Since hankel keeps the damped mode beside the growing one
+ * (el_hankel_keep), hankel alone decides seed 1 too (P(stable) 0.002);
+ * the gate still decides more growing logs at 30 and 20 dB on both fresh
+ * sets (docs/accuracy.md, round 6), so it stays, and hankel alone is no
+ * longer asserted here. */
 static void test_growing_log_keeps_iv(void **state)
 {
     (void)state;
@@ -193,16 +196,6 @@ static void test_growing_log_keeps_iv(void **state)
             assert_true(r.verdict.p_stable <= 0.05);
         }
         el_assessment_free(&r);
-        if (seed == 1) {
-            el_assessment h = run_default(path, 0, EL_METHOD_HANKEL);
-            const el_mode *hm = growing_mode(&h);
-            assert_non_null(hm);
-            print_message("  hankel alone: Re %.4f, P(stable) %.3f, %s\n", hm->lambda_re,
-                          h.verdict.p_stable, h.verdict.stability_name);
-            assert_true(hm->lambda_re > 0.0);
-            assert_int_not_equal(h.verdict.stability, EL_UNSTABLE);
-            el_assessment_free(&h);
-        }
     }
     assert_true(gated >= 3);
     remove(path);
