@@ -12,24 +12,11 @@
 #include "el_fit.h"
 #include "el_linalg.h"
 #include "el_modes.h"
+#include "el_rng.h"
 
 #define TEST_PI 3.14159265358979323846
 #define HG_MODES 3
 #define HG_SENSORS 4
-
-/* splitmix64 + Box-Muller: a seeded normal source local to the test. */
-static double hg_normal(uint64_t *state)
-{
-    double u[2];
-    for (int i = 0; i < 2; i++) {
-        uint64_t z = (*state += 0x9E3779B97F4A7C15ull);
-        z = (z ^ (z >> 30)) * 0xBF58476D1CE4E5B9ull;
-        z = (z ^ (z >> 27)) * 0x94D049BB133111EBull;
-        z ^= z >> 31;
-        u[i] = ((double)(z >> 11) + 0.5) * 0x1.0p-53;
-    }
-    return sqrt(-2.0 * log(u[0])) * cos(2.0 * TEST_PI * u[1]);
-}
 
 /* Sensor r sees mode m's displacement with weight mix_q[r][m] and its
  * velocity / w_m with mix_v[r][m] (a displacement, a strain, a velocity
@@ -77,7 +64,8 @@ static double *hg_simulate(const hg_case *c, uint64_t seed)
     assert_int_equal(el_discretise(ns, a, q, c->dt, ad, qd, g, work, iwork, &err), EL_OK);
     double *y = malloc(n * p * sizeof *y);
     assert_non_null(y);
-    uint64_t rs = seed;
+    el_rng rs;
+    el_rng_seed(&rs, seed, 0);
     double x[6] = { 0 }, xn[6], z[6];
     long burn = (long)ceil(10.0 / slow / c->dt);
     for (long k = -burn; k < (long)n; k++) {
@@ -94,7 +82,7 @@ static double *hg_simulate(const hg_case *c, uint64_t seed)
                 y[(size_t)k + r * n] = v;
             }
         for (size_t i = 0; i < ns; i++)
-            z[i] = hg_normal(&rs);
+            z[i] = el_rng_normal(&rs);
         for (size_t i = 0; i < ns; i++) {
             double v = 0.0;
             for (size_t j = 0; j < ns; j++)
@@ -112,7 +100,7 @@ static double *hg_simulate(const hg_case *c, uint64_t seed)
             ss += (y[k + r * n] - mean) * (y[k + r * n] - mean);
         double sd = sqrt(ss / (double)n) * pow(10.0, -c->snr_db / 20.0);
         for (size_t k = 0; k < n; k++)
-            y[k + r * n] += 5.0 * (double)r + sd * hg_normal(&rs);
+            y[k + r * n] += 5.0 * (double)r + sd * el_rng_normal(&rs);
     }
     return y;
 }
